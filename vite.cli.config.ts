@@ -1,0 +1,18 @@
+import { defineConfig } from 'vite';
+
+// Builds the Node CLI and its worker_threads entry to plain JS (dist/cli) so they start fast under `node`.
+export default defineConfig({
+  build: {
+    ssr: true,
+    outDir: 'dist/cli',
+    emptyOutDir: true,
+    target: 'node20',
+    minify: false,
+    sourcemap: true,
+    rollupOptions: {
+      input: { cli: 'worker/cli.ts', node: 'worker/node.ts' },
+      output: { format: 'es', entryFileNames: '[name].js' },
+    },
+  },
+  ssr: { noExternal: [] },
+});

@@ -1,0 +1,38 @@
+/**
+ * The one API object every worker exposes (Web Worker in the browser, worker_threads in the CLI). Its type is
+ * the protocol: callers hold `Remote<WorkerApi>`. It keeps heavy data where it is computed: the terrain is set
+ * once per worker (shared memory, never cloned per call) and jobs write into shared output buffers.
+ */
+import { Terrain, type TerrainParts } from './core/terrain.ts';
+import { resampleFloor, sweepSector, type HorizonLayout, type ResampleCounts } from './core/horizon.ts';
+import { VectorMap, type VectorMapParts } from './core/geodesy.ts';
+
+let terrain: Terrain | null = null;
+
+function need(): Terrain {
+  if (terrain === null) throw new Error('worker: call setTerrain() before running a job');
+  return terrain;
+}
+
+export const api = {
+  /** Installs the terrain every later job reads (data should be on a SharedArrayBuffer). */
+  setTerrain(parts: TerrainParts): void {
+    terrain = Terrain.fromParts(parts);
+  },
+  sweep(layout: HorizonLayout, tan: Float32Array, sectorStart: number, sectorEnd: number): void {
+    sweepSector(need(), layout, tan, sectorStart, sectorEnd);
+  },
+  resample(
+    layout: HorizonLayout,
+    tan: Float32Array,
+    vmap: VectorMapParts,
+    out: Float32Array,
+    ground: Float32Array | null,
+    rowStart: number,
+    rowEnd: number,
+  ): ResampleCounts {
+    return resampleFloor({ layout, tan }, new VectorMap(vmap), out, ground, rowStart, rowEnd);
+  },
+};
+
+export type WorkerApi = typeof api;

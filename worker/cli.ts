@@ -1,0 +1,58 @@
+/**
+ * The `airshade` command. Thin adapter over the compute core: argument parsing, files, progress, worker pool.
+ * Bad input ends with one message (file/field/argument, found, expected) and a non-zero exit status; a stack
+ * trace only with --debug.
+ */
+import { isInputError } from '../shared/errors.ts';
+import { floorCommand, FLOOR_HELP } from './cli/floor.ts';
+import { demoCommand, demoDataCommand, DEMO_HELP, DEMO_DATA_HELP } from './cli/demo.ts';
+
+const HELP = `airshade — radar network coverage planner (planning aid; see the cautions in README.md)
+
+Usage: airshade <command> [options]     airshade <command> --help
+
+Commands:
+  demo          run the terrain-masking engine on the invented demo region and print a summary
+  demo-data     generate the demo terrain tiles (data/demo/terrain) if they are missing
+  floor         lowest line-of-sight altitude above every cell of a DEM, as a GeoTIFF
+`;
+
+type Command = (argv: readonly string[], log: (s: string) => void) => Promise<number>;
+const COMMANDS: Record<string, { run: Command; help: string }> = {
+  floor: { run: floorCommand, help: FLOOR_HELP },
+  demo: { run: demoCommand, help: DEMO_HELP },
+  'demo-data': { run: demoDataCommand, help: DEMO_DATA_HELP },
+};
+
+export async function main(argv: readonly string[]): Promise<number> {
+  const log = (s: string) => process.stdout.write(s.endsWith('\n') ? s : s + '\n');
+  const debug = argv.includes('--debug');
+  const [name, ...rest] = argv;
+  if (name === undefined || name === '--help' || name === '-h' || name === 'help') {
+    log(HELP);
+    return name === undefined ? 1 : 0;
+  }
+  const cmd = COMMANDS[name];
+  if (!cmd) {
+    process.stderr.write(
+      `airshade: found the command "${name}"; expected one of ${Object.keys(COMMANDS).join(', ')} (airshade --help)\n`,
+    );
+    return 2;
+  }
+  try {
+    return await cmd.run(rest, log);
+  } catch (e) {
+    if (process.stderr.isTTY) process.stderr.write('\r\x1b[K');
+    if (isInputError(e)) {
+      process.stderr.write(`airshade ${name}: ${e.message}\n`);
+      if (debug) process.stderr.write(`${e.stack}\n`);
+      return 2;
+    }
+    const err = e as Error;
+    process.stderr.write(`airshade ${name}: internal error: ${err?.message ?? String(e)}\n`);
+    process.stderr.write(
+      debug ? `${err?.stack}\n` : '(run again with --debug for the stack trace, and please report it)\n',
+    );
+    return 70;
+  }
+}

@@ -1,0 +1,99 @@
+/**
+ * A small argument parser. Options that take a value always take the next token, even when it starts with a
+ * minus sign, so `--site -27.0,-40.0` and `--site=-27.0,-40.0` both work (coordinates are often negative).
+ */
+import { InputError } from '../../shared/errors.ts';
+
+export interface OptionSpec {
+  /** Takes a value (otherwise a flag). */
+  value?: boolean;
+  /** May be given more than once (values collect in order). */
+  repeat?: boolean;
+}
+
+export interface Parsed {
+  positional: string[];
+  values: Map<string, string[]>;
+  flags: Set<string>;
+}
+
+export function parseArgs(
+  argv: readonly string[],
+  spec: Record<string, OptionSpec>,
+  command: string,
+): Parsed {
+  const out: Parsed = { positional: [], values: new Map(), flags: new Set() };
+  for (let i = 0; i < argv.length; i++) {
+    const tok = argv[i];
+    if (!tok.startsWith('--') || tok === '--') {
+      if (tok.startsWith('-') && tok.length > 1 && !/^-[\d.]/.test(tok)) {
+        throw new InputError(
+          `airshade ${command}`,
+          `option ${tok}`,
+          `options spelled with two dashes; see --help`,
+        );
+      }
+      out.positional.push(tok);
+      continue;
+    }
+    const eq = tok.indexOf('=');
+    const name = eq >= 0 ? tok.slice(2, eq) : tok.slice(2);
+    const opt = spec[name];
+    if (!opt) {
+      const known = Object.keys(spec)
+        .map((k) => `--${k}`)
+        .join(', ');
+      throw new InputError(`airshade ${command}`, `unknown option --${name}`, `one of ${known}`);
+    }
+    if (!opt.value) {
+      if (eq >= 0) throw new InputError(`--${name}`, `a value (${tok})`, 'no value: it is a switch');
+      out.flags.add(name);
+      continue;
+    }
+    let v: string;
+    if (eq >= 0) v = tok.slice(eq + 1);
+    else {
+      if (i + 1 >= argv.length) throw new InputError(`--${name}`, 'nothing after it', 'a value');
+      v = argv[++i];
+    }
+    const list = out.values.get(name) ?? [];
+    if (list.length > 0 && !opt.repeat) {
+      throw new InputError(`--${name}`, 'the option given twice', 'it once');
+    }
+    list.push(v);
+    out.values.set(name, list);
+  }
+  return out;
+}
+
+export function one(p: Parsed, name: string): string | undefined {
+  return p.values.get(name)?.[0];
+}
+
+export function required(p: Parsed, name: string, what: string): string {
+  const v = one(p, name);
+  if (v === undefined) throw new InputError(`--${name}`, 'nothing (the option is missing)', what);
+  return v;
+}
+
+/** A finite number within [min, max]; the message names the option, the text found and the range. */
+export function numberArg(name: string, text: string, min: number, max: number, what: string): number {
+  const v = Number(text);
+  if (text.trim() === '' || !Number.isFinite(v)) throw new InputError(`--${name}`, `"${text}"`, what);
+  if (v < min || v > max) throw new InputError(`--${name}`, `${v}`, what);
+  return v;
+}
+
+/** "LON,LAT" in decimal degrees. */
+export function lonLatArg(name: string, text: string): { lon: number; lat: number } {
+  const parts = text.split(',');
+  const what = 'LON,LAT in decimal degrees, e.g. -29.5,-41.2 (longitude −180…180, latitude −90…90)';
+  if (parts.length !== 2) throw new InputError(`--${name}`, `"${text}"`, what);
+  const lon = Number(parts[0]);
+  const lat = Number(parts[1]);
+  if (parts.some((s) => s.trim() === '') || !Number.isFinite(lon) || !Number.isFinite(lat)) {
+    throw new InputError(`--${name}`, `"${text}"`, what);
+  }
+  if (lon < -180 || lon > 180 || lat < -90 || lat > 90) throw new InputError(`--${name}`, `"${text}"`, what);
+  return { lon, lat };
+}

@@ -1,0 +1,51 @@
+/** File access for the CLI: reading DEM tiles and writing outputs, with messages that name the file. */
+import { mkdirSync, readFileSync, statSync, writeFileSync } from 'node:fs';
+import { dirname } from 'node:path';
+import { InputError } from '../../shared/errors.ts';
+import { readDemTile } from '../io/geotiff-read.ts';
+import type { DemTile } from '../core/terrain.ts';
+
+export function readFileChecked(path: string, what: string): ArrayBuffer {
+  let st;
+  try {
+    st = statSync(path);
+  } catch {
+    throw new InputError(path, 'no such file', what);
+  }
+  if (st.isDirectory()) throw new InputError(path, 'a directory', what);
+  let buf: Buffer;
+  try {
+    buf = readFileSync(path);
+  } catch (e) {
+    throw new InputError(
+      path,
+      `a file that cannot be read (${(e as NodeJS.ErrnoException).code ?? 'error'})`,
+      what,
+    );
+  }
+  // A Buffer may sit inside a larger pooled ArrayBuffer: hand out exactly its bytes.
+  return buf.byteOffset === 0 && buf.byteLength === buf.buffer.byteLength
+    ? (buf.buffer as ArrayBuffer)
+    : (buf.buffer.slice(buf.byteOffset, buf.byteOffset + buf.byteLength) as ArrayBuffer);
+}
+
+export async function readTiles(paths: readonly string[]): Promise<DemTile[]> {
+  const tiles: DemTile[] = [];
+  for (const p of paths) {
+    tiles.push(await readDemTile(readFileChecked(p, 'a GeoTIFF elevation tile (DEM)'), p));
+  }
+  return tiles;
+}
+
+export function writeFileChecked(path: string, data: ArrayBuffer | string): void {
+  try {
+    mkdirSync(dirname(path), { recursive: true });
+    writeFileSync(path, typeof data === 'string' ? data : new Uint8Array(data));
+  } catch (e) {
+    throw new InputError(
+      path,
+      `a path that cannot be written (${(e as NodeJS.ErrnoException).code ?? 'error'})`,
+      'a writable output path',
+    );
+  }
+}

@@ -1,0 +1,147 @@
+/** `airshade floor`: the terrain-masking floor of one antenna as a Float32 GeoTIFF on the first DEM's grid. */
+import { InputError } from '../../shared/errors.ts';
+import { DEFAULT_K_FACTOR, EARTH_RADIUS_M } from '../../shared/units.ts';
+import { computeFloor, inlineExecutor, type FloorResult } from '../core/floor.ts';
+import { Terrain } from '../core/terrain.ts';
+import type { GridGeo } from '../core/grid.ts';
+import { encodeGeoTiff } from '../io/geotiff-write.ts';
+import { NodePool } from '../node-pool.ts';
+import { lonLatArg, numberArg, one, parseArgs, required } from './args.ts';
+import { readTiles, writeFileChecked } from './files.ts';
+import { ProgressLine } from './progress.ts';
+
+export const FLOOR_HELP = `airshade floor — lowest line-of-sight altitude above every cell of a DEM
+
+Usage:
+  airshade floor --dem A.tif [--dem B.tif …] --site LON,LAT --mast-m H [--k 1.3333]
+                 [--max-range-km R] --out floor.tif [--threads N] [--quiet] [--debug]
+
+Writes a Float32 GeoTIFF on the first DEM's grid and CRS: per cell, the lowest altitude above mean sea level
+(metres) at which a target above that cell is in line of sight of the antenna — never below the ground there.
+Cells beyond the range, or whose sight line crosses terrain no tile covers, are nodata (NaN). Pure terrain
+masking on an effective earth of radius k × 6371 km: no sensor limits.
+
+Options:
+  --dem FILE          a GeoTIFF elevation tile (metres above mean sea level); repeat for a mosaic
+  --site LON,LAT      antenna position, decimal degrees WGS84 (negative values are fine: --site -29.5,-41.2)
+  --mast-m H          antenna height above the ground, metres (0–1000)
+  --k K               effective-earth factor (default ${DEFAULT_K_FACTOR.toFixed(4)}, standard refraction)
+  --max-range-km R    farthest range computed (default: the farthest cell of the first DEM)
+  --out FILE          output GeoTIFF
+  --threads N         worker threads (default: one per core; 0 runs on the main thread)
+  --quiet             no progress line
+  --debug             show stack traces on errors
+`;
+
+const SPEC = {
+  dem: { value: true, repeat: true },
+  site: { value: true },
+  'mast-m': { value: true },
+  k: { value: true },
+  'max-range-km': { value: true },
+  out: { value: true },
+  threads: { value: true },
+  quiet: {},
+  debug: {},
+  help: {},
+} as const;
+
+export async function floorCommand(argv: readonly string[], log: (s: string) => void): Promise<number> {
+  const p = parseArgs(argv, SPEC, 'floor');
+  if (p.flags.has('help')) {
+    log(FLOOR_HELP);
+    return 0;
+  }
+  if (p.positional.length > 0) {
+    throw new InputError(
+      'airshade floor',
+      `an unexpected argument "${p.positional[0]}"`,
+      'only options (see --help)',
+    );
+  }
+  const dems = p.values.get('dem') ?? [];
+  if (dems.length === 0) throw new InputError('--dem', 'no DEM given', 'at least one --dem FILE.tif');
+  const site = lonLatArg('site', required(p, 'site', 'the antenna position as --site LON,LAT'));
+  const mastM = numberArg(
+    'mast-m',
+    required(p, 'mast-m', 'the antenna height above ground in metres'),
+    0,
+    1000,
+    'an antenna height above ground from 0 to 1000 m',
+  );
+  const kText = one(p, 'k');
+  const kFactor =
+    kText === undefined
+      ? DEFAULT_K_FACTOR
+      : numberArg(
+          'k',
+          kText,
+          Number.MIN_VALUE,
+          100,
+          'an effective-earth factor k > 0 (4/3 ≈ 1.3333 for standard refraction)',
+        );
+  const rangeText = one(p, 'max-range-km');
+  const maxRangeM =
+    rangeText === undefined
+      ? undefined
+      : numberArg('max-range-km', rangeText, 0.001, 2000, 'a range in km from 0 to 2000') * 1000;
+  const outPath = required(p, 'out', 'the output GeoTIFF path');
+  const threadsText = one(p, 'threads');
+  const threads =
+    threadsText === undefined
+      ? NodePool.defaultSize()
+      : numberArg('threads', threadsText, 0, 64, 'a whole number of threads from 0 to 64');
+
+  const started = performance.now();
+  const progress = new ProgressLine('floor', p.flags.has('quiet'));
+  progress.update(0, 'reading terrain');
+  const tiles = await readTiles(dems);
+  const terrain = Terrain.fromTiles(tiles, { shared: threads > 0 });
+  const outGeo = tiles[0].geo;
+  const ground = windowOf(terrain, outGeo);
+  const pool = threads > 0 ? await NodePool.start(threads, terrain.toParts()) : null;
+  let result: FloorResult;
+  try {
+    result = await computeFloor(
+      terrain,
+      { lon: site.lon, lat: site.lat, mastM, kFactor, maxRangeM },
+      outGeo,
+      ground,
+      pool ? pool.executor() : inlineExecutor(terrain),
+      progress.update,
+    );
+  } finally {
+    await pool?.close();
+  }
+  progress.update(1, 'writing');
+  writeFileChecked(outPath, encodeGeoTiff({ geo: outGeo, data: result.floor, nodata: NaN }));
+  progress.done();
+  const s = result.stats;
+  const L = result.horizon.layout;
+  const pct = (n: number) => `${((100 * n) / s.cells).toFixed(1)} %`;
+  log(
+    [
+      `floor written to ${outPath} (${outGeo.width} × ${outGeo.height} cells, ${outGeo.crs.label})`,
+      `  antenna      ${site.lon.toFixed(5)}, ${site.lat.toFixed(5)}: ground ${s.groundM.toFixed(1)} m + mast ${mastM} m = ${s.antennaAltM.toFixed(1)} m AMSL`,
+      `  earth        k = ${kFactor.toFixed(4)}, effective radius ${((kFactor * EARTH_RADIUS_M) / 1000).toFixed(1)} km (R = 6371 km)`,
+      `  sampling     ${s.radials} radials at the outer range, step ${L.rangeStepM.toFixed(1)} m, out to ${(L.maxRangeM / 1000).toFixed(1)} km`,
+      `  cells        ${pct(s.valued)} with a floor, ${pct(s.beyondRange)} beyond range, ${pct(s.unknown)} behind or on unknown terrain`,
+      ...terrain.warnings.map((w) => `  warning      ${w}`),
+      `  time         ${((performance.now() - started) / 1000).toFixed(2)} s, peak memory ${(process.resourceUsage().maxRSS / 1024).toFixed(0)} MiB`,
+    ].join('\n'),
+  );
+  return 0;
+}
+
+/** The terrain heights under `geo`'s cells when `geo` lies on the terrain lattice (it does for the first tile). */
+export function windowOf(terrain: Terrain, geo: GridGeo): Float32Array {
+  const t = terrain.geo;
+  const dc = Math.round((geo.originX - t.originX) / t.pixelX);
+  const dr = Math.round((geo.originY - t.originY) / t.pixelY);
+  const out = new Float32Array(geo.width * geo.height);
+  for (let r = 0; r < geo.height; r++) {
+    const src = (r + dr) * t.width + dc;
+    out.set(terrain.data.subarray(src, src + geo.width), r * geo.width);
+  }
+  return out;
+}

@@ -1,0 +1,147 @@
+/**
+ * The floor job: one antenna's terrain-masking floor on an output grid, run inline or split over a pool.
+ *
+ *   plan (layout) → sweep sectors of radials into one shared `tan` → resample row bands into one shared output
+ *
+ * Both stages are embarrassingly parallel; an Executor decides where the pieces run. The inline executor runs
+ * them here (tests); the Node CLI and the browser pass executors over worker pools with the same interface.
+ */
+import type { GridGeo } from './grid.ts';
+import { gridMapper } from './grid.ts';
+import { VectorMap, type VectorMapParts } from './geodesy.ts';
+import {
+  allocateTan,
+  planHorizon,
+  resampleFloor,
+  sweepSector,
+  type Horizon,
+  type HorizonLayout,
+  type HorizonSpec,
+  type ResampleCounts,
+  type TerrainRaster,
+} from './horizon.ts';
+
+export type Progress = (fraction: number, stage: string) => void;
+
+/** Where the pieces of a job run. `size` is how many pieces to cut each stage into. */
+export interface Executor {
+  readonly size: number;
+  /** Shared memory is needed when pieces run elsewhere (a pool); inline executors can use plain buffers. */
+  readonly shared: boolean;
+  sweep(layout: HorizonLayout, tan: Float32Array, sectorStart: number, sectorEnd: number): Promise<void>;
+  resample(
+    layout: HorizonLayout,
+    tan: Float32Array,
+    vmap: VectorMapParts,
+    out: Float32Array,
+    ground: Float32Array | null,
+    rowStart: number,
+    rowEnd: number,
+  ): Promise<ResampleCounts>;
+}
+
+/** Runs every piece on this thread against the given terrain. */
+export function inlineExecutor(terrain: TerrainRaster): Executor {
+  return {
+    size: 1,
+    shared: false,
+    async sweep(layout, tan, a, b) {
+      sweepSector(terrain, layout, tan, a, b);
+    },
+    async resample(layout, tan, vmap, out, ground, r0, r1) {
+      return resampleFloor({ layout, tan }, new VectorMap(vmap), out, ground, r0, r1);
+    },
+  };
+}
+
+export interface FloorRequest extends Omit<HorizonSpec, 'maxRangeM'> {
+  /** Farthest range (m); default: the farthest cell of the output grid. */
+  maxRangeM?: number;
+}
+
+export interface FloorResult {
+  /** Lowest altitude AMSL (m) in line of sight above each cell, at least the ground; NaN = no value. */
+  floor: Float32Array;
+  horizon: Horizon;
+  stats: FloorStats;
+}
+
+export interface FloorStats {
+  cells: number;
+  /** Cells with a floor value. */
+  valued: number;
+  /** Cells beyond the computed range. */
+  beyondRange: number;
+  /** Cells in range whose sight line crosses unknown terrain (or whose own ground is unknown). */
+  unknown: number;
+  groundM: number;
+  antennaAltM: number;
+  radials: number;
+  samples: number;
+}
+
+/**
+ * The floor on `outGeo`. `ground` gives the terrain height under each output cell (same size); when the output
+ * grid is a window of the terrain lattice the caller can pass a copy of that window.
+ */
+export async function computeFloor(
+  terrain: TerrainRaster,
+  req: FloorRequest,
+  outGeo: GridGeo,
+  ground: Float32Array | null,
+  exec: Executor,
+  onProgress?: Progress,
+): Promise<FloorResult> {
+  const mapper = gridMapper(outGeo);
+  onProgress?.(0, 'geodesics');
+  const vmap = VectorMap.build(req.lon, req.lat, outGeo.width, outGeo.height, mapper);
+  const maxRangeM =
+    req.maxRangeM ?? vmap.maxDistanceM() + 2 * vmap.block * Math.max(1, pixelSizeM(terrain, req));
+  const layout = planHorizon(terrain, { ...req, maxRangeM });
+  const tan = allocateTan(layout, exec.shared);
+  const n = Math.max(1, exec.size);
+  let done = 0;
+  const step = (stage: string, total: number) => () => onProgress?.(++done / total, stage);
+  // More pieces than workers so progress moves and uneven sectors balance out.
+  const pieces = n === 1 ? 1 : n * 4;
+  const sweepDone = step('terrain sweep', pieces * 2);
+  await Promise.all(
+    Array.from({ length: pieces }, (_, i) =>
+      exec.sweep(layout, tan, i / pieces, (i + 1) / pieces).then(sweepDone),
+    ),
+  );
+  const cells = outGeo.width * outGeo.height;
+  const out = new Float32Array(exec.shared ? new SharedArrayBuffer(cells * 4) : new ArrayBuffer(cells * 4));
+  const rowsPer = Math.ceil(outGeo.height / pieces);
+  const counts = await Promise.all(
+    Array.from({ length: pieces }, (_, i) =>
+      exec
+        .resample(layout, tan, vmap, out, ground, i * rowsPer, Math.min(outGeo.height, (i + 1) * rowsPer))
+        .then((c) => {
+          sweepDone();
+          return c;
+        }),
+    ),
+  );
+  const beyond = counts.reduce((a, c) => a + c.beyondRange, 0);
+  const unknown = counts.reduce((a, c) => a + c.unknown, 0);
+  return {
+    floor: out,
+    horizon: { layout, tan },
+    stats: {
+      cells,
+      valued: cells - beyond - unknown,
+      beyondRange: beyond,
+      unknown,
+      groundM: layout.groundM,
+      antennaAltM: layout.antennaAltM,
+      radials: layout.levels[layout.levels.length - 1].azimuthCount,
+      samples: layout.totalSamples,
+    },
+  };
+}
+
+function pixelSizeM(terrain: TerrainRaster, req: FloorRequest): number {
+  const p = terrain.metresPerPixel(req.lon, req.lat);
+  return Math.max(p.x, p.y);
+}

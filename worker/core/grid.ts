@@ -1,0 +1,78 @@
+/**
+ * Raster georeferencing shared by terrain input, the horizon engine and GeoTIFF output.
+ *
+ * Convention (always, whatever the file said): pixel-is-area. (originX, originY) is the outer
+ * corner of the top-left pixel; pixel (col, row) covers [originX + col*pixelX, originX + (col+1)*pixelX]
+ * and its centre is at continuous pixel coordinate (col + 0.5, row + 0.5). pixelY is negative for
+ * the usual north-up raster. Files that declare pixel-is-point are shifted by half a pixel on read.
+ */
+import proj4 from 'proj4';
+
+export interface Crs {
+  /** 'geographic' = lon/lat degrees on WGS84 (EPSG:4326 and equivalents); 'projected' = metres. */
+  readonly kind: 'geographic' | 'projected';
+  /** proj4 definition string; for geographic always '+proj=longlat +datum=WGS84 +no_defs'. */
+  readonly proj4: string;
+  /** EPSG code when the file gave one (for writing it back). */
+  readonly epsg?: number;
+  /** Human-readable description for messages and summaries. */
+  readonly label: string;
+}
+
+export interface GridGeo {
+  readonly width: number;
+  readonly height: number;
+  readonly originX: number;
+  readonly originY: number;
+  readonly pixelX: number;
+  readonly pixelY: number;
+  readonly crs: Crs;
+}
+
+export const WGS84_GEOGRAPHIC: Crs = {
+  kind: 'geographic',
+  proj4: '+proj=longlat +datum=WGS84 +no_defs',
+  epsg: 4326,
+  label: 'EPSG:4326 (WGS84 lon/lat)',
+};
+
+/** lon/lat (WGS84 degrees) ↔ continuous pixel coordinates of a grid. */
+export interface GridMapper {
+  lonLatToPixel(lon: number, lat: number, out: Float64Array | number[]): void;
+  pixelToLonLat(x: number, y: number, out: Float64Array | number[]): void;
+}
+
+/** The mapper of any grid: affine for geographic grids, proj4 then affine for projected ones. */
+export function gridMapper(geo: GridGeo): GridMapper {
+  const { originX, originY, pixelX, pixelY } = geo;
+  if (geo.crs.kind === 'geographic') {
+    return {
+      lonLatToPixel(lon, lat, out) {
+        out[0] = (lon - originX) / pixelX;
+        out[1] = (lat - originY) / pixelY;
+      },
+      pixelToLonLat(x, y, out) {
+        out[0] = originX + x * pixelX;
+        out[1] = originY + y * pixelY;
+      },
+    };
+  }
+  const conv = proj4(WGS84_GEOGRAPHIC.proj4, geo.crs.proj4);
+  const xy = [0, 0];
+  return {
+    lonLatToPixel(lon, lat, out) {
+      xy[0] = lon;
+      xy[1] = lat;
+      const p = conv.forward(xy);
+      out[0] = (p[0] - originX) / pixelX;
+      out[1] = (p[1] - originY) / pixelY;
+    },
+    pixelToLonLat(x, y, out) {
+      xy[0] = originX + x * pixelX;
+      xy[1] = originY + y * pixelY;
+      const p = conv.inverse(xy);
+      out[0] = p[0];
+      out[1] = p[1];
+    },
+  };
+}

@@ -1,0 +1,528 @@
+/**
+ * The horizon engine: for one antenna, per azimuth and range, the screening angle (the steepest terrain
+ * elevation angle between the antenna and that range) and from it the floor — the lowest altitude AMSL at which
+ * a target is in line of sight — on an effective earth of radius Re = k·R.
+ *
+ * Geometry (DESIGN §4): a point at ground arc distance s and altitude h, seen from an antenna at altitude ha, has
+ *   tan ε = ((Re + h)·cos(s/Re) − (Re + ha)) / ((Re + h)·sin(s/Re)),
+ * and a target at range s is in line of sight iff its ε is at least the screening angle εs(s) = max ε of the
+ * terrain at ranges in (0, s). Solving for h gives the floor: h = (Re + ha) / (cos(s/Re) − tan εs·sin(s/Re)) − Re.
+ *
+ * Sampling: radials are geodesics on WGS84 (see geodesy.ts), sampled every `rangeStepM` with bilinear terrain.
+ * Radials are spaced uniformly in a pseudo-angle (cheap to compute per cell). To keep the arc spacing between
+ * neighbouring radials within [arcStep/2, arcStep] at every range, the range axis is cut into levels: level ℓ+1
+ * has twice the radials of level ℓ. Even radials of a new level continue the radial below; odd ones start from
+ * the mean screening angle of their two neighbours at the level boundary and then gather their own terrain.
+ *
+ * Terrain that is unknown (no tile) makes every range beyond it unknown on that radial (NaN): never sea level.
+ */
+import { EARTH_RADIUS_M } from '../../shared/units.ts';
+import { InputError } from '../../shared/errors.ts';
+import { pseudoToAzimuthRad, RadialFan, VectorMap, type PixelMapper } from './geodesy.ts';
+
+/** What the engine needs of the terrain: one raster with NaN for unknown, and its georeferencing. */
+export interface TerrainRaster extends PixelMapper {
+  readonly geo: { readonly width: number; readonly height: number };
+  readonly data: Float32Array;
+  samplePixel(x: number, y: number): number;
+  metresPerPixel(lon: number, lat: number): { x: number; y: number };
+}
+
+export interface HorizonSpec {
+  lon: number;
+  lat: number;
+  /** Antenna height above ground, metres. */
+  mastM: number;
+  /** Effective-earth factor k (default 4/3). */
+  kFactor?: number;
+  /** Farthest range computed, metres. */
+  maxRangeM: number;
+  /** Earth radius R, metres (default 6 371 000, the mean radius). */
+  earthRadiusM?: number;
+  /** Range step (default: half the terrain pixel at the site). */
+  rangeStepM?: number;
+  /** Largest arc between neighbouring radials (default: one terrain pixel at the site). */
+  arcStepM?: number;
+}
+
+export interface HorizonLevel {
+  readonly azimuthCount: number;
+  readonly jStart: number;
+  readonly jEnd: number;
+  /** Offset of this level's block in `tan`; radial i starts at offset + i * (jEnd − jStart + 1). */
+  readonly offset: number;
+}
+
+/** Plain numbers that fix the sampling; everything a worker needs besides the terrain and the `tan` buffer. */
+export interface HorizonLayout {
+  readonly lon: number;
+  readonly lat: number;
+  readonly mastM: number;
+  readonly kFactor: number;
+  readonly earthRadiusM: number;
+  /** Effective earth radius k·R. */
+  readonly reM: number;
+  readonly groundM: number;
+  readonly antennaAltM: number;
+  readonly maxRangeM: number;
+  readonly rangeStepM: number;
+  /** Samples j = 0 … rangeCount − 1 at range j · rangeStepM. */
+  readonly rangeCount: number;
+  readonly levels: readonly HorizonLevel[];
+  readonly totalSamples: number;
+}
+
+/** A computed horizon: layout + tan of the screening angle for a target at each (radial, range sample). */
+export interface Horizon {
+  readonly layout: HorizonLayout;
+  /** NaN where the sight line crosses unknown terrain; −1e9 where nothing screens (next to the antenna). */
+  readonly tan: Float32Array;
+}
+
+const NOTHING = -1e9;
+/** Floors above this are written as this value: no aircraft flies there, and Float32 stays finite. */
+export const FLOOR_CAP_M = 100_000;
+
+export function planHorizon(terrain: TerrainRaster, spec: HorizonSpec): HorizonLayout {
+  const kFactor = spec.kFactor ?? 4 / 3;
+  const earthRadiusM = spec.earthRadiusM ?? EARTH_RADIUS_M;
+  if (!(kFactor > 0) || !Number.isFinite(kFactor))
+    throw new InputError('--k', String(spec.kFactor), 'a positive effective-earth factor such as 1.3333');
+  if (!Number.isFinite(spec.mastM) || spec.mastM < 0 || spec.mastM > 1000) {
+    throw new InputError(
+      '--mast-m',
+      String(spec.mastM),
+      'an antenna height above ground between 0 and 1000 m',
+    );
+  }
+  if (!(spec.maxRangeM > 0) || spec.maxRangeM > 2_000_000) {
+    throw new InputError('--max-range-km', String(spec.maxRangeM / 1000), 'a range between 0 and 2000 km');
+  }
+  const p = [0, 0];
+  terrain.lonLatToPixel(spec.lon, spec.lat, p);
+  const groundM = terrain.samplePixel(p[0], p[1]);
+  if (!Number.isFinite(groundM)) {
+    throw new InputError(
+      '--site',
+      `${spec.lon},${spec.lat}`,
+      'a site inside the loaded terrain tiles (lon,lat in degrees)',
+    );
+  }
+  const px = terrain.metresPerPixel(spec.lon, spec.lat);
+  const pixelM = Math.min(px.x, px.y);
+  const rangeStepM = spec.rangeStepM ?? pixelM / 2;
+  const arcStepM = spec.arcStepM ?? pixelM;
+  const rangeCount = Math.ceil(spec.maxRangeM / rangeStepM) + 2;
+  const levels: HorizonLevel[] = [];
+  let azimuthCount = Math.max(
+    512,
+    8 * Math.ceil((2 * Math.PI * Math.min(spec.maxRangeM, 64 * arcStepM)) / arcStepM / 8),
+  );
+  let jStart = 0;
+  let offset = 0;
+  for (;;) {
+    const levelEndM = (azimuthCount * arcStepM) / (2 * Math.PI);
+    const jEnd = Math.min(rangeCount - 1, Math.max(jStart + 1, Math.ceil(levelEndM / rangeStepM)));
+    levels.push({ azimuthCount, jStart, jEnd, offset });
+    offset += azimuthCount * (jEnd - jStart + 1);
+    if (jEnd >= rangeCount - 1) break;
+    jStart = jEnd;
+    azimuthCount *= 2;
+  }
+  const reM = kFactor * earthRadiusM;
+  return {
+    lon: spec.lon,
+    lat: spec.lat,
+    mastM: spec.mastM,
+    kFactor,
+    earthRadiusM,
+    reM,
+    groundM,
+    antennaAltM: groundM + spec.mastM,
+    maxRangeM: spec.maxRangeM,
+    rangeStepM,
+    rangeCount,
+    levels,
+    totalSamples: offset,
+  };
+}
+
+/** Allocates the `tan` buffer (shared when asked, so a worker pool can fill it in place). */
+export function allocateTan(layout: HorizonLayout, shared = false): Float32Array {
+  const bytes = layout.totalSamples * 4;
+  return new Float32Array(shared ? new SharedArrayBuffer(bytes) : new ArrayBuffer(bytes));
+}
+
+/** Per-range-sample constants shared by every radial. */
+interface RangeTables {
+  cos: Float64Array;
+  sin: Float64Array;
+}
+
+function rangeTables(layout: HorizonLayout): RangeTables {
+  const n = layout.rangeCount;
+  const t: RangeTables = {
+    cos: new Float64Array(n),
+    sin: new Float64Array(n),
+  };
+  for (let j = 0; j < n; j++) {
+    const s = j * layout.rangeStepM;
+    t.cos[j] = Math.cos(s / layout.reM);
+    t.sin[j] = Math.sin(s / layout.reM);
+  }
+  return t;
+}
+
+/**
+ * One radial from jStart to jEnd − 1: stores the screening tan before each sample (into dst[base + j]) and takes
+ * the sample in. Returns the running screening tan after sample jEnd − 1 (the value for jEnd).
+ *
+ * Positions: between two range knots P(s) = P0 + s·(Q_m + (s − s_m)·D) is quadratic in s, so it is stepped by
+ * forward differences (two additions per coordinate per sample). Kept small and monomorphic so V8 optimises it
+ * as a whole.
+ */
+function sweepRadial(
+  data: Float32Array,
+  W: number,
+  H: number,
+  fan: RadialFan,
+  knots: Float64Array,
+  rt: RangeTables,
+  ds: number,
+  re: number,
+  rha: number,
+  T: number,
+  dst: Float32Array,
+  base: number,
+  jStart: number,
+  jEnd: number,
+  trace: Float64Array | null,
+): number {
+  const cos = rt.cos;
+  const sin = rt.sin;
+  const x0 = fan.x0;
+  const y0 = fan.y0;
+  const knotM = fan.rangeKnotM;
+  const lastKnot = fan.rangeKnotCount - 2;
+  let j = jStart;
+  while (j < jEnd) {
+    // Segment of range knots [m, m + 1] containing sample j, and its last sample.
+    const sj = j * ds;
+    const m = Math.min(Math.floor(sj / knotM), lastKnot);
+    const jSegEnd = m === lastKnot ? jEnd : Math.min(jEnd, Math.ceil(((m + 1) * knotM) / ds));
+    const sm = m * knotM;
+    const qx = knots[m * 2];
+    const qy = knots[m * 2 + 1];
+    const dx = (knots[m * 2 + 2] - qx) / knotM;
+    const dy = (knots[m * 2 + 3] - qy) / knotM;
+    let px = x0 + sj * (qx + (sj - sm) * dx);
+    let py = y0 + sj * (qy + (sj - sm) * dy);
+    const step = ds * (2 * sj + ds - sm);
+    let vx = ds * qx + dx * step;
+    let vy = ds * qy + dy * step;
+    const ax = 2 * dx * ds * ds;
+    const ay = 2 * dy * ds * ds;
+    for (; j < jSegEnd; j++) {
+      dst[base + j] = T;
+      const x = px;
+      const y = py;
+      px += vx;
+      py += vy;
+      vx += ax;
+      vy += ay;
+      if (trace !== null) {
+        trace[j * 2] = x;
+        trace[j * 2 + 1] = y;
+      }
+      if (j === 0 || T !== T) continue; // the antenna itself; unknown stays unknown
+      if (x < 0 || y < 0 || x > W || y > H) {
+        T = NaN;
+        continue;
+      }
+      let gx = x - 0.5;
+      let gy = y - 0.5;
+      if (gx < 0) gx = 0;
+      else if (gx > W - 1) gx = W - 1;
+      if (gy < 0) gy = 0;
+      else if (gy > H - 1) gy = H - 1;
+      let ix = gx | 0;
+      let iy = gy | 0;
+      if (ix > W - 2) ix = W - 2;
+      if (iy > H - 2) iy = H - 2;
+      const fx = gx - ix;
+      const fy = gy - iy;
+      const k = iy * W + ix;
+      const top = data[k] + (data[k + 1] - data[k]) * fx;
+      const bot = data[k + W] + (data[k + W + 1] - data[k + W]) * fx;
+      const z = top + (bot - top) * fy;
+      if (z !== z) {
+        T = NaN;
+        continue;
+      }
+      // t > T ⟺ rz·cos − rha > T·rz·sin (rz·sin > 0): divide only when the screening rises, which is rare.
+      const rz = re + z;
+      const num = rz * cos[j] - rha;
+      const den = rz * sin[j];
+      if (num > T * den) T = num / den;
+    }
+  }
+  return T;
+}
+
+/**
+ * Fills the radials of pseudo-angle sector [sectorStart, sectorEnd) (fractions of the full circle) at every
+ * level. Sectors are independent: a pool splits the circle between workers writing into one shared `tan`.
+ */
+export function sweepSector(
+  terrain: TerrainRaster,
+  layout: HorizonLayout,
+  tan: Float32Array,
+  sectorStart = 0,
+  sectorEnd = 1,
+  onProgress?: (fraction: number) => void,
+): void {
+  const fan = new RadialFan(layout.lon, layout.lat, layout.maxRangeM, terrain);
+  const rt = rangeTables(layout);
+  const knots = new Float64Array(fan.rangeKnotCount * 2);
+  const W = terrain.geo.width;
+  const H = terrain.geo.height;
+  const data = terrain.data;
+  const ds = layout.rangeStepM;
+  const re = layout.reM;
+  const rha = re + layout.antennaAltM;
+  // Carry: screening tan at the level boundary for the sector's radials (plus the one past its end, which the
+  // next sector owns but whose value the odd radial before it needs).
+  let carry = new Float64Array(0);
+  let carryFirst = 0;
+  let done = 0;
+  const totalWork = layout.levels.reduce(
+    (w, l) => w + l.azimuthCount * (sectorEnd - sectorStart) * (l.jEnd - l.jStart + 1),
+    0,
+  );
+
+  for (let li = 0; li < layout.levels.length; li++) {
+    const level = layout.levels[li];
+    const n = level.azimuthCount;
+    const first = Math.round(sectorStart * n);
+    const last = Math.round(sectorEnd * n); // exclusive for writing, inclusive for computing
+    const rowLen = level.jEnd - level.jStart + 1;
+    const nextCarry = new Float64Array(last - first + 1);
+    const scratch = new Float32Array(rowLen);
+    for (let i = first; i <= last; i++) {
+      const writes = i < last;
+      const ii = i % n;
+      // Initial screening at jStart.
+      let T: number;
+      if (li === 0) T = NOTHING;
+      else if ((i & 1) === 0) T = carry[i / 2 - carryFirst];
+      else T = 0.5 * (carry[(i - 1) / 2 - carryFirst] + carry[(i + 1) / 2 - carryFirst]);
+      fan.knotsForAzimuth(pseudoToAzimuthRad((ii / n) * 2 * Math.PI), knots);
+      const dst = writes ? tan : scratch;
+      const base = writes ? level.offset + ii * rowLen - level.jStart : -level.jStart;
+      T = sweepRadial(data, W, H, fan, knots, rt, ds, re, rha, T, dst, base, level.jStart, level.jEnd, null);
+      // The value at jEnd (screening by everything before it) is where the next level starts; the next level
+      // takes in the terrain at jEnd itself.
+      dst[base + level.jEnd] = T;
+      nextCarry[i - first] = T;
+      if (writes) done += rowLen;
+    }
+    carry = nextCarry;
+    carryFirst = first;
+    onProgress?.(done / totalWork);
+  }
+}
+
+/** An output raster: its size, lon/lat mapping and (optionally) the ground height under each cell centre. */
+export interface OutputGrid extends PixelMapper {
+  readonly width: number;
+  readonly height: number;
+}
+
+/**
+ * Resamples a horizon onto rows [rowStart, rowEnd) of an output grid: per cell centre, the floor (lowest
+ * altitude AMSL in line of sight) clamped to `ground` when given (a target above the cell cannot be below the
+ * ground). NaN outside the computed range or behind unknown terrain. `vmap` is the grid's VectorMap from the
+ * antenna (build it once per site and grid; pools pass it to every worker).
+ */
+export function resampleFloor(
+  horizon: Horizon,
+  vmap: VectorMap,
+  out: Float32Array,
+  ground: Float32Array | null,
+  rowStart = 0,
+  rowEnd = vmap.height,
+): ResampleCounts {
+  const L = horizon.layout;
+  const nLevels = L.levels.length;
+  const levelOfJ = new Uint8Array(L.rangeCount);
+  const lv = new Int32Array(nLevels * 4); // per level: azimuthCount, jStart, row length, offset
+  for (let li = 0; li < nLevels; li++) {
+    const level = L.levels[li];
+    lv[li * 4] = level.azimuthCount;
+    lv[li * 4 + 1] = level.jStart;
+    lv[li * 4 + 2] = level.jEnd - level.jStart + 1;
+    lv[li * 4 + 3] = level.offset;
+    for (let j = level.jStart; j < level.jEnd; j++) levelOfJ[j] = li;
+  }
+  levelOfJ[L.rangeCount - 1] = nLevels - 1;
+  let beyond = 0;
+  for (let r = rowStart; r < rowEnd; r++)
+    beyond += resampleRow(L, horizon.tan, vmap, levelOfJ, lv, out, ground, r);
+  let nan = 0;
+  for (let k = rowStart * vmap.width; k < rowEnd * vmap.width; k++) if (out[k] !== out[k]) nan++;
+  return { beyondRange: beyond, unknown: nan - beyond };
+}
+
+export interface ResampleCounts {
+  /** Cells farther than the computed range. */
+  beyondRange: number;
+  /** Cells in range without a value: the sight line or the cell's own ground is unknown terrain. */
+  unknown: number;
+}
+
+const GA = Math.PI / 4;
+const GB = 0.273;
+
+/** One output row (kept small so V8 optimises it whole); returns how many cells were beyond range. */
+function resampleRow(
+  L: HorizonLayout,
+  tan: Float32Array,
+  vmap: VectorMap,
+  levelOfJ: Uint8Array,
+  lv: Int32Array,
+  out: Float32Array,
+  ground: Float32Array | null,
+  r: number,
+): number {
+  const W = vmap.width;
+  let beyond = 0;
+  const re = L.reM;
+  const rha = re + L.antennaAltM;
+  const invDs = 1 / L.rangeStepM;
+  const maxRange = L.maxRangeM;
+  const lastJ = L.rangeCount - 1;
+  const b = vmap.block;
+  const nx = vmap.nodesX;
+  const v = vmap.v;
+  const inv2pi = 1 / (2 * Math.PI);
+  const halfPi = Math.PI / 2;
+  // Lattice nodes sit at the centres of every b-th cell; a lattice one node wide or high repeats that node.
+  const gy = r / b;
+  const iy = Math.max(0, Math.min(gy | 0, vmap.nodesY - 2));
+  const fy = vmap.nodesY > 1 ? gy - iy : 0;
+  const dxNode = nx > 1 ? 2 : 0;
+  const dyNode = vmap.nodesY > 1 ? nx * 2 : 0;
+  const rowOut = r * W;
+  for (let c = 0; c < W; c++) {
+    const gx = c / b;
+    const ix = Math.max(0, Math.min(gx | 0, nx - 2));
+    const fx = nx > 1 ? gx - ix : 0;
+    const k00 = (iy * nx + ix) * 2;
+    const k10 = k00 + dyNode;
+    const e =
+      (v[k00] + (v[k00 + dxNode] - v[k00]) * fx) * (1 - fy) + (v[k10] + (v[k10 + dxNode] - v[k10]) * fx) * fy;
+    const nn =
+      (v[k00 + 1] + (v[k00 + 1 + dxNode] - v[k00 + 1]) * fx) * (1 - fy) +
+      (v[k10 + 1] + (v[k10 + 1 + dxNode] - v[k10 + 1]) * fx) * fy;
+    const s = Math.sqrt(e * e + nn * nn);
+    if (!(s <= maxRange)) {
+      out[rowOut + c] = NaN;
+      beyond++;
+      continue;
+    }
+    // Pseudo-angle (geodesy.pseudoAngle, inlined).
+    const ax = e < 0 ? -e : e;
+    const ay = nn < 0 ? -nn : nn;
+    let q: number;
+    if (ax <= ay) {
+      const t = ay === 0 ? 0 : ax / ay;
+      q = t * (GA + GB * (1 - t));
+    } else {
+      const t = ay / ax;
+      q = halfPi - t * (GA + GB * (1 - t));
+    }
+    const p = e >= 0 ? (nn >= 0 ? q : Math.PI - q) : nn < 0 ? Math.PI + q : 2 * Math.PI - q;
+    const u = s * invDs;
+    let j0 = u | 0;
+    if (j0 >= lastJ) j0 = lastJ - 1;
+    const wj = u - j0;
+    const l4 = levelOfJ[j0] * 4;
+    const n = lv[l4];
+    const fa = p * inv2pi * n;
+    let i0 = fa | 0;
+    const wa = fa - i0;
+    if (i0 >= n) i0 -= n;
+    const i1 = i0 + 1 === n ? 0 : i0 + 1;
+    const row = lv[l4 + 2];
+    const jj = j0 - lv[l4 + 1];
+    const k0 = lv[l4 + 3] + i0 * row + jj;
+    const k1 = lv[l4 + 3] + i1 * row + jj;
+    const T =
+      (tan[k0] + (tan[k0 + 1] - tan[k0]) * wj) * (1 - wa) + (tan[k1] + (tan[k1 + 1] - tan[k1]) * wj) * wa;
+    // cos and sin of s/Re by series (s/Re < 0.25: error < 1e-8 relative).
+    const x = s / re;
+    const x2 = x * x;
+    const cs = 1 - x2 * (0.5 - x2 * (1 / 24 - x2 / 720));
+    const sn = x * (1 - x2 * (1 / 6 - x2 * (1 / 120 - x2 / 5040)));
+    const den = cs - T * sn;
+    let h = den > 1e-9 ? rha / den - re : FLOOR_CAP_M;
+    if (h > FLOOR_CAP_M) h = FLOOR_CAP_M;
+    if (ground !== null) {
+      const g = ground[rowOut + c];
+      if (g !== g) h = NaN;
+      else if (h < g) h = g;
+    }
+    out[rowOut + c] = h;
+  }
+  return beyond;
+}
+
+/**
+ * The pixel positions the sweep samples along one radial (j = 0 … rangeCount − 1 into trace[2j], trace[2j+1]),
+ * produced by the sweep's own stepping code. For tests of the geodesy.
+ */
+export function traceRadial(terrain: TerrainRaster, layout: HorizonLayout, azimuthRad: number): Float64Array {
+  const fan = new RadialFan(layout.lon, layout.lat, layout.maxRangeM, terrain);
+  const knots = new Float64Array(fan.rangeKnotCount * 2);
+  fan.knotsForAzimuth(azimuthRad, knots);
+  const trace = new Float64Array(layout.rangeCount * 2).fill(NaN);
+  const scratch = new Float32Array(layout.rangeCount);
+  const rt = rangeTables(layout);
+  const g = terrain.geo;
+  // Sweep over an unbounded extent so positions are traced even where the terrain ends.
+  sweepRadial(terrain.data, g.width, g.height, fan, knots, rt, layout.rangeStepM, layout.reM, layout.reM, NOTHING, scratch, 0, 0, layout.rangeCount, trace);
+  return trace;
+}
+
+/** Everything inline: plan, sweep and resample onto one grid. Tests and small jobs use this. */
+export function computeHorizon(terrain: TerrainRaster, spec: HorizonSpec): Horizon {
+  const layout = planHorizon(terrain, spec);
+  const tan = allocateTan(layout);
+  sweepSector(terrain, layout, tan, 0, 1);
+  return { layout, tan };
+}
+
+/** The floor of a single target range along one azimuth, straight from the polar samples (tests, diagrams). */
+export function floorAt(horizon: Horizon, azimuthPseudoRad: number, rangeM: number): number {
+  const L = horizon.layout;
+  const u = rangeM / L.rangeStepM;
+  const j0 = Math.min(Math.floor(u), L.rangeCount - 2);
+  const wj = u - j0;
+  let li = 0;
+  while (li < L.levels.length - 1 && j0 >= L.levels[li].jEnd) li++;
+  const lv = L.levels[li];
+  const n = lv.azimuthCount;
+  const fa = ((((azimuthPseudoRad / (2 * Math.PI)) % 1) + 1) % 1) * n;
+  const i0 = Math.floor(fa) % n;
+  const i1 = (i0 + 1) % n;
+  const wa = fa - Math.floor(fa);
+  const row = lv.jEnd - lv.jStart + 1;
+  const k0 = lv.offset + i0 * row + (j0 - lv.jStart);
+  const k1 = lv.offset + i1 * row + (j0 - lv.jStart);
+  const tan = horizon.tan;
+  const T =
+    (tan[k0] + (tan[k0 + 1] - tan[k0]) * wj) * (1 - wa) + (tan[k1] + (tan[k1 + 1] - tan[k1]) * wj) * wa;
+  const x = rangeM / L.reM;
+  const den = Math.cos(x) - T * Math.sin(x);
+  return den > 1e-9 ? Math.min(FLOOR_CAP_M, (L.reM + L.antennaAltM) / den - L.reM) : FLOOR_CAP_M;
+}

@@ -1,0 +1,560 @@
+/**
+ * Reads one GeoTIFF elevation tile into our grid convention (grid.ts: pixel-is-area, origin at the outer
+ * corner of pixel (0, 0)). geotiff.js parses and decodes (striped or tiled; none / deflate / LZW / PackBits /
+ * zstd; predictors 1, 2, 3); geotiff-geokeys-to-proj4 turns the geokeys into a proj4 string. Everything
+ * that can go wrong with a user's file becomes one InputError naming the file, what was found and what
+ * was expected; no raw geotiff.js exception escapes.
+ *
+ * Voids (the GDAL_NODATA value, NaN, ±Infinity, and the float "no value" sentinels of magnitude ≥ 1e30
+ * that some producers write without a nodata tag) are filled by `fillVoids` below and counted.
+ */
+import { fromArrayBuffer, type GeoTIFF, type GeoTIFFImage } from 'geotiff';
+import geokeysToProj4 from 'geotiff-geokeys-to-proj4';
+import proj4 from 'proj4';
+import { InputError } from '../../shared/errors.ts';
+import { WGS84_GEOGRAPHIC, type Crs, type GridGeo } from '../core/grid.ts';
+import type { DemTile } from '../core/terrain.ts';
+
+export type { DemTile } from '../core/terrain.ts';
+
+const EXPECT_FILE = 'a complete, readable GeoTIFF elevation file';
+const EXPECT_CRS =
+  'EPSG:4326 or another WGS84-equivalent geographic CRS, or a projected CRS that proj4 can build ' +
+  '(given by an EPSG code)';
+const EXPECT_SAMPLES =
+  'one band of 16- or 32-bit signed integers, 16-bit unsigned integers, or 32- or 64-bit floats ' +
+  '(elevation)';
+
+/** Magnitude at and above which a float sample is a "no value" sentinel (e.g. -3.4028235e38). */
+const FLOAT_SENTINEL = 1e30;
+
+/** GeoTIFF vertical units (EPSG unit codes) we convert to metres. */
+const VERTICAL_UNIT_M: Record<number, [number, string]> = {
+  9001: [1, 'metre'],
+  9002: [0.3048, 'foot'],
+  9003: [1200 / 3937, 'US survey foot'],
+};
+
+type Keys = Record<string, unknown>;
+
+export async function readDemTile(buffer: ArrayBuffer, name: string): Promise<DemTile> {
+  const bad = (found: string, expected: string): InputError => new InputError(name, found, expected);
+  checkSignature(buffer, bad);
+
+  let tiff: GeoTIFF;
+  let image: GeoTIFFImage;
+  try {
+    tiff = await fromArrayBuffer(buffer);
+    image = await tiff.getImage(0);
+  } catch (e) {
+    throw bad(`a truncated or corrupt TIFF (${describe(e)})`, EXPECT_FILE);
+  }
+  const warnings: string[] = [];
+  const fd = image.getFileDirectory();
+
+  // ---- sample layout -------------------------------------------------------------------------------
+  let width: number;
+  let height: number;
+  let samples: number;
+  let bits: number;
+  let format: number;
+  try {
+    width = image.getWidth();
+    height = image.getHeight();
+    samples = image.getSamplesPerPixel();
+    bits = image.getBitsPerSample(0);
+    format = fd.hasTag('SampleFormat') ? image.getSampleFormat(0) : 1;
+  } catch (e) {
+    throw bad(`a truncated or corrupt TIFF header (${describe(e)})`, EXPECT_FILE);
+  }
+  if (!(width > 0) || !(height > 0)) {
+    throw bad(`a TIFF image of ${width} x ${height} pixels`, 'an image with at least one pixel');
+  }
+  const kind = sampleKind(format, bits);
+  if (samples !== 1 || kind === undefined) {
+    throw bad(
+      `${samples} band${samples === 1 ? '' : 's'} of ${describeSamples(format, bits)}`,
+      EXPECT_SAMPLES,
+    );
+  }
+
+  // ---- georeferencing ------------------------------------------------------------------------------
+  const transform = readTransform(fd, bad);
+  const keys = safeGeoKeys(image, bad);
+  const crsInfo = resolveCrs(keys, bad, warnings);
+  let { originX, originY, pixelX, pixelY } = transform;
+  originX *= crsInfo.scaleX;
+  pixelX *= crsInfo.scaleX;
+  originY *= crsInfo.scaleY;
+  pixelY *= crsInfo.scaleY;
+  if (keys && keys.GTRasterTypeGeoKey === 2) {
+    // RasterPixelIsPoint: the tie point is the centre of pixel (0, 0); we store the outer corner.
+    originX -= pixelX / 2;
+    originY -= pixelY / 2;
+  }
+  const geo: GridGeo = { width, height, originX, originY, pixelX, pixelY, crs: crsInfo.crs };
+  if (crsInfo.crs.kind === 'projected') checkProjection(geo, bad);
+
+  // ---- pixel data ----------------------------------------------------------------------------------
+  await checkBlocksInside(image, buffer.byteLength, bad);
+  let raw: ArrayLike<number>;
+  try {
+    raw = (await image.readRasters({ interleave: true })) as unknown as ArrayLike<number>;
+  } catch (e) {
+    const compression = Number(fd.getValue('Compression') ?? 1);
+    throw bad(`pixel data that cannot be decoded (compression ${compression}: ${describe(e)})`, EXPECT_FILE);
+  }
+  if (raw.length !== width * height) {
+    throw bad(`${raw.length} decoded pixels for a ${width} x ${height} image`, EXPECT_FILE);
+  }
+
+  const nodata = readNodata(image, warnings);
+  const vertical = verticalScale(keys, warnings);
+  const data = new Float32Array(width * height);
+  const voidCount = toMetres(raw, data, kind === 'float32' ? Math.fround(nodata) : nodata, vertical);
+  if (voidCount === data.length) {
+    throw bad(
+      `only nodata values (${width} x ${height} pixels, nodata = ${Number.isNaN(nodata) ? 'NaN' : nodata})`,
+      'a tile with at least one valid elevation',
+    );
+  }
+  const voidsFilled = voidCount > 0 ? fillVoids(data, width, height) : 0;
+  if (voidsFilled > 0) {
+    const pct = ((100 * voidsFilled) / data.length).toFixed(voidsFilled * 1000 < data.length ? 3 : 1);
+    warnings.push(`filled ${voidsFilled} void cell(s) (${pct} %) from surrounding terrain`);
+  }
+  // Every warning names the tile: they end up in one list for the whole mosaic.
+  return { name, geo, data, voidsFilled, warnings: warnings.map((w) => `${name}: ${w}`) };
+}
+
+// ---------------------------------------------------------------------------------------------------
+
+function describe(e: unknown): string {
+  const m = e instanceof Error ? e.message : String(e);
+  return m.length > 160 ? m.slice(0, 157) + '...' : m;
+}
+
+function checkSignature(buffer: ArrayBuffer, bad: (f: string, e: string) => InputError): void {
+  if (buffer.byteLength < 8) {
+    throw bad(`${buffer.byteLength} bytes, too short to be a TIFF`, EXPECT_FILE);
+  }
+  const b = new Uint8Array(buffer, 0, 4);
+  const le = b[0] === 0x49 && b[1] === 0x49 && (b[2] === 42 || b[2] === 43) && b[3] === 0;
+  const be = b[0] === 0x4d && b[1] === 0x4d && b[2] === 0 && (b[3] === 42 || b[3] === 43);
+  if (!le && !be) {
+    const hex = Array.from(b, (x) => x.toString(16).padStart(2, '0')).join(' ');
+    throw bad(
+      `a file that is not a TIFF (first bytes ${hex})`,
+      'a GeoTIFF file (starting with "II*" or "MM*")',
+    );
+  }
+}
+
+type SampleKind = 'int16' | 'uint16' | 'int32' | 'float32' | 'float64';
+
+function sampleKind(format: number, bits: number): SampleKind | undefined {
+  if (format === 2 && bits === 16) return 'int16';
+  if (format === 1 && bits === 16) return 'uint16';
+  if (format === 2 && bits === 32) return 'int32';
+  if (format === 3 && bits === 32) return 'float32';
+  if (format === 3 && bits === 64) return 'float64';
+  return undefined;
+}
+
+function describeSamples(format: number, bits: number): string {
+  const f: Record<number, string> = {
+    1: 'unsigned integers',
+    2: 'signed integers',
+    3: 'floats',
+    4: 'undefined-format samples',
+    5: 'complex integers',
+    6: 'complex floats',
+  };
+  return `${bits}-bit ${f[format] ?? `samples of format ${format}`}`;
+}
+
+interface Transform {
+  originX: number;
+  originY: number;
+  pixelX: number;
+  pixelY: number;
+}
+
+type FileDirectory = ReturnType<GeoTIFFImage['getFileDirectory']>;
+
+function numbers(v: unknown): number[] | undefined {
+  if (v === undefined || v === null) return undefined;
+  if (typeof v === 'number') return [v];
+  if (Array.isArray(v) || ArrayBuffer.isView(v)) return Array.from(v as ArrayLike<number>, Number);
+  return undefined;
+}
+
+function readTransform(fd: FileDirectory, bad: (f: string, e: string) => InputError): Transform {
+  let tie: number[] | undefined;
+  let scale: number[] | undefined;
+  let matrix: number[] | undefined;
+  try {
+    tie = numbers(fd.getValue('ModelTiepoint'));
+    scale = numbers(fd.getValue('ModelPixelScale'));
+    matrix = numbers(fd.getValue('ModelTransformation'));
+  } catch (e) {
+    throw bad(`unreadable georeferencing tags (${describe(e)})`, EXPECT_FILE);
+  }
+  const expectedGeo =
+    'a GeoTIFF that places the raster on the earth (tie point and pixel size, or a transform)';
+  if (tie && tie.length >= 6 && scale && scale.length >= 2) {
+    const [i, j, , x, y] = tie;
+    const [sx, sy] = scale;
+    if (!(sx > 0) || !Number.isFinite(sy) || sy === 0 || ![i, j, x, y].every(Number.isFinite)) {
+      throw bad(
+        `ModelPixelScale (${sx}, ${sy}) with tie point (${x}, ${y})`,
+        'a positive, finite pixel size',
+      );
+    }
+    return { originX: x - i * sx, originY: y + j * sy, pixelX: sx, pixelY: -sy };
+  }
+  if (matrix && matrix.length >= 8) {
+    const [a, b, , d, e, f, , h] = matrix;
+    if (![a, b, d, e, f, h].every(Number.isFinite) || a === 0 || f === 0) {
+      throw bad(`a degenerate ModelTransformation [${matrix.slice(0, 8).join(', ')}]`, expectedGeo);
+    }
+    const tol = 1e-12 * Math.max(Math.abs(a), Math.abs(f));
+    if (Math.abs(b) > tol || Math.abs(e) > tol) {
+      throw bad(
+        `a rotated or sheared ModelTransformation (row/column terms ${b}, ${e})`,
+        'a north-up raster without rotation or shear (warp it first, e.g. to EPSG:4326)',
+      );
+    }
+    if (a < 0) {
+      throw bad(`a ModelTransformation with negative pixel width ${a}`, 'columns that run from west to east');
+    }
+    return { originX: d, originY: h, pixelX: a, pixelY: f };
+  }
+  if (tie && tie.length > 6) {
+    throw bad(
+      `${Math.floor(tie.length / 6)} ground control points without a pixel size`,
+      'a GeoTIFF with one tie point and ModelPixelScale, or a ModelTransformation (warp it first)',
+    );
+  }
+  throw bad(
+    'a TIFF without georeferencing (no ModelTiepoint + ModelPixelScale or ModelTransformation)',
+    expectedGeo,
+  );
+}
+
+function safeGeoKeys(image: GeoTIFFImage, bad: (f: string, e: string) => InputError): Keys | null {
+  try {
+    return image.getGeoKeys() as Keys | null;
+  } catch (e) {
+    throw bad(`an unreadable GeoKeyDirectory (${describe(e)})`, EXPECT_FILE);
+  }
+}
+
+interface CrsInfo {
+  crs: Crs;
+  /** Factor from file coordinates to the CRS's own units (degrees or proj4's units). */
+  scaleX: number;
+  scaleY: number;
+}
+
+const WGS84_A = 6378137;
+const WGS84_B = 6356752.314245;
+
+/** True when the proj4 string names an ellipsoid within a few millimetres of WGS84 (WGS84, GRS80). */
+function isWgs84Equivalent(def: string): boolean {
+  const param = (k: string): string | undefined => new RegExp(`\\+${k}=(\\S+)`).exec(def)?.[1];
+  const a = Number(param('a') ?? NaN);
+  const b = Number(param('b') ?? NaN);
+  const ellps = param('ellps');
+  const datum = param('datum');
+  const ellipsoidOk =
+    Number.isFinite(a) && Number.isFinite(b)
+      ? Math.abs(a - WGS84_A) < 0.01 && Math.abs(b - WGS84_B) < 0.01
+      : ellps === 'WGS84' || ellps === 'GRS80' || datum === 'WGS84';
+  const pm = param('pm');
+  const pmOk = pm === undefined || pm === '0' || pm === 'greenwich';
+  const towgs = param('towgs84');
+  const towgsOk = towgs === undefined || towgs.split(',').every((v) => Number(v) === 0);
+  return ellipsoidOk && pmOk && towgsOk;
+}
+
+function resolveCrs(
+  keys: Keys | null,
+  bad: (f: string, e: string) => InputError,
+  warnings: string[],
+): CrsInfo {
+  if (!keys || Object.keys(keys).length === 0) {
+    throw bad('no coordinate reference system (the GeoKeyDirectory is missing or empty)', EXPECT_CRS);
+  }
+  const pcs = typeof keys.ProjectedCSTypeGeoKey === 'number' ? keys.ProjectedCSTypeGeoKey : undefined;
+  const gcs = typeof keys.GeographicTypeGeoKey === 'number' ? keys.GeographicTypeGeoKey : undefined;
+  let model = typeof keys.GTModelTypeGeoKey === 'number' ? keys.GTModelTypeGeoKey : undefined;
+  if (model === undefined) model = pcs !== undefined ? 1 : gcs !== undefined ? 2 : undefined;
+  if (model === 3) throw bad('a geocentric (earth-centred XYZ) model', EXPECT_CRS);
+  if (model !== 1 && model !== 2) {
+    throw bad(`GTModelTypeGeoKey = ${String(keys.GTModelTypeGeoKey)} and no CRS code`, EXPECT_CRS);
+  }
+
+  let result: ReturnType<typeof geokeysToProj4.toProj4>;
+  try {
+    result = geokeysToProj4.toProj4(keys as unknown as Parameters<typeof geokeysToProj4.toProj4>[0]);
+  } catch (e) {
+    throw bad(`geokeys that cannot be turned into a CRS (${describe(e)})`, EXPECT_CRS);
+  }
+  const errs = (result.errors ?? {}) as unknown as Record<string, unknown>;
+  const code = model === 1 ? pcs : gcs;
+  const codeText = code === undefined ? 'no code' : code === 32767 ? 'user-defined (32767)' : `EPSG:${code}`;
+  for (const fatal of ['CRSNotSupported', 'conversionNotSupported', 'coordinateTransformationNotSupported']) {
+    if (fatal in errs) {
+      const what =
+        fatal === 'CRSNotSupported' ? 'CRS' : fatal === 'conversionNotSupported' ? 'projection' : 'method';
+      throw bad(
+        `${model === 1 ? 'projected' : 'geographic'} CRS ${codeText} ` +
+          `with an unknown ${what} code ${String(errs[fatal])}`,
+        EXPECT_CRS,
+      );
+    }
+  }
+  for (const k of Object.keys(errs)) {
+    if (k.startsWith('vertical'))
+      warnings.push(`vertical CRS not recognised (${k} = ${String(errs[k])}); heights read as metres`);
+  }
+  const conv = result.coordinatesConversionParameters as { x?: number; y?: number } | undefined;
+  const scaleX = result.shouldConvertCoordinates && conv?.x ? conv.x : 1;
+  const scaleY = result.shouldConvertCoordinates && conv?.y ? conv.y : 1;
+  const def = result.proj4.replace(/\+axis=\w+\s*/g, '').trim();
+  const citation = [keys.GTCitationGeoKey, keys.PCSCitationGeoKey, keys.GeogCitationGeoKey].find(
+    (c): c is string => typeof c === 'string' && c.trim() !== '',
+  );
+
+  if (model === 2) {
+    if (!result.isGCS || !/\+proj=longlat\b/.test(def)) {
+      throw bad(`a geographic model with a non-geographic CRS ${codeText}`, EXPECT_CRS);
+    }
+    if (!isWgs84Equivalent(def)) {
+      throw bad(
+        `geographic CRS ${codeText} on a datum that is not WGS84-equivalent (${def})`,
+        EXPECT_CRS + '; reproject the tile to EPSG:4326',
+      );
+    }
+    if (code !== 4326) {
+      warnings.push(
+        `geographic CRS ${codeText} read as WGS84 lon/lat (EPSG:4326); the datums differ by about a metre`,
+      );
+    }
+    return { crs: WGS84_GEOGRAPHIC, scaleX, scaleY };
+  }
+
+  if (result.isGCS || /\+proj=longlat\b/.test(def)) {
+    throw bad(`projected CRS ${codeText} without projection parameters`, EXPECT_CRS);
+  }
+  try {
+    proj4(def, WGS84_GEOGRAPHIC.proj4);
+  } catch (e) {
+    throw bad(`projected CRS ${codeText} that proj4 cannot build (${describe(e)})`, EXPECT_CRS);
+  }
+  if (!isWgs84Equivalent(def)) {
+    warnings.push(
+      `projected CRS ${codeText} is on a non-WGS84 datum with no datum shift given; ` +
+        'positions may be off by tens of metres',
+    );
+  }
+  const epsg = code !== undefined && code > 0 && code < 32767 ? code : undefined;
+  const label =
+    (epsg !== undefined ? `EPSG:${epsg}` : 'user-defined projected CRS') +
+    (citation ? ` (${citation.trim()})` : '');
+  return { crs: { kind: 'projected', proj4: def, epsg, label }, scaleX, scaleY };
+}
+
+/** The tile's centre must come back from proj4 as a finite lon/lat. */
+function checkProjection(geo: GridGeo, bad: (f: string, e: string) => InputError): void {
+  const cx = geo.originX + (geo.width / 2) * geo.pixelX;
+  const cy = geo.originY + (geo.height / 2) * geo.pixelY;
+  let lonLat: number[];
+  try {
+    lonLat = proj4(geo.crs.proj4, WGS84_GEOGRAPHIC.proj4).forward([cx, cy]);
+  } catch (e) {
+    throw bad(`${geo.crs.label} that cannot place the tile centre (${describe(e)})`, EXPECT_CRS);
+  }
+  if (!Number.isFinite(lonLat[0]) || !Number.isFinite(lonLat[1]) || Math.abs(lonLat[1]) > 90) {
+    throw bad(`${geo.crs.label} that puts the tile centre (${cx}, ${cy}) off the earth`, EXPECT_CRS);
+  }
+}
+
+/** Every strip or tile must lie inside the file: a cut-off download fails here with a clear message. */
+async function checkBlocksInside(
+  image: GeoTIFFImage,
+  fileBytes: number,
+  bad: (f: string, e: string) => InputError,
+): Promise<void> {
+  const fd = image.getFileDirectory();
+  const tiled = fd.hasTag('TileOffsets');
+  let offsets: number[] | undefined;
+  let counts: number[] | undefined;
+  try {
+    offsets = numbers(await fd.loadValue(tiled ? 'TileOffsets' : 'StripOffsets'));
+    counts = numbers(await fd.loadValue(tiled ? 'TileByteCounts' : 'StripByteCounts'));
+  } catch (e) {
+    throw bad(`a truncated or corrupt TIFF (block table unreadable: ${describe(e)})`, EXPECT_FILE);
+  }
+  if (!offsets || !counts || offsets.length === 0 || offsets.length !== counts.length) {
+    throw bad('a TIFF without a valid strip or tile table', EXPECT_FILE);
+  }
+  for (let i = 0; i < offsets.length; i++) {
+    if (counts[i] > 0 && offsets[i] + counts[i] > fileBytes) {
+      throw bad(
+        `a truncated file (${fileBytes} bytes, but ${tiled ? 'tile' : 'strip'} ${i} ` +
+          `ends at byte ${offsets[i] + counts[i]})`,
+        EXPECT_FILE,
+      );
+    }
+  }
+}
+
+function readNodata(image: GeoTIFFImage, warnings: string[]): number {
+  const fd = image.getFileDirectory();
+  if (!fd.hasTag('GDAL_NODATA')) return NaN;
+  const rawValue = fd.getValue('GDAL_NODATA');
+  const text = String(rawValue ?? '')
+    .replace(/\0/g, '')
+    .trim();
+  if (text === '') return NaN;
+  if (/^[+-]?nan$/i.test(text)) return NaN;
+  const v = Number(text);
+  if (Number.isNaN(v)) {
+    warnings.push(`GDAL_NODATA "${text}" is not a number; ignored`);
+    return NaN;
+  }
+  return v;
+}
+
+function verticalScale(keys: Keys | null, warnings: string[]): number {
+  const code = keys?.VerticalUnitsGeoKey;
+  if (typeof code !== 'number' || code === 9001) return 1;
+  const unit = VERTICAL_UNIT_M[code];
+  if (!unit) {
+    warnings.push(`vertical unit code ${code} not recognised; heights read as metres`);
+    return 1;
+  }
+  warnings.push(`heights converted from ${unit[1]} to metres`);
+  return unit[0];
+}
+
+/**
+ * Copies samples into `out` in metres; voids become NaN. Returns the number of voids.
+ * `nodata` NaN means "no nodata value" (NaN samples are voids anyway).
+ */
+function toMetres(src: ArrayLike<number>, out: Float32Array, nodata: number, scale: number): number {
+  let voids = 0;
+  const n = out.length;
+  for (let i = 0; i < n; i++) {
+    const v = src[i];
+    if (v === nodata || v !== v || v >= FLOAT_SENTINEL || v <= -FLOAT_SENTINEL) {
+      out[i] = NaN;
+      voids++;
+    } else {
+      out[i] = v * scale;
+    }
+  }
+  return voids;
+}
+
+/**
+ * Fills NaN cells in place and returns how many were filled.
+ *
+ * Method ("onion peeling"): the void cells that touch valid terrain form the first layer; every cell of a
+ * layer takes the mean of its valid 8-neighbours (valid before the layer started, so the result does not
+ * depend on scan order); the next layer is the still-empty neighbours of that layer; and so on inward.
+ * Each cell is visited a bounded number of times, so the cost is linear in the raster size. A filled
+ * value always lies between the smallest and largest valid value around the void.
+ */
+export function fillVoids(data: Float32Array, width: number, height: number): number {
+  const n = width * height;
+  // state: 0 = valid (or filled), 1 = void not yet scheduled, 2 = void scheduled in the queue
+  const state = new Uint8Array(n);
+  let voids = 0;
+  for (let i = 0; i < n; i++) {
+    if (data[i] !== data[i]) {
+      state[i] = 1;
+      voids++;
+    }
+  }
+  if (voids === 0 || voids === n) return 0;
+  const queue = new Int32Array(voids);
+  const values = new Float32Array(voids);
+  let tail = 0;
+  for (let i = 0; i < n; i++) {
+    if (state[i] !== 1) continue;
+    const r = (i / width) | 0;
+    const c = i - r * width;
+    let touches = false;
+    for (let dr = -1; dr <= 1 && !touches; dr++) {
+      const rr = r + dr;
+      if (rr < 0 || rr >= height) continue;
+      for (let dc = -1; dc <= 1; dc++) {
+        const cc = c + dc;
+        if (cc < 0 || cc >= width || (dr === 0 && dc === 0)) continue;
+        if (state[rr * width + cc] === 0) {
+          touches = true;
+          break;
+        }
+      }
+    }
+    if (touches) {
+      state[i] = 2;
+      queue[tail++] = i;
+    }
+  }
+  let head = 0;
+  while (head < tail) {
+    const layerEnd = tail;
+    // 1. values from neighbours valid before this layer (scheduled cells are still NaN)
+    for (let q = head; q < layerEnd; q++) {
+      const i = queue[q];
+      const r = (i / width) | 0;
+      const c = i - r * width;
+      let sum = 0;
+      let k = 0;
+      for (let dr = -1; dr <= 1; dr++) {
+        const rr = r + dr;
+        if (rr < 0 || rr >= height) continue;
+        for (let dc = -1; dc <= 1; dc++) {
+          const cc = c + dc;
+          if (cc < 0 || cc >= width) continue;
+          const v = data[rr * width + cc];
+          if (v === v) {
+            sum += v;
+            k++;
+          }
+        }
+      }
+      values[q] = sum / k; // k >= 1: every scheduled cell touches a cell valid before its layer
+    }
+    // 2. commit, and schedule the next layer
+    for (let q = head; q < layerEnd; q++) {
+      const i = queue[q];
+      data[i] = values[q];
+      state[i] = 0;
+    }
+    for (let q = head; q < layerEnd; q++) {
+      const i = queue[q];
+      const r = (i / width) | 0;
+      const c = i - r * width;
+      for (let dr = -1; dr <= 1; dr++) {
+        const rr = r + dr;
+        if (rr < 0 || rr >= height) continue;
+        for (let dc = -1; dc <= 1; dc++) {
+          const cc = c + dc;
+          if (cc < 0 || cc >= width) continue;
+          const j = rr * width + cc;
+          if (state[j] === 1) {
+            state[j] = 2;
+            queue[tail++] = j;
+          }
+        }
+      }
+    }
+    head = layerEnd;
+  }
+  return tail;
+}
