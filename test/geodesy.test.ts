@@ -15,7 +15,12 @@ import { gridMapper, WGS84_GEOGRAPHIC, type GridGeo } from '../worker/core/grid.
 const WGS84 = geodesic.Geodesic.WGS84;
 
 function terrainAround(geo: GridGeo): Terrain {
-  return Terrain.fromParts({ geo, data: new Float32Array(geo.width * geo.height).fill(100), warnings: [], sources: ['flat'] });
+  return Terrain.fromParts({
+    geo,
+    data: new Float32Array(geo.width * geo.height).fill(100),
+    warnings: [],
+    sources: ['flat'],
+  });
 }
 
 const SITES: { name: string; geo: GridGeo; lon: number; lat: number }[] = [
@@ -23,13 +28,29 @@ const SITES: { name: string; geo: GridGeo; lon: number; lat: number }[] = [
     name: 'geographic grid, 41.5° S',
     lon: -29.5,
     lat: -41.5,
-    geo: { width: 20, height: 20, originX: -29.6, originY: -41.4, pixelX: 0.01, pixelY: -0.01, crs: WGS84_GEOGRAPHIC },
+    geo: {
+      width: 20,
+      height: 20,
+      originX: -29.6,
+      originY: -41.4,
+      pixelX: 0.01,
+      pixelY: -0.01,
+      crs: WGS84_GEOGRAPHIC,
+    },
   },
   {
     name: 'geographic grid, 68° N',
     lon: 12.3,
     lat: 68.0,
-    geo: { width: 20, height: 20, originX: 12.2, originY: 68.1, pixelX: 0.01, pixelY: -0.01, crs: WGS84_GEOGRAPHIC },
+    geo: {
+      width: 20,
+      height: 20,
+      originX: 12.2,
+      originY: 68.1,
+      pixelX: 0.01,
+      pixelY: -0.01,
+      crs: WGS84_GEOGRAPHIC,
+    },
   },
   {
     name: 'UTM 26S grid',
@@ -42,7 +63,12 @@ const SITES: { name: string; geo: GridGeo; lon: number; lat: number }[] = [
       originY: 5_517_000,
       pixelX: 1000,
       pixelY: -1000,
-      crs: { kind: 'projected', proj4: '+proj=utm +zone=26 +south +datum=WGS84 +units=m +no_defs', epsg: 32726, label: 'EPSG:32726' },
+      crs: {
+        kind: 'projected',
+        proj4: '+proj=utm +zone=26 +south +datum=WGS84 +units=m +no_defs',
+        epsg: 32726,
+        label: 'EPSG:32726',
+      },
     },
   },
 ];
@@ -74,8 +100,24 @@ describe.each(SITES)('radial samples on a $name', ({ geo, lon, lat }) => {
     // An output grid 1000 km wide around the site, in the site's CRS family.
     const out: GridGeo =
       geo.crs.kind === 'geographic'
-        ? { ...geo, width: 4000, height: 1800, originX: lon - 10, originY: lat + 4.5, pixelX: 0.005, pixelY: -0.005 }
-        : { ...geo, width: 1000, height: 1000, originX: geo.originX - 500_000, originY: geo.originY + 500_000, pixelX: 1000, pixelY: -1000 };
+        ? {
+            ...geo,
+            width: 4000,
+            height: 1800,
+            originX: lon - 10,
+            originY: lat + 4.5,
+            pixelX: 0.005,
+            pixelY: -0.005,
+          }
+        : {
+            ...geo,
+            width: 1000,
+            height: 1000,
+            originX: geo.originX - 500_000,
+            originY: geo.originY + 500_000,
+            pixelX: 1000,
+            pixelY: -1000,
+          };
     const mapper = gridMapper(out);
     const vmap = VectorMap.build(lon, lat, out.width, out.height, mapper);
     const v = [0, 0];

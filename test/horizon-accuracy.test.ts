@@ -27,7 +27,13 @@ describe.each(['valley', 'summit', 'coast'] as const)('antenna %s', (scenario) =
     const r0 = N / 2;
     const site = cellLonLat(geo, c0, r0);
     const mastM = 15;
-    const res = await computeFloor(terrain, { ...site, mastM, kFactor: K }, geo, data, inlineExecutor(terrain));
+    const res = await computeFloor(
+      terrain,
+      { ...site, mastM, kFactor: K },
+      geo,
+      data,
+      inlineExecutor(terrain),
+    );
     const ref = rayWalkFloorGrid({
       data,
       width: N,
@@ -51,7 +57,9 @@ describe.each(['valley', 'summit', 'coast'] as const)('antenna %s', (scenario) =
       }
       return agree / (N * N);
     });
-    console.log(`${scenario}: shadowed ${errors.length} cells, median |floor error| ${median.toFixed(2)} m, p95 ${errors[Math.floor(errors.length * 0.95)].toFixed(1)} m; agreement ${agreement.map((a) => (100 * a).toFixed(3) + '%').join(' ')}`);
+    console.log(
+      `${scenario}: shadowed ${errors.length} cells, median |floor error| ${median.toFixed(2)} m, p95 ${errors[Math.floor(errors.length * 0.95)].toFixed(1)} m; agreement ${agreement.map((a) => (100 * a).toFixed(3) + '%').join(' ')}`,
+    );
     expect(errors.length).toBeGreaterThan(N * N * 0.05); // the scene really has shadows to get right
     expect(median).toBeLessThanOrEqual(5);
     for (const a of agreement) expect(a).toBeGreaterThanOrEqual(0.999);

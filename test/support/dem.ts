@@ -22,11 +22,19 @@ export function metricGeo(width: number, height: number, pixelM: number): GridGe
 }
 
 export function metricTerrain(data: Float32Array, width: number, height: number, pixelM: number): Terrain {
-  return Terrain.fromParts({ geo: metricGeo(width, height, pixelM), data, warnings: [], sources: ['generated'] });
+  return Terrain.fromParts({
+    geo: metricGeo(width, height, pixelM),
+    data,
+    warnings: [],
+    sources: ['generated'],
+  });
 }
 
 /** lon/lat of the centre of cell (c, r) of a metricGeo grid. */
 export function cellLonLat(geo: GridGeo, c: number, r: number): { lon: number; lat: number } {
-  const [lon, lat] = proj4(TEST_PROJ4, 'WGS84', [geo.originX + (c + 0.5) * geo.pixelX, geo.originY + (r + 0.5) * geo.pixelY]);
+  const [lon, lat] = proj4(TEST_PROJ4, 'WGS84', [
+    geo.originX + (c + 0.5) * geo.pixelX,
+    geo.originY + (r + 0.5) * geo.pixelY,
+  ]);
   return { lon, lat };
 }

@@ -383,6 +383,25 @@ export interface ResampleCounts {
 const GA = Math.PI / 4;
 const GB = 0.273;
 
+/**
+ * Bilinear interpolation over the corners that are known. A cell next to the terrain's edge (or to a hole in
+ * it) can have a neighbouring radial that has already left the known terrain while its own sight line has
+ * not; the radials that stayed on known terrain give its value. NaN only when no corner is known.
+ */
+function knownPart(tan: Float32Array, k0: number, k1: number, wj: number, wa: number): number {
+  let sum = 0;
+  let wsum = 0;
+  const w = [(1 - wj) * (1 - wa), wj * (1 - wa), (1 - wj) * wa, wj * wa];
+  const v = [tan[k0], tan[k0 + 1], tan[k1], tan[k1 + 1]];
+  for (let i = 0; i < 4; i++) {
+    if (v[i] === v[i] && w[i] > 0) {
+      sum += v[i] * w[i];
+      wsum += w[i];
+    }
+  }
+  return wsum > 0 ? sum / wsum : NaN;
+}
+
 /** One output row (kept small so V8 optimises it whole); returns how many cells were beyond range. */
 function resampleRow(
   L: HorizonLayout,
@@ -457,15 +476,17 @@ function resampleRow(
     const jj = j0 - lv[l4 + 1];
     const k0 = lv[l4 + 3] + i0 * row + jj;
     const k1 = lv[l4 + 3] + i1 * row + jj;
-    const T =
+    let T =
       (tan[k0] + (tan[k0 + 1] - tan[k0]) * wj) * (1 - wa) + (tan[k1] + (tan[k1 + 1] - tan[k1]) * wj) * wa;
+    if (T !== T) T = knownPart(tan, k0, k1, wj, wa);
     // cos and sin of s/Re by series (s/Re < 0.25: error < 1e-8 relative).
     const x = s / re;
     const x2 = x * x;
     const cs = 1 - x2 * (0.5 - x2 * (1 / 24 - x2 / 720));
     const sn = x * (1 - x2 * (1 / 6 - x2 * (1 / 120 - x2 / 5040)));
     const den = cs - T * sn;
-    let h = den > 1e-9 ? rha / den - re : FLOOR_CAP_M;
+    // den ≤ 0: the screening ray never comes down to range s at any height; NaN: unknown terrain.
+    let h = den > 1e-9 ? rha / den - re : den === den ? FLOOR_CAP_M : NaN;
     if (h > FLOOR_CAP_M) h = FLOOR_CAP_M;
     if (ground !== null) {
       const g = ground[rowOut + c];
@@ -490,7 +511,23 @@ export function traceRadial(terrain: TerrainRaster, layout: HorizonLayout, azimu
   const rt = rangeTables(layout);
   const g = terrain.geo;
   // Sweep over an unbounded extent so positions are traced even where the terrain ends.
-  sweepRadial(terrain.data, g.width, g.height, fan, knots, rt, layout.rangeStepM, layout.reM, layout.reM, NOTHING, scratch, 0, 0, layout.rangeCount, trace);
+  sweepRadial(
+    terrain.data,
+    g.width,
+    g.height,
+    fan,
+    knots,
+    rt,
+    layout.rangeStepM,
+    layout.reM,
+    layout.reM,
+    NOTHING,
+    scratch,
+    0,
+    0,
+    layout.rangeCount,
+    trace,
+  );
   return trace;
 }
 
@@ -520,9 +557,10 @@ export function floorAt(horizon: Horizon, azimuthPseudoRad: number, rangeM: numb
   const k0 = lv.offset + i0 * row + (j0 - lv.jStart);
   const k1 = lv.offset + i1 * row + (j0 - lv.jStart);
   const tan = horizon.tan;
-  const T =
-    (tan[k0] + (tan[k0 + 1] - tan[k0]) * wj) * (1 - wa) + (tan[k1] + (tan[k1 + 1] - tan[k1]) * wj) * wa;
+  let T = (tan[k0] + (tan[k0 + 1] - tan[k0]) * wj) * (1 - wa) + (tan[k1] + (tan[k1 + 1] - tan[k1]) * wj) * wa;
+  if (T !== T) T = knownPart(tan, k0, k1, wj, wa);
   const x = rangeM / L.reM;
   const den = Math.cos(x) - T * Math.sin(x);
+  if (den !== den) return NaN;
   return den > 1e-9 ? Math.min(FLOOR_CAP_M, (L.reM + L.antennaAltM) / den - L.reM) : FLOOR_CAP_M;
 }

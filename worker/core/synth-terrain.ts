@@ -113,6 +113,9 @@ const KNEE_SPAN_M = SYNTH_MAX_HEIGHT_M - KNEE_START_M;
 /** Valley sides: horizontal metres per metre carved, plus a minimum width. */
 const VALLEY_SIDE_RUN_PER_M = 2.6;
 const VALLEY_SIDE_MIN_M = 1200;
+/** Range of the factor that widens and narrows the valleys along their course. */
+const VALLEY_WIDTH_MIN = 0.45;
+const VALLEY_WIDTH_MAX = 1.7;
 
 // Noise channels: each octave of each use has its own rotation, offset, frequency and weight.
 const CH_WARP_X = 0; // 3 octaves, on the lattice
@@ -136,6 +139,8 @@ const SEG_STRIDE = 7; // x0, y0, dx, dy, 1/len², len, cumulative length at x0
 
 /** Precomputed, typed-array form of a layout. */
 export interface SynthTables {
+  /** Spacing of the lattice of slow fields, metres. */
+  readonly latticeM: number;
   readonly perm: Uint8Array;
   readonly gradX: Float64Array;
   readonly gradY: Float64Array;
@@ -259,7 +264,7 @@ export function createSynthWorld(layout: SynthLayout): SynthWorld {
   setChannels(CH_WARP_Y, 3, layout.warpScaleM, 3.2, 0.32);
   setChannels(CH_COAST, 4, layout.coast ? layout.coast.roughnessScaleM : 1e5, 2.3, 0.5);
   setChannels(CH_HILLS, 3, layout.hillScaleM, 2.2, 0.5);
-  setChannels(CH_RIDGE, 4, layout.ridgeScaleM, 2.2, 0.52);
+  setChannels(CH_RIDGE, 4, layout.ridgeScaleM, 2.3, 0.45);
   setChannels(CH_RANGE_MOD, 2, RANGE_MOD_SCALE_M, 2.7, 0.45);
 
   const coast = new Float64Array(10);
@@ -354,7 +359,11 @@ export function createSynthWorld(layout: SynthLayout): SynthWorld {
     checkFinite(`${where}.floorGradient`, r.floorGradient);
     checkFinite(`${where}.floorHalfWidthM`, r.floorHalfWidthM);
     if (!(r.floorGradient >= 0)) {
-      throw new InputError(`${where}.floorGradient`, String(r.floorGradient), 'a rise ≥ 0 from mouth to source');
+      throw new InputError(
+        `${where}.floorGradient`,
+        String(r.floorGradient),
+        'a rise ≥ 0 from mouth to source',
+      );
     }
     if (!(r.floorHalfWidthM >= 0)) {
       throw new InputError(`${where}.floorHalfWidthM`, String(r.floorHalfWidthM), 'a width ≥ 0 m');
@@ -378,7 +387,15 @@ export function createSynthWorld(layout: SynthLayout): SynthWorld {
     summitData.set([s.xM, s.yM, s.reliefM, s.radiusM], i * 4);
   });
 
+  // The lattice must resolve the finest octave of the noise it carries.
+  const coastFinestLatticeM = c ? c.roughnessScaleM / (2.3 * 2.3) : Infinity;
+  const warpFinestM = layout.warpScaleM / (3.2 * 3.2);
+  const finestM = Math.min(coastFinestLatticeM, warpFinestM, RANGE_MOD_SCALE_M / 2.7);
+  let latticeM = LATTICE_MAX_M;
+  while (latticeM * LATTICE_NODES_PER_WAVELENGTH > finestM && latticeM > 1) latticeM /= 2;
+
   const tables: SynthTables = {
+    latticeM,
     perm,
     gradX,
     gradY,
@@ -468,12 +485,15 @@ function smoothstep01(t: number): number {
 /*
  * Slow fields on a lattice. The warp displacement and the three broadest octaves of the coastline
  * noise vary over tens of kilometres; they are evaluated exactly at the nodes of a fixed lattice of
- * LATTICE_M spacing in the local plane and interpolated bilinearly in between. The lattice is part of
+ * `latticeM` spacing (1 km, or finer for small layouts) in the local plane and interpolated bilinearly in between. The lattice is part of
  * the definition of the height function (not a cache of it): every path — single points and any tile —
  * interpolates the same node values with the same arithmetic, so results are identical and continuous.
  * This removes 7 of the 10 noise evaluations per cell.
  */
-const LATTICE_M = 1000;
+/** Largest lattice spacing; finer (halved) when a layout's slow noise has small wavelengths. */
+const LATTICE_MAX_M = 1000;
+/** Lattice nodes per finest wavelength of the noise on the lattice. */
+const LATTICE_NODES_PER_WAVELENGTH = 8;
 const NODE_FIELDS = 5;
 
 /**
@@ -482,8 +502,8 @@ const NODE_FIELDS = 5;
  * range modulation noise.
  */
 function computeNode(t: SynthTables, i: number, j: number, nodes: Float64Array, o: number): void {
-  const x = i * LATTICE_M;
-  const y = j * LATTICE_M;
+  const x = i * t.latticeM;
+  const y = j * t.latticeM;
   const dx = t.warpM * fbm(t, CH_WARP_X, 3, x, y);
   const dy = t.warpM * fbm(t, CH_WARP_Y, 3, x, y);
   nodes[o] = dx;
@@ -528,8 +548,8 @@ const NV = new Float64Array(N_CHANNELS);
  */
 export function synthHeightM(xM: number, yM: number, world: SynthWorld): number {
   const t = world.tables;
-  const i = Math.floor(xM / LATTICE_M);
-  const j = Math.floor(yM / LATTICE_M);
+  const i = Math.floor(xM / t.latticeM);
+  const j = Math.floor(yM / t.latticeM);
   const cache = pointCache;
   if (cache.tables !== t || cache.i !== i || cache.j !== j) {
     computeNode(t, i, j, cache.nodes, 0);
@@ -542,8 +562,8 @@ export function synthHeightM(xM: number, yM: number, world: SynthWorld): number 
   }
   R[R_X] = xM;
   R[R_Y] = yM;
-  R[R_FX] = xM / LATTICE_M - i;
-  R[R_FY] = yM / LATTICE_M - j;
+  R[R_FX] = xM / t.latticeM - i;
+  R[R_FY] = yM / t.latticeM - j;
   heightKernel(t, cache.nodes, 0, 2 * NODE_FIELDS);
   return R[R_HEIGHT];
 }
@@ -721,9 +741,10 @@ function heightKernel(t: SynthTables, nodes: Float64Array, o00: number, strideJ:
     ch[CH_HILLS * CH_STRIDE + 5] * NV[CH_HILLS] +
     ch[(CH_HILLS + 1) * CH_STRIDE + 5] * NV[CH_HILLS + 1] +
     ch[(CH_HILLS + 2) * CH_STRIDE + 5] * NV[CH_HILLS + 2];
-  let hills = 0.5 + t.hillsGain * hillNoise;
-  if (hills < 0) hills = 0;
-  h += t.hillsM * (0.25 + 0.75 * rise) * hills * hills;
+  // a smooth positive part of 0.5 + gain·noise (no flat floors where the noise dips), squared
+  const hv = 0.5 + t.hillsGain * hillNoise;
+  const hills = 0.5 * (hv + Math.sqrt(hv * hv + 0.04));
+  h += t.hillsM * (0.1 + 0.9 * rise) * hills * hills;
 
   if (env > 0) {
     let ridge = 0;
@@ -756,13 +777,23 @@ function heightKernel(t: SynthTables, nodes: Float64Array, o00: number, strideJ:
     h += sd[o + 2] * q1 * q1;
   }
 
-  // River valleys: pull the terrain down to the valley floor, with sides as wide as the cut is deep.
+  // River valleys: pull the terrain down to the valley floor, with sides as wide as the cut is deep;
+  // the hills' noise makes the valleys wider and narrower along their course.
+  let valleyWidth = 1 + 2 * hillNoise;
+  if (valleyWidth < VALLEY_WIDTH_MIN) valleyWidth = VALLEY_WIDTH_MIN;
+  else if (valleyWidth > VALLEY_WIDTH_MAX) valleyWidth = VALLEY_WIDTH_MAX;
   const vd = t.riverData;
   for (let i = 0; i < t.nRivers; i++) {
     const o = i * 7;
     // the valley reaches at most this far from the course at this height (the floor is lowest at the mouth)
-    const reachMax = vd[o + 6] + VALLEY_SIDE_MIN_M + VALLEY_SIDE_RUN_PER_M * (h - vd[o + 4]);
-    if (wx < vd[o] - reachMax || wy < vd[o + 1] - reachMax || wx > vd[o + 2] + reachMax || wy > vd[o + 3] + reachMax) {
+    const reachMax =
+      VALLEY_WIDTH_MAX * (vd[o + 6] + VALLEY_SIDE_MIN_M + VALLEY_SIDE_RUN_PER_M * (h - vd[o + 4]));
+    if (
+      wx < vd[o] - reachMax ||
+      wy < vd[o + 1] - reachMax ||
+      wx > vd[o + 2] + reachMax ||
+      wy > vd[o + 3] + reachMax
+    ) {
       continue;
     }
     let best = Infinity;
@@ -787,10 +818,11 @@ function heightKernel(t: SynthTables, nodes: Float64Array, o00: number, strideJ:
     const floorM = vd[o + 4] + vd[o + 5] * alongM;
     const depth = h - floorM;
     if (depth <= 0) continue;
-    const side = VALLEY_SIDE_MIN_M + VALLEY_SIDE_RUN_PER_M * depth;
-    const reach = vd[o + 6] + side;
+    const floorHalfWidthM = valleyWidth * vd[o + 6];
+    const side = valleyWidth * (VALLEY_SIDE_MIN_M + VALLEY_SIDE_RUN_PER_M * depth);
+    const reach = floorHalfWidthM + side;
     if (best >= reach * reach) continue;
-    const e = (Math.sqrt(best) - vd[o + 6]) / side;
+    const e = (Math.sqrt(best) - floorHalfWidthM) / side;
     h = e <= 0 ? floorM : floorM + depth * e * e * (3 - 2 * e);
   }
 
@@ -863,6 +895,7 @@ export function synthHeightAtLonLat(lon: number, lat: number, world: SynthWorld)
  */
 function fillSeparable(out: Float32Array, xs: Float64Array, ys: Float64Array, world: SynthWorld): void {
   const t = world.tables;
+  const latticeM = t.latticeM;
   const width = xs.length;
   const height = ys.length;
   const ci = new Int32Array(width);
@@ -870,16 +903,16 @@ function fillSeparable(out: Float32Array, xs: Float64Array, ys: Float64Array, wo
   let i0 = Infinity;
   let i1 = -Infinity;
   for (let c = 0; c < width; c++) {
-    const i = Math.floor(xs[c] / LATTICE_M);
+    const i = Math.floor(xs[c] / latticeM);
     ci[c] = i;
-    cfx[c] = xs[c] / LATTICE_M - i;
+    cfx[c] = xs[c] / latticeM - i;
     if (i < i0) i0 = i;
     if (i > i1) i1 = i;
   }
   let j0 = Infinity;
   let j1 = -Infinity;
   for (let r = 0; r < height; r++) {
-    const j = Math.floor(ys[r] / LATTICE_M);
+    const j = Math.floor(ys[r] / latticeM);
     if (j < j0) j0 = j;
     if (j > j1) j1 = j;
   }
@@ -894,8 +927,8 @@ function fillSeparable(out: Float32Array, xs: Float64Array, ys: Float64Array, wo
 
   for (let r = 0; r < height; r++) {
     const yM = ys[r];
-    const j = Math.floor(yM / LATTICE_M);
-    const fy = yM / LATTICE_M - j;
+    const j = Math.floor(yM / latticeM);
+    const fy = yM / latticeM - j;
     const rowNode = (j - j0) * strideJ;
     const row = r * width;
     for (let c = 0; c < width; c++) {
@@ -984,26 +1017,26 @@ export const DEMO_LAYOUT: SynthLayout = {
     roughnessScaleM: 55_000,
     shoreRampM: 1500,
   },
-  lowlandRiseM: 350,
-  lowlandScaleM: 60_000,
+  lowlandRiseM: 320,
+  lowlandScaleM: 70_000,
   hillsM: 450,
   hillScaleM: 24_000,
-  ridgeScaleM: 16_000,
+  ridgeScaleM: 26_000,
   ranges: [
     {
-      name: 'Hollen Spine',
+      name: 'Karvessa Spine',
       axisM: [km(40, 260), km(75, 120), km(95, 0), km(150, -120), km(190, -200)],
       crestM: 2800,
       halfWidthM: 38_000,
     },
     {
-      name: 'Varrow Fells',
+      name: 'Ulbrith Fells',
       axisM: [km(-70, 175), km(-20, 200), km(30, 205)],
       crestM: 2200,
       halfWidthM: 22_000,
     },
     {
-      name: 'Sallent Scarps',
+      name: 'Tsorren Scarps',
       axisM: [km(45, -100), km(75, -170), km(110, -240)],
       crestM: 1900,
       halfWidthM: 18_000,
@@ -1011,35 +1044,35 @@ export const DEMO_LAYOUT: SynthLayout = {
   ],
   rivers: [
     {
-      name: 'Ommer',
+      name: 'Ossavel',
       courseM: [km(-105, 115), km(-60, 120), km(-10, 130), km(40, 150), km(62, 160)],
       mouthFloorM: 0,
       floorGradient: 0.004,
       floorHalfWidthM: 500,
     },
     {
-      name: 'Threll',
+      name: 'Quenthe',
       courseM: [km(-48, -5), km(0, 15), km(50, 30), km(88, 40), km(110, 60), km(160, 40)],
       mouthFloorM: 0,
       floorGradient: 0.003,
       floorHalfWidthM: 700,
     },
     {
-      name: 'Caddow',
+      name: 'Drisselle',
       courseM: [km(-20, -62), km(30, -75), km(90, -110), km(120, -160), km(140, -220)],
       mouthFloorM: 0,
       floorGradient: 0.003,
       floorHalfWidthM: 600,
     },
     {
-      name: 'Wenlis',
+      name: 'Yelvaine',
       courseM: [km(70, -262), km(120, -255), km(170, -230)],
       mouthFloorM: 0,
       floorGradient: 0.004,
       floorHalfWidthM: 400,
     },
     {
-      name: 'Pelloch',
+      name: 'Pellaquin',
       courseM: [km(-165, 245), km(-110, 250), km(-50, 240), km(0, 260)],
       mouthFloorM: 0,
       floorGradient: 0.004,
@@ -1047,11 +1080,159 @@ export const DEMO_LAYOUT: SynthLayout = {
     },
   ],
   summits: [
-    { name: 'Mount Orrel', xM: -30_000, yM: 70_000, reliefM: 1500, radiusM: 12_000 },
-    { name: 'Tarn Keld', xM: 20_000, yM: -20_000, reliefM: 1200, radiusM: 10_000 },
-    { name: 'Brisk Tor', xM: 130_000, yM: 150_000, reliefM: 1400, radiusM: 9000 },
+    { name: 'Mount Azzoret', xM: -30_000, yM: 70_000, reliefM: 1700, radiusM: 16_000 },
+    { name: 'Skellivar Dome', xM: 20_000, yM: -20_000, reliefM: 1300, radiusM: 13_000 },
+    { name: 'Hyrrakel Peak', xM: 130_000, yM: 150_000, reliefM: 1500, radiusM: 12_000 },
   ],
 };
 
 /** The demo landscape. */
 export const DEMO_WORLD: SynthWorld = createSynthWorld(DEMO_LAYOUT);
+
+/** Scenarios of `testWorld`. */
+export type TestScenario = 'valley' | 'summit' | 'coast';
+
+/**
+ * Layout of a small generated landscape for accuracy tests (a few tens of kilometres, features sized
+ * for 10–30 m pixels), centred on the local origin.
+ */
+function testLayout(seed: number, scenario: TestScenario): SynthLayout {
+  const common = {
+    seed,
+    centreLon: DEMO_LAYOUT.centreLon,
+    centreLat: DEMO_LAYOUT.centreLat,
+    warpM: 2500,
+    warpScaleM: 24_000,
+    lowlandScaleM: 8000,
+    hillScaleM: 4500,
+    ridgeScaleM: 5000,
+  };
+  switch (scenario) {
+    case 'valley':
+      // A north-south valley floor between two ridges ~4.5 km either side.
+      return {
+        ...common,
+        coast: null,
+        lowlandRiseM: 450,
+        hillsM: 260,
+        ranges: [
+          {
+            name: 'west wall',
+            axisM: [km(-4.5, -30), km(-4.8, 0), km(-4.5, 30)],
+            crestM: 1300,
+            halfWidthM: 4000,
+          },
+          {
+            name: 'east wall',
+            axisM: [km(4.5, -30), km(4.8, 0), km(4.5, 30)],
+            crestM: 1300,
+            halfWidthM: 4000,
+          },
+        ],
+        rivers: [
+          {
+            name: 'valley river',
+            courseM: [km(0, -30), km(0, 30)],
+            mouthFloorM: 150,
+            floorGradient: 0.004,
+            floorHalfWidthM: 150,
+          },
+        ],
+        summits: [],
+      };
+    case 'summit':
+      // A pointed summit on a short ridge above rolling hills.
+      return {
+        ...common,
+        coast: null,
+        lowlandRiseM: 300,
+        hillsM: 300,
+        ranges: [{ name: 'ridge', axisM: [km(-9, -7), km(0, 0), km(9, 7)], crestM: 700, halfWidthM: 3500 }],
+        rivers: [],
+        summits: [{ name: 'summit', xM: 0, yM: 0, reliefM: 1000, radiusM: 5000 }],
+      };
+    case 'coast':
+      // Sea to the west, a shore running north-south through the origin, hills and a ridge inland.
+      return {
+        ...common,
+        coast: {
+          xM: 0,
+          yM: 0,
+          inlandAzimuthDeg: 90,
+          curvaturePerM: 0,
+          roughnessM: 5000,
+          roughnessScaleM: 9000,
+          shoreRampM: 400,
+        },
+        lowlandRiseM: 450,
+        hillsM: 280,
+        ranges: [
+          { name: 'coast ridge', axisM: [km(7, -20), km(7.5, 0), km(7, 20)], crestM: 900, halfWidthM: 3500 },
+        ],
+        rivers: [],
+        summits: [],
+      };
+  }
+}
+
+/**
+ * Small generated DEMs for accuracy tests, in a local plane (use `fillProjected`, centred on the
+ * antenna if wanted): an antenna position on the valley floor, on the summit (the highest point near the
+ * summit's centre), or on the coast (just inland of the shoreline). Different seeds give different
+ * terrain around the same arrangement.
+ */
+export function testWorld(
+  seed: number,
+  scenario: TestScenario,
+): { world: SynthWorld; antenna: { xM: number; yM: number } } {
+  if (scenario !== 'valley' && scenario !== 'summit' && scenario !== 'coast') {
+    throw new InputError('testWorld: scenario', JSON.stringify(scenario), "'valley', 'summit' or 'coast'");
+  }
+  const world = createSynthWorld(testLayout(seed, scenario));
+  const h = (x: number, y: number): number => synthHeightM(x, y, world);
+  let ax = 0;
+  let ay = 0;
+  if (scenario === 'valley') {
+    // lowest point across the valley on the east-west line through the origin
+    let best = Infinity;
+    for (let x = -2500; x <= 2500; x += 10) {
+      const z = h(x, 0);
+      if (z < best) {
+        best = z;
+        ax = x;
+      }
+    }
+  } else if (scenario === 'summit') {
+    // highest point within 1.5 km of the summit's centre: coarse grid, then two refinements
+    let best = -Infinity;
+    let cx = 0;
+    let cy = 0;
+    for (const [span, step] of [
+      [1500, 50],
+      [60, 5],
+      [6, 0.5],
+    ]) {
+      const x0 = cx;
+      const y0 = cy;
+      for (let y = y0 - span; y <= y0 + span; y += step) {
+        for (let x = x0 - span; x <= x0 + span; x += step) {
+          if (x * x + y * y > 1500 * 1500) continue;
+          const z = h(x, y);
+          if (z > best) {
+            best = z;
+            cx = x;
+            cy = y;
+          }
+        }
+      }
+    }
+    ax = cx;
+    ay = cy;
+  } else {
+    // walk east along y = 0 from 6 km out at sea to the first land, then 150 m further inland
+    let x = -6000;
+    while (x < 6000 && h(x, 0) === 0) x += 10;
+    ax = x + 150;
+  }
+  return { world, antenna: { xM: ax, yM: ay } };
+}

@@ -1,0 +1,326 @@
+/**
+ * `airshade floor` as a user meets it: a run on a generated tile (negative coordinates in both spellings),
+ * the GeoTIFF it writes read back with geotiff.js, the worker pool giving the same bytes as the inline path,
+ * and one test per bad input: each ends with one message naming the file or argument, what was found and what
+ * was expected, and a non-zero exit status, without a stack trace.
+ */
+import { afterAll, beforeAll, describe, expect, it, vi } from 'vitest';
+import { mkdtempSync, readFileSync, rmSync, writeFileSync } from 'node:fs';
+import { tmpdir } from 'node:os';
+import { join } from 'node:path';
+import { execFileSync, spawnSync } from 'node:child_process';
+import { fromArrayBuffer } from 'geotiff';
+import { main } from '../worker/cli.ts';
+import { encodeGeoTiff } from '../worker/io/geotiff-write.ts';
+import { WGS84_GEOGRAPHIC, type GridGeo } from '../worker/core/grid.ts';
+import { corruptIfdOffset, encodeTiff, truncate } from './support/tiff-encoder.ts';
+import { bumpyDem } from './support/bumps.ts';
+
+let dir: string;
+let dem: string;
+const W = 121;
+// A 0.1° tile of invented hills over the open South Atlantic (3″ cells).
+const geo: GridGeo = {
+  width: W,
+  height: W,
+  originX: -29.55,
+  originY: -41.45,
+  pixelX: 0.1 / W,
+  pixelY: -0.1 / W,
+  crs: WGS84_GEOGRAPHIC,
+};
+
+beforeAll(() => {
+  dir = mkdtempSync(join(tmpdir(), 'airshade-cli-'));
+  dem = join(dir, 'hills.tif');
+  writeFileSync(dem, new Uint8Array(encodeGeoTiff({ geo, data: bumpyDem(3, W, W) })));
+});
+afterAll(() => rmSync(dir, { recursive: true, force: true }));
+
+async function run(...argv: string[]): Promise<{ code: number; out: string; err: string }> {
+  let out = '';
+  let err = '';
+  const o = vi.spyOn(process.stdout, 'write').mockImplementation((s) => ((out += String(s)), true));
+  const e = vi.spyOn(process.stderr, 'write').mockImplementation((s) => ((err += String(s)), true));
+  try {
+    const code = await main(argv);
+    return { code, out, err };
+  } finally {
+    o.mockRestore();
+    e.mockRestore();
+  }
+}
+
+const SITE = '-29.5,-41.5';
+
+describe('airshade floor', () => {
+  it('runs with --site VALUE and --site=VALUE alike and writes a GeoTIFF geotiff.js reads back', async () => {
+    const a = join(dir, 'a.tif');
+    const b = join(dir, 'b.tif');
+    const r1 = await run(
+      'floor',
+      '--dem',
+      dem,
+      '--site',
+      SITE,
+      '--mast-m',
+      '20',
+      '--out',
+      a,
+      '--threads',
+      '0',
+    );
+    const r2 = await run('floor', '--dem', dem, `--site=${SITE}`, '--mast-m=20', `--out=${b}`, '--threads=0');
+    expect(r1.code).toBe(0);
+    expect(r2.code).toBe(0);
+    expect(r1.out).toMatch(/floor written to/);
+    expect(readFileSync(a).equals(readFileSync(b))).toBe(true);
+    const buf = readFileSync(a);
+    const tiff = await fromArrayBuffer(buf.buffer.slice(buf.byteOffset, buf.byteOffset + buf.byteLength));
+    const img = await tiff.getImage();
+    expect(img.getWidth()).toBe(W);
+    expect(img.getHeight()).toBe(W);
+    expect(img.getBitsPerSample()).toBe(32);
+    expect(img.getSampleFormat()).toBe(3); // IEEE float
+    expect(img.getGDALNoData()).toBeNaN();
+    const [ox, oy] = img.getOrigin();
+    expect(ox).toBeCloseTo(geo.originX, 10);
+    expect(oy).toBeCloseTo(geo.originY, 10);
+    const [floor] = (await img.readRasters()) as unknown as Float32Array[];
+    const ground = bumpyDem(3, W, W);
+    let valued = 0;
+    for (let i = 0; i < floor.length; i++) {
+      if (floor[i] === floor[i]) {
+        valued++;
+        expect(floor[i]).toBeGreaterThanOrEqual(ground[i] - 1e-3);
+      }
+    }
+    expect(valued).toBe(W * W);
+  });
+
+  it('the worker pool (a real process, two threads) writes exactly what the inline path writes', async () => {
+    const inline = join(dir, 'inline.tif');
+    const pooled = join(dir, 'pooled.tif');
+    await run('floor', '--dem', dem, '--site', SITE, '--mast-m', '12', '--out', inline, '--threads', '0');
+    const bin = join(import.meta.dirname, '..', 'bin', 'airshade.mjs');
+    execFileSync(process.execPath, [
+      bin,
+      'floor',
+      '--dem',
+      dem,
+      '--site',
+      SITE,
+      '--mast-m',
+      '12',
+      '--out',
+      pooled,
+      '--threads',
+      '2',
+      '--quiet',
+    ]);
+    expect(readFileSync(inline).equals(readFileSync(pooled))).toBe(true);
+  });
+
+  it('--help prints the usage and exits 0', async () => {
+    const r = await run('floor', '--help');
+    expect(r.code).toBe(0);
+    expect(r.out).toMatch(/Usage:\n {2}airshade floor --dem/);
+  });
+
+  it('a bad input in a real process prints one line and no stack trace', () => {
+    const bin = join(import.meta.dirname, '..', 'bin', 'airshade.mjs');
+    const r = spawnSync(
+      process.execPath,
+      [
+        bin,
+        'floor',
+        '--dem',
+        join(dir, 'missing.tif'),
+        '--site',
+        SITE,
+        '--mast-m',
+        '20',
+        '--out',
+        join(dir, 'x.tif'),
+      ],
+      { encoding: 'utf8' },
+    );
+    expect(r.status).not.toBe(0);
+    expect(r.stderr.trim().split('\n')).toHaveLength(1);
+    expect(r.stderr).toMatch(/missing\.tif: found no such file; expected a GeoTIFF elevation tile/);
+    expect(r.stderr).not.toMatch(/at .*\.ts:\d+/);
+  });
+});
+
+describe('airshade floor: bad input, one message each', () => {
+  const bad = (name: string, bytes: ArrayBuffer | string) => {
+    const p = join(dir, name);
+    writeFileSync(p, typeof bytes === 'string' ? bytes : new Uint8Array(bytes));
+    return p;
+  };
+  const good = () =>
+    encodeTiff({
+      width: 8,
+      height: 8,
+      values: new Array(64).fill(100),
+      sampleType: 'int16',
+      georef: { x0: -29.6, y0: -41.4, dx: 0.01, dy: 0.01 },
+    });
+  const floorWith = (demPath: string, ...extra: string[]) =>
+    run(
+      'floor',
+      '--dem',
+      demPath,
+      '--site',
+      SITE,
+      '--mast-m',
+      '20',
+      '--out',
+      join(dir, 'o.tif'),
+      '--threads',
+      '0',
+      ...extra,
+    );
+
+  const expectMessage = (r: { code: number; err: string }, re: RegExp) => {
+    expect(r.code).not.toBe(0);
+    expect(r.err.trim().split('\n')).toHaveLength(1);
+    expect(r.err).toMatch(re);
+  };
+
+  it('a corrupt GeoTIFF', async () => {
+    expectMessage(
+      await floorWith(bad('corrupt.tif', corruptIfdOffset(good()))),
+      /corrupt\.tif: found a truncated or corrupt TIFF .*; expected a complete, readable GeoTIFF/,
+    );
+  });
+  it('a truncated GeoTIFF', async () => {
+    expectMessage(
+      await floorWith(bad('short.tif', truncate(encodeGeoTiff({ geo, data: bumpyDem(3, W, W) }), 5000))),
+      /short\.tif: found .*(truncated|ends|short|cut).*; expected/i,
+    );
+  });
+  it('a file that is not a GeoTIFF', async () => {
+    expectMessage(
+      await floorWith(bad('notes.tif', 'these are my notes, not a raster')),
+      /notes\.tif: found a file that is not a TIFF.*; expected a GeoTIFF/,
+    );
+  });
+  it('a TIFF without georeferencing', async () => {
+    const plain = encodeTiff({
+      width: 8,
+      height: 8,
+      values: new Array(64).fill(1),
+      sampleType: 'int16',
+      crs: 'none',
+    });
+    expectMessage(
+      await floorWith(bad('scan.tif', plain)),
+      /scan\.tif: found a TIFF without georeferencing .*; expected a GeoTIFF that places the raster on the earth/,
+    );
+  });
+  it('an unsupported CRS', async () => {
+    const t = encodeTiff({
+      width: 8,
+      height: 8,
+      values: new Array(64).fill(1),
+      sampleType: 'int16',
+      georef: { x0: 500000, y0: 5500000, dx: 30, dy: 30 },
+      crs: { kind: 'projected', epsg: 12345 },
+    });
+    expectMessage(
+      await floorWith(bad('code.tif', t)),
+      /code\.tif: found projected CRS EPSG:12345 with an unknown CRS code 12345; expected EPSG:4326/,
+    );
+  });
+  it('an unsupported sample format', async () => {
+    const rgb = encodeTiff({
+      width: 8,
+      height: 8,
+      values: new Array(192).fill(7),
+      sampleType: 'uint8',
+      samplesPerPixel: 3,
+      photometric: 2,
+      georef: { x0: -29.6, y0: -41.4, dx: 0.01, dy: 0.01 },
+    });
+    expectMessage(
+      await floorWith(bad('rgb.tif', rgb)),
+      /rgb\.tif: found 3 bands of 8-bit unsigned integers; expected one band of 16- or 32-bit/,
+    );
+  });
+  it('a missing file', async () => {
+    expectMessage(
+      await floorWith(join(dir, 'nowhere.tif')),
+      /nowhere\.tif: found no such file; expected a GeoTIFF elevation tile/,
+    );
+  });
+  it('a site outside every tile', async () => {
+    const r = await run(
+      'floor',
+      '--dem',
+      dem,
+      '--site',
+      '-10,-41.5',
+      '--mast-m',
+      '20',
+      '--out',
+      join(dir, 'o.tif'),
+      '--threads',
+      '0',
+    );
+    expectMessage(r, /--site: found -10,-41\.5; expected a site inside the loaded terrain tiles/);
+  });
+  it('a site that is not LON,LAT', async () => {
+    expectMessage(
+      await floorWith(dem, '--site', 'north'),
+      /--site: found the option given twice; expected it once|--site: found "north"/,
+    );
+  });
+  it('a negative antenna height', async () => {
+    const r = await run('floor', '--dem', dem, '--site', SITE, '--mast-m', '-5', '--out', join(dir, 'o.tif'));
+    expectMessage(r, /--mast-m: found -5; expected an antenna height above ground from 0 to 1000 m/);
+  });
+  it('an absurd antenna height', async () => {
+    const r = await run(
+      'floor',
+      '--dem',
+      dem,
+      '--site',
+      SITE,
+      '--mast-m',
+      '25000',
+      '--out',
+      join(dir, 'o.tif'),
+    );
+    expectMessage(r, /--mast-m: found 25000; expected an antenna height above ground from 0 to 1000 m/);
+  });
+  it.each(['0', '-1.3333'])('k = %s', async (k) => {
+    const r = await run(
+      'floor',
+      '--dem',
+      dem,
+      '--site',
+      SITE,
+      '--mast-m',
+      '20',
+      '--k',
+      k,
+      '--out',
+      join(dir, 'o.tif'),
+    );
+    expectMessage(
+      r,
+      new RegExp(`--k: found ${k.replace('.', '\\.')}; expected an effective-earth factor k > 0`),
+    );
+  });
+  it('an unknown option', async () => {
+    expectMessage(
+      await floorWith(dem, '--mast', '20'),
+      /airshade floor: found unknown option --mast; expected one of --dem, --site/,
+    );
+  });
+  it('no --out', async () => {
+    const r = await run('floor', '--dem', dem, '--site', SITE, '--mast-m', '20');
+    expectMessage(r, /--out: found nothing \(the option is missing\); expected the output GeoTIFF path/);
+  });
+});

@@ -1,0 +1,139 @@
+/** Invariants of the horizon engine, checked with fast-check on seeded random landscapes. */
+import { describe, expect, it } from 'vitest';
+import fc from 'fast-check';
+import { computeFloor, inlineExecutor } from '../worker/core/floor.ts';
+import { computeHorizon } from '../worker/core/horizon.ts';
+import { Terrain } from '../worker/core/terrain.ts';
+import { bumpyDem } from './support/bumps.ts';
+import { cellLonLat, metricGeo, metricTerrain } from './support/dem.ts';
+
+const N = 61; // odd: the antenna sits on the centre cell, on the grid's central meridian
+const PIXEL_M = 90;
+const C = (N - 1) / 2;
+
+async function floorOf(data: Float32Array, mastM: number, terrain = metricTerrain(data, N, N, PIXEL_M)) {
+  const geo = metricGeo(N, N, PIXEL_M);
+  const site = cellLonLat(geo, C, C);
+  return (await computeFloor(terrain, { ...site, mastM }, geo, data, inlineExecutor(terrain))).floor;
+}
+
+const seeds = fc.integer({ min: 1, max: 2 ** 31 - 1 });
+
+describe('horizon engine invariants', () => {
+  it('the screening angle never decreases outward along a radial', () => {
+    fc.assert(
+      fc.property(seeds, fc.double({ min: 0, max: 80, noNaN: true }), (seed, mastM) => {
+        const data = bumpyDem(seed, N, N);
+        const terrain = metricTerrain(data, N, N, PIXEL_M);
+        const site = cellLonLat(terrain.geo, C, C);
+        const h = computeHorizon(terrain, { ...site, mastM, maxRangeM: (N / 2) * PIXEL_M * 1.5 });
+        for (const lv of h.layout.levels) {
+          const row = lv.jEnd - lv.jStart + 1;
+          for (let i = 0; i < lv.azimuthCount; i++) {
+            for (let j = 1; j < row; j++) {
+              const a = h.tan[lv.offset + i * row + j - 1];
+              const b = h.tan[lv.offset + i * row + j];
+              if (a === a && b === b && b < a) return false;
+            }
+          }
+        }
+        return true;
+      }),
+      { numRuns: 15, seed: 11 },
+    );
+  });
+
+  it('raising the antenna never raises the floor', async () => {
+    await fc.assert(
+      fc.asyncProperty(
+        seeds,
+        fc.double({ min: 0, max: 50, noNaN: true }),
+        fc.double({ min: 0.5, max: 100, noNaN: true }),
+        async (seed, low, extra) => {
+          const data = bumpyDem(seed, N, N);
+          const a = await floorOf(data, low);
+          const b = await floorOf(data, low + extra);
+          for (let i = 0; i < a.length; i++) if (b[i] > a[i] + 1e-3 + 1e-6 * Math.abs(a[i])) return false;
+          return true;
+        },
+      ),
+      { numRuns: 15, seed: 12 },
+    );
+  });
+
+  it('mirrored terrain gives a mirrored floor', async () => {
+    await fc.assert(
+      fc.asyncProperty(seeds, async (seed) => {
+        const data = bumpyDem(seed, N, N);
+        const mirrored = new Float32Array(N * N);
+        for (let r = 0; r < N; r++)
+          for (let c = 0; c < N; c++) mirrored[r * N + c] = data[r * N + (N - 1 - c)];
+        const a = await floorOf(data, 20);
+        const b = await floorOf(mirrored, 20);
+        for (let r = 0; r < N; r++) {
+          for (let c = 0; c < N; c++) {
+            const x = a[r * N + c];
+            const y = b[r * N + (N - 1 - c)];
+            if (Math.abs(x - y) > 0.01 + 1e-5 * Math.abs(x)) return false;
+          }
+        }
+        return true;
+      }),
+      { numRuns: 15, seed: 13 },
+    );
+  });
+
+  it('adding a tile that only repeats known terrain changes nothing', async () => {
+    await fc.assert(
+      fc.asyncProperty(
+        seeds,
+        fc.integer({ min: 0, max: N - 10 }),
+        fc.integer({ min: 0, max: N - 10 }),
+        async (seed, c0, r0) => {
+          const data = bumpyDem(seed, N, N);
+          const geo = metricGeo(N, N, PIXEL_M);
+          // A second tile: a window of the first, on the same lattice.
+          const w = 10;
+          const sub = new Float32Array(w * w);
+          for (let r = 0; r < w; r++)
+            for (let c = 0; c < w; c++) sub[r * w + c] = data[(r + r0) * N + c + c0];
+          const subGeo = {
+            ...geo,
+            width: w,
+            height: w,
+            originX: geo.originX + c0 * PIXEL_M,
+            originY: geo.originY - r0 * PIXEL_M,
+          };
+          const one = Terrain.fromTiles([{ name: 'a', geo, data, voidsFilled: 0, warnings: [] }]);
+          const two = Terrain.fromTiles([
+            { name: 'a', geo, data, voidsFilled: 0, warnings: [] },
+            { name: 'b', geo: subGeo, data: sub, voidsFilled: 0, warnings: [] },
+          ]);
+          const a = await floorOf(data, 20, one);
+          const b = await floorOf(data, 20, two);
+          return a.every((v, i) => Object.is(v, b[i]));
+        },
+      ),
+      { numRuns: 10, seed: 14 },
+    );
+  });
+});
+
+describe('unknown terrain', () => {
+  it('a sight line crossing terrain no tile covers is reported unknown, never treated as sea level', async () => {
+    const data = bumpyDem(5, N, N);
+    // A hole in the mosaic: a band of columns east of the antenna with no tile.
+    const holed = data.slice();
+    for (let r = 0; r < N; r++) for (let c = C + 8; c < C + 12; c++) holed[r * N + c] = NaN;
+    const terrain = metricTerrain(holed, N, N, PIXEL_M);
+    const geo = metricGeo(N, N, PIXEL_M);
+    const site = cellLonLat(geo, C, C);
+    const res = await computeFloor(terrain, { ...site, mastM: 20 }, geo, holed, inlineExecutor(terrain));
+    // Straight east, beyond the hole: unknown.
+    expect(res.floor[C * N + C + 20]).toBeNaN();
+    // West of the antenna: known.
+    expect(res.floor[C * N + C - 20]).not.toBeNaN();
+    expect(res.stats.unknown).toBeGreaterThan(0);
+    expect(res.stats.valued + res.stats.unknown + res.stats.beyondRange).toBe(N * N);
+  });
+});
