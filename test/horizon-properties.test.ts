@@ -137,3 +137,36 @@ describe('unknown terrain', () => {
     expect(res.stats.valued + res.stats.unknown + res.stats.beyondRange).toBe(N * N);
   });
 });
+
+describe('horizon cache', () => {
+  it('same inputs reuse the horizon; any changed input recomputes it', async () => {
+    const { HorizonCache } = await import('../worker/core/horizon-cache.ts');
+    const data = bumpyDem(9, N, N);
+    const terrain = metricTerrain(data, N, N, PIXEL_M);
+    const geo = metricGeo(N, N, PIXEL_M);
+    const site = cellLonLat(geo, C, C);
+    const inline = inlineExecutor(terrain);
+    let sweeps = 0;
+    const counting = {
+      ...inline,
+      sweep: (...a: Parameters<typeof inline.sweep>) => (sweeps++, inline.sweep(...a)),
+    };
+    const cache = new HorizonCache();
+    const a = await computeFloor(terrain, { ...site, mastM: 20 }, geo, data, counting, undefined, cache);
+    const b = await computeFloor(terrain, { ...site, mastM: 20 }, geo, data, counting, undefined, cache);
+    expect(sweeps).toBe(1);
+    expect(b.horizon).toBe(a.horizon);
+    expect(b.floor).toEqual(a.floor);
+    await computeFloor(terrain, { ...site, mastM: 21 }, geo, data, counting, undefined, cache);
+    await computeFloor(terrain, { ...site, mastM: 20, kFactor: 1 }, geo, data, counting, undefined, cache);
+    const other = metricTerrain(data.slice(), N, N, PIXEL_M);
+    await computeFloor(other, { ...site, mastM: 20 }, geo, data, inlineExecutor(other), undefined, cache);
+    expect(sweeps).toBe(3);
+    // A tiny budget keeps only the newest entry.
+    const small = new HorizonCache(1);
+    await computeFloor(terrain, { ...site, mastM: 20 }, geo, data, counting, undefined, small);
+    await computeFloor(terrain, { ...site, mastM: 22 }, geo, data, counting, undefined, small);
+    await computeFloor(terrain, { ...site, mastM: 20 }, geo, data, counting, undefined, small);
+    expect(sweeps).toBe(6);
+  });
+});

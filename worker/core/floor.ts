@@ -7,6 +7,7 @@
  * them here (tests); the Node CLI and the browser pass executors over worker pools with the same interface.
  */
 import type { GridGeo } from './grid.ts';
+import type { HorizonCache } from './horizon-cache.ts';
 import { gridMapper } from './grid.ts';
 import { VectorMap, type VectorMapParts } from './geodesy.ts';
 import {
@@ -91,25 +92,36 @@ export async function computeFloor(
   ground: Float32Array | null,
   exec: Executor,
   onProgress?: Progress,
+  cache?: HorizonCache,
 ): Promise<FloorResult> {
   const mapper = gridMapper(outGeo);
   onProgress?.(0, 'geodesics');
   const vmap = VectorMap.build(req.lon, req.lat, outGeo.width, outGeo.height, mapper);
   const maxRangeM =
     req.maxRangeM ?? vmap.maxDistanceM() + 2 * vmap.block * Math.max(1, pixelSizeM(terrain, req));
-  const layout = planHorizon(terrain, { ...req, maxRangeM });
-  const tan = allocateTan(layout, exec.shared);
+  const spec: HorizonSpec = { ...req, maxRangeM };
   const n = Math.max(1, exec.size);
-  let done = 0;
-  const step = (stage: string, total: number) => () => onProgress?.(++done / total, stage);
   // More pieces than workers so progress moves and uneven sectors balance out.
   const pieces = n === 1 ? 1 : n * 4;
-  const sweepDone = step('terrain sweep', pieces * 2);
-  await Promise.all(
-    Array.from({ length: pieces }, (_, i) =>
-      exec.sweep(layout, tan, i / pieces, (i + 1) / pieces).then(sweepDone),
-    ),
-  );
+  let done = 0;
+  const tick = (stage: string) => () => onProgress?.(++done / (pieces * 2), stage);
+  let horizon = cache?.get(terrain, spec);
+  if (horizon) {
+    done = pieces;
+  } else {
+    const layout = planHorizon(terrain, spec);
+    const tan = allocateTan(layout, exec.shared);
+    const swept = tick('terrain sweep');
+    await Promise.all(
+      Array.from({ length: pieces }, (_, i) =>
+        exec.sweep(layout, tan, i / pieces, (i + 1) / pieces).then(swept),
+      ),
+    );
+    horizon = { layout, tan };
+    cache?.set(terrain, spec, horizon);
+  }
+  const { layout, tan } = horizon;
+  const resampled = tick('resampling');
   const cells = outGeo.width * outGeo.height;
   const out = new Float32Array(exec.shared ? new SharedArrayBuffer(cells * 4) : new ArrayBuffer(cells * 4));
   const rowsPer = Math.ceil(outGeo.height / pieces);
@@ -118,7 +130,7 @@ export async function computeFloor(
       exec
         .resample(layout, tan, vmap, out, ground, i * rowsPer, Math.min(outGeo.height, (i + 1) * rowsPer))
         .then((c) => {
-          sweepDone();
+          resampled();
           return c;
         }),
     ),
@@ -127,7 +139,7 @@ export async function computeFloor(
   const unknown = counts.reduce((a, c) => a + c.unknown, 0);
   return {
     floor: out,
-    horizon: { layout, tan },
+    horizon,
     stats: {
       cells,
       valued: cells - beyond - unknown,

@@ -66,6 +66,17 @@ export interface HorizonLayout {
   readonly antennaAltM: number;
   readonly maxRangeM: number;
   readonly rangeStepM: number;
+  /**
+   * Nearest range that can screen: terrain closer than one pixel lies on the antenna's own cell (the ground the
+   * mast stands on), which a cell-based terrain model does not let rise between the antenna and its neighbours.
+   */
+  readonly firstScreenM: number;
+  /**
+   * Out to this range the terrain is sampled NEAR_SUBSTEPS times more finely than rangeStepM: close to the
+   * antenna a small height error is a large angle error, and the steepest point of a slope often sits on a
+   * grid line between two samples.
+   */
+  readonly nearFieldM: number;
   /** Samples j = 0 … rangeCount − 1 at range j · rangeStepM. */
   readonly rangeCount: number;
   readonly levels: readonly HorizonLevel[];
@@ -80,6 +91,9 @@ export interface Horizon {
 }
 
 const NOTHING = -1e9;
+/** Near field: this many terrain pixels from the antenna, sampled NEAR_SUBSTEPS times per range step. */
+const NEAR_FIELD_PIXELS = 16;
+const NEAR_SUBSTEPS = 8;
 /** Floors above this are written as this value: no aircraft flies there, and Float32 stays finite. */
 export const FLOOR_CAP_M = 100_000;
 
@@ -141,6 +155,8 @@ export function planHorizon(terrain: TerrainRaster, spec: HorizonSpec): HorizonL
     antennaAltM: groundM + spec.mastM,
     maxRangeM: spec.maxRangeM,
     rangeStepM,
+    firstScreenM: pixelM,
+    nearFieldM: NEAR_FIELD_PIXELS * pixelM,
     rangeCount,
     levels,
     totalSamples: offset,
@@ -157,6 +173,8 @@ export function allocateTan(layout: HorizonLayout, shared = false): Float32Array
 interface RangeTables {
   cos: Float64Array;
   sin: Float64Array;
+  jNear: number;
+  jFirst: number;
 }
 
 function rangeTables(layout: HorizonLayout): RangeTables {
@@ -164,6 +182,8 @@ function rangeTables(layout: HorizonLayout): RangeTables {
   const t: RangeTables = {
     cos: new Float64Array(n),
     sin: new Float64Array(n),
+    jFirst: Math.max(1, Math.ceil(layout.firstScreenM / layout.rangeStepM)),
+    jNear: Math.min(layout.rangeCount - 1, Math.ceil(layout.nearFieldM / layout.rangeStepM)),
   };
   for (let j = 0; j < n; j++) {
     const s = j * layout.rangeStepM;
@@ -171,6 +191,74 @@ function rangeTables(layout: HorizonLayout): RangeTables {
     t.sin[j] = Math.sin(s / layout.reM);
   }
   return t;
+}
+
+/**
+ * The near field of one radial, [jStart, jEnd) with jEnd ≤ rt.jNear: like sweepRadial, but each range step is
+ * cut into NEAR_SUBSTEPS samples and positions come straight from the knot formula (a few hundred samples per
+ * radial, so clarity over speed here).
+ */
+function nearField(
+  data: Float32Array,
+  W: number,
+  H: number,
+  fan: RadialFan,
+  knots: Float64Array,
+  rt: RangeTables,
+  ds: number,
+  re: number,
+  rha: number,
+  T: number,
+  dst: Float32Array,
+  base: number,
+  jStart: number,
+  jEnd: number,
+): number {
+  const firstM = rt.jFirst * ds;
+  const sub = ds / NEAR_SUBSTEPS;
+  const lastKnot = fan.rangeKnotCount - 2;
+  for (let j = jStart; j < jEnd; j++) {
+    dst[base + j] = T;
+    if (T !== T) continue;
+    for (let k = 0; k < NEAR_SUBSTEPS; k++) {
+      const s = j * ds + k * sub;
+      if (s < firstM) continue;
+      const m = Math.min(Math.floor(s / fan.rangeKnotM), lastKnot);
+      const f = (s - m * fan.rangeKnotM) / fan.rangeKnotM;
+      const x = fan.x0 + s * (knots[m * 2] * (1 - f) + knots[m * 2 + 2] * f);
+      const y = fan.y0 + s * (knots[m * 2 + 1] * (1 - f) + knots[m * 2 + 3] * f);
+      const z = bilinearAt(data, W, H, x, y);
+      if (z !== z) {
+        T = NaN;
+        break;
+      }
+      const rz = re + z;
+      const t = (rz * Math.cos(s / re) - rha) / (rz * Math.sin(s / re));
+      if (t > T) T = t;
+    }
+  }
+  return T;
+}
+
+/** Bilinear terrain at continuous pixel coordinates; the same rule as the sweep's inline copy. */
+function bilinearAt(data: Float32Array, W: number, H: number, x: number, y: number): number {
+  if (x < 0 || y < 0 || x > W || y > H) return NaN;
+  let gx = x - 0.5;
+  let gy = y - 0.5;
+  if (gx < 0) gx = 0;
+  else if (gx > W - 1) gx = W - 1;
+  if (gy < 0) gy = 0;
+  else if (gy > H - 1) gy = H - 1;
+  let ix = gx | 0;
+  let iy = gy | 0;
+  if (ix > W - 2) ix = W - 2;
+  if (iy > H - 2) iy = H - 2;
+  const fx = gx - ix;
+  const fy = gy - iy;
+  const i = iy * W + ix;
+  const top = data[i] + (data[i + 1] - data[i]) * fx;
+  const bot = data[i + W] + (data[i + W + 1] - data[i + W]) * fx;
+  return top + (bot - top) * fy;
 }
 
 /**
@@ -200,11 +288,17 @@ function sweepRadial(
 ): number {
   const cos = rt.cos;
   const sin = rt.sin;
+  const jFirst = rt.jFirst;
   const x0 = fan.x0;
   const y0 = fan.y0;
   const knotM = fan.rangeKnotM;
   const lastKnot = fan.rangeKnotCount - 2;
   let j = jStart;
+  if (j < rt.jNear && trace === null) {
+    const jn = Math.min(rt.jNear, jEnd);
+    T = nearField(data, W, H, fan, knots, rt, ds, re, rha, T, dst, base, j, jn);
+    j = jn;
+  }
   while (j < jEnd) {
     // Segment of range knots [m, m + 1] containing sample j, and its last sample.
     const sj = j * ds;
@@ -234,7 +328,7 @@ function sweepRadial(
         trace[j * 2] = x;
         trace[j * 2 + 1] = y;
       }
-      if (j === 0 || T !== T) continue; // the antenna itself; unknown stays unknown
+      if (j < jFirst || T !== T) continue; // the antenna's own cell; unknown stays unknown
       if (x < 0 || y < 0 || x > W || y > H) {
         T = NaN;
         continue;
