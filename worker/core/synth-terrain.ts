@@ -533,16 +533,6 @@ function coastInland(c: Float64Array, wx: number, wy: number, coastLow: number):
   return rx * c[4] + ry * c[5] + 0.5 * c[6] * along * along + c[7] * coastLow;
 }
 
-// The per-cell kernel takes its doubles through this scratch array rather than parameters and return
-// values: a double passed to or returned from a call that V8 does not inline is boxed (a heap
-// allocation per cell), which made the generator several times slower.
-const R = new Float64Array(5);
-const R_X = 0;
-const R_Y = 1;
-/** Fractional position of (R_X, R_Y) inside its lattice cell. */
-const R_FX = 2;
-const R_FY = 3;
-const R_HEIGHT = 4;
 /** Per-cell octave values (unweighted), by channel. */
 const NV = new Float64Array(N_CHANNELS);
 
@@ -565,75 +555,195 @@ export function synthHeightM(xM: number, yM: number, world: SynthWorld): number 
     cache.i = i;
     cache.j = j;
   }
-  R[R_X] = xM;
-  R[R_Y] = yM;
-  R[R_FX] = xM / t.latticeM - i;
-  R[R_FY] = yM / t.latticeM - j;
-  heightKernel(t, cache.nodes, 0, 2 * NODE_FIELDS);
-  return R[R_HEIGHT];
+  cache.xs[0] = xM;
+  cache.fxs[0] = xM / t.latticeM - i;
+  heightRow(
+    t,
+    cache.nodes,
+    2 * NODE_FIELDS,
+    cache.offsets,
+    cache.xs,
+    cache.fxs,
+    yM,
+    yM / t.latticeM - j,
+    cache.out,
+    0,
+    1,
+  );
+  return cache.out[0];
 }
 
-/** The four nodes of the last lattice cell a single point was asked in (neighbouring queries reuse them). */
-const pointCache: { tables: SynthTables | null; i: number; j: number; nodes: Float64Array } = {
-  tables: null,
+/**
+ * The four nodes of the last lattice cell a single point was asked in (neighbouring queries reuse
+ * them), and one-cell arguments for heightRow.
+ */
+const pointCache = {
+  tables: null as SynthTables | null,
   i: 0,
   j: 0,
   nodes: new Float64Array(4 * NODE_FIELDS),
+  offsets: new Int32Array(1),
+  xs: new Float64Array(1),
+  fxs: new Float64Array(1),
+  out: new Float32Array(1),
 };
 
 /**
- * The height function proper at (R[R_X], R[R_Y]), whose lattice cell has its south-west node at
- * nodes[o00] (east neighbour at + NODE_FIELDS, north neighbour at + strideJ); result in R[R_HEIGHT].
- * Written out in one piece (no calls but Math) for speed.
+ * The height function proper, for `count` cells of one row at y = yM: cell k lies at x = xs[k], in the
+ * lattice cell whose south-west node is at nodes[offsets[k]] (east neighbour + NODE_FIELDS, north
+ * neighbour + strideJ), at fractions (fxs[k], fy) inside it; heights go to out[outStart + k].
+ * Written out in one piece (no calls but Math) for speed: a double passed to or returned from a call
+ * that V8 does not inline is boxed, a heap allocation per cell.
  */
-function heightKernel(t: SynthTables, nodes: Float64Array, o00: number, strideJ: number): void {
-  const xM = R[R_X];
-  const yM = R[R_Y];
-  const fx = R[R_FX];
-  const fy = R[R_FY];
-  const o10 = o00 + NODE_FIELDS;
-  const o01 = o00 + strideJ;
-  const o11 = o01 + NODE_FIELDS;
-
-  // Domain warp (bilinear between lattice nodes): every feature but the summits is laid out in
-  // warped coordinates.
-  let s = nodes[o00] + fx * (nodes[o10] - nodes[o00]);
-  let n = nodes[o01] + fx * (nodes[o11] - nodes[o01]);
-  const wx = xM + (s + fy * (n - s));
-  s = nodes[o00 + 1] + fx * (nodes[o10 + 1] - nodes[o00 + 1]);
-  n = nodes[o01 + 1] + fx * (nodes[o11 + 1] - nodes[o01 + 1]);
-  const wy = yM + (s + fy * (n - s));
-
+function heightRow(
+  t: SynthTables,
+  nodes: Float64Array,
+  strideJ: number,
+  offsets: Int32Array,
+  xs: Float64Array,
+  fxs: Float64Array,
+  yM: number,
+  fy: number,
+  out: Float32Array,
+  outStart: number,
+  count: number,
+): void {
   const ch = t.channels;
   const perm = t.perm;
   const gx = t.gradX;
   const gy = t.gradY;
+  const segs = t.segs;
+  const rd = t.rangeData;
+  const sd = t.summitData;
+  const vd = t.riverData;
+  cells: for (let cell = 0; cell < count; cell++) {
+    const xM = xs[cell];
+    const fx = fxs[cell];
+    const o00 = offsets[cell];
+    const o10 = o00 + NODE_FIELDS;
+    const o01 = o00 + strideJ;
+    const o11 = o01 + NODE_FIELDS;
 
-  // Coast: a signed inland distance-like value; sea where it is not positive. The finest coastline
-  // octave is evaluated here, fading out away from the shore where it could not change the sign.
-  let shore = 1;
-  if (t.hasCoast) {
-    const c = t.coast;
-    s = nodes[o00 + 2] + fx * (nodes[o10 + 2] - nodes[o00 + 2]);
-    n = nodes[o01 + 2] + fx * (nodes[o11 + 2] - nodes[o01 + 2]);
-    const coastLow = s + fy * (n - s);
-    // (same arithmetic as coastInland, written out)
-    const rx = wx - c[0];
-    const ry = wy - c[1];
-    const along = rx * c[2] + ry * c[3];
-    let inland = rx * c[4] + ry * c[5] + 0.5 * c[6] * along * along + c[7] * coastLow;
-    const reach = c[9];
-    const a = inland < 0 ? -inland : inland;
-    if (a < 2 * reach) {
-      let fade = 1;
-      if (a > reach) {
-        const e = a / reach - 1;
-        fade = 1 - e * e * (3 - 2 * e);
+    // Domain warp (bilinear between lattice nodes): every feature but the summits is laid out in
+    // warped coordinates.
+    let s = nodes[o00] + fx * (nodes[o10] - nodes[o00]);
+    let n = nodes[o01] + fx * (nodes[o11] - nodes[o01]);
+    const wx = xM + (s + fy * (n - s));
+    s = nodes[o00 + 1] + fx * (nodes[o10 + 1] - nodes[o00 + 1]);
+    n = nodes[o01 + 1] + fx * (nodes[o11 + 1] - nodes[o01 + 1]);
+    const wy = yM + (s + fy * (n - s));
+
+    // Coast: a signed inland distance-like value; sea where it is not positive. The finest coastline
+    // octave is evaluated here, fading out away from the shore where it could not change the sign.
+    let shore = 1;
+    if (t.hasCoast) {
+      const c = t.coast;
+      s = nodes[o00 + 2] + fx * (nodes[o10 + 2] - nodes[o00 + 2]);
+      n = nodes[o01 + 2] + fx * (nodes[o11 + 2] - nodes[o01 + 2]);
+      const coastLow = s + fy * (n - s);
+      // (same arithmetic as coastInland, written out)
+      const rx = wx - c[0];
+      const ry = wy - c[1];
+      const along = rx * c[2] + ry * c[3];
+      let inland = rx * c[4] + ry * c[5] + 0.5 * c[6] * along * along + c[7] * coastLow;
+      const reach = c[9];
+      const a = inland < 0 ? -inland : inland;
+      if (a < 2 * reach) {
+        let fade = 1;
+        if (a > reach) {
+          const e = a / reach - 1;
+          fade = 1 - e * e * (3 - 2 * e);
+        }
+        // one octave of gradient noise, written out (see gradNoise) so that no double crosses a call
+        const o = (CH_COAST + 3) * CH_STRIDE;
+        const u = (wx * ch[o] - wy * ch[o + 1]) * ch[o + 2] + ch[o + 3];
+        const v = (wx * ch[o + 1] + wy * ch[o]) * ch[o + 2] + ch[o + 4];
+        const fu = Math.floor(u);
+        const fv = Math.floor(v);
+        const tx = u - fu;
+        const ty = v - fv;
+        const pa = perm[fu & 255] + (fv & 255);
+        const pb = perm[(fu & 255) + 1] + (fv & 255);
+        const h00 = perm[pa];
+        const h01 = perm[pa + 1];
+        const h10 = perm[pb];
+        const h11 = perm[pb + 1];
+        const n00 = gx[h00] * tx + gy[h00] * ty;
+        const n10 = gx[h10] * (tx - 1) + gy[h10] * ty;
+        const n01 = gx[h01] * tx + gy[h01] * (ty - 1);
+        const n11 = gx[h11] * (tx - 1) + gy[h11] * (ty - 1);
+        const fu5 = tx * tx * tx * (tx * (tx * 6 - 15) + 10);
+        const fv5 = ty * ty * ty * (ty * (ty * 6 - 15) + 10);
+        const nx0 = n00 + fu5 * (n10 - n00);
+        const nx1 = n01 + fu5 * (n11 - n01);
+        inland += c[7] * fade * ch[o + 5] * (nx0 + fv5 * (nx1 - nx0));
       }
-      // one octave of gradient noise, written out (see gradNoise) so that no double crosses a call
-      const o = (CH_COAST + 3) * CH_STRIDE;
-      const u = (wx * ch[o] - wy * ch[o + 1]) * ch[o + 2] + ch[o + 3];
-      const v = (wx * ch[o + 1] + wy * ch[o]) * ch[o + 2] + ch[o + 4];
+      if (inland <= 0) {
+        out[outStart + cell] = 0;
+        continue cells;
+      }
+      const e = inland * c[8];
+      if (e < 1) shore = e * e * (3 - 2 * e);
+    }
+
+    // Lowland plain rising inland, rolling hills growing with it.
+    s = nodes[o00 + 3] + fx * (nodes[o10 + 3] - nodes[o00 + 3]);
+    n = nodes[o01 + 3] + fx * (nodes[o11 + 3] - nodes[o01 + 3]);
+    const rise = s + fy * (n - s);
+    let h = t.lowlandRiseM * rise;
+
+    // Mountain ranges: the highest envelope wins (sharpened by ridged noise below). A broad noise widens
+    // and narrows the ranges and raises and lowers their crests.
+    s = nodes[o00 + 4] + fx * (nodes[o10 + 4] - nodes[o00 + 4]);
+    n = nodes[o01 + 4] + fx * (nodes[o11 + 4] - nodes[o01 + 4]);
+    const rangeMod = s + fy * (n - s);
+    const widthFactor = 1 + RANGE_WIDTH_MOD * rangeMod;
+    let env = 0;
+    for (let i = 0; i < t.nRanges; i++) {
+      const o = i * 7;
+      if (wx < rd[o] || wy < rd[o + 1] || wx > rd[o + 2] || wy > rd[o + 3]) continue;
+      // nearest point of the axis
+      let best = Infinity;
+      let alongM = 0;
+      for (let g = t.rangeSegs[i * 2], g1 = t.rangeSegs[i * 2 + 1]; g < g1; g++) {
+        const so = g * SEG_STRIDE;
+        const px = wx - segs[so];
+        const py = wy - segs[so + 1];
+        const dx = segs[so + 2];
+        const dy = segs[so + 3];
+        let f = (px * dx + py * dy) * segs[so + 4];
+        if (f < 0) f = 0;
+        else if (f > 1) f = 1;
+        const ex = px - f * dx;
+        const ey = py - f * dy;
+        const d2 = ex * ex + ey * ey;
+        if (d2 < best) {
+          best = d2;
+          alongM = segs[so + 6] + f * segs[so + 5];
+        }
+      }
+      const hw = rd[o + 6] * widthFactor;
+      if (best >= hw * hw) continue;
+      const q = Math.sqrt(best) / hw;
+      const u = alongM / rd[o + 4];
+      const alongProfile = Math.sqrt(4 * u * (1 - u));
+      const q1 = 1 - q;
+      const q2 = 1 - q * q;
+      const e = rd[o + 5] * alongProfile * (0.55 * q1 * Math.sqrt(q1) + 0.45 * q2 * q2);
+      if (e > env) env = e;
+    }
+
+    // Per-cell noise: the hills' 3 octaves, and the ridges' 4 (contiguous channels) inside a range.
+    // Unweighted octave values go to NV; the gradient noise is written out (see gradNoise) so that no
+    // double crosses a call. These small-scale noises take only a quarter of the warp: the full warp
+    // would stretch them into streaks where it shears.
+    const lx = xM + LOCAL_WARP * (wx - xM);
+    const ly = yM + LOCAL_WARP * (wy - yM);
+    const kEnd = env > 0 ? CH_RIDGE + 4 : CH_HILLS + 3;
+    for (let k = CH_HILLS; k < kEnd; k++) {
+      const o = k * CH_STRIDE;
+      const u = (lx * ch[o] - ly * ch[o + 1]) * ch[o + 2] + ch[o + 3];
+      const v = (lx * ch[o + 1] + ly * ch[o]) * ch[o + 2] + ch[o + 4];
       const fu = Math.floor(u);
       const fv = Math.floor(v);
       const tx = u - fu;
@@ -652,189 +762,100 @@ function heightKernel(t: SynthTables, nodes: Float64Array, o00: number, strideJ:
       const fv5 = ty * ty * ty * (ty * (ty * 6 - 15) + 10);
       const nx0 = n00 + fu5 * (n10 - n00);
       const nx1 = n01 + fu5 * (n11 - n01);
-      inland += c[7] * fade * ch[o + 5] * (nx0 + fv5 * (nx1 - nx0));
+      NV[k] = nx0 + fv5 * (nx1 - nx0);
     }
-    if (inland <= 0) {
-      R[R_HEIGHT] = 0;
-      return;
-    }
-    const e = inland * c[8];
-    if (e < 1) shore = e * e * (3 - 2 * e);
-  }
+    const hillNoise =
+      ch[CH_HILLS * CH_STRIDE + 5] * NV[CH_HILLS] +
+      ch[(CH_HILLS + 1) * CH_STRIDE + 5] * NV[CH_HILLS + 1] +
+      ch[(CH_HILLS + 2) * CH_STRIDE + 5] * NV[CH_HILLS + 2];
+    // a smooth positive part of 0.5 + gain·noise (no flat floors where the noise dips), squared
+    const hv = 0.5 + t.hillsGain * hillNoise;
+    const hills = 0.5 * (hv + Math.sqrt(hv * hv + 0.04));
+    h += t.hillsM * (0.1 + 0.9 * rise) * hills * hills;
 
-  // Lowland plain rising inland, rolling hills growing with it.
-  s = nodes[o00 + 3] + fx * (nodes[o10 + 3] - nodes[o00 + 3]);
-  n = nodes[o01 + 3] + fx * (nodes[o11 + 3] - nodes[o01 + 3]);
-  const rise = s + fy * (n - s);
-  let h = t.lowlandRiseM * rise;
-  const segs = t.segs;
-
-  // Mountain ranges: the highest envelope wins (sharpened by ridged noise below). A broad noise widens
-  // and narrows the ranges and raises and lowers their crests.
-  s = nodes[o00 + 4] + fx * (nodes[o10 + 4] - nodes[o00 + 4]);
-  n = nodes[o01 + 4] + fx * (nodes[o11 + 4] - nodes[o01 + 4]);
-  const rangeMod = s + fy * (n - s);
-  const widthFactor = 1 + RANGE_WIDTH_MOD * rangeMod;
-  let env = 0;
-  const rd = t.rangeData;
-  for (let i = 0; i < t.nRanges; i++) {
-    const o = i * 7;
-    if (wx < rd[o] || wy < rd[o + 1] || wx > rd[o + 2] || wy > rd[o + 3]) continue;
-    // nearest point of the axis
-    let best = Infinity;
-    let alongM = 0;
-    for (let g = t.rangeSegs[i * 2], g1 = t.rangeSegs[i * 2 + 1]; g < g1; g++) {
-      const so = g * SEG_STRIDE;
-      const px = wx - segs[so];
-      const py = wy - segs[so + 1];
-      const dx = segs[so + 2];
-      const dy = segs[so + 3];
-      let f = (px * dx + py * dy) * segs[so + 4];
-      if (f < 0) f = 0;
-      else if (f > 1) f = 1;
-      const ex = px - f * dx;
-      const ey = py - f * dy;
-      const d2 = ex * ex + ey * ey;
-      if (d2 < best) {
-        best = d2;
-        alongM = segs[so + 6] + f * segs[so + 5];
+    if (env > 0) {
+      let ridge = 0;
+      // ridged multifractal: each octave is weighted by the one before, so detail gathers on the crests
+      // and the valleys between stay smoother
+      let prev = 1;
+      for (let k = CH_RIDGE; k < CH_RIDGE + 4; k++) {
+        let r = 1 - Math.abs(1.4 * NV[k]);
+        if (r < 0) r = 0;
+        r *= r * prev;
+        ridge += ch[k * CH_STRIDE + 5] * r;
+        prev = r * 2 > 1 ? 1 : r * 2;
       }
+      let crest = 0.9 + 1.4 * rangeMod;
+      if (crest < 0.35) crest = 0.35;
+      else if (crest > 1.3) crest = 1.3;
+      h += env * crest * (0.25 + 0.95 * ridge);
     }
-    const hw = rd[o + 6] * widthFactor;
-    if (best >= hw * hw) continue;
-    const q = Math.sqrt(best) / hw;
-    const u = alongM / rd[o + 4];
-    const alongProfile = Math.sqrt(4 * u * (1 - u));
-    const q1 = 1 - q;
-    const q2 = 1 - q * q;
-    const e = rd[o + 5] * alongProfile * (0.55 * q1 * Math.sqrt(q1) + 0.45 * q2 * q2);
-    if (e > env) env = e;
-  }
 
-  // Per-cell noise: the hills' 3 octaves, and the ridges' 4 (contiguous channels) inside a range.
-  // Unweighted octave values go to NV; the gradient noise is written out (see gradNoise) so that no
-  // double crosses a call. These small-scale noises take only a quarter of the warp: the full warp
-  // would stretch them into streaks where it shears.
-  const lx = xM + LOCAL_WARP * (wx - xM);
-  const ly = yM + LOCAL_WARP * (wy - yM);
-  const kEnd = env > 0 ? CH_RIDGE + 4 : CH_HILLS + 3;
-  for (let k = CH_HILLS; k < kEnd; k++) {
-    const o = k * CH_STRIDE;
-    const u = (lx * ch[o] - ly * ch[o + 1]) * ch[o + 2] + ch[o + 3];
-    const v = (lx * ch[o + 1] + ly * ch[o]) * ch[o + 2] + ch[o + 4];
-    const fu = Math.floor(u);
-    const fv = Math.floor(v);
-    const tx = u - fu;
-    const ty = v - fv;
-    const pa = perm[fu & 255] + (fv & 255);
-    const pb = perm[(fu & 255) + 1] + (fv & 255);
-    const h00 = perm[pa];
-    const h01 = perm[pa + 1];
-    const h10 = perm[pb];
-    const h11 = perm[pb + 1];
-    const n00 = gx[h00] * tx + gy[h00] * ty;
-    const n10 = gx[h10] * (tx - 1) + gy[h10] * ty;
-    const n01 = gx[h01] * tx + gy[h01] * (ty - 1);
-    const n11 = gx[h11] * (tx - 1) + gy[h11] * (ty - 1);
-    const fu5 = tx * tx * tx * (tx * (tx * 6 - 15) + 10);
-    const fv5 = ty * ty * ty * (ty * (ty * 6 - 15) + 10);
-    const nx0 = n00 + fu5 * (n10 - n00);
-    const nx1 = n01 + fu5 * (n11 - n01);
-    NV[k] = nx0 + fv5 * (nx1 - nx0);
-  }
-  const hillNoise =
-    ch[CH_HILLS * CH_STRIDE + 5] * NV[CH_HILLS] +
-    ch[(CH_HILLS + 1) * CH_STRIDE + 5] * NV[CH_HILLS + 1] +
-    ch[(CH_HILLS + 2) * CH_STRIDE + 5] * NV[CH_HILLS + 2];
-  // a smooth positive part of 0.5 + gain·noise (no flat floors where the noise dips), squared
-  const hv = 0.5 + t.hillsGain * hillNoise;
-  const hills = 0.5 * (hv + Math.sqrt(hv * hv + 0.04));
-  h += t.hillsM * (0.1 + 0.9 * rise) * hills * hills;
-
-  if (env > 0) {
-    let ridge = 0;
-    // ridged multifractal: each octave is weighted by the one before, so detail gathers on the crests
-    // and the valleys between stay smoother
-    let prev = 1;
-    for (let k = CH_RIDGE; k < CH_RIDGE + 4; k++) {
-      let r = 1 - Math.abs(1.4 * NV[k]);
-      if (r < 0) r = 0;
-      r *= r * prev;
-      ridge += ch[k * CH_STRIDE + 5] * r;
-      prev = r * 2 > 1 ? 1 : r * 2;
+    // Isolated summits, in unwarped coordinates so each top stays where the layout puts it.
+    for (let i = 0; i < t.nSummits; i++) {
+      const o = i * 4;
+      const dx = xM - sd[o];
+      const dy = yM - sd[o + 1];
+      const r = sd[o + 3];
+      const d2 = dx * dx + dy * dy;
+      if (d2 >= r * r) continue;
+      const q1 = 1 - Math.sqrt(d2) / r;
+      h += sd[o + 2] * q1 * q1;
     }
-    let crest = 0.9 + 1.4 * rangeMod;
-    if (crest < 0.35) crest = 0.35;
-    else if (crest > 1.3) crest = 1.3;
-    h += env * crest * (0.25 + 0.95 * ridge);
-  }
 
-  // Isolated summits, in unwarped coordinates so each top stays where the layout puts it.
-  const sd = t.summitData;
-  for (let i = 0; i < t.nSummits; i++) {
-    const o = i * 4;
-    const dx = xM - sd[o];
-    const dy = yM - sd[o + 1];
-    const r = sd[o + 3];
-    const d2 = dx * dx + dy * dy;
-    if (d2 >= r * r) continue;
-    const q1 = 1 - Math.sqrt(d2) / r;
-    h += sd[o + 2] * q1 * q1;
-  }
-
-  // River valleys: pull the terrain down to the valley floor, with sides as wide as the cut is deep;
-  // the hills' noise makes the valleys wider and narrower along their course.
-  let valleyWidth = 1 + 2 * hillNoise;
-  if (valleyWidth < VALLEY_WIDTH_MIN) valleyWidth = VALLEY_WIDTH_MIN;
-  else if (valleyWidth > VALLEY_WIDTH_MAX) valleyWidth = VALLEY_WIDTH_MAX;
-  const vd = t.riverData;
-  for (let i = 0; i < t.nRivers; i++) {
-    const o = i * 7;
-    // the valley reaches at most this far from the course at this height (the floor is lowest at the mouth)
-    const reachMax =
-      VALLEY_WIDTH_MAX * (vd[o + 6] + VALLEY_SIDE_MIN_M + VALLEY_SIDE_RUN_PER_M * (h - vd[o + 4]));
-    if (
-      wx < vd[o] - reachMax ||
-      wy < vd[o + 1] - reachMax ||
-      wx > vd[o + 2] + reachMax ||
-      wy > vd[o + 3] + reachMax
-    ) {
-      continue;
-    }
-    let best = Infinity;
-    let alongM = 0;
-    for (let g = t.riverSegs[i * 2], g1 = t.riverSegs[i * 2 + 1]; g < g1; g++) {
-      const so = g * SEG_STRIDE;
-      const px = wx - segs[so];
-      const py = wy - segs[so + 1];
-      const dx = segs[so + 2];
-      const dy = segs[so + 3];
-      let f = (px * dx + py * dy) * segs[so + 4];
-      if (f < 0) f = 0;
-      else if (f > 1) f = 1;
-      const ex = px - f * dx;
-      const ey = py - f * dy;
-      const d2 = ex * ex + ey * ey;
-      if (d2 < best) {
-        best = d2;
-        alongM = segs[so + 6] + f * segs[so + 5];
+    // River valleys: pull the terrain down to the valley floor, with sides as wide as the cut is deep;
+    // the hills' noise makes the valleys wider and narrower along their course.
+    let valleyWidth = 1 + 2 * hillNoise;
+    if (valleyWidth < VALLEY_WIDTH_MIN) valleyWidth = VALLEY_WIDTH_MIN;
+    else if (valleyWidth > VALLEY_WIDTH_MAX) valleyWidth = VALLEY_WIDTH_MAX;
+    for (let i = 0; i < t.nRivers; i++) {
+      const o = i * 7;
+      // the valley reaches at most this far from the course at this height (the floor is lowest at the mouth)
+      const reachMax =
+        VALLEY_WIDTH_MAX * (vd[o + 6] + VALLEY_SIDE_MIN_M + VALLEY_SIDE_RUN_PER_M * (h - vd[o + 4]));
+      if (
+        wx < vd[o] - reachMax ||
+        wy < vd[o + 1] - reachMax ||
+        wx > vd[o + 2] + reachMax ||
+        wy > vd[o + 3] + reachMax
+      ) {
+        continue;
       }
+      let best = Infinity;
+      let alongM = 0;
+      for (let g = t.riverSegs[i * 2], g1 = t.riverSegs[i * 2 + 1]; g < g1; g++) {
+        const so = g * SEG_STRIDE;
+        const px = wx - segs[so];
+        const py = wy - segs[so + 1];
+        const dx = segs[so + 2];
+        const dy = segs[so + 3];
+        let f = (px * dx + py * dy) * segs[so + 4];
+        if (f < 0) f = 0;
+        else if (f > 1) f = 1;
+        const ex = px - f * dx;
+        const ey = py - f * dy;
+        const d2 = ex * ex + ey * ey;
+        if (d2 < best) {
+          best = d2;
+          alongM = segs[so + 6] + f * segs[so + 5];
+        }
+      }
+      const floorM = vd[o + 4] + vd[o + 5] * alongM;
+      const depth = h - floorM;
+      if (depth <= 0) continue;
+      const floorHalfWidthM = valleyWidth * vd[o + 6];
+      const side = valleyWidth * (VALLEY_SIDE_MIN_M + VALLEY_SIDE_RUN_PER_M * depth);
+      const reach = floorHalfWidthM + side;
+      if (best >= reach * reach) continue;
+      const e = (Math.sqrt(best) - floorHalfWidthM) / side;
+      h = e <= 0 ? floorM : floorM + depth * e * e * (3 - 2 * e);
     }
-    const floorM = vd[o + 4] + vd[o + 5] * alongM;
-    const depth = h - floorM;
-    if (depth <= 0) continue;
-    const floorHalfWidthM = valleyWidth * vd[o + 6];
-    const side = valleyWidth * (VALLEY_SIDE_MIN_M + VALLEY_SIDE_RUN_PER_M * depth);
-    const reach = floorHalfWidthM + side;
-    if (best >= reach * reach) continue;
-    const e = (Math.sqrt(best) - floorHalfWidthM) / side;
-    h = e <= 0 ? floorM : floorM + depth * e * e * (3 - 2 * e);
-  }
 
-  h *= shore;
-  if (h < 0) h = 0;
-  if (h > KNEE_START_M) h = KNEE_START_M + KNEE_SPAN_M * Math.tanh((h - KNEE_START_M) / KNEE_SPAN_M);
-  R[R_HEIGHT] = h;
+    h *= shore;
+    if (h < 0) h = 0;
+    if (h > KNEE_START_M) h = KNEE_START_M + KNEE_SPAN_M * Math.tanh((h - KNEE_START_M) / KNEE_SPAN_M);
+    out[outStart + cell] = h;
+  }
 }
 
 function checkOut(fn: string, out: Float32Array, width: number, height: number): void {
@@ -937,21 +958,14 @@ function fillSeparable(out: Float32Array, xs: Float64Array, ys: Float64Array, wo
     for (let ii = 0; ii < ni; ii++) computeNode(t, i0 + ii, j0 + jj, nodes, jj * strideJ + ii * NODE_FIELDS);
   }
   for (let c = 0; c < width; c++) ci[c] = (ci[c] - i0) * NODE_FIELDS;
+  const offsets = new Int32Array(width);
 
   for (let r = 0; r < height; r++) {
     const yM = ys[r];
     const j = Math.floor(yM / latticeM);
-    const fy = yM / latticeM - j;
     const rowNode = (j - j0) * strideJ;
-    const row = r * width;
-    for (let c = 0; c < width; c++) {
-      R[R_X] = xs[c];
-      R[R_Y] = yM;
-      R[R_FX] = cfx[c];
-      R[R_FY] = fy;
-      heightKernel(t, nodes, rowNode + ci[c], strideJ);
-      out[row + c] = R[R_HEIGHT];
-    }
+    for (let c = 0; c < width; c++) offsets[c] = rowNode + ci[c];
+    heightRow(t, nodes, strideJ, offsets, xs, cfx, yM, yM / latticeM - j, out, r * width, width);
   }
 }
 
