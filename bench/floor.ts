@@ -236,11 +236,12 @@ async function runAirshade(n: number, demPath: string, site: string, runs: numbe
     '--quiet',
   ];
   const walls: number[] = [];
-  let viaTsx = false;
-  let best: { wallS: number; peak: number | null; ground?: number } | null = null;
+  let best: { wallS: number; peak: number | null; ground?: number; viaTsx: boolean } | null = null;
   for (let i = 0; i < runs; i++) {
     progress(`${n}²: airshade floor, run ${i + 1}/${runs}…`);
-    if (!builtCliFresh()) viaTsx = true;
+    // Others may edit the sources while the bench runs: rebuild so bin/airshade.mjs runs the built CLI.
+    ensureBuilt(`${n}²`);
+    const viaTsx = !builtCliFresh();
     const r = await runTimed(process.execPath, args);
     if (r.code !== 0) {
       progress(`${n}²: airshade floor failed (exit ${r.code}):\n${r.stderr}${r.stdout}`);
@@ -258,12 +259,16 @@ async function runAirshade(n: number, demPath: string, site: string, runs: numbe
     const peak = /peak memory (\d+) MiB/.exec(lines[lines.length - 1] ?? '');
     const ground = /ground (-?[\d.]+) m \+ mast/.exec(r.stdout);
     walls.push(r.wallS);
-    progress(`${n}²: airshade floor, run ${i + 1}: ${r.wallS.toFixed(2)} s, ${peak ? peak[1] : '?'} MiB`);
+    progress(
+      `${n}²: airshade floor, run ${i + 1}: ${r.wallS.toFixed(2)} s, ${peak ? peak[1] : '?'} MiB` +
+        (viaTsx ? ' (through tsx)' : ''),
+    );
     if (!best || r.wallS < best.wallS) {
       best = {
         wallS: r.wallS,
         peak: peak ? Number(peak[1]) : null,
         ground: ground ? Number(ground[1]) : undefined,
+        viaTsx,
       };
     }
   }
@@ -275,7 +280,7 @@ async function runAirshade(n: number, demPath: string, site: string, runs: numbe
     peakMiB: best!.peak,
     outPath,
     groundM: best!.ground,
-    note: viaTsx ? 'ran through tsx: sources newer than dist/cli' : undefined,
+    note: best!.viaTsx ? 'ran through tsx: sources newer than dist/cli' : undefined,
   };
 }
 
@@ -485,6 +490,7 @@ async function main(): Promise<void> {
     progress('gdal_viewshed not found: only Airshade is measured (apt-get install -y gdal-bin).');
   else if (!haveTime) progress('/usr/bin/time not found: gdal_viewshed peak memory is reported as —.');
 
+  const loadStart = os.loadavg();
   const toUtm = proj4('WGS84', UTM_26S);
   const rows: Row[] = [];
   const sampleNotes: string[] = [];
@@ -511,7 +517,6 @@ async function main(): Promise<void> {
         `${pl.seconds.toFixed(1)} + ${sp.seconds.toFixed(1)} s`,
     );
 
-    ensureBuilt(`${n}²`);
     const air = await runAirshade(n, demPath, site, runs);
     if (air.ok && air.groundM !== undefined && Math.abs(air.groundM - groundC) > 0.05) {
       progress(
@@ -606,6 +611,8 @@ async function main(): Promise<void> {
     '',
     `- CPU: ${cpus.length} × ${cpus[0]?.model ?? 'unknown'}; RAM ${(os.totalmem() / 2 ** 30).toFixed(1)} GiB; ` +
       `${os.type()} ${os.release()}`,
+    `- Load average when the bench started (1 / 5 min): ${loadStart[0].toFixed(2)} / ${loadStart[1].toFixed(2)}` +
+      ' (other processes on the same cores make the times pessimistic)',
     `- Node ${process.version}; ${gdalVersion ?? 'GDAL not installed (gdal_viewshed rows omitted)'}`,
     `- Reproduce: \`npm run bench\` (= \`npm run build && tsx bench/floor.ts\`)` +
       (sizes.join(',') === '1024,4096,8192' && runs === 2

@@ -152,21 +152,21 @@ describe('horizon cache', () => {
       sweep: (...a: Parameters<typeof inline.sweep>) => (sweeps++, inline.sweep(...a)),
     };
     const cache = new HorizonCache();
-    const a = await computeFloor(terrain, { ...site, mastM: 20 }, geo, data, counting, undefined, cache);
-    const b = await computeFloor(terrain, { ...site, mastM: 20 }, geo, data, counting, undefined, cache);
+    const a = await computeFloor(terrain, { ...site, mastM: 20 }, geo, data, counting, { cache });
+    const b = await computeFloor(terrain, { ...site, mastM: 20 }, geo, data, counting, { cache });
     expect(sweeps).toBe(1);
     expect(b.horizon).toBe(a.horizon);
     expect(b.floor).toEqual(a.floor);
-    await computeFloor(terrain, { ...site, mastM: 21 }, geo, data, counting, undefined, cache);
-    await computeFloor(terrain, { ...site, mastM: 20, kFactor: 1 }, geo, data, counting, undefined, cache);
+    await computeFloor(terrain, { ...site, mastM: 21 }, geo, data, counting, { cache });
+    await computeFloor(terrain, { ...site, mastM: 20, kFactor: 1 }, geo, data, counting, { cache });
     const other = metricTerrain(data.slice(), N, N, PIXEL_M);
-    await computeFloor(other, { ...site, mastM: 20 }, geo, data, inlineExecutor(other), undefined, cache);
+    await computeFloor(other, { ...site, mastM: 20 }, geo, data, inlineExecutor(other), { cache });
     expect(sweeps).toBe(3);
     // A tiny budget keeps only the newest entry.
     const small = new HorizonCache(1);
-    await computeFloor(terrain, { ...site, mastM: 20 }, geo, data, counting, undefined, small);
-    await computeFloor(terrain, { ...site, mastM: 22 }, geo, data, counting, undefined, small);
-    await computeFloor(terrain, { ...site, mastM: 20 }, geo, data, counting, undefined, small);
+    await computeFloor(terrain, { ...site, mastM: 20 }, geo, data, counting, { cache: small });
+    await computeFloor(terrain, { ...site, mastM: 22 }, geo, data, counting, { cache: small });
+    await computeFloor(terrain, { ...site, mastM: 20 }, geo, data, counting, { cache: small });
     expect(sweeps).toBe(6);
   });
 });

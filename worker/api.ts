@@ -30,8 +30,9 @@ export const api = {
     ground: Float32Array | null,
     rowStart: number,
     rowEnd: number,
+    distance: Float32Array | null,
   ): ResampleCounts {
-    return resampleFloor({ layout, tan }, new VectorMap(vmap), out, ground, rowStart, rowEnd);
+    return resampleFloor({ layout, tan }, new VectorMap(vmap), out, ground, rowStart, rowEnd, distance);
   },
 };
 

@@ -60,8 +60,8 @@ export class NodePool {
       size: this.workers.length,
       shared: true,
       sweep: (layout, tan, a, b) => this.run((w) => w.sweep(layout, tan, a, b)),
-      resample: (layout, tan, vmap, out, ground, r0, r1) =>
-        this.run((w) => w.resample(layout, tan, vmap, out, ground, r0, r1)),
+      resample: (layout, tan, vmap, out, ground, r0, r1, distance) =>
+        this.run((w) => w.resample(layout, tan, vmap, out, ground, r0, r1, distance)),
     };
   }
 

@@ -221,7 +221,7 @@ export async function demoCommand(argv: readonly string[], log: (s: string) => v
         grid,
         ground,
         exec,
-        (f, stage) => progress.update((si + f) / sites.length, `${s.name}: ${stage}`),
+        { onProgress: (f, stage) => progress.update((si + f) / sites.length, `${s.name}: ${stage}`) },
       );
       writeFileChecked(
         `${outDir}/floor-${s.id}.tif`,

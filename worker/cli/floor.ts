@@ -108,7 +108,7 @@ export async function floorCommand(argv: readonly string[], log: (s: string) => 
       outGeo,
       ground,
       pool ? pool.executor() : inlineExecutor(terrain),
-      progress.update,
+      { onProgress: progress.update },
     );
   } finally {
     await pool?.close();

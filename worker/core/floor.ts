@@ -38,6 +38,7 @@ export interface Executor {
     ground: Float32Array | null,
     rowStart: number,
     rowEnd: number,
+    distance: Float32Array | null,
   ): Promise<ResampleCounts>;
 }
 
@@ -49,8 +50,8 @@ export function inlineExecutor(terrain: TerrainRaster): Executor {
     async sweep(layout, tan, a, b) {
       sweepSector(terrain, layout, tan, a, b);
     },
-    async resample(layout, tan, vmap, out, ground, r0, r1) {
-      return resampleFloor({ layout, tan }, new VectorMap(vmap), out, ground, r0, r1);
+    async resample(layout, tan, vmap, out, ground, r0, r1, distance) {
+      return resampleFloor({ layout, tan }, new VectorMap(vmap), out, ground, r0, r1, distance);
     },
   };
 }
@@ -60,7 +61,17 @@ export interface FloorRequest extends Omit<HorizonSpec, 'maxRangeM'> {
   maxRangeM?: number;
 }
 
+export interface FloorOptions {
+  onProgress?: Progress;
+  /** Reuse horizons computed before with the same inputs. */
+  cache?: HorizonCache;
+  /** Also return each cell's geodesic ground distance from the antenna (m). */
+  withDistance?: boolean;
+}
+
 export interface FloorResult {
+  /** Ground distance (m) of each cell centre from the antenna, when asked for. */
+  distance?: Float32Array;
   /** Lowest altitude AMSL (m) in line of sight above each cell, at least the ground; NaN = no value. */
   floor: Float32Array;
   horizon: Horizon;
@@ -91,9 +102,9 @@ export async function computeFloor(
   outGeo: GridGeo,
   ground: Float32Array | null,
   exec: Executor,
-  onProgress?: Progress,
-  cache?: HorizonCache,
+  options: FloorOptions = {},
 ): Promise<FloorResult> {
+  const { onProgress, cache } = options;
   const mapper = gridMapper(outGeo);
   onProgress?.(0, 'geodesics');
   const vmap = VectorMap.build(req.lon, req.lat, outGeo.width, outGeo.height, mapper);
@@ -123,12 +134,24 @@ export async function computeFloor(
   const { layout, tan } = horizon;
   const resampled = tick('resampling');
   const cells = outGeo.width * outGeo.height;
-  const out = new Float32Array(exec.shared ? new SharedArrayBuffer(cells * 4) : new ArrayBuffer(cells * 4));
+  const alloc = () =>
+    new Float32Array(exec.shared ? new SharedArrayBuffer(cells * 4) : new ArrayBuffer(cells * 4));
+  const out = alloc();
+  const distance = options.withDistance ? alloc() : null;
   const rowsPer = Math.ceil(outGeo.height / pieces);
   const counts = await Promise.all(
     Array.from({ length: pieces }, (_, i) =>
       exec
-        .resample(layout, tan, vmap, out, ground, i * rowsPer, Math.min(outGeo.height, (i + 1) * rowsPer))
+        .resample(
+          layout,
+          tan,
+          vmap,
+          out,
+          ground,
+          i * rowsPer,
+          Math.min(outGeo.height, (i + 1) * rowsPer),
+          distance,
+        )
         .then((c) => {
           resampled();
           return c;
@@ -139,6 +162,7 @@ export async function computeFloor(
   const unknown = counts.reduce((a, c) => a + c.unknown, 0);
   return {
     floor: out,
+    ...(distance ? { distance } : {}),
     horizon,
     stats: {
       cells,

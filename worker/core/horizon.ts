@@ -436,7 +436,8 @@ export interface OutputGrid extends PixelMapper {
  * Resamples a horizon onto rows [rowStart, rowEnd) of an output grid: per cell centre, the floor (lowest
  * altitude AMSL in line of sight) clamped to `ground` when given (a target above the cell cannot be below the
  * ground). NaN outside the computed range or behind unknown terrain. `vmap` is the grid's VectorMap from the
- * antenna (build it once per site and grid; pools pass it to every worker).
+ * antenna (build it once per site and grid; pools pass it to every worker). `distance`, when given, receives
+ * each cell centre's geodesic ground distance from the antenna (m).
  */
 export function resampleFloor(
   horizon: Horizon,
@@ -445,6 +446,7 @@ export function resampleFloor(
   ground: Float32Array | null,
   rowStart = 0,
   rowEnd = vmap.height,
+  distance: Float32Array | null = null,
 ): ResampleCounts {
   const L = horizon.layout;
   const nLevels = L.levels.length;
@@ -461,7 +463,7 @@ export function resampleFloor(
   levelOfJ[L.rangeCount - 1] = nLevels - 1;
   let beyond = 0;
   for (let r = rowStart; r < rowEnd; r++)
-    beyond += resampleRow(L, horizon.tan, vmap, levelOfJ, lv, out, ground, r);
+    beyond += resampleRow(L, horizon.tan, vmap, levelOfJ, lv, out, ground, distance, r);
   let nan = 0;
   for (let k = rowStart * vmap.width; k < rowEnd * vmap.width; k++) if (out[k] !== out[k]) nan++;
   return { beyondRange: beyond, unknown: nan - beyond };
@@ -505,6 +507,7 @@ function resampleRow(
   lv: Int32Array,
   out: Float32Array,
   ground: Float32Array | null,
+  distance: Float32Array | null,
   r: number,
 ): number {
   const W = vmap.width;
@@ -538,6 +541,7 @@ function resampleRow(
       (v[k00 + 1] + (v[k00 + 1 + dxNode] - v[k00 + 1]) * fx) * (1 - fy) +
       (v[k10 + 1] + (v[k10 + 1 + dxNode] - v[k10 + 1]) * fx) * fy;
     const s = Math.sqrt(e * e + nn * nn);
+    if (distance !== null) distance[rowOut + c] = s;
     if (!(s <= maxRange)) {
       out[rowOut + c] = NaN;
       beyond++;

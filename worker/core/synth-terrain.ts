@@ -538,7 +538,8 @@ const NV = new Float64Array(N_CHANNELS);
 
 /**
  * Terrain height (m above the sea surface) at (xM, yM) metres east / north of the world's local origin.
- * Exactly 0 over the sea; continuous everywhere; in [0, 3000). For many points use `fillGeographic` or
+ * Exactly 0 over the sea; continuous everywhere; in [0, 3000). Given at Float32 precision: the very
+ * value a fill stores for a pixel centred there. For many points use `fillGeographic` or
  * `fillProjected`, which share the lattice work between cells.
  */
 export function synthHeightM(xM: number, yM: number, world: SynthWorld): number {
