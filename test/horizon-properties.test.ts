@@ -31,8 +31,8 @@ describe('horizon engine invariants', () => {
           const row = lv.jEnd - lv.jStart + 1;
           for (let i = 0; i < lv.azimuthCount; i++) {
             for (let j = 1; j < row; j++) {
-              const a = h.tan[lv.offset + i * row + j - 1];
-              const b = h.tan[lv.offset + i * row + j];
+              const a = h.tan[lv.offset + (j - 1) * lv.azimuthCount + i];
+              const b = h.tan[lv.offset + j * lv.azimuthCount + i];
               if (a === a && b === b && b < a) return false;
             }
           }

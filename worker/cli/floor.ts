@@ -96,10 +96,12 @@ export async function floorCommand(argv: readonly string[], log: (s: string) => 
   const progress = new ProgressLine('floor', p.flags.has('quiet'));
   progress.update(0, 'reading terrain');
   const tiles = await readTiles(dems);
+  const tRead = performance.now();
   const terrain = Terrain.fromTiles(tiles, { shared: threads > 0 });
   const outGeo = tiles[0].geo;
   const ground = windowOf(terrain, outGeo);
   const pool = threads > 0 ? await NodePool.start(threads, terrain.toParts()) : null;
+  const tReady = performance.now();
   let result: FloorResult;
   try {
     result = await computeFloor(
@@ -114,10 +116,13 @@ export async function floorCommand(argv: readonly string[], log: (s: string) => 
     await pool?.close();
   }
   progress.update(1, 'writing');
+  const tComputed = performance.now();
   writeFileChecked(outPath, encodeGeoTiff({ geo: outGeo, data: result.floor, nodata: NaN }));
+  const tWritten = performance.now();
   progress.done();
   const s = result.stats;
   const L = result.horizon.layout;
+  const sec = (ms: number) => `${(ms / 1000).toFixed(2)} s`;
   const pct = (n: number) => `${((100 * n) / s.cells).toFixed(1)} %`;
   log(
     [
@@ -127,6 +132,7 @@ export async function floorCommand(argv: readonly string[], log: (s: string) => 
       `  sampling     ${s.radials} radials at the outer range, step ${L.rangeStepM.toFixed(1)} m, out to ${(L.maxRangeM / 1000).toFixed(1)} km`,
       `  cells        ${pct(s.valued)} with a floor, ${pct(s.beyondRange)} beyond range, ${pct(s.unknown)} behind or on unknown terrain`,
       ...terrain.warnings.map((w) => `  warning      ${w}`),
+      `  stages       read ${sec(tRead - started)}, mosaic + workers ${sec(tReady - tRead)}, sweep ${sec(s.sweepMs)}, resample ${sec(s.resampleMs)}, write ${sec(tWritten - tComputed)}`,
       `  time         ${((performance.now() - started) / 1000).toFixed(2)} s, peak memory ${(process.resourceUsage().maxRSS / 1024).toFixed(0)} MiB`,
     ].join('\n'),
   );

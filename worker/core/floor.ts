@@ -90,6 +90,9 @@ export interface FloorStats {
   antennaAltM: number;
   radials: number;
   samples: number;
+  /** Wall time of the sweep (0 on a cache hit) and of the resampling, ms. */
+  sweepMs: number;
+  resampleMs: number;
 }
 
 /**
@@ -116,6 +119,7 @@ export async function computeFloor(
   const pieces = n === 1 ? 1 : n * 4;
   let done = 0;
   const tick = (stage: string) => () => onProgress?.(++done / (pieces * 2), stage);
+  const t0 = performance.now();
   let horizon = cache?.get(terrain, spec);
   if (horizon) {
     done = pieces;
@@ -132,6 +136,7 @@ export async function computeFloor(
     cache?.set(terrain, spec, horizon);
   }
   const { layout, tan } = horizon;
+  const t1 = performance.now();
   const resampled = tick('resampling');
   const cells = outGeo.width * outGeo.height;
   const alloc = () =>
@@ -158,6 +163,7 @@ export async function computeFloor(
         }),
     ),
   );
+  const t2 = performance.now();
   const beyond = counts.reduce((a, c) => a + c.beyondRange, 0);
   const unknown = counts.reduce((a, c) => a + c.unknown, 0);
   return {
@@ -173,6 +179,8 @@ export async function computeFloor(
       antennaAltM: layout.antennaAltM,
       radials: layout.levels[layout.levels.length - 1].azimuthCount,
       samples: layout.totalSamples,
+      sweepMs: t1 - t0,
+      resampleMs: t2 - t1,
     },
   };
 }

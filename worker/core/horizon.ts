@@ -39,9 +39,9 @@ export interface HorizonSpec {
   maxRangeM: number;
   /** Earth radius R, metres (default 6 371 000, the mean radius). */
   earthRadiusM?: number;
-  /** Range step (default: half the terrain pixel at the site). */
+  /** Range step (default: 0.75 of the terrain pixel at the site; eight times finer near the antenna). */
   rangeStepM?: number;
-  /** Largest arc between neighbouring radials (default: one terrain pixel at the site). */
+  /** Largest arc between neighbouring radials (default: 1.5 terrain pixels at the site). */
   arcStepM?: number;
 }
 
@@ -49,7 +49,11 @@ export interface HorizonLevel {
   readonly azimuthCount: number;
   readonly jStart: number;
   readonly jEnd: number;
-  /** Offset of this level's block in `tan`; radial i starts at offset + i * (jEnd − jStart + 1). */
+  /**
+   * Offset of this level's block in `tan`. The block is range-major: sample (radial i, range j) is at
+   * offset + (j − jStart) · azimuthCount + i, so neighbouring cells of an output row, which fall on neighbouring
+   * radials at nearly the same range, read neighbouring memory.
+   */
   readonly offset: number;
 }
 
@@ -124,8 +128,8 @@ export function planHorizon(terrain: TerrainRaster, spec: HorizonSpec): HorizonL
   }
   const px = terrain.metresPerPixel(spec.lon, spec.lat);
   const pixelM = Math.min(px.x, px.y);
-  const rangeStepM = spec.rangeStepM ?? pixelM / 2;
-  const arcStepM = spec.arcStepM ?? pixelM;
+  const rangeStepM = spec.rangeStepM ?? pixelM * 0.75;
+  const arcStepM = spec.arcStepM ?? pixelM * 1.5;
   const rangeCount = Math.ceil(spec.maxRangeM / rangeStepM) + 2;
   const levels: HorizonLevel[] = [];
   let azimuthCount = Math.max(
@@ -211,6 +215,7 @@ function nearField(
   T: number,
   dst: Float32Array,
   base: number,
+  stride: number,
   jStart: number,
   jEnd: number,
 ): number {
@@ -218,7 +223,7 @@ function nearField(
   const sub = ds / NEAR_SUBSTEPS;
   const lastKnot = fan.rangeKnotCount - 2;
   for (let j = jStart; j < jEnd; j++) {
-    dst[base + j] = T;
+    dst[base + j * stride] = T;
     if (T !== T) continue;
     for (let k = 0; k < NEAR_SUBSTEPS; k++) {
       const s = j * ds + k * sub;
@@ -262,7 +267,7 @@ function bilinearAt(data: Float32Array, W: number, H: number, x: number, y: numb
 }
 
 /**
- * One radial from jStart to jEnd − 1: stores the screening tan before each sample (into dst[base + j]) and takes
+ * One radial from jStart to jEnd − 1: stores the screening tan before each sample (into dst[base + j·stride]) and takes
  * the sample in. Returns the running screening tan after sample jEnd − 1 (the value for jEnd).
  *
  * Positions: between two range knots P(s) = P0 + s·(Q_m + (s − s_m)·D) is quadratic in s, so it is stepped by
@@ -282,6 +287,7 @@ function sweepRadial(
   T: number,
   dst: Float32Array,
   base: number,
+  stride: number,
   jStart: number,
   jEnd: number,
   trace: Float64Array | null,
@@ -296,7 +302,7 @@ function sweepRadial(
   let j = jStart;
   if (j < rt.jNear && trace === null) {
     const jn = Math.min(rt.jNear, jEnd);
-    T = nearField(data, W, H, fan, knots, rt, ds, re, rha, T, dst, base, j, jn);
+    T = nearField(data, W, H, fan, knots, rt, ds, re, rha, T, dst, base, stride, j, jn);
     j = jn;
   }
   while (j < jEnd) {
@@ -317,7 +323,7 @@ function sweepRadial(
     const ax = 2 * dx * ds * ds;
     const ay = 2 * dy * ds * ds;
     for (; j < jSegEnd; j++) {
-      dst[base + j] = T;
+      dst[base + j * stride] = T;
       const x = px;
       const y = py;
       px += vx;
@@ -412,11 +418,29 @@ export function sweepSector(
       else T = 0.5 * (carry[(i - 1) / 2 - carryFirst] + carry[(i + 1) / 2 - carryFirst]);
       fan.knotsForAzimuth(pseudoToAzimuthRad((ii / n) * 2 * Math.PI), knots);
       const dst = writes ? tan : scratch;
-      const base = writes ? level.offset + ii * rowLen - level.jStart : -level.jStart;
-      T = sweepRadial(data, W, H, fan, knots, rt, ds, re, rha, T, dst, base, level.jStart, level.jEnd, null);
+      const base = writes ? level.offset + ii - level.jStart * n : -level.jStart;
+      const stride = writes ? n : 1;
+      T = sweepRadial(
+        data,
+        W,
+        H,
+        fan,
+        knots,
+        rt,
+        ds,
+        re,
+        rha,
+        T,
+        dst,
+        base,
+        stride,
+        level.jStart,
+        level.jEnd,
+        null,
+      );
       // The value at jEnd (screening by everything before it) is where the next level starts; the next level
       // takes in the terrain at jEnd itself.
-      dst[base + level.jEnd] = T;
+      dst[base + level.jEnd * stride] = T;
       nextCarry[i - first] = T;
       if (writes) done += rowLen;
     }
@@ -484,11 +508,11 @@ const GB = 0.273;
  * it) can have a neighbouring radial that has already left the known terrain while its own sight line has
  * not; the radials that stayed on known terrain give its value. NaN only when no corner is known.
  */
-function knownPart(tan: Float32Array, k0: number, k1: number, wj: number, wa: number): number {
+function knownPart(tan: Float32Array, k0: number, k1: number, n: number, wj: number, wa: number): number {
   let sum = 0;
   let wsum = 0;
   const w = [(1 - wj) * (1 - wa), wj * (1 - wa), (1 - wj) * wa, wj * wa];
-  const v = [tan[k0], tan[k0 + 1], tan[k1], tan[k1 + 1]];
+  const v = [tan[k0], tan[k0 + n], tan[k1], tan[k1 + n]];
   for (let i = 0; i < 4; i++) {
     if (v[i] === v[i] && w[i] > 0) {
       sum += v[i] * w[i];
@@ -570,13 +594,12 @@ function resampleRow(
     const wa = fa - i0;
     if (i0 >= n) i0 -= n;
     const i1 = i0 + 1 === n ? 0 : i0 + 1;
-    const row = lv[l4 + 2];
-    const jj = j0 - lv[l4 + 1];
-    const k0 = lv[l4 + 3] + i0 * row + jj;
-    const k1 = lv[l4 + 3] + i1 * row + jj;
+    const rowBase = lv[l4 + 3] + (j0 - lv[l4 + 1]) * n;
+    const k0 = rowBase + i0;
+    const k1 = rowBase + i1;
     let T =
-      (tan[k0] + (tan[k0 + 1] - tan[k0]) * wj) * (1 - wa) + (tan[k1] + (tan[k1 + 1] - tan[k1]) * wj) * wa;
-    if (T !== T) T = knownPart(tan, k0, k1, wj, wa);
+      (tan[k0] + (tan[k0 + n] - tan[k0]) * wj) * (1 - wa) + (tan[k1] + (tan[k1 + n] - tan[k1]) * wj) * wa;
+    if (T !== T) T = knownPart(tan, k0, k1, n, wj, wa);
     // cos and sin of s/Re by series (s/Re < 0.25: error < 1e-8 relative).
     const x = s / re;
     const x2 = x * x;
@@ -622,6 +645,7 @@ export function traceRadial(terrain: TerrainRaster, layout: HorizonLayout, azimu
     NOTHING,
     scratch,
     0,
+    1,
     0,
     layout.rangeCount,
     trace,
@@ -651,12 +675,11 @@ export function floorAt(horizon: Horizon, azimuthPseudoRad: number, rangeM: numb
   const i0 = Math.floor(fa) % n;
   const i1 = (i0 + 1) % n;
   const wa = fa - Math.floor(fa);
-  const row = lv.jEnd - lv.jStart + 1;
-  const k0 = lv.offset + i0 * row + (j0 - lv.jStart);
-  const k1 = lv.offset + i1 * row + (j0 - lv.jStart);
+  const k0 = lv.offset + (j0 - lv.jStart) * n + i0;
+  const k1 = lv.offset + (j0 - lv.jStart) * n + i1;
   const tan = horizon.tan;
-  let T = (tan[k0] + (tan[k0 + 1] - tan[k0]) * wj) * (1 - wa) + (tan[k1] + (tan[k1 + 1] - tan[k1]) * wj) * wa;
-  if (T !== T) T = knownPart(tan, k0, k1, wj, wa);
+  let T = (tan[k0] + (tan[k0 + n] - tan[k0]) * wj) * (1 - wa) + (tan[k1] + (tan[k1 + n] - tan[k1]) * wj) * wa;
+  if (T !== T) T = knownPart(tan, k0, k1, n, wj, wa);
   const x = rangeM / L.reM;
   const den = Math.cos(x) - T * Math.sin(x);
   if (den !== den) return NaN;
