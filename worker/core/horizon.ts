@@ -97,7 +97,7 @@ export interface Horizon {
 const NOTHING = -1e9;
 /** Near field: this many terrain pixels from the antenna, sampled NEAR_SUBSTEPS times per range step. */
 const NEAR_FIELD_PIXELS = 16;
-const NEAR_SUBSTEPS = 8;
+export const NEAR_SUBSTEPS = 8;
 /** Floors above this are written as this value: no aircraft flies there, and Float32 stays finite. */
 export const FLOOR_CAP_M = 100_000;
 

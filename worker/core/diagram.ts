@@ -1,0 +1,332 @@
+/**
+ * Vertical coverage diagram data: what one sensor on one site sees along one azimuth, as range–height curves.
+ *
+ * Everything is on the effective earth of radius Re = k·R and is reported as altitude AMSL against ground
+ * (arc) distance along the WGS84 geodesic radial. Drawn on flat axes, the curved geometry shows up in the
+ * curves themselves (the line-of-sight floor bends upward with range, constant elevation is not a straight
+ * line); the axes are not curved.
+ *
+ * The terrain profile is sampled at the positions the horizon engine uses (horizon.ts: planHorizon's range step,
+ * the RadialFan knot formula P(s) = P0 + s·Q(θ, s), bilinear terrain), and the line-of-sight floor comes from
+ * the same running screening: T(s) = max tan ε of the terrain before s (none within the antenna's own pixel; the
+ * near field sampled NEAR_SUBSTEPS times per step), floor = (Re + ha)/(cos(s/Re) − T·sin(s/Re)) − Re. Beyond the
+ * first unknown terrain sample the floor is unknown (NaN), never sea level.
+ *
+ * The sensor's own limits (pattern-limited detection range, instrumented and minimum range, cone of silence)
+ * come from footprint.ts `sensorBand`; the cone-of-silence edge is solved exactly on the sphere.
+ */
+import { InputError } from '../../shared/errors.ts';
+import { DEG_TO_RAD, flToMetres, formatFl, RAD_TO_DEG } from '../../shared/units.ts';
+import { RadialFan } from './geodesy.ts';
+import { FLOOR_CAP_M, NEAR_SUBSTEPS, planHorizon, type TerrainRaster } from './horizon.ts';
+import { sensorBand } from './footprint.ts';
+import type { SensorModel } from './sensor.ts';
+
+
+/** The engine's marker for "nothing screens yet" (next to the antenna). */
+const NOTHING = -1e9;
+/** At most this many chart samples along the radial (every stride-th engine sample is kept). */
+const MAX_CHART_POINTS = 3000;
+/** Envelope rows: at most this many, and never closer than the chart step. */
+const MAX_ENVELOPE_ROWS = 800;
+/** A sample is in shadow when the line-of-sight floor is this far above the terrain. */
+const SHADOW_TOLERANCE_M = 0.5;
+/** The cone-of-silence edge is tabulated from the antenna up to this altitude (above FL600 with room). */
+const CONE_TOP_M = 25_000;
+const CONE_POINTS = 64;
+
+export interface DiagramSite {
+  lon: number;
+  lat: number;
+  /** Antenna height above ground, metres. */
+  mastM: number;
+}
+
+export interface DiagramOptions {
+  /** Azimuth of the radial, degrees clockwise from true north. */
+  azimuthDeg: number;
+  /** Effective-earth factor k (default 4/3). */
+  kFactor?: number;
+  /** Farthest ground range drawn, metres (default: the sensor's instrumented range). */
+  maxRangeM?: number;
+  /** Target radar cross-section, m². */
+  rcsM2: number;
+  /** Detection in rain (the sensor's weather range), default false. */
+  weather?: boolean;
+  /** Flight levels to mark (whole numbers, ISA altitude FL × 100 ft). */
+  flightLevels: number[];
+  /** Earth radius R, metres (default 6 371 000). */
+  earthRadiusM?: number;
+}
+
+export interface RangeRun {
+  /** First and last chart sample of the run (ground range, m). */
+  fromM: number;
+  toM: number;
+}
+
+export interface DiagramFlightLevel {
+  fl: number;
+  /** 'FL100'. */
+  label: string;
+  altitudeM: number;
+  /** Ground range at which this altitude enters the cone of silence (0 at or below the antenna). */
+  coneEdgeM: number;
+}
+
+export interface DiagramData {
+  readonly lon: number;
+  readonly lat: number;
+  readonly azimuthDeg: number;
+  readonly kFactor: number;
+  readonly earthRadiusM: number;
+  /** Effective earth radius k·R. */
+  readonly reM: number;
+  readonly mastM: number;
+  readonly groundM: number;
+  readonly antennaAltM: number;
+  readonly maxRangeM: number;
+  /** The horizon engine's range step (terrain is taken in at every one of these). */
+  readonly engineStepM: number;
+  /** Spacing of `rangesM` (a whole multiple of engineStepM). */
+  readonly stepM: number;
+  /** Ground range of each chart sample, m. */
+  readonly rangesM: Float64Array;
+  /** Terrain at each chart sample, m AMSL; NaN where unknown. */
+  readonly terrainM: Float64Array;
+  /**
+   * Line-of-sight floor at each chart sample, m AMSL: the lowest altitude in line of sight of the antenna, never
+   * below the terrain, capped at FLOOR_CAP_M; NaN where the sight line crosses unknown terrain.
+   */
+  readonly floorM: Float64Array;
+  /** Where the floor stands above the terrain (terrain and earth-curvature shadow). */
+  readonly shadow: RangeRun[];
+  /** Where the terrain is unknown. */
+  readonly unknown: RangeRun[];
+  /** Detection envelope from the sensor's limits only (no terrain): per row, lowest and highest altitude. */
+  readonly envelope: {
+    readonly stepM: number;
+    readonly rangesM: Float64Array;
+    /** m AMSL; NaN where nothing is detected at that range. */
+    readonly loM: Float64Array;
+    readonly hiM: Float64Array;
+  };
+  /** Edge of the cone of silence: ground range (m) at which each altitude reaches the maximum elevation. */
+  readonly cone: {
+    readonly maxElevationDeg: number;
+    readonly altitudesM: Float64Array;
+    readonly rangesM: Float64Array;
+  };
+  readonly flightLevels: DiagramFlightLevel[];
+  readonly sensor: {
+    readonly id: string;
+    readonly kind: 'primary' | 'secondary';
+    readonly rcsM2: number;
+    readonly weather: boolean;
+    readonly instrumentedRangeM: number;
+    readonly minRangeM: number;
+  };
+}
+
+/**
+ * Ground range at which a ray leaving the antenna (altitude ha) at elevation ε reaches altitude h on a sphere
+ * of radius re. Triangle centre–antenna–target: the angle at the antenna is π/2 + ε, so by the law of sines
+ * the angle at the target is φ = asin((re + ha)·cos ε / (re + h)) and the central angle is π/2 − ε − φ.
+ */
+export function rayGroundRangeM(h: number, ha: number, re: number, elevationRad: number): number {
+  if (h <= ha) return 0;
+  const phi = Math.asin(((re + ha) * Math.cos(elevationRad)) / (re + h));
+  return re * Math.max(0, Math.PI / 2 - elevationRad - phi);
+}
+
+export function diagramData(
+  terrain: TerrainRaster,
+  site: DiagramSite,
+  model: SensorModel,
+  opts: DiagramOptions,
+): DiagramData {
+  if (!Number.isFinite(opts.azimuthDeg)) {
+    throw new InputError('azimuthDeg', String(opts.azimuthDeg), 'an azimuth in degrees clockwise from north');
+  }
+  if (!(opts.rcsM2 > 0) || !Number.isFinite(opts.rcsM2)) {
+    throw new InputError('rcsM2', String(opts.rcsM2), 'a positive target radar cross-section in m²');
+  }
+  if (!Array.isArray(opts.flightLevels)) {
+    throw new InputError(
+      'flightLevels',
+      String(opts.flightLevels),
+      'a list of flight levels such as [50, 100]',
+    );
+  }
+  const flightLevels = opts.flightLevels.map((fl, i) => {
+    if (!Number.isInteger(fl) || fl < 0 || fl > 999) {
+      throw new InputError(`flightLevels[${i}]`, String(fl), 'a whole flight level from 0 to 999');
+    }
+    return fl;
+  });
+  const maxRangeM = opts.maxRangeM ?? model.instrumentedRangeM;
+  const layout = planHorizon(terrain, {
+    lon: site.lon,
+    lat: site.lat,
+    mastM: site.mastM,
+    kFactor: opts.kFactor,
+    maxRangeM,
+    earthRadiusM: opts.earthRadiusM,
+  });
+  const azimuthDeg = ((opts.azimuthDeg % 360) + 360) % 360;
+  const re = layout.reM;
+  const ha = layout.antennaAltM;
+  const rha = re + ha;
+  const ds = layout.rangeStepM;
+
+  // --- The engine's sweep along this one radial, at every engine sample. ---
+  const fan = new RadialFan(layout.lon, layout.lat, layout.maxRangeM, terrain);
+  const knots = new Float64Array(fan.rangeKnotCount * 2);
+  fan.knotsForAzimuth(azimuthDeg * DEG_TO_RAD, knots);
+  const lastKnot = fan.rangeKnotCount - 2;
+  const knotM = fan.rangeKnotM;
+  // Terrain at ground range s through the fan's knot formula (RadialFan.position without its allocation).
+  const terrainAt = (s: number): number => {
+    const m = Math.min(Math.floor(s / knotM), lastKnot);
+    const f = (s - m * knotM) / knotM;
+    const x = fan.x0 + s * (knots[m * 2] * (1 - f) + knots[m * 2 + 2] * f);
+    const y = fan.y0 + s * (knots[m * 2 + 1] * (1 - f) + knots[m * 2 + 3] * f);
+    return terrain.samplePixel(x, y);
+  };
+  const n = Math.floor(maxRangeM / ds + 1e-9) + 1; // samples j·ds ≤ maxRangeM
+  const jFirst = Math.max(1, Math.ceil(layout.firstScreenM / ds));
+  const jNear = Math.min(layout.rangeCount - 1, Math.ceil(layout.nearFieldM / ds));
+  const firstM = jFirst * ds;
+  const sub = ds / NEAR_SUBSTEPS;
+  const stride = Math.max(1, Math.ceil((n - 1) / (MAX_CHART_POINTS - 1)));
+  const m = Math.floor((n - 1) / stride) + 1;
+  const rangesM = new Float64Array(m);
+  const terrainM = new Float64Array(m);
+  const floorM = new Float64Array(m);
+  let T = NOTHING;
+  for (let j = 0; j < n; j++) {
+    const s = j * ds;
+    const z = terrainAt(s);
+    if (j % stride === 0) {
+      // Screening before sample j gives the floor at j (the engine stores T before taking sample j in).
+      const i = j / stride;
+      rangesM[i] = s;
+      terrainM[i] = z;
+      let h: number;
+      if (T !== T || z !== z) h = NaN;
+      else if (T <= NOTHING) h = z;
+      else {
+        const den = Math.cos(s / re) - T * Math.sin(s / re);
+        h = den > 1e-9 ? Math.min(FLOOR_CAP_M, rha / den - re) : FLOOR_CAP_M;
+        if (h < z) h = z;
+      }
+      floorM[i] = h;
+    }
+    if (T !== T) continue;
+    if (j < jNear) {
+      for (let k = 0; k < NEAR_SUBSTEPS; k++) {
+        const sk = s + k * sub;
+        if (sk < firstM) continue;
+        const zk = k === 0 ? z : terrainAt(sk);
+        if (zk !== zk) {
+          T = NaN;
+          break;
+        }
+        const t = ((re + zk) * Math.cos(sk / re) - rha) / ((re + zk) * Math.sin(sk / re));
+        if (t > T) T = t;
+      }
+    } else if (j >= jFirst) {
+      if (z !== z) {
+        T = NaN;
+        continue;
+      }
+      const t = ((re + z) * Math.cos(s / re) - rha) / ((re + z) * Math.sin(s / re));
+      if (t > T) T = t;
+    }
+  }
+
+  const shadow = runs(rangesM, (i) => floorM[i] - terrainM[i] > SHADOW_TOLERANCE_M);
+  const unknown = runs(rangesM, (i) => terrainM[i] !== terrainM[i]);
+
+  // --- Sensor limits (no terrain). ---
+  let lowestM = 0;
+  for (let i = 0; i < m; i++) if (terrainM[i] < lowestM) lowestM = terrainM[i];
+  const stepM = stride * ds;
+  const envStepM = Math.max(stepM, maxRangeM / MAX_ENVELOPE_ROWS);
+  const weather = opts.weather ?? false;
+  const band = sensorBand(model, {
+    antennaAltM: ha,
+    reM: re,
+    rcsM2: opts.rcsM2,
+    weather,
+    maxRangeM,
+    stepM: envStepM,
+    bottomM: lowestM,
+  });
+  const rows = Math.floor(maxRangeM / envStepM + 1e-9) + 1;
+  const envRanges = new Float64Array(rows);
+  for (let i = 0; i < rows; i++) envRanges[i] = i * envStepM;
+
+  const eMax = model.maxElevationRad;
+  const coneAlt = new Float64Array(CONE_POINTS);
+  const coneRange = new Float64Array(CONE_POINTS);
+  for (let i = 0; i < CONE_POINTS; i++) {
+    const h = ha + ((CONE_TOP_M - ha) * i) / (CONE_POINTS - 1);
+    coneAlt[i] = h;
+    coneRange[i] = rayGroundRangeM(h, ha, re, eMax);
+  }
+
+  return {
+    lon: layout.lon,
+    lat: layout.lat,
+    azimuthDeg,
+    kFactor: layout.kFactor,
+    earthRadiusM: layout.earthRadiusM,
+    reM: re,
+    mastM: layout.mastM,
+    groundM: layout.groundM,
+    antennaAltM: ha,
+    maxRangeM,
+    engineStepM: ds,
+    stepM,
+    rangesM,
+    terrainM,
+    floorM,
+    shadow,
+    unknown,
+    envelope: {
+      stepM: envStepM,
+      rangesM: envRanges,
+      loM: band.lo.slice(0, rows),
+      hiM: band.hi.slice(0, rows),
+    },
+    cone: { maxElevationDeg: eMax * RAD_TO_DEG, altitudesM: coneAlt, rangesM: coneRange },
+    flightLevels: flightLevels.map((fl) => {
+      const altitudeM = flToMetres(fl);
+      return { fl, label: formatFl(fl), altitudeM, coneEdgeM: rayGroundRangeM(altitudeM, ha, re, eMax) };
+    }),
+    sensor: {
+      id: model.spec.id,
+      kind: model.kind,
+      rcsM2: opts.rcsM2,
+      weather,
+      instrumentedRangeM: model.instrumentedRangeM,
+      minRangeM: model.minRangeM,
+    },
+  };
+}
+
+/** Maximal runs of consecutive samples for which `inside(i)` holds. */
+function runs(rangesM: Float64Array, inside: (i: number) => boolean): RangeRun[] {
+  const out: RangeRun[] = [];
+  let start = -1;
+  for (let i = 0; i <= rangesM.length; i++) {
+    const on = i < rangesM.length && inside(i);
+    if (on && start < 0) start = i;
+    else if (!on && start >= 0) {
+      out.push({ fromM: rangesM[start], toM: rangesM[i - 1] });
+      start = -1;
+    }
+  }
+  return out;
+}
