@@ -6,6 +6,8 @@
 import { isInputError } from '../shared/errors.ts';
 import { floorCommand, FLOOR_HELP } from './cli/floor.ts';
 import { demoCommand, demoDataCommand, DEMO_HELP, DEMO_DATA_HELP } from './cli/demo.ts';
+import { coverageCommand, COVERAGE_HELP } from './cli/coverage.ts';
+import { diagramCommand, DIAGRAM_HELP } from './cli/diagram.ts';
 
 const HELP = `airshade — radar network coverage planner (planning aid; see the cautions in README.md)
 
@@ -15,11 +17,15 @@ Commands:
   demo          run the terrain-masking engine on the invented demo region and print a summary
   demo-data     generate the demo terrain tiles (data/demo/terrain) if they are missing
   floor         lowest line-of-sight altitude above every cell of a DEM, as a GeoTIFF
+  coverage      what a network of sensors detects at each flight level: GeoJSON layers and statistics
+  diagram       vertical coverage diagram (range–height) of one sensor on one site along one azimuth, as SVG
 `;
 
 type Command = (argv: readonly string[], log: (s: string) => void) => Promise<number>;
 const COMMANDS: Record<string, { run: Command; help: string }> = {
   floor: { run: floorCommand, help: FLOOR_HELP },
+  coverage: { run: coverageCommand, help: COVERAGE_HELP },
+  diagram: { run: diagramCommand, help: DIAGRAM_HELP },
   demo: { run: demoCommand, help: DEMO_HELP },
   'demo-data': { run: demoDataCommand, help: DEMO_DATA_HELP },
 };

@@ -6,6 +6,7 @@
  * Both stages are embarrassingly parallel; an Executor decides where the pieces run. The inline executor runs
  * them here (tests); the Node CLI and the browser pass executors over worker pools with the same interface.
  */
+import { nowMs } from './clock.ts';
 import type { GridGeo } from './grid.ts';
 import type { HorizonCache } from './horizon-cache.ts';
 import { gridMapper } from './grid.ts';
@@ -119,7 +120,7 @@ export async function computeFloor(
   const pieces = n === 1 ? 1 : n * 4;
   let done = 0;
   const tick = (stage: string) => () => onProgress?.(++done / (pieces * 2), stage);
-  const t0 = performance.now();
+  const t0 = nowMs();
   let horizon = cache?.get(terrain, spec);
   if (horizon) {
     done = pieces;
@@ -136,7 +137,7 @@ export async function computeFloor(
     cache?.set(terrain, spec, horizon);
   }
   const { layout, tan } = horizon;
-  const t1 = performance.now();
+  const t1 = nowMs();
   const resampled = tick('resampling');
   const cells = outGeo.width * outGeo.height;
   const alloc = () =>
@@ -163,7 +164,7 @@ export async function computeFloor(
         }),
     ),
   );
-  const t2 = performance.now();
+  const t2 = nowMs();
   const beyond = counts.reduce((a, c) => a + c.beyondRange, 0);
   const unknown = counts.reduce((a, c) => a + c.unknown, 0);
   return {
