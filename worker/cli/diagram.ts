@@ -39,40 +39,61 @@ export async function diagramCommand(argv: readonly string[], log: (s: string) =
     return 0;
   }
   if (p.positional.length !== 1) {
-    throw new InputError('airshade diagram', p.positional.length === 0 ? 'no scenario file' : `${p.positional.length} positional arguments`, 'one SCENARIO.json (see --help)');
+    throw new InputError(
+      'airshade diagram',
+      p.positional.length === 0 ? 'no scenario file' : `${p.positional.length} positional arguments`,
+      'one SCENARIO.json (see --help)',
+    );
   }
   const siteId = required(p, 'site', 'the id of a site in the scenario');
   const typeId = required(p, 'type', 'the id of a sensor type in the scenario');
-  const azimuthDeg = numberArg('azimuth', required(p, 'azimuth', 'an azimuth in degrees'), -360, 360, 'an azimuth in degrees clockwise from true north (0–360)');
+  const azimuthDeg = numberArg(
+    'azimuth',
+    required(p, 'azimuth', 'an azimuth in degrees'),
+    -360,
+    360,
+    'an azimuth in degrees clockwise from true north (0–360)',
+  );
   const outPath = required(p, 'out', 'the output SVG path');
   const unitsText = one(p, 'units') ?? 'metric';
-  if (unitsText !== 'metric' && unitsText !== 'aviation') throw new InputError('--units', JSON.stringify(unitsText), 'metric (km, m) or aviation (NM, ft)');
+  if (unitsText !== 'metric' && unitsText !== 'aviation')
+    throw new InputError('--units', JSON.stringify(unitsText), 'metric (km, m) or aviation (NM, ft)');
   const rangeText = one(p, 'max-range-km');
-  const maxRangeM = rangeText === undefined ? undefined : numberArg('max-range-km', rangeText, 1, 2000, 'a range in km from 1 to 2000') * 1000;
+  const maxRangeM =
+    rangeText === undefined
+      ? undefined
+      : numberArg('max-range-km', rangeText, 1, 2000, 'a range in km from 1 to 2000') * 1000;
   const loaded = await loadScenario(p.positional[0]);
   const s = loaded.scenario;
   const site = s.sites.find((f) => f.properties.id === siteId);
   if (!site) {
-    throw new InputError('--site', JSON.stringify(siteId), `the id of a site in ${loaded.file} (${s.sites.slice(0, 8).map((f) => f.properties.id).join(', ')}${s.sites.length > 8 ? ', …' : ''})`);
+    throw new InputError(
+      '--site',
+      JSON.stringify(siteId),
+      `the id of a site in ${loaded.file} (${s.sites
+        .slice(0, 8)
+        .map((f) => f.properties.id)
+        .join(', ')}${s.sites.length > 8 ? ', …' : ''})`,
+    );
   }
   const ti = s.sensorTypes.findIndex((t) => t.id === typeId);
-  if (ti < 0) throw new InputError('--type', JSON.stringify(typeId), `the id of a sensor type in ${loaded.file} (${s.sensorTypes.map((t) => t.id).join(', ')})`);
+  if (ti < 0)
+    throw new InputError(
+      '--type',
+      JSON.stringify(typeId),
+      `the id of a sensor type in ${loaded.file} (${s.sensorTypes.map((t) => t.id).join(', ')})`,
+    );
   const model = buildSensorModel(s.sensorTypes[ti], loaded.locate(['sensorTypes', ti]));
   const terrain = Terrain.fromTiles(await readTiles(loaded.terrainPaths));
   const [lon, lat] = site.geometry.coordinates;
-  const data = diagramData(
-    terrain,
-    { lon, lat, mastM: site.properties.mastHeightM },
-    model,
-    {
-      azimuthDeg: ((azimuthDeg % 360) + 360) % 360,
-      kFactor: s.earth.kFactor,
-      maxRangeM,
-      rcsM2: model.spec.targetRcsM2 ?? s.targetRcsM2 ?? model.targetRcsM2,
-      weather: p.flags.has('weather'),
-      flightLevels: s.flightLevels,
-    },
-  );
+  const data = diagramData(terrain, { lon, lat, mastM: site.properties.mastHeightM }, model, {
+    azimuthDeg: ((azimuthDeg % 360) + 360) % 360,
+    kFactor: s.earth.kFactor,
+    maxRangeM,
+    rcsM2: model.spec.targetRcsM2 ?? s.targetRcsM2 ?? model.targetRcsM2,
+    weather: p.flags.has('weather'),
+    flightLevels: s.flightLevels,
+  });
   const title = `${site.properties.name} — ${model.spec.name} — azimuth ${data.azimuthDeg.toFixed(1)}°`;
   writeFileChecked(outPath, renderDiagramSvg(data, { title, units: unitsText }));
   const shadowKm = data.shadow.reduce((a, r) => a + (r.toM - r.fromM), 0) / 1000;

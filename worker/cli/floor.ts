@@ -144,6 +144,8 @@ export function windowOf(terrain: Terrain, geo: GridGeo): Float32Array {
   const t = terrain.geo;
   const dc = Math.round((geo.originX - t.originX) / t.pixelX);
   const dr = Math.round((geo.originY - t.originY) / t.pixelY);
+  // The whole terrain: no copy.
+  if (dc === 0 && dr === 0 && geo.width === t.width && geo.height === t.height) return terrain.data;
   const out = new Float32Array(geo.width * geo.height);
   for (let r = 0; r < geo.height; r++) {
     const src = (r + dr) * t.width + dc;

@@ -22,7 +22,6 @@ import { FLOOR_CAP_M, NEAR_SUBSTEPS, planHorizon, type TerrainRaster } from './h
 import { sensorBand } from './footprint.ts';
 import type { SensorModel } from './sensor.ts';
 
-
 /** The engine's marker for "nothing screens yet" (next to the antenna). */
 const NOTHING = -1e9;
 /** At most this many chart samples along the radial (every stride-th engine sample is kept). */
@@ -180,7 +179,7 @@ export function diagramData(
   const ds = layout.rangeStepM;
 
   // --- The engine's sweep along this one radial, at every engine sample. ---
-  const fan = new RadialFan(layout.lon, layout.lat, layout.maxRangeM, terrain);
+  const fan = new RadialFan(layout.fan);
   const knots = new Float64Array(fan.rangeKnotCount * 2);
   fan.knotsForAzimuth(azimuthDeg * DEG_TO_RAD, knots);
   const lastKnot = fan.rangeKnotCount - 2;

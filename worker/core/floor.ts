@@ -112,8 +112,9 @@ export async function computeFloor(
   const mapper = gridMapper(outGeo);
   onProgress?.(0, 'geodesics');
   const vmap = VectorMap.build(req.lon, req.lat, outGeo.width, outGeo.height, mapper);
-  const maxRangeM =
-    req.maxRangeM ?? vmap.maxDistanceM() + 2 * vmap.block * Math.max(1, pixelSizeM(terrain, req));
+  // Never farther than the grid's farthest cell: what lies beyond is not asked for.
+  const gridReach = vmap.maxDistanceM() + 2 * vmap.block * Math.max(1, pixelSizeM(terrain, req));
+  const maxRangeM = Math.min(req.maxRangeM ?? gridReach, gridReach);
   const spec: HorizonSpec = { ...req, maxRangeM };
   const n = Math.max(1, exec.size);
   // More pieces than workers so progress moves and uneven sectors balance out.

@@ -109,46 +109,76 @@ export interface FanOptions {
   rangeKnotM?: number;
 }
 
-export class RadialFan {
+/** Plain-object form of a RadialFan (structured-cloneable: built once, sent to every worker). */
+export interface RadialFanParts {
+  readonly lon: number;
+  readonly lat: number;
+  readonly maxRangeM: number;
   readonly x0: number;
   readonly y0: number;
   readonly azKnotCount: number;
   readonly rangeKnotCount: number;
   readonly rangeKnotM: number;
   /** Q table: [(az * rangeKnotCount + m) * 2 + {0: x, 1: y}], pixels per metre. */
-  private readonly q: Float64Array;
+  readonly q: Float64Array;
+}
 
-  constructor(
-    readonly lon: number,
-    readonly lat: number,
-    readonly maxRangeM: number,
+export class RadialFan implements RadialFanParts {
+  readonly lon: number;
+  readonly lat: number;
+  readonly maxRangeM: number;
+  readonly x0: number;
+  readonly y0: number;
+  readonly azKnotCount: number;
+  readonly rangeKnotCount: number;
+  readonly rangeKnotM: number;
+  readonly q: Float64Array;
+
+  constructor(p: RadialFanParts) {
+    this.lon = p.lon;
+    this.lat = p.lat;
+    this.maxRangeM = p.maxRangeM;
+    this.x0 = p.x0;
+    this.y0 = p.y0;
+    this.azKnotCount = p.azKnotCount;
+    this.rangeKnotCount = p.rangeKnotCount;
+    this.rangeKnotM = p.rangeKnotM;
+    this.q = p.q;
+  }
+
+  /** Tabulates exact geodesics from (lon, lat) out to maxRangeM, mapped to the pixels of `mapper`. */
+  static build(
+    lon: number,
+    lat: number,
+    maxRangeM: number,
     mapper: PixelMapper,
     options: FanOptions = {},
-  ) {
+  ): RadialFan {
     const azKnotDeg = options.azKnotDeg ?? 1;
-    this.azKnotCount = Math.round(360 / azKnotDeg);
-    this.rangeKnotM = options.rangeKnotM ?? Math.max(50, Math.min(10_000, maxRangeM / 16));
-    this.rangeKnotCount = Math.ceil(maxRangeM / this.rangeKnotM) + 2;
+    const azKnotCount = Math.round(360 / azKnotDeg);
+    const rangeKnotM = options.rangeKnotM ?? Math.max(50, Math.min(10_000, maxRangeM / 16));
+    const rangeKnotCount = Math.ceil(maxRangeM / rangeKnotM) + 2;
     const p = [0, 0];
     mapper.lonLatToPixel(lon, lat, p);
-    this.x0 = p[0];
-    this.y0 = p[1];
-    const nA = this.azKnotCount;
-    const nS = this.rangeKnotCount;
-    this.q = new Float64Array(nA * nS * 2);
+    const x0 = p[0];
+    const y0 = p[1];
+    const nA = azKnotCount;
+    const nS = rangeKnotCount;
+    const q = new Float64Array(nA * nS * 2);
     for (let a = 0; a < nA; a++) {
       const azDeg = (a * 360) / nA;
       const line = WGS84.DirectLine(lat, lon, azDeg, maxRangeM);
       for (let m = 0; m < nS; m++) {
         // At s = 0 the quotient is the limit; one metre out is as good as the limit for a table.
-        const s = m === 0 ? 1 : m * this.rangeKnotM;
+        const s = m === 0 ? 1 : m * rangeKnotM;
         const pos = line.Position(s);
         mapper.lonLatToPixel(pos.lon2 as number, pos.lat2 as number, p);
         const k = (a * nS + m) * 2;
-        this.q[k] = (p[0] - this.x0) / s;
-        this.q[k + 1] = (p[1] - this.y0) / s;
+        q[k] = (p[0] - x0) / s;
+        q[k + 1] = (p[1] - y0) / s;
       }
     }
+    return new RadialFan({ lon, lat, maxRangeM, x0, y0, azKnotCount, rangeKnotCount, rangeKnotM, q });
   }
 
   /**
@@ -250,8 +280,9 @@ export class VectorMap implements VectorMapParts {
 
   /**
    * Tabulates the exact inverse geodesic from the site to the centre of every `block`-th cell of a width × height
-   * grid. The default block keeps nodes within ~4 km of each other (interpolation error (4 km)²/(8R) ≈ 0.3 m)
-   * and at most 64 cells apart; a block of 1 makes every cell exact.
+   * grid. The default block keeps the interpolation error (node spacing d: about d²/(8R)) under 0.3 m or a
+   * thousandth of a cell, whichever is larger, with nodes at most 64 cells apart; a block of 1 makes every cell
+   * exact.
    */
   static build(
     siteLon: number,
@@ -261,7 +292,10 @@ export class VectorMap implements VectorMapParts {
     mapper: PixelMapper,
     block?: number,
   ): VectorMap {
-    const b = block ?? Math.max(1, Math.min(64, Math.floor(4000 / cellSizeM(width, height, mapper))));
+    // Bilinear error between nodes d apart is about d²/(8R): allow 0.3 m, or a thousandth of a cell on coarse grids.
+    const cellM = cellSizeM(width, height, mapper);
+    const spanM = Math.sqrt(8 * 6_371_000 * Math.max(0.3, cellM * 1e-3));
+    const b = block ?? Math.max(1, Math.min(64, Math.floor(spanM / cellM)));
     const nodesX = Math.ceil((width - 1) / b) + 1;
     const nodesY = Math.ceil((height - 1) / b) + 1;
     const v = new Float64Array(nodesX * nodesY * 2);

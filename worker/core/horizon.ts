@@ -18,7 +18,13 @@
  */
 import { EARTH_RADIUS_M } from '../../shared/units.ts';
 import { InputError } from '../../shared/errors.ts';
-import { pseudoToAzimuthRad, RadialFan, VectorMap, type PixelMapper } from './geodesy.ts';
+import {
+  pseudoToAzimuthRad,
+  RadialFan,
+  VectorMap,
+  type PixelMapper,
+  type RadialFanParts,
+} from './geodesy.ts';
 
 /** What the engine needs of the terrain: one raster with NaN for unknown, and its georeferencing. */
 export interface TerrainRaster extends PixelMapper {
@@ -85,6 +91,8 @@ export interface HorizonLayout {
   readonly rangeCount: number;
   readonly levels: readonly HorizonLevel[];
   readonly totalSamples: number;
+  /** The geodesic table of the radials, built once here and shipped to every worker with the layout. */
+  readonly fan: RadialFanParts;
 }
 
 /** A computed horizon: layout + tan of the screening angle for a target at each (radial, range sample). */
@@ -164,6 +172,7 @@ export function planHorizon(terrain: TerrainRaster, spec: HorizonSpec): HorizonL
     rangeCount,
     levels,
     totalSamples: offset,
+    fan: RadialFan.build(spec.lon, spec.lat, spec.maxRangeM, terrain),
   };
 }
 
@@ -381,7 +390,7 @@ export function sweepSector(
   sectorEnd = 1,
   onProgress?: (fraction: number) => void,
 ): void {
-  const fan = new RadialFan(layout.lon, layout.lat, layout.maxRangeM, terrain);
+  const fan = new RadialFan(layout.fan);
   const rt = rangeTables(layout);
   const knots = new Float64Array(fan.rangeKnotCount * 2);
   const W = terrain.geo.width;
@@ -624,7 +633,7 @@ function resampleRow(
  * produced by the sweep's own stepping code. For tests of the geodesy.
  */
 export function traceRadial(terrain: TerrainRaster, layout: HorizonLayout, azimuthRad: number): Float64Array {
-  const fan = new RadialFan(layout.lon, layout.lat, layout.maxRangeM, terrain);
+  const fan = new RadialFan(layout.fan);
   const knots = new Float64Array(fan.rangeKnotCount * 2);
   fan.knotsForAzimuth(azimuthRad, knots);
   const trace = new Float64Array(layout.rangeCount * 2).fill(NaN);

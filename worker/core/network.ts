@@ -1,0 +1,180 @@
+/**
+ * The network: for a set of active sensors (footprints), per flight level and analysis cell, how many distinct
+ * sites see the cell — for any kind, primary only and secondary only — and the network floor (lowest covered
+ * altitude). Sensors on one site fail together, so a fold counts sites, not sensors.
+ *
+ * Switching a site on or off updates the counts incrementally from the cached footprints: only that site's
+ * sensors are read (a map what-if).
+ */
+import { InputError } from '../../shared/errors.ts';
+import type { Footprint } from './footprint.ts';
+
+export const KINDS = ['any', 'primary', 'secondary'] as const;
+export type FoldKind = (typeof KINDS)[number];
+
+type Bits = Uint8Array | Uint16Array | Uint32Array;
+
+export class Network {
+  /** fold[kindIndex * flCount + flIndex][cell] = distinct sites covering the cell at that level. */
+  readonly fold: Uint8Array[];
+  readonly active: boolean[];
+  private readonly bySite = new Map<string, number[]>();
+  /** Per footprint, per cell: bit f set iff the sensor covers the cell at altitudesM[f]. */
+  private readonly bits: Bits[];
+  /** Per footprint: bit f set iff it covers any cell at altitudesM[f]. */
+  private readonly anyAt: number[];
+  private readonly scratch: Bits;
+
+  constructor(
+    readonly cells: number,
+    readonly altitudesM: readonly number[],
+    readonly footprints: readonly Footprint[],
+    active?: readonly boolean[],
+  ) {
+    if (altitudesM.length > 32) {
+      throw new InputError(
+        'flightLevels',
+        `${altitudesM.length} levels`,
+        'at most 32 flight levels in one network',
+      );
+    }
+    const make = (): Bits =>
+      altitudesM.length <= 8
+        ? new Uint8Array(cells)
+        : altitudesM.length <= 16
+          ? new Uint16Array(cells)
+          : new Uint32Array(cells);
+    this.fold = Array.from({ length: KINDS.length * altitudesM.length }, () => new Uint8Array(cells));
+    this.active = footprints.map((_, i) => active?.[i] ?? true);
+    this.anyAt = [];
+    this.bits = footprints.map((fp) => {
+      const b = make();
+      this.anyAt.push(levelBits(fp, altitudesM, b));
+      return b;
+    });
+    footprints.forEach((f, i) => {
+      const list = this.bySite.get(f.siteId) ?? [];
+      list.push(i);
+      this.bySite.set(f.siteId, list);
+    });
+    this.scratch = make();
+    for (const site of this.bySite.keys()) this.applySite(site, +1);
+  }
+
+  get flCount(): number {
+    return this.altitudesM.length;
+  }
+
+  foldOf(kind: FoldKind, flIndex: number): Uint8Array {
+    return this.fold[KINDS.indexOf(kind) * this.altitudesM.length + flIndex];
+  }
+
+  siteIds(): string[] {
+    return [...this.bySite.keys()];
+  }
+
+  /** Sets one sensor on or off; returns whether anything changed. */
+  setSensor(index: number, on: boolean): boolean {
+    if (this.active[index] === on) return false;
+    const site = this.footprints[index].siteId;
+    this.applySite(site, -1);
+    this.active[index] = on;
+    this.applySite(site, +1);
+    return true;
+  }
+
+  /** Sets every sensor of a site on or off (a site outage or its return). */
+  setSite(siteId: string, on: boolean): void {
+    const list = this.bySite.get(siteId);
+    if (!list) return;
+    this.applySite(siteId, -1);
+    for (const i of list) this.active[i] = on;
+    this.applySite(siteId, +1);
+  }
+
+  /** Adds (+1) or removes (−1) one site's contribution with its sensors' current active flags. */
+  private applySite(siteId: string, sign: 1 | -1): void {
+    const list = (this.bySite.get(siteId) ?? []).filter((i) => this.active[i]);
+    if (list.length === 0) return;
+    const nFl = this.altitudesM.length;
+    const m = this.scratch;
+    for (let k = 0; k < KINDS.length; k++) {
+      const kind = KINDS[k];
+      const members = kind === 'any' ? list : list.filter((i) => this.footprints[i].kind === kind);
+      if (members.length === 0) continue;
+      m.fill(0);
+      for (const i of members) orInto(m, this.bits[i]);
+      addBits(this.fold, k * nFl, m, sign);
+    }
+  }
+
+  /** Lowest covered altitude (m AMSL) per cell over the active sensors; NaN where none covers. */
+  networkFloor(): Float32Array {
+    const out = new Float32Array(this.cells).fill(NaN);
+    this.footprints.forEach((fp, i) => {
+      if (!this.active[i]) return;
+      lowerFloor(out, fp);
+    });
+    return out;
+  }
+
+  /** Sites with any active sensor of `kind` covering at least one cell at flight level index f. */
+  contributingSites(kind: FoldKind, flIndex: number): string[] {
+    const out: string[] = [];
+    for (const [site, list] of this.bySite) {
+      const ok = list.some(
+        (i) =>
+          this.active[i] &&
+          (kind === 'any' || this.footprints[i].kind === kind) &&
+          (this.anyAt[i] >>> flIndex) & 1,
+      );
+      if (ok) out.push(site);
+    }
+    return out;
+  }
+}
+
+/** Fills `out` with the level bits of one footprint; returns the bits of levels covered anywhere. */
+function levelBits(fp: Footprint, altitudesM: readonly number[], out: Bits): number {
+  const lo = fp.lo;
+  const hi = fp.hi;
+  const n = altitudesM.length;
+  let seen = 0;
+  for (let c = 0; c < out.length; c++) {
+    const l = lo[c];
+    const h = hi[c];
+    if (l > h) continue;
+    let b = 0;
+    for (let f = 0; f < n; f++) {
+      const a = altitudesM[f];
+      if (l <= a && a <= h) b |= 1 << f;
+    }
+    out[c] = b;
+    seen |= b;
+  }
+  return seen;
+}
+
+function orInto(dst: Bits, src: Bits): void {
+  for (let c = 0; c < dst.length; c++) dst[c] |= src[c];
+}
+
+function addBits(fold: Uint8Array[], base: number, bits: Bits, sign: 1 | -1): void {
+  for (let c = 0; c < bits.length; c++) {
+    let b = bits[c];
+    while (b !== 0) {
+      const f = 31 - Math.clz32(b & -b);
+      fold[base + f][c] += sign;
+      b &= b - 1;
+    }
+  }
+}
+
+function lowerFloor(out: Float32Array, fp: Footprint): void {
+  const lo = fp.lo;
+  const hi = fp.hi;
+  for (let c = 0; c < out.length; c++) {
+    const l = lo[c];
+    if (l <= hi[c] && !(out[c] <= l)) out[c] = l;
+  }
+}

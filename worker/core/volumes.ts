@@ -1,0 +1,138 @@
+/**
+ * Airspace volumes on the analysis grid: which cells each volume holds, cell areas, and the coverage statistics
+ * per volume and flight level (covered share and area, area meeting the volume's required folds, fold
+ * histograms per kind).
+ */
+import type { GridGeo } from './grid.ts';
+import { KINDS, type FoldKind, type Network } from './network.ts';
+
+/** Mean earth radius used for areas (the same sphere @turf/area uses), metres. */
+const AREA_RADIUS_M = 6_371_008.8;
+const DEG = Math.PI / 180;
+
+export interface VolumeLike {
+  id: string;
+  name: string;
+  polygon:
+    { type: 'Polygon'; coordinates: number[][][] } | { type: 'MultiPolygon'; coordinates: number[][][][] };
+  flMin: number;
+  flMax: number;
+  requiredFold: { primary?: number; secondary?: number; any?: number };
+  weight?: number;
+}
+
+/** Cells of a geographic grid whose centres lie inside the polygon (even–odd rule, holes excluded). */
+export function rasterizeVolume(v: VolumeLike, grid: GridGeo): Uint8Array {
+  const polys = v.polygon.type === 'Polygon' ? [v.polygon.coordinates] : v.polygon.coordinates;
+  const rings = polys.flat();
+  const { width: W, height: H } = grid;
+  const mask = new Uint8Array(W * H);
+  const xs: number[] = [];
+  for (let r = 0; r < H; r++) {
+    const lat = grid.originY + (r + 0.5) * grid.pixelY;
+    xs.length = 0;
+    for (const ring of rings) {
+      for (let i = 0, j = ring.length - 1; i < ring.length; j = i++) {
+        const [x1, y1] = ring[j];
+        const [x2, y2] = ring[i];
+        if (y1 > lat !== y2 > lat) xs.push(x1 + ((lat - y1) * (x2 - x1)) / (y2 - y1));
+      }
+    }
+    xs.sort((a, b) => a - b);
+    for (let k = 0; k + 1 < xs.length; k += 2) {
+      // Cells whose centre lon lies in [xs[k], xs[k+1]).
+      const c0 = Math.max(0, Math.ceil((xs[k] - grid.originX) / grid.pixelX - 0.5));
+      const c1 = Math.min(W - 1, Math.ceil((xs[k + 1] - grid.originX) / grid.pixelX - 0.5) - 1);
+      for (let c = c0; c <= c1; c++) mask[r * W + c] = 1;
+    }
+  }
+  return mask;
+}
+
+/** Area (km²) of the cells of each row of a geographic grid, on the sphere. */
+export function rowAreasKm2(grid: GridGeo): Float64Array {
+  const out = new Float64Array(grid.height);
+  const dLon = Math.abs(grid.pixelX) * DEG;
+  for (let r = 0; r < grid.height; r++) {
+    const a = grid.originY + r * grid.pixelY;
+    const b = a + grid.pixelY;
+    out[r] = (AREA_RADIUS_M * AREA_RADIUS_M * dLon * Math.abs(Math.sin(a * DEG) - Math.sin(b * DEG))) / 1e6;
+  }
+  return out;
+}
+
+export interface VolumeLevelStats {
+  volumeId: string;
+  flightLevel: number;
+  areaKm2: number;
+  /** Covered by at least one site of any kind. */
+  coveredKm2: number;
+  coveredPct: number;
+  /** Meeting the volume's required folds (all of its kinds at once). */
+  meetsRequirementKm2: number;
+  meetsRequirementPct: number;
+  /** Area (km²) by fold 0, 1, 2, 3, ≥4, per kind. */
+  foldHistogramKm2: Record<FoldKind, number[]>;
+}
+
+export const HISTOGRAM_BINS = 5;
+
+/** Whether a cell meets a required-fold record given its folds per kind. */
+export function meets(
+  req: VolumeLike['requiredFold'],
+  any: number,
+  primary: number,
+  secondary: number,
+): boolean {
+  return (
+    any >= (req.any ?? 0) && primary >= (req.primary ?? 0) && secondary >= (req.secondary ?? 0) && any >= 1
+  );
+}
+
+export function volumeStats(
+  network: Network,
+  volumes: readonly VolumeLike[],
+  masks: readonly Uint8Array[],
+  flightLevels: readonly number[],
+  grid: GridGeo,
+): VolumeLevelStats[] {
+  const rowArea = rowAreasKm2(grid);
+  const W = grid.width;
+  const out: VolumeLevelStats[] = [];
+  volumes.forEach((v, vi) => {
+    const mask = masks[vi];
+    flightLevels.forEach((fl, f) => {
+      if (fl < v.flMin || fl > v.flMax) return;
+      const any = network.foldOf('any', f);
+      const pri = network.foldOf('primary', f);
+      const sec = network.foldOf('secondary', f);
+      const hist = Object.fromEntries(
+        KINDS.map((k) => [k, new Array<number>(HISTOGRAM_BINS).fill(0)]),
+      ) as Record<FoldKind, number[]>;
+      let area = 0;
+      let covered = 0;
+      let ok = 0;
+      for (let i = 0; i < mask.length; i++) {
+        if (!mask[i]) continue;
+        const a = rowArea[(i / W) | 0];
+        area += a;
+        if (any[i] > 0) covered += a;
+        if (meets(v.requiredFold, any[i], pri[i], sec[i])) ok += a;
+        hist.any[Math.min(any[i], HISTOGRAM_BINS - 1)] += a;
+        hist.primary[Math.min(pri[i], HISTOGRAM_BINS - 1)] += a;
+        hist.secondary[Math.min(sec[i], HISTOGRAM_BINS - 1)] += a;
+      }
+      out.push({
+        volumeId: v.id,
+        flightLevel: fl,
+        areaKm2: area,
+        coveredKm2: covered,
+        coveredPct: area > 0 ? (100 * covered) / area : 0,
+        meetsRequirementKm2: ok,
+        meetsRequirementPct: area > 0 ? (100 * ok) / area : 0,
+        foldHistogramKm2: hist,
+      });
+    });
+  });
+  return out;
+}
