@@ -385,7 +385,7 @@ function summaryText(
     `layers: ${outDir}/coverage-${formatFl(fls[0])}.geojson … (${fls.length} levels), ${outDir}/summary.json, ${outDir}/network-floor.tif`,
   );
   lines.push(
-    `time: ${(t.total / 1000).toFixed(1)} s (footprints ${(t.footprints / 1000).toFixed(1)} s); one site switched off and on: ${t.siteToggle} ms`,
+    `time: ${(t.total / 1000).toFixed(1)} s (footprints ${(t.footprints / 1000).toFixed(1)} s); one site switched off and on: ${t.siteToggle} ms; peak memory ${(process.resourceUsage().maxRSS / 1024).toFixed(0)} MiB`,
   );
   lines.push(
     'Planning aid only — not a certified or flight-inspected result; depends on terrain data and refraction.',
