@@ -8,7 +8,6 @@ import { flToMetres, formatFl } from '../../shared/units.ts';
 import { computeFootprints, type Candidate } from '../core/coverage.ts';
 import { inlineExecutor } from '../core/floor.ts';
 import { WGS84_GEOGRAPHIC, type GridGeo } from '../core/grid.ts';
-import { HorizonCache } from '../core/horizon-cache.ts';
 import { Network, KINDS } from '../core/network.ts';
 import { buildSensorModel, type SensorModel } from '../core/sensor.ts';
 import { Terrain } from '../core/terrain.ts';
@@ -184,8 +183,8 @@ export async function coverageCommand(argv: readonly string[], log: (s: string) 
   const s = loaded.scenario;
   const fls = parseFlightLevels(one(p, 'fl')) ?? s.flightLevels;
   progress.update(0, 'reading terrain');
-  const tiles = await readTiles(loaded.terrainPaths);
-  const terrain = Terrain.fromTiles(tiles, { shared: threads > 0 });
+  // The tiles go out of scope once mosaicked, so their memory can be reclaimed.
+  const terrain = Terrain.fromTiles(await readTiles(loaded.terrainPaths), { shared: threads > 0 });
   checkAgainstTerrain(s, terrainBounds(terrain), loaded.file, loaded.locate);
   const grid = analysisGrid(loaded, terrain);
   const ground = groundOnGrid(terrain, grid);
@@ -209,7 +208,8 @@ export async function coverageCommand(argv: readonly string[], log: (s: string) 
         weather,
       },
       pool ? pool.executor() : inlineExecutor(terrain),
-      { onProgress: (f, stage) => progress.update(0.85 * f, stage), cache: new HorizonCache() },
+      // No horizon cache: each site's horizon is used once here, and the footprints are what a what-if reuses.
+      { onProgress: (f, stage) => progress.update(0.85 * f, stage) },
     );
   } finally {
     await pool?.close();

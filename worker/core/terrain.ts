@@ -135,7 +135,7 @@ export class Terrain {
     const warnings: string[] = [];
     for (const t of tiles) {
       warnings.push(...t.warnings);
-      if (!copyAligned(t, geo, data)) {
+      if (!copyAligned(t, geo, data, t === tiles[0])) {
         resampleInto(t, geo, data);
         if (t !== tiles[0]) {
           warnings.push(`${t.name}: resampled (bilinear) onto the grid of ${tiles[0].name}`);
@@ -309,7 +309,7 @@ function tileBoundsOnLattice(t: GridGeo, base: GridGeo): LatticeBounds {
 }
 
 /** Cell-for-cell copy when the tile lies on the working lattice; false if it does not. */
-function copyAligned(t: DemTile, geo: GridGeo, dst: Float32Array): boolean {
+function copyAligned(t: DemTile, geo: GridGeo, dst: Float32Array, first = false): boolean {
   const g = t.geo;
   if (!sameCrs(g.crs, geo.crs)) return false;
   if (Math.abs(g.pixelX - geo.pixelX) > 1e-9 * Math.abs(geo.pixelX)) return false;
@@ -329,6 +329,11 @@ function copyAligned(t: DemTile, geo: GridGeo, dst: Float32Array): boolean {
     const cEnd = Math.min(tw, W - dc);
     let d = rr * W + dc + cStart;
     let s = r * tw + cStart;
+    if (first) {
+      // Nothing written yet: the whole row at once.
+      dst.set(src.subarray(s, s + cEnd - cStart), d);
+      continue;
+    }
     for (let c = cStart; c < cEnd; c++, d++, s++) {
       if (dst[d] !== dst[d]) dst[d] = src[s]; // first tile wins on shared edges
     }
