@@ -276,7 +276,7 @@ function parseFlightLevels(text: string | undefined): number[] | undefined {
   if (text === undefined) return undefined;
   const parts = text.split(',').map((x) => x.trim());
   const out = parts.map((x) => Number(x));
-  if (parts.some((x) => x === '') || out.some((v) => !Number.isInteger(v) || v < 0 || v > 600)) {
+  if (parts.some((x) => !/^\d+$/.test(x)) || out.some((v) => v > 600)) {
     throw new InputError(
       '--fl',
       JSON.stringify(text),

@@ -15,8 +15,8 @@ export type FoldKind = (typeof KINDS)[number];
 type Bits = Uint8Array | Uint16Array | Uint32Array;
 
 export class Network {
-  /** fold[kindIndex * flCount + flIndex][cell] = distinct sites covering the cell at that level. */
-  readonly fold: Uint8Array[];
+  /** fold[kindIndex * flCount + flIndex][cell] = distinct sites covering the cell at that level (exact to 65 535). */
+  readonly fold: Uint16Array[];
   readonly active: boolean[];
   private readonly bySite = new Map<string, number[]>();
   /** Per footprint, per cell: bit f set iff the sensor covers the cell at altitudesM[f]. */
@@ -31,6 +31,13 @@ export class Network {
     readonly footprints: readonly Footprint[],
     active?: readonly boolean[],
   ) {
+    if (new Set(footprints.map((f) => f.siteId)).size > 65_535) {
+      throw new InputError(
+        'sites',
+        `${new Set(footprints.map((f) => f.siteId)).size} sites`,
+        'at most 65 535 sites in one network',
+      );
+    }
     if (altitudesM.length > 32) {
       throw new InputError(
         'flightLevels',
@@ -44,7 +51,7 @@ export class Network {
         : altitudesM.length <= 16
           ? new Uint16Array(cells)
           : new Uint32Array(cells);
-    this.fold = Array.from({ length: KINDS.length * altitudesM.length }, () => new Uint8Array(cells));
+    this.fold = Array.from({ length: KINDS.length * altitudesM.length }, () => new Uint16Array(cells));
     this.active = footprints.map((_, i) => active?.[i] ?? true);
     this.anyAt = [];
     this.bits = footprints.map((fp) => {
@@ -65,7 +72,7 @@ export class Network {
     return this.altitudesM.length;
   }
 
-  foldOf(kind: FoldKind, flIndex: number): Uint8Array {
+  foldOf(kind: FoldKind, flIndex: number): Uint16Array {
     return this.fold[KINDS.indexOf(kind) * this.altitudesM.length + flIndex];
   }
 
@@ -159,7 +166,7 @@ function orInto(dst: Bits, src: Bits): void {
   for (let c = 0; c < dst.length; c++) dst[c] |= src[c];
 }
 
-function addBits(fold: Uint8Array[], base: number, bits: Bits, sign: 1 | -1): void {
+function addBits(fold: Uint16Array[], base: number, bits: Bits, sign: 1 | -1): void {
   for (let c = 0; c < bits.length; c++) {
     let b = bits[c];
     while (b !== 0) {
