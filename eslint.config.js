@@ -3,7 +3,18 @@ import tseslint from 'typescript-eslint';
 import globals from 'globals';
 
 export default tseslint.config(
-  { ignores: ['node_modules/', 'dist/', 'data/demo/', 'test-output/', 'bench/out/', 'coverage/', 'out/', 'test/scratch/'] },
+  {
+    ignores: [
+      'node_modules/',
+      'dist/',
+      'data/demo/',
+      'test-output/',
+      'bench/out/',
+      'coverage/',
+      'out/',
+      'test/scratch/',
+    ],
+  },
   js.configs.recommended,
   ...tseslint.configs.recommended,
   {
