@@ -30,16 +30,14 @@ import { join } from 'node:path';
 import { afterAll, beforeAll, describe, expect, it, vi } from 'vitest';
 import { flToMetres, formatFl } from '../shared/units.ts';
 import { main } from '../worker/cli.ts';
-import { analysisGrid, chooseNetwork, groundOnGrid } from '../worker/cli/coverage.ts';
+import { allCandidates, footprintsFor, layoutCandidates, openSession } from '../worker/cli/session.ts';
+import { ProgressLine } from '../worker/cli/progress.ts';
+import { analysisGrid } from '../worker/cli/coverage.ts';
 import { readTiles } from '../worker/cli/files.ts';
 import { loadScenario, type LoadedScenario } from '../worker/cli/scenario.ts';
-import { computeFootprints } from '../worker/core/coverage.ts';
-import { inlineExecutor } from '../worker/core/floor.ts';
 import type { Footprint } from '../worker/core/footprint.ts';
 import type { GridGeo } from '../worker/core/grid.ts';
-import { HorizonCache } from '../worker/core/horizon-cache.ts';
 import { KINDS, Network, type FoldKind } from '../worker/core/network.ts';
-import { buildSensorModel } from '../worker/core/sensor.ts';
 import { Terrain } from '../worker/core/terrain.ts';
 import { rasterizeVolume, rowAreasKm2, volumeStats, type VolumeLevelStats } from '../worker/core/volumes.ts';
 import {
@@ -91,28 +89,12 @@ async function pipeline(
   scenarioPath: string,
   o: { layout?: string; weather?: boolean; fls?: number[] } = {},
 ): Promise<Pipeline> {
-  const loaded = await loadScenario(scenarioPath);
+  const session = await openSession(scenarioPath, 0, new ProgressLine('test', true));
+  const { loaded, terrain, grid } = session;
   const s = loaded.scenario;
-  const terrain = Terrain.fromTiles(await readTiles(loaded.terrainPaths));
-  const grid = analysisGrid(loaded, terrain);
-  const ground = groundOnGrid(terrain, grid);
-  const models = new Map(
-    s.sensorTypes.map((t, i) => [t.id, buildSensorModel(t, loaded.locate(['sensorTypes', i]))]),
-  );
-  const choice = chooseNetwork(loaded, models, o.layout);
-  const { footprints } = await computeFootprints(
-    terrain,
-    {
-      grid,
-      ground,
-      candidates: choice.candidates,
-      kFactor: s.earth.kFactor,
-      maxRangeM: s.maxRangeKm * 1000,
-      weather: o.weather ?? false,
-    },
-    inlineExecutor(terrain),
-    { cache: new HorizonCache() },
-  );
+  const candidates =
+    o.layout === undefined ? allCandidates(session) : layoutCandidates(session, o.layout, '--layout');
+  const footprints = await footprintsFor(session, candidates, { weather: o.weather ?? false });
   const fls = o.fls ?? s.flightLevels;
   const network = new Network(grid.width * grid.height, fls.map(flToMetres), footprints);
   return { loaded, terrain, grid, footprints, network, fls };

@@ -5,21 +5,19 @@
  */
 import { InputError } from '../../shared/errors.ts';
 import { flToMetres, formatFl } from '../../shared/units.ts';
-import { computeFootprints, type Candidate } from '../core/coverage.ts';
-import { inlineExecutor } from '../core/floor.ts';
 import { WGS84_GEOGRAPHIC, type GridGeo } from '../core/grid.ts';
 import { Network, KINDS } from '../core/network.ts';
-import { buildSensorModel, type SensorModel } from '../core/sensor.ts';
 import { Terrain } from '../core/terrain.ts';
-import { meets, rasterizeVolume, volumeStats, type VolumeLevelStats } from '../core/volumes.ts';
+import { meets, volumeStats, type VolumeLevelStats } from '../core/volumes.ts';
 import { maskToPolygons, maskAreaKm2 } from '../core/contour.ts';
 import { featureCollection, layerFeature, stringifyGeoJson } from '../io/geojson.ts';
 import { encodeGeoTiff } from '../io/geotiff-write.ts';
 import { NodePool } from '../node-pool.ts';
 import { numberArg, one, parseArgs } from './args.ts';
-import { readTiles, writeFileChecked } from './files.ts';
+import { writeFileChecked } from './files.ts';
 import { ProgressLine } from './progress.ts';
-import { checkAgainstTerrain, loadScenario, type LoadedScenario } from './scenario.ts';
+import type { LoadedScenario } from './scenario.ts';
+import { allCandidates, footprintsFor, layoutCandidates, openSession } from './session.ts';
 
 export const COVERAGE_HELP = `airshade coverage — what the network detects at each flight level
 
@@ -105,56 +103,6 @@ export function groundOnGrid(terrain: Terrain, grid: GridGeo): Float32Array {
   return out;
 }
 
-export interface NetworkChoice {
-  candidates: Candidate[];
-  label: string;
-}
-
-/** The sensors of the network: a named layout, or every allowed (site, type) pair. */
-export function chooseNetwork(
-  loaded: LoadedScenario,
-  models: Map<string, SensorModel>,
-  layoutName?: string,
-): NetworkChoice {
-  const s = loaded.scenario;
-  const sites = new Map(s.sites.map((f) => [f.properties.id, f]));
-  const site = (id: string) => {
-    const f = sites.get(id)!;
-    const [lon, lat] = f.geometry.coordinates;
-    return { id, name: f.properties.name, lon, lat, mastHeightM: f.properties.mastHeightM };
-  };
-  const rcs = (m: SensorModel) => m.spec.targetRcsM2 ?? s.targetRcsM2 ?? m.targetRcsM2;
-  if (layoutName !== undefined) {
-    const layout = (s.layouts ?? []).find((l) => l.name === layoutName);
-    if (!layout) {
-      const names = (s.layouts ?? []).map((l) => JSON.stringify(l.name)).join(', ') || 'none in the scenario';
-      throw new InputError(
-        '--layout',
-        JSON.stringify(layoutName),
-        `the name of a layout in ${loaded.file} (${names})`,
-      );
-    }
-    return {
-      label: `layout "${layout.name}" (${layout.sensors.length} sensors)`,
-      candidates: layout.sensors.map((e) => ({
-        site: site(e.siteId),
-        model: models.get(e.typeId)!,
-        rcsM2: rcs(models.get(e.typeId)!),
-      })),
-    };
-  }
-  const candidates: Candidate[] = [];
-  for (const f of s.sites) {
-    const allowed = f.properties.allowedTypes ?? [...models.keys()];
-    for (const t of allowed)
-      candidates.push({ site: site(f.properties.id), model: models.get(t)!, rcsM2: rcs(models.get(t)!) });
-  }
-  return {
-    label: `every allowed site and type (${candidates.length} sensors on ${s.sites.length} sites)`,
-    candidates,
-  };
-}
-
 export async function coverageCommand(argv: readonly string[], log: (s: string) => void): Promise<number> {
   const p = parseArgs(argv, SPEC, 'coverage');
   if (p.flags.has('help')) {
@@ -178,42 +126,23 @@ export async function coverageCommand(argv: readonly string[], log: (s: string) 
       : numberArg('threads', threadsText, 0, 64, 'a whole number of threads from 0 to 64');
   const started = performance.now();
   const progress = new ProgressLine('coverage', p.flags.has('quiet'));
-  progress.update(0, 'reading the scenario');
-  const loaded = await loadScenario(p.positional[0]);
-  const s = loaded.scenario;
+  const session = await openSession(p.positional[0], threads, progress);
+  const s = session.loaded.scenario;
+  const grid = session.grid;
   const fls = parseFlightLevels(one(p, 'fl')) ?? s.flightLevels;
-  progress.update(0, 'reading terrain');
-  // The tiles go out of scope once mosaicked, so their memory can be reclaimed.
-  const terrain = Terrain.fromTiles(await readTiles(loaded.terrainPaths), { shared: threads > 0 });
-  checkAgainstTerrain(s, terrainBounds(terrain), loaded.file, loaded.locate);
-  const grid = analysisGrid(loaded, terrain);
-  const ground = groundOnGrid(terrain, grid);
-  const models = new Map(
-    s.sensorTypes.map((t, i) => [t.id, buildSensorModel(t, loaded.locate(['sensorTypes', i]))]),
-  );
-  const choice = chooseNetwork(loaded, models, one(p, 'layout'));
+  const layoutName = one(p, 'layout');
+  const candidates =
+    layoutName === undefined ? allCandidates(session) : layoutCandidates(session, layoutName, '--layout');
+  const choice = {
+    candidates,
+    label:
+      layoutName === undefined
+        ? `every allowed site and type (${candidates.length} sensors on ${s.sites.length} sites)`
+        : `layout "${layoutName}" (${candidates.length} sensors)`,
+  };
   const weather = p.flags.has('weather');
-  const pool = threads > 0 ? await NodePool.start(threads, terrain.toParts()) : null;
   const tSetup = performance.now();
-  let result;
-  try {
-    result = await computeFootprints(
-      terrain,
-      {
-        grid,
-        ground,
-        candidates: choice.candidates,
-        kFactor: s.earth.kFactor,
-        maxRangeM: (s.maxRangeKm ?? 400) * 1000,
-        weather,
-      },
-      pool ? pool.executor() : inlineExecutor(terrain),
-      // No horizon cache: each site's horizon is used once here, and the footprints are what a what-if reuses.
-      { onProgress: (f, stage) => progress.update(0.85 * f, stage) },
-    );
-  } finally {
-    await pool?.close();
-  }
+  const result = { footprints: await footprintsFor(session, candidates, { weather, progress }) };
   const tFootprints = performance.now();
   const altitudes = fls.map(flToMetres);
   const network = new Network(grid.width * grid.height, altitudes, result.footprints);
@@ -227,7 +156,7 @@ export async function coverageCommand(argv: readonly string[], log: (s: string) 
   }
   const toggleMs = (performance.now() - tw0) / 2;
   progress.update(0.9, 'statistics');
-  const masks = s.volumes.map((v) => rasterizeVolume(v, grid));
+  const masks = session.volumeMasks;
   const stats = volumeStats(network, s.volumes, masks, fls, grid);
   progress.update(0.92, 'layers');
   for (let f = 0; f < fls.length; f++) {
@@ -239,7 +168,7 @@ export async function coverageCommand(argv: readonly string[], log: (s: string) 
   const tLayers = performance.now();
   const summary = {
     scenario: s.name,
-    file: loaded.file,
+    file: session.loaded.file,
     caution:
       'Planning aid: not a certified or flight-inspected result. Results depend on the terrain data and the refraction assumed; defer to the local authority’s standards and licensed engineering practice.',
     earth: { kFactor: s.earth.kFactor, effectiveRadiusKm: (s.earth.kFactor * 6371).toFixed(1) },
