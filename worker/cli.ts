@@ -8,6 +8,7 @@ import { floorCommand, FLOOR_HELP } from './cli/floor.ts';
 import { demoCommand, demoDataCommand, DEMO_HELP, DEMO_DATA_HELP } from './cli/demo.ts';
 import { coverageCommand, COVERAGE_HELP } from './cli/coverage.ts';
 import { diagramCommand, DIAGRAM_HELP } from './cli/diagram.ts';
+import { outageCommand, OUTAGE_HELP } from './cli/outage.ts';
 
 const HELP = `airshade — radar network coverage planner (planning aid; see the cautions in README.md)
 
@@ -19,6 +20,7 @@ Commands:
   floor         lowest line-of-sight altitude above every cell of a DEM, as a GeoTIFF
   coverage      what a network of sensors detects at each flight level: GeoJSON layers and statistics
   diagram       vertical coverage diagram (range–height) of one sensor on one site along one azimuth, as SVG
+  outage        what is lost, per volume and flight level, when each site of a plan or layout goes down
 `;
 
 type Command = (argv: readonly string[], log: (s: string) => void) => Promise<number>;
@@ -26,6 +28,7 @@ const COMMANDS: Record<string, { run: Command; help: string }> = {
   floor: { run: floorCommand, help: FLOOR_HELP },
   coverage: { run: coverageCommand, help: COVERAGE_HELP },
   diagram: { run: diagramCommand, help: DIAGRAM_HELP },
+  outage: { run: outageCommand, help: OUTAGE_HELP },
   demo: { run: demoCommand, help: DEMO_HELP },
   'demo-data': { run: demoDataCommand, help: DEMO_DATA_HELP },
 };

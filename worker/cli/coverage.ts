@@ -10,7 +10,7 @@ import { Network, KINDS } from '../core/network.ts';
 import { Terrain } from '../core/terrain.ts';
 import { meets, volumeStats, type VolumeLevelStats } from '../core/volumes.ts';
 import { maskToPolygons, maskAreaKm2 } from '../core/contour.ts';
-import { featureCollection, layerFeature, stringifyGeoJson } from '../io/geojson.ts';
+import { featureCollection, layerFeature, stringifyGeoJson, type LayerFeatureProps } from '../io/geojson.ts';
 import { encodeGeoTiff } from '../io/geotiff-write.ts';
 import { NodePool } from '../node-pool.ts';
 import { numberArg, one, parseArgs } from './args.ts';
@@ -217,6 +217,21 @@ function parseFlightLevels(text: string | undefined): number[] | undefined {
 
 type Vol = LoadedScenario['scenario']['volumes'][number];
 
+/** One layer feature from a cell mask of the analysis grid (null when the mask is empty). */
+export function maskLayer(
+  mask: Uint8Array,
+  grid: GridGeo,
+  props: Omit<LayerFeatureProps, 'altitudeM' | 'areaKm2'>,
+): ReturnType<typeof layerFeature> | null {
+  const coords = maskToPolygons(mask, grid.width, grid.height, grid);
+  if (coords.length === 0) return null;
+  return layerFeature(coords, {
+    ...props,
+    altitudeM: flToMetres(props.flightLevel),
+    areaKm2: maskAreaKm2(mask, grid.width, grid.height, grid),
+  });
+}
+
 /** Fold layers written per kind: ≥1 … ≥4, or up to the highest fold a volume requires if that is more. */
 export function maxFoldLayers(volumes: readonly Vol[]): number {
   let m = 4;
@@ -245,19 +260,8 @@ export function levelLayers(
     const siteIds = network.contributingSites(kind, f);
     for (let k = 1; k <= Math.min(max, maxFoldLayers(volumes)); k++) {
       for (let i = 0; i < cells; i++) mask[i] = fold[i] >= k ? 1 : 0;
-      const coords = maskToPolygons(mask, grid.width, grid.height, grid);
-      if (coords.length === 0) continue;
-      features.push(
-        layerFeature(coords, {
-          flightLevel: fl,
-          altitudeM,
-          fold: k,
-          kind,
-          siteIds,
-          layer: 'coverage',
-          areaKm2: maskAreaKm2(mask, grid.width, grid.height, grid),
-        }),
-      );
+      const f = maskLayer(mask, grid, { flightLevel: fl, fold: k, kind, siteIds, layer: 'coverage' });
+      if (f) features.push(f);
     }
   }
   const any = network.foldOf('any', f);
@@ -272,19 +276,15 @@ export function levelLayers(
       n += mask[i];
     }
     if (n === 0) return;
-    const coords = maskToPolygons(mask, grid.width, grid.height, grid);
-    features.push(
-      layerFeature(coords, {
-        flightLevel: fl,
-        altitudeM,
-        fold: 0,
-        kind: 'any',
-        siteIds: [],
-        layer: 'gap',
-        volumeId: v.id,
-        areaKm2: maskAreaKm2(mask, grid.width, grid.height, grid),
-      }),
-    );
+    const f = maskLayer(mask, grid, {
+      flightLevel: fl,
+      fold: 0,
+      kind: 'any',
+      siteIds: [],
+      layer: 'gap',
+      volumeId: v.id,
+    });
+    if (f) features.push(f);
   });
   return featureCollection(features, { flightLevel: fl, altitudeM });
 }

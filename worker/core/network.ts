@@ -23,7 +23,7 @@ export class Network {
   private readonly bits: Bits[];
   /** Per footprint: bit f set iff it covers any cell at altitudesM[f]. */
   private readonly anyAt: number[];
-  private readonly scratch: Bits;
+  private readonly reachCache = new Map<string, Int32Array>();
 
   constructor(
     readonly cells: number,
@@ -64,7 +64,6 @@ export class Network {
       list.push(i);
       this.bySite.set(f.siteId, list);
     });
-    this.scratch = make();
     for (const site of this.bySite.keys()) this.applySite(site, +1);
   }
 
@@ -90,6 +89,26 @@ export class Network {
     return true;
   }
 
+  /** Cells where any active sensor of the site covers some flight level (the only cells its outage can change). */
+  siteCells(siteId: string): Int32Array {
+    const list = (this.bySite.get(siteId) ?? []).filter((i) => this.active[i]);
+    const out: number[] = [];
+    for (let c = 0; c < this.cells; c++) {
+      for (const i of list) {
+        if (this.bits[i][c] !== 0) {
+          out.push(c);
+          break;
+        }
+      }
+    }
+    return Int32Array.from(out);
+  }
+
+  /** Whether any sensor of the site is on. */
+  isSiteActive(siteId: string): boolean {
+    return (this.bySite.get(siteId) ?? []).some((i) => this.active[i]);
+  }
+
   /** Sets every sensor of a site on or off (a site outage or its return). */
   setSite(siteId: string, on: boolean): void {
     const list = this.bySite.get(siteId);
@@ -104,15 +123,39 @@ export class Network {
     const list = (this.bySite.get(siteId) ?? []).filter((i) => this.active[i]);
     if (list.length === 0) return;
     const nFl = this.altitudesM.length;
-    const m = this.scratch;
+    const cells = this.reach(siteId);
     for (let k = 0; k < KINDS.length; k++) {
       const kind = KINDS[k];
       const members = kind === 'any' ? list : list.filter((i) => this.footprints[i].kind === kind);
       if (members.length === 0) continue;
-      m.fill(0);
-      for (const i of members) orInto(m, this.bits[i]);
-      addBits(this.fold, k * nFl, m, sign);
+      addSiteBits(
+        this.fold,
+        k * nFl,
+        cells,
+        members.map((i) => this.bits[i]),
+        sign,
+      );
     }
+  }
+
+  /** Cells any sensor of the site (on or off) covers at some level: all its updates stay within them. */
+  private reach(siteId: string): Int32Array {
+    let r = this.reachCache.get(siteId);
+    if (!r) {
+      const bits = (this.bySite.get(siteId) ?? []).map((i) => this.bits[i]);
+      const out: number[] = [];
+      for (let c = 0; c < this.cells; c++) {
+        for (const b of bits) {
+          if (b[c] !== 0) {
+            out.push(c);
+            break;
+          }
+        }
+      }
+      r = Int32Array.from(out);
+      this.reachCache.set(siteId, r);
+    }
+    return r;
   }
 
   /** Lowest covered altitude (m AMSL) per cell over the active sensors; NaN where none covers. */
@@ -162,13 +205,19 @@ function levelBits(fp: Footprint, altitudesM: readonly number[], out: Bits): num
   return seen;
 }
 
-function orInto(dst: Bits, src: Bits): void {
-  for (let c = 0; c < dst.length; c++) dst[c] |= src[c];
-}
-
-function addBits(fold: Uint16Array[], base: number, bits: Bits, sign: 1 | -1): void {
-  for (let c = 0; c < bits.length; c++) {
-    let b = bits[c];
+/** For each cell of `cells`: the OR of the members' level bits, added (or removed) level by level. */
+function addSiteBits(
+  fold: Uint16Array[],
+  base: number,
+  cells: Int32Array,
+  members: Bits[],
+  sign: 1 | -1,
+): void {
+  const n = members.length;
+  for (let k = 0; k < cells.length; k++) {
+    const c = cells[k];
+    let b = 0;
+    for (let m = 0; m < n; m++) b |= members[m][c];
     while (b !== 0) {
       const f = 31 - Math.clz32(b & -b);
       fold[base + f][c] += sign;
