@@ -9,6 +9,7 @@ import { demoCommand, demoDataCommand, DEMO_HELP, DEMO_DATA_HELP } from './cli/d
 import { coverageCommand, COVERAGE_HELP } from './cli/coverage.ts';
 import { diagramCommand, DIAGRAM_HELP } from './cli/diagram.ts';
 import { outageCommand, OUTAGE_HELP } from './cli/outage.ts';
+import { compareCommand, COMPARE_HELP } from './cli/compare.ts';
 
 const HELP = `airshade — radar network coverage planner (planning aid; see the cautions in README.md)
 
@@ -21,6 +22,7 @@ Commands:
   coverage      what a network of sensors detects at each flight level: GeoJSON layers and statistics
   diagram       vertical coverage diagram (range–height) of one sensor on one site along one azimuth, as SVG
   outage        what is lost, per volume and flight level, when each site of a plan or layout goes down
+  compare       two layouts side by side: cost, coverage per volume and level, gained and lost areas
 `;
 
 type Command = (argv: readonly string[], log: (s: string) => void) => Promise<number>;
@@ -29,6 +31,7 @@ const COMMANDS: Record<string, { run: Command; help: string }> = {
   coverage: { run: coverageCommand, help: COVERAGE_HELP },
   diagram: { run: diagramCommand, help: DIAGRAM_HELP },
   outage: { run: outageCommand, help: OUTAGE_HELP },
+  compare: { run: compareCommand, help: COMPARE_HELP },
   demo: { run: demoCommand, help: DEMO_HELP },
   'demo-data': { run: demoDataCommand, help: DEMO_DATA_HELP },
 };

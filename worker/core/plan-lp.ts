@@ -1,0 +1,566 @@
+/**
+ * Bounds for the plan: the LP relaxation of the site/sensor cover model solved with HiGHS (WebAssembly, the
+ * `highs` package), and the exact MILP when the instance is small.
+ *
+ * Model over the aggregated groups of plan.ts (points with identical requirements and covering candidates share
+ * one row — the LP stays small):
+ *   x_c ∈ [0,1]  candidate chosen;  y_s ∈ [0,1]  site opened;  x_c ≤ y_s
+ *   for a group g and kind k with capped requirement r > 0, per site s with candidates of kind k covering g
+ *   (either kind for 'any'): one candidate → the term is x_c; several → a term z_{s,T} ∈ [0,1] with
+ *   z ≤ Σ_{c∈T} x_c and z ≤ y_s (shared by every row with the same candidate set T);
+ *   cover:  Σ_s term ≥ r,  minimise Σ siteCost·y + Σ typeCost·x.
+ *   budget: u_{g,k} ∈ [0,r], u ≤ Σ_s term,  Σ siteCost·y + Σ typeCost·x ≤ B,  maximise Σ W_g·u.
+ * Forced candidates have x fixed to 1; excluded sites have no columns at all.
+ *
+ * The LP relaxation bounds the 0/1 optimum (any OR text). The bound is not read from HiGHS's objective: it is
+ * recomputed by weak duality from HiGHS's row duals π (clamped to the sign each row allows), as
+ * Σ_i π_i·(bound of row i) + Σ_j min over x_j's box of (c_j − πᵀA_j)·x_j, which is a valid bound for *any* π —
+ * so it holds whatever the solver's tolerances, and also when the time limit stops it early.
+ * If the LP would exceed `lpMaxNonzeros`, it keeps the tightest rows only (fewest spare sites, cover mode; or
+ * heaviest, budget mode, the rest counted as fully covered) — a relaxation, hence a weaker but valid bound. A
+ * combinatorial bound that needs no solver is always computed too: the cheapest way to meet the single hardest
+ * row, on top of the forced sensors.
+ */
+import loadHighs, { type Highs, type InitOptions, type ModelData } from 'highs';
+import { nowMs } from './clock.ts';
+import type { Progress } from './floor.ts';
+import { K_ANY, planCost, type PlanModel } from './plan.ts';
+
+export type HighsInit = InitOptions;
+
+export interface BoundOptions {
+  timeLimitMs: number;
+  exactMaxCandidates: number;
+  exactMaxNonzeros: number;
+  lpMaxNonzeros: number;
+  highs?: HighsInit;
+  onProgress?: Progress;
+}
+
+export interface BoundOutcome {
+  /** Cover mode: valid lower bound on the cost (−Infinity in budget mode). */
+  costLowerBound: number;
+  /** Budget mode: valid upper bound on the covered weight (Infinity in cover mode). */
+  weightUpperBound: number;
+  /** How the bound was obtained, for the plan's `method`. */
+  method: string;
+  log: string[];
+  milpChosen?: number[];
+  milpStatus?: 'optimal' | 'incumbent';
+  milpOptimal: boolean;
+  milpObjective?: number;
+}
+
+let highsPromise: Promise<Highs> | null = null;
+
+/** Loads HiGHS once per process/worker (the WebAssembly module takes ~50–100 ms). */
+export function getHighs(init?: HighsInit): Promise<Highs> {
+  if (!highsPromise) {
+    highsPromise = loadHighs(init ?? {}).catch((e: unknown) => {
+      highsPromise = null;
+      throw e;
+    });
+  }
+  return highsPromise;
+}
+
+// ---------------------------------------------------------------------------------------------------------------
+// Combinatorial bound
+
+/**
+ * max over rows (g, k) of: cost(forced) + the cheapest `need` distinct sites that could add a kind-k cover of g,
+ * where need = r − sites the forced sensors already count, and a site's price is its cost unless a forced sensor
+ * opened it plus the cheapest such type. Any plan that meets the demand pays at least this for that row alone.
+ */
+export function singleRowBound(m: PlanModel): number {
+  const forcedCost = planCost(m, m.forcedList);
+  const siteOpen = new Uint8Array(m.nSites);
+  for (const c of m.forcedList) siteOpen[m.candSite[c]] = 1;
+  const price = new Float64Array(m.nSites).fill(Infinity);
+  const counted = new Uint8Array(m.nSites);
+  const touched: number[] = [];
+  const prices: number[] = [];
+  let best = 0;
+  for (let g = 0; g < m.nGroups; g++) {
+    for (let k = 0; k < 3; k++) {
+      const r = m.gReq[3 * g + k];
+      if (r === 0) continue;
+      touched.length = 0;
+      for (let i = m.sigStart[g]; i < m.sigStart[g + 1]; i++) {
+        const c = m.sigCand[i];
+        if (k !== K_ANY && m.candKind[c] !== k) continue;
+        const s = m.candSite[c];
+        if (price[s] === Infinity && !counted[s]) touched.push(s);
+        if (m.forced[c]) counted[s] = 1;
+        const p = m.candCost[c] + (siteOpen[s] ? 0 : m.siteCost[s]);
+        if (p < price[s]) price[s] = p;
+      }
+      let have = 0;
+      prices.length = 0;
+      for (const s of touched) {
+        if (counted[s]) have++;
+        else prices.push(price[s]);
+      }
+      const need = r - have;
+      if (need > 0) {
+        prices.sort((a, b) => a - b);
+        let sum = 0;
+        for (let i = 0; i < need && i < prices.length; i++) sum += prices[i];
+        if (sum > best) best = sum;
+      }
+      for (const s of touched) {
+        price[s] = Infinity;
+        counted[s] = 0;
+      }
+    }
+  }
+  return forcedCost + best;
+}
+
+// ---------------------------------------------------------------------------------------------------------------
+// Model building
+
+export interface Built {
+  data: ModelData;
+  numCols: number;
+  xCol: Int32Array;
+  yCol: Int32Array;
+  /** Per z column (from zFirst on): its site and candidate set. */
+  zDefs: { col: number; site: number; cands: number[] }[];
+  /** Per u column: group, kind, and its row's terms (columns). */
+  uDefs: { col: number; g: number; k: number }[];
+  rowsUsed: number;
+  rowsTotal: number;
+  nonzeros: number;
+  /** Budget mode: objective constant of the rows left out (counted as fully covered, negative: minimisation). */
+  offset: number;
+  rowLower: Float64Array;
+  rowUpper: Float64Array;
+  colCost: Float64Array;
+  colLower: Float64Array;
+  colUpper: Float64Array;
+  starts: Int32Array;
+  indices: Int32Array;
+  values: Float64Array;
+}
+
+export function buildModel(m: PlanModel, inf: number, lpMaxNonzeros: number): Built {
+  const budgetMode = m.budget !== undefined;
+  const colCost: number[] = [];
+  const colLower: number[] = [];
+  const colUpper: number[] = [];
+  const xCol = new Int32Array(m.nCand).fill(-1);
+  const yCol = new Int32Array(m.nSites).fill(-1);
+  for (let i = 0; i < m.allowedList.length; i++) {
+    const c = m.allowedList[i];
+    xCol[c] = colCost.length;
+    colCost.push(budgetMode ? 0 : m.candCost[c]);
+    colLower.push(m.forced[c] ? 1 : 0);
+    colUpper.push(1);
+  }
+  for (let s = 0; s < m.nSites; s++) {
+    if (m.siteCands[s].length === 0) continue;
+    yCol[s] = colCost.length;
+    colCost.push(budgetMode ? 0 : m.siteCost[s]);
+    colLower.push(0);
+    colUpper.push(1);
+  }
+  const starts: number[] = [0];
+  const indices: number[] = [];
+  const values: number[] = [];
+  const rowLower: number[] = [];
+  const rowUpper: number[] = [];
+  const endRow = (lo: number, hi: number): void => {
+    rowLower.push(lo);
+    rowUpper.push(hi);
+    starts.push(indices.length);
+  };
+  // x_c ≤ y_s
+  for (let i = 0; i < m.allowedList.length; i++) {
+    const c = m.allowedList[i];
+    indices.push(xCol[c], yCol[m.candSite[c]]);
+    values.push(1, -1);
+    endRow(-inf, 0);
+  }
+  // Enumerate the demand rows with their number of terms (distinct sites).
+  const siteMark = new Int32Array(m.nSites).fill(-1);
+  const rowG: number[] = [];
+  const rowK: number[] = [];
+  const rowTerms: number[] = [];
+  let totalTerms = 0;
+  for (let g = 0; g < m.nGroups; g++) {
+    for (let k = 0; k < 3; k++) {
+      const r = m.gReq[3 * g + k];
+      if (r === 0) continue;
+      const id = rowG.length;
+      let t = 0;
+      for (let i = m.sigStart[g]; i < m.sigStart[g + 1]; i++) {
+        const c = m.sigCand[i];
+        if (k !== K_ANY && m.candKind[c] !== k) continue;
+        const s = m.candSite[c];
+        if (siteMark[s] !== id) {
+          siteMark[s] = id;
+          t++;
+        }
+      }
+      rowG.push(g);
+      rowK.push(k);
+      rowTerms.push(t);
+      totalTerms += t + (budgetMode ? 1 : 0);
+    }
+  }
+  const rowsTotal = rowG.length;
+  let selected = Array.from({ length: rowsTotal }, (_, i) => i);
+  if (totalTerms > lpMaxNonzeros) {
+    if (!budgetMode) {
+      // tightest first: fewest spare sites, then fewest terms
+      selected.sort(
+        (a, b) =>
+          rowTerms[a] - m.gReq[3 * rowG[a] + rowK[a]] - (rowTerms[b] - m.gReq[3 * rowG[b] + rowK[b]]) ||
+          rowTerms[a] - rowTerms[b] ||
+          a - b,
+      );
+    } else {
+      selected.sort(
+        (a, b) =>
+          m.gWeight[rowG[b]] * m.gReq[3 * rowG[b] + rowK[b]] -
+            m.gWeight[rowG[a]] * m.gReq[3 * rowG[a] + rowK[a]] || a - b,
+      );
+    }
+    let used = 0;
+    let n = 0;
+    while (n < selected.length && used + rowTerms[selected[n]] <= lpMaxNonzeros)
+      used += rowTerms[selected[n++]];
+    selected = selected.slice(0, n).sort((a, b) => a - b);
+  }
+  const keep = new Uint8Array(rowsTotal);
+  for (const i of selected) keep[i] = 1;
+  let offset = 0;
+  const zKey = new Map<string, number>();
+  const zDefs: Built['zDefs'] = [];
+  const uDefs: Built['uDefs'] = [];
+  const siteSlot = new Int32Array(m.nSites).fill(-1);
+  const siteList: number[] = [];
+  const siteCands: number[][] = [];
+  const term: number[] = [];
+  for (let id = 0; id < rowsTotal; id++) {
+    const g = rowG[id];
+    const k = rowK[id];
+    const r = m.gReq[3 * g + k];
+    if (!keep[id]) {
+      if (budgetMode) offset -= m.gWeight[g] * r;
+      continue;
+    }
+    siteList.length = 0;
+    for (let i = m.sigStart[g]; i < m.sigStart[g + 1]; i++) {
+      const c = m.sigCand[i];
+      if (k !== K_ANY && m.candKind[c] !== k) continue;
+      const s = m.candSite[c];
+      if (siteSlot[s] < 0) {
+        siteSlot[s] = siteList.length;
+        siteList.push(s);
+        if (siteCands.length < siteList.length) siteCands.push([]);
+        siteCands[siteSlot[s]].length = 0;
+      }
+      siteCands[siteSlot[s]].push(c);
+    }
+    term.length = 0;
+    for (let j = 0; j < siteList.length; j++) {
+      const s = siteList[j];
+      const cands = siteCands[j];
+      siteSlot[s] = -1;
+      if (cands.length === 1) {
+        term.push(xCol[cands[0]]);
+        continue;
+      }
+      const key = cands.join(',');
+      let col = zKey.get(key);
+      if (col === undefined) {
+        col = colCost.length;
+        zKey.set(key, col);
+        zDefs.push({ col, site: s, cands: [...cands] });
+        colCost.push(0);
+        colLower.push(0);
+        colUpper.push(1);
+        // z ≤ Σ x_c
+        indices.push(col);
+        values.push(1);
+        for (const c of cands) {
+          indices.push(xCol[c]);
+          values.push(-1);
+        }
+        endRow(-inf, 0);
+        // z ≤ y_s
+        indices.push(col, yCol[s]);
+        values.push(1, -1);
+        endRow(-inf, 0);
+      }
+      term.push(col);
+    }
+    if (!budgetMode) {
+      for (const col of term) {
+        indices.push(col);
+        values.push(1);
+      }
+      endRow(r, inf);
+    } else {
+      const u = colCost.length;
+      uDefs.push({ col: u, g, k });
+      colCost.push(-m.gWeight[g]);
+      colLower.push(0);
+      colUpper.push(r);
+      indices.push(u);
+      values.push(1);
+      for (const col of term) {
+        indices.push(col);
+        values.push(-1);
+      }
+      endRow(-inf, 0);
+    }
+  }
+  if (budgetMode) {
+    for (let i = 0; i < m.allowedList.length; i++) {
+      const c = m.allowedList[i];
+      if (m.candCost[c] !== 0) {
+        indices.push(xCol[c]);
+        values.push(m.candCost[c]);
+      }
+    }
+    for (let s = 0; s < m.nSites; s++) {
+      if (yCol[s] >= 0 && m.siteCost[s] !== 0) {
+        indices.push(yCol[s]);
+        values.push(m.siteCost[s]);
+      }
+    }
+    endRow(-inf, m.budget!);
+  }
+  const numCols = colCost.length;
+  const numRows = rowLower.length;
+  const built = {
+    numCols,
+    xCol,
+    yCol,
+    zDefs,
+    uDefs,
+    rowsUsed: selected.length,
+    rowsTotal,
+    nonzeros: indices.length,
+    offset,
+    rowLower: Float64Array.from(rowLower),
+    rowUpper: Float64Array.from(rowUpper),
+    colCost: Float64Array.from(colCost),
+    colLower: Float64Array.from(colLower),
+    colUpper: Float64Array.from(colUpper),
+    starts: Int32Array.from(starts),
+    indices: Int32Array.from(indices),
+    values: Float64Array.from(values),
+  };
+  return {
+    ...built,
+    data: {
+      numCols,
+      numRows,
+      colCost: built.colCost,
+      colLower: built.colLower,
+      colUpper: built.colUpper,
+      rowLower: built.rowLower,
+      rowUpper: built.rowUpper,
+      matrix: {
+        format: 'csr',
+        numRows,
+        numCols,
+        starts: built.starts,
+        indices: built.indices,
+        values: built.values,
+      },
+    },
+  };
+}
+
+/**
+ * Weak-duality bound of min cᵀx s.t. L ≤ Ax ≤ U, l ≤ x ≤ u from any row multipliers π (HiGHS convention: the
+ * reduced cost is c − Aᵀπ; π ≥ 0 pairs with the lower row bound, π ≤ 0 with the upper). A multiplier whose row
+ * bound on that side is infinite is set to 0. The float sums are widened by a relative 1e-9 of their magnitude.
+ */
+export function dualBound(b: Built, rowDual: Float64Array, inf: number): number {
+  const nRows = b.rowLower.length;
+  const d = Float64Array.from(b.colCost);
+  let sum = 0;
+  let mag = 0;
+  for (let i = 0; i < nRows; i++) {
+    let pi = rowDual[i];
+    if (!Number.isFinite(pi)) pi = 0;
+    if (pi > 0 && !(b.rowLower[i] > -inf)) pi = 0;
+    if (pi < 0 && !(b.rowUpper[i] < inf)) pi = 0;
+    if (pi === 0) continue;
+    const t = pi > 0 ? pi * b.rowLower[i] : pi * b.rowUpper[i];
+    sum += t;
+    mag += Math.abs(t);
+    for (let j = b.starts[i]; j < b.starts[i + 1]; j++) d[b.indices[j]] -= pi * b.values[j];
+  }
+  for (let j = 0; j < b.numCols; j++) {
+    const t = d[j] > 0 ? d[j] * b.colLower[j] : d[j] < 0 ? d[j] * b.colUpper[j] : 0;
+    if (!Number.isFinite(t)) return -Infinity;
+    sum += t;
+    mag += Math.abs(t);
+  }
+  return sum - 1e-9 * mag - 1e-12;
+}
+
+/** Column values of a 0/1 plan in the model (z and u at their best values given x). */
+function startValues(m: PlanModel, b: Built, chosen: readonly number[]): Float64Array {
+  const v = new Float64Array(b.numCols);
+  const isChosen = new Uint8Array(m.nCand);
+  for (const c of chosen) {
+    isChosen[c] = 1;
+    v[b.xCol[c]] = 1;
+    v[b.yCol[m.candSite[c]]] = 1;
+  }
+  for (const z of b.zDefs) v[z.col] = z.cands.some((c) => isChosen[c]) ? 1 : 0;
+  if (b.uDefs.length > 0) {
+    // u = min(r, Σ terms): recompute from the row (u − Σ terms ≤ 0), whose first entry is u itself
+    const rowOfU = new Map<number, number>();
+    for (let i = 0; i < b.rowLower.length; i++) {
+      const first = b.indices[b.starts[i]];
+      if (b.starts[i + 1] > b.starts[i]) rowOfU.set(first, i);
+    }
+    for (const u of b.uDefs) {
+      const i = rowOfU.get(u.col)!;
+      let s = 0;
+      for (let j = b.starts[i] + 1; j < b.starts[i + 1]; j++) s += v[b.indices[j]];
+      v[u.col] = Math.min(b.colUpper[u.col], s);
+    }
+  }
+  return v;
+}
+
+function statusName(highs: Highs, code: number): string {
+  const names = Object.entries(highs.constants.modelStatus).find(([, v]) => v === code);
+  return names ? names[0] : String(code);
+}
+
+export async function boundPlan(
+  m: PlanModel,
+  heuristic: readonly number[],
+  o: BoundOptions,
+): Promise<BoundOutcome> {
+  const log: string[] = [];
+  const budgetMode = m.budget !== undefined;
+  const out: BoundOutcome = {
+    costLowerBound: budgetMode ? -Infinity : singleRowBound(m),
+    weightUpperBound: budgetMode ? m.achievableWeight : Infinity,
+    method: budgetMode ? 'trivial bound' : 'single-row bound',
+    log,
+    milpOptimal: false,
+  };
+  if (!budgetMode) log.push(`bound: single-row bound ${out.costLowerBound}`);
+  if (m.nGroups === 0) {
+    out.costLowerBound = budgetMode ? -Infinity : planCost(m, m.forcedList);
+    out.weightUpperBound = 0;
+    out.method = 'no demand';
+    return out;
+  }
+  let highs: Highs;
+  try {
+    highs = await getHighs(o.highs);
+  } catch (e) {
+    log.push(`bound: HiGHS did not load (${(e as Error).message}); keeping the ${out.method}`);
+    return out;
+  }
+  const inf = highs.infinity;
+  const deadline = nowMs() + o.timeLimitMs;
+  o.onProgress?.(0, 'LP bound');
+  const b = buildModel(m, inf, o.lpMaxNonzeros);
+  const full = b.rowsUsed === b.rowsTotal;
+  log.push(
+    `LP: ${b.numCols} columns, ${b.data.numRows} rows (${b.rowsUsed} of ${b.rowsTotal} demand rows` +
+      `${full ? '' : ', tightest kept: a weaker but valid bound'}), ${b.nonzeros} nonzeros`,
+  );
+  const improve = (v: number, what: string): void => {
+    if (!budgetMode && v > out.costLowerBound) {
+      out.costLowerBound = v;
+      out.method = what;
+    } else if (budgetMode && v < out.weightUpperBound) {
+      out.weightUpperBound = v;
+      out.method = what;
+    }
+  };
+  const lpName = full ? 'LP bound' : `LP bound over ${b.rowsUsed} of ${b.rowsTotal} rows`;
+  {
+    const model = highs.createModel(b.data);
+    try {
+      model.options.set({ output_flag: false, time_limit: Math.max(0.05, o.timeLimitMs / 1000) });
+      model.run();
+      const status = model.getModelStatus();
+      const sol = model.getSolution();
+      const v = dualBound(b, sol.rowDual, inf) + b.offset;
+      const bound = budgetMode ? -v : v;
+      log.push(
+        `LP: ${statusName(highs, status)}, objective ${budgetMode ? -model.getObjectiveValue() - b.offset : model.getObjectiveValue()}, ` +
+          `dual bound ${bound}${status === highs.constants.modelStatus.timeLimit ? ' (time limit: depends on machine speed)' : ''}`,
+      );
+      if (Number.isFinite(bound)) improve(bound, lpName);
+    } catch (e) {
+      log.push(`LP: HiGHS failed (${(e as Error).message}); keeping the ${out.method}`);
+    } finally {
+      model.dispose();
+    }
+  }
+  if (!budgetMode && m.integerCosts) {
+    const up = Math.ceil(out.costLowerBound - 1e-6);
+    if (up > out.costLowerBound) {
+      out.costLowerBound = up;
+      log.push(`bound: costs are integers → rounded up to ${up}`);
+    }
+  }
+  const exact = full && (m.allowedList.length <= o.exactMaxCandidates || b.nonzeros <= o.exactMaxNonzeros);
+  if (!exact) return out;
+  o.onProgress?.(0.5, 'MILP');
+  const integrality = new Int32Array(b.numCols);
+  for (const c of m.allowedList) integrality[b.xCol[c]] = 1;
+  for (let s = 0; s < m.nSites; s++) if (b.yCol[s] >= 0) integrality[b.yCol[s]] = 1;
+  const model = highs.createModel({ ...b.data, integrality });
+  try {
+    const secs = Math.max(0.1 * o.timeLimitMs, deadline - nowMs()) / 1000;
+    model.options.set({
+      output_flag: false,
+      time_limit: secs,
+      mip_rel_gap: 0,
+      mip_abs_gap: !budgetMode && m.integerCosts ? 1 - 1e-6 : 0,
+    });
+    try {
+      model.setSolution({ colValue: startValues(m, b, heuristic) });
+    } catch {
+      // a start the solver rejects is not needed
+    }
+    model.run();
+    const status = model.getModelStatus();
+    const feasible = Number(model.info.get('primal_solution_status')) === 2;
+    const dual = Number(model.info.get('mip_dual_bound'));
+    const optimal = status === highs.constants.modelStatus.optimal;
+    log.push(
+      `MILP: ${statusName(highs, status)}${feasible ? `, objective ${budgetMode ? -model.getObjectiveValue() : model.getObjectiveValue()}` : ''}` +
+        `, dual bound ${budgetMode ? -dual : dual}` +
+        `${status === highs.constants.modelStatus.timeLimit ? ' (time limit: depends on machine speed)' : ''}`,
+    );
+    if (Number.isFinite(dual)) {
+      const margin = 1e-9 * Math.max(1, Math.abs(dual));
+      if (!budgetMode) {
+        const lb = m.integerCosts ? Math.ceil(dual - 1e-6) : dual - margin;
+        improve(lb, 'MILP dual bound');
+      } else improve(-dual + margin, 'MILP dual bound');
+    }
+    if (feasible) {
+      const x = model.getSolution().colValue;
+      out.milpChosen = Array.from(m.allowedList).filter((c) => x[b.xCol[c]] > 0.5);
+      out.milpStatus = optimal ? 'optimal' : 'incumbent';
+      out.milpOptimal = optimal;
+      out.milpObjective = budgetMode ? -model.getObjectiveValue() : model.getObjectiveValue();
+    }
+  } catch (e) {
+    log.push(`MILP: HiGHS failed (${(e as Error).message})`);
+  } finally {
+    model.dispose();
+  }
+  return out;
+}
