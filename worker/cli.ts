@@ -10,6 +10,7 @@ import { coverageCommand, COVERAGE_HELP } from './cli/coverage.ts';
 import { diagramCommand, DIAGRAM_HELP } from './cli/diagram.ts';
 import { outageCommand, OUTAGE_HELP } from './cli/outage.ts';
 import { compareCommand, COMPARE_HELP } from './cli/compare.ts';
+import { planCommand, PLAN_HELP } from './cli/plan.ts';
 
 const HELP = `airshade — radar network coverage planner (planning aid; see the cautions in README.md)
 
@@ -21,6 +22,7 @@ Commands:
   floor         lowest line-of-sight altitude above every cell of a DEM, as a GeoTIFF
   coverage      what a network of sensors detects at each flight level: GeoJSON layers and statistics
   diagram       vertical coverage diagram (range–height) of one sensor on one site along one azimuth, as SVG
+  plan          the cheapest sites and sensor types meeting every volume's required folds, with its gap
   outage        what is lost, per volume and flight level, when each site of a plan or layout goes down
   compare       two layouts side by side: cost, coverage per volume and level, gained and lost areas
 `;
@@ -30,6 +32,7 @@ const COMMANDS: Record<string, { run: Command; help: string }> = {
   floor: { run: floorCommand, help: FLOOR_HELP },
   coverage: { run: coverageCommand, help: COVERAGE_HELP },
   diagram: { run: diagramCommand, help: DIAGRAM_HELP },
+  plan: { run: planCommand, help: PLAN_HELP },
   outage: { run: outageCommand, help: OUTAGE_HELP },
   compare: { run: compareCommand, help: COMPARE_HELP },
   demo: { run: demoCommand, help: DEMO_HELP },

@@ -1,0 +1,300 @@
+/**
+ * `airshade plan`: the cheapest set of (site, type) that gives every airspace volume its required folds at the
+ * flight levels of its band — or, with a budget, the most demand within it — with a proven lower bound and gap.
+ */
+import { InputError } from '../../shared/errors.ts';
+import { flToMetres, formatFl } from '../../shared/units.ts';
+import type { Candidate } from '../core/coverage.ts';
+import type { Footprint } from '../core/footprint.ts';
+import { Network } from '../core/network.ts';
+import { solvePlan, type PlanInstance, type PlanResult } from '../core/plan.ts';
+import { rowAreasKm2, volumeStats } from '../core/volumes.ts';
+import { stringifyGeoJson } from '../io/geojson.ts';
+import { NodePool } from '../node-pool.ts';
+import { numberArg, one, parseArgs } from './args.ts';
+import { levelLayers } from './coverage.ts';
+import { writeFileChecked } from './files.ts';
+import { ProgressLine } from './progress.ts';
+import {
+  allCandidates,
+  footprintsFor,
+  layoutCandidates,
+  openSession,
+  siteOf,
+  type Session,
+} from './session.ts';
+
+export const PLAN_HELP = `airshade plan — the cheapest sites and sensor types that meet the airspace's requirements
+
+Usage:
+  airshade plan SCENARIO.json --out DIR [--budget COST] [--keep LAYOUT] [--exclude SITE …] [--weather]
+                [--time-limit-s S] [--threads N] [--quiet] [--debug]
+
+Demand: every cell of every volume at every scenario flight level inside the volume's band, weighted by cell area
+times the volume's weight, needing the volume's required folds (distinct sites per kind). Candidates: every
+allowed (site, type); cost = the site's cost once (0 for an existing site) plus each type's cost. The planner
+picks greedily by covered demand per cost (lazy evaluation), prunes and swaps, and bounds the optimum with the
+LP relaxation (HiGHS; the exact MILP on small instances), so the plan reports its own gap.
+With a budget (--budget, or the scenario's budget) it covers the most demand within the budget instead.
+Writes DIR/plan.json and DIR/plan-coverage-FL050.geojson … (the plan's coverage layers).
+
+Options:
+  --keep LAYOUT     the sensors of this layout are kept by force (e.g. the existing network)
+  --exclude SITE    never use this site (repeat)
+  --budget COST     the budget (overrides the scenario's); --budget none plans without one
+  --time-limit-s S  time limit for the LP/MILP solver (default 5)
+`;
+
+const SPEC = {
+  out: { value: true },
+  budget: { value: true },
+  keep: { value: true },
+  exclude: { value: true, repeat: true },
+  weather: {},
+  'time-limit-s': { value: true },
+  threads: { value: true },
+  quiet: {},
+  debug: {},
+  help: {},
+} as const;
+
+export interface Demand {
+  instancePoints: PlanInstance['points'];
+  /** Per point: the volume index, the cell and the flight level index. */
+  volume: Uint16Array;
+  cell: Uint32Array;
+  level: Uint8Array;
+}
+
+/** Demand points of every volume at the scenario's levels in its band. */
+export function buildDemand(session: Session, fls: readonly number[]): Demand {
+  const s = session.loaded.scenario;
+  const rows = rowAreasKm2(session.grid);
+  const W = session.grid.width;
+  const vol: number[] = [];
+  const cell: number[] = [];
+  const level: number[] = [];
+  s.volumes.forEach((v, vi) => {
+    fls.forEach((fl, f) => {
+      if (fl < v.flMin || fl > v.flMax) return;
+      const m = session.volumeMasks[vi];
+      for (let c = 0; c < m.length; c++) {
+        if (!m[c]) continue;
+        vol.push(vi);
+        cell.push(c);
+        level.push(f);
+      }
+    });
+  });
+  const n = vol.length;
+  const weight = new Float64Array(n);
+  const reqAny = new Uint8Array(n);
+  const reqPrimary = new Uint8Array(n);
+  const reqSecondary = new Uint8Array(n);
+  for (let p = 0; p < n; p++) {
+    const v = s.volumes[vol[p]];
+    weight[p] = rows[(cell[p] / W) | 0] * (v.weight ?? 1);
+    reqAny[p] = v.requiredFold.any ?? 0;
+    reqPrimary[p] = v.requiredFold.primary ?? 0;
+    reqSecondary[p] = v.requiredFold.secondary ?? 0;
+    if (reqAny[p] + reqPrimary[p] + reqSecondary[p] === 0) reqAny[p] = 1;
+  }
+  return {
+    instancePoints: { count: n, weight, reqAny, reqPrimary, reqSecondary },
+    volume: Uint16Array.from(vol),
+    cell: Uint32Array.from(cell),
+    level: Uint8Array.from(level),
+  };
+}
+
+/** The demand points a footprint covers, in increasing order. */
+export function coveredPoints(fp: Footprint, d: Demand, altitudesM: readonly number[]): Uint32Array {
+  const out: number[] = [];
+  const { cell, level } = d;
+  for (let p = 0; p < cell.length; p++) {
+    const c = cell[p];
+    const h = altitudesM[level[p]];
+    if (fp.lo[c] <= h && h <= fp.hi[c]) out.push(p);
+  }
+  return Uint32Array.from(out);
+}
+
+export async function planCommand(argv: readonly string[], log: (s: string) => void): Promise<number> {
+  const p = parseArgs(argv, SPEC, 'plan');
+  if (p.flags.has('help')) {
+    log(PLAN_HELP);
+    return 0;
+  }
+  if (p.positional.length !== 1) {
+    throw new InputError(
+      'airshade plan',
+      p.positional.length === 0 ? 'no scenario file' : `${p.positional.length} positional arguments`,
+      'one SCENARIO.json (see --help)',
+    );
+  }
+  const outDir = one(p, 'out');
+  if (outDir === undefined)
+    throw new InputError('--out', 'nothing (the option is missing)', 'the output folder');
+  const threadsText = one(p, 'threads');
+  const threads =
+    threadsText === undefined
+      ? NodePool.defaultSize()
+      : numberArg('threads', threadsText, 0, 64, 'a whole number of threads from 0 to 64');
+  const limitText = one(p, 'time-limit-s');
+  const timeLimitMs =
+    limitText === undefined
+      ? 5000
+      : numberArg('time-limit-s', limitText, 0.1, 3600, 'a time limit in seconds from 0.1 to 3600') * 1000;
+  const started = performance.now();
+  const progress = new ProgressLine('plan', p.flags.has('quiet'));
+  const session = await openSession(p.positional[0], threads, progress);
+  const s = session.loaded.scenario;
+  const budgetText = one(p, 'budget');
+  const budget =
+    budgetText === 'none'
+      ? undefined
+      : budgetText !== undefined
+        ? numberArg('budget', budgetText, 0, 1e12, 'a budget ≥ 0 in the scenario’s cost units, or none')
+        : s.budget;
+  const excluded = new Set((p.values.get('exclude') ?? []).map((id) => siteOf(session, id, '--exclude').id));
+  const candidates = allCandidates(session);
+  const keyOf = (c: Candidate) => `${c.site.id}\u0000${c.model.spec.id}`;
+  const index = new Map(candidates.map((c, i) => [keyOf(c), i]));
+  const keepName = one(p, 'keep');
+  const forced =
+    keepName === undefined
+      ? []
+      : layoutCandidates(session, keepName, '--keep').map((c) => index.get(keyOf(c))!);
+  const footprints = await footprintsFor(session, candidates, {
+    weather: p.flags.has('weather'),
+    progress,
+    share: [0, 0.6],
+  });
+  progress.update(0.6, 'demand points');
+  const fls = s.flightLevels;
+  const altitudes = fls.map(flToMetres);
+  const demand = buildDemand(session, fls);
+  const siteIndex = new Map(s.sites.map((f, i) => [f.properties.id, i]));
+  const inst: PlanInstance = {
+    sites: s.sites.map((f) => ({
+      id: f.properties.id,
+      cost: f.properties.siteCost,
+      existing: f.properties.existing,
+    })),
+    candidates: candidates.map((c, i) => ({
+      siteIndex: siteIndex.get(c.site.id)!,
+      typeId: c.model.spec.id,
+      kind: c.model.kind,
+      cost: c.model.spec.cost,
+      covers: coveredPoints(footprints[i], demand, altitudes),
+    })),
+    points: demand.instancePoints,
+    forced,
+    excludedSites: [...excluded].map((id) => siteIndex.get(id)!),
+    ...(budget !== undefined ? { budget } : {}),
+    timeLimitMs,
+  };
+  const tBuilt = performance.now();
+  const result = await solvePlan(inst, { onProgress: (f, stage) => progress.update(0.65 + 0.3 * f, stage) });
+  const tSolved = performance.now();
+  progress.update(0.96, 'layers');
+  const active = candidates.map((_, i) => result.chosen.includes(i));
+  const network = new Network(session.grid.width * session.grid.height, altitudes, footprints, active);
+  for (let f = 0; f < fls.length; f++) {
+    const fc = levelLayers(network, f, fls[f], session.grid, s.volumes, session.volumeMasks);
+    writeFileChecked(`${outDir}/plan-coverage-${formatFl(fls[f])}.geojson`, stringifyGeoJson(fc));
+  }
+  const doc = planDocument(session, candidates, result, network, fls, demand);
+  writeFileChecked(`${outDir}/plan.json`, JSON.stringify(doc, null, 2) + '\n');
+  progress.done();
+  log(
+    planSummary(session, doc, result, outDir, {
+      build: tBuilt - started,
+      solve: tSolved - tBuilt,
+      total: performance.now() - started,
+    }),
+  );
+  return 0;
+}
+
+function planDocument(
+  session: Session,
+  candidates: Candidate[],
+  r: PlanResult,
+  network: Network,
+  fls: readonly number[],
+  demand: Demand,
+) {
+  const s = session.loaded.scenario;
+  const opened = new Set<string>();
+  const entries = r.chosen.map((i) => {
+    const c = candidates[i];
+    const site = s.sites.find((f) => f.properties.id === c.site.id)!;
+    let cost = c.model.spec.cost;
+    if (!opened.has(c.site.id)) {
+      opened.add(c.site.id);
+      if (!site.properties.existing) cost += site.properties.siteCost;
+    }
+    return { siteId: c.site.id, typeId: c.model.spec.id, cost };
+  });
+  const unmeetable = r.unmeetable.map((u) => ({
+    volumeId: s.volumes[demand.volume[u.firstPoint]].id,
+    volumeName: s.volumes[demand.volume[u.firstPoint]].name,
+    kind: u.kind,
+    required: u.required,
+    achievable: u.achievable,
+    points: u.points,
+    weight: u.weight,
+  }));
+  // Deterministic: no timings in the file (they are printed), so the same input gives the same bytes.
+  return {
+    scenario: s.name,
+    mode: r.mode,
+    cost: r.cost,
+    lowerBound: r.lowerBound,
+    gapPct: r.gapPct,
+    ...(r.mode === 'budget' ? { budget: s.budget, weightUpperBound: r.weightUpperBound } : {}),
+    demandMet: r.demandMet,
+    coveredWeight: r.coveredWeight,
+    achievableWeight: r.achievableWeight,
+    totalWeight: r.totalWeight,
+    method: r.method,
+    entries,
+    volumes: volumeStats(network, s.volumes, session.volumeMasks, fls, session.grid),
+    unmeetable,
+    log: r.log,
+    caution:
+      'Planning aid: not a certified or flight-inspected result; defer to the local authority’s standards and licensed engineering practice.',
+  };
+}
+
+function planSummary(
+  session: Session,
+  doc: ReturnType<typeof planDocument>,
+  r: PlanResult,
+  outDir: string,
+  t: Record<string, number>,
+): string {
+  const s = session.loaded.scenario;
+  const lines = [
+    `plan for "${s.name}" — ${r.mode === 'budget' ? 'most demand within the budget' : 'least cost meeting the demand'}`,
+    `  cost ${doc.cost.toFixed(2)}, lower bound ${doc.lowerBound.toFixed(2)}, gap ${doc.gapPct.toFixed(2)} % (${r.method}); demand ${r.demandMet ? 'met' : 'not fully met'}`,
+    '',
+    `  ${'site'.padEnd(24)} ${'sensor type'.padEnd(18)} ${'cost'.padStart(7)}`,
+  ];
+  for (const e of doc.entries) {
+    const name = s.sites.find((f) => f.properties.id === e.siteId)?.properties.name ?? e.siteId;
+    lines.push(`  ${name.slice(0, 24).padEnd(24)} ${e.typeId.padEnd(18)} ${e.cost.toFixed(2).padStart(7)}`);
+  }
+  for (const u of doc.unmeetable) {
+    lines.push(
+      `  note: ${u.volumeName} needs ${u.kind} fold ${u.required} where at most ${u.achievable} is possible (${u.points} points): planned to ${u.achievable}`,
+    );
+  }
+  lines.push('');
+  lines.push(
+    `written to ${outDir}/plan.json and plan-coverage-FL….geojson; demand + candidates ${(t.build / 1000).toFixed(1)} s, solver ${(t.solve / 1000).toFixed(1)} s, total ${(t.total / 1000).toFixed(1)} s`,
+  );
+  lines.push('Planning aid only — not a certified or flight-inspected result.');
+  return lines.join('\n');
+}
