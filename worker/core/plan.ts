@@ -25,11 +25,14 @@
  * 3. local search: pruning of redundant picks (most expensive first), then exchanges — one chosen candidate for
  *    one unchosen, all of one site's sensors for one, two for one, one for two — each accepted only when it
  *    keeps the demand met and lowers the cost; iterated to a local optimum within a deterministic work budget.
+ *    Budget mode: one-for-one exchanges that raise the covered weight within the budget, each followed by a
+ *    greedy refill, then dropping picks that no longer cover anything.
  * 4. bound (plan-lp.ts): LP relaxation with HiGHS over the aggregated rows, a MILP when the instance is small.
  *
  * Determinism: ties are broken by index, there is no randomness, and the local search stops on a count of
  * operations, not on the clock. The only clock is HiGHS's time limit: when it is reached the log says so, and
- * the bound (never the validity of the plan) may then depend on the machine's speed.
+ * the bound — and the plan, if a MILP incumbent found by then beats the heuristic one — may then depend on the
+ * machine's speed (never its validity: every MILP plan is re-checked with exact counts before it is used).
  */
 import { InputError } from '../../shared/errors.ts';
 import { nowMs } from './clock.ts';
@@ -224,6 +227,7 @@ export function preparePlan(inst: PlanInstance): PlanModel {
       );
     }
   }
+  if (nSites > 65_535) throw new InputError('plan: sites', `${nSites} sites`, 'at most 65 535 sites');
   const siteCost = new Float64Array(nSites);
   let integerCosts = true;
   inst.sites.forEach((s, i) => {
@@ -950,21 +954,22 @@ class Deficits {
   n = 0;
   hopeless = false;
 
-  constructor(nGroups: number) {
-    this.groups = new Int32Array(nGroups);
-    this.flags = new Uint8Array(nGroups);
+  constructor(capacity: number) {
+    this.groups = new Int32Array(capacity);
+    this.flags = new Uint8Array(capacity);
   }
 
   /** Collects the deficits among the groups covered by `cands` (each group once, ascending). */
-  collect(st: CoverState, cands: readonly number[], mark: Int32Array, markId: number): void {
+  collect(st: CoverState, cands: readonly number[], mark: Int32Array): void {
     const m = st.m;
+    const id = ++markCounter.id;
     this.n = 0;
     this.hopeless = false;
     for (const c of cands) {
       for (let i = m.covStart[c]; i < m.covStart[c + 1]; i++) {
         const g = m.covGroup[i];
-        if (mark[g] === markId) continue;
-        mark[g] = markId;
+        if (mark[g] === id) continue;
+        mark[g] = id;
         let f = 0;
         for (let k = 0; k < 3; k++) {
           const short = m.gReq[3 * g + k] - st.cnt[3 * g + k];
@@ -980,8 +985,8 @@ class Deficits {
       }
       st.work += m.covStart[c + 1] - m.covStart[c];
     }
-    if (cands.length > 1) {
-      // ascending order for the merge walk in `restores`
+    if (cands.length > 1 && this.n > 1) {
+      // ascending order for the walks in `restores` (several candidates' groups were appended in turn)
       const idx = Array.from({ length: this.n }, (_, i) => i).sort((a, b) => this.groups[a] - this.groups[b]);
       const g2 = idx.map((i) => this.groups[i]);
       const f2 = idx.map((i) => this.flags[i]);
@@ -989,24 +994,49 @@ class Deficits {
       this.flags.set(f2);
     }
   }
+
+  /** The deficits of `from` that remain in the current state (after adding a candidate). */
+  remaining(st: CoverState, from: Deficits): void {
+    const m = st.m;
+    this.n = 0;
+    this.hopeless = from.hopeless;
+    for (let i = 0; i < from.n; i++) {
+      const g = from.groups[i];
+      let f = 0;
+      for (let k = 0; k < 3; k++) if (m.gReq[3 * g + k] > st.cnt[3 * g + k]) f |= 1 << k;
+      if (f) {
+        this.groups[this.n] = g;
+        this.flags[this.n++] = f;
+      }
+    }
+    st.work += from.n;
+  }
 }
 
-/** Whether adding d meets every deficit (each short by one unit at most) — exact, without changing the state. */
-function restores(st: CoverState, d: number, D: Deficits): boolean {
+const markCounter = { id: 0 };
+
+/**
+ * Whether d covers every deficient group with a kind that can meet it (`exact` = false: ignoring whether d's
+ * site already covers the group — a necessary condition that does not depend on the state), or, `exact` = true,
+ * whether adding d would meet every deficit (each short by one unit at most: a removal of one candidate, or of
+ * one site's sensors, lowers each count by one at most, and adding d raises it by one at most).
+ */
+function restores(st: CoverState, d: number, D: Deficits, exact = true): boolean {
   if (D.hopeless) return false;
   const m = st.m;
   const k = m.candKind[d];
-  const sc = st.siteCnt[m.candSite[d]];
+  const sc = exact ? st.siteCnt[m.candSite[d]] : null;
   const cov = m.covGroup;
   let lo = m.covStart[d];
   const hi = m.covStart[d + 1];
   const otherBit = 1 << (3 - k);
-  st.work += D.n;
   for (let i = 0; i < D.n; i++) {
     const f = D.flags[i];
-    if (f & otherBit) return false;
+    if (f & otherBit) {
+      st.work += i + 1;
+      return false;
+    }
     const g = D.groups[i];
-    // binary search for g in cov[lo, hi)
     let a = lo;
     let b = hi;
     while (a < b) {
@@ -1014,20 +1044,27 @@ function restores(st: CoverState, d: number, D: Deficits): boolean {
       if (cov[mid] < g) a = mid + 1;
       else b = mid;
     }
-    if (a >= hi || cov[a] !== g) return false;
+    if (a >= hi || cov[a] !== g) {
+      st.work += i + 1;
+      return false;
+    }
     lo = a + 1;
-    const own = sc ? sc[2 * g + k - 1] : 0;
-    const other = sc ? sc[2 * g + 2 - k] : 0;
-    if (f & (1 << k) && own !== 0) return false;
-    if (f & 1 && (own !== 0 || other !== 0)) return false;
+    if (sc) {
+      const own = sc[2 * g + k - 1];
+      const other = sc[2 * g + 2 - k];
+      if ((f & (1 << k) && own !== 0) || (f & 1 && (own !== 0 || other !== 0))) {
+        st.work += i + 1;
+        return false;
+      }
+    }
   }
+  st.work += D.n;
   return true;
 }
 
 interface SearchCtx {
   st: CoverState;
   workLimit: number;
-  log: string[];
   counts: { prune: number; swap11: number; site1: number; swap21: number; swap12: number };
 }
 
@@ -1066,27 +1103,33 @@ function prune(ctx: SearchCtx): number {
   return dropped;
 }
 
-/** Unchosen allowed candidates sorted by the cost of the set after `drop` is removed and each is added. */
-function replacements(st: CoverState, drop: readonly number[], below: number): { d: number; cost: number }[] {
-  const m = st.m;
-  const out: { d: number; cost: number }[] = [];
-  for (let i = 0; i < m.allowedList.length; i++) {
-    const d = m.allowedList[i];
-    if (st.chosen[d] || drop.includes(d)) continue;
-    const cost = st.costWith([d], drop);
-    if (relLess(cost, below)) out.push({ d, cost });
-  }
-  return out.sort((a, b) => a.cost - b.cost || a.d - b.d);
+interface Removal {
+  c: number;
+  saving: number;
+  /** Unchosen candidates that cover every group left short by removing c alone (kind-compatible). */
+  match: number[];
 }
 
-/** Tries to replace the set `drop` (already chosen, none forced) by one unchosen candidate; applies the best. */
-function tryReplaceByOne(ctx: SearchCtx, drop: readonly number[], D: Deficits, mark: Int32Array): boolean {
-  const { st } = ctx;
+/**
+ * Replaces the chosen set `drop` (no forced sensor among them) by one of `pool` — the cheapest that keeps the
+ * demand met and costs less. Returns whether it did.
+ */
+function replaceByOne(
+  st: CoverState,
+  drop: readonly number[],
+  pool: readonly number[],
+  D: Deficits,
+  mark: Int32Array,
+): boolean {
   const before = st.cost();
-  const reps = replacements(st, drop, before);
+  const reps = pool
+    .filter((d) => !st.chosen[d] && !drop.includes(d))
+    .map((d) => ({ d, cost: st.costWith([d], drop) }))
+    .filter((r) => relLess(r.cost, before))
+    .sort((a, b) => a.cost - b.cost || a.d - b.d);
   if (reps.length === 0) return false;
   for (const c of drop) st.remove(c);
-  D.collect(st, drop, mark, ++markCounter.id);
+  D.collect(st, drop, mark);
   for (const { d } of reps) {
     if (restores(st, d, D)) {
       st.add(d);
@@ -1097,64 +1140,50 @@ function tryReplaceByOne(ctx: SearchCtx, drop: readonly number[], D: Deficits, m
   return false;
 }
 
-const markCounter = { id: 0 };
-
-/** Tries to replace one chosen candidate by two unchosen ones that together restore the demand, for less. */
-function tryReplaceByTwo(ctx: SearchCtx, c: number, D: Deficits, mark: Int32Array): boolean {
+/**
+ * Replaces chosen c by two unchosen candidates that together keep the demand met, for less. The first must
+ * meet the first deficient group, the second what the first leaves; both checks are exact (the first is added
+ * for real while the second is tried). Returns whether it did.
+ */
+function replaceByTwo(ctx: SearchCtx, c: number, D: Deficits, rest: Deficits, mark: Int32Array): boolean {
   const { st } = ctx;
   const m = st.m;
   const before = st.cost();
   st.remove(c);
-  D.collect(st, [c], mark, ++markCounter.id);
+  D.collect(st, [c], mark);
   if (D.n === 0 || D.hopeless) {
     st.add(c);
     return false;
   }
-  // First partners: candidates that meet some of the deficits; cheapest first.
+  const head = new Deficits(1);
+  head.groups[0] = D.groups[0];
+  head.flags[0] = D.flags[0];
+  head.n = 1;
   const firsts: { d: number; cost: number }[] = [];
   for (let i = 0; i < m.allowedList.length; i++) {
     const d = m.allowedList[i];
     if (st.chosen[d] || d === c) continue;
     const cost = st.costWith([d]);
-    if (relLess(cost, before)) firsts.push({ d, cost });
+    if (relLess(cost, before) && restores(st, d, head)) firsts.push({ d, cost });
   }
   firsts.sort((a, b) => a.cost - b.cost || a.d - b.d);
-  const deficitBefore = st.deficit;
-  const rem = new Deficits(D.n);
   let best: [number, number] | null = null;
   let bestCost = before;
   for (const { d: d1, cost: cost1 } of firsts) {
-    if (st.work > ctx.workLimit) break;
-    if (!relLess(cost1, bestCost)) break;
+    if (st.work > ctx.workLimit || !relLess(cost1, bestCost)) break;
     st.add(d1);
-    if (st.deficit < deficitBefore) {
-      // the deficits within D that d1 leaves
-      rem.n = 0;
-      for (let i = 0; i < D.n; i++) {
-        const g = D.groups[i];
-        let f = 0;
-        for (let k = 0; k < 3; k++) if (m.gReq[3 * g + k] > st.cnt[3 * g + k]) f |= 1 << k;
-        if (f) {
-          rem.groups[rem.n] = g;
-          rem.flags[rem.n++] = f;
-        }
-      }
-      if (rem.n === 0) {
-        // d1 alone restores: a 1-for-1 swap that the other neighbourhood missed only if cheaper; take it
-        if (relLess(cost1, bestCost)) {
-          best = [d1, -1];
-          bestCost = cost1;
-        }
-      } else {
-        for (let i = 0; i < m.allowedList.length; i++) {
-          const d2 = m.allowedList[i];
-          if (st.chosen[d2] || d2 === c || d2 <= d1) continue;
-          const cost = st.costWith([d2]);
-          if (!relLess(cost, bestCost)) continue;
-          if (restores(st, d2, rem)) {
-            best = [d1, d2];
-            bestCost = cost;
-          }
+    rest.remaining(st, D);
+    if (rest.n === 0) {
+      best = [d1, -1];
+      bestCost = cost1;
+    } else {
+      for (let i = 0; i < m.allowedList.length; i++) {
+        const d2 = m.allowedList[i];
+        if (st.chosen[d2] || d2 === c) continue;
+        const cost = st.costWith([d2]);
+        if (relLess(cost, bestCost) && restores(st, d2, rest)) {
+          best = [d1, d2];
+          bestCost = cost;
         }
       }
     }
@@ -1173,71 +1202,71 @@ function localSearchCover(ctx: SearchCtx): void {
   const { st } = ctx;
   const m = st.m;
   const D = new Deficits(m.nGroups);
+  const rest = new Deficits(m.nGroups);
   const mark = new Int32Array(m.nGroups).fill(-1);
+  markCounter.id = 0;
+  const over = (): boolean => st.work > ctx.workLimit;
   prune(ctx);
-  let improved = true;
-  while (improved && st.work <= ctx.workLimit) {
-    improved = false;
+  while (!over()) {
+    // Removal table: for each removable pick, the unchosen candidates that could replace it alone.
+    const table: Removal[] = [];
+    for (const { c, saving } of removable(st)) {
+      st.remove(c);
+      D.collect(st, [c], mark);
+      const match: number[] = [];
+      for (let i = 0; i < m.allowedList.length; i++) {
+        const d = m.allowedList[i];
+        if (!st.chosen[d] && d !== c && restores(st, d, D, false)) match.push(d);
+      }
+      st.add(c);
+      table.push({ c, saving, match });
+    }
+    let moved = false;
     // one for one
-    for (const { c } of removable(st)) {
-      if (st.work > ctx.workLimit) break;
-      if (tryReplaceByOne(ctx, [c], D, mark)) {
+    for (const r of table) {
+      if (over()) break;
+      if (replaceByOne(st, [r.c], r.match, D, mark)) {
         ctx.counts.swap11++;
-        improved = true;
+        moved = true;
         break;
       }
     }
-    if (improved) {
-      prune(ctx);
-      continue;
-    }
     // one site's sensors for one
-    for (let s = 0; s < m.nSites && !improved; s++) {
-      if (st.siteChosen[s] < 2 || st.work > ctx.workLimit) continue;
-      const drop = [...m.siteCands[s]].filter((c) => st.chosen[c]);
-      if (drop.some((c) => m.forced[c])) continue;
-      if (tryReplaceByOne(ctx, drop, D, mark)) {
+    for (let s = 0; s < m.nSites && !moved && !over(); s++) {
+      if (st.siteChosen[s] < 2) continue;
+      const drop = Array.from(m.siteCands[s]).filter((c) => st.chosen[c]);
+      const rows = drop.map((c) => table.find((r) => r.c === c));
+      if (rows.some((r) => !r)) continue; // a forced sensor is there
+      const pool = rows[0]!.match.filter((d) => rows.every((r) => r!.match.includes(d)));
+      if (pool.length > 0 && replaceByOne(st, drop, pool, D, mark)) {
         ctx.counts.site1++;
-        improved = true;
+        moved = true;
       }
     }
-    if (improved) {
-      prune(ctx);
-      continue;
-    }
     // two for one
-    const rem = removable(st);
-    outer: for (let i = 0; i < rem.length; i++) {
-      for (let j = i + 1; j < rem.length; j++) {
-        if (st.work > ctx.workLimit) break outer;
-        if (
-          tryReplaceByOne(
-            ctx,
-            [rem[i].c, rem[j].c].sort((a, b) => a - b),
-            D,
-            mark,
-          )
-        ) {
+    outer: for (let i = 0; i < table.length && !moved; i++) {
+      for (let j = i + 1; j < table.length; j++) {
+        if (over()) break outer;
+        const pool = table[i].match.filter((d) => table[j].match.includes(d));
+        if (pool.length === 0) continue;
+        const drop = [table[i].c, table[j].c].sort((a, b) => a - b);
+        if (replaceByOne(st, drop, pool, D, mark)) {
           ctx.counts.swap21++;
-          improved = true;
+          moved = true;
           break outer;
         }
       }
     }
-    if (improved) {
-      prune(ctx);
-      continue;
-    }
     // one for two
-    for (const { c } of removable(st)) {
-      if (st.work > ctx.workLimit) break;
-      if (tryReplaceByTwo(ctx, c, D, mark)) {
+    for (const r of table) {
+      if (moved || over()) break;
+      if (replaceByTwo(ctx, r.c, D, rest, mark)) {
         ctx.counts.swap12++;
-        improved = true;
-        break;
+        moved = true;
       }
     }
-    if (improved) prune(ctx);
+    if (!moved) break;
+    prune(ctx);
   }
 }
 
@@ -1346,7 +1375,6 @@ export async function solvePlan(inst: PlanInstance, opts: PlanOptions = {}): Pro
   const ctx: SearchCtx = {
     st,
     workLimit: st.work + (opts.searchWork ?? 4e8),
-    log,
     counts: { prune: 0, swap11: 0, site1: 0, swap21: 0, swap12: 0 },
   };
   if (m.budget === undefined) localSearchCover(ctx);
