@@ -130,11 +130,15 @@ export function outageTable(
       const pri = network.foldOf('primary', k.f);
       const sec = network.foldOf('secondary', k.f);
       const was = base.get(k.key)!;
+      // meets() inlined: the same rule, with the volume's numbers pulled out of the loop.
+      const rAny = Math.max(1, k.v.requiredFold.any ?? 0);
+      const rPri = k.v.requiredFold.primary ?? 0;
+      const rSec = k.v.requiredFold.secondary ?? 0;
       let lost: Uint8Array | null = null;
       let area = 0;
       for (let n = 0; n < cells.length; n++) {
         const i = cells[n];
-        if (!was[i] || meets(k.v.requiredFold, any[i], pri[i], sec[i])) continue;
+        if (!was[i] || (any[i] >= rAny && pri[i] >= rPri && sec[i] >= rSec)) continue;
         lost ??= new Uint8Array(was.length);
         lost[i] = 1;
         unionMark[i] = 1;
