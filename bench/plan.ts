@@ -19,19 +19,9 @@ import { spawnSync } from 'node:child_process';
 import { loadavg } from 'node:os';
 import { resolve } from 'node:path';
 import { solvePlan, type PlanInstance } from '../worker/core/plan.ts';
+import { mulberry32 } from '../test/support/bumps.ts';
 
 const GRID = 1000;
-
-function mulberry32(seed: number): () => number {
-  let a = seed >>> 0;
-  return () => {
-    a = (a + 0x6d2b79f5) >>> 0;
-    let t = a;
-    t = Math.imul(t ^ (t >>> 15), t | 1);
-    t ^= t + Math.imul(t ^ (t >>> 7), t | 61);
-    return ((t ^ (t >>> 14)) >>> 0) / 4294967296;
-  };
-}
 
 function disc(cx: number, cy: number, r: number): Uint32Array {
   const out: number[] = [];

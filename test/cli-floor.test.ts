@@ -4,13 +4,13 @@
  * and one test per bad input: each ends with one message naming the file or argument, what was found and what
  * was expected, and a non-zero exit status, without a stack trace.
  */
-import { afterAll, beforeAll, describe, expect, it, vi } from 'vitest';
+import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { mkdtempSync, readFileSync, rmSync, writeFileSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { execFileSync, spawnSync } from 'node:child_process';
 import { fromArrayBuffer } from 'geotiff';
-import { main } from '../worker/cli.ts';
+import { runCli } from './support/run-cli.ts';
 import { encodeGeoTiff } from '../worker/io/geotiff-write.ts';
 import { WGS84_GEOGRAPHIC, type GridGeo } from '../worker/core/grid.ts';
 import { corruptIfdOffset, encodeTiff, truncate } from './support/tiff-encoder.ts';
@@ -37,19 +37,7 @@ beforeAll(() => {
 });
 afterAll(() => rmSync(dir, { recursive: true, force: true }));
 
-async function run(...argv: string[]): Promise<{ code: number; out: string; err: string }> {
-  let out = '';
-  let err = '';
-  const o = vi.spyOn(process.stdout, 'write').mockImplementation((s) => ((out += String(s)), true));
-  const e = vi.spyOn(process.stderr, 'write').mockImplementation((s) => ((err += String(s)), true));
-  try {
-    const code = await main(argv);
-    return { code, out, err };
-  } finally {
-    o.mockRestore();
-    e.mockRestore();
-  }
-}
+const run = runCli;
 
 const SITE = '-29.5,-41.5';
 

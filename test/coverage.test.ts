@@ -27,9 +27,9 @@ import IsValidOp from 'jsts/org/locationtech/jts/operation/valid/IsValidOp.js';
 import { execFileSync } from 'node:child_process';
 import { existsSync, readFileSync } from 'node:fs';
 import { join } from 'node:path';
-import { afterAll, beforeAll, describe, expect, it, vi } from 'vitest';
+import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { flToMetres, formatFl } from '../shared/units.ts';
-import { main } from '../worker/cli.ts';
+import { runCli } from './support/run-cli.ts';
 import { allCandidates, footprintsFor, layoutCandidates, openSession } from '../worker/cli/session.ts';
 import { ProgressLine } from '../worker/cli/progress.ts';
 import { analysisGrid } from '../worker/cli/coverage.ts';
@@ -53,19 +53,7 @@ const R = 6_371_000;
 // ---------------------------------------------------------------------------------------------------------
 // Helpers
 
-async function run(...argv: string[]): Promise<{ code: number; out: string; err: string }> {
-  let out = '';
-  let err = '';
-  const o = vi.spyOn(process.stdout, 'write').mockImplementation((s) => ((out += String(s)), true));
-  const e = vi.spyOn(process.stderr, 'write').mockImplementation((s) => ((err += String(s)), true));
-  try {
-    const code = await main(argv);
-    return { code, out, err };
-  } finally {
-    o.mockRestore();
-    e.mockRestore();
-  }
-}
+const run = runCli;
 
 /** Bad input: a non-zero exit and exactly one line on stderr matching `re`. */
 function expectOneMessage(r: { code: number; err: string }, re: RegExp): void {

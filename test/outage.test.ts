@@ -5,8 +5,8 @@
 import fc from 'fast-check';
 import { readFileSync, existsSync } from 'node:fs';
 import { join } from 'node:path';
-import { afterAll, beforeAll, describe, expect, it, vi } from 'vitest';
-import { main } from '../worker/cli.ts';
+import { afterAll, beforeAll, describe, expect, it } from 'vitest';
+import { runCli } from './support/run-cli.ts';
 import { NO_COVER_LO, type Footprint } from '../worker/core/footprint.ts';
 import { WGS84_GEOGRAPHIC, type GridGeo } from '../worker/core/grid.ts';
 import { Network } from '../worker/core/network.ts';
@@ -115,18 +115,7 @@ describe('airshade outage and compare on a small scenario', () => {
   });
   afterAll(() => fx.cleanup());
 
-  async function run(...argv: string[]) {
-    let o = '';
-    let e = '';
-    const so = vi.spyOn(process.stdout, 'write').mockImplementation((s) => ((o += String(s)), true));
-    const se = vi.spyOn(process.stderr, 'write').mockImplementation((s) => ((e += String(s)), true));
-    try {
-      return { code: await main(argv), out: o, err: e };
-    } finally {
-      so.mockRestore();
-      se.mockRestore();
-    }
-  }
+  const run = runCli;
 
   it('writes outage.json with the losses worst first and the lost layers', async () => {
     const r = await run(

@@ -5,22 +5,11 @@
  */
 import { readFileSync } from 'node:fs';
 import { join } from 'node:path';
-import { afterAll, beforeAll, describe, expect, it, vi } from 'vitest';
-import { main } from '../worker/cli.ts';
+import { afterAll, beforeAll, describe, expect, it } from 'vitest';
+import { runCli } from './support/run-cli.ts';
 import { DEFAULT_VOLUMES, writeScenarioFixture, type Fixture } from './support/scenario-fixture.ts';
 
-async function run(...argv: string[]) {
-  let o = '';
-  let e = '';
-  const so = vi.spyOn(process.stdout, 'write').mockImplementation((s) => ((o += String(s)), true));
-  const se = vi.spyOn(process.stderr, 'write').mockImplementation((s) => ((e += String(s)), true));
-  try {
-    return { code: await main(argv), out: o, err: e };
-  } finally {
-    so.mockRestore();
-    se.mockRestore();
-  }
-}
+const run = runCli;
 
 describe('airshade plan', () => {
   let fx: Fixture;

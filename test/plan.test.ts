@@ -23,20 +23,10 @@ import {
   type PlanInstance,
   type PlanResult,
 } from '../worker/core/plan.ts';
+import { mulberry32 } from './support/bumps.ts';
 
 // ---------------------------------------------------------------------------------------------------------------
 // Seeded instances and the exhaustive reference
-
-function mulberry32(seed: number): () => number {
-  let a = seed >>> 0;
-  return () => {
-    a = (a + 0x6d2b79f5) >>> 0;
-    let t = a;
-    t = Math.imul(t ^ (t >>> 15), t | 1);
-    t ^= t + Math.imul(t ^ (t >>> 7), t | 61);
-    return ((t ^ (t >>> 14)) >>> 0) / 4294967296;
-  };
-}
 
 interface GenOpts {
   candidates: [number, number];

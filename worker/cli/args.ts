@@ -97,3 +97,23 @@ export function lonLatArg(name: string, text: string): { lon: number; lat: numbe
   if (lon < -180 || lon > 180 || lat < -90 || lat > 90) throw new InputError(`--${name}`, `"${text}"`, what);
   return { lon, lat };
 }
+
+/** The one positional argument of the scenario commands. */
+export function scenarioArg(p: Parsed, command: string): string {
+  if (p.positional.length !== 1) {
+    throw new InputError(
+      `airshade ${command}`,
+      p.positional.length === 0 ? 'no scenario file' : `${p.positional.length} positional arguments`,
+      'one SCENARIO.json (see --help)',
+    );
+  }
+  return p.positional[0];
+}
+
+/** --threads N (0–64); `fallback` when absent (one per core, from the caller). */
+export function threadsArg(p: Parsed, fallback: number): number {
+  const text = one(p, 'threads');
+  return text === undefined
+    ? fallback
+    : numberArg('threads', text, 0, 64, 'a whole number of threads from 0 to 64');
+}

@@ -2,7 +2,6 @@
  * `airshade compare`: two named layouts of the scenario side by side — cost, coverage per volume and flight level,
  * fold histograms, and layers of what B gains and loses against A.
  */
-import { InputError } from '../../shared/errors.ts';
 import { flToMetres, formatFl } from '../../shared/units.ts';
 import type { Candidate } from '../core/coverage.ts';
 import { Network } from '../core/network.ts';
@@ -10,7 +9,7 @@ import { difference, servedMasks, tally } from '../core/outage.ts';
 import { volumeStats } from '../core/volumes.ts';
 import { featureCollection, stringifyGeoJson } from '../io/geojson.ts';
 import { NodePool } from '../node-pool.ts';
-import { numberArg, one, parseArgs, required } from './args.ts';
+import { parseArgs, required, scenarioArg, threadsArg } from './args.ts';
 import { maskLayer } from './coverage.ts';
 import { writeFileChecked } from './files.ts';
 import { ProgressLine } from './progress.ts';
@@ -59,23 +58,13 @@ export async function compareCommand(argv: readonly string[], log: (s: string) =
     log(COMPARE_HELP);
     return 0;
   }
-  if (p.positional.length !== 1) {
-    throw new InputError(
-      'airshade compare',
-      p.positional.length === 0 ? 'no scenario file' : `${p.positional.length} positional arguments`,
-      'one SCENARIO.json (see --help)',
-    );
-  }
+  const scenarioPath = scenarioArg(p, 'compare');
   const nameA = required(p, 'a', 'the name of a layout of the scenario');
   const nameB = required(p, 'b', 'the name of a layout of the scenario');
   const outDir = required(p, 'out', 'the output folder');
-  const threadsText = one(p, 'threads');
-  const threads =
-    threadsText === undefined
-      ? NodePool.defaultSize()
-      : numberArg('threads', threadsText, 0, 64, 'a whole number of threads from 0 to 64');
+  const threads = threadsArg(p, NodePool.defaultSize());
   const progress = new ProgressLine('compare', p.flags.has('quiet'));
-  const session = await openSession(p.positional[0], threads, progress);
+  const session = await openSession(scenarioPath, threads, progress);
   const s = session.loaded.scenario;
   const a = layoutCandidates(session, nameA, '--a');
   const b = layoutCandidates(session, nameB, '--b');

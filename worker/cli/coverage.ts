@@ -13,7 +13,7 @@ import { maskToPolygons, maskAreaKm2 } from '../core/contour.ts';
 import { featureCollection, layerFeature, stringifyGeoJson, type LayerFeatureProps } from '../io/geojson.ts';
 import { encodeGeoTiff } from '../io/geotiff-write.ts';
 import { NodePool } from '../node-pool.ts';
-import { numberArg, one, parseArgs } from './args.ts';
+import { one, parseArgs, required, scenarioArg, threadsArg } from './args.ts';
 import { writeFileChecked } from './files.ts';
 import { ProgressLine } from './progress.ts';
 import type { LoadedScenario } from './scenario.ts';
@@ -109,24 +109,12 @@ export async function coverageCommand(argv: readonly string[], log: (s: string) 
     log(COVERAGE_HELP);
     return 0;
   }
-  if (p.positional.length !== 1) {
-    throw new InputError(
-      'airshade coverage',
-      p.positional.length === 0 ? 'no scenario file' : `${p.positional.length} positional arguments`,
-      'one SCENARIO.json (see --help)',
-    );
-  }
-  const outDir = one(p, 'out');
-  if (outDir === undefined)
-    throw new InputError('--out', 'nothing (the option is missing)', 'the output folder');
-  const threadsText = one(p, 'threads');
-  const threads =
-    threadsText === undefined
-      ? NodePool.defaultSize()
-      : numberArg('threads', threadsText, 0, 64, 'a whole number of threads from 0 to 64');
+  const scenarioPath = scenarioArg(p, 'coverage');
+  const outDir = required(p, 'out', 'the output folder');
+  const threads = threadsArg(p, NodePool.defaultSize());
   const started = performance.now();
   const progress = new ProgressLine('coverage', p.flags.has('quiet'));
-  const session = await openSession(p.positional[0], threads, progress);
+  const session = await openSession(scenarioPath, threads, progress);
   const s = session.loaded.scenario;
   const grid = session.grid;
   const fls = parseFlightLevels(one(p, 'fl')) ?? s.flightLevels;

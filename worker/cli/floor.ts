@@ -6,7 +6,7 @@ import { Terrain } from '../core/terrain.ts';
 import type { GridGeo } from '../core/grid.ts';
 import { encodeGeoTiff } from '../io/geotiff-write.ts';
 import { NodePool } from '../node-pool.ts';
-import { lonLatArg, numberArg, one, parseArgs, required } from './args.ts';
+import { lonLatArg, numberArg, one, parseArgs, required, threadsArg } from './args.ts';
 import { readTiles, writeFileChecked } from './files.ts';
 import { ProgressLine } from './progress.ts';
 
@@ -86,11 +86,7 @@ export async function floorCommand(argv: readonly string[], log: (s: string) => 
       ? undefined
       : numberArg('max-range-km', rangeText, 0.001, 2000, 'a range in km from 0 to 2000') * 1000;
   const outPath = required(p, 'out', 'the output GeoTIFF path');
-  const threadsText = one(p, 'threads');
-  const threads =
-    threadsText === undefined
-      ? NodePool.defaultSize()
-      : numberArg('threads', threadsText, 0, 64, 'a whole number of threads from 0 to 64');
+  const threads = threadsArg(p, NodePool.defaultSize());
 
   const started = performance.now();
   const progress = new ProgressLine('floor', p.flags.has('quiet'));

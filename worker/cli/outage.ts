@@ -10,7 +10,7 @@ import { Network } from '../core/network.ts';
 import { outageTable } from '../core/outage.ts';
 import { featureCollection, stringifyGeoJson } from '../io/geojson.ts';
 import { NodePool } from '../node-pool.ts';
-import { numberArg, one, parseArgs } from './args.ts';
+import { one, parseArgs, required, scenarioArg, threadsArg } from './args.ts';
 import { maskLayer } from './coverage.ts';
 import { writeFileChecked } from './files.ts';
 import { ProgressLine } from './progress.ts';
@@ -88,28 +88,16 @@ export async function outageCommand(argv: readonly string[], log: (s: string) =>
     log(OUTAGE_HELP);
     return 0;
   }
-  if (p.positional.length !== 1) {
-    throw new InputError(
-      'airshade outage',
-      p.positional.length === 0 ? 'no scenario file' : `${p.positional.length} positional arguments`,
-      'one SCENARIO.json (see --help)',
-    );
-  }
-  const outDir = one(p, 'out');
-  if (outDir === undefined)
-    throw new InputError('--out', 'nothing (the option is missing)', 'the output folder');
+  const scenarioPath = scenarioArg(p, 'outage');
+  const outDir = required(p, 'out', 'the output folder');
   const planPath = one(p, 'plan');
   const layoutName = one(p, 'layout');
   if (planPath !== undefined && layoutName !== undefined)
     throw new InputError('--layout', 'both --plan and --layout', 'one of them');
-  const threadsText = one(p, 'threads');
-  const threads =
-    threadsText === undefined
-      ? NodePool.defaultSize()
-      : numberArg('threads', threadsText, 0, 64, 'a whole number of threads from 0 to 64');
+  const threads = threadsArg(p, NodePool.defaultSize());
   const started = performance.now();
   const progress = new ProgressLine('outage', p.flags.has('quiet'));
-  const session = await openSession(p.positional[0], threads, progress);
+  const session = await openSession(scenarioPath, threads, progress);
   const s = session.loaded.scenario;
   const sensors =
     planPath !== undefined

@@ -2,7 +2,6 @@
  * `airshade plan`: the cheapest set of (site, type) that gives every airspace volume its required folds at the
  * flight levels of its band — or, with a budget, the most demand within it — with a proven lower bound and gap.
  */
-import { InputError } from '../../shared/errors.ts';
 import { flToMetres, formatFl } from '../../shared/units.ts';
 import type { Candidate } from '../core/coverage.ts';
 import type { Footprint } from '../core/footprint.ts';
@@ -11,7 +10,7 @@ import { solvePlan, type PlanInstance, type PlanResult } from '../core/plan.ts';
 import { rowAreasKm2, volumeStats } from '../core/volumes.ts';
 import { stringifyGeoJson } from '../io/geojson.ts';
 import { NodePool } from '../node-pool.ts';
-import { numberArg, one, parseArgs } from './args.ts';
+import { numberArg, one, parseArgs, required, scenarioArg, threadsArg } from './args.ts';
 import { levelLayers } from './coverage.ts';
 import { writeFileChecked } from './files.ts';
 import { ProgressLine } from './progress.ts';
@@ -126,21 +125,9 @@ export async function planCommand(argv: readonly string[], log: (s: string) => v
     log(PLAN_HELP);
     return 0;
   }
-  if (p.positional.length !== 1) {
-    throw new InputError(
-      'airshade plan',
-      p.positional.length === 0 ? 'no scenario file' : `${p.positional.length} positional arguments`,
-      'one SCENARIO.json (see --help)',
-    );
-  }
-  const outDir = one(p, 'out');
-  if (outDir === undefined)
-    throw new InputError('--out', 'nothing (the option is missing)', 'the output folder');
-  const threadsText = one(p, 'threads');
-  const threads =
-    threadsText === undefined
-      ? NodePool.defaultSize()
-      : numberArg('threads', threadsText, 0, 64, 'a whole number of threads from 0 to 64');
+  const scenarioPath = scenarioArg(p, 'plan');
+  const outDir = required(p, 'out', 'the output folder');
+  const threads = threadsArg(p, NodePool.defaultSize());
   const limitText = one(p, 'time-limit-s');
   const timeLimitMs =
     limitText === undefined
@@ -148,7 +135,7 @@ export async function planCommand(argv: readonly string[], log: (s: string) => v
       : numberArg('time-limit-s', limitText, 0.1, 3600, 'a time limit in seconds from 0.1 to 3600') * 1000;
   const started = performance.now();
   const progress = new ProgressLine('plan', p.flags.has('quiet'));
-  const session = await openSession(p.positional[0], threads, progress);
+  const session = await openSession(scenarioPath, threads, progress);
   const s = session.loaded.scenario;
   const budgetText = one(p, 'budget');
   const budget =
