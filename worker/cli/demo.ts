@@ -120,7 +120,8 @@ export async function demoCommand(argv: readonly string[], log: (s: string) => v
   const outDir = (one(p, 'out') ?? 'out/demo').replace(/\/$/, '');
   const threads = one(p, 'threads');
   const quiet = p.flags.has('quiet');
-  await ensureDemoData(false, new ProgressLine('demo', quiet));
+  const made = await ensureDemoData(false, new ProgressLine('demo', quiet));
+  if (made.written > 0) log(`generated ${made.written} demo terrain tiles in ${DEMO_TERRAIN_DIR}`);
   log(
     `Airshade demo — an invented region of open South Atlantic (${DEMO_REGION.west}…${DEMO_REGION.east}° E, ${DEMO_REGION.south}…${DEMO_REGION.north}° N): land, sites and names are all invented.`,
   );
