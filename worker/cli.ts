@@ -17,7 +17,7 @@ const HELP = `airshade — radar network coverage planner (planning aid; see the
 Usage: airshade <command> [options]     airshade <command> --help
 
 Commands:
-  demo          run the terrain-masking engine on the invented demo region and print a summary
+  demo          coverage of the invented demo network, with a summary per airspace volume and flight level
   demo-data     generate the demo terrain tiles (data/demo/terrain) if they are missing
   floor         lowest line-of-sight altitude above every cell of a DEM, as a GeoTIFF
   coverage      what a network of sensors detects at each flight level: GeoJSON layers and statistics
