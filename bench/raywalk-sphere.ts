@@ -15,7 +15,7 @@
  * planar reference and gdal_viewshed use planar grid distances and the parabolic drop. At 100+ km the two models
  * differ by a few metres of floor; the bench reports both tools against both references.
  */
-import type { RayWalkInput } from '../test/reference/raywalk.ts';
+import { forEachCrossing, type RayWalkInput } from '../test/reference/raywalk.ts';
 
 export interface SphereRayWalkInput extends RayWalkInput {
   /** Easting offset from the central meridian (m, false easting removed) of continuous pixel x = 0. */
@@ -28,7 +28,7 @@ export interface SphereRayWalkInput extends RayWalkInput {
 
 /** Lowest line-of-sight altitude above the centre of target cell (c, r), not clamped to the ground. */
 export function sphereRayWalkFloor(inp: SphereRayWalkInput, c: number, r: number): number {
-  const { data, width: W, pixelM, ox, oy, antennaAltM: ha, reM, x0M, k0, rhoNuM2 } = inp;
+  const { pixelM, ox, oy, antennaAltM: ha, reM, x0M, k0, rhoNuM2 } = inp;
   const tx = c + 0.5;
   const ty = r + 0.5;
   const dx = tx - ox;
@@ -51,34 +51,7 @@ export function sphereRayWalkFloor(inp: SphereRayWalkInput, c: number, r: number
     const tanE = ((re + z) * Math.cos(a) - rha) / ((re + z) * Math.sin(a));
     if (tanE > maxTan) maxTan = tanE;
   };
-  if (dx !== 0) {
-    const kFrom = Math.min(ox, tx);
-    const kTo = Math.max(ox, tx);
-    for (let k = Math.ceil(kFrom - 0.5); k + 0.5 <= kTo; k++) {
-      const t = (k + 0.5 - ox) / dx;
-      if (t <= 1e-12 || t >= 1 - 1e-12) continue;
-      const y = oy + t * dy - 0.5;
-      const r0 = Math.floor(y);
-      const f = y - r0;
-      const a = data[r0 * W + k];
-      const b = f > 0 ? data[(r0 + 1) * W + k] : a;
-      consider(t, a + (b - a) * f);
-    }
-  }
-  if (dy !== 0) {
-    const kFrom = Math.min(oy, ty);
-    const kTo = Math.max(oy, ty);
-    for (let k = Math.ceil(kFrom - 0.5); k + 0.5 <= kTo; k++) {
-      const t = (k + 0.5 - oy) / dy;
-      if (t <= 1e-12 || t >= 1 - 1e-12) continue;
-      const x = ox + t * dx - 0.5;
-      const c0 = Math.floor(x);
-      const f = x - c0;
-      const a = data[k * W + c0];
-      const b = f > 0 ? data[k * W + c0 + 1] : a;
-      consider(t, a + (b - a) * f);
-    }
-  }
+  forEachCrossing(inp, c, r, consider);
   if (maxTan === -Infinity) return -Infinity;
   const A = groundM(1) / re;
   const den = Math.cos(A) - maxTan * Math.sin(A);

@@ -20,55 +20,65 @@ export interface RayWalkInput {
   reM: number;
 }
 
-/** Lowest line-of-sight altitude above the centre of target cell (c, r), not clamped to the ground. */
-export function rayWalkFloor(inp: RayWalkInput, c: number, r: number): number {
-  const { data, width: W, pixelM, ox, oy, antennaAltM: ha, reM } = inp;
+/**
+ * Visits every crossing of the segment from the observer to the centre of cell (c, r) with a column or row line
+ * of cell centres (strictly between the two), with t ∈ (0, 1) the fraction of the way and z the terrain
+ * interpolated linearly between the two cells on that line.
+ */
+export function forEachCrossing(
+  inp: RayWalkInput,
+  c: number,
+  r: number,
+  visit: (t: number, z: number) => void,
+): void {
+  const { data, width: W, ox, oy } = inp;
   const tx = c + 0.5;
   const ty = r + 0.5;
   const dx = tx - ox;
   const dy = ty - oy;
-  const len = Math.hypot(dx, dy);
-  const D = len * pixelM;
-  if (len < 1e-9) return -Infinity;
-  let maxSlope = -Infinity;
-  const consider = (t: number, z: number) => {
-    // t in (0, 1): fraction of the way to the target.
-    const d = t * D;
-    const zEff = z - (d * d) / (2 * reM);
-    const slope = (zEff - ha) / d;
-    if (slope > maxSlope) maxSlope = slope;
-  };
-  // Crossings of the column-centre lines x = k + 0.5 strictly between observer and target.
   if (dx !== 0) {
     const kFrom = Math.min(ox, tx);
     const kTo = Math.max(ox, tx);
     for (let k = Math.ceil(kFrom - 0.5); k + 0.5 <= kTo; k++) {
-      const x = k + 0.5;
-      const t = (x - ox) / dx;
+      const t = (k + 0.5 - ox) / dx;
       if (t <= 1e-12 || t >= 1 - 1e-12) continue;
       const y = oy + t * dy - 0.5;
       const r0 = Math.floor(y);
       const f = y - r0;
       const a = data[r0 * W + k];
       const b = f > 0 ? data[(r0 + 1) * W + k] : a;
-      consider(t, a + (b - a) * f);
+      visit(t, a + (b - a) * f);
     }
   }
   if (dy !== 0) {
     const kFrom = Math.min(oy, ty);
     const kTo = Math.max(oy, ty);
     for (let k = Math.ceil(kFrom - 0.5); k + 0.5 <= kTo; k++) {
-      const y = k + 0.5;
-      const t = (y - oy) / dy;
+      const t = (k + 0.5 - oy) / dy;
       if (t <= 1e-12 || t >= 1 - 1e-12) continue;
       const x = ox + t * dx - 0.5;
       const c0 = Math.floor(x);
       const f = x - c0;
       const a = data[k * W + c0];
       const b = f > 0 ? data[k * W + c0 + 1] : a;
-      consider(t, a + (b - a) * f);
+      visit(t, a + (b - a) * f);
     }
   }
+}
+
+/** Lowest line-of-sight altitude above the centre of target cell (c, r), not clamped to the ground. */
+export function rayWalkFloor(inp: RayWalkInput, c: number, r: number): number {
+  const { pixelM, ox, oy, antennaAltM: ha, reM } = inp;
+  const len = Math.hypot(c + 0.5 - ox, r + 0.5 - oy);
+  const D = len * pixelM;
+  if (len < 1e-9) return -Infinity;
+  let maxSlope = -Infinity;
+  forEachCrossing(inp, c, r, (t, z) => {
+    const d = t * D;
+    const zEff = z - (d * d) / (2 * reM);
+    const slope = (zEff - ha) / d;
+    if (slope > maxSlope) maxSlope = slope;
+  });
   if (maxSlope === -Infinity) return -Infinity;
   return ha + maxSlope * D + (D * D) / (2 * reM);
 }
