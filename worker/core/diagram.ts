@@ -18,7 +18,7 @@
 import { InputError } from '../../shared/errors.ts';
 import { DEG_TO_RAD, flToMetres, formatFl, RAD_TO_DEG } from '../../shared/units.ts';
 import { RadialFan } from './geodesy.ts';
-import { FLOOR_CAP_M, NEAR_SUBSTEPS, planHorizon, type TerrainRaster } from './horizon.ts';
+import { FLOOR_CAP_M, planHorizon, radialScreening, type TerrainRaster } from './horizon.ts';
 import { sensorBand } from './footprint.ts';
 import type { SensorModel } from './sensor.ts';
 
@@ -193,55 +193,29 @@ export function diagramData(
     return terrain.samplePixel(x, y);
   };
   const n = Math.floor(maxRangeM / ds + 1e-9) + 1; // samples j·ds ≤ maxRangeM
-  const jFirst = Math.max(1, Math.ceil(layout.firstScreenM / ds));
-  const jNear = Math.min(layout.rangeCount - 1, Math.ceil(layout.nearFieldM / ds));
-  const firstM = jFirst * ds;
-  const sub = ds / NEAR_SUBSTEPS;
+  // The engine's own sweep along this azimuth: the screening before each sample, near field included.
+  const screening = radialScreening(terrain, layout, azimuthDeg * DEG_TO_RAD);
   const stride = Math.max(1, Math.ceil((n - 1) / (MAX_CHART_POINTS - 1)));
   const m = Math.floor((n - 1) / stride) + 1;
   const rangesM = new Float64Array(m);
   const terrainM = new Float64Array(m);
   const floorM = new Float64Array(m);
-  let T = NOTHING;
-  for (let j = 0; j < n; j++) {
+  for (let i = 0; i < m; i++) {
+    const j = i * stride;
     const s = j * ds;
     const z = terrainAt(s);
-    if (j % stride === 0) {
-      // Screening before sample j gives the floor at j (the engine stores T before taking sample j in).
-      const i = j / stride;
-      rangesM[i] = s;
-      terrainM[i] = z;
-      let h: number;
-      if (T !== T || z !== z) h = NaN;
-      else if (T <= NOTHING) h = z;
-      else {
-        const den = Math.cos(s / re) - T * Math.sin(s / re);
-        h = den > 1e-9 ? Math.min(FLOOR_CAP_M, rha / den - re) : FLOOR_CAP_M;
-        if (h < z) h = z;
-      }
-      floorM[i] = h;
+    const T = screening[j];
+    rangesM[i] = s;
+    terrainM[i] = z;
+    let h: number;
+    if (T !== T || z !== z) h = NaN;
+    else if (T <= NOTHING) h = z;
+    else {
+      const den = Math.cos(s / re) - T * Math.sin(s / re);
+      h = den > 1e-9 ? Math.min(FLOOR_CAP_M, rha / den - re) : FLOOR_CAP_M;
+      if (h < z) h = z;
     }
-    if (T !== T) continue;
-    if (j < jNear) {
-      for (let k = 0; k < NEAR_SUBSTEPS; k++) {
-        const sk = s + k * sub;
-        if (sk < firstM) continue;
-        const zk = k === 0 ? z : terrainAt(sk);
-        if (zk !== zk) {
-          T = NaN;
-          break;
-        }
-        const t = ((re + zk) * Math.cos(sk / re) - rha) / ((re + zk) * Math.sin(sk / re));
-        if (t > T) T = t;
-      }
-    } else if (j >= jFirst) {
-      if (z !== z) {
-        T = NaN;
-        continue;
-      }
-      const t = ((re + z) * Math.cos(s / re) - rha) / ((re + z) * Math.sin(s / re));
-      if (t > T) T = t;
-    }
+    floorM[i] = h;
   }
 
   const shadow = runs(rangesM, (i) => floorM[i] - terrainM[i] > SHADOW_TOLERANCE_M);

@@ -105,7 +105,7 @@ export interface Horizon {
 const NOTHING = -1e9;
 /** Near field: this many terrain pixels from the antenna, sampled NEAR_SUBSTEPS times per range step. */
 const NEAR_FIELD_PIXELS = 16;
-export const NEAR_SUBSTEPS = 8;
+const NEAR_SUBSTEPS = 8;
 /** Floors above this are written as this value: no aircraft flies there, and Float32 stays finite. */
 export const FLOOR_CAP_M = 100_000;
 
@@ -628,38 +628,65 @@ function resampleRow(
   return beyond;
 }
 
-/**
- * The pixel positions the sweep samples along one radial (j = 0 … rangeCount − 1 into trace[2j], trace[2j+1]),
- * produced by the sweep's own stepping code. For tests of the geodesy.
- */
-export function traceRadial(terrain: TerrainRaster, layout: HorizonLayout, azimuthRad: number): Float64Array {
+/** Runs the sweep's own code along one radial at any azimuth, into `screening` (and positions into `trace`). */
+function sweepOne(
+  terrain: TerrainRaster,
+  layout: HorizonLayout,
+  azimuthRad: number,
+  screening: Float32Array,
+  trace: Float64Array | null,
+): void {
   const fan = new RadialFan(layout.fan);
   const knots = new Float64Array(fan.rangeKnotCount * 2);
   fan.knotsForAzimuth(azimuthRad, knots);
-  const trace = new Float64Array(layout.rangeCount * 2).fill(NaN);
-  const scratch = new Float32Array(layout.rangeCount);
-  const rt = rangeTables(layout);
   const g = terrain.geo;
-  // Sweep over an unbounded extent so positions are traced even where the terrain ends.
-  sweepRadial(
+  const rha = layout.reM + layout.antennaAltM;
+  // Traces cover every sample; screenings stop one short and store the last value as the sweep does at jEnd.
+  const jEnd = trace ? layout.rangeCount : layout.rangeCount - 1;
+  const T = sweepRadial(
     terrain.data,
     g.width,
     g.height,
     fan,
     knots,
-    rt,
+    rangeTables(layout),
     layout.rangeStepM,
     layout.reM,
-    layout.reM,
+    rha,
     NOTHING,
-    scratch,
+    screening,
     0,
     1,
     0,
-    layout.rangeCount,
+    jEnd,
     trace,
   );
+  if (!trace) screening[jEnd] = T;
+}
+
+/**
+ * The pixel positions the sweep samples along one radial (j = 0 … rangeCount − 1 into trace[2j], trace[2j+1]),
+ * produced by the sweep's own stepping code. For tests of the geodesy.
+ */
+export function traceRadial(terrain: TerrainRaster, layout: HorizonLayout, azimuthRad: number): Float64Array {
+  const trace = new Float64Array(layout.rangeCount * 2).fill(NaN);
+  sweepOne(terrain, layout, azimuthRad, new Float32Array(layout.rangeCount), trace);
   return trace;
+}
+
+/**
+ * The screening tan before each range sample j along one radial at any azimuth — exactly what the sweep stores
+ * for its own radials (near field included); −1e9 where nothing screens yet, NaN behind unknown terrain. The
+ * vertical coverage diagram draws its floor from it.
+ */
+export function radialScreening(
+  terrain: TerrainRaster,
+  layout: HorizonLayout,
+  azimuthRad: number,
+): Float32Array {
+  const out = new Float32Array(layout.rangeCount);
+  sweepOne(terrain, layout, azimuthRad, out, null);
+  return out;
 }
 
 /** Everything inline: plan, sweep and resample onto one grid. Tests and small jobs use this. */
