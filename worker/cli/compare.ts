@@ -10,7 +10,7 @@ import { volumeStats } from '../core/volumes.ts';
 import { featureCollection, stringifyGeoJson } from '../io/geojson.ts';
 import { NodePool } from '../node-pool.ts';
 import { parseArgs, required, scenarioArg, threadsArg } from './args.ts';
-import { maskLayer } from './coverage.ts';
+import { maskLayer } from '../io/layers.ts';
 import { writeFileChecked } from './files.ts';
 import { ProgressLine } from './progress.ts';
 import { footprintsFor, layoutCandidates, openSession, type Session } from './session.ts';

@@ -5,12 +5,9 @@
  */
 import { InputError } from '../../shared/errors.ts';
 import { flToMetres, formatFl } from '../../shared/units.ts';
-import { WGS84_GEOGRAPHIC, type GridGeo } from '../core/grid.ts';
-import { Network, KINDS } from '../core/network.ts';
-import { Terrain } from '../core/terrain.ts';
-import { meets, volumeStats, type VolumeLevelStats } from '../core/volumes.ts';
-import { maskToPolygons, maskAreaKm2 } from '../core/contour.ts';
-import { featureCollection, layerFeature, stringifyGeoJson, type LayerFeatureProps } from '../io/geojson.ts';
+import { Network } from '../core/network.ts';
+import { volumeStats, type VolumeLevelStats } from '../core/volumes.ts';
+import { stringifyGeoJson } from '../io/geojson.ts';
 import { encodeGeoTiff } from '../io/geotiff-write.ts';
 import { NodePool } from '../node-pool.ts';
 import { one, parseArgs, required, scenarioArg, threadsArg } from './args.ts';
@@ -18,6 +15,10 @@ import { writeFileChecked } from './files.ts';
 import { ProgressLine } from './progress.ts';
 import type { LoadedScenario } from './scenario.ts';
 import { allCandidates, footprintsFor, layoutCandidates, openSession } from './session.ts';
+import { levelLayers } from '../io/layers.ts';
+
+export { analysisGrid, groundOnGrid, terrainBounds } from '../study.ts';
+export { levelLayers, maskLayer } from '../io/layers.ts';
 
 export const COVERAGE_HELP = `airshade coverage — what the network detects at each flight level
 
@@ -50,58 +51,6 @@ const SPEC = {
   debug: {},
   help: {},
 } as const;
-
-/** The analysis grid: the scenario's bounds (or the terrain's extent) in whole cells of cellArcSec. */
-export function analysisGrid(loaded: LoadedScenario, terrain: Terrain): GridGeo {
-  const s = loaded.scenario;
-  const cell = s.grid.cellArcSec / 3600;
-  const b = s.grid.bounds ?? terrainBounds(terrain);
-  const west = Math.floor(b.west / cell + 1e-9) * cell;
-  const north = Math.ceil(b.north / cell - 1e-9) * cell;
-  const width = Math.max(1, Math.round((b.east - west) / cell));
-  const height = Math.max(1, Math.round((north - b.south) / cell));
-  return { width, height, originX: west, originY: north, pixelX: cell, pixelY: -cell, crs: WGS84_GEOGRAPHIC };
-}
-
-/** Lon/lat extent of the terrain (its corners and edge midpoints mapped back to lon/lat). */
-export function terrainBounds(terrain: Terrain): {
-  west: number;
-  south: number;
-  east: number;
-  north: number;
-} {
-  const g = terrain.geo;
-  const ll = [0, 0];
-  let west = Infinity;
-  let east = -Infinity;
-  let south = Infinity;
-  let north = -Infinity;
-  for (let i = 0; i <= 8; i++) {
-    for (const [x, y] of [
-      [(i / 8) * g.width, 0],
-      [(i / 8) * g.width, g.height],
-      [0, (i / 8) * g.height],
-      [g.width, (i / 8) * g.height],
-    ]) {
-      terrain.pixelToLonLat(x, y, ll);
-      west = Math.min(west, ll[0]);
-      east = Math.max(east, ll[0]);
-      south = Math.min(south, ll[1]);
-      north = Math.max(north, ll[1]);
-    }
-  }
-  return { west, south, east, north };
-}
-
-export function groundOnGrid(terrain: Terrain, grid: GridGeo): Float32Array {
-  const out = new Float32Array(grid.width * grid.height);
-  for (let r = 0; r < grid.height; r++) {
-    const lat = grid.originY + (r + 0.5) * grid.pixelY;
-    for (let c = 0; c < grid.width; c++)
-      out[r * grid.width + c] = terrain.sampleLonLat(grid.originX + (c + 0.5) * grid.pixelX, lat);
-  }
-  return out;
-}
 
 export async function coverageCommand(argv: readonly string[], log: (s: string) => void): Promise<number> {
   const p = parseArgs(argv, SPEC, 'coverage');
@@ -204,78 +153,6 @@ function parseFlightLevels(text: string | undefined): number[] | undefined {
 }
 
 type Vol = LoadedScenario['scenario']['volumes'][number];
-
-/** One layer feature from a cell mask of the analysis grid (null when the mask is empty). */
-export function maskLayer(
-  mask: Uint8Array,
-  grid: GridGeo,
-  props: Omit<LayerFeatureProps, 'altitudeM' | 'areaKm2'>,
-): ReturnType<typeof layerFeature> | null {
-  const coords = maskToPolygons(mask, grid.width, grid.height, grid);
-  if (coords.length === 0) return null;
-  return layerFeature(coords, {
-    ...props,
-    altitudeM: flToMetres(props.flightLevel),
-    areaKm2: maskAreaKm2(mask, grid.width, grid.height, grid),
-  });
-}
-
-/** Fold layers written per kind: ≥1 … ≥4, or up to the highest fold a volume requires if that is more. */
-export function maxFoldLayers(volumes: readonly Vol[]): number {
-  let m = 4;
-  for (const v of volumes)
-    m = Math.max(m, v.requiredFold.any ?? 0, v.requiredFold.primary ?? 0, v.requiredFold.secondary ?? 0);
-  return m;
-}
-
-/** One flight level's FeatureCollection: folds per kind, then the gaps inside each volume. */
-export function levelLayers(
-  network: Network,
-  f: number,
-  fl: number,
-  grid: GridGeo,
-  volumes: readonly Vol[],
-  masks: readonly Uint8Array[],
-) {
-  const features = [];
-  const cells = grid.width * grid.height;
-  const altitudeM = flToMetres(fl);
-  const mask = new Uint8Array(cells);
-  for (const kind of KINDS) {
-    const fold = network.foldOf(kind, f);
-    let max = 0;
-    for (let i = 0; i < cells; i++) if (fold[i] > max) max = fold[i];
-    const siteIds = network.contributingSites(kind, f);
-    for (let k = 1; k <= Math.min(max, maxFoldLayers(volumes)); k++) {
-      for (let i = 0; i < cells; i++) mask[i] = fold[i] >= k ? 1 : 0;
-      const f = maskLayer(mask, grid, { flightLevel: fl, fold: k, kind, siteIds, layer: 'coverage' });
-      if (f) features.push(f);
-    }
-  }
-  const any = network.foldOf('any', f);
-  const pri = network.foldOf('primary', f);
-  const sec = network.foldOf('secondary', f);
-  volumes.forEach((v, vi) => {
-    if (fl < v.flMin || fl > v.flMax) return;
-    const vm = masks[vi];
-    let n = 0;
-    for (let i = 0; i < cells; i++) {
-      mask[i] = vm[i] && !meets(v.requiredFold, any[i], pri[i], sec[i]) ? 1 : 0;
-      n += mask[i];
-    }
-    if (n === 0) return;
-    const f = maskLayer(mask, grid, {
-      flightLevel: fl,
-      fold: 0,
-      kind: 'any',
-      siteIds: [],
-      layer: 'gap',
-      volumeId: v.id,
-    });
-    if (f) features.push(f);
-  });
-  return featureCollection(features, { flightLevel: fl, altitudeM });
-}
 
 function summaryText(
   name: string,

@@ -11,7 +11,7 @@ import { outageTable } from '../core/outage.ts';
 import { featureCollection, stringifyGeoJson } from '../io/geojson.ts';
 import { NodePool } from '../node-pool.ts';
 import { one, parseArgs, required, scenarioArg, threadsArg } from './args.ts';
-import { maskLayer } from './coverage.ts';
+import { maskLayer } from '../io/layers.ts';
 import { writeFileChecked } from './files.ts';
 import { ProgressLine } from './progress.ts';
 import {

@@ -4,14 +4,14 @@
  */
 import { flToMetres, formatFl } from '../../shared/units.ts';
 import type { Candidate } from '../core/coverage.ts';
-import type { Footprint } from '../core/footprint.ts';
 import { Network } from '../core/network.ts';
 import { solvePlan, type PlanInstance, type PlanResult } from '../core/plan.ts';
-import { rowAreasKm2, volumeStats } from '../core/volumes.ts';
+import { volumeStats } from '../core/volumes.ts';
 import { stringifyGeoJson } from '../io/geojson.ts';
 import { NodePool } from '../node-pool.ts';
 import { numberArg, one, parseArgs, required, scenarioArg, threadsArg } from './args.ts';
-import { levelLayers } from './coverage.ts';
+import { levelLayers } from '../io/layers.ts';
+import { buildDemand, coveredPoints, type Demand } from '../study.ts';
 import { writeFileChecked } from './files.ts';
 import { ProgressLine } from './progress.ts';
 import {
@@ -57,67 +57,6 @@ const SPEC = {
   debug: {},
   help: {},
 } as const;
-
-export interface Demand {
-  instancePoints: PlanInstance['points'];
-  /** Per point: the volume index, the cell and the flight level index. */
-  volume: Uint16Array;
-  cell: Uint32Array;
-  level: Uint8Array;
-}
-
-/** Demand points of every volume at the scenario's levels in its band. */
-export function buildDemand(session: Session, fls: readonly number[]): Demand {
-  const s = session.loaded.scenario;
-  const rows = rowAreasKm2(session.grid);
-  const W = session.grid.width;
-  const vol: number[] = [];
-  const cell: number[] = [];
-  const level: number[] = [];
-  s.volumes.forEach((v, vi) => {
-    fls.forEach((fl, f) => {
-      if (fl < v.flMin || fl > v.flMax) return;
-      const m = session.volumeMasks[vi];
-      for (let c = 0; c < m.length; c++) {
-        if (!m[c]) continue;
-        vol.push(vi);
-        cell.push(c);
-        level.push(f);
-      }
-    });
-  });
-  const n = vol.length;
-  const weight = new Float64Array(n);
-  const reqAny = new Uint8Array(n);
-  const reqPrimary = new Uint8Array(n);
-  const reqSecondary = new Uint8Array(n);
-  for (let p = 0; p < n; p++) {
-    const v = s.volumes[vol[p]];
-    weight[p] = rows[(cell[p] / W) | 0] * (v.weight ?? 1);
-    reqAny[p] = v.requiredFold.any ?? 0;
-    reqPrimary[p] = v.requiredFold.primary ?? 0;
-    reqSecondary[p] = v.requiredFold.secondary ?? 0;
-    if (reqAny[p] + reqPrimary[p] + reqSecondary[p] === 0) reqAny[p] = 1;
-  }
-  return {
-    instancePoints: { count: n, weight, reqAny, reqPrimary, reqSecondary },
-    volume: Uint16Array.from(vol),
-    cell: Uint32Array.from(cell),
-    level: Uint8Array.from(level),
-  };
-}
-
-/** The demand points a footprint covers, in increasing order. */
-export function coveredPoints(fp: Footprint, d: Demand, altitudesM: readonly number[]): Uint32Array {
-  const out: number[] = [];
-  const { cell, level } = d;
-  for (let p = 0; p < cell.length; p++) {
-    const c = cell[p];
-    const h = altitudesM[level[p]];
-    if (fp.lo[c] <= h && h <= fp.hi[c]) out.push(p);
-  }
-  return Uint32Array.from(out);
-}
 
 export async function planCommand(argv: readonly string[], log: (s: string) => void): Promise<number> {
   const p = parseArgs(argv, SPEC, 'plan');

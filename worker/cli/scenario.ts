@@ -1,31 +1,16 @@
 /**
- * Reading a scenario file for the CLI: JSON with line/column on syntax errors, every path resolved relative
- * to the scenario file, sites from a GeoJSON file, an inline FeatureCollection or a CSV file, sensor types
- * from a JSON file or inline, then validation through `parseScenario` with messages that name the file each
- * value came from (`sites.csv: row 7: mastHeightM`, `catalog/sensor-types.json: [2].elevationPattern.deg`).
- *
- * Sites CSV: a header row, then one row per site. Columns (names matched without regard to case, any order,
- * other columns ignored): lon, lat, id, name, mastHeightM, siteCost, and optionally existing (true/false,
- * yes/no, 1/0; empty = false) and allowedTypes (sensor type ids separated by `;`; empty = every type).
- * Parsed with csv-parse (RFC 4180 quoting). A row number in a message is the row's line in the file, the
- * header being row 1.
+ * Reading a scenario file for the CLI: every path resolved relative to the scenario file, the referenced
+ * sensor-type and site files read from disk, then assembled and validated by `io/scenario-text.ts` (shared with
+ * the web app) with messages that name the file each value came from (`sites.csv: row 7: mastHeightM`).
  */
 import { statSync } from 'node:fs';
 import { dirname, isAbsolute, join, normalize, resolve } from 'node:path';
-import { parse as parseCsv, type CsvError } from 'csv-parse/sync';
-import { parse as scanJson, printParseErrorCode, type ParseError } from 'jsonc-parser';
 import { InputError } from '../../shared/errors.ts';
-import {
-  fileLocator,
-  parseScenario,
-  ScenarioError,
-  showValue,
-  type Bounds,
-  type FieldPath,
-  type Locator,
-  type Scenario,
-} from '../../shared/scenario.ts';
+import { ScenarioError, showValue, type Locator, type Scenario } from '../../shared/scenario.ts';
+import { assembleScenario, parseJsonText } from '../io/scenario-text.ts';
 import { readFileChecked } from './files.ts';
+
+export { checkAgainstTerrain, parseJsonText, readSitesCsv } from '../io/scenario-text.ts';
 
 export interface LoadedScenario {
   /** The scenario file, absolute. */
@@ -48,10 +33,6 @@ export interface LoadScenarioOptions {
 }
 
 const SCENARIO_WHAT = 'a scenario file (JSON)';
-const SENSOR_TYPES_WHAT =
-  'the path of a JSON file holding a list of sensor types, relative to the scenario file';
-const SITES_WHAT =
-  'the path of a sites file (GeoJSON FeatureCollection, or CSV), relative to the scenario file';
 const TERRAIN_WHAT = 'the path of a GeoTIFF elevation tile (DEM), relative to the scenario file';
 
 // ---------------------------------------------------------------------------------------------------
@@ -72,176 +53,6 @@ function readText(path: string, display: string, what: string): string {
   } catch {
     throw new InputError(display, 'bytes that are not UTF-8 text', what);
   }
-}
-
-function lineColumn(text: string, offset: number): { line: number; column: number } {
-  let line = 1;
-  let lineStart = 0;
-  for (let i = 0; i < offset && i < text.length; i++) {
-    if (text.charCodeAt(i) === 10) {
-      line++;
-      lineStart = i + 1;
-    }
-  }
-  return { line, column: offset - lineStart + 1 };
-}
-
-const JSON_EXPECTED: Record<string, string> = {
-  ValueExpected: 'a value (number, text in double quotes, true, false, null, object or list)',
-  CommaExpected: 'a comma between entries',
-  ColonExpected: 'a colon after the field name',
-  PropertyNameExpected: 'a field name in double quotes',
-  CloseBraceExpected: 'a closing }',
-  CloseBracketExpected: 'a closing ]',
-  EndOfFileExpected: 'the end of the file after the JSON value',
-  InvalidCommentToken: 'no comments (JSON has none)',
-  UnexpectedEndOfComment: 'no comments (JSON has none)',
-  UnexpectedEndOfString: 'a closing double quote',
-  UnexpectedEndOfNumber: 'a complete number',
-  InvalidUnicode: 'a valid \\u escape',
-  InvalidEscapeCharacter: 'a valid escape (\\", \\\\, \\/, \\b, \\f, \\n, \\r, \\t, \\u)',
-  InvalidCharacter: 'no control characters inside text',
-  InvalidSymbol: 'valid JSON',
-  InvalidNumberFormat: 'a number in JSON form',
-};
-
-/**
- * JSON.parse, and on a syntax error a message with the line and column. Node's own message does not always
- * say where the error is, so the position comes from a JSON scanner (jsonc-parser, with comments and
- * trailing commas disallowed as in strict JSON).
- */
-export function parseJsonText(text: string, display: string, what: string): unknown {
-  try {
-    return JSON.parse(text);
-  } catch (e) {
-    if (text.trim() === '') throw new InputError(display, 'an empty file', what);
-    const errors: ParseError[] = [];
-    scanJson(text, errors, { disallowComments: true, allowTrailingComma: false, allowEmptyContent: false });
-    if (errors.length === 0) {
-      throw new InputError(display, `invalid JSON (${(e as Error).message})`, what);
-    }
-    const first = errors[0];
-    const { line, column } = lineColumn(text, first.offset);
-    const token = text.slice(first.offset, first.offset + Math.max(1, Math.min(first.length, 20)));
-    const found = first.offset >= text.length ? 'the end of the file' : showValue(token);
-    const code = printParseErrorCode(first.error);
-    throw new InputError(
-      `${display}: line ${line}, column ${column}`,
-      `${found}, which is not valid JSON`,
-      `${JSON_EXPECTED[code] ?? 'valid JSON'} (in ${what})`,
-    );
-  }
-}
-
-const CSV_COLUMNS = [
-  'lon',
-  'lat',
-  'id',
-  'name',
-  'mastHeightM',
-  'siteCost',
-  'existing',
-  'allowedTypes',
-] as const;
-const CSV_REQUIRED = CSV_COLUMNS.slice(0, 6);
-const NUMBER_TEXT = /^[+-]?(\d+(\.\d*)?|\.\d+)([eE][+-]?\d+)?$/;
-
-function csvNumber(cell: string | undefined): number | string | undefined {
-  if (cell === undefined || cell === '') return undefined;
-  return NUMBER_TEXT.test(cell) ? Number(cell) : cell;
-}
-
-function csvBoolean(cell: string | undefined): boolean | string | undefined {
-  if (cell === undefined || cell === '') return undefined;
-  const c = cell.toLowerCase();
-  if (c === 'true' || c === 'yes' || c === '1') return true;
-  if (c === 'false' || c === 'no' || c === '0') return false;
-  return cell;
-}
-
-interface CsvSites {
-  /** A GeoJSON FeatureCollection built from the rows (cells kept as text where they are not numbers). */
-  collection: unknown;
-  /** Line in the file of each feature's row. */
-  rows: number[];
-}
-
-/** Sites from CSV text into a (not yet validated) FeatureCollection. */
-export function readSitesCsv(text: string, display: string): CsvSites {
-  let records: { record: Record<string, string>; info: { lines: number } }[];
-  let header: string[] = [];
-  try {
-    records = parseCsv(text, {
-      columns: (h: string[]) => {
-        header = h.map((c) => c.trim());
-        return header.map((c) => CSV_COLUMNS.find((k) => k.toLowerCase() === c.toLowerCase()) ?? c);
-      },
-      skip_empty_lines: true,
-      trim: true,
-      info: true,
-    }) as unknown as typeof records;
-  } catch (e) {
-    const err = e as CsvError & { lines?: number };
-    throw new InputError(
-      err.lines ? `${display}: row ${err.lines}` : display,
-      `text that is not a well-formed CSV table (${err.message})`,
-      `a header row (${CSV_COLUMNS.join(', ')}) and one row per site, each with one value per column`,
-    );
-  }
-  const present = new Set(header.map((c) => c.toLowerCase()));
-  const missing = CSV_REQUIRED.filter((c) => !present.has(c.toLowerCase()));
-  if (missing.length > 0) {
-    throw new InputError(
-      `${display}: row 1`,
-      header.length ? `the columns ${header.join(', ')}` : 'no header row',
-      `a header row with the columns ${CSV_REQUIRED.join(', ')} (optional: existing, allowedTypes); missing ${missing.join(', ')}`,
-    );
-  }
-  const rows: number[] = [];
-  const features = records.map(({ record: r, info }) => {
-    rows.push(info.lines);
-    const allowed = r.allowedTypes
-      ?.split(';')
-      .map((t) => t.trim())
-      .filter((t) => t !== '');
-    return {
-      type: 'Feature',
-      geometry: { type: 'Point', coordinates: [csvNumber(r.lon), csvNumber(r.lat)] },
-      properties: {
-        id: r.id === '' ? undefined : r.id,
-        name: r.name === '' ? undefined : r.name,
-        mastHeightM: csvNumber(r.mastHeightM),
-        siteCost: csvNumber(r.siteCost),
-        existing: csvBoolean(r.existing),
-        allowedTypes: allowed && allowed.length > 0 ? allowed : undefined,
-      },
-    };
-  });
-  return { collection: { type: 'FeatureCollection', features }, rows };
-}
-
-/** `['sites', 'features', i, 'properties', 'mastHeightM']` → `sites.csv: row 7: mastHeightM`. */
-function csvLocator(display: string, rows: readonly number[]): Locator {
-  return (path) => {
-    // path is inside the FeatureCollection: ['features', i, ...rest]
-    if (path[0] !== 'features' || typeof path[1] !== 'number') return fileLocator(display)(path);
-    const where = `${display}: row ${rows[path[1]] ?? '?'}`;
-    const rest = path.slice(2);
-    if (rest[0] === 'properties' && rest.length > 1) return `${where}: ${String(rest[1])}`;
-    if (rest[0] === 'geometry') {
-      if (rest[2] === 0) return `${where}: lon`;
-      if (rest[2] === 1) return `${where}: lat`;
-      return `${where}: lon, lat`;
-    }
-    return where;
-  };
-}
-
-// ---------------------------------------------------------------------------------------------------
-// The scenario
-
-function isRecord(v: unknown): v is Record<string, unknown> {
-  return typeof v === 'object' && v !== null && !Array.isArray(v);
 }
 
 /** Where a referenced file stands in messages: beside the scenario file as the user named it. */
@@ -277,45 +88,18 @@ function readReferenced(
  * Reads, resolves and validates a scenario file. Throws `InputError` (a `ScenarioError` listing several
  * problems when there are several) naming the file and field of each problem.
  */
+/**
+ * Reads, resolves and validates a scenario file. Throws `InputError` (a `ScenarioError` listing several
+ * problems when there are several) naming the file and field of each problem.
+ */
 export async function loadScenario(path: string, options: LoadScenarioOptions = {}): Promise<LoadedScenario> {
   const file = resolve(path);
   const dir = dirname(file);
   const display = path;
   const json = parseJsonText(readText(file, display, SCENARIO_WHAT), display, SCENARIO_WHAT);
-  const sources: LoadedScenario['sources'] = { sensorTypes: null, sites: null };
-  const locators: { sensorTypes?: Locator; sites?: Locator } = {};
-  let input: unknown = json;
-
-  if (isRecord(json)) {
-    const merged: Record<string, unknown> = { ...json };
-    if (typeof json.sensorTypes === 'string') {
-      const f = readReferenced(dir, display, 'sensorTypes', json.sensorTypes, SENSOR_TYPES_WHAT);
-      merged.sensorTypes = parseJsonText(f.text, f.display, 'a JSON list of sensor types');
-      sources.sensorTypes = f.display;
-      locators.sensorTypes = fileLocator(f.display);
-    }
-    if (typeof json.sites === 'string') {
-      const f = readReferenced(dir, display, 'sites', json.sites, SITES_WHAT);
-      sources.sites = f.display;
-      if (/\.csv$/i.test(f.abs)) {
-        const csv = readSitesCsv(f.text, f.display);
-        merged.sites = csv.collection;
-        locators.sites = csvLocator(f.display, csv.rows);
-      } else {
-        merged.sites = parseJsonText(f.text, f.display, 'a GeoJSON FeatureCollection of sites');
-        locators.sites = fileLocator(f.display);
-      }
-    }
-    input = merged;
-  }
-
-  const own = fileLocator(display);
-  const locate: Locator = (p: FieldPath) => {
-    if (p[0] === 'sensorTypes' && locators.sensorTypes) return locators.sensorTypes(p.slice(1));
-    if (p[0] === 'sites' && locators.sites) return locators.sites(p.slice(1));
-    return own(p);
-  };
-  const scenario = parseScenario(input, display, locate);
+  const { scenario, sources, locate } = assembleScenario(json, display, (field, ref, what) =>
+    readReferenced(dir, display, field, ref, what),
+  );
   const terrainPaths = scenario.terrain.files.map((f) => resolve(dir, f));
 
   if (options.checkTerrainFiles ?? true) {
@@ -337,57 +121,4 @@ export async function loadScenario(path: string, options: LoadScenarioOptions = 
     if (problems.length > 0) throw new ScenarioError(problems);
   }
   return { file, dir, scenario, terrainPaths, sources, locate };
-}
-
-// ---------------------------------------------------------------------------------------------------
-// Against the terrain
-
-const fmt = (v: number) => String(+v.toFixed(5));
-
-/**
- * Every site and every volume vertex must lie inside the terrain's extent (degrees, as read from the DEM
- * tiles). Throws one problem per site or volume outside, naming its id. `locate` (from `loadScenario`)
- * names a site's row or feature in its own file; by default the field path in `file`.
- */
-export function checkAgainstTerrain(
-  s: Scenario,
-  bounds: Bounds,
-  file: string,
-  locate: Locator = fileLocator(file),
-): void {
-  const inside = (lon: number, lat: number) =>
-    lon >= bounds.west && lon <= bounds.east && lat >= bounds.south && lat <= bounds.north;
-  const extent = `${fmt(bounds.west)}…${fmt(bounds.east)}° E, ${fmt(bounds.south)}…${fmt(bounds.north)}° N`;
-  const problems: InputError[] = [];
-  s.sites.forEach((f, i) => {
-    const [lon, lat] = f.geometry.coordinates;
-    if (!inside(lon, lat)) {
-      problems.push(
-        new InputError(
-          locate(['sites', 'features', i]),
-          `site ${showValue(f.properties.id)} at lon ${fmt(lon)}, lat ${fmt(lat)}, outside the terrain`,
-          `a site inside the terrain (${extent})`,
-        ),
-      );
-    }
-  });
-  s.volumes.forEach((v, i) => {
-    const polys = v.polygon.type === 'Polygon' ? [v.polygon.coordinates] : v.polygon.coordinates;
-    for (const rings of polys) {
-      for (const ring of rings) {
-        const out = ring.find((p) => !inside(p[0], p[1]));
-        if (out) {
-          problems.push(
-            new InputError(
-              locate(['volumes', i, 'polygon']),
-              `volume ${showValue(v.id)} with a vertex at lon ${fmt(out[0])}, lat ${fmt(out[1])}, outside the terrain`,
-              `a volume inside the terrain (${extent})`,
-            ),
-          );
-          return;
-        }
-      }
-    }
-  });
-  if (problems.length > 0) throw new ScenarioError(problems);
 }

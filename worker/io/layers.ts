@@ -1,0 +1,85 @@
+/**
+ * Coverage layers as GeoJSON from a network: per flight level, the fold areas per kind and the gaps inside each
+ * volume (the CLI's coverage-FL*.geojson files and the web app's exports are both made here).
+ */
+import type { Scenario } from '../../shared/scenario.ts';
+import { flToMetres } from '../../shared/units.ts';
+import { maskAreaKm2, maskToPolygons } from '../core/contour.ts';
+import type { GridGeo } from '../core/grid.ts';
+import { KINDS, type Network } from '../core/network.ts';
+import { meets } from '../core/volumes.ts';
+import { featureCollection, layerFeature, type LayerFeatureProps } from './geojson.ts';
+
+type Vol = Scenario['volumes'][number];
+
+/** One layer feature from a cell mask of the analysis grid (null when the mask is empty). */
+export function maskLayer(
+  mask: Uint8Array,
+  grid: GridGeo,
+  props: Omit<LayerFeatureProps, 'altitudeM' | 'areaKm2'>,
+): ReturnType<typeof layerFeature> | null {
+  const coords = maskToPolygons(mask, grid.width, grid.height, grid);
+  if (coords.length === 0) return null;
+  return layerFeature(coords, {
+    ...props,
+    altitudeM: flToMetres(props.flightLevel),
+    areaKm2: maskAreaKm2(mask, grid.width, grid.height, grid),
+  });
+}
+
+/** Fold layers written per kind: ≥1 … ≥4, or up to the highest fold a volume requires if that is more. */
+export function maxFoldLayers(volumes: readonly Vol[]): number {
+  let m = 4;
+  for (const v of volumes)
+    m = Math.max(m, v.requiredFold.any ?? 0, v.requiredFold.primary ?? 0, v.requiredFold.secondary ?? 0);
+  return m;
+}
+
+/** One flight level's FeatureCollection: folds per kind, then the gaps inside each volume. */
+export function levelLayers(
+  network: Network,
+  f: number,
+  fl: number,
+  grid: GridGeo,
+  volumes: readonly Vol[],
+  masks: readonly Uint8Array[],
+) {
+  const features = [];
+  const cells = grid.width * grid.height;
+  const altitudeM = flToMetres(fl);
+  const mask = new Uint8Array(cells);
+  for (const kind of KINDS) {
+    const fold = network.foldOf(kind, f);
+    let max = 0;
+    for (let i = 0; i < cells; i++) if (fold[i] > max) max = fold[i];
+    const siteIds = network.contributingSites(kind, f);
+    for (let k = 1; k <= Math.min(max, maxFoldLayers(volumes)); k++) {
+      for (let i = 0; i < cells; i++) mask[i] = fold[i] >= k ? 1 : 0;
+      const f = maskLayer(mask, grid, { flightLevel: fl, fold: k, kind, siteIds, layer: 'coverage' });
+      if (f) features.push(f);
+    }
+  }
+  const any = network.foldOf('any', f);
+  const pri = network.foldOf('primary', f);
+  const sec = network.foldOf('secondary', f);
+  volumes.forEach((v, vi) => {
+    if (fl < v.flMin || fl > v.flMax) return;
+    const vm = masks[vi];
+    let n = 0;
+    for (let i = 0; i < cells; i++) {
+      mask[i] = vm[i] && !meets(v.requiredFold, any[i], pri[i], sec[i]) ? 1 : 0;
+      n += mask[i];
+    }
+    if (n === 0) return;
+    const f = maskLayer(mask, grid, {
+      flightLevel: fl,
+      fold: 0,
+      kind: 'any',
+      siteIds: [],
+      layer: 'gap',
+      volumeId: v.id,
+    });
+    if (f) features.push(f);
+  });
+  return featureCollection(features, { flightLevel: fl, altitudeM });
+}
