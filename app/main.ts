@@ -1,7 +1,31 @@
 /**
- * Placeholder entry of the web app (its issue builds the map and panels). It already shows the cautions so a
- * page built from it is never mistaken for a finished tool.
+ * Entry of the web app: starts the App (app/app.ts) on the page, and lets files be dropped anywhere on the side
+ * panel (tiles go to the terrain, anything else is read as a scenario with its files).
  */
-export const CAUTION =
-  'Airshade is a planning aid, not a certified or flight-inspected result. Coverage depends on the terrain data ' +
-  'and on refraction; defer to the local authority’s standards and licensed engineering practice.';
+import './style.css';
+import { App } from './app.ts';
+import { isTiff } from './files.ts';
+import { loadScenarioFiles, loadTerrainFiles } from './panels.ts';
+
+export { CAUTION } from './app.ts';
+
+const root = document.getElementById('app')!;
+const app = new App();
+(window as unknown as { airshade: App }).airshade = app;
+
+document.addEventListener('dragover', (e) => e.preventDefault());
+document.addEventListener('drop', (e) => {
+  e.preventDefault();
+  const files = [...(e.dataTransfer?.files ?? [])];
+  if (files.length === 0 || !app.state) return;
+  if (files.every((f) => isTiff(f.name))) void loadTerrainFiles(app, files, false);
+  else void loadScenarioFiles(app, files);
+});
+
+app.start(root).catch((e: unknown) => {
+  root.dataset.failed = 'true';
+  const p = document.createElement('p');
+  p.className = 'fatal';
+  p.textContent = `Airshade could not start: ${e instanceof Error ? e.message : String(e)}`;
+  root.prepend(p);
+});

@@ -11,6 +11,7 @@ import nodeEndpoint from 'comlink/dist/esm/node-adapter.mjs';
 import type { WorkerApi } from './api.ts';
 import type { Executor } from './core/floor.ts';
 import type { TerrainParts } from './core/terrain.ts';
+import { RemotePool } from './pool.ts';
 
 function workerEntry(): URL {
   // Built CLI: dist/cli/node.js beside this bundle. Development: the tsx boot file beside this source.
@@ -20,14 +21,13 @@ function workerEntry(): URL {
 }
 
 export class NodePool {
-  private readonly idle: Remote<WorkerApi>[] = [];
-  private readonly waiting: ((w: Remote<WorkerApi>) => void)[] = [];
+  private readonly pool: RemotePool;
 
   private constructor(
     private readonly workers: Worker[],
     remotes: Remote<WorkerApi>[],
   ) {
-    this.idle.push(...remotes);
+    this.pool = new RemotePool(remotes);
   }
 
   static defaultSize(): number {
@@ -44,25 +44,8 @@ export class NodePool {
     return pool;
   }
 
-  private async run<T>(job: (w: Remote<WorkerApi>) => Promise<T>): Promise<T> {
-    const w = this.idle.pop() ?? (await new Promise<Remote<WorkerApi>>((res) => this.waiting.push(res)));
-    try {
-      return await job(w);
-    } finally {
-      const next = this.waiting.shift();
-      if (next) next(w);
-      else this.idle.push(w);
-    }
-  }
-
   executor(): Executor {
-    return {
-      size: this.workers.length,
-      shared: true,
-      sweep: (layout, tan, a, b) => this.run((w) => w.sweep(layout, tan, a, b)),
-      resample: (layout, tan, vmap, out, ground, r0, r1, distance) =>
-        this.run((w) => w.resample(layout, tan, vmap, out, ground, r0, r1, distance)),
-    };
+    return this.pool.executor();
   }
 
   async close(): Promise<void> {

@@ -1,0 +1,676 @@
+/**
+ * The app: the working state (app/state.ts), the engine worker, the map and the panels, and the rules that tie
+ * them: every edit is validated (schema, then the terrain) before it replaces the state; the state autosaves to
+ * IndexedDB; long jobs show a progress bar with their stage and a cancel button; a moved site cancels the
+ * running job and recomputes only what changed (the engine caches footprints).
+ */
+import { get as idbGet, set as idbSet } from 'idb-keyval';
+import { formatFl } from '../shared/units.ts';
+import type { SiteLoss } from '../worker/core/outage.ts';
+import type {
+  CompareSummary,
+  CoverageSummary,
+  OutageView,
+  PlanSummary,
+  StudySummary,
+  TerrainSummary,
+} from '../worker/engine.ts';
+import type { TileSource } from '../worker/engine-worker.ts';
+import { clear, h } from './dom.ts';
+import { progressProxy, startEngine, type Engine } from './engine-client.ts';
+import { fetchScenario } from './files.ts';
+import { MapView, type ImageLayerId } from './map-view.ts';
+import { renderPanel, PANELS, type PanelId } from './panels.ts';
+import {
+  addSite,
+  errorLines,
+  moveSite,
+  restoreState,
+  setFailed as stateSetFailed,
+  stateFromScenario,
+  type WorkState,
+} from './state.ts';
+import { fmtAltitude, fmtLonLat } from './units.ts';
+
+export const CAUTION =
+  'Airshade is a planning aid, not a certified or flight-inspected result. Coverage depends on the terrain data ' +
+  'and on the refraction assumed (effective earth radius); defer to the local authority’s standards and licensed ' +
+  'engineering practice.';
+
+const DEMO_URL = 'data/demo-scenario.json';
+const SAVE_KEY = 'airshade-work';
+
+/** Figures the end-to-end test reads (and a curious user can, from the console). */
+export interface Metrics {
+  coverageMs: number[];
+  outageRedrawMs: number[];
+  bootMs: number;
+}
+
+export class App {
+  state!: WorkState;
+  engine!: Engine;
+  map!: MapView;
+  terrain: TerrainSummary | null = null;
+  study: StudySummary | null = null;
+  coverage: CoverageSummary | null = null;
+  outage: OutageView | null = null;
+  plan: PlanSummary | null = null;
+  nMinus1: SiteLoss[] | null = null;
+  compare: (CompareSummary & { names: [string, string] }) | null = null;
+  poolSize = 0;
+  shared = false;
+  panel: PanelId = 'coverage';
+  /** Map click mode: add a site, draw a volume vertex, pick an azimuth, or nothing. */
+  mode: 'none' | 'add-site' | 'draw' | 'azimuth' = 'none';
+  draft: [number, number][] = [];
+  diagramPick: { siteId: string; typeId: string } | null = null;
+  diagramSvg: string | null = null;
+  busy: string | null = null;
+  readonly metrics: Metrics = { coverageMs: [], outageRedrawMs: [], bootMs: 0 };
+  private saveTimer = 0;
+  private probeBusy = false;
+  private probeNext: [number, number] | null = null;
+  private readonly el: Record<string, HTMLElement> = {};
+
+  async start(root: HTMLElement): Promise<void> {
+    const t0 = performance.now();
+    this.buildShell(root);
+    this.map = new MapView(this.el.map, {
+      onSiteClick: (id) => void this.siteClicked(id),
+      onSiteDrag: (id, lon, lat) => void this.siteDragged(id, lon, lat),
+    });
+    this.map.map.on('click', (e) => this.mapClicked(e.lngLat.lng, e.lngLat.lat));
+    this.map.map.on('mousemove', (e) => this.probe(e.lngLat.lng, e.lngLat.lat));
+    this.map.map.on('mousedown', (e) => {
+      if (this.mode === 'azimuth') {
+        e.preventDefault();
+        this.azimuthDrag(e.lngLat.lng, e.lngLat.lat, false);
+      }
+    });
+    this.map.map.on('mouseup', (e) => {
+      if (this.mode === 'azimuth') this.azimuthDrag(e.lngLat.lng, e.lngLat.lat, true);
+    });
+    const handle = await startEngine();
+    this.engine = handle.engine;
+    this.poolSize = handle.poolSize;
+    this.shared = handle.shared;
+    await this.map.ready;
+    await this.restoreOrDemo();
+    this.metrics.bootMs = performance.now() - t0;
+    this.el.root.dataset.ready = 'true';
+  }
+
+  // ------------------------------------------------------------------------------------------------ shell
+
+  private buildShell(root: HTMLElement): void {
+    const units = h(
+      'select',
+      { id: 'units', 'aria-label': 'Units', onchange: () => this.setUnits(units.value as WorkState['units']) },
+      h('option', { value: 'aviation' }, 'NM · ft · FL'),
+      h('option', { value: 'metric' }, 'km · m · FL'),
+    );
+    const about = h('dialog', { id: 'about' });
+    clear(
+      about,
+      h('h2', {}, 'About Airshade'),
+      h(
+        'p',
+        {},
+        'Airshade computes where the radars of a network see aircraft at chosen flight levels, over the terrain you load, on an effective-earth model; picks the sites and sensor types that close the gaps at least cost; and shows what is lost when a site goes down.',
+      ),
+      h('h3', {}, 'Cautions'),
+      h(
+        'ul',
+        { className: 'cautions' },
+        h('li', {}, 'A planning aid, not a certified or flight-inspected result.'),
+        h(
+          'li',
+          {},
+          'Results depend on the terrain data (its resolution, voids and datum) and on refraction: the effective earth radius factor k is an assumption, and anomalous propagation is not modelled.',
+        ),
+        h(
+          'li',
+          {},
+          'Detection ranges come from the sensor models entered; real performance depends on the site, the equipment and its maintenance.',
+        ),
+        h('li', {}, 'Defer to the local authority’s standards and to licensed engineering practice.'),
+      ),
+      h('p', {}, 'Flight levels are converted to altitude in the ICAO standard atmosphere (FL × 100 ft).'),
+      h('button', { onclick: () => about.close() }, 'Close'),
+    );
+    const progress = h('progress', { id: 'progress', max: 1, value: 0 });
+    this.el.progress = progress;
+    this.el.stage = h('span', { id: 'stage' });
+    this.el.cancel = h('button', { id: 'cancel', onclick: () => void this.engine.cancel(), disabled: true }, 'Cancel');
+    this.el.readout = h('span', { id: 'readout' }, 'Move the cursor over the map');
+    this.el.message = h('div', { id: 'message', role: 'status', 'aria-live': 'polite' });
+    this.el.panel = h('div', { id: 'panel' });
+    this.el.rail = h('nav', { id: 'rail', 'aria-label': 'Panels' });
+    this.el.map = h('div', { id: 'map' });
+    this.el.legend = h('div', { id: 'legend' });
+    this.el.units = units;
+    this.el.root = root;
+    clear(
+      root,
+      h(
+        'header',
+        { id: 'top' },
+        h('span', { className: 'brand' }, 'Airshade'),
+        (this.el.title = h('span', { id: 'scenario-name' })),
+        h('span', { className: 'spacer' }),
+        h('label', {}, 'Units ', units),
+        h('button', { id: 'about-open', onclick: () => about.showModal() }, 'About & cautions'),
+      ),
+      h(
+        'main',
+        { id: 'body' },
+        h('aside', { id: 'side' }, this.el.rail, this.el.message, this.el.panel),
+        h('section', { id: 'mapwrap' }, this.el.map, this.el.legend),
+      ),
+      h(
+        'footer',
+        { id: 'status' },
+        h('span', { id: 'job' }, progress, this.el.stage, this.el.cancel),
+        this.el.readout,
+        h('span', { className: 'caution-line' }, 'Planning aid only — not certified or flight-inspected.'),
+      ),
+      about,
+    );
+    this.renderRail();
+  }
+
+  private renderRail(): void {
+    clear(
+      this.el.rail,
+      ...PANELS.map(([id, label]) =>
+        h(
+          'button',
+          {
+            id: `tab-${id}`,
+            className: id === this.panel ? 'active' : '',
+            'aria-pressed': String(id === this.panel),
+            onclick: () => this.showPanel(id),
+          },
+          label,
+        ),
+      ),
+    );
+  }
+
+  showPanel(id: PanelId): void {
+    this.panel = id;
+    if (id !== 'volumes' && this.mode === 'draw') this.setMode('none');
+    if (id !== 'sites' && this.mode === 'add-site') this.setMode('none');
+    if (id !== 'profile' && this.mode === 'azimuth') this.setMode('none');
+    this.renderRail();
+    this.refreshVectors();
+    this.render();
+  }
+
+  render(): void {
+    renderPanel(this, this.el.panel);
+    this.el.title.textContent = this.state ? this.state.doc.name : '';
+    this.renderLegend();
+  }
+
+  setMode(mode: App['mode']): void {
+    this.mode = mode;
+    this.el.map.dataset.mode = mode;
+    if (mode !== 'draw') {
+      this.draft = [];
+      this.map.setDraft([]);
+    }
+    if (mode !== 'azimuth') this.map.setAzimuth(null);
+  }
+
+  // ------------------------------------------------------------------------------------------- messages
+
+  say(kind: 'error' | 'info', lines: string | string[]): void {
+    const list = Array.isArray(lines) ? lines : [lines];
+    clear(
+      this.el.message,
+      h(
+        'div',
+        { className: `msg ${kind}`, role: kind === 'error' ? 'alert' : 'status' },
+        ...list.map((l) => h('div', {}, l)),
+        h('button', { className: 'close', 'aria-label': 'Dismiss', onclick: () => clear(this.el.message) }, '×'),
+      ),
+    );
+  }
+
+  fail(e: unknown): void {
+    if (e instanceof Error && e.name === 'Cancelled') this.say('info', 'Stopped: the job was cancelled.');
+    else this.say('error', errorLines(e));
+  }
+
+  // -------------------------------------------------------------------------------------------- storage
+
+  private async restoreOrDemo(): Promise<void> {
+    let saved: unknown;
+    try {
+      saved = await idbGet(SAVE_KEY);
+    } catch {
+      saved = undefined;
+    }
+    if (saved) {
+      try {
+        const state = restoreState((saved as { state: unknown }).state);
+        const names = (saved as { tiles: string[] }).tiles;
+        const r = await this.engine.restoreTiles(names, { input: state.doc, display: state.source });
+        this.adoptLoaded(state, r.terrain, r.study!);
+        await this.afterTerrain();
+        this.say('info', `Restored your work from the last visit (${state.doc.name}).`);
+        return;
+      } catch (e) {
+        this.say('error', [
+          'The work saved in this browser could not be restored; the demo is loaded instead.',
+          ...errorLines(e),
+        ]);
+      }
+    }
+    await this.loadDemo();
+  }
+
+  async loadDemo(): Promise<void> {
+    await this.job('Loading the demo', async (progress) => {
+      progress(0.05, 'reading the scenario');
+      const { scenario, tileUrls } = await fetchScenario(DEMO_URL);
+      progress(0.2, `reading ${tileUrls.length} terrain tiles`);
+      const state = stateFromScenario(scenario, 'demo-scenario.json', this.state?.units ?? 'aviation');
+      const sources: TileSource[] = tileUrls;
+      const r = await this.engine.loadTiles(sources, true, { input: state.doc, display: state.source });
+      this.adoptLoaded(state, r.terrain, r.study!);
+      this.save();
+      await this.afterTerrain();
+    });
+  }
+
+  adoptLoaded(state: WorkState, terrain: TerrainSummary, study: StudySummary): void {
+    this.state = state;
+    this.terrain = terrain;
+    this.study = study;
+    this.coverage = null;
+    this.outage = null;
+    this.plan = null;
+    this.nMinus1 = null;
+    this.compare = null;
+    (this.el.units as HTMLSelectElement).value = state.units;
+    this.map.setScaleUnits(state.units);
+    this.map.applySettings(state.view.layers);
+    for (const id of ['floor', 'fold', 'gap', 'loss', 'compare', 'compare-lost'] as const) void this.map.setImage(id, null);
+    this.refreshVectors();
+    this.render();
+  }
+
+  /** After new terrain: the relief image and the view. */
+  async afterTerrain(): Promise<void> {
+    if (!this.terrain) return;
+    this.map.fitBounds(this.terrain.bounds);
+    const relief = await this.engine.relief();
+    await this.map.setImage('relief', relief);
+  }
+
+  save(): void {
+    clearTimeout(this.saveTimer);
+    this.saveTimer = window.setTimeout(() => {
+      void (async () => {
+        try {
+          const tiles = await this.engine.tileNames();
+          await idbSet(SAVE_KEY, { state: this.state, tiles, savedAt: new Date().toISOString() });
+          this.el.root.dataset.saved = String(Date.now());
+        } catch (e) {
+          this.say('error', ['Could not save your work in this browser.', ...errorLines(e)]);
+        }
+      })();
+    }, 150);
+  }
+
+  /** Waits for a pending autosave (the tests reload right after an edit). */
+  async flushSave(): Promise<void> {
+    await new Promise((r) => setTimeout(r, 400));
+  }
+
+  // ------------------------------------------------------------------------------------------ state edits
+
+  /**
+   * Replaces the state with an edited one once the engine accepts its scenario (schema and terrain). On
+   * failure the message names the problem and the state stays as it was (the panel shows the old values).
+   */
+  async commit(next: WorkState, opts: { recompute?: boolean } = {}): Promise<boolean> {
+    let study: StudySummary;
+    try {
+      study = await this.engine.setScenario(next.doc, next.source);
+    } catch (e) {
+      this.fail(e);
+      this.refreshVectors();
+      this.render();
+      return false;
+    }
+    const hadCoverage = this.coverage !== null;
+    this.state = next;
+    this.study = study;
+    this.save();
+    this.refreshVectors();
+    this.render();
+    if (hadCoverage && (!study.hasCoverage || opts.recompute)) {
+      // Something under the network changed (a site moved, a type edited): run again; the cache keeps the rest.
+      await this.engine.cancel();
+      void this.runCoverage();
+    } else if (hadCoverage) {
+      await this.refreshImages();
+    }
+    return true;
+  }
+
+  /** View-only changes (units, layers, level, failures) need no validation. */
+  setView(next: WorkState): void {
+    this.state = next;
+    this.save();
+    this.map.applySettings(next.view.layers);
+    this.render();
+  }
+
+  setUnits(u: WorkState['units']): void {
+    this.map.setScaleUnits(u);
+    this.setView({ ...this.state, units: u });
+  }
+
+  // ------------------------------------------------------------------------------------------------- jobs
+
+  /** Runs a long job with the progress bar and the cancel button; one at a time (a new one cancels the old). */
+  async job<T>(label: string, run: (progress: (f: number, stage: string) => void) => Promise<T>): Promise<T | null> {
+    const progress = (f: number, stage: string) => {
+      (this.el.progress as HTMLProgressElement).value = f;
+      this.el.stage.textContent = `${label}: ${stage} (${Math.round(f * 100)} %)`;
+    };
+    this.busy = label;
+    this.el.root.dataset.busy = label;
+    (this.el.cancel as HTMLButtonElement).disabled = false;
+    progress(0, 'starting');
+    try {
+      return await run(progress);
+    } catch (e) {
+      this.fail(e);
+      return null;
+    } finally {
+      this.busy = null;
+      delete this.el.root.dataset.busy;
+      (this.el.cancel as HTMLButtonElement).disabled = true;
+      this.el.stage.textContent = '';
+      (this.el.progress as HTMLProgressElement).value = 0;
+      this.render();
+    }
+  }
+
+  async runCoverage(): Promise<void> {
+    if (this.state.network.length === 0) {
+      this.say('error', 'coverage: found an empty network; expected one or more sensors (tick them in Sites)');
+      return;
+    }
+    const t0 = performance.now();
+    await this.job('Coverage', async (progress) => {
+      const r = await this.engine.coverage(
+        this.state.network,
+        this.state.doc.flightLevels,
+        progressProxy(progress),
+      );
+      this.coverage = r;
+      this.outage = null;
+      if (!r.flightLevels.includes(this.state.view.fl))
+        this.state = { ...this.state, view: { ...this.state.view, fl: r.flightLevels[0] } };
+      if (this.state.failed.length > 0) this.outage = await this.engine.setFailed(this.state.failed);
+      progress(0.97, 'drawing');
+      await this.refreshImages();
+      this.metrics.coverageMs.push(performance.now() - t0);
+      this.el.root.dataset.coverage = String(this.metrics.coverageMs.length);
+    });
+  }
+
+  /** Images of the shown level, for every layer that is on. */
+  async refreshImages(only?: ImageLayerId[]): Promise<void> {
+    if (!this.coverage) return;
+    const { fl, kind, layers } = this.state.view;
+    if (!this.coverage.flightLevels.includes(fl)) return;
+    void this.engine.setProbeLevel(fl);
+    const want: [ImageLayerId, 'fold' | 'gap' | 'loss' | 'floor', boolean][] = [
+      ['fold', 'fold', layers.fold.on],
+      ['gap', 'gap', layers.gap.on],
+      ['loss', 'loss', layers.loss.on && this.state.failed.length > 0],
+      ['floor', 'floor', layers.floor.on],
+    ];
+    const jobs = want
+      .filter(([id]) => !only || only.includes(id))
+      .map(async ([id, layer, on]) => {
+        if (!on) return this.map.setImage(id, null);
+        const img = await this.engine.layerImage(layer, fl, kind);
+        if (id === 'floor') this.floorLegend = img.legend;
+        return this.map.setImage(id, img);
+      });
+    await Promise.all(jobs);
+    if (this.compare && layers.compare.on) {
+      await this.map.setImage('compare', await this.engine.layerImage('gained', fl, kind));
+      await this.map.setImage('compare-lost', await this.engine.layerImage('lost', fl, kind));
+    }
+    this.renderLegend();
+  }
+
+  floorLegend: { value: number; color: string }[] = [];
+
+  private renderLegend(): void {
+    if (!this.state) return;
+    const u = this.state.units;
+    const parts: HTMLElement[] = [];
+    const { layers, fl, kind } = this.state.view;
+    if (this.coverage && layers.fold.on) {
+      parts.push(
+        h(
+          'div',
+          { className: 'legend-block' },
+          h('strong', {}, `Sites seeing each cell at ${formatFl(fl)} (${kind === 'any' ? 'any kind' : kind})`),
+          h(
+            'div',
+            { className: 'swatches' },
+            ...['1', '2', '3', '≥ 4'].map((label, i) =>
+              h('span', { className: `swatch fold-${i + 1}` }, h('i', {}), label),
+            ),
+          ),
+          layers.gap.on ? h('span', { className: 'swatch gap' }, h('i', {}), 'gap in a volume') : null,
+          layers.loss.on && this.state.failed.length ? h('span', { className: 'swatch loss' }, h('i', {}), 'lost by the outage') : null,
+        ),
+      );
+    }
+    if (this.coverage && layers.floor.on && this.floorLegend.length) {
+      parts.push(
+        h(
+          'div',
+          { className: 'legend-block' },
+          h('strong', {}, 'Network floor (lowest level seen)'),
+          h('div', { className: 'ramp viridis' }),
+          h(
+            'div',
+            { className: 'ramp-labels' },
+            h('span', {}, fmtAltitude(this.floorLegend[0].value, u)),
+            h('span', {}, fmtAltitude(this.floorLegend[this.floorLegend.length - 1].value, u)),
+          ),
+        ),
+      );
+    }
+    if (this.compare && layers.compare.on) {
+      parts.push(
+        h(
+          'div',
+          { className: 'legend-block' },
+          h('strong', {}, `${this.compare.names[1]} against ${this.compare.names[0]}`),
+          h('span', { className: 'swatch gained' }, h('i', {}), 'gained'),
+          h('span', { className: 'swatch compare-lost' }, h('i', {}), 'lost'),
+        ),
+      );
+    }
+    clear(this.el.legend, ...parts);
+    this.el.legend.hidden = parts.length === 0;
+  }
+
+  // --------------------------------------------------------------------------------------------- outages
+
+  async toggleFailure(siteId: string): Promise<void> {
+    if (!this.coverage) {
+      this.say('error', 'outage: found no coverage yet; expected a coverage run first (Coverage panel)');
+      return;
+    }
+    if (!this.coverage.sensors.some((s) => s.siteId === siteId)) {
+      this.say('info', `Site ${siteId} has no sensor in the network: failing it changes nothing.`);
+      return;
+    }
+    const t0 = performance.now();
+    const next = stateSetFailed(this.state, siteId, !this.state.failed.includes(siteId));
+    try {
+      this.outage = await this.engine.setFailed(next.failed);
+    } catch (e) {
+      this.fail(e);
+      return;
+    }
+    this.setView(next);
+    this.refreshVectors();
+    await this.refreshImages(['fold', 'gap', 'loss']);
+    await new Promise<void>((res) => this.map.map.once('idle', () => res()));
+    this.metrics.outageRedrawMs.push(performance.now() - t0);
+    this.el.root.dataset.outage = String(this.metrics.outageRedrawMs.length);
+  }
+
+  // -------------------------------------------------------------------------------------------- map input
+
+  private siteClicked(id: string): void {
+    if (this.panel === 'outages') void this.toggleFailure(id);
+    else if (this.panel === 'profile') {
+      this.diagramPick = { siteId: id, typeId: this.diagramPick?.typeId ?? '' };
+      this.render();
+    } else {
+      this.showPanel('sites');
+      const row = this.el.panel.querySelector(`[data-row="${CSS.escape(id)}"]`);
+      row?.scrollIntoView({ block: 'center' });
+      row?.classList.add('flash');
+    }
+  }
+
+  private async siteDragged(id: string, lon: number, lat: number): Promise<void> {
+    let next: WorkState;
+    try {
+      next = moveSite(this.state, id, lon, lat);
+    } catch (e) {
+      this.fail(e);
+      this.refreshVectors();
+      return;
+    }
+    await this.commit(next, { recompute: true });
+  }
+
+  private mapClicked(lon: number, lat: number): void {
+    if (this.mode === 'add-site') void this.addSiteAt(lon, lat);
+    else if (this.mode === 'draw') {
+      this.draft.push([Math.round(lon * 1e5) / 1e5, Math.round(lat * 1e5) / 1e5]);
+      this.map.setDraft(this.draft);
+      this.render();
+    }
+  }
+
+  private async addSiteAt(lon: number, lat: number): Promise<void> {
+    try {
+      const r = addSite(this.state, lon, lat);
+      if (await this.commit(r.state)) this.say('info', `Added ${r.id} at ${fmtLonLat(lon, lat)}; edit it in the table.`);
+    } catch (e) {
+      this.fail(e);
+    }
+  }
+
+  private azimuthDrag(lon: number, lat: number, done: boolean): void {
+    const pick = this.diagramPick;
+    const site = pick && this.state.doc.sites.features.find((f) => f.properties.id === pick.siteId);
+    if (!site) {
+      this.say('error', 'profile: found no site picked; expected a site (choose one in the panel or click it)');
+      return;
+    }
+    const [slon, slat] = site.geometry.coordinates;
+    this.map.setAzimuth([
+      [slon, slat],
+      [lon, lat],
+    ]);
+    if (done) {
+      const toRad = Math.PI / 180;
+      const y = Math.sin((lon - slon) * toRad) * Math.cos(lat * toRad);
+      const x =
+        Math.cos(slat * toRad) * Math.sin(lat * toRad) -
+        Math.sin(slat * toRad) * Math.cos(lat * toRad) * Math.cos((lon - slon) * toRad);
+      const az = ((Math.atan2(y, x) / toRad) % 360 + 360) % 360;
+      void this.drawDiagram(Math.round(az * 10) / 10);
+    }
+  }
+
+  azimuth = 0;
+
+  async drawDiagram(az: number): Promise<void> {
+    const pick = this.diagramPick;
+    if (!pick || !pick.typeId) {
+      this.say('error', 'profile: found no site or sensor type chosen; expected both (in the panel)');
+      return;
+    }
+    this.azimuth = az;
+    try {
+      this.diagramSvg = await this.engine.diagram(pick.siteId, pick.typeId, az, this.state.units);
+    } catch (e) {
+      this.fail(e);
+    }
+    this.render();
+  }
+
+  private probe(lon: number, lat: number): void {
+    this.probeNext = [lon, lat];
+    if (this.probeBusy || !this.engine) return;
+    this.probeBusy = true;
+    void (async () => {
+      while (this.probeNext) {
+        const [x, y] = this.probeNext;
+        this.probeNext = null;
+        const r = await this.engine.probe(x, y);
+        const u = this.state?.units ?? 'aviation';
+        const parts = [fmtLonLat(x, y), `ground ${r.groundM === null ? 'no data' : fmtAltitude(r.groundM, u)}`];
+        if (this.coverage) {
+          parts.push(`network floor ${r.floorM === null ? 'not seen at computed levels' : fmtAltitude(r.floorM, u)}`);
+          if (r.fold)
+            parts.push(
+              `sites at ${formatFl(this.state.view.fl)}: ${r.fold.any} (PSR ${r.fold.primary}, SSR ${r.fold.secondary})`,
+            );
+        }
+        this.el.readout.textContent = parts.join(' · ');
+      }
+      this.probeBusy = false;
+    })();
+  }
+
+  /** Sites and volumes on the map from the state. */
+  refreshVectors(): void {
+    if (!this.state) return;
+    const inNet = new Set(this.state.network.map((r) => r.siteId));
+    const failed = new Set(this.state.failed);
+    this.map.setSites(
+      this.state.doc.sites.features.map((f) => ({
+        id: f.properties.id,
+        name: f.properties.name,
+        lon: f.geometry.coordinates[0],
+        lat: f.geometry.coordinates[1],
+        existing: f.properties.existing,
+        inNetwork: inNet.has(f.properties.id),
+        failed: failed.has(f.properties.id),
+      })),
+      this.panel === 'sites',
+    );
+    this.map.setVolumes({
+      type: 'FeatureCollection',
+      features: this.state.doc.volumes.map((v) => ({
+        type: 'Feature',
+        properties: { id: v.id, name: v.name },
+        geometry: v.polygon,
+      })),
+    });
+  }
+}

@@ -1,0 +1,1099 @@
+/**
+ * The side panels, one function each, rebuilt from the state whenever it changes. Names are plain words of our
+ * own. Inputs apply on change; a rejected value stays in its field, marked, with the message above the panel.
+ */
+import { flToMetres, formatFl } from '../shared/units.ts';
+import type { SensorType } from '../shared/scenario.ts';
+import type { App } from './app.ts';
+import { clear, download, h, table } from './dom.ts';
+import { progressProxy } from './engine-client.ts';
+import { isTiff, readPickedScenario, readPolygonFile, readSitesFile } from './files.ts';
+import {
+  addSensorType,
+  addVolume,
+  editSite,
+  editVolume,
+  errorLines,
+  removeLayout,
+  removeSensorType,
+  removeSite,
+  removeVolume,
+  replaceSensorType,
+  saveLayout,
+  scenarioFileText,
+  setFlightLevels,
+  setNetwork,
+  stateFromScenario,
+  toggleSensor,
+  useLayout,
+  validateDoc,
+  type FoldKind,
+  type LayerId,
+  type SensorRef,
+  type WorkState,
+} from './state.ts';
+import {
+  fmtArea,
+  fmtCost,
+  fmtLevel,
+  fmtPct,
+  fmtRange,
+  heightFromUser,
+  heightToUser,
+  heightUnit,
+  rangeUnit,
+} from './units.ts';
+
+export type PanelId =
+  | 'ground'
+  | 'sites'
+  | 'types'
+  | 'volumes'
+  | 'coverage'
+  | 'plan'
+  | 'outages'
+  | 'layouts'
+  | 'profile'
+  | 'files';
+
+export const PANELS: [PanelId, string][] = [
+  ['ground', 'Ground'],
+  ['sites', 'Sites'],
+  ['types', 'Sensor types'],
+  ['volumes', 'Airspace'],
+  ['coverage', 'Coverage'],
+  ['plan', 'Plan'],
+  ['outages', 'Outages'],
+  ['layouts', 'Layouts'],
+  ['profile', 'Profile'],
+  ['files', 'Files'],
+];
+
+export function renderPanel(app: App, el: HTMLElement): void {
+  if (!app.state) {
+    clear(el, h('p', {}, 'Loading…'));
+    return;
+  }
+  const builders: Record<PanelId, (app: App) => HTMLElement> = {
+    ground: groundPanel,
+    sites: sitesPanel,
+    types: typesPanel,
+    volumes: volumesPanel,
+    coverage: coveragePanel,
+    plan: planPanel,
+    outages: outagesPanel,
+    layouts: layoutsPanel,
+    profile: profilePanel,
+    files: filesPanel,
+  };
+  clear(el, builders[app.panel](app));
+}
+
+/** Applies an edit of the state; a thrown error marks the input and shows the message (the value is kept). */
+async function tryEdit(app: App, input: HTMLElement | null, edit: () => WorkState): Promise<void> {
+  let next: WorkState;
+  try {
+    next = edit();
+  } catch (e) {
+    input?.classList.add('invalid');
+    app.say('error', errorLines(e));
+    return;
+  }
+  input?.classList.remove('invalid');
+  await app.commit(next);
+}
+
+function numberIn(
+  value: number,
+  attrs: Record<string, string | number>,
+  onValue: (v: number, el: HTMLInputElement) => void,
+): HTMLInputElement {
+  const el = h('input', { type: 'number', value, step: 'any', ...attrs });
+  el.addEventListener('change', () => {
+    const v = el.value.trim() === '' ? NaN : Number(el.value);
+    onValue(v, el);
+  });
+  return el;
+}
+
+function section(title: string, ...children: (Node | string | null | false)[]): HTMLElement {
+  return h('section', { className: 'block' }, h('h3', {}, title), ...children);
+}
+
+function filePicker(id: string, label: string, accept: string, multiple: boolean, onFiles: (f: File[]) => void) {
+  const input = h('input', { type: 'file', id, accept, multiple });
+  input.addEventListener('change', () => {
+    const files = [...(input.files ?? [])];
+    input.value = '';
+    if (files.length) onFiles(files);
+  });
+  return h('label', { className: 'picker' }, label, ' ', input);
+}
+
+/** A drop area for files (the whole panel area also accepts drops, see main.ts). */
+function dropZone(text: string, onFiles: (f: File[]) => void): HTMLElement {
+  const z = h('div', { className: 'drop' }, text);
+  z.addEventListener('dragover', (e) => {
+    e.preventDefault();
+    z.classList.add('over');
+  });
+  z.addEventListener('dragleave', () => z.classList.remove('over'));
+  z.addEventListener('drop', (e) => {
+    e.preventDefault();
+    e.stopPropagation();
+    z.classList.remove('over');
+    const files = [...(e.dataTransfer?.files ?? [])];
+    if (files.length) onFiles(files);
+  });
+  return z;
+}
+
+// ------------------------------------------------------------------------------------------------- ground
+
+export async function loadTerrainFiles(app: App, files: File[], replace: boolean): Promise<void> {
+  const tiffs = files.filter((f) => isTiff(f.name));
+  if (tiffs.length === 0) {
+    app.say('error', `${files.map((f) => f.name).join(', ')}: found no .tif file; expected GeoTIFF DEM tiles`);
+    return;
+  }
+  await app.job('Terrain', async (progress) => {
+    progress(0.1, `reading ${tiffs.length} tile${tiffs.length > 1 ? 's' : ''}`);
+    // The scenario names its terrain files: follow the loaded tiles.
+    const names = replace ? tiffs.map((f) => f.name) : [...new Set([...(await app.engine.tileNames()), ...tiffs.map((f) => f.name)])];
+    const doc = { ...app.state.doc, terrain: { files: names } };
+    const r = await app.engine.loadTiles(
+      tiffs.map((f) => ({ name: f.name, file: f })),
+      replace,
+      { input: doc, display: app.state.source },
+    );
+    app.adoptLoaded({ ...app.state, doc, failed: [] }, r.terrain, r.study!);
+    app.save();
+    await app.afterTerrain();
+    app.say('info', `Terrain: ${r.terrain.tiles.length} tile(s) loaded.`);
+  });
+}
+
+function groundPanel(app: App): HTMLElement {
+  const t = app.terrain;
+  const replace = h('input', { type: 'checkbox', id: 'terrain-replace', checked: true });
+  const onFiles = (files: File[]) => void loadTerrainFiles(app, files, replace.checked);
+  return h(
+    'div',
+    {},
+    h('h2', {}, 'Ground'),
+    h('p', { className: 'hint' }, 'GeoTIFF elevation tiles (DEM), metres above mean sea level. Voids are filled from their neighbours and counted.'),
+    filePicker('terrain-files', 'Load tiles', '.tif,.tiff,image/tiff', true, onFiles),
+    h('label', {}, replace, ' replace the loaded tiles (otherwise add to them)'),
+    dropZone('…or drop .tif files here', onFiles),
+    t
+      ? section(
+          'What was read',
+          h(
+            'p',
+            {},
+            `Mosaic ${t.width} × ${t.height} px, ${t.bounds.west.toFixed(3)}…${t.bounds.east.toFixed(3)}° E, ${t.bounds.south.toFixed(3)}…${t.bounds.north.toFixed(3)}° N; ${t.unknownCells.toLocaleString('en')} px without data; terrain ${t.shared ? 'shared by' : 'copied to'} ${app.poolSize} workers.`,
+          ),
+          table(
+            ['tile', 'size px', 'extent', 'pixel', 'voids filled', 'heights'],
+            t.tiles.map((x) => [
+              x.name,
+              `${x.width} × ${x.height}`,
+              `${x.west.toFixed(2)}…${x.east.toFixed(2)} E, ${x.south.toFixed(2)}…${x.north.toFixed(2)} N`,
+              `${x.pixel.x.toFixed(2)} × ${x.pixel.y.toFixed(2)} ${x.pixel.unit === 'arcsec' ? '″' : 'm'}`,
+              x.voidsFilled.toLocaleString('en'),
+              `${Math.round(x.minM)}…${Math.round(x.maxM)} m`,
+            ]),
+            { id: 'tile-table' },
+          ),
+        )
+      : h('p', {}, 'No terrain loaded.'),
+  );
+}
+
+// -------------------------------------------------------------------------------------------------- sites
+
+function sitesPanel(app: App): HTMLElement {
+  const s = app.state;
+  const u = s.units;
+  const types = s.doc.sensorTypes;
+  const inNet = (siteId: string, typeId: string) => s.network.some((r) => r.siteId === siteId && r.typeId === typeId);
+  const addBtn = h(
+    'button',
+    {
+      id: 'add-site',
+      className: app.mode === 'add-site' ? 'active' : '',
+      onclick: () => {
+        app.setMode(app.mode === 'add-site' ? 'none' : 'add-site');
+        app.render();
+      },
+    },
+    app.mode === 'add-site' ? 'Click the map to place the site… (click here to stop)' : 'Add a site by clicking the map',
+  );
+  const importSites = filePicker('sites-file', 'Replace sites from a file (GeoJSON or CSV)', '.geojson,.json,.csv', false, (files) =>
+    void (async () => {
+      try {
+        const fc = await readSitesFile(files[0]);
+        const doc = { ...app.state.doc, sites: fc } as unknown as WorkState['doc'];
+        validateDoc(doc, files[0].name);
+        const next = setNetwork({ ...app.state, doc: doc }, app.state.network);
+        if (await app.commit(next)) app.say('info', `Sites: ${(fc as { features: unknown[] }).features.length} read from ${files[0].name}.`);
+      } catch (e) {
+        app.fail(e);
+      }
+    })(),
+  );
+  const rows = s.doc.sites.features.map((f) => {
+    const p = f.properties;
+    const [lon, lat] = f.geometry.coordinates;
+    const name = h('input', { type: 'text', value: p.name, 'aria-label': `name of ${p.id}` });
+    name.addEventListener('change', () => void tryEdit(app, name, () => editSite(app.state, p.id, { name: name.value })));
+    const allowed = p.allowedTypes ?? types.map((t) => t.id);
+    const typeBoxes = types.map((t) => {
+      const allow = h('input', { type: 'checkbox', checked: allowed.includes(t.id), title: `allow ${t.name}` });
+      allow.addEventListener('change', () => {
+        const list = types.map((x) => x.id).filter((id) => (id === t.id ? allow.checked : allowed.includes(id)));
+        void tryEdit(app, allow, () =>
+          editSite(app.state, p.id, { allowedTypes: list.length === types.length ? null : list }),
+        );
+      });
+      const use = h('input', {
+        type: 'checkbox',
+        checked: inNet(p.id, t.id),
+        disabled: !allowed.includes(t.id),
+        'data-sensor': `${p.id}|${t.id}`,
+        title: `in the network: ${t.name}`,
+      });
+      use.addEventListener('change', () => {
+        app.setView(toggleSensor(app.state, p.id, t.id, use.checked));
+        app.refreshVectors();
+      });
+      return h('span', { className: 'type-cell' }, h('span', { className: 'type-id' }, t.id), allow, use);
+    });
+    return h(
+      'tr',
+      { 'data-row': p.id },
+      h('td', {}, name, h('div', { className: 'sub' }, p.id)),
+      h(
+        'td',
+        {},
+        numberIn(lon, { 'aria-label': `lon of ${p.id}`, className: 'coord' }, (v, el) =>
+          void tryEdit(app, el, () => editSite(app.state, p.id, { lon: v })),
+        ),
+        numberIn(lat, { 'aria-label': `lat of ${p.id}`, className: 'coord' }, (v, el) =>
+          void tryEdit(app, el, () => editSite(app.state, p.id, { lat: v })),
+        ),
+      ),
+      h(
+        'td',
+        {},
+        numberIn(heightToUser(p.mastHeightM, u), { 'aria-label': `mast of ${p.id}`, className: 'short', min: 0 }, (v, el) =>
+          void tryEdit(app, el, () => editSite(app.state, p.id, { mastHeightM: heightFromUser(v, u) })),
+        ),
+      ),
+      h(
+        'td',
+        {},
+        numberIn(p.siteCost, { 'aria-label': `cost of ${p.id}`, className: 'short', min: 0 }, (v, el) =>
+          void tryEdit(app, el, () => editSite(app.state, p.id, { siteCost: v })),
+        ),
+      ),
+      h(
+        'td',
+        {},
+        (() => {
+          const c = h('input', { type: 'checkbox', checked: p.existing, 'aria-label': `${p.id} exists` });
+          c.addEventListener('change', () => void tryEdit(app, c, () => editSite(app.state, p.id, { existing: c.checked })));
+          return c;
+        })(),
+      ),
+      h('td', { className: 'types' }, ...typeBoxes),
+      h(
+        'td',
+        {},
+        h(
+          'button',
+          {
+            className: 'small',
+            title: `remove ${p.id}`,
+            onclick: () => void tryEdit(app, null, () => removeSite(app.state, p.id)),
+          },
+          'Remove',
+        ),
+      ),
+    );
+  });
+  return h(
+    'div',
+    {},
+    h('h2', {}, 'Sites'),
+    h(
+      'p',
+      { className: 'hint' },
+      `Drag a marker to move its site. Per sensor type: first box = allowed at the site, second = in the network being looked at (${s.network.length} sensors).`,
+    ),
+    addBtn,
+    importSites,
+    h(
+      'table',
+      { id: 'site-table', className: 'wide' },
+      h(
+        'thead',
+        {},
+        h(
+          'tr',
+          {},
+          h('th', {}, 'Name / id'),
+          h('th', {}, 'Lon, lat (°)'),
+          h('th', {}, `Mast (${heightUnit(u)})`),
+          h('th', {}, 'Site cost (M)'),
+          h('th', {}, 'Exists'),
+          h('th', {}, 'Types: allowed · in network'),
+          h('th', {}, ''),
+        ),
+      ),
+      h('tbody', {}, ...rows),
+    ),
+  );
+}
+
+// ------------------------------------------------------------------------------------------- sensor types
+
+function typesPanel(app: App): HTMLElement {
+  const s = app.state;
+  const u = s.units;
+  const editor = h('textarea', { id: 'type-json', rows: 14, spellcheck: 'false', 'aria-label': 'sensor type (JSON)' });
+  let editing: string | null = null;
+  const rows = s.doc.sensorTypes.map((t) => [
+    h('span', {}, t.name, h('div', { className: 'sub' }, t.id)),
+    t.kind === 'primary' ? 'PSR' : 'SSR',
+    `${t.frequencyMHz} MHz`,
+    fmtRange(t.instrumentedRangeNm * 1852, u),
+    `${t.maxElevationDeg}°`,
+    fmtCost(t.cost),
+    h(
+      'span',
+      {},
+      h(
+        'button',
+        {
+          className: 'small',
+          onclick: () => {
+            editing = t.id;
+            editor.value = JSON.stringify(t, null, 2);
+            title.textContent = `Editing ${t.id}`;
+          },
+        },
+        'Edit',
+      ),
+      h(
+        'button',
+        { className: 'small', onclick: () => void tryEdit(app, null, () => removeSensorType(app.state, t.id)) },
+        'Remove',
+      ),
+    ),
+  ]);
+  const title = h('strong', {}, 'New type (JSON, the scenario file’s form)');
+  const template = s.doc.sensorTypes[0];
+  if (template) editor.value = JSON.stringify({ ...template, id: `${template.id}-copy`, name: `${template.name} (copy)` }, null, 2);
+  const apply = () => {
+    let parsed: unknown;
+    try {
+      parsed = JSON.parse(editor.value);
+    } catch (e) {
+      editor.classList.add('invalid');
+      app.say('error', `sensor type: found text that is not JSON (${(e as Error).message}); expected one sensor type object`);
+      return;
+    }
+    void tryEdit(app, editor, () =>
+      editing ? replaceSensorType(app.state, editing, parsed as SensorType) : addSensorType(app.state, parsed),
+    );
+  };
+  return h(
+    'div',
+    {},
+    h('h2', {}, 'Sensor types'),
+    table(['Name / id', 'Kind', 'Frequency', `Instrumented range (${rangeUnit(u)})`, 'Max elevation', 'Cost', ''], rows, {
+      id: 'type-table',
+      className: 'wide',
+    }),
+    section(
+      'Add or edit',
+      title,
+      editor,
+      h('button', { id: 'type-apply', onclick: apply }, 'Check and apply'),
+      h('p', { className: 'hint' }, 'Ranges in the file are in NM, heights in m; a type that fails the schema is not applied and the text stays here.'),
+    ),
+  );
+}
+
+// ------------------------------------------------------------------------------------------------ volumes
+
+function volumesPanel(app: App): HTMLElement {
+  const s = app.state;
+  const u = s.units;
+  const rows = s.doc.volumes.map((v) => {
+    const name = h('input', { type: 'text', value: v.name, 'aria-label': `name of ${v.id}` });
+    name.addEventListener('change', () => void tryEdit(app, name, () => editVolume(app.state, v.id, { name: name.value })));
+    const num = (key: 'flMin' | 'flMax' | 'weight', val: number) =>
+      numberIn(val, { className: 'short', 'aria-label': `${key} of ${v.id}` }, (x, el) =>
+        void tryEdit(app, el, () => editVolume(app.state, v.id, { [key]: x })),
+      );
+    const fold = (k: 'any' | 'primary' | 'secondary') =>
+      numberIn(v.requiredFold[k] ?? 0, { className: 'tiny', min: 0, 'aria-label': `${k} sites required in ${v.id}` }, (x, el) =>
+        void tryEdit(app, el, () => {
+          const rf = { ...v.requiredFold, [k]: x };
+          if (!x) delete rf[k];
+          return editVolume(app.state, v.id, { requiredFold: rf });
+        }),
+      );
+    return [
+      h('span', {}, name, h('div', { className: 'sub' }, v.id)),
+      h('span', {}, num('flMin', v.flMin), ' – ', num('flMax', v.flMax)),
+      h('span', { className: 'folds' }, 'any ', fold('any'), ' PSR ', fold('primary'), ' SSR ', fold('secondary')),
+      num('weight', v.weight ?? 1),
+      h('button', { className: 'small', onclick: () => void tryEdit(app, null, () => removeVolume(app.state, v.id)) }, 'Remove'),
+    ];
+  });
+  const drawing = app.mode === 'draw';
+  const newName = h('input', { type: 'text', id: 'volume-name', value: `Volume ${s.doc.volumes.length + 1}` });
+  const finish = () => {
+    if (app.draft.length < 3) {
+      app.say('error', `volume: found ${app.draft.length} points; expected at least 3 (click the map)`);
+      return;
+    }
+    const ring = [...app.draft, app.draft[0]];
+    // Exterior rings counter-clockwise (GeoJSON, RFC 7946).
+    let area = 0;
+    for (let i = 0; i < ring.length - 1; i++) area += ring[i][0] * ring[i + 1][1] - ring[i + 1][0] * ring[i][1];
+    if (area < 0) ring.reverse();
+    const fls = s.doc.flightLevels;
+    void tryEdit(app, null, () =>
+      addVolume(app.state, {
+        name: newName.value.trim() || 'New volume',
+        polygon: { type: 'Polygon', coordinates: [ring] },
+        flMin: fls[0],
+        flMax: fls[fls.length - 1],
+        requiredFold: { any: 1 },
+        weight: 1,
+      }),
+    ).then(() => {
+      app.setMode('none');
+      app.render();
+    });
+  };
+  return h(
+    'div',
+    {},
+    h('h2', {}, 'Airspace'),
+    h('p', { className: 'hint' }, `Volumes to be seen: a polygon, a band of flight levels (${fmtLevel(s.doc.flightLevels[0], u)} …), the number of distinct sites required per kind, and a weight for the planner.`),
+    table(['Name / id', 'Band (FL)', 'Sites required', 'Weight', ''], rows, { id: 'volume-table', className: 'wide' }),
+    section(
+      'New volume',
+      h('label', {}, 'Name ', newName),
+      h(
+        'button',
+        {
+          id: 'draw-volume',
+          className: drawing ? 'active' : '',
+          onclick: () => {
+            app.setMode(drawing ? 'none' : 'draw');
+            app.render();
+          },
+        },
+        drawing ? `Drawing: ${app.draft.length} points (click here to stop)` : 'Draw on the map',
+      ),
+      drawing ? h('button', { id: 'finish-volume', onclick: finish }, 'Finish the polygon') : null,
+      filePicker('volume-file', 'Import polygons (GeoJSON)', '.geojson,.json', false, (files) =>
+        void (async () => {
+          try {
+            const polys = await readPolygonFile(files[0]);
+            const fls = app.state.doc.flightLevels;
+            let next = app.state;
+            for (const p of polys)
+              next = addVolume(next, {
+                name: p.name,
+                polygon: p.polygon as never,
+                flMin: fls[0],
+                flMax: fls[fls.length - 1],
+                requiredFold: { any: 1 },
+                weight: 1,
+              });
+            await app.commit(next);
+          } catch (e) {
+            app.fail(e);
+          }
+        })(),
+      ),
+    ),
+  );
+}
+
+// ----------------------------------------------------------------------------------------------- coverage
+
+const LAYER_NAMES: [LayerId, string][] = [
+  ['relief', 'Shaded relief'],
+  ['floor', 'Network floor'],
+  ['fold', 'Sites seeing each cell'],
+  ['gap', 'Gaps in volumes'],
+  ['loss', 'Outage losses'],
+  ['compare', 'Layout differences'],
+  ['volumes', 'Volume outlines'],
+  ['sites', 'Sites'],
+];
+
+function viewControls(app: App): HTMLElement {
+  const s = app.state;
+  const levels = app.coverage?.flightLevels ?? s.doc.flightLevels;
+  const fl = h(
+    'select',
+    {
+      id: 'view-fl',
+      onchange: () => {
+        app.setView({ ...app.state, view: { ...app.state.view, fl: Number(fl.value) } });
+        void app.refreshImages();
+      },
+    },
+    ...levels.map((x) => h('option', { value: x }, fmtLevel(x, s.units))),
+  );
+  fl.value = String(s.view.fl);
+  const kind = h(
+    'select',
+    {
+      id: 'view-kind',
+      onchange: () => {
+        app.setView({ ...app.state, view: { ...app.state.view, kind: kind.value as FoldKind } });
+        void app.refreshImages(['fold']);
+      },
+    },
+    h('option', { value: 'any' }, 'any kind'),
+    h('option', { value: 'primary' }, 'PSR only'),
+    h('option', { value: 'secondary' }, 'SSR only'),
+  );
+  kind.value = s.view.kind;
+  const layerRows = LAYER_NAMES.map(([id, label]) => {
+    const set = s.view.layers[id];
+    const on = h('input', { type: 'checkbox', checked: set.on, id: `layer-${id}` });
+    const op = h('input', { type: 'range', min: 0, max: 1, step: 0.05, value: set.opacity, 'aria-label': `${label} opacity` });
+    const update = () => {
+      const layers = { ...app.state.view.layers, [id]: { on: on.checked, opacity: Number(op.value) } };
+      app.setView({ ...app.state, view: { ...app.state.view, layers } });
+      if (on.checked !== set.on) void app.refreshImages();
+    };
+    on.addEventListener('change', update);
+    op.addEventListener('change', update);
+    return h('div', { className: 'layer-row' }, h('label', {}, on, ' ', label), op);
+  });
+  return section('Map', h('label', {}, 'Level shown ', fl), h('label', {}, ' Count ', kind), ...layerRows);
+}
+
+function coveragePanel(app: App): HTMLElement {
+  const s = app.state;
+  const u = s.units;
+  const flText = h('input', { type: 'text', id: 'fl-list', value: s.doc.flightLevels.join(', '), 'aria-label': 'flight levels' });
+  flText.addEventListener('change', () => {
+    const parts = flText.value.split(/[\s,;]+/).filter((x) => x !== '');
+    const fls = parts.map((x) => Number(x.replace(/^FL/i, '')));
+    void tryEdit(app, flText, () => {
+      if (parts.length === 0 || fls.some((x) => !Number.isInteger(x)))
+        throw new Error(`flight levels: found "${flText.value}"; expected whole flight levels separated by commas, e.g. 50, 100, 245`);
+      return setFlightLevels(app.state, fls);
+    });
+  });
+  const c = app.coverage;
+  const result = c
+    ? section(
+        'Result',
+        h(
+          'p',
+          { id: 'coverage-summary' },
+          `${c.sensors.length} sensors; ${c.computed} footprints computed, ${c.cached} from the cache; ${(c.timingsMs.total / 1000).toFixed(1)} s.`,
+        ),
+        table(
+          ['Volume', 'Level', 'Area', 'Seen', 'Meets requirement'],
+          c.volumes.map((v) => [
+            s.doc.volumes.find((x) => x.id === v.volumeId)?.name ?? v.volumeId,
+            formatFl(v.flightLevel),
+            fmtArea(v.areaKm2, u),
+            fmtPct(v.coveredPct),
+            fmtPct(v.meetsRequirementPct),
+          ]),
+          { id: 'coverage-table', className: 'wide' },
+        ),
+      )
+    : h('p', { className: 'hint' }, 'No coverage yet for this network.');
+  return h(
+    'div',
+    {},
+    h('h2', {}, 'Coverage'),
+    h(
+      'p',
+      { className: 'hint' },
+      `Terrain-masked line of sight on an effective earth (k = ${s.doc.earth.kFactor}), limited by each sensor's detection range, elevation and cone of silence. Network: ${s.network.length} sensors on ${new Set(s.network.map((r) => r.siteId)).size} sites.`,
+    ),
+    h('label', {}, 'Flight levels ', flText),
+    h('div', {}, h('button', { id: 'run-coverage', className: 'primary', disabled: app.busy !== null, onclick: () => void app.runCoverage() }, 'Compute coverage')),
+    result,
+    viewControls(app),
+  );
+}
+
+// --------------------------------------------------------------------------------------------------- plan
+
+function planPanel(app: App): HTMLElement {
+  const s = app.state;
+  const u = s.units;
+  const budget = h('input', { type: 'number', id: 'plan-budget', min: 0, step: 'any', value: s.doc.budget ?? '' });
+  const keep = h('input', { type: 'checkbox', id: 'plan-keep', checked: true });
+  const limit = h('input', { type: 'number', id: 'plan-limit', min: 1, max: 600, value: 8, className: 'short' });
+  const run = () =>
+    void app.job('Plan', async (progress) => {
+      const b = budget.value.trim() === '' ? null : Number(budget.value);
+      if (b !== null && !(b >= 0)) throw new Error(`budget: found "${budget.value}"; expected a number ≥ 0 or empty for none`);
+      const keepRefs = keep.checked
+        ? app.state.network.filter((r) => app.state.doc.sites.features.find((f) => f.properties.id === r.siteId)?.properties.existing)
+        : [];
+      app.plan = await app.engine.plan(
+        { budget: b, keep: keepRefs, excludedSites: [], timeLimitMs: Math.max(1, Number(limit.value) || 8) * 1000 },
+        progressProxy(progress),
+      );
+      app.nMinus1 = null;
+    });
+  const p = app.plan;
+  const result = p
+    ? section(
+        'Result',
+        h(
+          'dl',
+          { id: 'plan-result', className: 'facts' },
+          h('dt', {}, 'Cost'),
+          h('dd', { id: 'plan-cost' }, fmtCost(p.cost)),
+          h('dt', {}, p.mode === 'cover' ? 'Lower bound' : 'Covered weight'),
+          h('dd', {}, p.mode === 'cover' ? fmtCost(p.lowerBound) : `${p.coveredWeight.toFixed(0)} of ${p.totalWeight.toFixed(0)}`),
+          h('dt', {}, 'Gap'),
+          h('dd', {}, fmtPct(p.gapPct)),
+          h('dt', {}, 'Method'),
+          h('dd', {}, p.method),
+          h('dt', {}, 'Every requirement met'),
+          h('dd', {}, p.demandMet ? 'yes' : 'no'),
+        ),
+        p.unmeetable.length
+          ? h('p', { className: 'warn' }, `Some demand cannot be met by any allowed sensor: ${p.unmeetable.map((x) => `${x.points} points need ${x.required} ${x.kind}, best ${x.achievable}`).join('; ')}.`)
+          : null,
+        table(
+          ['Site', 'Sensor type', 'Cost'],
+          p.entries.map((e) => [
+            s.doc.sites.features.find((f) => f.properties.id === e.siteId)?.properties.name ?? e.siteId,
+            e.typeId,
+            fmtCost(e.cost),
+          ]),
+          { id: 'plan-entries' },
+        ),
+        table(
+          ['Volume', 'Level', 'Meets requirement'],
+          p.volumes.map((v) => [
+            s.doc.volumes.find((x) => x.id === v.volumeId)?.name ?? v.volumeId,
+            formatFl(v.flightLevel),
+            fmtPct(v.meetsRequirementPct),
+          ]),
+          { className: 'wide' },
+        ),
+        h(
+          'button',
+          {
+            id: 'plan-use',
+            onclick: () => {
+              app.setView(setNetwork({ ...app.state, failed: [] }, p.entries.map((e) => ({ siteId: e.siteId, typeId: e.typeId }))));
+              app.refreshVectors();
+              void app.runCoverage();
+            },
+          },
+          'Look at this plan (coverage)',
+        ),
+        h(
+          'button',
+          {
+            id: 'plan-n1',
+            onclick: () =>
+              void app.job('Outage table', async (progress) => {
+                          app.nMinus1 = await app.engine.outageTable(
+                  p.entries.map((e) => ({ siteId: e.siteId, typeId: e.typeId })),
+                  progressProxy(progress),
+                );
+                app.showPanel('outages');
+              }),
+          },
+          'N−1 table of this plan',
+        ),
+      )
+    : null;
+  return h(
+    'div',
+    {},
+    h('h2', {}, 'Plan'),
+    h('p', { className: 'hint' }, 'Chooses sites and sensor types that give every volume its required number of sites at the levels of its band at least cost (or, within a budget, the most demand). Existing sites cost nothing to open.'),
+    h('label', {}, 'Budget (M, empty = none) ', budget),
+    h('label', {}, keep, ' keep the network’s sensors at existing sites'),
+    h('label', {}, 'Solver time limit (s) ', limit),
+    h('div', {}, h('button', { id: 'run-plan', className: 'primary', disabled: app.busy !== null, onclick: run }, 'Make a plan')),
+    h('p', { className: 'hint' }, `Needs the footprint of every allowed site and type (${countCandidates(app)}); those already computed come from the cache.`),
+    result,
+    h('p', { className: 'hint' }, `Units: ${u === 'aviation' ? 'areas in NM²' : 'areas in km²'}.`),
+  );
+}
+
+function countCandidates(app: App): number {
+  const s = app.state.doc;
+  return s.sites.features.reduce((a, f) => a + (f.properties.allowedTypes?.length ?? s.sensorTypes.length), 0);
+}
+
+// ------------------------------------------------------------------------------------------------ outages
+
+function outagesPanel(app: App): HTMLElement {
+  const s = app.state;
+  const u = s.units;
+  const sites = [...new Set(s.network.map((r) => r.siteId))];
+  const name = (id: string) => s.doc.sites.features.find((f) => f.properties.id === id)?.properties.name ?? id;
+  const o = app.outage;
+  const boxes = sites.map((id) => {
+    const c = h('input', { type: 'checkbox', checked: s.failed.includes(id), 'data-fail': id });
+    c.addEventListener('change', () => void app.toggleFailure(id));
+    return h('label', { className: 'fail-row' }, c, ' ', name(id));
+  });
+  const loss =
+    o && o.failed.length
+      ? section(
+          'What is lost',
+          h(
+            'p',
+            { id: 'outage-loss' },
+            `${o.failed.map(name).join(', ')} down: ${fmtArea(o.areaKm2Lost, u)} of volume area lose their requirement at one level or more (demand weight ${o.demandWeightLost.toFixed(0)}).`,
+          ),
+          table(
+            ['Level', 'Area losing coverage or requirement'],
+            (app.coverage?.flightLevels ?? []).map((fl, i) => [formatFl(fl), fmtArea(o.lostKm2ByLevel[i] ?? 0, u)]),
+            { id: 'outage-levels' },
+          ),
+          table(
+            ['Volume', 'Level', 'Area lost'],
+            o.byVolume
+              .filter((x) => x.areaKm2Lost > 0)
+              .map((x) => [s.doc.volumes.find((v) => v.id === x.volumeId)?.name ?? x.volumeId, formatFl(x.flightLevel), fmtArea(x.areaKm2Lost, u)]),
+          ),
+        )
+      : h('p', { className: 'hint', id: 'outage-loss' }, 'No site failed.');
+  const n1 = app.nMinus1;
+  return h(
+    'div',
+    {},
+    h('h2', {}, 'Outages'),
+    h('p', { className: 'hint' }, 'Click a site on the map, or tick it here, to take it down; the loss shows at once from the cached footprints.'),
+    app.coverage ? h('div', { className: 'fail-list' }, ...boxes) : h('p', {}, 'Compute coverage first.'),
+    loss,
+    section(
+      'One site down at a time (N−1)',
+      h(
+        'button',
+        {
+          id: 'run-n1',
+          disabled: app.busy !== null || !app.coverage,
+          onclick: () =>
+            void app.job('Outage table', async (progress) => {
+                      app.nMinus1 = await app.engine.outageTable(undefined, progressProxy(progress));
+            }),
+        },
+        'Table for the current network',
+      ),
+      n1
+        ? table(
+            ['Site down', 'Area losing requirement', 'Demand weight lost'],
+            n1.map((x) => [name(x.siteId), fmtArea(x.areaKm2Lost, u), x.demandWeightLost.toFixed(0)]),
+            { id: 'n1-table', className: 'wide' },
+          )
+        : null,
+    ),
+  );
+}
+
+// ------------------------------------------------------------------------------------------------ layouts
+
+function layoutsPanel(app: App): HTMLElement {
+  const s = app.state;
+  const u = s.units;
+  const name = h('input', { type: 'text', id: 'layout-name', value: `Layout ${s.doc.layouts.length + 1}` });
+  const list = s.doc.layouts.map((l) => [
+    l.name,
+    `${l.sensors.length} sensors`,
+    h(
+      'span',
+      {},
+      h(
+        'button',
+        {
+          className: 'small',
+          onclick: () => {
+            try {
+              app.setView(useLayout({ ...app.state, failed: [] }, l.name));
+              app.refreshVectors();
+              app.say('info', `The network is now "${l.name}"; compute coverage to see it.`);
+            } catch (e) {
+              app.fail(e);
+            }
+          },
+        },
+        'Look at it',
+      ),
+      h('button', { className: 'small', onclick: () => void tryEdit(app, null, () => removeLayout(app.state, l.name)) }, 'Delete'),
+    ),
+  ]);
+  const pick = (id: string, i: number) => {
+    const sel = h('select', { id }, ...s.doc.layouts.map((l) => h('option', { value: l.name }, l.name)));
+    if (s.doc.layouts[i]) sel.value = s.doc.layouts[i].name;
+    return sel;
+  };
+  const a = pick('compare-a', 0);
+  const b = pick('compare-b', 1);
+  const cmp = app.compare;
+  return h(
+    'div',
+    {},
+    h('h2', {}, 'Layouts'),
+    h('p', { className: 'hint' }, 'A layout is a named set of sensors. Save the network you are looking at, or compare two.'),
+    h('label', {}, 'Name ', name),
+    h('button', { id: 'save-layout', onclick: () => void tryEdit(app, name, () => saveLayout(app.state, name.value)) }, 'Save the current network'),
+    table(['Layout', 'Sensors', ''], list, { id: 'layout-table' }),
+    section(
+      'Compare',
+      h('label', {}, 'A ', a),
+      h('label', {}, ' B ', b),
+      h(
+        'button',
+        {
+          id: 'run-compare',
+          disabled: app.busy !== null || s.doc.layouts.length < 1,
+          onclick: () =>
+            void app.job('Compare', async (progress) => {
+              const la = app.state.doc.layouts.find((l) => l.name === a.value);
+              const lb = app.state.doc.layouts.find((l) => l.name === b.value);
+              if (!la || !lb) throw new Error('compare: found a layout missing; expected two saved layouts');
+                      const r = await app.engine.compare(la.sensors, lb.sensors, progressProxy(progress));
+              app.compare = { ...r, names: [la.name, lb.name] };
+              await app.refreshImages();
+            }),
+        },
+        'Compare',
+      ),
+      cmp
+        ? h(
+            'div',
+            { id: 'compare-result' },
+            h(
+              'p',
+              {},
+              `${cmp.names[1]} gains ${fmtArea(cmp.gained.areaKm2, u)} and loses ${fmtArea(cmp.lost.areaKm2, u)} of served volume area against ${cmp.names[0]}; cost ${fmtCost(cmp.a.cost)} → ${fmtCost(cmp.b.cost)}.`,
+            ),
+            table(
+              ['Volume', 'Level', `${cmp.names[0]}: meets`, `${cmp.names[1]}: meets`],
+              cmp.a.volumes.map((v, i) => [
+                s.doc.volumes.find((x) => x.id === v.volumeId)?.name ?? v.volumeId,
+                formatFl(v.flightLevel),
+                fmtPct(v.meetsRequirementPct),
+                fmtPct(cmp.b.volumes[i]?.meetsRequirementPct ?? 0),
+              ]),
+              { className: 'wide side-by-side' },
+            ),
+          )
+        : null,
+    ),
+  );
+}
+
+// ------------------------------------------------------------------------------------------------ profile
+
+function profilePanel(app: App): HTMLElement {
+  const s = app.state;
+  const pick = app.diagramPick;
+  const site = h(
+    'select',
+    { id: 'profile-site' },
+    h('option', { value: '' }, '— site —'),
+    ...s.doc.sites.features.map((f) => h('option', { value: f.properties.id }, f.properties.name)),
+  );
+  site.value = pick?.siteId ?? '';
+  const siteProps = s.doc.sites.features.find((f) => f.properties.id === site.value)?.properties;
+  const allowed = siteProps?.allowedTypes ?? s.doc.sensorTypes.map((t) => t.id);
+  const type = h(
+    'select',
+    { id: 'profile-type' },
+    h('option', { value: '' }, '— sensor type —'),
+    ...s.doc.sensorTypes.filter((t) => allowed.includes(t.id)).map((t) => h('option', { value: t.id }, t.name)),
+  );
+  type.value = pick?.typeId && allowed.includes(pick.typeId) ? pick.typeId : '';
+  const onPick = () => {
+    app.diagramPick = { siteId: site.value, typeId: type.value };
+    app.render();
+  };
+  site.addEventListener('change', onPick);
+  type.addEventListener('change', onPick);
+  const az = h('input', { type: 'number', id: 'profile-az', min: 0, max: 360, step: 0.1, value: app.azimuth, className: 'short' });
+  const dragging = app.mode === 'azimuth';
+  let img: HTMLElement | null = null;
+  if (app.diagramSvg) {
+    const url = URL.createObjectURL(new Blob([app.diagramSvg], { type: 'image/svg+xml' }));
+    const im = h('img', { id: 'diagram', src: url, alt: 'vertical coverage diagram' });
+    im.addEventListener('load', () => URL.revokeObjectURL(url));
+    img = im;
+  }
+  return h(
+    'div',
+    {},
+    h('h2', {}, 'Profile'),
+    h('p', { className: 'hint' }, 'A vertical coverage diagram along one azimuth: terrain profile, screening, detection envelope, cone of silence and flight levels.'),
+    h('label', {}, 'Site ', site),
+    h('label', {}, ' Type ', type),
+    h('div', {}, h('label', {}, 'Azimuth (° true) ', az), h('button', { id: 'profile-draw', onclick: () => void app.drawDiagram(Number(az.value)) }, 'Draw')),
+    h(
+      'button',
+      {
+        id: 'profile-drag',
+        className: dragging ? 'active' : '',
+        onclick: () => {
+          app.setMode(dragging ? 'none' : 'azimuth');
+          app.render();
+        },
+      },
+      dragging ? 'Press and drag on the map from the site… (click to stop)' : 'Drag an azimuth on the map',
+    ),
+    img,
+    app.diagramSvg
+      ? h(
+          'button',
+          {
+            id: 'export-diagram',
+            onclick: () => download(`profile-${pick?.siteId}-${pick?.typeId}-${app.azimuth}.svg`, app.diagramSvg!, 'image/svg+xml'),
+          },
+          'Save the diagram (SVG)',
+        )
+      : null,
+  );
+}
+
+// -------------------------------------------------------------------------------------------------- files
+
+export async function loadScenarioFiles(app: App, files: File[]): Promise<void> {
+  // Read and check everything first: a bad file leaves the current work as it is.
+  let picked;
+  try {
+    picked = await readPickedScenario(files);
+  } catch (e) {
+    app.say('error', ['The scenario was not loaded; your work is unchanged.', ...errorLines(e)]);
+    return;
+  }
+  const state = stateFromScenario(picked.scenario, picked.source, app.state.units);
+  if (picked.tiles.length === 0) {
+    // Same terrain as now: the scenario must fit it.
+    try {
+      const study = await app.engine.setScenario(state.doc, state.source);
+      app.adoptLoaded(state, app.terrain!, study);
+      app.save();
+      app.say('info', [`Loaded ${picked.source} on the terrain already loaded.`, ...(picked.missingTiles.length ? [`(The tiles it names were not picked: ${picked.missingTiles.slice(0, 4).join(', ')}${picked.missingTiles.length > 4 ? ', …' : ''}.)`] : [])]);
+    } catch (e) {
+      // The engine keeps its previous study when setScenario throws.
+      app.say('error', ['The scenario was not loaded; your work is unchanged.', ...errorLines(e)]);
+    }
+    return;
+  }
+  await app.job('Scenario', async (progress) => {
+    progress(0.2, 'reading terrain');
+    try {
+      const r = await app.engine.loadTiles(picked.tiles, true, { input: state.doc, display: state.source });
+      app.adoptLoaded(state, r.terrain, r.study!);
+      app.save();
+      await app.afterTerrain();
+      app.say('info', `Loaded ${picked.source}.`);
+    } catch (e) {
+      app.say('error', ['The scenario was not loaded; your work is unchanged.', ...errorLines(e)]);
+    }
+  });
+}
+
+function filesPanel(app: App): HTMLElement {
+  const s = app.state;
+  const fl = h('select', { id: 'export-fl' }, ...(app.coverage?.flightLevels ?? []).map((x) => h('option', { value: x }, formatFl(x))));
+  fl.value = String(s.view.fl);
+  const summary = () => ({
+    scenario: s.doc.name,
+    caution:
+      'Planning aid: not a certified or flight-inspected result. Results depend on the terrain data and the refraction assumed; defer to the local authority’s standards and licensed engineering practice.',
+    network: s.network,
+    coverage: app.coverage,
+    outage: app.outage,
+    plan: app.plan
+      ? { cost: app.plan.cost, lowerBound: app.plan.lowerBound, gapPct: app.plan.gapPct, entries: app.plan.entries, volumes: app.plan.volumes, method: app.plan.method }
+      : null,
+    nMinus1: app.nMinus1,
+    compare: app.compare,
+  });
+  return h(
+    'div',
+    {},
+    h('h2', {}, 'Files'),
+    section(
+      'Scenario',
+      h('button', { id: 'save-scenario', onclick: () => download(`${slug(s.doc.name)}.scenario.json`, scenarioFileText(s)) }, 'Save the scenario file'),
+      filePicker('scenario-file', 'Open a scenario (with its sites, types and .tif files)', '.json,.geojson,.csv,.tif,.tiff', true, (files) => void loadScenarioFiles(app, files)),
+      dropZone('…or drop the files here', (files) => void loadScenarioFiles(app, files)),
+      h('button', { id: 'load-demo', onclick: () => void app.loadDemo() }, 'Start again from the demo'),
+    ),
+    section(
+      'Export',
+      app.coverage
+        ? h(
+            'div',
+            {},
+            h('label', {}, 'Level ', fl),
+            h(
+              'button',
+              {
+                id: 'export-layer',
+                onclick: () =>
+                  void (async () => {
+                    try {
+                      const text = await app.engine.levelGeoJson(Number(fl.value));
+                      download(`coverage-${formatFl(Number(fl.value))}.geojson`, text, 'application/geo+json');
+                    } catch (e) {
+                      app.fail(e);
+                    }
+                  })(),
+              },
+              'Coverage layers (GeoJSON)',
+            ),
+            app.compare
+              ? h(
+                  'button',
+                  {
+                    id: 'export-compare',
+                    onclick: () =>
+                      void (async () => {
+                        try {
+                          download(`compare-${formatFl(Number(fl.value))}.geojson`, await app.engine.compareGeoJson(Number(fl.value)), 'application/geo+json');
+                        } catch (e) {
+                          app.fail(e);
+                        }
+                      })(),
+                  },
+                  'Layout differences (GeoJSON)',
+                )
+              : null,
+          )
+        : h('p', { className: 'hint' }, 'Compute coverage to export its layers.'),
+      h('button', { id: 'export-summary', onclick: () => download('airshade-summary.json', JSON.stringify(summary(), null, 2) + '\n') }, 'Summary and plan (JSON)'),
+      h('p', { className: 'hint' }, `Altitudes in the files are metres AMSL (FL ${s.doc.flightLevels[0]} = ${flToMetres(s.doc.flightLevels[0]).toFixed(0)} m). The vertical coverage diagram is saved from the Profile panel.`),
+    ),
+  );
+}
+
+function slug(s: string): string {
+  return s.toLowerCase().replace(/[^a-z0-9]+/g, '-').replace(/^-|-$/g, '').slice(0, 40) || 'scenario';
+}
+
+export type { SensorRef };

@@ -1,0 +1,334 @@
+/**
+ * The app's working state and every change a user can make to it, as pure functions (no DOM, no worker): the
+ * scenario document (sites and sensor types inline, as a scenario file holds them), the network being looked at,
+ * the failed sites, the view settings and the units. Each edit returns a new state or an `InputError` saying
+ * what was wrong; a rejected edit leaves the state as it was. Unit-tested in test/app-state.test.ts.
+ */
+import { InputError } from '../shared/errors.ts';
+import {
+  parseScenario,
+  ScenarioError,
+  type Layout,
+  type Scenario,
+  type SensorType,
+  type SiteProperties,
+  type Volume,
+} from '../shared/scenario.ts';
+
+export type Units = 'aviation' | 'metric';
+export type FoldKind = 'any' | 'primary' | 'secondary';
+export type LayerId = 'relief' | 'floor' | 'fold' | 'gap' | 'loss' | 'compare' | 'volumes' | 'sites';
+
+export interface SensorRef {
+  siteId: string;
+  typeId: string;
+}
+
+/** The scenario as a file holds it, with sites and sensor types inline. */
+export type ScenarioDoc = Omit<Scenario, 'sites'> & {
+  sites: { type: 'FeatureCollection'; features: Scenario['sites'] };
+};
+
+export interface LayerSetting {
+  on: boolean;
+  opacity: number;
+}
+
+export interface WorkState {
+  version: 1;
+  doc: ScenarioDoc;
+  /** Where the scenario came from (shown in messages). */
+  source: string;
+  /** The sensors of the network being looked at. */
+  network: SensorRef[];
+  failed: string[];
+  units: Units;
+  view: { fl: number; kind: FoldKind; layers: Record<LayerId, LayerSetting> };
+}
+
+export const DEFAULT_LAYERS: Record<LayerId, LayerSetting> = {
+  relief: { on: true, opacity: 1 },
+  floor: { on: false, opacity: 0.75 },
+  fold: { on: true, opacity: 0.6 },
+  gap: { on: true, opacity: 0.75 },
+  loss: { on: true, opacity: 0.9 },
+  compare: { on: true, opacity: 0.8 },
+  volumes: { on: true, opacity: 1 },
+  sites: { on: true, opacity: 1 },
+};
+
+export function docOf(s: Scenario): ScenarioDoc {
+  return { ...s, sites: { type: 'FeatureCollection', features: s.sites } };
+}
+
+/** Validates a document with the scenario schema (the messages name the field). */
+export function validateDoc(doc: unknown, source: string): Scenario {
+  return parseScenario(doc, source);
+}
+
+/** A fresh working state from a validated scenario: the network is its first layout, or its existing sites. */
+export function stateFromScenario(s: Scenario, source: string, units: Units = 'aviation'): WorkState {
+  const layout = s.layouts.find((l) => /exist/i.test(l.name)) ?? s.layouts[0];
+  const network = layout ? layout.sensors.map((x) => ({ ...x })) : existingSensors(s);
+  return {
+    version: 1,
+    doc: docOf(s),
+    source,
+    network,
+    failed: [],
+    units,
+    view: { fl: s.flightLevels[0], kind: 'any', layers: structuredClone(DEFAULT_LAYERS) },
+  };
+}
+
+/** One sensor per existing site: its first allowed type. */
+export function existingSensors(s: Scenario): SensorRef[] {
+  return s.sites
+    .filter((f) => f.properties.existing)
+    .map((f) => ({ siteId: f.properties.id, typeId: (f.properties.allowedTypes ?? [s.sensorTypes[0]?.id])[0] }))
+    .filter((r) => r.typeId !== undefined);
+}
+
+/** Applies a change to the document and validates the result; throws (state untouched) when it is invalid. */
+function withDoc(state: WorkState, change: (doc: ScenarioDoc) => void): WorkState {
+  const doc = structuredClone(state.doc);
+  change(doc);
+  const s = validateDoc(doc, 'the working scenario');
+  const next: WorkState = { ...state, doc: docOf(s) };
+  return prune(next);
+}
+
+/** Drops network entries, failures and layout entries that point at sites or types that no longer exist. */
+function prune(state: WorkState): WorkState {
+  const sites = new Map(state.doc.sites.features.map((f) => [f.properties.id, f.properties]));
+  const types = new Set(state.doc.sensorTypes.map((t) => t.id));
+  const ok = (r: SensorRef) => {
+    const p = sites.get(r.siteId);
+    return p !== undefined && types.has(r.typeId) && (!p.allowedTypes || p.allowedTypes.includes(r.typeId));
+  };
+  return {
+    ...state,
+    network: state.network.filter(ok),
+    failed: state.failed.filter((id) => sites.has(id)),
+  };
+}
+
+function findSite(doc: ScenarioDoc, id: string) {
+  const f = doc.sites.features.find((x) => x.properties.id === id);
+  if (!f) throw new InputError('site', JSON.stringify(id), 'the id of a site in the scenario');
+  return f;
+}
+
+// --------------------------------------------------------------------------------------------------- sites
+
+/** A new site at a point, with a fresh id and default mast and cost. */
+export function addSite(state: WorkState, lon: number, lat: number, props: Partial<SiteProperties> = {}) {
+  const ids = new Set(state.doc.sites.features.map((f) => f.properties.id));
+  let n = ids.size + 1;
+  while (ids.has(`site-${n}`)) n++;
+  const id = props.id ?? `site-${n}`;
+  const next = withDoc(state, (doc) => {
+    doc.sites.features.push({
+      type: 'Feature',
+      geometry: { type: 'Point', coordinates: [round6(lon), round6(lat)] },
+      properties: {
+        id,
+        name: props.name ?? `New site ${n}`,
+        mastHeightM: props.mastHeightM ?? 20,
+        siteCost: props.siteCost ?? 5,
+        existing: props.existing ?? false,
+        ...(props.allowedTypes ? { allowedTypes: props.allowedTypes } : {}),
+      },
+    });
+  });
+  return { state: next, id };
+}
+
+export function moveSite(state: WorkState, id: string, lon: number, lat: number): WorkState {
+  return withDoc(state, (doc) => {
+    findSite(doc, id).geometry.coordinates = [round6(lon), round6(lat)];
+  });
+}
+
+export type SitePatch = Partial<Pick<SiteProperties, 'name' | 'mastHeightM' | 'siteCost' | 'existing'>> & {
+  allowedTypes?: string[] | null;
+  lon?: number;
+  lat?: number;
+};
+
+export function editSite(state: WorkState, id: string, patch: SitePatch): WorkState {
+  return withDoc(state, (doc) => {
+    const f = findSite(doc, id);
+    const { allowedTypes, lon, lat, ...rest } = patch;
+    Object.assign(f.properties, rest);
+    if (allowedTypes === null) delete f.properties.allowedTypes;
+    else if (allowedTypes !== undefined) f.properties.allowedTypes = allowedTypes;
+    if (lon !== undefined || lat !== undefined)
+      f.geometry.coordinates = [lon ?? f.geometry.coordinates[0], lat ?? f.geometry.coordinates[1]];
+  });
+}
+
+export function removeSite(state: WorkState, id: string): WorkState {
+  return withDoc(state, (doc) => {
+    findSite(doc, id);
+    doc.sites.features = doc.sites.features.filter((f) => f.properties.id !== id);
+    doc.layouts = doc.layouts.map((l) => ({ ...l, sensors: l.sensors.filter((s) => s.siteId !== id) }));
+  });
+}
+
+// ------------------------------------------------------------------------------------------- sensor types
+
+export function addSensorType(state: WorkState, type: unknown): WorkState {
+  return withDoc(state, (doc) => {
+    doc.sensorTypes.push(type as SensorType);
+  });
+}
+
+/** Replaces a sensor type (its id may change; references follow). */
+export function replaceSensorType(state: WorkState, id: string, type: unknown): WorkState {
+  const t = type as SensorType;
+  const next = withDoc(state, (doc) => {
+    const i = doc.sensorTypes.findIndex((x) => x.id === id);
+    if (i < 0) throw new InputError('sensor type', JSON.stringify(id), 'the id of a sensor type in the scenario');
+    doc.sensorTypes[i] = t;
+    if (t.id !== id) {
+      for (const f of doc.sites.features)
+        f.properties.allowedTypes = f.properties.allowedTypes?.map((x) => (x === id ? t.id : x));
+      for (const l of doc.layouts) l.sensors = l.sensors.map((s) => (s.typeId === id ? { ...s, typeId: t.id } : s));
+    }
+  });
+  return {
+    ...next,
+    network: state.network.map((r) => (r.typeId === id ? { ...r, typeId: t.id } : r)),
+  };
+}
+
+export function removeSensorType(state: WorkState, id: string): WorkState {
+  return withDoc(state, (doc) => {
+    doc.sensorTypes = doc.sensorTypes.filter((t) => t.id !== id);
+    for (const f of doc.sites.features) {
+      if (!f.properties.allowedTypes) continue;
+      const left = f.properties.allowedTypes.filter((x) => x !== id);
+      if (left.length === 0) delete f.properties.allowedTypes;
+      else f.properties.allowedTypes = left;
+    }
+    doc.layouts = doc.layouts.map((l) => ({ ...l, sensors: l.sensors.filter((s) => s.typeId !== id) }));
+  });
+}
+
+// ------------------------------------------------------------------------------------------------ volumes
+
+export function addVolume(state: WorkState, v: Omit<Volume, 'id'> & { id?: string }): WorkState {
+  const ids = new Set(state.doc.volumes.map((x) => x.id));
+  let n = ids.size + 1;
+  while (ids.has(`volume-${n}`)) n++;
+  return withDoc(state, (doc) => {
+    doc.volumes.push({ ...v, id: v.id ?? `volume-${n}` } as Volume);
+  });
+}
+
+export function editVolume(state: WorkState, id: string, patch: Partial<Volume>): WorkState {
+  return withDoc(state, (doc) => {
+    const v = doc.volumes.find((x) => x.id === id);
+    if (!v) throw new InputError('volume', JSON.stringify(id), 'the id of a volume in the scenario');
+    Object.assign(v, patch);
+  });
+}
+
+export function removeVolume(state: WorkState, id: string): WorkState {
+  return withDoc(state, (doc) => {
+    doc.volumes = doc.volumes.filter((v) => v.id !== id);
+  });
+}
+
+// -------------------------------------------------------------------------------------- network, layouts
+
+export function setNetwork(state: WorkState, network: SensorRef[]): WorkState {
+  const seen = new Set<string>();
+  const list = network.filter((r) => {
+    const k = `${r.siteId}\u0000${r.typeId}`;
+    if (seen.has(k)) return false;
+    seen.add(k);
+    return true;
+  });
+  return prune({ ...state, network: list, failed: state.failed });
+}
+
+export function toggleSensor(state: WorkState, siteId: string, typeId: string, on: boolean): WorkState {
+  const rest = state.network.filter((r) => !(r.siteId === siteId && r.typeId === typeId));
+  return setNetwork(state, on ? [...rest, { siteId, typeId }] : rest);
+}
+
+/** Saves the current network as a named layout (replacing one of the same name). */
+export function saveLayout(state: WorkState, name: string): WorkState {
+  const clean = name.trim();
+  if (clean === '') throw new InputError('layout name', 'an empty name', 'a name for the layout');
+  return withDoc(state, (doc) => {
+    const layout: Layout = { name: clean, sensors: state.network.map((r) => ({ ...r })) };
+    const i = doc.layouts.findIndex((l) => l.name === clean);
+    if (i >= 0) doc.layouts[i] = layout;
+    else doc.layouts.push(layout);
+  });
+}
+
+export function useLayout(state: WorkState, name: string): WorkState {
+  const l = state.doc.layouts.find((x) => x.name === name);
+  if (!l) throw new InputError('layout', JSON.stringify(name), 'the name of a saved layout');
+  return setNetwork(state, l.sensors);
+}
+
+export function removeLayout(state: WorkState, name: string): WorkState {
+  return withDoc(state, (doc) => {
+    doc.layouts = doc.layouts.filter((l) => l.name !== name);
+  });
+}
+
+export function setFailed(state: WorkState, siteId: string, failed: boolean): WorkState {
+  const rest = state.failed.filter((x) => x !== siteId);
+  return { ...state, failed: failed ? [...rest, siteId] : rest };
+}
+
+export function setFlightLevels(state: WorkState, fls: number[]): WorkState {
+  const next = withDoc(state, (doc) => {
+    doc.flightLevels = [...new Set(fls)].sort((a, b) => a - b);
+  });
+  const fl = next.doc.flightLevels.includes(state.view.fl) ? state.view.fl : next.doc.flightLevels[0];
+  return { ...next, view: { ...next.view, fl } };
+}
+
+// --------------------------------------------------------------------------------------------- the file
+
+/** The scenario file the app saves: the working document with the current network as a layout "working network". */
+export function scenarioFileText(state: WorkState): string {
+  const doc = structuredClone(state.doc);
+  return JSON.stringify(doc, null, 2) + '\n';
+}
+
+/** Restores a saved working state (autosave); anything malformed throws and the caller starts from the demo. */
+export function restoreState(saved: unknown): WorkState {
+  if (typeof saved !== 'object' || saved === null || (saved as WorkState).version !== 1)
+    throw new InputError('saved work', 'an unknown format', 'a working state saved by this version of Airshade');
+  const w = saved as WorkState;
+  const s = validateDoc(w.doc, 'the saved working scenario');
+  const base = stateFromScenario(s, w.source, w.units === 'metric' ? 'metric' : 'aviation');
+  const layers = { ...structuredClone(DEFAULT_LAYERS), ...(w.view?.layers ?? {}) };
+  const fl = s.flightLevels.includes(w.view?.fl) ? w.view.fl : s.flightLevels[0];
+  const kind: FoldKind = ['any', 'primary', 'secondary'].includes(w.view?.kind) ? w.view.kind : 'any';
+  return prune({
+    ...base,
+    network: Array.isArray(w.network) ? w.network.filter((r) => typeof r?.siteId === 'string') : base.network,
+    failed: Array.isArray(w.failed) ? w.failed.filter((x) => typeof x === 'string') : [],
+    view: { fl, kind, layers },
+  });
+}
+
+/** One line per problem of an error (a ScenarioError lists several). */
+export function errorLines(e: unknown): string[] {
+  if (e instanceof ScenarioError) return e.problems.map((p) => p.message);
+  if (e instanceof Error) return e.message.split('\n').filter((l) => l.trim() !== '');
+  return [String(e)];
+}
+
+function round6(v: number): number {
+  return Math.round(v * 1e6) / 1e6;
+}

@@ -1,0 +1,143 @@
+/**
+ * Web Worker entry of the app's engine (worker/engine.ts): exposes it through comlink, connects it to the pool
+ * of floor workers over MessagePorts, and turns raster images into PNG blobs (OffscreenCanvas) so the main
+ * thread only hands MapLibre a blob URL.
+ */
+import { expose, proxy, wrap, type Remote } from 'comlink';
+import { createStore, del, get, keys, set, type UseStore } from 'idb-keyval';
+import { InputError } from '../shared/errors.ts';
+import highsWasmUrl from 'highs/runtime?url';
+import type { WorkerApi } from './api.ts';
+import { inlineExecutor } from './core/floor.ts';
+import { Engine, type ImageLayer, type ProgressFn, type SensorRef, type PlanRequest } from './engine.ts';
+import type { FoldKind } from './core/network.ts';
+import { RemotePool } from './pool.ts';
+import type { RasterImage } from './render.ts';
+
+const shared = typeof SharedArrayBuffer !== 'undefined' && globalThis.crossOriginIsolated === true;
+let pool: RemotePool | null = null;
+
+const engine = new Engine(
+  async (terrain) => {
+    if (!pool || !shared) return inlineExecutor(terrain);
+    await Promise.all(pool.remotes.map((r) => r.setTerrain(terrain.toParts())));
+    return pool.executor();
+  },
+  { shared, highs: { locateFile: () => new URL(highsWasmUrl, self.location.href).href } },
+);
+
+/** A tile to read: a file the user picked (read here, off the main thread) or a URL on this site. */
+export type TileSource = { name: string; file: Blob } | { name: string; url: string };
+
+let store: UseStore | null = null;
+const tileStore = () => (store ??= createStore('airshade-terrain', 'tiles'));
+
+async function readSource(src: TileSource): Promise<{ name: string; buffer: ArrayBuffer }> {
+  if ('file' in src) return { name: src.name, buffer: await src.file.arrayBuffer() };
+  const res = await fetch(src.url);
+  if (!res.ok) throw new InputError(src.url, `HTTP ${res.status}`, 'a GeoTIFF tile served with the app');
+  return { name: src.name, buffer: await res.arrayBuffer() };
+}
+
+export interface PngImage {
+  png: Blob;
+  width: number;
+  height: number;
+  corners: [number, number][];
+}
+
+async function toPng(img: RasterImage): Promise<PngImage> {
+  const canvas = new OffscreenCanvas(img.width, img.height);
+  const ctx = canvas.getContext('2d');
+  if (!ctx) throw new Error('engine: no 2D context for images');
+  ctx.putImageData(new ImageData(img.rgba, img.width, img.height), 0, 0);
+  const png = await canvas.convertToBlob({ type: 'image/png' });
+  return { png, width: img.width, height: img.height, corners: img.corners };
+}
+
+/** Thrown errors cross comlink as plain Errors: keep the name so the app can tell a cancel from a fault. */
+async function guard<T>(job: () => Promise<T> | T): Promise<T> {
+  try {
+    return await job();
+  } catch (e) {
+    if (e instanceof Error) {
+      const err = new Error(e.message);
+      err.name = e.name;
+      throw err;
+    }
+    throw e;
+  }
+}
+
+export const engineApi = {
+  /** Pool of floor workers, one MessagePort each (the app creates the workers). */
+  connectPool(ports: MessagePort[]): { size: number; shared: boolean } {
+    pool = new RemotePool(ports.map((p) => wrap<WorkerApi>(p) as Remote<WorkerApi>));
+    return { size: pool.size, shared };
+  },
+  /**
+   * Reads tiles (files the user picked, or URLs of the demo), decodes them into the terrain and, once they are
+   * accepted, keeps their bytes in IndexedDB so that a reload finds them. Nothing passes through the main thread.
+   */
+  loadTiles: (
+    sources: TileSource[],
+    replace: boolean,
+    scenario?: { input: unknown; display: string },
+    keep = true,
+  ) =>
+    guard(async () => {
+      const files = await Promise.all(sources.map(readSource));
+      const r = await engine.loadTiles(files, replace, scenario);
+      if (keep) {
+        const names = engine.tileNames();
+        for (const f of files) await set(f.name, f.buffer, tileStore());
+        for (const k of await keys(tileStore())) if (!names.includes(String(k))) await del(k, tileStore());
+      }
+      return r;
+    }),
+  /** The tiles kept in IndexedDB, by name (a reload): throws naming the first one missing. */
+  restoreTiles: (names: string[], scenario?: { input: unknown; display: string }) =>
+    guard(async () => {
+      const files: { name: string; buffer: ArrayBuffer }[] = [];
+      for (const name of names) {
+        const buffer = await get<ArrayBuffer>(name, tileStore());
+        if (!buffer) throw new InputError(`saved terrain tile ${name}`, 'nothing saved', 'the tile kept from the last visit');
+        files.push({ name, buffer });
+      }
+      return engine.loadTiles(files, true, scenario);
+    }),
+  tileNames: () => engine.tileNames(),
+  terrainInfo: () => engine.terrainInfo(),
+  relief: () =>
+    guard(async () => {
+      const r = engine.reliefImage();
+      return { ...(await toPng(r.image)), legend: r.legend, minM: r.minM, maxM: r.maxM };
+    }),
+  setScenario: (input: unknown, display: string) => guard(() => engine.setScenario(input, display)),
+  coverage: (sensors: SensorRef[], fls: number[] | undefined, progress?: ProgressFn) =>
+    guard(() => engine.coverage(sensors, fls, progress)),
+  setFailed: (siteIds: string[]) => guard(() => engine.setFailed(siteIds)),
+  outageTable: (sensors: SensorRef[] | undefined, progress?: ProgressFn) =>
+    guard(() => engine.outageTable(sensors, progress)),
+  plan: (req: PlanRequest, progress?: ProgressFn) => guard(() => engine.plan(req, progress)),
+  compare: (a: SensorRef[], b: SensorRef[], progress?: ProgressFn) =>
+    guard(() => engine.compare(a, b, progress)),
+  costOf: (refs: SensorRef[]) => engine.costOf(refs),
+  layerImage: (layer: ImageLayer, fl: number, kind: FoldKind) =>
+    guard(async () => {
+      const r = engine.layerImage(layer, fl, kind);
+      return { ...(await toPng(r.image)), legend: r.legend };
+    }),
+  probe: (lon: number, lat: number) => engine.probe(lon, lat),
+  setProbeLevel: (fl: number) => engine.setProbeLevel(fl),
+  levelGeoJson: (fl: number) => guard(() => engine.levelGeoJson(fl)),
+  compareGeoJson: (fl: number) => guard(() => engine.compareGeoJson(fl)),
+  diagram: (siteId: string, typeId: string, az: number, units: 'metric' | 'aviation') =>
+    guard(() => engine.diagram(siteId, typeId, az, units)),
+  cancel: () => engine.cancel(),
+};
+
+export type EngineApi = typeof engineApi;
+export { proxy };
+
+expose(engineApi);

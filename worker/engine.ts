@@ -1,0 +1,907 @@
+/**
+ * The web app's engine: one object, living in a Web Worker, that holds everything heavy — the terrain, the study
+ * (grid, ground, sensor models, volume cells), a cache of footprints per (site position, mast, sensor type) and
+ * the current network — and answers the app with small things: summaries, tables, images, GeoJSON text.
+ *
+ * Jobs that take long (coverage, plan, compare) report progress, can be cancelled between sites and within a
+ * site's sweep, and only ever replace the state when they finish, so quick calls (an outage toggle, a cursor
+ * read-out, an image) can run while a job is in flight. Moving a site changes its footprint key: the next run
+ * computes that site again and takes every other footprint from the cache.
+ *
+ * No DOM and no file access: the worker entry (engine-worker.ts) adds PNG encoding and the pool's transport, and
+ * the tests drive this class directly in Node with an inline executor.
+ */
+import { InputError } from '../shared/errors.ts';
+import { fileLocator, parseScenario, type Scenario } from '../shared/scenario.ts';
+import { flToMetres } from '../shared/units.ts';
+import { computeFootprints, type Candidate } from './core/coverage.ts';
+import { diagramData } from './core/diagram.ts';
+import { inlineExecutor, type Executor } from './core/floor.ts';
+import type { Footprint } from './core/footprint.ts';
+import { KINDS, Network, type FoldKind } from './core/network.ts';
+import { difference, outageTable, servedMasks, tally, type LevelLoss, type SiteLoss } from './core/outage.ts';
+import { solvePlan, type PlanInstance, type PlanOptions } from './core/plan.ts';
+import { Terrain, type DemTile } from './core/terrain.ts';
+import { rowAreasKm2, volumeStats, type VolumeLevelStats } from './core/volumes.ts';
+import { renderDiagramSvg } from './io/diagram-svg.ts';
+import { featureCollection, stringifyGeoJson } from './io/geojson.ts';
+import { readDemTile } from './io/geotiff-read.ts';
+import { levelLayers, maskLayer } from './io/layers.ts';
+import {
+  foldImage,
+  foldLegend,
+  floorImage,
+  GAP_COLOR,
+  LOSS_COLOR,
+  maskImage,
+  reliefImage,
+  type LegendStop,
+  type RasterImage,
+} from './render.ts';
+import {
+  buildDemand,
+  candidate,
+  coveredPoints,
+  openStudy,
+  terrainBounds,
+  type Study,
+  type StudyScenario,
+} from './study.ts';
+
+export interface SensorRef {
+  siteId: string;
+  typeId: string;
+}
+
+export type ProgressFn = (fraction: number, stage: string) => void;
+
+export class Cancelled extends Error {
+  constructor() {
+    super('cancelled');
+    this.name = 'Cancelled';
+  }
+}
+
+export interface TileSummary {
+  name: string;
+  width: number;
+  height: number;
+  west: number;
+  south: number;
+  east: number;
+  north: number;
+  /** Pixel size: arc seconds for lon/lat tiles, metres for projected ones. */
+  pixel: { x: number; y: number; unit: 'arcsec' | 'm' };
+  crs: string;
+  voidsFilled: number;
+  minM: number;
+  maxM: number;
+  warnings: string[];
+}
+
+export interface TerrainSummary {
+  tiles: TileSummary[];
+  bounds: { west: number; south: number; east: number; north: number };
+  width: number;
+  height: number;
+  /** Cells no tile covers (NaN in the mosaic). */
+  unknownCells: number;
+  shared: boolean;
+}
+
+export interface StudySummary {
+  grid: { width: number; height: number; west: number; north: number; cellDeg: number };
+  sites: number;
+  sensorTypes: number;
+  volumes: { id: string; name: string; cells: number }[];
+  /** Whether the network computed before still stands (no sensor of it changed). */
+  hasCoverage: boolean;
+}
+
+export interface CoverageSummary {
+  flightLevels: number[];
+  sensors: SensorRef[];
+  /** Footprints computed in this run, and taken from the cache. */
+  computed: number;
+  cached: number;
+  volumes: VolumeLevelStats[];
+  timingsMs: { footprints: number; network: number; total: number };
+}
+
+export interface OutageView {
+  failed: string[];
+  demandWeightLost: number;
+  areaKm2Lost: number;
+  byVolume: LevelLoss[];
+  /** Cells that lose coverage or their volume's requirement, at each level (km²). */
+  lostKm2ByLevel: number[];
+  ms: number;
+}
+
+export interface PlanRequest {
+  /** null: no budget (cheapest plan meeting every volume); undefined: the scenario's budget. */
+  budget?: number | null;
+  /** Sensors that must stay in (e.g. the existing ones). */
+  keep: SensorRef[];
+  excludedSites: string[];
+  timeLimitMs?: number;
+}
+
+export interface PlanSummary {
+  mode: 'cover' | 'budget';
+  cost: number;
+  lowerBound: number;
+  gapPct: number;
+  demandMet: boolean;
+  coveredWeight: number;
+  totalWeight: number;
+  method: string;
+  entries: { siteId: string; typeId: string; cost: number }[];
+  volumes: VolumeLevelStats[];
+  unmeetable: { kind: string; required: number; achievable: number; points: number }[];
+  log: string[];
+  stageMs: Record<string, number>;
+}
+
+export interface CompareSide {
+  sensors: SensorRef[];
+  cost: number;
+  volumes: VolumeLevelStats[];
+}
+
+export interface CompareSummary {
+  a: CompareSide;
+  b: CompareSide;
+  gained: { demandWeight: number; areaKm2: number; byVolume: LevelLoss[] };
+  lost: { demandWeight: number; areaKm2: number; byVolume: LevelLoss[] };
+}
+
+export interface ProbeResult {
+  lon: number;
+  lat: number;
+  groundM: number | null;
+  floorM: number | null;
+  fold: Record<FoldKind, number> | null;
+}
+
+export type ImageLayer = 'fold' | 'gap' | 'loss' | 'floor' | 'gained' | 'lost';
+
+export interface LayerImage {
+  image: RasterImage;
+  legend: LegendStop[];
+}
+
+interface Current {
+  network: Network;
+  sensors: SensorRef[];
+  flightLevels: number[];
+  altitudes: number[];
+  /** Per (volume|FL) served cells with every site up, and the any-kind fold with every site up. */
+  baseServed: Map<string, Uint8Array>;
+  baseAny: Uint16Array[];
+  failed: Set<string>;
+  /** Per level, the cells lost to the failed sites (empty when none are failed). */
+  lost: Uint8Array[];
+}
+
+const FOOTPRINT_CACHE_LIMIT = 600;
+
+/** A sensor as a cache key: everything its footprint depends on. */
+function footprintKey(c: Candidate, study: Study, weather: boolean): string {
+  const s = study.loaded.scenario;
+  const g = study.grid;
+  return JSON.stringify([
+    c.site.id,
+    c.site.lon,
+    c.site.lat,
+    c.site.mastHeightM,
+    c.model.spec,
+    c.rcsM2,
+    s.earth.kFactor,
+    s.maxRangeKm ?? 400,
+    weather,
+    [g.width, g.height, g.originX, g.originY, g.pixelX, g.pixelY],
+  ]);
+}
+
+export class Engine {
+  private tiles: DemTile[] = [];
+  private terrain: Terrain | null = null;
+  private terrainSummary: TerrainSummary | null = null;
+  private study: Study | null = null;
+  private readonly footprints = new Map<string, Footprint>();
+  private current: Current | null = null;
+  private compared: { gained: Map<string, Uint8Array>; lost: Map<string, Uint8Array> } | null = null;
+  private cancelFlag = 0;
+  private jobSeq = 0;
+
+  constructor(
+    /** Where floors run (a pool of workers); rebuilt when the terrain changes. */
+    private executorFor: (terrain: Terrain) => Promise<Executor> = async (t) => inlineExecutor(t),
+    private readonly options: { shared?: boolean; highs?: PlanOptions['highs'] } = {},
+  ) {}
+
+  private executor: Executor | null = null;
+
+  // ----------------------------------------------------------------------------------------------- terrain
+
+  /**
+   * Decodes GeoTIFF tiles and makes them the terrain (added to the loaded ones unless `replace`). All tiles are
+   * decoded, and the scenario (when given) checked against the new terrain, before anything changes: one bad
+   * file, or a site that would fall outside, leaves the current terrain as it was.
+   */
+  async loadTiles(
+    files: { name: string; buffer: ArrayBuffer }[],
+    replace: boolean,
+    scenario?: { input: unknown; display: string },
+  ): Promise<{ terrain: TerrainSummary; study: StudySummary | null }> {
+    if (files.length === 0) throw new InputError('terrain files', 'no files', 'one or more GeoTIFF DEM tiles');
+    const decoded: DemTile[] = [];
+    for (const f of files) decoded.push(await readDemTile(f.buffer, f.name));
+    const names = new Set(decoded.map((t) => t.name));
+    const tiles = replace ? decoded : [...this.tiles.filter((t) => !names.has(t.name)), ...decoded];
+    const terrain = Terrain.fromTiles(tiles, { shared: this.options.shared ?? false });
+    const study = scenario ? this.makeStudy(scenario.input, scenario.display, terrain) : null;
+    const executor = await this.executorFor(terrain);
+    this.tiles = tiles;
+    this.terrain = terrain;
+    this.executor = executor;
+    this.study = null;
+    this.current = null;
+    this.compared = null;
+    this.footprints.clear();
+    this.terrainSummary = summariseTerrain(terrain, tiles, this.options.shared ?? false);
+    return { terrain: this.terrainSummary, study: study ? this.adopt(study) : null };
+  }
+
+  /** Names of the tiles the terrain is made of. */
+  tileNames(): string[] {
+    return this.tiles.map((t) => t.name);
+  }
+
+  terrainInfo(): TerrainSummary | null {
+    return this.terrainSummary;
+  }
+
+  reliefImage(maxSide = 1400): LayerImage & { minM: number; maxM: number } {
+    const t = this.needTerrain();
+    const r = reliefImage(t, terrainBounds(t), maxSide);
+    return { image: r.image, legend: r.legend, minM: r.minM, maxM: r.maxM };
+  }
+
+  private needTerrain(): Terrain {
+    if (!this.terrain) throw new InputError('terrain', 'no terrain loaded', 'GeoTIFF DEM tiles (Ground panel)');
+    return this.terrain;
+  }
+
+  private needStudy(): Study {
+    if (!this.study) throw new InputError('scenario', 'no scenario on the terrain yet', 'a scenario (load one)');
+    return this.study;
+  }
+
+  // ---------------------------------------------------------------------------------------------- scenario
+
+  /**
+   * Validates the scenario (inline sites and sensor types) against the schema and the terrain and makes it the
+   * study. A bad scenario throws and leaves the previous one in place.
+   */
+  setScenario(input: unknown, display: string): StudySummary {
+    return this.adopt(this.makeStudy(input, display, this.needTerrain()));
+  }
+
+  private makeStudy(input: unknown, display: string, terrain: Terrain): Study {
+    const scenario: Scenario = parseScenario(input, display);
+    const loaded: StudyScenario = { file: display, scenario, locate: fileLocator(display) };
+    return openStudy(loaded, terrain, 0);
+  }
+
+  private adopt(study: Study): StudySummary {
+    const scenario = study.loaded.scenario;
+    this.study = study;
+    // The network stays only if every sensor of it still exists with the same footprint inputs: otherwise the
+    // app runs coverage again (and only what changed is computed).
+    if (this.current && !this.current.sensors.every((r) => this.cachedFootprint(r) !== null)) this.current = null;
+    else if (this.current) this.rebuildCurrent(this.current.sensors, this.current.flightLevels);
+    this.compared = null;
+    return {
+      grid: {
+        width: study.grid.width,
+        height: study.grid.height,
+        west: study.grid.originX,
+        north: study.grid.originY,
+        cellDeg: study.grid.pixelX,
+      },
+      sites: scenario.sites.length,
+      sensorTypes: scenario.sensorTypes.length,
+      volumes: scenario.volumes.map((v, i) => ({
+        id: v.id,
+        name: v.name,
+        cells: study.volumeMasks[i].reduce((a, b) => a + b, 0),
+      })),
+      hasCoverage: this.current !== null,
+    };
+  }
+
+  private candidateOf(r: SensorRef, where: string): Candidate {
+    return candidate(this.needStudy(), r.siteId, r.typeId, where);
+  }
+
+  private cachedFootprint(r: SensorRef): Footprint | null {
+    const study = this.needStudy();
+    let c: Candidate;
+    try {
+      c = this.candidateOf(r, 'sensors');
+    } catch {
+      return null;
+    }
+    return this.footprints.get(footprintKey(c, study, false)) ?? null;
+  }
+
+  // ------------------------------------------------------------------------------------------------- jobs
+
+  /** Stops the running job at its next check; its partial results stay in the footprint cache. */
+  cancel(): void {
+    this.cancelFlag = ++this.jobSeq;
+  }
+
+  private startJob(): () => void {
+    const mine = ++this.jobSeq;
+    return () => {
+      if (this.cancelFlag >= mine) throw new Cancelled();
+    };
+  }
+
+  /** Footprints of `refs` (in order), computing the missing ones site by site. */
+  private async footprintsOf(
+    refs: readonly SensorRef[],
+    check: () => void,
+    progress: ProgressFn | undefined,
+    share: [number, number] = [0, 1],
+  ): Promise<{ footprints: Footprint[]; computed: number }> {
+    const study = this.needStudy();
+    const exec = this.executor ?? inlineExecutor(this.needTerrain());
+    const s = study.loaded.scenario;
+    const cands = refs.map((r, i) => this.candidateOf(r, `sensors[${i}]`));
+    const keys = cands.map((c) => footprintKey(c, study, false));
+    const missing = new Map<string, { cand: Candidate; key: string }[]>();
+    cands.forEach((c, i) => {
+      if (this.footprints.has(keys[i])) return;
+      const list = missing.get(c.site.id) ?? [];
+      if (!list.some((x) => x.key === keys[i])) list.push({ cand: c, key: keys[i] });
+      missing.set(c.site.id, list);
+    });
+    const groups = [...missing.values()];
+    let done = 0;
+    const [from, span] = share;
+    for (const group of groups) {
+      check();
+      const r = await computeFootprints(
+        study.terrain,
+        {
+          grid: study.grid,
+          ground: study.ground,
+          candidates: group.map((g) => g.cand),
+          kFactor: s.earth.kFactor,
+          maxRangeM: (s.maxRangeKm ?? 400) * 1000,
+        },
+        exec,
+        {
+          onProgress: (f, stage) => {
+            check();
+            progress?.(from + (span * (done + f)) / groups.length, stage);
+          },
+        },
+      );
+      check();
+      r.footprints.forEach((fp, i) => this.remember(group[i].key, fp));
+      done++;
+      progress?.(from + (span * done) / groups.length, `${group[0].cand.site.name}: done`);
+    }
+    const footprints = keys.map((k) => this.footprints.get(k)!);
+    return { footprints, computed: groups.reduce((a, g) => a + g.length, 0) };
+  }
+
+  private remember(key: string, fp: Footprint): void {
+    this.footprints.delete(key);
+    this.footprints.set(key, fp);
+    while (this.footprints.size > FOOTPRINT_CACHE_LIMIT) {
+      const oldest = this.footprints.keys().next().value!;
+      this.footprints.delete(oldest);
+    }
+  }
+
+  private levelsOf(fls: readonly number[] | undefined): number[] {
+    const s = this.needStudy().loaded.scenario;
+    const list = [...new Set(fls && fls.length > 0 ? fls : s.flightLevels)].sort((a, b) => a - b);
+    for (const fl of list) {
+      if (!Number.isInteger(fl) || fl < 0 || fl > 600)
+        throw new InputError('flight levels', String(fl), 'whole flight levels from 0 to 600');
+    }
+    return list;
+  }
+
+  /** Coverage of a network: its footprints (cached where possible), the network and the volume statistics. */
+  async coverage(
+    sensors: SensorRef[],
+    flightLevels: number[] | undefined,
+    progress?: ProgressFn,
+  ): Promise<CoverageSummary> {
+    const check = this.startJob();
+    const t0 = performance.now();
+    const study = this.needStudy();
+    const fls = this.levelsOf(flightLevels);
+    const uniq = dedupe(sensors);
+    progress?.(0, 'footprints');
+    const { computed } = await this.footprintsOf(uniq, check, progress, [0, 0.9]);
+    check();
+    const t1 = performance.now();
+    progress?.(0.92, 'network');
+    const failed = this.current?.failed ?? new Set<string>();
+    this.rebuildCurrent(uniq, fls, failed);
+    const t2 = performance.now();
+    const s = study.loaded.scenario;
+    const volumes = volumeStats(this.current!.network, s.volumes, study.volumeMasks, fls, study.grid);
+    progress?.(1, 'done');
+    return {
+      flightLevels: fls,
+      sensors: uniq,
+      computed,
+      cached: uniq.length - computed,
+      volumes,
+      timingsMs: {
+        footprints: Math.round(t1 - t0),
+        network: Math.round(t2 - t1),
+        total: Math.round(performance.now() - t0),
+      },
+    };
+  }
+
+  private rebuildCurrent(sensors: SensorRef[], fls: number[], failed = this.current?.failed): void {
+    const study = this.needStudy();
+    const fps = sensors.map((r) => this.cachedFootprint(r)!);
+    const altitudes = fls.map(flToMetres);
+    const network = new Network(study.grid.width * study.grid.height, altitudes, fps);
+    const s = study.loaded.scenario;
+    const baseServed = servedMasks(network, s.volumes, study.volumeMasks, fls);
+    const baseAny = fls.map((_, f) => network.foldOf('any', f).slice());
+    this.current = {
+      network,
+      sensors,
+      flightLevels: fls,
+      altitudes,
+      baseServed,
+      baseAny,
+      failed: new Set(),
+      lost: fls.map(() => new Uint8Array(0)),
+    };
+    const keep = [...(failed ?? [])].filter((id) => network.siteIds().includes(id));
+    if (keep.length > 0) this.setFailed(keep);
+  }
+
+  private needCurrent(): Current {
+    if (!this.current) throw new InputError('coverage', 'no coverage computed yet', 'a coverage run first');
+    return this.current;
+  }
+
+  // ------------------------------------------------------------------------------------------------ outage
+
+  /** Fails exactly these sites (the others come back) and tallies what the network loses against all up. */
+  setFailed(siteIds: string[]): OutageView {
+    const t0 = performance.now();
+    const cur = this.needCurrent();
+    const study = this.needStudy();
+    const want = new Set(siteIds.filter((id) => cur.network.siteIds().includes(id)));
+    for (const id of cur.network.siteIds()) {
+      const on = !want.has(id);
+      if (cur.network.isSiteActive(id) !== on) cur.network.setSite(id, on);
+    }
+    cur.failed = want;
+    const s = study.loaded.scenario;
+    const cells = study.grid.width * study.grid.height;
+    if (want.size === 0) {
+      cur.lost = cur.flightLevels.map(() => new Uint8Array(0));
+      return {
+        failed: [],
+        demandWeightLost: 0,
+        areaKm2Lost: 0,
+        byVolume: [],
+        lostKm2ByLevel: cur.flightLevels.map(() => 0),
+        ms: performance.now() - t0,
+      };
+    }
+    const now = servedMasks(cur.network, s.volumes, study.volumeMasks, cur.flightLevels);
+    const diff = difference(cur.baseServed, now);
+    const t = tally(diff, s.volumes, study.grid);
+    const rows = rowAreasKm2(study.grid);
+    const W = study.grid.width;
+    const lostKm2ByLevel: number[] = [];
+    cur.lost = cur.flightLevels.map((fl, f) => {
+      const m = new Uint8Array(cells);
+      const any = cur.network.foldOf('any', f);
+      const base = cur.baseAny[f];
+      for (let i = 0; i < cells; i++) if (base[i] > 0 && any[i] === 0) m[i] = 1;
+      for (const [k, d] of diff) {
+        if (Number(k.split('|')[1]) !== fl) continue;
+        for (let i = 0; i < cells; i++) if (d[i]) m[i] = 1;
+      }
+      let a = 0;
+      for (let i = 0; i < cells; i++) if (m[i]) a += rows[(i / W) | 0];
+      lostKm2ByLevel.push(a);
+      return m;
+    });
+    return {
+      failed: [...want],
+      demandWeightLost: t.demandWeight,
+      areaKm2Lost: t.unionAreaKm2,
+      byVolume: t.byVolume,
+      lostKm2ByLevel,
+      ms: performance.now() - t0,
+    };
+  }
+
+  /** N−1: what each site's failure alone costs the given network (default: the current one). */
+  async outageTable(sensors?: SensorRef[], progress?: ProgressFn): Promise<SiteLoss[]> {
+    const check = this.startJob();
+    const study = this.needStudy();
+    const s = study.loaded.scenario;
+    const cur = this.current;
+    const refs = dedupe(sensors ?? cur?.sensors ?? []);
+    if (refs.length === 0) throw new InputError('sensors', 'an empty network', 'one or more sensors');
+    const fls = cur?.flightLevels ?? s.flightLevels;
+    const { footprints } = await this.footprintsOf(refs, check, progress, [0, 0.9]);
+    const network = new Network(study.grid.width * study.grid.height, fls.map(flToMetres), footprints);
+    progress?.(0.95, 'outage table');
+    return outageTable(network, s.volumes, study.volumeMasks, fls, study.grid);
+  }
+
+  // -------------------------------------------------------------------------------------------------- plan
+
+  async plan(req: PlanRequest, progress?: ProgressFn): Promise<PlanSummary> {
+    const check = this.startJob();
+    const study = this.needStudy();
+    const s = study.loaded.scenario;
+    const all: SensorRef[] = [];
+    for (const f of s.sites) {
+      if (req.excludedSites.includes(f.properties.id)) continue;
+      for (const t of f.properties.allowedTypes ?? s.sensorTypes.map((x) => x.id))
+        all.push({ siteId: f.properties.id, typeId: t });
+    }
+    for (const k of req.keep) {
+      if (req.excludedSites.includes(k.siteId))
+        throw new InputError('plan: keep', `site ${k.siteId}`, 'sensors kept on sites that are not excluded');
+      if (!all.some((r) => r.siteId === k.siteId && r.typeId === k.typeId)) all.push(k);
+    }
+    if (all.length === 0) throw new InputError('plan', 'no candidate sensors', 'sites that are not excluded');
+    const { footprints } = await this.footprintsOf(all, check, progress, [0, 0.6]);
+    check();
+    progress?.(0.6, 'demand points');
+    const fls = s.flightLevels;
+    const altitudes = fls.map(flToMetres);
+    const demand = buildDemand(study, fls);
+    const siteIndex = new Map(s.sites.map((f, i) => [f.properties.id, i]));
+    const budget = req.budget === undefined ? s.budget : (req.budget ?? undefined);
+    const inst: PlanInstance = {
+      sites: s.sites.map((f) => ({ id: f.properties.id, cost: f.properties.siteCost, existing: f.properties.existing })),
+      candidates: all.map((r, i) => {
+        const model = study.models.get(r.typeId)!;
+        return {
+          siteIndex: siteIndex.get(r.siteId)!,
+          typeId: r.typeId,
+          kind: model.kind,
+          cost: model.spec.cost,
+          covers: coveredPoints(footprints[i], demand, altitudes),
+        };
+      }),
+      points: demand.instancePoints,
+      forced: req.keep.map((k) => all.findIndex((r) => r.siteId === k.siteId && r.typeId === k.typeId)),
+      excludedSites: [],
+      ...(budget !== undefined ? { budget } : {}),
+      timeLimitMs: req.timeLimitMs ?? 8000,
+    };
+    check();
+    const result = await solvePlan(inst, {
+      onProgress: (f, stage) => progress?.(0.65 + 0.3 * f, stage),
+      lpMaxNonzeros: 2_000_000,
+      exactMaxCandidates: 1_000,
+      highs: this.options.highs,
+    });
+    const chosen = result.chosen.map((i) => all[i]);
+    const network = new Network(
+      study.grid.width * study.grid.height,
+      altitudes,
+      result.chosen.map((i) => footprints[i]),
+    );
+    progress?.(1, 'done');
+    return {
+      mode: result.mode,
+      cost: result.cost,
+      lowerBound: result.lowerBound,
+      gapPct: result.gapPct,
+      demandMet: result.demandMet,
+      coveredWeight: result.coveredWeight,
+      totalWeight: result.totalWeight,
+      method: result.method,
+      entries: chosen.map((r) => ({ ...r, cost: study.models.get(r.typeId)!.spec.cost })),
+      volumes: volumeStats(network, s.volumes, study.volumeMasks, fls, study.grid),
+      unmeetable: result.unmeetable.map((u) => ({
+        kind: u.kind,
+        required: u.required,
+        achievable: u.achievable,
+        points: u.points,
+      })),
+      log: result.log,
+      stageMs: result.stageMs,
+    };
+  }
+
+  // ----------------------------------------------------------------------------------------------- compare
+
+  /** Two networks side by side: statistics of each and what B gains and loses against A. */
+  async compare(a: SensorRef[], b: SensorRef[], progress?: ProgressFn): Promise<CompareSummary> {
+    const check = this.startJob();
+    const study = this.needStudy();
+    const s = study.loaded.scenario;
+    const fls = s.flightLevels;
+    const A = dedupe(a);
+    const B = dedupe(b);
+    const { footprints } = await this.footprintsOf([...A, ...B], check, progress, [0, 0.9]);
+    const cells = study.grid.width * study.grid.height;
+    const netA = new Network(cells, fls.map(flToMetres), footprints.slice(0, A.length));
+    const netB = new Network(cells, fls.map(flToMetres), footprints.slice(A.length));
+    const servedA = servedMasks(netA, s.volumes, study.volumeMasks, fls);
+    const servedB = servedMasks(netB, s.volumes, study.volumeMasks, fls);
+    const gained = difference(servedB, servedA);
+    const lost = difference(servedA, servedB);
+    this.compared = { gained, lost };
+    const g = tally(gained, s.volumes, study.grid);
+    const l = tally(lost, s.volumes, study.grid);
+    const side = (refs: SensorRef[], net: Network): CompareSide => ({
+      sensors: refs,
+      cost: this.costOf(refs),
+      volumes: volumeStats(net, s.volumes, study.volumeMasks, fls, study.grid),
+    });
+    progress?.(1, 'done');
+    return {
+      a: side(A, netA),
+      b: side(B, netB),
+      gained: { demandWeight: g.demandWeight, areaKm2: g.unionAreaKm2, byVolume: g.byVolume },
+      lost: { demandWeight: l.demandWeight, areaKm2: l.unionAreaKm2, byVolume: l.byVolume },
+    };
+  }
+
+  /** Site costs (once per new site; existing sites free) plus sensor costs. */
+  costOf(refs: SensorRef[]): number {
+    const study = this.needStudy();
+    const s = study.loaded.scenario;
+    let cost = 0;
+    const sites = new Set<string>();
+    for (const r of dedupe(refs)) {
+      cost += study.models.get(r.typeId)?.spec.cost ?? 0;
+      if (sites.has(r.siteId)) continue;
+      sites.add(r.siteId);
+      const f = s.sites.find((x) => x.properties.id === r.siteId);
+      if (f && !f.properties.existing) cost += f.properties.siteCost;
+    }
+    return cost;
+  }
+
+  // ------------------------------------------------------------------------------------------------ output
+
+  private levelIndex(fl: number): number {
+    const cur = this.needCurrent();
+    const f = cur.flightLevels.indexOf(fl);
+    if (f < 0)
+      throw new InputError('flight level', String(fl), `one of the computed levels (${cur.flightLevels.join(', ')})`);
+    return f;
+  }
+
+  /** One map layer as an image: folds of a kind, gaps, outage loss or the network floor, at a flight level. */
+  layerImage(layer: ImageLayer, fl: number, kind: FoldKind = 'any'): LayerImage {
+    const study = this.needStudy();
+    const grid = study.grid;
+    if (layer === 'gained' || layer === 'lost') {
+      const m = new Uint8Array(grid.width * grid.height);
+      const maps = this.compared?.[layer];
+      if (maps) for (const [k, d] of maps) if (Number(k.split('|')[1]) === fl) orInto(m, d);
+      const color = layer === 'lost' ? LOSS_COLOR : [72, 200, 120];
+      return { image: maskImage(grid, m, color), legend: [] };
+    }
+    const cur = this.needCurrent();
+    const f = this.levelIndex(fl);
+    if (layer === 'fold') return { image: foldImage(grid, cur.network.foldOf(kind, f)), legend: foldLegend() };
+    if (layer === 'loss') {
+      const m = cur.lost[f].length ? cur.lost[f] : new Uint8Array(grid.width * grid.height);
+      return { image: maskImage(grid, m, LOSS_COLOR), legend: [] };
+    }
+    if (layer === 'gap') return { image: maskImage(grid, this.gapMask(f), GAP_COLOR), legend: [] };
+    // The network floor, ramped from sea level to the highest computed level.
+    const floor = cur.network.networkFloor();
+    const r = floorImage(grid, floor, 0, flToMetres(cur.flightLevels[cur.flightLevels.length - 1]));
+    return { image: r.image, legend: r.legend };
+  }
+
+  private gapMask(f: number): Uint8Array {
+    const study = this.needStudy();
+    const cur = this.needCurrent();
+    const fl = cur.flightLevels[f];
+    const s = study.loaded.scenario;
+    const cells = study.grid.width * study.grid.height;
+    const m = new Uint8Array(cells);
+    const any = cur.network.foldOf('any', f);
+    const pri = cur.network.foldOf('primary', f);
+    const sec = cur.network.foldOf('secondary', f);
+    s.volumes.forEach((v, vi) => {
+      if (fl < v.flMin || fl > v.flMax) return;
+      const vm = study.volumeMasks[vi];
+      const rAny = Math.max(1, v.requiredFold.any ?? 0);
+      const rPri = v.requiredFold.primary ?? 0;
+      const rSec = v.requiredFold.secondary ?? 0;
+      for (let i = 0; i < cells; i++)
+        if (vm[i] && !(any[i] >= rAny && pri[i] >= rPri && sec[i] >= rSec)) m[i] = 1;
+    });
+    return m;
+  }
+
+  /** Ground, network floor and folds under a point (the cursor read-out). */
+  probe(lon: number, lat: number): ProbeResult {
+    const out: ProbeResult = { lon, lat, groundM: null, floorM: null, fold: null };
+    if (!this.terrain) return out;
+    const g = this.terrain.sampleLonLat(lon, lat);
+    out.groundM = g === g ? g : null;
+    const study = this.study;
+    const cur = this.current;
+    if (!study || !cur) return out;
+    const grid = study.grid;
+    const c = Math.floor((lon - grid.originX) / grid.pixelX);
+    const r = Math.floor((lat - grid.originY) / grid.pixelY);
+    if (c < 0 || r < 0 || c >= grid.width || r >= grid.height) return out;
+    const i = r * grid.width + c;
+    let floorM = NaN;
+    for (let f = 0; f < cur.flightLevels.length; f++) {
+      if (cur.network.foldOf('any', f)[i] > 0) {
+        floorM = cur.altitudes[f];
+        break;
+      }
+    }
+    out.floorM = floorM === floorM ? floorM : null;
+    out.fold = Object.fromEntries(
+      KINDS.map((k) => [k, cur.flightLevels.length ? cur.network.foldOf(k, this.probeLevel(cur))[i] : 0]),
+    ) as Record<FoldKind, number>;
+    return out;
+  }
+
+  private probeFl: number | null = null;
+
+  /** The level the cursor read-out reports folds at (the one shown on the map). */
+  setProbeLevel(fl: number): void {
+    this.probeFl = fl;
+  }
+
+  private probeLevel(cur: Current): number {
+    const f = this.probeFl === null ? -1 : cur.flightLevels.indexOf(this.probeFl);
+    return f >= 0 ? f : 0;
+  }
+
+  /** The coverage layers of one flight level as GeoJSON text (the same features the CLI writes). */
+  levelGeoJson(fl: number): string {
+    const study = this.needStudy();
+    const cur = this.needCurrent();
+    const f = this.levelIndex(fl);
+    const s = study.loaded.scenario;
+    const fc = levelLayers(cur.network, f, fl, study.grid, s.volumes, study.volumeMasks);
+    if (cur.failed.size > 0 && cur.lost[f].length) {
+      const lost = maskLayer(cur.lost[f], study.grid, {
+        flightLevel: fl,
+        fold: 0,
+        kind: 'any',
+        siteIds: [...cur.failed],
+        layer: 'lost',
+      });
+      if (lost) fc.features.push(lost);
+    }
+    return stringifyGeoJson(fc);
+  }
+
+  /** What B gains and loses against A at one level, as GeoJSON text. */
+  compareGeoJson(fl: number): string {
+    const study = this.needStudy();
+    if (!this.compared) throw new InputError('compare', 'no comparison yet', 'two layouts compared first');
+    const features = [];
+    for (const layer of ['gained', 'lost'] as const) {
+      for (const [k, m] of this.compared[layer]) {
+        const [volumeId, flText] = k.split('|');
+        if (Number(flText) !== fl) continue;
+        const f = maskLayer(m, study.grid, { flightLevel: fl, fold: 0, kind: 'any', siteIds: [], layer, volumeId });
+        if (f) features.push(f);
+      }
+    }
+    return stringifyGeoJson(featureCollection(features, { flightLevel: fl }));
+  }
+
+  /** A vertical coverage diagram (SVG text) along one azimuth from a site, for one sensor type. */
+  diagram(siteId: string, typeId: string, azimuthDeg: number, units: 'metric' | 'aviation'): string {
+    const study = this.needStudy();
+    const c = this.candidateOf({ siteId, typeId }, 'diagram');
+    const s = study.loaded.scenario;
+    const data = diagramData(
+      study.terrain,
+      { lon: c.site.lon, lat: c.site.lat, mastM: c.site.mastHeightM },
+      c.model,
+      {
+        azimuthDeg: ((azimuthDeg % 360) + 360) % 360,
+        kFactor: s.earth.kFactor,
+        rcsM2: c.rcsM2,
+        flightLevels: s.flightLevels,
+      },
+    );
+    const title = `${c.site.name} — ${c.model.spec.name} — azimuth ${data.azimuthDeg.toFixed(1)}°`;
+    return renderDiagramSvg(data, { title, units });
+  }
+
+  /** How many footprints the cache holds (for the status line). */
+  cachedFootprints(): number {
+    return this.footprints.size;
+  }
+}
+
+function dedupe(refs: readonly SensorRef[]): SensorRef[] {
+  const seen = new Set<string>();
+  const out: SensorRef[] = [];
+  for (const r of refs) {
+    const k = `${r.siteId}\u0000${r.typeId}`;
+    if (seen.has(k)) continue;
+    seen.add(k);
+    out.push({ siteId: r.siteId, typeId: r.typeId });
+  }
+  return out;
+}
+
+function orInto(m: Uint8Array, d: Uint8Array): void {
+  for (let i = 0; i < m.length; i++) if (d[i]) m[i] = 1;
+}
+
+function summariseTerrain(terrain: Terrain, tiles: DemTile[], shared: boolean): TerrainSummary {
+  let unknown = 0;
+  for (let i = 0; i < terrain.data.length; i++) if (terrain.data[i] !== terrain.data[i]) unknown++;
+  return {
+    tiles: tiles.map((t) => {
+      const geographic = t.geo.crs.kind === 'geographic';
+      const b = geographic
+        ? {
+            west: t.geo.originX,
+            east: t.geo.originX + t.geo.width * t.geo.pixelX,
+            north: t.geo.originY,
+            south: t.geo.originY + t.geo.height * t.geo.pixelY,
+          }
+        : terrainBounds(Terrain.fromTiles([t]));
+      let minM = Infinity;
+      let maxM = -Infinity;
+      for (let i = 0; i < t.data.length; i++) {
+        const v = t.data[i];
+        if (v < minM) minM = v;
+        if (v > maxM) maxM = v;
+      }
+      return {
+        name: t.name,
+        width: t.geo.width,
+        height: t.geo.height,
+        ...b,
+        pixel: {
+          x: Math.abs(t.geo.pixelX) * (geographic ? 3600 : 1),
+          y: Math.abs(t.geo.pixelY) * (geographic ? 3600 : 1),
+          unit: geographic ? 'arcsec' : 'm',
+        },
+        crs: geographic ? 'lon/lat (WGS 84)' : 'projected',
+        voidsFilled: t.voidsFilled,
+        minM,
+        maxM,
+        warnings: t.warnings,
+      };
+    }),
+    bounds: terrainBounds(terrain),
+    width: terrain.geo.width,
+    height: terrain.geo.height,
+    unknownCells: unknown,
+    shared,
+  };
+}
