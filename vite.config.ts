@@ -16,7 +16,9 @@ export default defineConfig({
   worker: { format: 'es' },
   resolve: {
     // csv-parse's default entry expects Node's Buffer; its browser build carries its own.
-    alias: { 'csv-parse/sync': fileURLToPath(new URL('./node_modules/csv-parse/dist/esm/sync.js', import.meta.url)) },
+    alias: {
+      'csv-parse/sync': fileURLToPath(new URL('./node_modules/csv-parse/dist/esm/sync.js', import.meta.url)),
+    },
   },
   server: { headers: isolation },
   preview: { headers: isolation },

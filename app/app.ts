@@ -45,6 +45,10 @@ export interface Metrics {
   coverageMs: number[];
   outageRedrawMs: number[];
   bootMs: number;
+  /** First visit: fetching the demo tiles, decoding them into the terrain (with the study), drawing the relief. */
+  demoMs?: { read: number; decode: number; relief: number };
+  /** From the page's start to the map's first frame (the app shell), ms. */
+  shellMs?: number;
 }
 
 export class App {
@@ -96,8 +100,10 @@ export class App {
     this.poolSize = handle.poolSize;
     this.shared = handle.shared;
     await this.map.ready;
+    this.metrics.shellMs = performance.now();
     await this.restoreOrDemo();
     this.metrics.bootMs = performance.now() - t0;
+    void t0;
     this.el.root.dataset.ready = 'true';
   }
 
@@ -106,7 +112,11 @@ export class App {
   private buildShell(root: HTMLElement): void {
     const units = h(
       'select',
-      { id: 'units', 'aria-label': 'Units', onchange: () => this.setUnits(units.value as WorkState['units']) },
+      {
+        id: 'units',
+        'aria-label': 'Units',
+        onchange: () => this.setUnits(units.value as WorkState['units']),
+      },
       h('option', { value: 'aviation' }, 'NM · ft · FL'),
       h('option', { value: 'metric' }, 'km · m · FL'),
     );
@@ -142,7 +152,11 @@ export class App {
     const progress = h('progress', { id: 'progress', max: 1, value: 0 });
     this.el.progress = progress;
     this.el.stage = h('span', { id: 'stage' });
-    this.el.cancel = h('button', { id: 'cancel', onclick: () => void this.engine.cancel(), disabled: true }, 'Cancel');
+    this.el.cancel = h(
+      'button',
+      { id: 'cancel', onclick: () => void this.engine.cancel(), disabled: true },
+      'Cancel',
+    );
     this.el.readout = h('span', { id: 'readout' }, 'Move the cursor over the map');
     this.el.message = h('div', { id: 'message', role: 'status', 'aria-live': 'polite' });
     this.el.panel = h('div', { id: 'panel' });
@@ -234,7 +248,11 @@ export class App {
         'div',
         { className: `msg ${kind}`, role: kind === 'error' ? 'alert' : 'status' },
         ...list.map((l) => h('div', {}, l)),
-        h('button', { className: 'close', 'aria-label': 'Dismiss', onclick: () => clear(this.el.message) }, '×'),
+        h(
+          'button',
+          { className: 'close', 'aria-label': 'Dismiss', onclick: () => clear(this.el.message) },
+          '×',
+        ),
       ),
     );
   }
@@ -282,7 +300,9 @@ export class App {
       const r = await this.engine.loadTiles(sources, true, { input: state.doc, display: state.source });
       this.adoptLoaded(state, r.terrain, r.study!);
       this.save();
+      const t = performance.now();
       await this.afterTerrain();
+      this.metrics.demoMs = { ...r.timingsMs, relief: Math.round(performance.now() - t) };
     });
   }
 
@@ -298,7 +318,8 @@ export class App {
     (this.el.units as HTMLSelectElement).value = state.units;
     this.map.setScaleUnits(state.units);
     this.map.applySettings(state.view.layers);
-    for (const id of ['floor', 'fold', 'gap', 'loss', 'compare', 'compare-lost'] as const) void this.map.setImage(id, null);
+    for (const id of ['floor', 'fold', 'gap', 'loss', 'compare', 'compare-lost'] as const)
+      void this.map.setImage(id, null);
     this.refreshVectors();
     this.render();
   }
@@ -317,6 +338,7 @@ export class App {
       void (async () => {
         try {
           const tiles = await this.engine.tileNames();
+          await this.engine.tilesKept();
           await idbSet(SAVE_KEY, { state: this.state, tiles, savedAt: new Date().toISOString() });
           this.el.root.dataset.saved = String(Date.now());
         } catch (e) {
@@ -379,7 +401,10 @@ export class App {
   // ------------------------------------------------------------------------------------------------- jobs
 
   /** Runs a long job with the progress bar and the cancel button; one at a time (a new one cancels the old). */
-  async job<T>(label: string, run: (progress: (f: number, stage: string) => void) => Promise<T>): Promise<T | null> {
+  async job<T>(
+    label: string,
+    run: (progress: (f: number, stage: string) => void) => Promise<T>,
+  ): Promise<T | null> {
     const progress = (f: number, stage: string) => {
       (this.el.progress as HTMLProgressElement).value = f;
       this.el.stage.textContent = `${label}: ${stage} (${Math.round(f * 100)} %)`;
@@ -405,7 +430,10 @@ export class App {
 
   async runCoverage(): Promise<void> {
     if (this.state.network.length === 0) {
-      this.say('error', 'coverage: found an empty network; expected one or more sensors (tick them in Sites)');
+      this.say(
+        'error',
+        'coverage: found an empty network; expected one or more sensors (tick them in Sites)',
+      );
       return;
     }
     const t0 = performance.now();
@@ -419,7 +447,10 @@ export class App {
       this.outage = null;
       if (!r.flightLevels.includes(this.state.view.fl))
         this.state = { ...this.state, view: { ...this.state.view, fl: r.flightLevels[0] } };
-      if (this.state.failed.length > 0) this.outage = await this.engine.setFailed(this.state.failed);
+      if (this.state.failed.length > 0) {
+        await this.engine.setFailed(this.state.failed);
+        this.outage = await this.engine.outageTally();
+      }
       progress(0.97, 'drawing');
       await this.refreshImages();
       this.metrics.coverageMs.push(performance.now() - t0);
@@ -467,7 +498,11 @@ export class App {
         h(
           'div',
           { className: 'legend-block' },
-          h('strong', {}, `Sites seeing each cell at ${formatFl(fl)} (${kind === 'any' ? 'any kind' : kind})`),
+          h(
+            'strong',
+            {},
+            `Sites seeing each cell at ${formatFl(fl)} (${kind === 'any' ? 'any kind' : kind})`,
+          ),
           h(
             'div',
             { className: 'swatches' },
@@ -476,7 +511,9 @@ export class App {
             ),
           ),
           layers.gap.on ? h('span', { className: 'swatch gap' }, h('i', {}), 'gap in a volume') : null,
-          layers.loss.on && this.state.failed.length ? h('span', { className: 'swatch loss' }, h('i', {}), 'lost by the outage') : null,
+          layers.loss.on && this.state.failed.length
+            ? h('span', { className: 'swatch loss' }, h('i', {}), 'lost by the outage')
+            : null,
         ),
       );
     }
@@ -525,16 +562,20 @@ export class App {
     const t0 = performance.now();
     const next = stateSetFailed(this.state, siteId, !this.state.failed.includes(siteId));
     try {
-      this.outage = await this.engine.setFailed(next.failed);
+      await this.engine.setFailed(next.failed);
+      this.state = next;
+      this.refreshVectors();
+      await this.refreshImages(['fold', 'gap', 'loss']);
+      // Drawn once the frame with the new images is painted (a task queued from the next animation frame runs
+      // after that frame's paint); the figures for the panel come after.
+      await new Promise<void>((res) => requestAnimationFrame(() => setTimeout(res, 0)));
+      this.metrics.outageRedrawMs.push(performance.now() - t0);
+      this.outage = await this.engine.outageTally();
     } catch (e) {
       this.fail(e);
       return;
     }
     this.setView(next);
-    this.refreshVectors();
-    await this.refreshImages(['fold', 'gap', 'loss']);
-    await new Promise<void>((res) => this.map.map.once('idle', () => res()));
-    this.metrics.outageRedrawMs.push(performance.now() - t0);
     this.el.root.dataset.outage = String(this.metrics.outageRedrawMs.length);
   }
 
@@ -577,7 +618,8 @@ export class App {
   private async addSiteAt(lon: number, lat: number): Promise<void> {
     try {
       const r = addSite(this.state, lon, lat);
-      if (await this.commit(r.state)) this.say('info', `Added ${r.id} at ${fmtLonLat(lon, lat)}; edit it in the table.`);
+      if (await this.commit(r.state))
+        this.say('info', `Added ${r.id} at ${fmtLonLat(lon, lat)}; edit it in the table.`);
     } catch (e) {
       this.fail(e);
     }
@@ -587,7 +629,10 @@ export class App {
     const pick = this.diagramPick;
     const site = pick && this.state.doc.sites.features.find((f) => f.properties.id === pick.siteId);
     if (!site) {
-      this.say('error', 'profile: found no site picked; expected a site (choose one in the panel or click it)');
+      this.say(
+        'error',
+        'profile: found no site picked; expected a site (choose one in the panel or click it)',
+      );
       return;
     }
     const [slon, slat] = site.geometry.coordinates;
@@ -601,7 +646,7 @@ export class App {
       const x =
         Math.cos(slat * toRad) * Math.sin(lat * toRad) -
         Math.sin(slat * toRad) * Math.cos(lat * toRad) * Math.cos((lon - slon) * toRad);
-      const az = ((Math.atan2(y, x) / toRad) % 360 + 360) % 360;
+      const az = (((Math.atan2(y, x) / toRad) % 360) + 360) % 360;
       void this.drawDiagram(Math.round(az * 10) / 10);
     }
   }
@@ -633,9 +678,14 @@ export class App {
         this.probeNext = null;
         const r = await this.engine.probe(x, y);
         const u = this.state?.units ?? 'aviation';
-        const parts = [fmtLonLat(x, y), `ground ${r.groundM === null ? 'no data' : fmtAltitude(r.groundM, u)}`];
+        const parts = [
+          fmtLonLat(x, y),
+          `ground ${r.groundM === null ? 'no data' : fmtAltitude(r.groundM, u)}`,
+        ];
         if (this.coverage) {
-          parts.push(`network floor ${r.floorM === null ? 'not seen at computed levels' : fmtAltitude(r.floorM, u)}`);
+          parts.push(
+            `network floor ${r.floorM === null ? 'not seen at computed levels' : fmtAltitude(r.floorM, u)}`,
+          );
           if (r.fold)
             parts.push(
               `sites at ${formatFl(this.state.view.fl)}: ${r.fold.any} (PSR ${r.fold.primary}, SSR ${r.fold.secondary})`,

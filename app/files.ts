@@ -41,7 +41,8 @@ export async function readPickedScenario(files: File[]): Promise<PickedScenario>
   for (const [name, text] of texts) {
     if (!/\.json$/i.test(name)) continue;
     const json = parseJsonText(text, name, 'a scenario file (JSON)');
-    if (json && typeof json === 'object' && !Array.isArray(json) && 'terrain' in json) candidates.push({ name, json });
+    if (json && typeof json === 'object' && !Array.isArray(json) && 'terrain' in json)
+      candidates.push({ name, json });
   }
   if (candidates.length !== 1) {
     throw new InputError(
@@ -54,7 +55,11 @@ export async function readPickedScenario(files: File[]): Promise<PickedScenario>
   const { scenario } = assembleScenario(json, name, (field, ref, what) => {
     const text = texts.get(baseName(ref));
     if (text === undefined)
-      throw new InputError(`${name}: ${field}`, `${showValue(ref)}, a file not picked with the scenario`, what);
+      throw new InputError(
+        `${name}: ${field}`,
+        `${showValue(ref)}, a file not picked with the scenario`,
+        what,
+      );
     return { display: baseName(ref), text };
   });
   const byName = new Map(files.filter((f) => isTiff(f.name)).map((f) => [f.name, f]));
@@ -69,7 +74,9 @@ export async function readPickedScenario(files: File[]): Promise<PickedScenario>
 }
 
 /** The demo (or any scenario served with the app): the scenario and the files it names, fetched. */
-export async function fetchScenario(url: string): Promise<{ scenario: Scenario; tileUrls: { name: string; url: string }[] }> {
+export async function fetchScenario(
+  url: string,
+): Promise<{ scenario: Scenario; tileUrls: { name: string; url: string }[] }> {
   const base = new URL(url, location.href);
   const get = async (u: URL, what: string) => {
     const res = await fetch(u);
@@ -83,10 +90,14 @@ export async function fetchScenario(url: string): Promise<{ scenario: Scenario; 
   if (json && typeof json === 'object') {
     for (const field of ['sensorTypes', 'sites'] as const) {
       const ref = (json as Record<string, unknown>)[field];
-      if (typeof ref === 'string') refs.set(ref, await get(new URL(ref, base), `the file the scenario names in ${field}`));
+      if (typeof ref === 'string')
+        refs.set(ref, await get(new URL(ref, base), `the file the scenario names in ${field}`));
     }
   }
-  const { scenario } = assembleScenario(json, display, (_field, ref) => ({ display: ref, text: refs.get(ref)! }));
+  const { scenario } = assembleScenario(json, display, (_field, ref) => ({
+    display: ref,
+    text: refs.get(ref)!,
+  }));
   const tileUrls = scenario.terrain.files.map((f) => ({ name: baseName(f), url: new URL(f, base).href }));
   return { scenario, tileUrls };
 }

@@ -13,7 +13,9 @@ import type { LayerId, LayerSetting } from './state.ts';
 maplibregl.setWorkerUrl(workerUrl);
 
 export interface MapImage {
-  png: Blob;
+  bitmap: ImageBitmap;
+  width: number;
+  height: number;
   corners: [number, number][];
 }
 
@@ -53,7 +55,7 @@ const STYLE: StyleSpecification = {
 
 export class MapView {
   readonly map: maplibregl.Map;
-  private readonly images = new Map<string, { el: HTMLImageElement; url: string; corners: [number, number][] }>();
+  private readonly images = new Map<string, { el: HTMLCanvasElement; corners: [number, number][] }>();
   private readonly overlay: HTMLElement;
   private readonly markers = new Map<string, { marker: maplibregl.Marker; el: HTMLElement }>();
   private settings: Partial<Record<LayerId, LayerSetting>> = {};
@@ -90,7 +92,8 @@ export class MapView {
     const scaleEl = container.querySelector('.maplibregl-ctrl-scale');
     if (scaleEl) {
       new MutationObserver(() => {
-        if (scaleEl.textContent?.endsWith(' nm')) scaleEl.textContent = scaleEl.textContent.replace(/ nm$/, ' NM');
+        const t = scaleEl.textContent ?? '';
+        if (/\snm$/.test(t)) scaleEl.textContent = t.replace(/\snm$/, '\u00a0NM');
       }).observe(scaleEl, { childList: true, characterData: true, subtree: true });
     }
     this.ready = new Promise((res) => this.map.once('load', () => res()));
@@ -112,7 +115,12 @@ export class MapView {
     const empty = { type: 'FeatureCollection' as const, features: [] };
     m.addSource('volumes', { type: 'geojson', data: empty });
     m.addLayer(
-      { id: 'volumes-fill', type: 'fill', source: 'volumes', paint: { 'fill-color': '#2a3f5f', 'fill-opacity': 0.06 } },
+      {
+        id: 'volumes-fill',
+        type: 'fill',
+        source: 'volumes',
+        paint: { 'fill-color': '#2a3f5f', 'fill-opacity': 0.06 },
+      },
       this.beforeOf('volumes-fill'),
     );
     m.addLayer(
@@ -152,7 +160,7 @@ export class MapView {
   }
 
   /**
-   * Shows (or replaces) an image layer; null removes it. Raster layers are <img> elements stacked under the map's
+   * Shows (or replaces) an image layer; null removes it. Raster layers are <canvas> elements stacked under the map's
    * (transparent) canvas and moved with the map by a CSS transform, so the browser's compositor draws them: with
    * software WebGL (no GPU, as on the machines this is tested on) every WebGL raster layer cost the main thread
    * 50–90 ms per frame, while vector layers and markers cost next to nothing.
@@ -161,28 +169,18 @@ export class MapView {
     const old = this.images.get(id);
     if (!img) {
       old?.el.remove();
-      if (old) URL.revokeObjectURL(old.url);
       this.images.delete(id);
       return;
     }
-    const url = URL.createObjectURL(img.png);
-    const el = document.createElement('img');
+    const el = old?.el ?? document.createElement('canvas');
     el.className = `overlay overlay-${id}`;
-    el.alt = '';
-    el.decoding = 'async';
-    el.src = url;
-    try {
-      await el.decode();
-    } catch {
-      // A blob that does not decode leaves the old image in place.
-      URL.revokeObjectURL(url);
-      return;
-    }
+    el.width = img.width;
+    el.height = img.height;
+    // The bitmap was made (and transferred) by the engine worker: handing it over copies nothing.
+    el.getContext('bitmaprenderer')!.transferFromImageBitmap(img.bitmap);
     el.style.zIndex = String(ORDER.indexOf(id) + 1);
-    this.overlay.appendChild(el);
-    this.images.set(id, { el, url, corners: img.corners });
-    old?.el.remove();
-    if (old) URL.revokeObjectURL(old.url);
+    if (!old) this.overlay.appendChild(el);
+    this.images.set(id, { el, corners: img.corners });
     this.place();
     this.applySettings();
   }
@@ -192,8 +190,8 @@ export class MapView {
     for (const { el, corners } of this.images.values()) {
       const tl = this.map.project(corners[0] as [number, number]);
       const br = this.map.project(corners[2] as [number, number]);
-      const w = el.naturalWidth || 1;
-      const hgt = el.naturalHeight || 1;
+      const w = el.width || 1;
+      const hgt = el.height || 1;
       el.style.transform = `translate(${tl.x}px, ${tl.y}px) scale(${(br.x - tl.x) / w}, ${(br.y - tl.y) / hgt})`;
     }
   }
@@ -204,7 +202,11 @@ export class MapView {
     const vis = (layer: string, s: LayerSetting | undefined, prop: string) => {
       if (!s || !m.getLayer(layer)) return;
       m.setLayoutProperty(layer, 'visibility', s.on ? 'visible' : 'none');
-      m.setPaintProperty(layer, prop as 'raster-opacity', prop === 'fill-opacity' ? 0.06 * s.opacity : s.opacity);
+      m.setPaintProperty(
+        layer,
+        prop as 'raster-opacity',
+        prop === 'fill-opacity' ? 0.06 * s.opacity : s.opacity,
+      );
     };
     const img = (id: ImageLayerId, set: LayerSetting | undefined) => {
       const el = this.images.get(id)?.el;
@@ -228,7 +230,9 @@ export class MapView {
   setAzimuth(line: [number, number][] | null): void {
     (this.map.getSource('azimuth') as GeoJSONSource | undefined)?.setData({
       type: 'FeatureCollection',
-      features: line ? [{ type: 'Feature', properties: {}, geometry: { type: 'LineString', coordinates: line } }] : [],
+      features: line
+        ? [{ type: 'Feature', properties: {}, geometry: { type: 'LineString', coordinates: line } }]
+        : [],
     });
   }
 
@@ -244,7 +248,10 @@ export class MapView {
         properties: {},
         geometry: { type: 'LineString', coordinates: [...points, points[0]] },
       });
-    (this.map.getSource('draft') as GeoJSONSource | undefined)?.setData({ type: 'FeatureCollection', features });
+    (this.map.getSource('draft') as GeoJSONSource | undefined)?.setData({
+      type: 'FeatureCollection',
+      features,
+    });
   }
 
   /** Markers for the sites: existing (square), candidate (ring), in the network (filled), failed (struck). */
@@ -271,7 +278,9 @@ export class MapView {
           e.stopPropagation();
           this.handlers.onSiteClick(s.id);
         });
-        const marker = new maplibregl.Marker({ element: el, draggable }).setLngLat([s.lon, s.lat]).addTo(this.map);
+        const marker = new maplibregl.Marker({ element: el, draggable })
+          .setLngLat([s.lon, s.lat])
+          .addTo(this.map);
         marker.on('dragend', () => {
           const p = marker.getLngLat();
           this.handlers.onSiteDrag(s.id, p.lng, p.lat);

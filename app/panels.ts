@@ -120,7 +120,13 @@ function section(title: string, ...children: (Node | string | null | false)[]): 
   return h('section', { className: 'block' }, h('h3', {}, title), ...children);
 }
 
-function filePicker(id: string, label: string, accept: string, multiple: boolean, onFiles: (f: File[]) => void) {
+function filePicker(
+  id: string,
+  label: string,
+  accept: string,
+  multiple: boolean,
+  onFiles: (f: File[]) => void,
+) {
   const input = h('input', { type: 'file', id, accept, multiple });
   input.addEventListener('change', () => {
     const files = [...(input.files ?? [])];
@@ -153,13 +159,18 @@ function dropZone(text: string, onFiles: (f: File[]) => void): HTMLElement {
 export async function loadTerrainFiles(app: App, files: File[], replace: boolean): Promise<void> {
   const tiffs = files.filter((f) => isTiff(f.name));
   if (tiffs.length === 0) {
-    app.say('error', `${files.map((f) => f.name).join(', ')}: found no .tif file; expected GeoTIFF DEM tiles`);
+    app.say(
+      'error',
+      `${files.map((f) => f.name).join(', ')}: found no .tif file; expected GeoTIFF DEM tiles`,
+    );
     return;
   }
   await app.job('Terrain', async (progress) => {
     progress(0.1, `reading ${tiffs.length} tile${tiffs.length > 1 ? 's' : ''}`);
     // The scenario names its terrain files: follow the loaded tiles.
-    const names = replace ? tiffs.map((f) => f.name) : [...new Set([...(await app.engine.tileNames()), ...tiffs.map((f) => f.name)])];
+    const names = replace
+      ? tiffs.map((f) => f.name)
+      : [...new Set([...(await app.engine.tileNames()), ...tiffs.map((f) => f.name)])];
     const doc = { ...app.state.doc, terrain: { files: names } };
     const r = await app.engine.loadTiles(
       tiffs.map((f) => ({ name: f.name, file: f })),
@@ -181,7 +192,11 @@ function groundPanel(app: App): HTMLElement {
     'div',
     {},
     h('h2', {}, 'Ground'),
-    h('p', { className: 'hint' }, 'GeoTIFF elevation tiles (DEM), metres above mean sea level. Voids are filled from their neighbours and counted.'),
+    h(
+      'p',
+      { className: 'hint' },
+      'GeoTIFF elevation tiles (DEM), metres above mean sea level. Voids are filled from their neighbours and counted.',
+    ),
     filePicker('terrain-files', 'Load tiles', '.tif,.tiff,image/tiff', true, onFiles),
     h('label', {}, replace, ' replace the loaded tiles (otherwise add to them)'),
     dropZone('…or drop .tif files here', onFiles),
@@ -216,7 +231,8 @@ function sitesPanel(app: App): HTMLElement {
   const s = app.state;
   const u = s.units;
   const types = s.doc.sensorTypes;
-  const inNet = (siteId: string, typeId: string) => s.network.some((r) => r.siteId === siteId && r.typeId === typeId);
+  const inNet = (siteId: string, typeId: string) =>
+    s.network.some((r) => r.siteId === siteId && r.typeId === typeId);
   const addBtn = h(
     'button',
     {
@@ -227,31 +243,51 @@ function sitesPanel(app: App): HTMLElement {
         app.render();
       },
     },
-    app.mode === 'add-site' ? 'Click the map to place the site… (click here to stop)' : 'Add a site by clicking the map',
+    app.mode === 'add-site'
+      ? 'Click the map to place the site… (click here to stop)'
+      : 'Add a site by clicking the map',
   );
-  const importSites = filePicker('sites-file', 'Replace sites from a file (GeoJSON or CSV)', '.geojson,.json,.csv', false, (files) =>
-    void (async () => {
-      try {
-        const fc = await readSitesFile(files[0]);
-        const doc = { ...app.state.doc, sites: fc } as unknown as WorkState['doc'];
-        validateDoc(doc, files[0].name);
-        const next = setNetwork({ ...app.state, doc: doc }, app.state.network);
-        if (await app.commit(next)) app.say('info', `Sites: ${(fc as { features: unknown[] }).features.length} read from ${files[0].name}.`);
-      } catch (e) {
-        app.fail(e);
-      }
-    })(),
+  const importSites = filePicker(
+    'sites-file',
+    'Replace sites from a file (GeoJSON or CSV)',
+    '.geojson,.json,.csv',
+    false,
+    (files) =>
+      void (async () => {
+        try {
+          const fc = await readSitesFile(files[0]);
+          const doc = { ...app.state.doc, sites: fc } as unknown as WorkState['doc'];
+          validateDoc(doc, files[0].name);
+          const next = setNetwork({ ...app.state, doc: doc }, app.state.network);
+          if (await app.commit(next))
+            app.say(
+              'info',
+              `Sites: ${(fc as { features: unknown[] }).features.length} read from ${files[0].name}.`,
+            );
+        } catch (e) {
+          app.fail(e);
+        }
+      })(),
   );
   const rows = s.doc.sites.features.map((f) => {
     const p = f.properties;
     const [lon, lat] = f.geometry.coordinates;
     const name = h('input', { type: 'text', value: p.name, 'aria-label': `name of ${p.id}` });
-    name.addEventListener('change', () => void tryEdit(app, name, () => editSite(app.state, p.id, { name: name.value })));
+    name.addEventListener(
+      'change',
+      () => void tryEdit(app, name, () => editSite(app.state, p.id, { name: name.value })),
+    );
     const allowed = p.allowedTypes ?? types.map((t) => t.id);
     const typeBoxes = types.map((t) => {
-      const allow = h('input', { type: 'checkbox', checked: allowed.includes(t.id), title: `allow ${t.name}` });
+      const allow = h('input', {
+        type: 'checkbox',
+        checked: allowed.includes(t.id),
+        title: `allow ${t.name}`,
+      });
       allow.addEventListener('change', () => {
-        const list = types.map((x) => x.id).filter((id) => (id === t.id ? allow.checked : allowed.includes(id)));
+        const list = types
+          .map((x) => x.id)
+          .filter((id) => (id === t.id ? allow.checked : allowed.includes(id)));
         void tryEdit(app, allow, () =>
           editSite(app.state, p.id, { allowedTypes: list.length === types.length ? null : list }),
         );
@@ -276,25 +312,34 @@ function sitesPanel(app: App): HTMLElement {
       h(
         'td',
         {},
-        numberIn(lon, { 'aria-label': `lon of ${p.id}`, className: 'coord' }, (v, el) =>
-          void tryEdit(app, el, () => editSite(app.state, p.id, { lon: v })),
+        numberIn(
+          lon,
+          { 'aria-label': `lon of ${p.id}`, className: 'coord' },
+          (v, el) => void tryEdit(app, el, () => editSite(app.state, p.id, { lon: v })),
         ),
-        numberIn(lat, { 'aria-label': `lat of ${p.id}`, className: 'coord' }, (v, el) =>
-          void tryEdit(app, el, () => editSite(app.state, p.id, { lat: v })),
-        ),
-      ),
-      h(
-        'td',
-        {},
-        numberIn(heightToUser(p.mastHeightM, u), { 'aria-label': `mast of ${p.id}`, className: 'short', min: 0 }, (v, el) =>
-          void tryEdit(app, el, () => editSite(app.state, p.id, { mastHeightM: heightFromUser(v, u) })),
+        numberIn(
+          lat,
+          { 'aria-label': `lat of ${p.id}`, className: 'coord' },
+          (v, el) => void tryEdit(app, el, () => editSite(app.state, p.id, { lat: v })),
         ),
       ),
       h(
         'td',
         {},
-        numberIn(p.siteCost, { 'aria-label': `cost of ${p.id}`, className: 'short', min: 0 }, (v, el) =>
-          void tryEdit(app, el, () => editSite(app.state, p.id, { siteCost: v })),
+        numberIn(
+          heightToUser(p.mastHeightM, u),
+          { 'aria-label': `mast of ${p.id}`, className: 'short', min: 0 },
+          (v, el) =>
+            void tryEdit(app, el, () => editSite(app.state, p.id, { mastHeightM: heightFromUser(v, u) })),
+        ),
+      ),
+      h(
+        'td',
+        {},
+        numberIn(
+          p.siteCost,
+          { 'aria-label': `cost of ${p.id}`, className: 'short', min: 0 },
+          (v, el) => void tryEdit(app, el, () => editSite(app.state, p.id, { siteCost: v })),
         ),
       ),
       h(
@@ -302,7 +347,10 @@ function sitesPanel(app: App): HTMLElement {
         {},
         (() => {
           const c = h('input', { type: 'checkbox', checked: p.existing, 'aria-label': `${p.id} exists` });
-          c.addEventListener('change', () => void tryEdit(app, c, () => editSite(app.state, p.id, { existing: c.checked })));
+          c.addEventListener(
+            'change',
+            () => void tryEdit(app, c, () => editSite(app.state, p.id, { existing: c.checked })),
+          );
           return c;
         })(),
       ),
@@ -361,7 +409,12 @@ function sitesPanel(app: App): HTMLElement {
 function typesPanel(app: App): HTMLElement {
   const s = app.state;
   const u = s.units;
-  const editor = h('textarea', { id: 'type-json', rows: 14, spellcheck: 'false', 'aria-label': 'sensor type (JSON)' });
+  const editor = h('textarea', {
+    id: 'type-json',
+    rows: 14,
+    spellcheck: 'false',
+    'aria-label': 'sensor type (JSON)',
+  });
   let editing: string | null = null;
   const rows = s.doc.sensorTypes.map((t) => [
     h('span', {}, t.name, h('div', { className: 'sub' }, t.id)),
@@ -387,41 +440,62 @@ function typesPanel(app: App): HTMLElement {
       ),
       h(
         'button',
-        { className: 'small', onclick: () => void tryEdit(app, null, () => removeSensorType(app.state, t.id)) },
+        {
+          className: 'small',
+          onclick: () => void tryEdit(app, null, () => removeSensorType(app.state, t.id)),
+        },
         'Remove',
       ),
     ),
   ]);
   const title = h('strong', {}, 'New type (JSON, the scenario file’s form)');
   const template = s.doc.sensorTypes[0];
-  if (template) editor.value = JSON.stringify({ ...template, id: `${template.id}-copy`, name: `${template.name} (copy)` }, null, 2);
+  if (template)
+    editor.value = JSON.stringify(
+      { ...template, id: `${template.id}-copy`, name: `${template.name} (copy)` },
+      null,
+      2,
+    );
   const apply = () => {
     let parsed: unknown;
     try {
       parsed = JSON.parse(editor.value);
     } catch (e) {
       editor.classList.add('invalid');
-      app.say('error', `sensor type: found text that is not JSON (${(e as Error).message}); expected one sensor type object`);
+      app.say(
+        'error',
+        `sensor type: found text that is not JSON (${(e as Error).message}); expected one sensor type object`,
+      );
       return;
     }
     void tryEdit(app, editor, () =>
-      editing ? replaceSensorType(app.state, editing, parsed as SensorType) : addSensorType(app.state, parsed),
+      editing
+        ? replaceSensorType(app.state, editing, parsed as SensorType)
+        : addSensorType(app.state, parsed),
     );
   };
   return h(
     'div',
     {},
     h('h2', {}, 'Sensor types'),
-    table(['Name / id', 'Kind', 'Frequency', `Instrumented range (${rangeUnit(u)})`, 'Max elevation', 'Cost', ''], rows, {
-      id: 'type-table',
-      className: 'wide',
-    }),
+    table(
+      ['Name / id', 'Kind', 'Frequency', `Instrumented range (${rangeUnit(u)})`, 'Max elevation', 'Cost', ''],
+      rows,
+      {
+        id: 'type-table',
+        className: 'wide',
+      },
+    ),
     section(
       'Add or edit',
       title,
       editor,
       h('button', { id: 'type-apply', onclick: apply }, 'Check and apply'),
-      h('p', { className: 'hint' }, 'Ranges in the file are in NM, heights in m; a type that fails the schema is not applied and the text stays here.'),
+      h(
+        'p',
+        { className: 'hint' },
+        'Ranges in the file are in NM, heights in m; a type that fails the schema is not applied and the text stays here.',
+      ),
     ),
   );
 }
@@ -433,29 +507,54 @@ function volumesPanel(app: App): HTMLElement {
   const u = s.units;
   const rows = s.doc.volumes.map((v) => {
     const name = h('input', { type: 'text', value: v.name, 'aria-label': `name of ${v.id}` });
-    name.addEventListener('change', () => void tryEdit(app, name, () => editVolume(app.state, v.id, { name: name.value })));
+    name.addEventListener(
+      'change',
+      () => void tryEdit(app, name, () => editVolume(app.state, v.id, { name: name.value })),
+    );
     const num = (key: 'flMin' | 'flMax' | 'weight', val: number) =>
-      numberIn(val, { className: 'short', 'aria-label': `${key} of ${v.id}` }, (x, el) =>
-        void tryEdit(app, el, () => editVolume(app.state, v.id, { [key]: x })),
+      numberIn(
+        val,
+        { className: 'short', 'aria-label': `${key} of ${v.id}` },
+        (x, el) => void tryEdit(app, el, () => editVolume(app.state, v.id, { [key]: x })),
       );
     const fold = (k: 'any' | 'primary' | 'secondary') =>
-      numberIn(v.requiredFold[k] ?? 0, { className: 'tiny', min: 0, 'aria-label': `${k} sites required in ${v.id}` }, (x, el) =>
-        void tryEdit(app, el, () => {
-          const rf = { ...v.requiredFold, [k]: x };
-          if (!x) delete rf[k];
-          return editVolume(app.state, v.id, { requiredFold: rf });
-        }),
+      numberIn(
+        v.requiredFold[k] ?? 0,
+        { className: 'tiny', min: 0, 'aria-label': `${k} sites required in ${v.id}` },
+        (x, el) =>
+          void tryEdit(app, el, () => {
+            const rf = { ...v.requiredFold, [k]: x };
+            if (!x) delete rf[k];
+            return editVolume(app.state, v.id, { requiredFold: rf });
+          }),
       );
     return [
       h('span', {}, name, h('div', { className: 'sub' }, v.id)),
       h('span', {}, num('flMin', v.flMin), ' – ', num('flMax', v.flMax)),
-      h('span', { className: 'folds' }, 'any ', fold('any'), ' PSR ', fold('primary'), ' SSR ', fold('secondary')),
+      h(
+        'span',
+        { className: 'folds' },
+        'any ',
+        fold('any'),
+        ' PSR ',
+        fold('primary'),
+        ' SSR ',
+        fold('secondary'),
+      ),
       num('weight', v.weight ?? 1),
-      h('button', { className: 'small', onclick: () => void tryEdit(app, null, () => removeVolume(app.state, v.id)) }, 'Remove'),
+      h(
+        'button',
+        { className: 'small', onclick: () => void tryEdit(app, null, () => removeVolume(app.state, v.id)) },
+        'Remove',
+      ),
     ];
   });
   const drawing = app.mode === 'draw';
-  const newName = h('input', { type: 'text', id: 'volume-name', value: `Volume ${s.doc.volumes.length + 1}` });
+  const newName = h('input', {
+    type: 'text',
+    id: 'volume-name',
+    value: `Volume ${s.doc.volumes.length + 1}`,
+  });
   const finish = () => {
     if (app.draft.length < 3) {
       app.say('error', `volume: found ${app.draft.length} points; expected at least 3 (click the map)`);
@@ -464,7 +563,8 @@ function volumesPanel(app: App): HTMLElement {
     const ring = [...app.draft, app.draft[0]];
     // Exterior rings counter-clockwise (GeoJSON, RFC 7946).
     let area = 0;
-    for (let i = 0; i < ring.length - 1; i++) area += ring[i][0] * ring[i + 1][1] - ring[i + 1][0] * ring[i][1];
+    for (let i = 0; i < ring.length - 1; i++)
+      area += ring[i][0] * ring[i + 1][1] - ring[i + 1][0] * ring[i][1];
     if (area < 0) ring.reverse();
     const fls = s.doc.flightLevels;
     void tryEdit(app, null, () =>
@@ -485,8 +585,15 @@ function volumesPanel(app: App): HTMLElement {
     'div',
     {},
     h('h2', {}, 'Airspace'),
-    h('p', { className: 'hint' }, `Volumes to be seen: a polygon, a band of flight levels (${fmtLevel(s.doc.flightLevels[0], u)} …), the number of distinct sites required per kind, and a weight for the planner.`),
-    table(['Name / id', 'Band (FL)', 'Sites required', 'Weight', ''], rows, { id: 'volume-table', className: 'wide' }),
+    h(
+      'p',
+      { className: 'hint' },
+      `Volumes to be seen: a polygon, a band of flight levels (${fmtLevel(s.doc.flightLevels[0], u)} …), the number of distinct sites required per kind, and a weight for the planner.`,
+    ),
+    table(['Name / id', 'Band (FL)', 'Sites required', 'Weight', ''], rows, {
+      id: 'volume-table',
+      className: 'wide',
+    }),
     section(
       'New volume',
       h('label', {}, 'Name ', newName),
@@ -503,26 +610,31 @@ function volumesPanel(app: App): HTMLElement {
         drawing ? `Drawing: ${app.draft.length} points (click here to stop)` : 'Draw on the map',
       ),
       drawing ? h('button', { id: 'finish-volume', onclick: finish }, 'Finish the polygon') : null,
-      filePicker('volume-file', 'Import polygons (GeoJSON)', '.geojson,.json', false, (files) =>
-        void (async () => {
-          try {
-            const polys = await readPolygonFile(files[0]);
-            const fls = app.state.doc.flightLevels;
-            let next = app.state;
-            for (const p of polys)
-              next = addVolume(next, {
-                name: p.name,
-                polygon: p.polygon as never,
-                flMin: fls[0],
-                flMax: fls[fls.length - 1],
-                requiredFold: { any: 1 },
-                weight: 1,
-              });
-            await app.commit(next);
-          } catch (e) {
-            app.fail(e);
-          }
-        })(),
+      filePicker(
+        'volume-file',
+        'Import polygons (GeoJSON)',
+        '.geojson,.json',
+        false,
+        (files) =>
+          void (async () => {
+            try {
+              const polys = await readPolygonFile(files[0]);
+              const fls = app.state.doc.flightLevels;
+              let next = app.state;
+              for (const p of polys)
+                next = addVolume(next, {
+                  name: p.name,
+                  polygon: p.polygon as never,
+                  flMin: fls[0],
+                  flMax: fls[fls.length - 1],
+                  requiredFold: { any: 1 },
+                  weight: 1,
+                });
+              await app.commit(next);
+            } catch (e) {
+              app.fail(e);
+            }
+          })(),
       ),
     ),
   );
@@ -573,7 +685,14 @@ function viewControls(app: App): HTMLElement {
   const layerRows = LAYER_NAMES.map(([id, label]) => {
     const set = s.view.layers[id];
     const on = h('input', { type: 'checkbox', checked: set.on, id: `layer-${id}` });
-    const op = h('input', { type: 'range', min: 0, max: 1, step: 0.05, value: set.opacity, 'aria-label': `${label} opacity` });
+    const op = h('input', {
+      type: 'range',
+      min: 0,
+      max: 1,
+      step: 0.05,
+      value: set.opacity,
+      'aria-label': `${label} opacity`,
+    });
     const update = () => {
       const layers = { ...app.state.view.layers, [id]: { on: on.checked, opacity: Number(op.value) } };
       app.setView({ ...app.state, view: { ...app.state.view, layers } });
@@ -589,13 +708,20 @@ function viewControls(app: App): HTMLElement {
 function coveragePanel(app: App): HTMLElement {
   const s = app.state;
   const u = s.units;
-  const flText = h('input', { type: 'text', id: 'fl-list', value: s.doc.flightLevels.join(', '), 'aria-label': 'flight levels' });
+  const flText = h('input', {
+    type: 'text',
+    id: 'fl-list',
+    value: s.doc.flightLevels.join(', '),
+    'aria-label': 'flight levels',
+  });
   flText.addEventListener('change', () => {
     const parts = flText.value.split(/[\s,;]+/).filter((x) => x !== '');
     const fls = parts.map((x) => Number(x.replace(/^FL/i, '')));
     void tryEdit(app, flText, () => {
       if (parts.length === 0 || fls.some((x) => !Number.isInteger(x)))
-        throw new Error(`flight levels: found "${flText.value}"; expected whole flight levels separated by commas, e.g. 50, 100, 245`);
+        throw new Error(
+          `flight levels: found "${flText.value}"; expected whole flight levels separated by commas, e.g. 50, 100, 245`,
+        );
       return setFlightLevels(app.state, fls);
     });
   });
@@ -628,10 +754,23 @@ function coveragePanel(app: App): HTMLElement {
     h(
       'p',
       { className: 'hint' },
-      `Terrain-masked line of sight on an effective earth (k = ${s.doc.earth.kFactor}), limited by each sensor's detection range, elevation and cone of silence. Network: ${s.network.length} sensors on ${new Set(s.network.map((r) => r.siteId)).size} sites.`,
+      `Terrain-masked line of sight on an effective earth (k = ${+s.doc.earth.kFactor.toFixed(4)}), limited by each sensor's detection range, elevation and cone of silence. Network: ${s.network.length} sensors on ${new Set(s.network.map((r) => r.siteId)).size} sites.`,
     ),
     h('label', {}, 'Flight levels ', flText),
-    h('div', {}, h('button', { id: 'run-coverage', className: 'primary', disabled: app.busy !== null, onclick: () => void app.runCoverage() }, 'Compute coverage')),
+    h(
+      'div',
+      {},
+      h(
+        'button',
+        {
+          id: 'run-coverage',
+          className: 'primary',
+          disabled: app.busy !== null,
+          onclick: () => void app.runCoverage(),
+        },
+        'Compute coverage',
+      ),
+    ),
     result,
     viewControls(app),
   );
@@ -642,18 +781,40 @@ function coveragePanel(app: App): HTMLElement {
 function planPanel(app: App): HTMLElement {
   const s = app.state;
   const u = s.units;
-  const budget = h('input', { type: 'number', id: 'plan-budget', min: 0, step: 'any', value: s.doc.budget ?? '' });
+  const budget = h('input', {
+    type: 'number',
+    id: 'plan-budget',
+    min: 0,
+    step: 'any',
+    value: s.doc.budget ?? '',
+  });
   const keep = h('input', { type: 'checkbox', id: 'plan-keep', checked: true });
-  const limit = h('input', { type: 'number', id: 'plan-limit', min: 1, max: 600, value: 8, className: 'short' });
+  const limit = h('input', {
+    type: 'number',
+    id: 'plan-limit',
+    min: 1,
+    max: 600,
+    value: 8,
+    className: 'short',
+  });
   const run = () =>
     void app.job('Plan', async (progress) => {
       const b = budget.value.trim() === '' ? null : Number(budget.value);
-      if (b !== null && !(b >= 0)) throw new Error(`budget: found "${budget.value}"; expected a number ≥ 0 or empty for none`);
+      if (b !== null && !(b >= 0))
+        throw new Error(`budget: found "${budget.value}"; expected a number ≥ 0 or empty for none`);
       const keepRefs = keep.checked
-        ? app.state.network.filter((r) => app.state.doc.sites.features.find((f) => f.properties.id === r.siteId)?.properties.existing)
+        ? app.state.network.filter(
+            (r) =>
+              app.state.doc.sites.features.find((f) => f.properties.id === r.siteId)?.properties.existing,
+          )
         : [];
       app.plan = await app.engine.plan(
-        { budget: b, keep: keepRefs, excludedSites: [], timeLimitMs: Math.max(1, Number(limit.value) || 8) * 1000 },
+        {
+          budget: b,
+          keep: keepRefs,
+          excludedSites: [],
+          timeLimitMs: Math.max(1, Number(limit.value) || 8) * 1000,
+        },
         progressProxy(progress),
       );
       app.nMinus1 = null;
@@ -668,7 +829,13 @@ function planPanel(app: App): HTMLElement {
           h('dt', {}, 'Cost'),
           h('dd', { id: 'plan-cost' }, fmtCost(p.cost)),
           h('dt', {}, p.mode === 'cover' ? 'Lower bound' : 'Covered weight'),
-          h('dd', {}, p.mode === 'cover' ? fmtCost(p.lowerBound) : `${p.coveredWeight.toFixed(0)} of ${p.totalWeight.toFixed(0)}`),
+          h(
+            'dd',
+            {},
+            p.mode === 'cover'
+              ? fmtCost(p.lowerBound)
+              : `${p.coveredWeight.toFixed(0)} of ${p.totalWeight.toFixed(0)}`,
+          ),
           h('dt', {}, 'Gap'),
           h('dd', {}, fmtPct(p.gapPct)),
           h('dt', {}, 'Method'),
@@ -677,7 +844,11 @@ function planPanel(app: App): HTMLElement {
           h('dd', {}, p.demandMet ? 'yes' : 'no'),
         ),
         p.unmeetable.length
-          ? h('p', { className: 'warn' }, `Some demand cannot be met by any allowed sensor: ${p.unmeetable.map((x) => `${x.points} points need ${x.required} ${x.kind}, best ${x.achievable}`).join('; ')}.`)
+          ? h(
+              'p',
+              { className: 'warn' },
+              `Some demand cannot be met by any allowed sensor: ${p.unmeetable.map((x) => `${x.points} points need ${x.required} ${x.kind}, best ${x.achievable}`).join('; ')}.`,
+            )
           : null,
         table(
           ['Site', 'Sensor type', 'Cost'],
@@ -702,7 +873,12 @@ function planPanel(app: App): HTMLElement {
           {
             id: 'plan-use',
             onclick: () => {
-              app.setView(setNetwork({ ...app.state, failed: [] }, p.entries.map((e) => ({ siteId: e.siteId, typeId: e.typeId }))));
+              app.setView(
+                setNetwork(
+                  { ...app.state, failed: [] },
+                  p.entries.map((e) => ({ siteId: e.siteId, typeId: e.typeId })),
+                ),
+              );
               app.refreshVectors();
               void app.runCoverage();
             },
@@ -715,7 +891,7 @@ function planPanel(app: App): HTMLElement {
             id: 'plan-n1',
             onclick: () =>
               void app.job('Outage table', async (progress) => {
-                          app.nMinus1 = await app.engine.outageTable(
+                app.nMinus1 = await app.engine.outageTable(
                   p.entries.map((e) => ({ siteId: e.siteId, typeId: e.typeId })),
                   progressProxy(progress),
                 );
@@ -730,12 +906,28 @@ function planPanel(app: App): HTMLElement {
     'div',
     {},
     h('h2', {}, 'Plan'),
-    h('p', { className: 'hint' }, 'Chooses sites and sensor types that give every volume its required number of sites at the levels of its band at least cost (or, within a budget, the most demand). Existing sites cost nothing to open.'),
+    h(
+      'p',
+      { className: 'hint' },
+      'Chooses sites and sensor types that give every volume its required number of sites at the levels of its band at least cost (or, within a budget, the most demand). Existing sites cost nothing to open.',
+    ),
     h('label', {}, 'Budget (M, empty = none) ', budget),
     h('label', {}, keep, ' keep the network’s sensors at existing sites'),
     h('label', {}, 'Solver time limit (s) ', limit),
-    h('div', {}, h('button', { id: 'run-plan', className: 'primary', disabled: app.busy !== null, onclick: run }, 'Make a plan')),
-    h('p', { className: 'hint' }, `Needs the footprint of every allowed site and type (${countCandidates(app)}); those already computed come from the cache.`),
+    h(
+      'div',
+      {},
+      h(
+        'button',
+        { id: 'run-plan', className: 'primary', disabled: app.busy !== null, onclick: run },
+        'Make a plan',
+      ),
+    ),
+    h(
+      'p',
+      { className: 'hint' },
+      `Needs the footprint of every allowed site and type (${countCandidates(app)}); those already computed come from the cache.`,
+    ),
     result,
     h('p', { className: 'hint' }, `Units: ${u === 'aviation' ? 'areas in NM²' : 'areas in km²'}.`),
   );
@@ -743,7 +935,10 @@ function planPanel(app: App): HTMLElement {
 
 function countCandidates(app: App): number {
   const s = app.state.doc;
-  return s.sites.features.reduce((a, f) => a + (f.properties.allowedTypes?.length ?? s.sensorTypes.length), 0);
+  return s.sites.features.reduce(
+    (a, f) => a + (f.properties.allowedTypes?.length ?? s.sensorTypes.length),
+    0,
+  );
 }
 
 // ------------------------------------------------------------------------------------------------ outages
@@ -752,7 +947,8 @@ function outagesPanel(app: App): HTMLElement {
   const s = app.state;
   const u = s.units;
   const sites = [...new Set(s.network.map((r) => r.siteId))];
-  const name = (id: string) => s.doc.sites.features.find((f) => f.properties.id === id)?.properties.name ?? id;
+  const name = (id: string) =>
+    s.doc.sites.features.find((f) => f.properties.id === id)?.properties.name ?? id;
   const o = app.outage;
   const boxes = sites.map((id) => {
     const c = h('input', { type: 'checkbox', checked: s.failed.includes(id), 'data-fail': id });
@@ -770,14 +966,21 @@ function outagesPanel(app: App): HTMLElement {
           ),
           table(
             ['Level', 'Area losing coverage or requirement'],
-            (app.coverage?.flightLevels ?? []).map((fl, i) => [formatFl(fl), fmtArea(o.lostKm2ByLevel[i] ?? 0, u)]),
+            (app.coverage?.flightLevels ?? []).map((fl, i) => [
+              formatFl(fl),
+              fmtArea(o.lostKm2ByLevel[i] ?? 0, u),
+            ]),
             { id: 'outage-levels' },
           ),
           table(
             ['Volume', 'Level', 'Area lost'],
             o.byVolume
               .filter((x) => x.areaKm2Lost > 0)
-              .map((x) => [s.doc.volumes.find((v) => v.id === x.volumeId)?.name ?? x.volumeId, formatFl(x.flightLevel), fmtArea(x.areaKm2Lost, u)]),
+              .map((x) => [
+                s.doc.volumes.find((v) => v.id === x.volumeId)?.name ?? x.volumeId,
+                formatFl(x.flightLevel),
+                fmtArea(x.areaKm2Lost, u),
+              ]),
           ),
         )
       : h('p', { className: 'hint', id: 'outage-loss' }, 'No site failed.');
@@ -786,7 +989,11 @@ function outagesPanel(app: App): HTMLElement {
     'div',
     {},
     h('h2', {}, 'Outages'),
-    h('p', { className: 'hint' }, 'Click a site on the map, or tick it here, to take it down; the loss shows at once from the cached footprints.'),
+    h(
+      'p',
+      { className: 'hint' },
+      'Click a site on the map, or tick it here, to take it down; the loss shows at once from the cached footprints.',
+    ),
     app.coverage ? h('div', { className: 'fail-list' }, ...boxes) : h('p', {}, 'Compute coverage first.'),
     loss,
     section(
@@ -798,7 +1005,7 @@ function outagesPanel(app: App): HTMLElement {
           disabled: app.busy !== null || !app.coverage,
           onclick: () =>
             void app.job('Outage table', async (progress) => {
-                      app.nMinus1 = await app.engine.outageTable(undefined, progressProxy(progress));
+              app.nMinus1 = await app.engine.outageTable(undefined, progressProxy(progress));
             }),
         },
         'Table for the current network',
@@ -842,7 +1049,11 @@ function layoutsPanel(app: App): HTMLElement {
         },
         'Look at it',
       ),
-      h('button', { className: 'small', onclick: () => void tryEdit(app, null, () => removeLayout(app.state, l.name)) }, 'Delete'),
+      h(
+        'button',
+        { className: 'small', onclick: () => void tryEdit(app, null, () => removeLayout(app.state, l.name)) },
+        'Delete',
+      ),
     ),
   ]);
   const pick = (id: string, i: number) => {
@@ -857,9 +1068,17 @@ function layoutsPanel(app: App): HTMLElement {
     'div',
     {},
     h('h2', {}, 'Layouts'),
-    h('p', { className: 'hint' }, 'A layout is a named set of sensors. Save the network you are looking at, or compare two.'),
+    h(
+      'p',
+      { className: 'hint' },
+      'A layout is a named set of sensors. Save the network you are looking at, or compare two.',
+    ),
     h('label', {}, 'Name ', name),
-    h('button', { id: 'save-layout', onclick: () => void tryEdit(app, name, () => saveLayout(app.state, name.value)) }, 'Save the current network'),
+    h(
+      'button',
+      { id: 'save-layout', onclick: () => void tryEdit(app, name, () => saveLayout(app.state, name.value)) },
+      'Save the current network',
+    ),
     table(['Layout', 'Sensors', ''], list, { id: 'layout-table' }),
     section(
       'Compare',
@@ -875,7 +1094,7 @@ function layoutsPanel(app: App): HTMLElement {
               const la = app.state.doc.layouts.find((l) => l.name === a.value);
               const lb = app.state.doc.layouts.find((l) => l.name === b.value);
               if (!la || !lb) throw new Error('compare: found a layout missing; expected two saved layouts');
-                      const r = await app.engine.compare(la.sensors, lb.sensors, progressProxy(progress));
+              const r = await app.engine.compare(la.sensors, lb.sensors, progressProxy(progress));
               app.compare = { ...r, names: [la.name, lb.name] };
               await app.refreshImages();
             }),
@@ -925,7 +1144,9 @@ function profilePanel(app: App): HTMLElement {
     'select',
     { id: 'profile-type' },
     h('option', { value: '' }, '— sensor type —'),
-    ...s.doc.sensorTypes.filter((t) => allowed.includes(t.id)).map((t) => h('option', { value: t.id }, t.name)),
+    ...s.doc.sensorTypes
+      .filter((t) => allowed.includes(t.id))
+      .map((t) => h('option', { value: t.id }, t.name)),
   );
   type.value = pick?.typeId && allowed.includes(pick.typeId) ? pick.typeId : '';
   const onPick = () => {
@@ -934,7 +1155,15 @@ function profilePanel(app: App): HTMLElement {
   };
   site.addEventListener('change', onPick);
   type.addEventListener('change', onPick);
-  const az = h('input', { type: 'number', id: 'profile-az', min: 0, max: 360, step: 0.1, value: app.azimuth, className: 'short' });
+  const az = h('input', {
+    type: 'number',
+    id: 'profile-az',
+    min: 0,
+    max: 360,
+    step: 0.1,
+    value: app.azimuth,
+    className: 'short',
+  });
   const dragging = app.mode === 'azimuth';
   let img: HTMLElement | null = null;
   if (app.diagramSvg) {
@@ -947,10 +1176,19 @@ function profilePanel(app: App): HTMLElement {
     'div',
     {},
     h('h2', {}, 'Profile'),
-    h('p', { className: 'hint' }, 'A vertical coverage diagram along one azimuth: terrain profile, screening, detection envelope, cone of silence and flight levels.'),
+    h(
+      'p',
+      { className: 'hint' },
+      'A vertical coverage diagram along one azimuth: terrain profile, screening, detection envelope, cone of silence and flight levels.',
+    ),
     h('label', {}, 'Site ', site),
     h('label', {}, ' Type ', type),
-    h('div', {}, h('label', {}, 'Azimuth (° true) ', az), h('button', { id: 'profile-draw', onclick: () => void app.drawDiagram(Number(az.value)) }, 'Draw')),
+    h(
+      'div',
+      {},
+      h('label', {}, 'Azimuth (° true) ', az),
+      h('button', { id: 'profile-draw', onclick: () => void app.drawDiagram(Number(az.value)) }, 'Draw'),
+    ),
     h(
       'button',
       {
@@ -969,7 +1207,12 @@ function profilePanel(app: App): HTMLElement {
           'button',
           {
             id: 'export-diagram',
-            onclick: () => download(`profile-${pick?.siteId}-${pick?.typeId}-${app.azimuth}.svg`, app.diagramSvg!, 'image/svg+xml'),
+            onclick: () =>
+              download(
+                `profile-${pick?.siteId}-${pick?.typeId}-${app.azimuth}.svg`,
+                app.diagramSvg!,
+                'image/svg+xml',
+              ),
           },
           'Save the diagram (SVG)',
         )
@@ -995,7 +1238,14 @@ export async function loadScenarioFiles(app: App, files: File[]): Promise<void> 
       const study = await app.engine.setScenario(state.doc, state.source);
       app.adoptLoaded(state, app.terrain!, study);
       app.save();
-      app.say('info', [`Loaded ${picked.source} on the terrain already loaded.`, ...(picked.missingTiles.length ? [`(The tiles it names were not picked: ${picked.missingTiles.slice(0, 4).join(', ')}${picked.missingTiles.length > 4 ? ', …' : ''}.)`] : [])]);
+      app.say('info', [
+        `Loaded ${picked.source} on the terrain already loaded.`,
+        ...(picked.missingTiles.length
+          ? [
+              `(The tiles it names were not picked: ${picked.missingTiles.slice(0, 4).join(', ')}${picked.missingTiles.length > 4 ? ', …' : ''}.)`,
+            ]
+          : []),
+      ]);
     } catch (e) {
       // The engine keeps its previous study when setScenario throws.
       app.say('error', ['The scenario was not loaded; your work is unchanged.', ...errorLines(e)]);
@@ -1018,7 +1268,11 @@ export async function loadScenarioFiles(app: App, files: File[]): Promise<void> 
 
 function filesPanel(app: App): HTMLElement {
   const s = app.state;
-  const fl = h('select', { id: 'export-fl' }, ...(app.coverage?.flightLevels ?? []).map((x) => h('option', { value: x }, formatFl(x))));
+  const fl = h(
+    'select',
+    { id: 'export-fl' },
+    ...(app.coverage?.flightLevels ?? []).map((x) => h('option', { value: x }, formatFl(x))),
+  );
   fl.value = String(s.view.fl);
   const summary = () => ({
     scenario: s.doc.name,
@@ -1028,7 +1282,14 @@ function filesPanel(app: App): HTMLElement {
     coverage: app.coverage,
     outage: app.outage,
     plan: app.plan
-      ? { cost: app.plan.cost, lowerBound: app.plan.lowerBound, gapPct: app.plan.gapPct, entries: app.plan.entries, volumes: app.plan.volumes, method: app.plan.method }
+      ? {
+          cost: app.plan.cost,
+          lowerBound: app.plan.lowerBound,
+          gapPct: app.plan.gapPct,
+          entries: app.plan.entries,
+          volumes: app.plan.volumes,
+          method: app.plan.method,
+        }
       : null,
     nMinus1: app.nMinus1,
     compare: app.compare,
@@ -1039,8 +1300,21 @@ function filesPanel(app: App): HTMLElement {
     h('h2', {}, 'Files'),
     section(
       'Scenario',
-      h('button', { id: 'save-scenario', onclick: () => download(`${slug(s.doc.name)}.scenario.json`, scenarioFileText(s)) }, 'Save the scenario file'),
-      filePicker('scenario-file', 'Open a scenario (with its sites, types and .tif files)', '.json,.geojson,.csv,.tif,.tiff', true, (files) => void loadScenarioFiles(app, files)),
+      h(
+        'button',
+        {
+          id: 'save-scenario',
+          onclick: () => download(`${slug(s.doc.name)}.scenario.json`, scenarioFileText(s)),
+        },
+        'Save the scenario file',
+      ),
+      filePicker(
+        'scenario-file',
+        'Open a scenario (with its sites, types and .tif files)',
+        '.json,.geojson,.csv,.tif,.tiff',
+        true,
+        (files) => void loadScenarioFiles(app, files),
+      ),
       dropZone('…or drop the files here', (files) => void loadScenarioFiles(app, files)),
       h('button', { id: 'load-demo', onclick: () => void app.loadDemo() }, 'Start again from the demo'),
     ),
@@ -1059,7 +1333,11 @@ function filesPanel(app: App): HTMLElement {
                   void (async () => {
                     try {
                       const text = await app.engine.levelGeoJson(Number(fl.value));
-                      download(`coverage-${formatFl(Number(fl.value))}.geojson`, text, 'application/geo+json');
+                      download(
+                        `coverage-${formatFl(Number(fl.value))}.geojson`,
+                        text,
+                        'application/geo+json',
+                      );
                     } catch (e) {
                       app.fail(e);
                     }
@@ -1075,7 +1353,11 @@ function filesPanel(app: App): HTMLElement {
                     onclick: () =>
                       void (async () => {
                         try {
-                          download(`compare-${formatFl(Number(fl.value))}.geojson`, await app.engine.compareGeoJson(Number(fl.value)), 'application/geo+json');
+                          download(
+                            `compare-${formatFl(Number(fl.value))}.geojson`,
+                            await app.engine.compareGeoJson(Number(fl.value)),
+                            'application/geo+json',
+                          );
                         } catch (e) {
                           app.fail(e);
                         }
@@ -1086,14 +1368,31 @@ function filesPanel(app: App): HTMLElement {
               : null,
           )
         : h('p', { className: 'hint' }, 'Compute coverage to export its layers.'),
-      h('button', { id: 'export-summary', onclick: () => download('airshade-summary.json', JSON.stringify(summary(), null, 2) + '\n') }, 'Summary and plan (JSON)'),
-      h('p', { className: 'hint' }, `Altitudes in the files are metres AMSL (FL ${s.doc.flightLevels[0]} = ${flToMetres(s.doc.flightLevels[0]).toFixed(0)} m). The vertical coverage diagram is saved from the Profile panel.`),
+      h(
+        'button',
+        {
+          id: 'export-summary',
+          onclick: () => download('airshade-summary.json', JSON.stringify(summary(), null, 2) + '\n'),
+        },
+        'Summary and plan (JSON)',
+      ),
+      h(
+        'p',
+        { className: 'hint' },
+        `Altitudes in the files are metres AMSL (FL ${s.doc.flightLevels[0]} = ${flToMetres(s.doc.flightLevels[0]).toFixed(0)} m). The vertical coverage diagram is saved from the Profile panel.`,
+      ),
     ),
   );
 }
 
 function slug(s: string): string {
-  return s.toLowerCase().replace(/[^a-z0-9]+/g, '-').replace(/^-|-$/g, '').slice(0, 40) || 'scenario';
+  return (
+    s
+      .toLowerCase()
+      .replace(/[^a-z0-9]+/g, '-')
+      .replace(/^-|-$/g, '')
+      .slice(0, 40) || 'scenario'
+  );
 }
 
 export type { SensorRef };

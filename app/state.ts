@@ -85,7 +85,10 @@ export function stateFromScenario(s: Scenario, source: string, units: Units = 'a
 export function existingSensors(s: Scenario): SensorRef[] {
   return s.sites
     .filter((f) => f.properties.existing)
-    .map((f) => ({ siteId: f.properties.id, typeId: (f.properties.allowedTypes ?? [s.sensorTypes[0]?.id])[0] }))
+    .map((f) => ({
+      siteId: f.properties.id,
+      typeId: (f.properties.allowedTypes ?? [s.sensorTypes[0]?.id])[0],
+    }))
     .filter((r) => r.typeId !== undefined);
 }
 
@@ -189,12 +192,14 @@ export function replaceSensorType(state: WorkState, id: string, type: unknown): 
   const t = type as SensorType;
   const next = withDoc(state, (doc) => {
     const i = doc.sensorTypes.findIndex((x) => x.id === id);
-    if (i < 0) throw new InputError('sensor type', JSON.stringify(id), 'the id of a sensor type in the scenario');
+    if (i < 0)
+      throw new InputError('sensor type', JSON.stringify(id), 'the id of a sensor type in the scenario');
     doc.sensorTypes[i] = t;
     if (t.id !== id) {
       for (const f of doc.sites.features)
         f.properties.allowedTypes = f.properties.allowedTypes?.map((x) => (x === id ? t.id : x));
-      for (const l of doc.layouts) l.sensors = l.sensors.map((s) => (s.typeId === id ? { ...s, typeId: t.id } : s));
+      for (const l of doc.layouts)
+        l.sensors = l.sensors.map((s) => (s.typeId === id ? { ...s, typeId: t.id } : s));
     }
   });
   return {
@@ -307,7 +312,11 @@ export function scenarioFileText(state: WorkState): string {
 /** Restores a saved working state (autosave); anything malformed throws and the caller starts from the demo. */
 export function restoreState(saved: unknown): WorkState {
   if (typeof saved !== 'object' || saved === null || (saved as WorkState).version !== 1)
-    throw new InputError('saved work', 'an unknown format', 'a working state saved by this version of Airshade');
+    throw new InputError(
+      'saved work',
+      'an unknown format',
+      'a working state saved by this version of Airshade',
+    );
   const w = saved as WorkState;
   const s = validateDoc(w.doc, 'the saved working scenario');
   const base = stateFromScenario(s, w.source, w.units === 'metric' ? 'metric' : 'aviation');

@@ -10,7 +10,9 @@ const KM2_PER_NM2 = (NM_M / 1000) ** 2;
 
 export function fmtAltitude(m: number | null | undefined, u: Units): string {
   if (m === null || m === undefined || !Number.isFinite(m)) return '—';
-  return u === 'aviation' ? `${Math.round(m / FT_M).toLocaleString('en')} ft` : `${Math.round(m).toLocaleString('en')} m`;
+  return u === 'aviation'
+    ? `${Math.round(m / FT_M).toLocaleString('en')} ft`
+    : `${Math.round(m).toLocaleString('en')} m`;
 }
 
 /** A short height above ground (masts): one decimal. */

@@ -1,9 +1,9 @@
 /**
  * Web Worker entry of the app's engine (worker/engine.ts): exposes it through comlink, connects it to the pool
- * of floor workers over MessagePorts, and turns raster images into PNG blobs (OffscreenCanvas) so the main
- * thread only hands MapLibre a blob URL.
+ * of floor workers over MessagePorts, and turns raster images into ImageBitmaps transferred to the page, which
+ * shows them without decoding or copying.
  */
-import { expose, proxy, wrap, type Remote } from 'comlink';
+import { expose, proxy, transfer, wrap, type Remote } from 'comlink';
 import { createStore, del, get, keys, set, type UseStore } from 'idb-keyval';
 import { InputError } from '../shared/errors.ts';
 import highsWasmUrl from 'highs/runtime?url';
@@ -39,20 +39,44 @@ async function readSource(src: TileSource): Promise<{ name: string; buffer: Arra
   return { name: src.name, buffer: await res.arrayBuffer() };
 }
 
-export interface PngImage {
-  png: Blob;
+/** A raster for the map: an ImageBitmap (transferred, not copied) and where its corners go. */
+let keeping: Promise<void> = Promise.resolve();
+
+/** Stores the tiles' bytes in IndexedDB and drops tiles no longer in the terrain (queued: one write at a time). */
+function keepTiles(files: { name: string; buffer: ArrayBuffer }[]): Promise<void> {
+  keeping = keeping.then(async () => {
+    const names = engine.tileNames();
+    for (const f of files) if (names.includes(f.name)) await set(f.name, f.buffer, tileStore());
+    for (const k of await keys(tileStore())) if (!names.includes(String(k))) await del(k, tileStore());
+  });
+  return keeping;
+}
+
+export interface MapBitmap {
+  bitmap: ImageBitmap;
   width: number;
   height: number;
   corners: [number, number][];
 }
 
-async function toPng(img: RasterImage): Promise<PngImage> {
-  const canvas = new OffscreenCanvas(img.width, img.height);
-  const ctx = canvas.getContext('2d');
-  if (!ctx) throw new Error('engine: no 2D context for images');
-  ctx.putImageData(new ImageData(img.rgba, img.width, img.height), 0, 0);
-  const png = await canvas.convertToBlob({ type: 'image/png' });
-  return { png, width: img.width, height: img.height, corners: img.corners };
+async function toBitmap(img: RasterImage): Promise<MapBitmap> {
+  const bitmap = await createImageBitmap(new ImageData(img.rgba, img.width, img.height));
+  return { bitmap, width: img.width, height: img.height, corners: img.corners };
+}
+
+/**
+ * Progress to the page at most every 250 ms: each report redraws the progress bar, and on a machine whose cores
+ * are all busy with the job a redraw can hold the page's main thread (the compositor gets little CPU).
+ */
+function throttled(progress: ProgressFn | undefined): ProgressFn | undefined {
+  if (!progress) return undefined;
+  let last = -Infinity;
+  return (f, stage) => {
+    const t = performance.now();
+    if (t - last < 250 && f < 1) return;
+    last = t;
+    void progress(f, stage);
+  };
 }
 
 /** Thrown errors cross comlink as plain Errors: keep the name so the app can tell a cancel from a fault. */
@@ -86,14 +110,14 @@ export const engineApi = {
     keep = true,
   ) =>
     guard(async () => {
+      const t0 = performance.now();
       const files = await Promise.all(sources.map(readSource));
+      const t1 = performance.now();
       const r = await engine.loadTiles(files, replace, scenario);
-      if (keep) {
-        const names = engine.tileNames();
-        for (const f of files) await set(f.name, f.buffer, tileStore());
-        for (const k of await keys(tileStore())) if (!names.includes(String(k))) await del(k, tileStore());
-      }
-      return r;
+      const t2 = performance.now();
+      // Kept for the next visit after the answer has gone back, one tile at a time.
+      if (keep) void keepTiles(files);
+      return { ...r, timingsMs: { read: Math.round(t1 - t0), decode: Math.round(t2 - t1) } };
     }),
   /** The tiles kept in IndexedDB, by name (a reload): throws naming the first one missing. */
   restoreTiles: (names: string[], scenario?: { input: unknown; display: string }) =>
@@ -101,32 +125,42 @@ export const engineApi = {
       const files: { name: string; buffer: ArrayBuffer }[] = [];
       for (const name of names) {
         const buffer = await get<ArrayBuffer>(name, tileStore());
-        if (!buffer) throw new InputError(`saved terrain tile ${name}`, 'nothing saved', 'the tile kept from the last visit');
+        if (!buffer)
+          throw new InputError(
+            `saved terrain tile ${name}`,
+            'nothing saved',
+            'the tile kept from the last visit',
+          );
         files.push({ name, buffer });
       }
       return engine.loadTiles(files, true, scenario);
     }),
   tileNames: () => engine.tileNames(),
+  /** Resolves when the tiles of the last load are stored (the app waits for it before it says "saved"). */
+  tilesKept: () => keeping,
   terrainInfo: () => engine.terrainInfo(),
   relief: () =>
     guard(async () => {
       const r = engine.reliefImage();
-      return { ...(await toPng(r.image)), legend: r.legend, minM: r.minM, maxM: r.maxM };
+      const m = await toBitmap(r.image);
+      return transfer({ ...m, legend: r.legend, minM: r.minM, maxM: r.maxM }, [m.bitmap]);
     }),
   setScenario: (input: unknown, display: string) => guard(() => engine.setScenario(input, display)),
   coverage: (sensors: SensorRef[], fls: number[] | undefined, progress?: ProgressFn) =>
-    guard(() => engine.coverage(sensors, fls, progress)),
+    guard(() => engine.coverage(sensors, fls, throttled(progress))),
   setFailed: (siteIds: string[]) => guard(() => engine.setFailed(siteIds)),
+  outageTally: () => guard(() => engine.outageTally()),
   outageTable: (sensors: SensorRef[] | undefined, progress?: ProgressFn) =>
-    guard(() => engine.outageTable(sensors, progress)),
-  plan: (req: PlanRequest, progress?: ProgressFn) => guard(() => engine.plan(req, progress)),
+    guard(() => engine.outageTable(sensors, throttled(progress))),
+  plan: (req: PlanRequest, progress?: ProgressFn) => guard(() => engine.plan(req, throttled(progress))),
   compare: (a: SensorRef[], b: SensorRef[], progress?: ProgressFn) =>
-    guard(() => engine.compare(a, b, progress)),
+    guard(() => engine.compare(a, b, throttled(progress))),
   costOf: (refs: SensorRef[]) => engine.costOf(refs),
   layerImage: (layer: ImageLayer, fl: number, kind: FoldKind) =>
     guard(async () => {
       const r = engine.layerImage(layer, fl, kind);
-      return { ...(await toPng(r.image)), legend: r.legend };
+      const m = await toBitmap(r.image);
+      return transfer({ ...m, legend: r.legend }, [m.bitmap]);
     }),
   probe: (lon: number, lat: number) => engine.probe(lon, lat),
   setProbeLevel: (fl: number) => engine.setProbeLevel(fl),

@@ -180,7 +180,7 @@ interface Current {
   baseServed: Map<string, Uint8Array>;
   baseAny: Uint16Array[];
   failed: Set<string>;
-  /** Per level, the cells lost to the failed sites (empty when none are failed). */
+  /** Per level, the cells lost to the failed sites, once computed (empty arrays until then). */
   lost: Uint8Array[];
 }
 
@@ -235,7 +235,8 @@ export class Engine {
     replace: boolean,
     scenario?: { input: unknown; display: string },
   ): Promise<{ terrain: TerrainSummary; study: StudySummary | null }> {
-    if (files.length === 0) throw new InputError('terrain files', 'no files', 'one or more GeoTIFF DEM tiles');
+    if (files.length === 0)
+      throw new InputError('terrain files', 'no files', 'one or more GeoTIFF DEM tiles');
     const decoded: DemTile[] = [];
     for (const f of files) decoded.push(await readDemTile(f.buffer, f.name));
     const names = new Set(decoded.map((t) => t.name));
@@ -270,12 +271,14 @@ export class Engine {
   }
 
   private needTerrain(): Terrain {
-    if (!this.terrain) throw new InputError('terrain', 'no terrain loaded', 'GeoTIFF DEM tiles (Ground panel)');
+    if (!this.terrain)
+      throw new InputError('terrain', 'no terrain loaded', 'GeoTIFF DEM tiles (Ground panel)');
     return this.terrain;
   }
 
   private needStudy(): Study {
-    if (!this.study) throw new InputError('scenario', 'no scenario on the terrain yet', 'a scenario (load one)');
+    if (!this.study)
+      throw new InputError('scenario', 'no scenario on the terrain yet', 'a scenario (load one)');
     return this.study;
   }
 
@@ -300,7 +303,8 @@ export class Engine {
     this.study = study;
     // The network stays only if every sensor of it still exists with the same footprint inputs: otherwise the
     // app runs coverage again (and only what changed is computed).
-    if (this.current && !this.current.sensors.every((r) => this.cachedFootprint(r) !== null)) this.current = null;
+    if (this.current && !this.current.sensors.every((r) => this.cachedFootprint(r) !== null))
+      this.current = null;
     else if (this.current) this.rebuildCurrent(this.current.sensors, this.current.flightLevels);
     this.compared = null;
     return {
@@ -485,21 +489,60 @@ export class Engine {
 
   // ------------------------------------------------------------------------------------------------ outage
 
-  /** Fails exactly these sites (the others come back) and tallies what the network loses against all up. */
-  setFailed(siteIds: string[]): OutageView {
+  /**
+   * Fails exactly these sites (the others come back): only the network's counts change here (incrementally, from
+   * the cached footprints), so the map can be redrawn at once; `outageTally` then sums up what is lost.
+   */
+  setFailed(siteIds: string[]): { failed: string[]; ms: number } {
     const t0 = performance.now();
     const cur = this.needCurrent();
-    const study = this.needStudy();
     const want = new Set(siteIds.filter((id) => cur.network.siteIds().includes(id)));
     for (const id of cur.network.siteIds()) {
       const on = !want.has(id);
       if (cur.network.isSiteActive(id) !== on) cur.network.setSite(id, on);
     }
     cur.failed = want;
-    const s = study.loaded.scenario;
+    cur.lost = cur.flightLevels.map(() => new Uint8Array(0));
+    return { failed: [...want], ms: performance.now() - t0 };
+  }
+
+  /**
+   * The cells of one level that the failed sites cost: coverage lost altogether, or a volume's requirement no
+   * longer met where it was (empty when no site is failed). Computed when first asked for.
+   */
+  private lostAt(f: number): Uint8Array {
+    const cur = this.needCurrent();
+    const study = this.needStudy();
     const cells = study.grid.width * study.grid.height;
-    if (want.size === 0) {
-      cur.lost = cur.flightLevels.map(() => new Uint8Array(0));
+    if (cur.failed.size === 0) return new Uint8Array(cells);
+    if (cur.lost[f].length) return cur.lost[f];
+    const fl = cur.flightLevels[f];
+    const m = new Uint8Array(cells);
+    const any = cur.network.foldOf('any', f);
+    const pri = cur.network.foldOf('primary', f);
+    const sec = cur.network.foldOf('secondary', f);
+    const base = cur.baseAny[f];
+    for (let i = 0; i < cells; i++) if (base[i] > 0 && any[i] === 0) m[i] = 1;
+    study.loaded.scenario.volumes.forEach((v) => {
+      const was = cur.baseServed.get(`${v.id}|${fl}`);
+      if (!was) return;
+      const rAny = Math.max(1, v.requiredFold.any ?? 0);
+      const rPri = v.requiredFold.primary ?? 0;
+      const rSec = v.requiredFold.secondary ?? 0;
+      for (let i = 0; i < cells; i++)
+        if (was[i] && !(any[i] >= rAny && pri[i] >= rPri && sec[i] >= rSec)) m[i] = 1;
+    });
+    cur.lost[f] = m;
+    return m;
+  }
+
+  /** What the failed sites cost the network against all sites up: per volume and level, and per level. */
+  outageTally(): OutageView {
+    const t0 = performance.now();
+    const cur = this.needCurrent();
+    const study = this.needStudy();
+    const s = study.loaded.scenario;
+    if (cur.failed.size === 0) {
       return {
         failed: [],
         demandWeightLost: 0,
@@ -510,27 +553,17 @@ export class Engine {
       };
     }
     const now = servedMasks(cur.network, s.volumes, study.volumeMasks, cur.flightLevels);
-    const diff = difference(cur.baseServed, now);
-    const t = tally(diff, s.volumes, study.grid);
+    const t = tally(difference(cur.baseServed, now), s.volumes, study.grid);
     const rows = rowAreasKm2(study.grid);
     const W = study.grid.width;
-    const lostKm2ByLevel: number[] = [];
-    cur.lost = cur.flightLevels.map((fl, f) => {
-      const m = new Uint8Array(cells);
-      const any = cur.network.foldOf('any', f);
-      const base = cur.baseAny[f];
-      for (let i = 0; i < cells; i++) if (base[i] > 0 && any[i] === 0) m[i] = 1;
-      for (const [k, d] of diff) {
-        if (Number(k.split('|')[1]) !== fl) continue;
-        for (let i = 0; i < cells; i++) if (d[i]) m[i] = 1;
-      }
+    const lostKm2ByLevel = cur.flightLevels.map((_, f) => {
+      const m = this.lostAt(f);
       let a = 0;
-      for (let i = 0; i < cells; i++) if (m[i]) a += rows[(i / W) | 0];
-      lostKm2ByLevel.push(a);
-      return m;
+      for (let i = 0; i < m.length; i++) if (m[i]) a += rows[(i / W) | 0];
+      return a;
     });
     return {
-      failed: [...want],
+      failed: [...cur.failed],
       demandWeightLost: t.demandWeight,
       areaKm2Lost: t.unionAreaKm2,
       byVolume: t.byVolume,
@@ -581,7 +614,11 @@ export class Engine {
     const siteIndex = new Map(s.sites.map((f, i) => [f.properties.id, i]));
     const budget = req.budget === undefined ? s.budget : (req.budget ?? undefined);
     const inst: PlanInstance = {
-      sites: s.sites.map((f) => ({ id: f.properties.id, cost: f.properties.siteCost, existing: f.properties.existing })),
+      sites: s.sites.map((f) => ({
+        id: f.properties.id,
+        cost: f.properties.siteCost,
+        existing: f.properties.existing,
+      })),
       candidates: all.map((r, i) => {
         const model = study.models.get(r.typeId)!;
         return {
@@ -691,7 +728,11 @@ export class Engine {
     const cur = this.needCurrent();
     const f = cur.flightLevels.indexOf(fl);
     if (f < 0)
-      throw new InputError('flight level', String(fl), `one of the computed levels (${cur.flightLevels.join(', ')})`);
+      throw new InputError(
+        'flight level',
+        String(fl),
+        `one of the computed levels (${cur.flightLevels.join(', ')})`,
+      );
     return f;
   }
 
@@ -708,11 +749,9 @@ export class Engine {
     }
     const cur = this.needCurrent();
     const f = this.levelIndex(fl);
-    if (layer === 'fold') return { image: foldImage(grid, cur.network.foldOf(kind, f)), legend: foldLegend() };
-    if (layer === 'loss') {
-      const m = cur.lost[f].length ? cur.lost[f] : new Uint8Array(grid.width * grid.height);
-      return { image: maskImage(grid, m, LOSS_COLOR), legend: [] };
-    }
+    if (layer === 'fold')
+      return { image: foldImage(grid, cur.network.foldOf(kind, f)), legend: foldLegend() };
+    if (layer === 'loss') return { image: maskImage(grid, this.lostAt(f), LOSS_COLOR), legend: [] };
     if (layer === 'gap') return { image: maskImage(grid, this.gapMask(f), GAP_COLOR), legend: [] };
     // The network floor, ramped from sea level to the highest computed level.
     const floor = cur.network.networkFloor();
@@ -789,8 +828,8 @@ export class Engine {
     const f = this.levelIndex(fl);
     const s = study.loaded.scenario;
     const fc = levelLayers(cur.network, f, fl, study.grid, s.volumes, study.volumeMasks);
-    if (cur.failed.size > 0 && cur.lost[f].length) {
-      const lost = maskLayer(cur.lost[f], study.grid, {
+    if (cur.failed.size > 0) {
+      const lost = maskLayer(this.lostAt(f), study.grid, {
         flightLevel: fl,
         fold: 0,
         kind: 'any',
@@ -811,7 +850,14 @@ export class Engine {
       for (const [k, m] of this.compared[layer]) {
         const [volumeId, flText] = k.split('|');
         if (Number(flText) !== fl) continue;
-        const f = maskLayer(m, study.grid, { flightLevel: fl, fold: 0, kind: 'any', siteIds: [], layer, volumeId });
+        const f = maskLayer(m, study.grid, {
+          flightLevel: fl,
+          fold: 0,
+          kind: 'any',
+          siteIds: [],
+          layer,
+          volumeId,
+        });
         if (f) features.push(f);
       }
     }

@@ -86,14 +86,19 @@ export function foldLegend(): LegendStop[] {
   return FOLD_COLORS.map((c, i) => ({ value: i + 1, color: hex(c), label: i === 3 ? '≥ 4' : String(i + 1) }));
 }
 
-/** Grid cell of each image pixel (−1 outside the grid), for a lon/lat grid drawn on Mercator rows. */
+let lastCells: { key: string; cells: Int32Array } | null = null;
+
+/** Grid cell of each image pixel (−1 outside the grid), for a lon/lat grid drawn on Mercator rows (kept for the last grid). */
 function pixelCells(grid: GridGeo, rowLats: Float64Array): Int32Array {
+  const key = [grid.width, grid.height, grid.originX, grid.originY, grid.pixelX, grid.pixelY].join();
+  if (lastCells?.key === key) return lastCells.cells;
   const W = grid.width;
   const out = new Int32Array(W * rowLats.length);
   for (let r = 0; r < rowLats.length; r++) {
     const gr = Math.floor((rowLats[r] - grid.originY) / grid.pixelY);
     for (let c = 0; c < W; c++) out[r * W + c] = gr >= 0 && gr < grid.height ? gr * W + c : -1;
   }
+  lastCells = { key, cells: out };
   return out;
 }
 

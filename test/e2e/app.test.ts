@@ -1,0 +1,324 @@
+/**
+ * The web app end to end, in headless Debian chromium (playwright-core), on the small invented scenario of
+ * test/e2e/fixture.ts served as the app's demo: first visit, terrain and sites loaded from files, coverage,
+ * an outage, a plan, a GeoJSON export checked with a GeoJSON checker, reload and restore, a bad file.
+ *
+ * The steps share one page and run in order. Figures (time to first coverage, outage redraw, long tasks of the
+ * main thread during the runs) are written to test-output/e2e/metrics.json and printed, not asserted: speed is
+ * reported, never a pass/fail condition.
+ */
+import { check as checkGeoJson } from '@placemarkio/check-geojson';
+import { existsSync, mkdtempSync, readFileSync, rmSync, writeFileSync } from 'node:fs';
+import { tmpdir } from 'node:os';
+import { join } from 'node:path';
+import type { Page } from 'playwright-core';
+import { afterAll, beforeAll, describe, expect, it } from 'vitest';
+import { startServer } from '../../bin/serve.mjs';
+import { E2E_SITES, E2E_TERRAIN_FILES, writeE2eData } from './fixture.ts';
+import {
+  blockOutside,
+  canvasNonBlank,
+  launchBrowser,
+  longTasks,
+  saveArtefact,
+  watchPage,
+  type LaunchedBrowser,
+  type OutsideBlock,
+  type PageWatch,
+} from './harness.ts';
+
+const APP_DIR = new URL('../../dist/app/', import.meta.url).pathname;
+const STEP_MS = 180_000;
+
+let dataDir: string;
+let filesDir: string;
+let server: { url: string; close(): Promise<void> };
+let b: LaunchedBrowser;
+let page: Page;
+let watch: PageWatch;
+let outside: OutsideBlock;
+const metrics: Record<string, unknown> = {};
+
+/** Long tasks (main thread blocked > 50 ms) that started between two page times. */
+async function blocksBetween(from: number, to: number) {
+  const tasks = (await longTasks(page)).filter((t) => t.start >= from && t.start <= to);
+  const frames = (await page.evaluate('window.__frames')) as {
+    start: number;
+    duration: number;
+    renderMs: number;
+    layoutMs: number;
+    scripts: unknown[];
+  }[];
+  return tasks.map((t) => {
+    const during = frames.filter((f) => f.start <= t.start + t.duration && f.start + f.duration >= t.start);
+    return {
+      startMs: Math.round(t.start - from),
+      ms: Math.round(t.duration),
+      frames: during.map((f) => ({ ms: Math.round(f.duration), renderMs: f.renderMs, layoutMs: f.layoutMs })),
+      scripts: during.flatMap((f) => f.scripts),
+    };
+  });
+}
+
+const now = () => page.evaluate(() => performance.now());
+
+async function panel(id: string): Promise<void> {
+  await page.click(`#tab-${id}`);
+}
+
+async function siteRows(): Promise<string[]> {
+  await panel('sites');
+  return page.$$eval('#site-table tbody tr', (rows) => rows.map((r) => r.getAttribute('data-row') ?? ''));
+}
+
+beforeAll(async () => {
+  if (!existsSync(join(APP_DIR, 'index.html')))
+    throw new Error(
+      `dist/app/index.html is missing: build the app first (npm run build:app; npm test does it)`,
+    );
+  dataDir = mkdtempSync(join(tmpdir(), 'airshade-e2e-data-'));
+  writeE2eData(dataDir);
+  // Files a user would pick: the tiles and a sites file with one site more than the demo's.
+  filesDir = mkdtempSync(join(tmpdir(), 'airshade-e2e-files-'));
+  const sites = JSON.parse(readFileSync(join(dataDir, 'sites.geojson'), 'utf8'));
+  sites.features.push({
+    type: 'Feature',
+    geometry: { type: 'Point', coordinates: [-29.9, -40.9] },
+    properties: {
+      id: 'moss-knoll',
+      name: 'Moss Knoll <b>not bold</b>',
+      mastHeightM: 25,
+      siteCost: 3,
+      existing: false,
+    },
+  });
+  writeFileSync(join(filesDir, 'more-sites.geojson'), JSON.stringify(sites));
+  writeFileSync(join(filesDir, 'broken.scenario.json'), '{ "name": "broken", "terrain": { "files": [ }');
+  server = await startServer({ root: APP_DIR, dataDir });
+  b = await launchBrowser({ preserveDrawingBuffer: false });
+  page = b.page;
+  outside = await blockOutside(b.context);
+  watch = await watchPage(page);
+  // Long animation frames name the scripts that ran in them: what a long task was spent on.
+  await b.context.addInitScript(`window.__frames = [];
+    new PerformanceObserver((l) => { for (const e of l.getEntries()) window.__frames.push({ start: e.startTime,
+      duration: e.duration, renderMs: e.renderStart ? Math.round(e.startTime + e.duration - e.renderStart) : 0,
+      layoutMs: e.styleAndLayoutStart ? Math.round(e.startTime + e.duration - e.styleAndLayoutStart) : 0, scripts: e.scripts.map((s) => ({ ms: Math.round(s.duration), invoker: s.invoker,
+      source: (s.sourceURL || '').split('/').pop() + ':' + s.sourceCharPosition, fn: s.sourceFunctionName })) }); })
+      .observe({ type: 'long-animation-frame', buffered: true });`);
+}, STEP_MS);
+
+afterAll(async () => {
+  saveArtefact('metrics.json', JSON.stringify(metrics, null, 2) + '\n');
+  console.log('e2e figures:', JSON.stringify(metrics));
+  await b?.close();
+  await server?.close();
+  if (dataDir) rmSync(dataDir, { recursive: true, force: true });
+  if (filesDir) rmSync(filesDir, { recursive: true, force: true });
+});
+
+describe('the web app', () => {
+  it(
+    'loads the demo on first visit with no console errors, nothing from outside, and a drawn map',
+    async () => {
+      const t0 = Date.now();
+      await page.goto(server.url);
+      await page.waitForSelector('#app[data-ready="true"]', { timeout: STEP_MS });
+      metrics.firstVisitReadyMs = Date.now() - t0;
+      expect(await page.evaluate(() => crossOriginIsolated)).toBe(true);
+      // The demo's sites are on the map as markers (text labels), and its name is in the top bar.
+      const labels = await page.$$eval('.site-label', (els) => els.map((e) => e.textContent));
+      expect(labels.sort()).toEqual(E2E_SITES.map((s) => s.name).sort());
+      await expect.poll(() => page.$$eval('.overlay-relief', (els) => els.length)).toBe(1);
+      // The map area shows the relief image and the canvas draws the volume outlines.
+      const shot = await canvasNonBlank(page, '#map', { via: 'screenshot' });
+      expect(shot.nonUniform).toBe(true);
+      expect(shot.distinctColours).toBeGreaterThan(50);
+      const canvas = await canvasNonBlank(page, '.maplibregl-canvas', { via: 'screenshot' });
+      expect(canvas.nonUniform).toBe(true);
+      // The cautions are in the app.
+      await page.click('#about-open');
+      const about = await page.textContent('#about');
+      expect(about).toContain('not a certified or flight-inspected result');
+      expect(about).toContain('refraction');
+      expect(about).toContain('local authority');
+      await page.click('#about button');
+      expect(watch.consoleErrors).toEqual([]);
+      expect(watch.pageErrors).toEqual([]);
+      expect(watch.httpErrors).toEqual([]);
+      expect(outside.blocked).toEqual([]);
+    },
+    STEP_MS,
+  );
+
+  it(
+    'loads terrain tiles and a sites file picked by the user, and shows what was read',
+    async () => {
+      await panel('ground');
+      await page.setInputFiles(
+        '#terrain-files',
+        E2E_TERRAIN_FILES.map((f) => join(dataDir, f)),
+      );
+      await page.waitForFunction(() => !document.querySelector('#app')!.hasAttribute('data-busy'));
+      await page.waitForSelector('#tile-table');
+      const rows = await page.$$eval('#tile-table tbody tr', (r) => r.map((x) => x.textContent ?? ''));
+      expect(rows).toHaveLength(2);
+      expect(rows[0]).toContain('e2e-west.tif');
+      expect(rows[0]).toContain('30.00 × 30.00 ″');
+      await panel('sites');
+      await page.setInputFiles('#sites-file', join(filesDir, 'more-sites.geojson'));
+      await expect.poll(siteRows).toContain('moss-knoll');
+      // Imported text is shown as text, never as markup.
+      const label = await page.$eval('[data-site-id="moss-knoll"] .site-label', (e) => ({
+        text: e.textContent,
+        bold: e.querySelector('b') !== null,
+      }));
+      expect(label).toEqual({ text: 'Moss Knoll <b>not bold</b>', bold: false });
+      expect(watch.pageErrors).toEqual([]);
+    },
+    STEP_MS,
+  );
+
+  it(
+    'computes coverage and draws the layer',
+    async () => {
+      await panel('coverage');
+      const t0 = await now();
+      await page.click('#run-coverage');
+      await page.waitForSelector('#app[data-coverage="1"]', { timeout: STEP_MS });
+      const t1 = await now();
+      metrics.firstCoverageMs = Math.round(t1 - t0);
+      metrics.coverageLongTasks = await blocksBetween(t0, t1);
+      await page.waitForSelector('#coverage-table');
+      const cells = await page.$$eval('#coverage-table tbody tr', (r) => r.map((x) => x.textContent ?? ''));
+      expect(cells.length).toBeGreaterThan(0);
+      expect(cells.join(' ')).toMatch(/Tarn/);
+      const fold = await page.$eval('.overlay-fold', (e) => ({
+        w: (e as HTMLCanvasElement).width,
+        shown: getComputedStyle(e).display !== 'none',
+      }));
+      expect(fold.w).toBeGreaterThan(0);
+      expect(fold.shown).toBe(true);
+      saveArtefact('main-screen.png', await page.screenshot());
+    },
+    STEP_MS,
+  );
+
+  it(
+    'fails a site by clicking it on the map and shows the loss at once',
+    async () => {
+      await panel('outages');
+      const t0 = await now();
+      await page.click('[data-site-id="tarn-north"] .site-dot');
+      await page.waitForSelector('#app[data-outage="1"]', { timeout: STEP_MS });
+      const t1 = await now();
+      const text = await page.textContent('#outage-loss');
+      expect(text).toMatch(/down:/);
+      expect(await page.$eval('[data-site-id="tarn-north"]', (e) => e.classList.contains('failed'))).toBe(
+        true,
+      );
+      expect(await page.$$eval('.overlay-loss', (e) => e.length)).toBe(1);
+      metrics.outageRedrawMs = await page.evaluate(
+        () =>
+          (window as unknown as { airshade: { metrics: { outageRedrawMs: number[] } } }).airshade.metrics
+            .outageRedrawMs,
+      );
+      metrics.outageLongTasks = await blocksBetween(t0, t1);
+      // Back up again: the loss layer empties.
+      await page.click('[data-fail="tarn-north"]');
+      await page.waitForSelector('#app[data-outage="2"]', { timeout: STEP_MS });
+      expect(await page.textContent('#outage-loss')).toContain('No site failed');
+    },
+    STEP_MS,
+  );
+
+  it(
+    'makes a plan with cost, lower bound and per-volume table',
+    async () => {
+      await panel('plan');
+      // The same measure over a quiet second with nothing running: what the browser itself costs.
+      const q0 = await now();
+      await page.evaluate(() => new Promise((r) => setTimeout(r, 1500)));
+      metrics.idleLongTasks = await blocksBetween(q0, await now());
+      const t0 = await now();
+      await page.click('#run-plan');
+      await page.waitForSelector('#plan-cost', { timeout: STEP_MS });
+      const t1 = await now();
+      metrics.planMs = Math.round(t1 - t0);
+      metrics.planLongTasks = await blocksBetween(t0, t1);
+      const cost = await page.textContent('#plan-cost');
+      expect(cost).toMatch(/^\d+(\.\d+)? M$/);
+      expect(await page.$$eval('#plan-entries tbody tr', (r) => r.length)).toBeGreaterThan(0);
+    },
+    STEP_MS,
+  );
+
+  it(
+    'exports a coverage layer as GeoJSON that a GeoJSON checker accepts',
+    async () => {
+      await panel('files');
+      const [download] = await Promise.all([page.waitForEvent('download'), page.click('#export-layer')]);
+      const path = await download.path();
+      const text = readFileSync(path!, 'utf8');
+      saveArtefact(download.suggestedFilename(), text);
+      const fc = checkGeoJson(text); // throws with the first problem (RFC 7946: winding, rings, coordinates)
+      expect(fc.type).toBe('FeatureCollection');
+      const features = (fc as GeoJSON.FeatureCollection).features;
+      expect(features.length).toBeGreaterThan(0);
+      for (const f of features) {
+        expect(f.properties).toHaveProperty('flightLevel');
+        expect(f.properties).toHaveProperty('altitudeM');
+        expect(f.properties).toHaveProperty('fold');
+        expect(f.properties).toHaveProperty('kind');
+        expect(f.properties).toHaveProperty('siteIds');
+      }
+    },
+    STEP_MS,
+  );
+
+  it(
+    'adds a site by clicking the map, then finds the work restored after a reload',
+    async () => {
+      await panel('sites');
+      await page.click('#add-site');
+      const box = (await page.$('#map'))!.boundingBox();
+      const bb = (await box)!;
+      await page.mouse.click(bb.x + bb.width * 0.55, bb.y + bb.height * 0.45);
+      await expect.poll(siteRows).toHaveLength(E2E_SITES.length + 2);
+      const before = await siteRows();
+      await page.evaluate(() => new Promise((r) => setTimeout(r, 800))); // autosave is debounced
+      await page.reload();
+      await page.waitForSelector('#app[data-ready="true"]', { timeout: STEP_MS });
+      expect(await page.textContent('#message')).toContain('Restored');
+      expect(await siteRows()).toEqual(before);
+      await panel('ground');
+      expect(await page.$$eval('#tile-table tbody tr', (r) => r.length)).toBe(2);
+    },
+    STEP_MS,
+  );
+
+  it(
+    'says what is wrong with a bad scenario file and keeps the work',
+    async () => {
+      const before = await siteRows();
+      await panel('files');
+      await page.setInputFiles('#scenario-file', join(filesDir, 'broken.scenario.json'));
+      await page.waitForSelector('#message .msg.error');
+      const msg = await page.textContent('#message');
+      expect(msg).toContain('broken.scenario.json');
+      expect(msg).toMatch(/line 1, column \d+/);
+      expect(msg).toContain('your work is unchanged');
+      expect(await siteRows()).toEqual(before);
+      // A bad value typed in a table is refused, named, and left in its field.
+      const mast = await page.$('[aria-label="mast of tarn-north"]');
+      await mast!.fill('-5');
+      await mast!.press('Enter');
+      await page.waitForSelector('#message .msg.error');
+      expect(await page.textContent('#message')).toContain('mastHeightM');
+      expect(await mast!.inputValue()).toBe('-5');
+      expect(await mast!.evaluate((e) => e.classList.contains('invalid'))).toBe(true);
+      expect(watch.pageErrors).toEqual([]);
+    },
+    STEP_MS,
+  );
+});
