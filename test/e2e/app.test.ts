@@ -1,3 +1,4 @@
+/// <reference lib="dom" />
 /**
  * The web app end to end, in headless Debian chromium (playwright-core), on the small invented scenario of
  * test/e2e/fixture.ts served as the app's demo: first visit, terrain and sites loaded from files, coverage,
