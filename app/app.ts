@@ -70,6 +70,8 @@ export class App {
   draft: [number, number][] = [];
   diagramPick: { siteId: string; typeId: string } | null = null;
   diagramSvg: string | null = null;
+  /** A blob URL of the diagram, shown as an image (an SVG in an <img> runs no script). */
+  diagramUrl: string | null = null;
   busy: string | null = null;
   readonly metrics: Metrics = { coverageMs: [], outageRedrawMs: [], bootMs: 0 };
   private saveTimer = 0;
@@ -370,6 +372,7 @@ export class App {
       return false;
     }
     const hadCoverage = this.coverage !== null;
+    clear(this.el.message); // an earlier complaint no longer applies
     this.state = next;
     this.study = study;
     this.save();
@@ -662,6 +665,8 @@ export class App {
     this.azimuth = az;
     try {
       this.diagramSvg = await this.engine.diagram(pick.siteId, pick.typeId, az, this.state.units);
+      if (this.diagramUrl) URL.revokeObjectURL(this.diagramUrl);
+      this.diagramUrl = URL.createObjectURL(new Blob([this.diagramSvg], { type: 'image/svg+xml' }));
     } catch (e) {
       this.fail(e);
     }
@@ -701,6 +706,7 @@ export class App {
   refreshVectors(): void {
     if (!this.state) return;
     const inNet = new Set(this.state.network.map((r) => r.siteId));
+    const planned = new Set(this.plan?.entries.map((e) => e.siteId) ?? []);
     const failed = new Set(this.state.failed);
     this.map.setSites(
       this.state.doc.sites.features.map((f) => ({
@@ -711,6 +717,7 @@ export class App {
         existing: f.properties.existing,
         inNetwork: inNet.has(f.properties.id),
         failed: failed.has(f.properties.id),
+        planned: planned.has(f.properties.id),
       })),
       this.panel === 'sites',
     );

@@ -44,6 +44,8 @@ export interface SiteMarker {
   existing: boolean;
   inNetwork: boolean;
   failed: boolean;
+  /** Chosen by the last plan. */
+  planned: boolean;
 }
 
 const STYLE: StyleSpecification = {
@@ -254,7 +256,7 @@ export class MapView {
     });
   }
 
-  /** Markers for the sites: existing (square), candidate (ring), in the network (filled), failed (struck). */
+  /** Sites: existing (square), candidate (round), in the network (filled), failed (struck), planned (halo). */
   setSites(sites: SiteMarker[], draggable: boolean): void {
     const keep = new Set(sites.map((s) => s.id));
     for (const [id, m] of this.markers) {
@@ -295,6 +297,7 @@ export class MapView {
       m.el.classList.toggle('existing', s.existing);
       m.el.classList.toggle('in-network', s.inNetwork);
       m.el.classList.toggle('failed', s.failed);
+      m.el.classList.toggle('planned', s.planned);
     }
     this.applySettings();
   }

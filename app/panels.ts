@@ -818,6 +818,7 @@ function planPanel(app: App): HTMLElement {
         progressProxy(progress),
       );
       app.nMinus1 = null;
+      app.refreshVectors();
     });
   const p = app.plan;
   const result = p
@@ -1166,10 +1167,25 @@ function profilePanel(app: App): HTMLElement {
   });
   const dragging = app.mode === 'azimuth';
   let img: HTMLElement | null = null;
-  if (app.diagramSvg) {
-    const url = URL.createObjectURL(new Blob([app.diagramSvg], { type: 'image/svg+xml' }));
-    const im = h('img', { id: 'diagram', src: url, alt: 'vertical coverage diagram' });
-    im.addEventListener('load', () => URL.revokeObjectURL(url));
+  if (app.diagramSvg && app.diagramUrl) {
+    const url = app.diagramUrl;
+    const im = h('img', {
+      id: 'diagram',
+      src: url,
+      alt: 'vertical coverage diagram',
+      title: 'Click to enlarge',
+    });
+    im.addEventListener('click', () => {
+      const big = h(
+        'dialog',
+        { className: 'diagram-dialog' },
+        h('img', { src: url, alt: 'vertical coverage diagram' }),
+      );
+      big.addEventListener('click', () => big.close());
+      big.addEventListener('close', () => big.remove());
+      document.body.appendChild(big);
+      big.showModal();
+    });
     img = im;
   }
   return h(

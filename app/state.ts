@@ -8,6 +8,7 @@ import { InputError } from '../shared/errors.ts';
 import {
   parseScenario,
   ScenarioError,
+  showValue,
   type Layout,
   type Scenario,
   type SensorType,
@@ -68,7 +69,10 @@ export function validateDoc(doc: unknown, source: string): Scenario {
 
 /** A fresh working state from a validated scenario: the network is its first layout, or its existing sites. */
 export function stateFromScenario(s: Scenario, source: string, units: Units = 'aviation'): WorkState {
-  const layout = s.layouts.find((l) => /exist/i.test(l.name)) ?? s.layouts[0];
+  const layout =
+    s.layouts.find((l) => l.name === WORKING_LAYOUT) ??
+    s.layouts.find((l) => /exist/i.test(l.name)) ??
+    s.layouts[0];
   const network = layout ? layout.sensors.map((x) => ({ ...x })) : existingSensors(s);
   return {
     version: 1,
@@ -96,12 +100,28 @@ export function existingSensors(s: Scenario): SensorRef[] {
 function withDoc(state: WorkState, change: (doc: ScenarioDoc) => void): WorkState {
   const doc = structuredClone(state.doc);
   change(doc);
+  dropDanglingLayoutEntries(doc);
   const s = validateDoc(doc, 'the working scenario');
   const next: WorkState = { ...state, doc: docOf(s) };
   return prune(next);
 }
 
-/** Drops network entries, failures and layout entries that point at sites or types that no longer exist. */
+/** Layout entries whose site or type is gone, or whose type the site no longer allows, leave the layout. */
+function dropDanglingLayoutEntries(doc: ScenarioDoc): void {
+  if (!Array.isArray(doc.layouts) || !Array.isArray(doc.sites?.features) || !Array.isArray(doc.sensorTypes))
+    return;
+  const sites = new Map(doc.sites.features.map((f) => [f.properties?.id, f.properties]));
+  const types = new Set(doc.sensorTypes.map((t) => t?.id));
+  for (const l of doc.layouts) {
+    if (!Array.isArray(l?.sensors)) continue;
+    l.sensors = l.sensors.filter((r) => {
+      const p = sites.get(r.siteId);
+      return p !== undefined && types.has(r.typeId) && (!p.allowedTypes || p.allowedTypes.includes(r.typeId));
+    });
+  }
+}
+
+/** Drops network entries and failures that point at sites or types that no longer exist. */
 function prune(state: WorkState): WorkState {
   const sites = new Map(state.doc.sites.features.map((f) => [f.properties.id, f.properties]));
   const types = new Set(state.doc.sensorTypes.map((t) => t.id));
@@ -167,7 +187,10 @@ export function editSite(state: WorkState, id: string, patch: SitePatch): WorkSt
     if (allowedTypes === null) delete f.properties.allowedTypes;
     else if (allowedTypes !== undefined) f.properties.allowedTypes = allowedTypes;
     if (lon !== undefined || lat !== undefined)
-      f.geometry.coordinates = [lon ?? f.geometry.coordinates[0], lat ?? f.geometry.coordinates[1]];
+      f.geometry.coordinates = [
+        round6(lon ?? f.geometry.coordinates[0]),
+        round6(lat ?? f.geometry.coordinates[1]),
+      ];
   });
 }
 
@@ -189,6 +212,9 @@ export function addSensorType(state: WorkState, type: unknown): WorkState {
 
 /** Replaces a sensor type (its id may change; references follow). */
 export function replaceSensorType(state: WorkState, id: string, type: unknown): WorkState {
+  const i = state.doc.sensorTypes.findIndex((x) => x.id === id);
+  if (typeof type !== 'object' || type === null || Array.isArray(type))
+    throw new InputError(`sensorTypes[${i}]`, showValue(type), 'a sensor type object (JSON)');
   const t = type as SensorType;
   const next = withDoc(state, (doc) => {
     const i = doc.sensorTypes.findIndex((x) => x.id === id);
@@ -279,7 +305,10 @@ export function saveLayout(state: WorkState, name: string): WorkState {
 export function useLayout(state: WorkState, name: string): WorkState {
   const l = state.doc.layouts.find((x) => x.name === name);
   if (!l) throw new InputError('layout', JSON.stringify(name), 'the name of a saved layout');
-  return setNetwork(state, l.sensors);
+  return setNetwork(
+    state,
+    l.sensors.map((r) => ({ ...r })),
+  );
 }
 
 export function removeLayout(state: WorkState, name: string): WorkState {
@@ -303,9 +332,29 @@ export function setFlightLevels(state: WorkState, fls: number[]): WorkState {
 
 // --------------------------------------------------------------------------------------------- the file
 
-/** The scenario file the app saves: the working document with the current network as a layout "working network". */
+export const WORKING_LAYOUT = 'working network';
+
+/**
+ * The scenario file the app saves: the working document, with the current network as the layout "working
+ * network" unless a saved layout already holds exactly that set (opening the file brings the network back).
+ */
 export function scenarioFileText(state: WorkState): string {
   const doc = structuredClone(state.doc);
+  const key = (l: readonly SensorRef[]) =>
+    l
+      .map((r) => `${r.siteId}\u0000${r.typeId}`)
+      .sort()
+      .join('\n');
+  const mine = key(state.network);
+  if (
+    state.network.length > 0 &&
+    !doc.layouts.some((l) => l.name !== WORKING_LAYOUT && key(l.sensors) === mine)
+  ) {
+    const layout = { name: WORKING_LAYOUT, sensors: state.network.map((r) => ({ ...r })) };
+    const i = doc.layouts.findIndex((l) => l.name === WORKING_LAYOUT);
+    if (i >= 0) doc.layouts[i] = layout;
+    else doc.layouts.push(layout);
+  }
   return JSON.stringify(doc, null, 2) + '\n';
 }
 
@@ -320,7 +369,13 @@ export function restoreState(saved: unknown): WorkState {
   const w = saved as WorkState;
   const s = validateDoc(w.doc, 'the saved working scenario');
   const base = stateFromScenario(s, w.source, w.units === 'metric' ? 'metric' : 'aviation');
-  const layers = { ...structuredClone(DEFAULT_LAYERS), ...(w.view?.layers ?? {}) };
+  const layers = structuredClone(DEFAULT_LAYERS);
+  const savedLayers = (w.view?.layers ?? {}) as Record<string, unknown>;
+  for (const id of Object.keys(layers) as LayerId[]) {
+    const x = savedLayers[id] as Partial<LayerSetting> | null | undefined;
+    if (x && typeof x.on === 'boolean' && typeof x.opacity === 'number' && x.opacity >= 0 && x.opacity <= 1)
+      layers[id] = { on: x.on, opacity: x.opacity };
+  }
   const fl = s.flightLevels.includes(w.view?.fl) ? w.view.fl : s.flightLevels[0];
   const kind: FoldKind = ['any', 'primary', 'secondary'].includes(w.view?.kind) ? w.view.kind : 'any';
   return prune({

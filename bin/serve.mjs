@@ -308,6 +308,13 @@ async function main(argv) {
     return 1;
   }
   console.log(`Airshade is running at ${server.url}`);
+  console.log(
+    'Open it in Chromium, Chrome, Edge or Firefox; the demo loads on the first visit. Ctrl+C stops the server.',
+  );
+  console.log(
+    'A planning aid, not a certified or flight-inspected result: coverage depends on the terrain data and refraction;',
+  );
+  console.log('defer to the local authority’s standards and licensed engineering practice.');
   const stop = () => {
     server.close().then(() => process.exit(0));
   };

@@ -396,8 +396,9 @@ export class Engine {
           },
         },
       );
-      check();
+      // Finished work is kept even when the job was cancelled meanwhile.
       r.footprints.forEach((fp, i) => this.remember(group[i].key, fp));
+      check();
       done++;
       progress?.(from + (span * done) / groups.length, `${group[0].cand.site.name}: done`);
     }

@@ -1,0 +1,764 @@
+/**
+ * The web app's working state (app/state.ts): every edit a user can make, as pure functions. The starting state
+ * is the demo scenario read the way the CLI reads it; a tiny inline scenario covers how the first network is
+ * chosen. Each refused edit is checked for an InputError naming the field and for leaving the state it was given
+ * exactly as it was (deep-compared with a structuredClone taken before the call).
+ */
+import { beforeAll, describe, expect, it } from 'vitest';
+import { InputError, isInputError } from '../shared/errors.ts';
+import {
+  parseScenario,
+  ScenarioError,
+  type Scenario,
+  type SensorType,
+  type Volume,
+} from '../shared/scenario.ts';
+import { loadScenario } from '../worker/cli/scenario.ts';
+import {
+  addSensorType,
+  addSite,
+  addVolume,
+  DEFAULT_LAYERS,
+  editSite,
+  editVolume,
+  errorLines,
+  moveSite,
+  removeLayout,
+  removeSensorType,
+  removeSite,
+  removeVolume,
+  replaceSensorType,
+  restoreState,
+  saveLayout,
+  scenarioFileText,
+  setFailed,
+  setFlightLevels,
+  setNetwork,
+  stateFromScenario,
+  toggleSensor,
+  useLayout,
+  type SensorRef,
+  type WorkState,
+} from '../app/state.ts';
+import { FIXTURE_PRIMARY, FIXTURE_SECONDARY } from './support/scenario-fixture.ts';
+
+let demo: Scenario;
+beforeAll(async () => {
+  ({ scenario: demo } = await loadScenario('data/demo-scenario.json', { checkTerrainFiles: false }));
+});
+
+/** A fresh state from the demo (its own copy of the scenario, so no test can leak into another). */
+const fresh = (): WorkState => stateFromScenario(structuredClone(demo), 'demo-scenario.json');
+
+const siteIds = (s: WorkState) => s.doc.sites.features.map((f) => f.properties.id);
+const siteOf = (s: WorkState, id: string) => {
+  const f = s.doc.sites.features.find((x) => x.properties.id === id);
+  if (!f) throw new Error(`test: no site ${id}`);
+  return f;
+};
+const typeOf = (s: WorkState, id: string): SensorType => {
+  const t = s.doc.sensorTypes.find((x) => x.id === id);
+  if (!t) throw new Error(`test: no sensor type ${id}`);
+  return t;
+};
+const layoutOf = (s: WorkState, name: string) => {
+  const l = s.doc.layouts.find((x) => x.name === name);
+  if (!l) throw new Error(`test: no layout ${name}`);
+  return l;
+};
+const has = (list: SensorRef[], siteId: string, typeId: string) =>
+  list.some((r) => r.siteId === siteId && r.typeId === typeId);
+
+/** Runs an edit that must be refused: an InputError whose message contains `field`, and `state` untouched. */
+function expectRefused(state: WorkState, edit: (s: WorkState) => unknown, field: string): InputError {
+  const before = structuredClone(state);
+  let thrown: unknown;
+  try {
+    edit(state);
+  } catch (e) {
+    thrown = e;
+  }
+  expect(thrown, `expected the edit to be refused (${field})`).toBeDefined();
+  expect(isInputError(thrown), `expected an InputError, got ${String(thrown)}`).toBe(true);
+  expect((thrown as InputError).message).toContain(field);
+  expect(state).toStrictEqual(before);
+  return thrown as InputError;
+}
+
+/** Runs an edit that must succeed and leave its input untouched; returns the new state. */
+function applied<T>(state: WorkState, edit: (s: WorkState) => T): T {
+  const before = structuredClone(state);
+  const next = edit(state);
+  expect(state).toStrictEqual(before);
+  return next;
+}
+
+const ring = (w: number, s: number, e: number, n: number) => [
+  [w, s],
+  [e, s],
+  [e, n],
+  [w, n],
+  [w, s],
+];
+
+const newVolume = (over: Record<string, unknown> = {}) =>
+  ({
+    name: 'Invented test block',
+    polygon: { type: 'Polygon', coordinates: [ring(-29.5, -41.5, -28.5, -40.5)] },
+    flMin: 100,
+    flMax: 200,
+    requiredFold: { any: 1 },
+    ...over,
+  }) as Omit<Volume, 'id'>;
+
+/** A tiny inline scenario (invented names) for how the first network is chosen. */
+function tiny(layouts: { name: string; sensors: SensorRef[] }[]): Scenario {
+  const site = (id: string, lon: number, existing: boolean, allowedTypes?: string[]) => ({
+    type: 'Feature',
+    geometry: { type: 'Point', coordinates: [lon, -41] },
+    properties: {
+      id,
+      name: `Test site ${id}`,
+      mastHeightM: 10,
+      siteCost: 1,
+      existing,
+      ...(allowedTypes ? { allowedTypes } : {}),
+    },
+  });
+  return parseScenario(
+    {
+      name: 'Tiny invented scenario',
+      terrain: { files: ['tile.tif'] },
+      earth: { kFactor: 4 / 3 },
+      grid: { cellArcSec: 60 },
+      flightLevels: [120, 80],
+      sensorTypes: [FIXTURE_PRIMARY, FIXTURE_SECONDARY],
+      sites: {
+        type: 'FeatureCollection',
+        features: [
+          site('north', -30.1, true),
+          site('south', -30.2, true, ['ssr-t']),
+          site('west', -30.3, false),
+        ],
+      },
+      volumes: [],
+      layouts,
+    },
+    'tiny.json',
+  );
+}
+
+// ---------------------------------------------------------------------------------------------------
+
+describe('stateFromScenario', () => {
+  it('takes the demo layout whose name mentions "exist" as the network, the first flight level, aviation units', () => {
+    const s = fresh();
+    const layout = demo.layouts.find((l) => l.name === 'existing network');
+    expect(layout).toBeDefined();
+    expect(s.network).toEqual(layout!.sensors);
+    expect(s.network[0]).not.toBe(layout!.sensors[0]); // a copy, not the layout's own entries
+    expect(s.view.fl).toBe(demo.flightLevels[0]);
+    expect(s.view.kind).toBe('any');
+    expect(s.view.layers).toEqual(DEFAULT_LAYERS);
+    expect(s.units).toBe('aviation');
+    expect(s.failed).toEqual([]);
+    expect(s.source).toBe('demo-scenario.json');
+    expect(s.doc.sites.type).toBe('FeatureCollection');
+    expect(s.doc.sites.features).toEqual(demo.sites);
+  });
+
+  it('finds the "exist" layout case-insensitively even when it is not first', () => {
+    const s = stateFromScenario(
+      tiny([
+        { name: 'alpha', sensors: [{ siteId: 'west', typeId: 'psr-t' }] },
+        { name: 'The EXISTING kit', sensors: [{ siteId: 'north', typeId: 'ssr-t' }] },
+      ]),
+      'tiny.json',
+      'metric',
+    );
+    expect(s.network).toEqual([{ siteId: 'north', typeId: 'ssr-t' }]);
+    expect(s.units).toBe('metric');
+    expect(s.view.fl).toBe(120); // the first flight level as listed, not the lowest
+  });
+
+  it('falls back to the first layout when no name mentions "exist"', () => {
+    const s = stateFromScenario(
+      tiny([
+        { name: 'alpha', sensors: [{ siteId: 'west', typeId: 'psr-t' }] },
+        { name: 'beta', sensors: [{ siteId: 'north', typeId: 'ssr-t' }] },
+      ]),
+      'tiny.json',
+    );
+    expect(s.network).toEqual([{ siteId: 'west', typeId: 'psr-t' }]);
+  });
+
+  it('without layouts, puts one sensor on each existing site: its first allowed type, else the first type', () => {
+    const s = stateFromScenario(tiny([]), 'tiny.json');
+    expect(s.network).toEqual([
+      { siteId: 'north', typeId: 'psr-t' },
+      { siteId: 'south', typeId: 'ssr-t' },
+    ]);
+  });
+});
+
+// ---------------------------------------------------------------------------------------------------
+
+describe('sites', () => {
+  it('addSite gives a fresh id, rounds the point to 1e-6 and fills the defaults, leaving the input alone', () => {
+    const s = fresh();
+    const { state, id } = applied(s, (x) => addSite(x, -28.123456789, -40.9876543219));
+    expect(siteIds(s)).not.toContain(id);
+    expect(id).toMatch(/^site-\d+$/);
+    const f = siteOf(state, id);
+    expect(f.geometry.coordinates).toEqual([-28.123457, -40.987654]);
+    expect(f.properties).toEqual({
+      id,
+      name: expect.any(String),
+      mastHeightM: 20,
+      siteCost: 5,
+      existing: false,
+    });
+    expect(f.properties.name.length).toBeGreaterThan(0);
+    expect(state.doc.sites.features).toHaveLength(s.doc.sites.features.length + 1);
+    expect(state.network).toEqual(s.network);
+  });
+
+  it('addSite ids never collide with existing ones, even after removals shrink the list', () => {
+    let s = fresh();
+    const a = addSite(s, -28.5, -41);
+    s = a.state;
+    s = removeSite(s, 'karvessa'); // the site count is back to the demo's, but a.id is still taken
+    const b = addSite(s, -28.6, -41.1);
+    expect(b.id).not.toBe(a.id);
+    expect(siteIds(s)).not.toContain(b.id);
+    s = removeSite(b.state, a.id);
+    const c = addSite(s, -28.7, -41.2);
+    expect(siteIds(s)).not.toContain(c.id);
+    const ids = siteIds(c.state);
+    expect(new Set(ids).size).toBe(ids.length);
+  });
+
+  it('addSite takes the given properties and refuses bad ones naming the field', () => {
+    const s = fresh();
+    const { state, id } = addSite(s, -28, -41, {
+      name: 'Invented Hill',
+      mastHeightM: 42,
+      siteCost: 0.5,
+      existing: true,
+      allowedTypes: ['ssr-short'],
+    });
+    expect(siteOf(state, id).properties).toEqual({
+      id,
+      name: 'Invented Hill',
+      mastHeightM: 42,
+      siteCost: 0.5,
+      existing: true,
+      allowedTypes: ['ssr-short'],
+    });
+    expectRefused(s, (x) => addSite(x, -28, -41, { mastHeightM: -3 }), 'mastHeightM');
+    expectRefused(s, (x) => addSite(x, -28, 91), 'coordinates[1]');
+    expectRefused(s, (x) => addSite(x, -28, -41, { id: 'karvessa' }), 'properties.id');
+    expectRefused(s, (x) => addSite(x, -28, -41, { allowedTypes: ['no-such-type'] }), 'allowedTypes[0]');
+  });
+
+  it('moveSite moves (rounded to 1e-6) and refuses a point off the globe or an unknown site', () => {
+    const s = fresh();
+    const next = applied(s, (x) => moveSite(x, 'vessamor', -28.00000049, -41.6543216));
+    expect(siteOf(next, 'vessamor').geometry.coordinates).toEqual([-28, -41.654322]);
+    expect(siteOf(next, 'vessamor').properties).toEqual(siteOf(s, 'vessamor').properties);
+    expectRefused(s, (x) => moveSite(x, 'vessamor', NaN, -41), 'coordinates[0]');
+    expectRefused(s, (x) => moveSite(x, 'vessamor', -28, 95), 'coordinates[1]');
+    expectRefused(s, (x) => moveSite(x, 'vessamor', 181, -41), 'coordinates[0]');
+    expectRefused(s, (x) => moveSite(x, 'nowhere', -28, -41), 'nowhere');
+  });
+
+  it('editSite applies name, mast, cost, existing and position', () => {
+    const s = fresh();
+    const next = applied(s, (x) =>
+      editSite(x, 'vessamor', {
+        name: 'Vessamor Top (raised)',
+        mastHeightM: 33,
+        siteCost: 0,
+        existing: true,
+        lon: -28.2,
+        lat: -41.6,
+      }),
+    );
+    const f = siteOf(next, 'vessamor');
+    expect(f.properties).toEqual({
+      id: 'vessamor',
+      name: 'Vessamor Top (raised)',
+      mastHeightM: 33,
+      siteCost: 0,
+      existing: true,
+    });
+    expect(f.geometry.coordinates).toEqual([-28.2, -41.6]);
+    // Only lat given: lon stays.
+    const moved = editSite(next, 'vessamor', { lat: -41.7 });
+    expect(siteOf(moved, 'vessamor').geometry.coordinates).toEqual([-28.2, -41.7]);
+  });
+
+  it('editSite refuses bad values naming the field and leaves the state', () => {
+    const s = fresh();
+    expectRefused(s, (x) => editSite(x, 'karvessa', { mastHeightM: -1 }), 'mastHeightM');
+    expectRefused(s, (x) => editSite(x, 'karvessa', { siteCost: -0.1 }), 'siteCost');
+    expectRefused(s, (x) => editSite(x, 'karvessa', { lon: NaN }), 'coordinates[0]');
+    expectRefused(s, (x) => editSite(x, 'karvessa', { lat: 95 }), 'coordinates[1]');
+    expectRefused(s, (x) => editSite(x, 'karvessa', { name: '' }), 'properties.name');
+    expectRefused(s, (x) => editSite(x, 'karvessa', { allowedTypes: [] }), 'allowedTypes');
+    expectRefused(s, (x) => editSite(x, 'karvessa', { allowedTypes: ['psr-x'] }), 'allowedTypes[0]');
+    const e = expectRefused(s, (x) => editSite(x, 'no-such-site', { name: 'x' }), 'no-such-site');
+    expect(e.where).toBe('site');
+  });
+
+  it('removeSite removes the site with its network entries, failures and layout entries', () => {
+    let s = fresh();
+    s = setFailed(s, 'karvessa', true);
+    s = setFailed(s, 'obrellan', true);
+    expect(has(s.network, 'karvessa', 'psr-l-longrange')).toBe(true);
+    const inLayouts = s.doc.layouts.map((l) => l.sensors.filter((x) => x.siteId === 'karvessa').length);
+    expect(inLayouts.every((n) => n > 0)).toBe(true);
+
+    const next = applied(s, (x) => removeSite(x, 'karvessa'));
+    expect(siteIds(next)).not.toContain('karvessa');
+    expect(siteIds(next)).toHaveLength(siteIds(s).length - 1);
+    expect(next.network).toEqual(s.network.filter((r) => r.siteId !== 'karvessa'));
+    expect(next.failed).toEqual(['obrellan']);
+    next.doc.layouts.forEach((l, i) => {
+      expect(l.name).toBe(s.doc.layouts[i].name);
+      expect(l.sensors).toEqual(s.doc.layouts[i].sensors.filter((x) => x.siteId !== 'karvessa'));
+    });
+    expectRefused(next, (x) => removeSite(x, 'karvessa'), 'karvessa');
+  });
+
+  it('editSite allowedTypes restricts the site (dropping now-disallowed network sensors); null lifts it', () => {
+    let s = fresh();
+    s = toggleSensor(s, 'vessamor', 'psr-l-longrange', true);
+    s = toggleSensor(s, 'vessamor', 'ssr-short', true);
+    const restricted = applied(s, (x) => editSite(x, 'vessamor', { allowedTypes: ['ssr-short'] }));
+    expect(siteOf(restricted, 'vessamor').properties.allowedTypes).toEqual(['ssr-short']);
+    expect(has(restricted.network, 'vessamor', 'psr-l-longrange')).toBe(false);
+    expect(has(restricted.network, 'vessamor', 'ssr-short')).toBe(true);
+    expect(restricted.network).toHaveLength(s.network.length - 1);
+    // A disallowed type cannot be switched on while the restriction holds.
+    expect(toggleSensor(restricted, 'vessamor', 'psr-l-longrange', true).network).toEqual(restricted.network);
+
+    const lifted = editSite(restricted, 'vessamor', { allowedTypes: null });
+    expect('allowedTypes' in siteOf(lifted, 'vessamor').properties).toBe(false);
+    expect(
+      has(toggleSensor(lifted, 'vessamor', 'psr-l-longrange', true).network, 'vessamor', 'psr-l-longrange'),
+    ).toBe(true);
+  });
+
+  // Restricting a site's allowed types drops the layout entries that used a now-disallowed type there (as
+  // removeSite and removeSensorType drop theirs) instead of being refused by the layout check.
+  it('editSite allowedTypes also drops now-disallowed layout entries at that site', () => {
+    const s = fresh();
+    const next = editSite(s, 'karvessa', { allowedTypes: ['ssr-mono-lva'] });
+    expect(has(next.network, 'karvessa', 'psr-l-longrange')).toBe(false);
+    expect(has(next.network, 'karvessa', 'ssr-mono-lva')).toBe(true);
+    for (const l of next.doc.layouts) expect(has(l.sensors, 'karvessa', 'psr-l-longrange')).toBe(false);
+    expect(has(layoutOf(next, 'existing network').sensors, 'karvessa', 'ssr-mono-lva')).toBe(true);
+  });
+});
+
+// ---------------------------------------------------------------------------------------------------
+
+describe('sensor types', () => {
+  it('replaceSensorType with a new id moves every reference: allowed types, layouts, network', () => {
+    let s = fresh();
+    s = editSite(s, 'zel-point', { allowedTypes: ['psr-s-terminal', 'ssr-short'] });
+    s = toggleSensor(s, 'zel-point', 'ssr-short', true);
+    const old = typeOf(s, 'ssr-short');
+    const renamed = { ...structuredClone(old), id: 'ssr-compact', name: 'Compact secondary (renamed)' };
+
+    const next = applied(s, (x) => replaceSensorType(x, 'ssr-short', renamed));
+    const ids = next.doc.sensorTypes.map((t) => t.id);
+    expect(ids).toContain('ssr-compact');
+    expect(ids).not.toContain('ssr-short');
+    expect(ids.indexOf('ssr-compact')).toBe(s.doc.sensorTypes.findIndex((t) => t.id === 'ssr-short'));
+    expect(typeOf(next, 'ssr-compact').name).toBe('Compact secondary (renamed)');
+    expect(siteOf(next, 'zel-point').properties.allowedTypes).toEqual(['psr-s-terminal', 'ssr-compact']);
+    const rename = (r: SensorRef) => (r.typeId === 'ssr-short' ? { ...r, typeId: 'ssr-compact' } : r);
+    next.doc.layouts.forEach((l, i) => expect(l.sensors).toEqual(s.doc.layouts[i].sensors.map(rename)));
+    expect(next.network).toEqual(s.network.map(rename));
+    expect(has(next.network, 'zel-point', 'ssr-compact')).toBe(true);
+    for (const f of next.doc.sites.features)
+      expect(f.properties.allowedTypes ?? []).not.toContain('ssr-short');
+  });
+
+  it('replaceSensorType keeping the id changes the type only; a bad replacement is refused', () => {
+    const s = fresh();
+    const t = { ...structuredClone(typeOf(s, 'ssr-short')), cost: 9 };
+    const next = replaceSensorType(s, 'ssr-short', t);
+    expect(typeOf(next, 'ssr-short').cost).toBe(9);
+    expect(next.network).toEqual(s.network);
+    expect(next.doc.layouts).toEqual(s.doc.layouts);
+    expectRefused(s, (x) => replaceSensorType(x, 'ssr-short', { ...t, frequencyMHz: -5 }), 'frequencyMHz');
+    // Renaming onto another type's id would duplicate it.
+    expectRefused(s, (x) => replaceSensorType(x, 'ssr-short', { ...t, id: 'ssr-mono-lva' }), '.id');
+    expectRefused(s, (x) => replaceSensorType(x, 'no-such-type', t), 'no-such-type');
+  });
+
+  // The sensor-type editor passes JSON.parse of its text box; `null` must be refused with a message, not a TypeError.
+  it('replaceSensorType with null is refused with an InputError', () => {
+    const s = fresh();
+    expectRefused(s, (x) => replaceSensorType(x, 'ssr-short', null), 'sensorTypes[');
+  });
+
+  it('removeSensorType drops every reference to it', () => {
+    let s = fresh();
+    s = editSite(s, 'zel-point', { allowedTypes: ['psr-s-terminal', 'ssr-short'] });
+    s = editSite(s, 'zel-east', { allowedTypes: ['ssr-short'] });
+    const next = applied(s, (x) => removeSensorType(x, 'ssr-short'));
+    expect(next.doc.sensorTypes.map((t) => t.id)).not.toContain('ssr-short');
+    expect(next.doc.sensorTypes).toHaveLength(s.doc.sensorTypes.length - 1);
+    expect(next.network).toEqual(s.network.filter((r) => r.typeId !== 'ssr-short'));
+    next.doc.layouts.forEach((l, i) =>
+      expect(l.sensors).toEqual(s.doc.layouts[i].sensors.filter((r) => r.typeId !== 'ssr-short')),
+    );
+    expect(siteOf(next, 'zel-point').properties.allowedTypes).toEqual(['psr-s-terminal']);
+    // The schema refuses an empty allowedTypes list, so a site whose only allowed type goes loses its restriction.
+    expect(siteOf(next, 'zel-east').properties.allowedTypes).toBeUndefined();
+  });
+
+  it('addSensorType adds a valid type and refuses an invalid one naming the field', () => {
+    const s = fresh();
+    const base = {
+      ...structuredClone(typeOf(s, 'ssr-short')),
+      id: 'ssr-invented',
+      name: 'Invented secondary',
+    };
+    const next = applied(s, (x) => addSensorType(x, base));
+    expect(next.doc.sensorTypes).toHaveLength(s.doc.sensorTypes.length + 1);
+    expect(typeOf(next, 'ssr-invented').name).toBe('Invented secondary');
+    expect(next.network).toEqual(s.network);
+
+    expectRefused(s, (x) => addSensorType(x, { ...base, kind: 'tertiary' }), '.kind');
+    const { detection: _dropped, ...noDetection } = base;
+    expectRefused(s, (x) => addSensorType(x, noDetection), '.detection');
+    expectRefused(s, (x) => addSensorType(x, { ...base, id: 'ssr-short' }), '.id');
+    // Unknown fields are refused in the scenario's own objects (strictObject).
+    expectRefused(s, (x) => addSensorType(x, { ...base, beamColour: 'teal' }), 'beamColour');
+    expectRefused(s, (x) => addSensorType(x, null), 'sensorTypes[');
+  });
+});
+
+// ---------------------------------------------------------------------------------------------------
+
+describe('volumes', () => {
+  it('addVolume adds with a fresh id and the default weight; editVolume changes; removeVolume removes', () => {
+    const s = fresh();
+    const added = applied(s, (x) => addVolume(x, newVolume()));
+    expect(added.doc.volumes).toHaveLength(s.doc.volumes.length + 1);
+    const v = added.doc.volumes[added.doc.volumes.length - 1];
+    expect(s.doc.volumes.map((x) => x.id)).not.toContain(v.id);
+    expect(v).toMatchObject({ name: 'Invented test block', flMin: 100, flMax: 200, weight: 1 });
+
+    const twice = addVolume(added, newVolume({ id: 'my-block' }));
+    expect(twice.doc.volumes.map((x) => x.id)).toContain('my-block');
+    const third = addVolume(removeVolume(twice, v.id), newVolume());
+    const ids = third.doc.volumes.map((x) => x.id);
+    expect(new Set(ids).size).toBe(ids.length);
+
+    const edited = applied(added, (x) =>
+      editVolume(x, v.id, { flMax: 300, weight: 2.5, name: 'Renamed block' }),
+    );
+    expect(edited.doc.volumes.find((x) => x.id === v.id)).toMatchObject({
+      flMin: 100,
+      flMax: 300,
+      weight: 2.5,
+      name: 'Renamed block',
+    });
+
+    const removed = applied(edited, (x) => removeVolume(x, v.id));
+    expect(removed.doc.volumes).toEqual(s.doc.volumes);
+  });
+
+  it('refuses flMin above flMax, unknown fields, a duplicate id and an unknown volume', () => {
+    const s = fresh();
+    const id = s.doc.volumes[0].id; // upper-enroute: FL245–460
+    // VolumeSchema's cross-field rule "flMin ≤ flMax" is reported at flMax.
+    expectRefused(s, (x) => addVolume(x, newVolume({ flMin: 300, flMax: 200 })), 'flMax');
+    expectRefused(s, (x) => editVolume(x, id, { flMin: 500 }), 'flMax');
+    // VolumeSchema is a strictObject: an unknown field is refused by name.
+    expectRefused(s, (x) => addVolume(x, newVolume({ colour: 'amber' })), 'colour');
+    expectRefused(s, (x) => editVolume(x, id, { shade: 3 } as Partial<Volume>), 'shade');
+    // Flight levels must be whole numbers 0–600.
+    expectRefused(s, (x) => addVolume(x, newVolume({ flMax: 650 })), 'flMax');
+    expectRefused(s, (x) => addVolume(x, newVolume({ id })), '.id');
+    expectRefused(s, (x) => editVolume(x, 'no-such-volume', { flMax: 300 }), 'no-such-volume');
+    // An open ring is not a polygon.
+    const open = { type: 'Polygon', coordinates: [ring(-29.5, -41.5, -28.5, -40.5).slice(0, 4)] };
+    expectRefused(s, (x) => addVolume(x, newVolume({ polygon: open })), 'polygon');
+  });
+});
+
+// ---------------------------------------------------------------------------------------------------
+
+describe('network and layouts', () => {
+  it('setNetwork de-duplicates (first occurrence kept) and drops references to unknown sites or types', () => {
+    const s = fresh();
+    const next = applied(s, (x) =>
+      setNetwork(x, [
+        { siteId: 'vessamor', typeId: 'ssr-short' },
+        { siteId: 'karvessa', typeId: 'psr-l-longrange' },
+        { siteId: 'vessamor', typeId: 'ssr-short' },
+        { siteId: 'nowhere', typeId: 'ssr-short' },
+        { siteId: 'karvessa', typeId: 'no-such-type' },
+        { siteId: 'karvessa', typeId: 'psr-l-longrange' },
+      ]),
+    );
+    expect(next.network).toEqual([
+      { siteId: 'vessamor', typeId: 'ssr-short' },
+      { siteId: 'karvessa', typeId: 'psr-l-longrange' },
+    ]);
+  });
+
+  it('toggleSensor switches a sensor on once and off again', () => {
+    const s = fresh();
+    const on = applied(s, (x) => toggleSensor(x, 'tessaline', 'psr-s-gapfiller', true));
+    expect(on.network).toEqual([...s.network, { siteId: 'tessaline', typeId: 'psr-s-gapfiller' }]);
+    expect(toggleSensor(on, 'tessaline', 'psr-s-gapfiller', true).network).toHaveLength(on.network.length);
+    const off = toggleSensor(on, 'tessaline', 'psr-s-gapfiller', false);
+    expect(off.network).toEqual(s.network);
+    const offExisting = toggleSensor(s, 'karvessa', 'psr-l-longrange', false);
+    expect(has(offExisting.network, 'karvessa', 'psr-l-longrange')).toBe(false);
+    expect(offExisting.network).toHaveLength(s.network.length - 1);
+  });
+
+  it('saveLayout saves the network under a trimmed name, replacing one of the same name; refuses an empty name', () => {
+    let s = fresh();
+    s = toggleSensor(s, 'tessaline', 'psr-s-gapfiller', true);
+    const saved = applied(s, (x) => saveLayout(x, '  my plan  '));
+    expect(saved.doc.layouts).toHaveLength(s.doc.layouts.length + 1);
+    expect(layoutOf(saved, 'my plan').sensors).toEqual(s.network);
+
+    const smaller = toggleSensor(saved, 'karvessa', 'psr-l-longrange', false);
+    const resaved = saveLayout(smaller, 'my plan');
+    expect(resaved.doc.layouts).toHaveLength(saved.doc.layouts.length);
+    expect(layoutOf(resaved, 'my plan').sensors).toEqual(smaller.network);
+    expect(resaved.doc.layouts.map((l) => l.name)).toEqual(saved.doc.layouts.map((l) => l.name));
+
+    const e = expectRefused(s, (x) => saveLayout(x, '   '), 'layout name');
+    expect(e.where).toBe('layout name');
+  });
+
+  it('useLayout makes a saved layout the network; an unknown name throws; removeLayout removes it', () => {
+    const s = fresh();
+    const name = 'existing plus coastal fill-in';
+    const used = applied(s, (x) => useLayout(x, name));
+    expect(used.network).toEqual(layoutOf(s, name).sensors);
+    expect(used.network).not.toEqual(s.network);
+    expectRefused(s, (x) => useLayout(x, 'no such layout'), 'no such layout');
+
+    const removed = applied(used, (x) => removeLayout(x, name));
+    expect(removed.doc.layouts.map((l) => l.name)).toEqual(['existing network']);
+    expect(removed.network).toEqual(used.network); // the network stays as it is
+  });
+
+  it('setFailed adds a site once and removes it', () => {
+    const s = fresh();
+    const a = applied(s, (x) => setFailed(x, 'karvessa', true));
+    expect(a.failed).toEqual(['karvessa']);
+    const b = setFailed(setFailed(a, 'obrellan', true), 'karvessa', true);
+    expect([...b.failed].sort()).toEqual(['karvessa', 'obrellan']);
+    expect(setFailed(b, 'karvessa', false).failed).toEqual(['obrellan']);
+    expect(setFailed(s, 'karvessa', false).failed).toEqual([]);
+  });
+
+  it('setFlightLevels sorts and de-duplicates; view.fl moves to the first level only when the shown one is gone', () => {
+    const s = fresh();
+    expect(s.view.fl).toBe(50);
+    const next = applied(s, (x) => setFlightLevels(x, [300, 100, 300, 200, 100]));
+    expect(next.doc.flightLevels).toEqual([100, 200, 300]);
+    expect(next.view.fl).toBe(100);
+    const shown = { ...next, view: { ...next.view, fl: 200 } };
+    const kept = setFlightLevels(shown, [400, 200]);
+    expect(kept.doc.flightLevels).toEqual([200, 400]);
+    expect(kept.view.fl).toBe(200);
+    expectRefused(s, (x) => setFlightLevels(x, []), 'flightLevels');
+    expectRefused(s, (x) => setFlightLevels(x, [100, 700]), 'flightLevels[1]');
+    expectRefused(s, (x) => setFlightLevels(x, [12.5]), 'flightLevels[0]');
+  });
+});
+
+// ---------------------------------------------------------------------------------------------------
+
+describe('the scenario file', () => {
+  /** A demo state with one of each kind of edit. */
+  function edited(): WorkState {
+    let s = fresh();
+    s = addSite(s, -28.25, -41.25, { name: 'Invented Point', allowedTypes: ['ssr-short'] }).state;
+    s = addVolume(s, newVolume());
+    s = toggleSensor(s, 'tessaline', 'psr-s-gapfiller', true);
+    s = saveLayout(s, 'with tessaline');
+    s = editSite(s, 'vessamor', { mastHeightM: 18 });
+    return s;
+  }
+
+  it('scenarioFileText is a scenario the schema accepts, and rebuilds the same sites, types, volumes, layouts', () => {
+    const s = edited();
+    const text = applied(s, (x) => scenarioFileText(x));
+    expect(text.endsWith('\n')).toBe(true);
+    const back = parseScenario(JSON.parse(text), 'saved.scenario.json');
+    const rebuilt = stateFromScenario(back, 'saved.scenario.json');
+    expect(rebuilt.doc.sites).toEqual(s.doc.sites);
+    expect(rebuilt.doc.sensorTypes).toEqual(s.doc.sensorTypes);
+    expect(rebuilt.doc.volumes).toEqual(s.doc.volumes);
+    expect(rebuilt.doc.layouts).toEqual(s.doc.layouts);
+    expect(rebuilt.doc.flightLevels).toEqual(s.doc.flightLevels);
+    expect(rebuilt.doc).toEqual(s.doc);
+  });
+
+  // The saved file carries the current network as the layout "working network", so opening it brings it back.
+  it('scenarioFileText saves the current network as the layout "working network"', () => {
+    const s = toggleSensor(fresh(), 'tessaline', 'psr-s-gapfiller', true);
+    const doc = JSON.parse(scenarioFileText(s)) as { layouts: { name: string; sensors: SensorRef[] }[] };
+    const working = doc.layouts.find((l) => l.name === 'working network');
+    expect(working?.sensors).toEqual(s.network);
+  });
+});
+
+// ---------------------------------------------------------------------------------------------------
+
+describe('restoreState', () => {
+  /** As IndexedDB would give it back: a plain copy without prototypes (JSON is stricter than structuredClone). */
+  const asSaved = (s: WorkState): Record<string, unknown> => JSON.parse(JSON.stringify(s));
+
+  function worked(): WorkState {
+    let s = fresh();
+    s = addSite(s, -28.3, -41.3).state;
+    s = toggleSensor(s, 'tessaline', 'psr-s-gapfiller', true);
+    s = setFailed(s, 'obrellan', true);
+    const layers = { ...s.view.layers, floor: { on: true, opacity: 0.4 }, relief: { on: false, opacity: 1 } };
+    return { ...s, units: 'metric', view: { fl: 245, kind: 'secondary', layers } };
+  }
+
+  it('gives back an equal state from a JSON copy', () => {
+    const s = worked();
+    const back = restoreState(asSaved(s));
+    expect(back.version).toBe(1);
+    expect(back.source).toBe(s.source);
+    expect(back.doc).toEqual(s.doc);
+    expect(back.network).toEqual(s.network);
+    expect(back.failed).toEqual(s.failed);
+    expect(back.units).toBe('metric');
+    expect(back.view).toEqual(s.view);
+    // and it still edits
+    expect(toggleSensor(back, 'tessaline', 'psr-s-gapfiller', false).network).toHaveLength(
+      s.network.length - 1,
+    );
+  });
+
+  it('throws on malformed saved work instead of returning part of it', () => {
+    const good = asSaved(worked());
+    const e = expectRefused(fresh(), () => restoreState(null), 'saved work');
+    expect(e.where).toBe('saved work');
+    expectRefused(fresh(), () => restoreState('a string'), 'saved work');
+    expectRefused(fresh(), () => restoreState({ ...good, version: 2 }), 'saved work');
+    expectRefused(fresh(), () => restoreState({ ...good, doc: undefined }), 'the saved working scenario');
+
+    const badSite = structuredClone(good) as { doc: WorkState['doc'] };
+    badSite.doc.sites.features[3].properties.mastHeightM = -7;
+    const err = expectRefused(fresh(), () => restoreState(badSite), 'mastHeightM');
+    expect(err.message).toContain('the saved working scenario: sites.features[3].properties.mastHeightM');
+  });
+
+  it('falls back to defaults for a bad kind, a flight level not in the list, unknown units, missing parts', () => {
+    const saved = asSaved(worked()) as Record<string, unknown> & { view: Record<string, unknown> };
+    const back = restoreState({
+      ...saved,
+      units: 'furlongs',
+      view: { ...saved.view, kind: 'tertiary', fl: 123 },
+    });
+    expect(back.view.kind).toBe('any');
+    expect(back.view.fl).toBe(back.doc.flightLevels[0]);
+    expect(back.units).toBe('aviation');
+    expect(back.view.layers.floor).toEqual({ on: true, opacity: 0.4 }); // a good setting is kept
+
+    const bare = restoreState({ version: 1, doc: saved.doc, source: 'x' });
+    expect(bare.view).toEqual({ fl: bare.doc.flightLevels[0], kind: 'any', layers: DEFAULT_LAYERS });
+    expect(bare.network).toEqual(layoutOf(bare, 'existing network').sensors);
+    expect(bare.failed).toEqual([]);
+
+    const partial = restoreState({
+      ...saved,
+      view: { ...saved.view, layers: { gap: { on: false, opacity: 0.2 } } },
+    });
+    expect(partial.view.layers).toEqual({ ...DEFAULT_LAYERS, gap: { on: false, opacity: 0.2 } });
+  });
+
+  it('drops saved network entries and failures that are malformed or point at nothing', () => {
+    const saved = asSaved(worked());
+    const back = restoreState({
+      ...saved,
+      network: [
+        { siteId: 'karvessa', typeId: 'psr-l-longrange' },
+        null,
+        { siteId: 7, typeId: 'ssr-short' },
+        { siteId: 'gone', typeId: 'ssr-short' },
+        { siteId: 'karvessa', typeId: 'gone' },
+      ],
+      failed: ['obrellan', 3, 'gone'],
+    });
+    expect(back.network).toEqual([{ siteId: 'karvessa', typeId: 'psr-l-longrange' }]);
+    expect(back.failed).toEqual(['obrellan']);
+  });
+
+  // Saved layer settings are taken only for known ids and well-formed { on, opacity }; the rest are defaults.
+  it('keeps only known, well-formed layer settings and uses the defaults for the rest', () => {
+    const saved = asSaved(worked()) as Record<string, unknown> & {
+      view: { layers: Record<string, unknown> };
+    };
+    const back = restoreState({
+      ...saved,
+      view: {
+        ...saved.view,
+        layers: { ...saved.view.layers, sparkle: { on: true, opacity: 1 }, fold: null, gap: { on: 'yes' } },
+      },
+    });
+    expect(Object.keys(back.view.layers).sort()).toEqual(Object.keys(DEFAULT_LAYERS).sort());
+    expect(back.view.layers.fold).toEqual(DEFAULT_LAYERS.fold);
+    expect(back.view.layers.gap).toEqual(DEFAULT_LAYERS.gap);
+    expect(back.view.layers.floor).toEqual({ on: true, opacity: 0.4 });
+  });
+});
+
+// ---------------------------------------------------------------------------------------------------
+
+describe('errorLines', () => {
+  it('gives one line per problem of a ScenarioError', () => {
+    const s = fresh();
+    const base = { ...structuredClone(typeOf(s, 'ssr-short')), id: 'ssr-invented' };
+    let thrown: unknown;
+    try {
+      addSensorType(s, { ...base, kind: 'tertiary', frequencyMHz: -1, cost: -2 });
+    } catch (e) {
+      thrown = e;
+    }
+    expect(thrown).toBeInstanceOf(ScenarioError);
+    const problems = (thrown as ScenarioError).problems;
+    expect(problems.length).toBeGreaterThanOrEqual(3);
+    const lines = errorLines(thrown);
+    expect(lines).toEqual(problems.map((p) => p.message));
+    for (const field of ['.kind', '.frequencyMHz', '.cost'])
+      expect(lines.filter((l) => l.includes(field))).toHaveLength(1);
+  });
+
+  it('splits other errors by line and shows non-errors as text', () => {
+    const made = new ScenarioError([
+      new InputError('a.json: x', '1', '2'),
+      new InputError('a.json: y', '3', '4'),
+      new InputError('a.json: z', '5', '6'),
+    ]);
+    expect(errorLines(made)).toEqual([
+      'a.json: x: found 1; expected 2',
+      'a.json: y: found 3; expected 4',
+      'a.json: z: found 5; expected 6',
+    ]);
+    expect(errorLines(new InputError('site', '"q"', 'a site'))).toEqual(['site: found "q"; expected a site']);
+    expect(errorLines(new Error('first\n\nsecond\n'))).toEqual(['first', 'second']);
+    expect(errorLines('plain text')).toEqual(['plain text']);
+  });
+});

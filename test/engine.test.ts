@@ -1,0 +1,212 @@
+/**
+ * The web app's engine (worker/engine.ts) driven directly in Node with the inline executor, on the invented
+ * scenario of test/e2e/fixture.ts: it must give the same figures as the CLI on the same scenario (the two share
+ * the core; this checks the engine's own wiring — footprint cache, network, outages, plan), recompute only what a
+ * moved site changes, stop on cancel without losing the state, and refuse bad input without losing the state.
+ */
+import { mkdtempSync, readFileSync, rmSync } from 'node:fs';
+import { tmpdir } from 'node:os';
+import { join } from 'node:path';
+import { afterAll, beforeAll, describe, expect, it } from 'vitest';
+import { flToMetres } from '../shared/units.ts';
+import { docOf, type ScenarioDoc } from '../app/state.ts';
+import { Network } from '../worker/core/network.ts';
+import { outageTable } from '../worker/core/outage.ts';
+import { Cancelled, Engine, type SensorRef } from '../worker/engine.ts';
+import { mercatorRowLatitudes } from '../worker/render.ts';
+import { loadScenario } from '../worker/cli/scenario.ts';
+import { writeE2eData, E2E_LAYOUT_NAME, type E2eData } from './e2e/fixture.ts';
+import { runCli } from './support/run-cli.ts';
+
+let dir: string;
+let data: E2eData;
+let doc: ScenarioDoc;
+let tiles: { name: string; buffer: ArrayBuffer }[];
+let layout: SensorRef[];
+
+const bytes = (p: string) => {
+  const b = readFileSync(p);
+  return b.buffer.slice(b.byteOffset, b.byteOffset + b.byteLength) as ArrayBuffer;
+};
+
+async function engineOn(d: ScenarioDoc = doc): Promise<Engine> {
+  const e = new Engine();
+  await e.loadTiles(
+    tiles.map((t) => ({ name: t.name, buffer: t.buffer.slice(0) })),
+    true,
+    { input: d, display: 'fixture' },
+  );
+  return e;
+}
+
+beforeAll(async () => {
+  dir = mkdtempSync(join(tmpdir(), 'airshade-engine-'));
+  data = writeE2eData(dir);
+  const { scenario } = await loadScenario(data.scenarioPath);
+  doc = docOf(scenario);
+  tiles = data.tiles.map((t) => ({ name: t.file.split('/').pop()!, buffer: bytes(t.path) }));
+  layout = scenario.layouts.find((l) => l.name === E2E_LAYOUT_NAME)!.sensors;
+});
+
+afterAll(() => rmSync(dir, { recursive: true, force: true }));
+
+describe('engine', () => {
+  it('gives the same volume statistics as `airshade coverage` on the same layout', async () => {
+    const e = await engineOn();
+    const r = await e.coverage(layout, undefined);
+    expect(r.computed).toBe(layout.length);
+    const out = join(dir, 'cov');
+    const cli = await runCli(
+      'coverage',
+      data.scenarioPath,
+      '--layout',
+      E2E_LAYOUT_NAME,
+      '--out',
+      out,
+      '--threads',
+      '0',
+      '--quiet',
+    );
+    expect(cli.code).toBe(0);
+    const summary = JSON.parse(readFileSync(join(out, 'summary.json'), 'utf8'));
+    expect(r.volumes).toEqual(summary.volumes);
+  });
+
+  it('recomputes only the moved site and then agrees with a fresh engine', async () => {
+    const e = await engineOn();
+    await e.coverage(layout, undefined);
+    const moved = structuredClone(doc);
+    const id = layout[0].siteId;
+    const f = moved.sites.features.find((x) => x.properties.id === id)!;
+    f.geometry.coordinates = [f.geometry.coordinates[0] + 0.05, f.geometry.coordinates[1] - 0.03];
+    const summary = e.setScenario(moved, 'fixture');
+    expect(summary.hasCoverage).toBe(false); // the network's footprints changed under it
+    const again = await e.coverage(layout, undefined);
+    const atSite = layout.filter((r) => r.siteId === id).length;
+    expect(again.computed).toBe(atSite);
+    expect(again.cached).toBe(layout.length - atSite);
+    const fresh = await (await engineOn(moved)).coverage(layout, undefined);
+    expect(again.volumes).toEqual(fresh.volumes);
+  });
+
+  it('tallies an outage as the N−1 table does, and restores the folds exactly', async () => {
+    const e = await engineOn();
+    await e.coverage(layout, undefined);
+    const fl = doc.flightLevels[0];
+    const before = e.layerImage('fold', fl).image.rgba.slice();
+    const table = await e.outageTable();
+    // The same table from the core directly, on a network of the same footprints.
+    const site = table[0].siteId;
+    e.setFailed([site]);
+    const t = e.outageTally();
+    expect(t.failed).toEqual([site]);
+    expect(t.demandWeightLost).toBeCloseTo(table[0].demandWeightLost, 6);
+    expect(t.areaKm2Lost).toBeCloseTo(table[0].areaKm2Lost, 6);
+    expect(t.demandWeightLost).toBeGreaterThan(0);
+    const lossPixels = countOpaque(e.layerImage('loss', fl).image.rgba);
+    expect(lossPixels).toBeGreaterThan(0);
+    const geo = JSON.parse(e.levelGeoJson(fl));
+    expect(geo.features.some((x: { properties: { layer: string } }) => x.properties.layer === 'lost')).toBe(
+      true,
+    );
+    e.setFailed([]);
+    expect(e.outageTally().demandWeightLost).toBe(0);
+    expect(e.layerImage('fold', fl).image.rgba).toEqual(before);
+  });
+
+  it('matches outageTable of the core for every site of the layout', async () => {
+    const e = await engineOn();
+    await e.coverage(layout, undefined);
+    const fromEngine = await e.outageTable(layout);
+    // Rebuild the network from the CLI's footprints through the core's own outage table.
+    const { openSession, footprintsFor, layoutCandidates } = await import('../worker/cli/session.ts');
+    const { ProgressLine } = await import('../worker/cli/progress.ts');
+    const session = await openSession(data.scenarioPath, 0, new ProgressLine('t', true));
+    const fps = await footprintsFor(session, layoutCandidates(session, E2E_LAYOUT_NAME, 'layout'));
+    const s = session.loaded.scenario;
+    const net = new Network(session.grid.width * session.grid.height, s.flightLevels.map(flToMetres), fps);
+    expect(fromEngine).toEqual(
+      outageTable(net, s.volumes, session.volumeMasks, s.flightLevels, session.grid),
+    );
+  });
+
+  it('stops on cancel, keeps the network it had, and keeps the footprints already done', async () => {
+    const e = await engineOn();
+    await e.coverage(layout.slice(0, 1), undefined);
+    const probeBefore = e.probe(
+      doc.sites.features[0].geometry.coordinates[0],
+      doc.sites.features[0].geometry.coordinates[1],
+    );
+    const all: SensorRef[] = doc.sites.features.flatMap((f) =>
+      (f.properties.allowedTypes ?? doc.sensorTypes.map((t) => t.id)).map((typeId) => ({
+        siteId: f.properties.id,
+        typeId,
+      })),
+    );
+    let sitesDone = 0;
+    const run = e.coverage(all, undefined, (_f, stage) => {
+      if (stage.endsWith(': done')) {
+        sitesDone++;
+        if (sitesDone === 1) e.cancel();
+      }
+    });
+    await expect(run).rejects.toBeInstanceOf(Cancelled);
+    expect(
+      e.probe(doc.sites.features[0].geometry.coordinates[0], doc.sites.features[0].geometry.coordinates[1]),
+    ).toEqual(probeBefore);
+    const rest = await e.coverage(all, undefined);
+    expect(rest.cached).toBeGreaterThan(1); // the first run's sensor and the site finished before the cancel
+    expect(rest.computed + rest.cached).toBe(all.length);
+  });
+
+  it('refuses a tile that is not a GeoTIFF and a site outside the terrain, keeping what it had', async () => {
+    const e = await engineOn();
+    const info = e.terrainInfo();
+    await expect(
+      e.loadTiles([{ name: 'notes.tif', buffer: new TextEncoder().encode('hello').buffer }], true),
+    ).rejects.toThrow(/notes\.tif/);
+    expect(e.terrainInfo()).toEqual(info);
+    const away = structuredClone(doc);
+    away.sites.features[0].geometry.coordinates = [10, 10];
+    expect(() => e.setScenario(away, 'moved.json')).toThrow(/outside the terrain/);
+    // The previous study still stands: coverage runs.
+    const r = await e.coverage(layout, undefined);
+    expect(r.sensors.length).toBe(layout.length);
+  });
+
+  it('makes the same plan as `airshade plan`', async () => {
+    const e = await engineOn();
+    const p = await e.plan({ keep: [], excludedSites: [], timeLimitMs: 8000 });
+    const out = join(dir, 'plan');
+    const cli = await runCli('plan', data.scenarioPath, '--out', out, '--threads', '0', '--quiet');
+    expect(cli.code).toBe(0);
+    const plan = JSON.parse(readFileSync(join(out, 'plan.json'), 'utf8'));
+    expect(p.cost).toBeCloseTo(plan.cost, 9);
+    expect(p.lowerBound).toBeCloseTo(plan.lowerBound, 9);
+    expect(p.entries.map((x) => `${x.siteId}/${x.typeId}`).sort()).toEqual(
+      plan.entries.map((x: SensorRef) => `${x.siteId}/${x.typeId}`).sort(),
+    );
+  });
+
+  it('draws images on Mercator rows over the grid, and a vertical coverage diagram', async () => {
+    const e = await engineOn();
+    await e.coverage(layout, undefined);
+    const img = e.layerImage('fold', doc.flightLevels[0]).image;
+    expect(img.rgba.length).toBe(img.width * img.height * 4);
+    const [nw, , se] = img.corners;
+    const lats = mercatorRowLatitudes(nw[1], se[1], img.height);
+    // Row centres are equally spaced in Mercator y (y = ln tan(π/4 + φ/2)), north to south.
+    const y = (lat: number) => Math.log(Math.tan(Math.PI / 4 + (lat * Math.PI) / 360));
+    const step = (y(se[1]) - y(nw[1])) / img.height;
+    for (let r = 0; r < img.height; r++) expect(y(lats[r])).toBeCloseTo(y(nw[1]) + (r + 0.5) * step, 9);
+    const svg = e.diagram(layout[0].siteId, layout[0].typeId, 90, 'aviation');
+    expect(svg.startsWith('<svg')).toBe(true);
+    expect(svg).toContain('FL');
+  });
+});
+
+function countOpaque(rgba: Uint8ClampedArray): number {
+  let n = 0;
+  for (let i = 3; i < rgba.length; i += 4) if (rgba[i] > 0) n++;
+  return n;
+}
