@@ -201,14 +201,15 @@ export class MapView {
   applySettings(settings = this.settings): void {
     this.settings = settings;
     const m = this.map;
+    // Only what changed goes to MapLibre: each style change redraws the WebGL canvas.
     const vis = (layer: string, s: LayerSetting | undefined, prop: string) => {
       if (!s || !m.getLayer(layer)) return;
-      m.setLayoutProperty(layer, 'visibility', s.on ? 'visible' : 'none');
-      m.setPaintProperty(
-        layer,
-        prop as 'raster-opacity',
-        prop === 'fill-opacity' ? 0.06 * s.opacity : s.opacity,
-      );
+      const visibility = s.on ? 'visible' : 'none';
+      const opacity = prop === 'fill-opacity' ? 0.06 * s.opacity : s.opacity;
+      if (m.getLayoutProperty(layer, 'visibility') !== visibility)
+        m.setLayoutProperty(layer, 'visibility', visibility);
+      if (m.getPaintProperty(layer, prop as 'line-opacity') !== opacity)
+        m.setPaintProperty(layer, prop as 'line-opacity', opacity);
     };
     const img = (id: ImageLayerId, set: LayerSetting | undefined) => {
       const el = this.images.get(id)?.el;
@@ -225,8 +226,19 @@ export class MapView {
     for (const { el } of this.markers.values()) el.style.display = sitesOn ? '' : 'none';
   }
 
+  private volumesText = '';
+
+  /**
+   * The volume outlines; unchanged data is not sent again: every WebGL frame costs the main thread tens of ms
+   * with software WebGL (its buffer is copied out on each commit), so the map's canvas redraws only when its own
+   * content changes.
+   */
   setVolumes(fc: GeoJSON.FeatureCollection): void {
-    (this.map.getSource('volumes') as GeoJSONSource | undefined)?.setData(fc);
+    const text = JSON.stringify(fc);
+    const src = this.map.getSource('volumes') as GeoJSONSource | undefined;
+    if (!src || text === this.volumesText) return;
+    this.volumesText = text;
+    src.setData(fc);
   }
 
   setAzimuth(line: [number, number][] | null): void {
