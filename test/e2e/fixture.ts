@@ -20,6 +20,7 @@ import { encodeGeoTiff } from '../../worker/io/geotiff-write.ts';
 import { bumpyDem } from '../support/bumps.ts';
 import {
   demGeo,
+  siteFeature,
   type FixtureLayout,
   type FixtureSensorType,
   type FixtureSite,
@@ -180,21 +181,6 @@ export interface E2eData {
   scenario: Record<string, unknown>;
   /** The sites file as written. */
   sites: { type: 'FeatureCollection'; features: unknown[] };
-}
-
-function siteFeature(s: FixtureSite) {
-  return {
-    type: 'Feature',
-    geometry: { type: 'Point', coordinates: [s.lon, s.lat] },
-    properties: {
-      id: s.id,
-      name: s.name,
-      mastHeightM: s.mastHeightM,
-      siteCost: s.siteCost ?? 1,
-      ...(s.existing !== undefined ? { existing: s.existing } : {}),
-      ...(s.allowedTypes ? { allowedTypes: s.allowedTypes } : {}),
-    },
-  };
 }
 
 /** The two tiles: one seeded landscape over E2E_BOUNDS, cut in two along its middle meridian. */

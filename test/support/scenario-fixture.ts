@@ -203,7 +203,8 @@ export function demGeo(d: FixtureDem): GridGeo {
   };
 }
 
-function siteFeature(s: FixtureSite) {
+/** A site as a GeoJSON Point feature of the scenario's sites file. */
+export function siteFeature(s: FixtureSite) {
   return {
     type: 'Feature',
     geometry: { type: 'Point', coordinates: [s.lon, s.lat] },
