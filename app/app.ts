@@ -331,7 +331,9 @@ export class App {
     if (!this.terrain) return;
     this.map.fitBounds(this.terrain.bounds);
     const relief = await this.engine.relief();
+    this.reliefLegend = relief.legend;
     await this.map.setImage('relief', relief);
+    this.renderLegend();
   }
 
   save(): void {
@@ -490,6 +492,7 @@ export class App {
   }
 
   floorLegend: { value: number; color: string }[] = [];
+  reliefLegend: { value: number; color: string }[] = [];
 
   private renderLegend(): void {
     if (!this.state) return;
@@ -544,6 +547,24 @@ export class App {
           h('strong', {}, `${this.compare.names[1]} against ${this.compare.names[0]}`),
           h('span', { className: 'swatch gained' }, h('i', {}), 'gained'),
           h('span', { className: 'swatch compare-lost' }, h('i', {}), 'lost'),
+        ),
+      );
+    }
+    if (layers.relief.on && this.reliefLegend.length) {
+      const ramp = h('div', { className: 'ramp' });
+      ramp.style.background = `linear-gradient(to right, ${this.reliefLegend.map((x) => x.color).join(', ')})`;
+      parts.push(
+        h(
+          'div',
+          { className: 'legend-block' },
+          h('strong', {}, 'Ground height (shaded relief; sea in grey-blue)'),
+          ramp,
+          h(
+            'div',
+            { className: 'ramp-labels' },
+            h('span', {}, fmtAltitude(this.reliefLegend[0].value, u)),
+            h('span', {}, fmtAltitude(this.reliefLegend[this.reliefLegend.length - 1].value, u)),
+          ),
         ),
       );
     }

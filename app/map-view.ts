@@ -77,6 +77,8 @@ export class MapView {
       center: [-29.5, -41.5],
       zoom: 6,
       attributionControl: false,
+      // Nautical miles as aviation writes them.
+      locale: { 'ScaleControl.NauticalMiles': 'NM' },
       canvasContextAttributes: { preserveDrawingBuffer: false, antialias: false },
     });
     // North up, no tilt: the overlay images are placed as axis-aligned rectangles.
@@ -90,14 +92,6 @@ export class MapView {
     this.map.on('move', () => this.place());
     this.map.on('resize', () => this.place());
     this.map.addControl(this.scale, 'bottom-left');
-    // The scale writes nautical miles as "nm"; aviation writes NM.
-    const scaleEl = container.querySelector('.maplibregl-ctrl-scale');
-    if (scaleEl) {
-      new MutationObserver(() => {
-        const t = scaleEl.textContent ?? '';
-        if (/\snm$/.test(t)) scaleEl.textContent = t.replace(/\snm$/, '\u00a0NM');
-      }).observe(scaleEl, { childList: true, characterData: true, subtree: true });
-    }
     this.ready = new Promise((res) => this.map.once('load', () => res()));
     void this.ready.then(() => this.addVectorLayers());
   }

@@ -322,4 +322,34 @@ describe('the web app', () => {
     },
     STEP_MS,
   );
+
+  it(
+    'saves the scenario file and opens it again on the loaded terrain',
+    async () => {
+      const before = await siteRows();
+      await panel('files');
+      const [download] = await Promise.all([page.waitForEvent('download'), page.click('#save-scenario')]);
+      const text = readFileSync((await download.path())!, 'utf8');
+      const doc = JSON.parse(text);
+      // The working network travels as a layout (a saved one when it is the same set), so opening the file
+      // brings it back.
+      type Ref = { siteId: string; typeId: string };
+      const key = (l: Ref[]) =>
+        l
+          .map((r) => `${r.siteId}/${r.typeId}`)
+          .sort()
+          .join(' ');
+      const network = (await page.evaluate('window.airshade.state.network')) as Ref[];
+      expect(doc.layouts.map((l: { sensors: Ref[] }) => key(l.sensors))).toContain(key(network));
+      const saved = join(filesDir, 'saved.scenario.json');
+      writeFileSync(saved, text);
+      await page.setInputFiles('#scenario-file', saved);
+      await page.waitForSelector('#message .msg.info');
+      expect(await page.textContent('#message')).toContain('Loaded saved.scenario.json');
+      expect(await siteRows()).toEqual(before);
+      expect(watch.pageErrors).toEqual([]);
+      expect(watch.consoleErrors).toEqual([]);
+    },
+    STEP_MS,
+  );
 });
