@@ -16,7 +16,7 @@ import type {
   TerrainSummary,
 } from '../worker/engine.ts';
 import type { TileSource } from '../worker/engine-worker.ts';
-import { clear, h } from './dom.ts';
+import { clear, download, h } from './dom.ts';
 import { progressProxy, startEngine, type Engine } from './engine-client.ts';
 import { fetchScenario } from './files.ts';
 import { MapView, type ImageLayerId } from './map-view.ts';
@@ -75,6 +75,7 @@ export class App {
   busy: string | null = null;
   readonly metrics: Metrics = { coverageMs: [], outageRedrawMs: [], bootMs: 0 };
   private saveTimer = 0;
+  private tileProblemShown: string | null = null;
   private probeBusy = false;
   private probeNext: [number, number] | null = null;
   private readonly el: Record<string, HTMLElement> = {};
@@ -242,7 +243,7 @@ export class App {
 
   // ------------------------------------------------------------------------------------------- messages
 
-  say(kind: 'error' | 'info', lines: string | string[]): void {
+  say(kind: 'error' | 'info', lines: string | string[], action?: { label: string; run: () => void }): void {
     const list = Array.isArray(lines) ? lines : [lines];
     clear(
       this.el.message,
@@ -250,6 +251,7 @@ export class App {
         'div',
         { className: `msg ${kind}`, role: kind === 'error' ? 'alert' : 'status' },
         ...list.map((l) => h('div', {}, l)),
+        action ? h('button', { className: 'small', onclick: action.run }, action.label) : null,
         h(
           'button',
           { className: 'close', 'aria-label': 'Dismiss', onclick: () => clear(this.el.message) },
@@ -283,10 +285,23 @@ export class App {
         this.say('info', `Restored your work from the last visit (${state.doc.name}).`);
         return;
       } catch (e) {
-        this.say('error', [
-          'The work saved in this browser could not be restored; the demo is loaded instead.',
-          ...errorLines(e),
-        ]);
+        // What was saved stays within reach: the demo replaces it in the browser, not in the user's hands.
+        const doc = (saved as { state?: { doc?: unknown } }).state?.doc;
+        this.say(
+          'error',
+          [
+            'The work saved in this browser could not be restored; the demo is loaded instead.',
+            ...errorLines(e),
+          ],
+          doc
+            ? {
+                label: 'Download the saved scenario',
+                run: () => download('unrestored.scenario.json', JSON.stringify(doc, null, 2) + '\n'),
+              }
+            : undefined,
+        );
+        await this.loadDemo();
+        return;
       }
     }
     await this.loadDemo();
@@ -342,8 +357,15 @@ export class App {
       void (async () => {
         try {
           const tiles = await this.engine.tileNames();
-          await this.engine.tilesKept();
+          const tileProblem = await this.engine.tilesKept();
           await idbSet(SAVE_KEY, { state: this.state, tiles, savedAt: new Date().toISOString() });
+          if (tileProblem && tileProblem !== this.tileProblemShown) {
+            this.tileProblemShown = tileProblem;
+            this.say('error', [
+              'Your work is saved in this browser, but the terrain tiles could not be kept for the next visit: load them again then.',
+              tileProblem,
+            ]);
+          }
           this.el.root.dataset.saved = String(Date.now());
         } catch (e) {
           this.say('error', ['Could not save your work in this browser.', ...errorLines(e)]);
@@ -364,6 +386,7 @@ export class App {
    * failure the message names the problem and the state stays as it was (the panel shows the old values).
    */
   async commit(next: WorkState, opts: { recompute?: boolean } = {}): Promise<boolean> {
+    const coverageRunning = this.busy === 'Coverage';
     let study: StudySummary;
     try {
       study = await this.engine.setScenario(next.doc, next.source);
@@ -380,8 +403,9 @@ export class App {
     this.save();
     this.refreshVectors();
     this.render();
-    if (hadCoverage && (!study.hasCoverage || opts.recompute)) {
-      // Something under the network changed (a site moved, a type edited): run again; the cache keeps the rest.
+    if (coverageRunning || (hadCoverage && (!study.hasCoverage || opts.recompute))) {
+      // Something under the network changed (a site moved, a type edited), or a run was under way on the old
+      // scenario: run again; the footprint cache keeps everything that did not change.
       await this.engine.cancel();
       void this.runCoverage();
     } else if (hadCoverage) {
@@ -405,12 +429,19 @@ export class App {
 
   // ------------------------------------------------------------------------------------------------- jobs
 
-  /** Runs a long job with the progress bar and the cancel button; one at a time (a new one cancels the old). */
+  private jobSeq = 0;
+
+  /**
+   * Runs a long job with the progress bar and the cancel button. A job started while another runs (a site moved
+   * during a run) takes the bar over; the older one, cancelled by whoever started the new one, ends quietly.
+   */
   async job<T>(
     label: string,
     run: (progress: (f: number, stage: string) => void) => Promise<T>,
   ): Promise<T | null> {
+    const mine = ++this.jobSeq;
     const progress = (f: number, stage: string) => {
+      if (mine !== this.jobSeq) return;
       (this.el.progress as HTMLProgressElement).value = f;
       this.el.stage.textContent = `${label}: ${stage} (${Math.round(f * 100)} %)`;
     };
@@ -418,18 +449,22 @@ export class App {
     this.el.root.dataset.busy = label;
     (this.el.cancel as HTMLButtonElement).disabled = false;
     progress(0, 'starting');
+    this.render(); // the run buttons show as disabled
     try {
       return await run(progress);
     } catch (e) {
-      this.fail(e);
+      // A job overtaken by a newer one was cancelled on purpose: no message for it.
+      if (!(mine !== this.jobSeq && e instanceof Error && e.name === 'Cancelled')) this.fail(e);
       return null;
     } finally {
-      this.busy = null;
-      delete this.el.root.dataset.busy;
-      (this.el.cancel as HTMLButtonElement).disabled = true;
-      this.el.stage.textContent = '';
-      (this.el.progress as HTMLProgressElement).value = 0;
-      this.render();
+      if (mine === this.jobSeq) {
+        this.busy = null;
+        delete this.el.root.dataset.busy;
+        (this.el.cancel as HTMLButtonElement).disabled = true;
+        this.el.stage.textContent = '';
+        (this.el.progress as HTMLProgressElement).value = 0;
+        this.render();
+      }
     }
   }
 

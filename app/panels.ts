@@ -726,9 +726,22 @@ function coveragePanel(app: App): HTMLElement {
     });
   });
   const c = app.coverage;
+  const key = (l: readonly SensorRef[]) =>
+    l
+      .map((r) => `${r.siteId}/${r.typeId}`)
+      .sort()
+      .join(' ');
+  const stale = c !== null && key(c.sensors) !== key(s.network);
   const result = c
     ? section(
         'Result',
+        stale
+          ? h(
+              'p',
+              { className: 'warn', id: 'coverage-stale' },
+              'The network has changed since this was computed: compute again to see it.',
+            )
+          : null,
         h(
           'p',
           { id: 'coverage-summary' },
@@ -1332,7 +1345,17 @@ function filesPanel(app: App): HTMLElement {
         (files) => void loadScenarioFiles(app, files),
       ),
       dropZone('…or drop the files here', (files) => void loadScenarioFiles(app, files)),
-      h('button', { id: 'load-demo', onclick: () => void app.loadDemo() }, 'Start again from the demo'),
+      h(
+        'button',
+        {
+          id: 'load-demo',
+          onclick: () => {
+            if (confirm('Replace your work with the demo? Save the scenario file first to keep it.'))
+              void app.loadDemo();
+          },
+        },
+        'Start again from the demo',
+      ),
     ),
     section(
       'Export',

@@ -40,14 +40,22 @@ async function readSource(src: TileSource): Promise<{ name: string; buffer: Arra
 }
 
 /** A raster for the map: an ImageBitmap (transferred, not copied) and where its corners go. */
-let keeping: Promise<void> = Promise.resolve();
+let keeping: Promise<string | null> = Promise.resolve(null);
 
-/** Stores the tiles' bytes in IndexedDB and drops tiles no longer in the terrain (queued: one write at a time). */
-function keepTiles(files: { name: string; buffer: ArrayBuffer }[]): Promise<void> {
+/**
+ * Stores the tiles' bytes in IndexedDB and drops tiles no longer in the terrain (queued: one write at a time).
+ * Resolves to null, or to what went wrong (the browser's storage may be full): the terrain in use is not affected.
+ */
+function keepTiles(files: { name: string; buffer: ArrayBuffer }[]): Promise<string | null> {
   keeping = keeping.then(async () => {
-    const names = engine.tileNames();
-    for (const f of files) if (names.includes(f.name)) await set(f.name, f.buffer, tileStore());
-    for (const k of await keys(tileStore())) if (!names.includes(String(k))) await del(k, tileStore());
+    try {
+      const names = engine.tileNames();
+      for (const f of files) if (names.includes(f.name)) await set(f.name, f.buffer, tileStore());
+      for (const k of await keys(tileStore())) if (!names.includes(String(k))) await del(k, tileStore());
+      return null;
+    } catch (e) {
+      return e instanceof Error ? e.message : String(e);
+    }
   });
   return keeping;
 }
@@ -136,7 +144,7 @@ export const engineApi = {
       return engine.loadTiles(files, true, scenario);
     }),
   tileNames: () => engine.tileNames(),
-  /** Resolves when the tiles of the last load are stored (the app waits for it before it says "saved"). */
+  /** Resolves when the tiles of the last load are stored: null, or what went wrong. */
   tilesKept: () => keeping,
   terrainInfo: () => engine.terrainInfo(),
   relief: () =>

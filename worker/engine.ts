@@ -348,10 +348,15 @@ export class Engine {
     this.cancelFlag = ++this.jobSeq;
   }
 
+  /**
+   * A job's check, called between pieces: throws Cancelled once `cancel()` was called after the job started, or
+   * once the scenario changed under it (its results would belong to the old one; the app runs it again).
+   */
   private startJob(): () => void {
     const mine = ++this.jobSeq;
+    const study = this.study;
     return () => {
-      if (this.cancelFlag >= mine) throw new Cancelled();
+      if (this.cancelFlag >= mine || this.study !== study) throw new Cancelled();
     };
   }
 
@@ -583,6 +588,7 @@ export class Engine {
     if (refs.length === 0) throw new InputError('sensors', 'an empty network', 'one or more sensors');
     const fls = cur?.flightLevels ?? s.flightLevels;
     const { footprints } = await this.footprintsOf(refs, check, progress, [0, 0.9]);
+    check();
     const network = new Network(study.grid.width * study.grid.height, fls.map(flToMetres), footprints);
     progress?.(0.95, 'outage table');
     return outageTable(network, s.volumes, study.volumeMasks, fls, study.grid);
@@ -643,6 +649,7 @@ export class Engine {
       exactMaxCandidates: 1_000,
       highs: this.options.highs,
     });
+    check();
     const chosen = result.chosen.map((i) => all[i]);
     const network = new Network(
       study.grid.width * study.grid.height,
@@ -683,6 +690,7 @@ export class Engine {
     const A = dedupe(a);
     const B = dedupe(b);
     const { footprints } = await this.footprintsOf([...A, ...B], check, progress, [0, 0.9]);
+    check();
     const cells = study.grid.width * study.grid.height;
     const netA = new Network(cells, fls.map(flToMetres), footprints.slice(0, A.length));
     const netB = new Network(cells, fls.map(flToMetres), footprints.slice(A.length));

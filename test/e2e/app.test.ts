@@ -166,6 +166,18 @@ describe('the web app', () => {
       expect(rows).toHaveLength(2);
       expect(rows[0]).toContain('e2e-west.tif');
       expect(rows[0]).toContain('30.00 × 30.00 ″');
+      // A tile dropped on the panel (added to the loaded ones: it takes the place of its namesake).
+      await page.uncheck('#terrain-replace');
+      await page.click('#message .close'); // the picker's message goes: the next one is the drop's
+      await page.evaluate(`(async () => {
+        const blob = await (await fetch('data/terrain/e2e-west.tif')).blob();
+        const dt = new DataTransfer();
+        dt.items.add(new File([blob], 'e2e-west.tif', { type: 'image/tiff' }));
+        document.querySelector('#panel .drop').dispatchEvent(new DragEvent('drop', { dataTransfer: dt, bubbles: true, cancelable: true }));
+      })()`);
+      await page.waitForSelector('#message .msg.info');
+      expect(await page.textContent('#message')).toContain('2 tile(s) loaded');
+      expect(await page.$$eval('#tile-table tbody tr', (r) => r.length)).toBe(2);
       await panel('sites');
       await page.setInputFiles('#sites-file', join(filesDir, 'more-sites.geojson'));
       await expect.poll(siteRows).toContain('moss-knoll');
