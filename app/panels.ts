@@ -363,9 +363,10 @@ function sitesPanel(app: App): HTMLElement {
           {
             className: 'small',
             title: `remove ${p.id}`,
+            'aria-label': `remove ${p.id}`,
             onclick: () => void tryEdit(app, null, () => removeSite(app.state, p.id)),
           },
-          'Remove',
+          '✕',
         ),
       ),
     );
