@@ -246,6 +246,42 @@ describe('the web app', () => {
   );
 
   it(
+    'recomputes only the site that was dragged to a new place',
+    async () => {
+      await panel('sites');
+      const dot = (await page.$('[data-site-id="tarn-north"] .site-dot'))!;
+      const box = (await dot.boundingBox())!;
+      const before = await page.$eval(
+        '[aria-label="lon of tarn-north"]',
+        (e) => (e as HTMLInputElement).value,
+      );
+      await page.mouse.move(box.x + box.width / 2, box.y + box.height / 2);
+      await page.mouse.down();
+      await page.mouse.move(box.x + 60, box.y + 30, { steps: 6 });
+      await page.mouse.up();
+      await page.waitForSelector('#app[data-coverage="2"]', { timeout: STEP_MS });
+      const after = await page.$eval(
+        '[aria-label="lon of tarn-north"]',
+        (e) => (e as HTMLInputElement).value,
+      );
+      expect(Number(after)).toBeGreaterThan(Number(before));
+      await panel('coverage');
+      const text = (await page.textContent('#coverage-summary'))!;
+      const [, sensors, computed, cached] = text
+        .match(/(\d+) sensors; (\d+) footprints computed, (\d+) from the cache/)!
+        .map(Number);
+      // The layout has sensors on tarn-north and elsewhere: only tarn-north's were computed again.
+      const atSite = ((await page.evaluate('window.airshade.state.network')) as { siteId: string }[]).filter(
+        (r) => r.siteId === 'tarn-north',
+      ).length;
+      expect(computed).toBe(atSite);
+      expect(cached).toBe(sensors - atSite);
+      expect(cached).toBeGreaterThan(0);
+    },
+    STEP_MS,
+  );
+
+  it(
     'makes a plan with cost, lower bound and per-volume table',
     async () => {
       await panel('plan');
