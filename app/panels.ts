@@ -37,7 +37,6 @@ import {
   fmtCost,
   fmtLevel,
   fmtPct,
-  fmtRange,
   heightFromUser,
   heightToUser,
   heightUnit,
@@ -417,13 +416,32 @@ function typesPanel(app: App): HTMLElement {
     'aria-label': 'sensor type (JSON)',
   });
   let editing: string | null = null;
+  // The common fields edit in place; the rest (pattern, detection) in the JSON editor below.
+  const patch = (t: SensorType, el: HTMLElement, change: Partial<SensorType>) =>
+    void tryEdit(app, el, () => replaceSensorType(app.state, t.id, { ...t, ...change }));
+  const rangeToUser = (nm: number) => (u === 'aviation' ? nm : Math.round(nm * 1.852 * 10) / 10);
+  const rangeFromUser = (v: number) => (u === 'aviation' ? v : v / 1.852);
   const rows = s.doc.sensorTypes.map((t) => [
-    h('span', {}, t.name, h('div', { className: 'sub' }, t.id)),
+    (() => {
+      const name = h('input', { type: 'text', value: t.name, 'aria-label': `name of ${t.id}` });
+      name.addEventListener('change', () => patch(t, name, { name: name.value }));
+      return h('span', {}, name, h('div', { className: 'sub' }, t.id));
+    })(),
     t.kind === 'primary' ? 'PSR' : 'SSR',
     `${t.frequencyMHz} MHz`,
-    fmtRange(t.instrumentedRangeNm * 1852, u),
-    `${t.maxElevationDeg}°`,
-    fmtCost(t.cost),
+    numberIn(
+      rangeToUser(t.instrumentedRangeNm),
+      { className: 'short', min: 0, 'aria-label': `range of ${t.id}` },
+      (v, el) => patch(t, el, { instrumentedRangeNm: rangeFromUser(v) }),
+    ),
+    numberIn(
+      t.maxElevationDeg,
+      { className: 'tiny', min: 0, max: 90, 'aria-label': `max elevation of ${t.id}` },
+      (v, el) => patch(t, el, { maxElevationDeg: v }),
+    ),
+    numberIn(t.cost, { className: 'short', min: 0, 'aria-label': `cost of ${t.id}` }, (v, el) =>
+      patch(t, el, { cost: v }),
+    ),
     h(
       'span',
       {},
@@ -480,7 +498,15 @@ function typesPanel(app: App): HTMLElement {
     {},
     h('h2', {}, 'Sensor types'),
     table(
-      ['Name / id', 'Kind', 'Frequency', `Instrumented range (${rangeUnit(u)})`, 'Max elevation', 'Cost', ''],
+      [
+        'Name / id',
+        'Kind',
+        'Frequency',
+        `Instrumented range (${rangeUnit(u)})`,
+        'Max elevation (°)',
+        'Cost (M)',
+        '',
+      ],
       rows,
       {
         id: 'type-table',
