@@ -461,9 +461,11 @@ function typesPanel(app: App): HTMLElement {
         'button',
         {
           className: 'small',
+          title: `remove ${t.id}`,
+          'aria-label': `remove ${t.id}`,
           onclick: () => void tryEdit(app, null, () => removeSensorType(app.state, t.id)),
         },
-        'Remove',
+        '✕',
       ),
     ),
   ]);
