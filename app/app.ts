@@ -32,11 +32,6 @@ import {
 } from './state.ts';
 import { fmtAltitude, fmtLonLat } from './units.ts';
 
-export const CAUTION =
-  'Airshade is a planning aid, not a certified or flight-inspected result. Coverage depends on the terrain data ' +
-  'and on the refraction assumed (effective earth radius); defer to the local authority’s standards and licensed ' +
-  'engineering practice.';
-
 const DEMO_URL = 'data/demo-scenario.json';
 const SAVE_KEY = 'airshade-work';
 
@@ -106,7 +101,6 @@ export class App {
     this.metrics.shellMs = performance.now();
     await this.restoreOrDemo();
     this.metrics.bootMs = performance.now() - t0;
-    void t0;
     this.el.root.dataset.ready = 'true';
   }
 
@@ -372,11 +366,6 @@ export class App {
         }
       })();
     }, 150);
-  }
-
-  /** Waits for a pending autosave (the tests reload right after an edit). */
-  async flushSave(): Promise<void> {
-    await new Promise((r) => setTimeout(r, 400));
   }
 
   // ------------------------------------------------------------------------------------------ state edits

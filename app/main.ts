@@ -7,8 +7,6 @@ import { App } from './app.ts';
 import { isTiff } from './files.ts';
 import { loadScenarioFiles, loadTerrainFiles } from './panels.ts';
 
-export { CAUTION } from './app.ts';
-
 const root = document.getElementById('app')!;
 const app = new App();
 (window as unknown as { airshade: App }).airshade = app;

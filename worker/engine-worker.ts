@@ -163,7 +163,6 @@ export const engineApi = {
   plan: (req: PlanRequest, progress?: ProgressFn) => guard(() => engine.plan(req, throttled(progress))),
   compare: (a: SensorRef[], b: SensorRef[], progress?: ProgressFn) =>
     guard(() => engine.compare(a, b, throttled(progress))),
-  costOf: (refs: SensorRef[]) => engine.costOf(refs),
   layerImage: (layer: ImageLayer, fl: number, kind: FoldKind) =>
     guard(async () => {
       const r = engine.layerImage(layer, fl, kind);

@@ -892,11 +892,6 @@ export class Engine {
     const title = `${c.site.name} — ${c.model.spec.name} — azimuth ${data.azimuthDeg.toFixed(1)}°`;
     return renderDiagramSvg(data, { title, units });
   }
-
-  /** How many footprints the cache holds (for the status line). */
-  cachedFootprints(): number {
-    return this.footprints.size;
-  }
 }
 
 function dedupe(refs: readonly SensorRef[]): SensorRef[] {
