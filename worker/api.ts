@@ -6,6 +6,7 @@
 import { Terrain, type TerrainParts } from './core/terrain.ts';
 import { resampleFloor, sweepSector, type HorizonLayout, type ResampleCounts } from './core/horizon.ts';
 import { VectorMap, type VectorMapParts } from './core/geodesy.ts';
+import { solvePlan, type PlanInstance, type PlanOptions, type PlanResult } from './core/plan.ts';
 
 let terrain: Terrain | null = null;
 
@@ -33,6 +34,22 @@ export const api = {
     distance: Float32Array | null,
   ): ResampleCounts {
     return resampleFloor({ layout, tan }, new VectorMap(vmap), out, ground, rowStart, rowEnd, distance);
+  },
+  /**
+   * The planner, off the caller's thread (the app's engine stays free for quick calls while HiGHS works).
+   * `wasmUrl`: where HiGHS's WebAssembly is served (a browser needs it; null lets the package find it).
+   */
+  solve(
+    inst: PlanInstance,
+    opts: Omit<PlanOptions, 'highs' | 'onProgress'>,
+    wasmUrl: string | null,
+    onProgress?: (fraction: number, stage: string) => void,
+  ): Promise<PlanResult> {
+    return solvePlan(inst, {
+      ...opts,
+      onProgress,
+      ...(wasmUrl ? { highs: { locateFile: () => wasmUrl } } : {}),
+    });
   },
 };
 

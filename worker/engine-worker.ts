@@ -9,12 +9,14 @@ import { InputError } from '../shared/errors.ts';
 import highsWasmUrl from 'highs/runtime?url';
 import type { WorkerApi } from './api.ts';
 import { inlineExecutor } from './core/floor.ts';
+import { solvePlan } from './core/plan.ts';
 import { Engine, type ImageLayer, type ProgressFn, type SensorRef, type PlanRequest } from './engine.ts';
 import type { FoldKind } from './core/network.ts';
 import { RemotePool } from './pool.ts';
 import type { RasterImage } from './render.ts';
 
 const shared = typeof SharedArrayBuffer !== 'undefined' && globalThis.crossOriginIsolated === true;
+const wasmUrl = new URL(highsWasmUrl, self.location.href).href;
 let pool: RemotePool | null = null;
 
 const engine = new Engine(
@@ -23,7 +25,30 @@ const engine = new Engine(
     await Promise.all(pool.remotes.map((r) => r.setTerrain(terrain.toParts())));
     return pool.executor();
   },
-  { shared, highs: { locateFile: () => new URL(highsWasmUrl, self.location.href).href } },
+  {
+    shared,
+    highs: { locateFile: () => wasmUrl },
+    // The planner runs in a floor worker (idle by then): this worker stays free for outage toggles, the cursor
+    // read-out and a cancel while HiGHS works. The instance's arrays are transferred, not copied.
+    solve: (inst, opts) => {
+      const remote = pool && shared ? pool.remotes[pool.remotes.length - 1] : null;
+      if (!remote) return solvePlan(inst, opts);
+      const { onProgress, highs: _highs, ...rest } = opts;
+      const buffers = [
+        ...inst.candidates.map((c) => c.covers.buffer as ArrayBuffer),
+        inst.points.weight.buffer as ArrayBuffer,
+        inst.points.reqAny.buffer as ArrayBuffer,
+        inst.points.reqPrimary.buffer as ArrayBuffer,
+        inst.points.reqSecondary.buffer as ArrayBuffer,
+      ];
+      return remote.solve(
+        transfer(inst, [...new Set(buffers)]),
+        rest,
+        wasmUrl,
+        onProgress ? proxy(onProgress) : undefined,
+      );
+    },
+  },
 );
 
 /** A tile to read: a file the user picked (read here, off the main thread) or a URL on this site. */

@@ -20,7 +20,7 @@ import { inlineExecutor, type Executor } from './core/floor.ts';
 import type { Footprint } from './core/footprint.ts';
 import { KINDS, Network, type FoldKind } from './core/network.ts';
 import { difference, outageTable, servedMasks, tally, type LevelLoss, type SiteLoss } from './core/outage.ts';
-import { solvePlan, type PlanInstance, type PlanOptions } from './core/plan.ts';
+import { solvePlan, type PlanInstance, type PlanOptions, type PlanResult } from './core/plan.ts';
 import { Terrain, type DemTile } from './core/terrain.ts';
 import { rowAreasKm2, volumeStats, type VolumeLevelStats } from './core/volumes.ts';
 import { renderDiagramSvg } from './io/diagram-svg.ts';
@@ -218,7 +218,12 @@ export class Engine {
   constructor(
     /** Where floors run (a pool of workers); rebuilt when the terrain changes. */
     private executorFor: (terrain: Terrain) => Promise<Executor> = async (t) => inlineExecutor(t),
-    private readonly options: { shared?: boolean; highs?: PlanOptions['highs'] } = {},
+    private readonly options: {
+      shared?: boolean;
+      highs?: PlanOptions['highs'];
+      /** Runs the planner elsewhere (a pool worker); default: here. */
+      solve?: (inst: PlanInstance, opts: PlanOptions) => Promise<PlanResult>;
+    } = {},
   ) {}
 
   private executor: Executor | null = null;
@@ -643,12 +648,16 @@ export class Engine {
       timeLimitMs: req.timeLimitMs ?? 8000,
     };
     check();
-    const result = await solvePlan(inst, {
-      onProgress: (f, stage) => progress?.(0.65 + 0.3 * f, stage),
-      lpMaxNonzeros: 2_000_000,
-      exactMaxCandidates: 1_000,
-      highs: this.options.highs,
-    });
+    const solve = this.options.solve ?? solvePlan;
+    const result = await untilCancelled(
+      solve(inst, {
+        onProgress: (f, stage) => progress?.(0.65 + 0.3 * f, stage),
+        lpMaxNonzeros: 2_000_000,
+        exactMaxCandidates: 1_000,
+        highs: this.options.highs,
+      }),
+      check,
+    );
     check();
     const chosen = result.chosen.map((i) => all[i]);
     const network = new Network(
@@ -892,6 +901,33 @@ export class Engine {
     const title = `${c.site.name} — ${c.model.spec.name} — azimuth ${data.azimuthDeg.toFixed(1)}°`;
     return renderDiagramSvg(data, { title, units });
   }
+}
+
+/**
+ * A job's promise, or Cancelled as soon as its check throws (polled every 100 ms): a solver running elsewhere
+ * is left to finish on its own and its answer dropped.
+ */
+function untilCancelled<T>(work: Promise<T>, check: () => void): Promise<T> {
+  return new Promise<T>((resolve, reject) => {
+    const timer = setInterval(() => {
+      try {
+        check();
+      } catch (e) {
+        clearInterval(timer);
+        reject(e);
+      }
+    }, 100);
+    work.then(
+      (v) => {
+        clearInterval(timer);
+        resolve(v);
+      },
+      (e: unknown) => {
+        clearInterval(timer);
+        reject(e);
+      },
+    );
+  });
 }
 
 function dedupe(refs: readonly SensorRef[]): SensorRef[] {
