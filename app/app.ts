@@ -65,6 +65,8 @@ export class App {
   draft: [number, number][] = [];
   diagramPick: { siteId: string; typeId: string } | null = null;
   diagramSvg: string | null = null;
+  /** What the user typed in panel fields marked data-keep, by element id (panels are rebuilt on every change). */
+  form: Record<string, string> = {};
   /** A blob URL of the diagram, shown as an image (an SVG in an <img> runs no script). */
   diagramUrl: string | null = null;
   busy: string | null = null;
@@ -318,6 +320,7 @@ export class App {
   }
 
   adoptLoaded(state: WorkState, terrain: TerrainSummary, study: StudySummary): void {
+    this.form = {};
     this.state = state;
     this.terrain = terrain;
     this.study = study;

@@ -85,7 +85,22 @@ export function renderPanel(app: App, el: HTMLElement): void {
     profile: profilePanel,
     files: filesPanel,
   };
-  clear(el, builders[app.panel](app));
+  const panel = builders[app.panel](app);
+  // Fields marked data-keep hold what the user typed across redraws of the panel (a job's start redraws it).
+  for (const f of panel.querySelectorAll<HTMLInputElement>('[data-keep][id]')) {
+    const v = app.form[f.id];
+    if (v === undefined) continue;
+    if (f.type === 'checkbox') f.checked = v === 'true';
+    else f.value = v;
+  }
+  const remember = (e: Event) => {
+    const f = e.target as HTMLInputElement;
+    if (f.id && f.hasAttribute('data-keep'))
+      app.form[f.id] = f.type === 'checkbox' ? String(f.checked) : f.value;
+  };
+  panel.addEventListener('input', remember);
+  panel.addEventListener('change', remember);
+  clear(el, panel);
 }
 
 /** Applies an edit of the state; a thrown error marks the input and shows the message (the value is kept). */
@@ -185,7 +200,7 @@ export async function loadTerrainFiles(app: App, files: File[], replace: boolean
 
 function groundPanel(app: App): HTMLElement {
   const t = app.terrain;
-  const replace = h('input', { type: 'checkbox', id: 'terrain-replace', checked: true });
+  const replace = h('input', { type: 'checkbox', id: 'terrain-replace', checked: true, 'data-keep': true });
   const onFiles = (files: File[]) => void loadTerrainFiles(app, files, replace.checked);
   return h(
     'div',
@@ -411,11 +426,12 @@ function typesPanel(app: App): HTMLElement {
   const u = s.units;
   const editor = h('textarea', {
     id: 'type-json',
+    'data-keep': true,
     rows: 14,
     spellcheck: 'false',
     'aria-label': 'sensor type (JSON)',
   });
-  let editing: string | null = null;
+  let editing: string | null = app.form['type-editing'] ?? null;
   // The common fields edit in place; the rest (pattern, detection) in the JSON editor below.
   const patch = (t: SensorType, el: HTMLElement, change: Partial<SensorType>) =>
     void tryEdit(app, el, () => replaceSensorType(app.state, t.id, { ...t, ...change }));
@@ -451,6 +467,7 @@ function typesPanel(app: App): HTMLElement {
           className: 'small',
           onclick: () => {
             editing = t.id;
+            app.form['type-editing'] = t.id;
             editor.value = JSON.stringify(t, null, 2);
             title.textContent = `Editing ${t.id}`;
           },
@@ -582,6 +599,7 @@ function volumesPanel(app: App): HTMLElement {
   const newName = h('input', {
     type: 'text',
     id: 'volume-name',
+    'data-keep': true,
     value: `Volume ${s.doc.volumes.length + 1}`,
   });
   const finish = () => {
@@ -826,14 +844,16 @@ function planPanel(app: App): HTMLElement {
   const budget = h('input', {
     type: 'number',
     id: 'plan-budget',
+    'data-keep': true,
     min: 0,
     step: 'any',
     value: s.doc.budget ?? '',
   });
-  const keep = h('input', { type: 'checkbox', id: 'plan-keep', checked: true });
+  const keep = h('input', { type: 'checkbox', id: 'plan-keep', checked: true, 'data-keep': true });
   const limit = h('input', {
     type: 'number',
     id: 'plan-limit',
+    'data-keep': true,
     min: 1,
     max: 600,
     value: 8,
@@ -1069,7 +1089,12 @@ function outagesPanel(app: App): HTMLElement {
 function layoutsPanel(app: App): HTMLElement {
   const s = app.state;
   const u = s.units;
-  const name = h('input', { type: 'text', id: 'layout-name', value: `Layout ${s.doc.layouts.length + 1}` });
+  const name = h('input', {
+    type: 'text',
+    id: 'layout-name',
+    value: `Layout ${s.doc.layouts.length + 1}`,
+    'data-keep': true,
+  });
   const list = s.doc.layouts.map((l) => [
     l.name,
     `${l.sensors.length} sensors`,
@@ -1100,7 +1125,11 @@ function layoutsPanel(app: App): HTMLElement {
     ),
   ]);
   const pick = (id: string, i: number) => {
-    const sel = h('select', { id }, ...s.doc.layouts.map((l) => h('option', { value: l.name }, l.name)));
+    const sel = h(
+      'select',
+      { id, 'data-keep': true },
+      ...s.doc.layouts.map((l) => h('option', { value: l.name }, l.name)),
+    );
     if (s.doc.layouts[i]) sel.value = s.doc.layouts[i].name;
     return sel;
   };
@@ -1201,6 +1230,7 @@ function profilePanel(app: App): HTMLElement {
   const az = h('input', {
     type: 'number',
     id: 'profile-az',
+    'data-keep': true,
     min: 0,
     max: 360,
     step: 0.1,
