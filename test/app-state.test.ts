@@ -40,7 +40,7 @@ import {
   type SensorRef,
   type WorkState,
 } from '../app/state.ts';
-import { FIXTURE_PRIMARY, FIXTURE_SECONDARY } from './support/scenario-fixture.ts';
+import { FIXTURE_PRIMARY, FIXTURE_SECONDARY, ring } from './support/scenario-fixture.ts';
 
 let demo: Scenario;
 beforeAll(async () => {
@@ -92,14 +92,6 @@ function applied<T>(state: WorkState, edit: (s: WorkState) => T): T {
   expect(state).toStrictEqual(before);
   return next;
 }
-
-const ring = (w: number, s: number, e: number, n: number) => [
-  [w, s],
-  [e, s],
-  [e, n],
-  [w, n],
-  [w, s],
-];
 
 const newVolume = (over: Record<string, unknown> = {}) =>
   ({

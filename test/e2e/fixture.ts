@@ -20,6 +20,7 @@ import { encodeGeoTiff } from '../../worker/io/geotiff-write.ts';
 import { bumpyDem } from '../support/bumps.ts';
 import {
   demGeo,
+  ring,
   siteFeature,
   type FixtureLayout,
   type FixtureSensorType,
@@ -111,13 +112,6 @@ export const E2E_SITES: readonly FixtureSite[] = [
 ];
 
 /** A counter-clockwise rectangle ring. */
-const ring = (w: number, s: number, e: number, n: number) => [
-  [w, s],
-  [e, s],
-  [e, n],
-  [w, n],
-  [w, s],
-];
 
 export const E2E_VOLUMES: readonly FixtureVolume[] = [
   {

@@ -147,7 +147,8 @@ export const DEFAULT_SITES: FixtureSite[] = [
   },
 ];
 
-const ring = (w: number, s: number, e: number, n: number) => [
+/** A closed counter-clockwise rectangle ring (RFC 7946 exterior) from its west, south, east and north edges. */
+export const ring = (w: number, s: number, e: number, n: number) => [
   [w, s],
   [e, s],
   [e, n],
