@@ -20,8 +20,8 @@ export interface MapImage {
 }
 
 export type ImageLayerId = 'relief' | 'floor' | 'fold' | 'gap' | 'compare' | 'compare-lost' | 'loss';
-/** Bottom to top. */
-const ORDER = [
+/** The raster canvases, bottom to top (MapLibre's canvas, with the vector layers, lies above them all). */
+const IMAGE_ORDER: readonly ImageLayerId[] = [
   'relief',
   'floor',
   'fold',
@@ -29,11 +29,6 @@ const ORDER = [
   'compare',
   'compare-lost',
   'loss',
-  'volumes-fill',
-  'volumes-line',
-  'azimuth',
-  'draft-line',
-  'draft-points',
 ];
 
 export interface SiteMarker {
@@ -100,58 +95,43 @@ export class MapView {
     this.scale.setUnit(units === 'aviation' ? 'nautical' : 'metric');
   }
 
-  private beforeOf(id: string): string | undefined {
-    const i = ORDER.indexOf(id);
-    for (const later of ORDER.slice(i + 1)) if (this.map.getLayer(later)) return later;
-    return undefined;
-  }
-
+  /** The vector layers, in drawing order (each added on top of the last). */
   private addVectorLayers(): void {
     const m = this.map;
     const empty = { type: 'FeatureCollection' as const, features: [] };
     m.addSource('volumes', { type: 'geojson', data: empty });
-    m.addLayer(
-      {
-        id: 'volumes-fill',
-        type: 'fill',
-        source: 'volumes',
-        paint: { 'fill-color': '#2a3f5f', 'fill-opacity': 0.06 },
-      },
-      this.beforeOf('volumes-fill'),
-    );
-    m.addLayer(
-      {
-        id: 'volumes-line',
-        type: 'line',
-        source: 'volumes',
-        paint: { 'line-color': '#1f2d44', 'line-width': 1.6, 'line-dasharray': [4, 2] },
-      },
-      this.beforeOf('volumes-line'),
-    );
+    m.addLayer({
+      id: 'volumes-fill',
+      type: 'fill',
+      source: 'volumes',
+      paint: { 'fill-color': '#2a3f5f', 'fill-opacity': 0.06 },
+    });
+    m.addLayer({
+      id: 'volumes-line',
+      type: 'line',
+      source: 'volumes',
+      paint: { 'line-color': '#1f2d44', 'line-width': 1.6, 'line-dasharray': [4, 2] },
+    });
     m.addSource('azimuth', { type: 'geojson', data: empty });
-    m.addLayer(
-      { id: 'azimuth', type: 'line', source: 'azimuth', paint: { 'line-color': '#111', 'line-width': 2 } },
-      this.beforeOf('azimuth'),
-    );
+    m.addLayer({
+      id: 'azimuth',
+      type: 'line',
+      source: 'azimuth',
+      paint: { 'line-color': '#111', 'line-width': 2 },
+    });
     m.addSource('draft', { type: 'geojson', data: empty });
-    m.addLayer(
-      {
-        id: 'draft-line',
-        type: 'line',
-        source: 'draft',
-        paint: { 'line-color': '#7a1f5c', 'line-width': 2 },
-      },
-      this.beforeOf('draft-line'),
-    );
-    m.addLayer(
-      {
-        id: 'draft-points',
-        type: 'circle',
-        source: 'draft',
-        paint: { 'circle-radius': 4, 'circle-color': '#7a1f5c' },
-      },
-      this.beforeOf('draft-points'),
-    );
+    m.addLayer({
+      id: 'draft-line',
+      type: 'line',
+      source: 'draft',
+      paint: { 'line-color': '#7a1f5c', 'line-width': 2 },
+    });
+    m.addLayer({
+      id: 'draft-points',
+      type: 'circle',
+      source: 'draft',
+      paint: { 'circle-radius': 4, 'circle-color': '#7a1f5c' },
+    });
     this.applySettings();
   }
 
@@ -174,7 +154,7 @@ export class MapView {
     el.height = img.height;
     // The bitmap was made (and transferred) by the engine worker: handing it over copies nothing.
     el.getContext('bitmaprenderer')!.transferFromImageBitmap(img.bitmap);
-    el.style.zIndex = String(ORDER.indexOf(id) + 1);
+    el.style.zIndex = String(IMAGE_ORDER.indexOf(id) + 1);
     if (!old) this.overlay.appendChild(el);
     this.images.set(id, { el, corners: img.corners });
     this.place();

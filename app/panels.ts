@@ -21,6 +21,7 @@ import {
   replaceSensorType,
   saveLayout,
   scenarioFileText,
+  sensorSetKey,
   setFlightLevels,
   setNetwork,
   stateFromScenario,
@@ -773,12 +774,7 @@ function coveragePanel(app: App): HTMLElement {
     });
   });
   const c = app.coverage;
-  const key = (l: readonly SensorRef[]) =>
-    l
-      .map((r) => `${r.siteId}/${r.typeId}`)
-      .sort()
-      .join(' ');
-  const stale = c !== null && key(c.sensors) !== key(s.network);
+  const stale = c !== null && sensorSetKey(c.sensors) !== sensorSetKey(s.network);
   const result = c
     ? section(
         'Result',

@@ -334,17 +334,21 @@ export function setFlightLevels(state: WorkState, fls: number[]): WorkState {
 
 export const WORKING_LAYOUT = 'working network';
 
+/** A set of sensors as one string, the same whatever their order (to tell whether two sets are equal). */
+export function sensorSetKey(l: readonly SensorRef[]): string {
+  return l
+    .map((r) => `${r.siteId}\u0000${r.typeId}`)
+    .sort()
+    .join('\n');
+}
+
 /**
  * The scenario file the app saves: the working document, with the current network as the layout "working
  * network" unless a saved layout already holds exactly that set (opening the file brings the network back).
  */
 export function scenarioFileText(state: WorkState): string {
   const doc = structuredClone(state.doc);
-  const key = (l: readonly SensorRef[]) =>
-    l
-      .map((r) => `${r.siteId}\u0000${r.typeId}`)
-      .sort()
-      .join('\n');
+  const key = sensorSetKey;
   const mine = key(state.network);
   if (
     state.network.length > 0 &&
