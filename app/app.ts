@@ -5,6 +5,7 @@
  * running job and recomputes only what changed (the engine caches footprints).
  */
 import { get as idbGet, set as idbSet } from 'idb-keyval';
+import { CAUTION, CAUTION_SHORT } from '../shared/caution.ts';
 import { formatFl } from '../shared/units.ts';
 import type { SiteLoss } from '../worker/core/outage.ts';
 import type {
@@ -129,21 +130,20 @@ export class App {
         'Airshade computes where the radars of a network see aircraft at chosen flight levels, over the terrain you load, on an effective-earth model; picks the sites and sensor types that close the gaps at least cost; and shows what is lost when a site goes down.',
       ),
       h('h3', {}, 'Cautions'),
+      h('p', { id: 'about-caution' }, CAUTION),
       h(
         'ul',
         { className: 'cautions' },
-        h('li', {}, 'A planning aid, not a certified or flight-inspected result.'),
         h(
           'li',
           {},
-          'Results depend on the terrain data (its resolution, voids and datum) and on refraction: the effective earth radius factor k is an assumption, and anomalous propagation is not modelled.',
+          'Terrain data: its resolution, voids and datum all shape the results. Refraction: the effective earth radius factor k is an assumption, and anomalous propagation is not modelled.',
         ),
         h(
           'li',
           {},
           'Detection ranges come from the sensor models entered; real performance depends on the site, the equipment and its maintenance.',
         ),
-        h('li', {}, 'Defer to the local authority’s standards and to licensed engineering practice.'),
       ),
       h('p', {}, 'Flight levels are converted to altitude in the ICAO standard atmosphere (FL × 100 ft).'),
       h('button', { onclick: () => about.close() }, 'Close'),
@@ -186,7 +186,7 @@ export class App {
         { id: 'status' },
         h('span', { id: 'job' }, progress, this.el.stage, this.el.cancel),
         this.el.readout,
-        h('span', { className: 'caution-line' }, 'Planning aid only — not certified or flight-inspected.'),
+        h('span', { className: 'caution-line', title: CAUTION }, CAUTION_SHORT),
       ),
       about,
     );

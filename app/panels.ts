@@ -2,6 +2,7 @@
  * The side panels, one function each, rebuilt from the state whenever it changes. Names are plain words of our
  * own. Inputs apply on change; a rejected value stays in its field, marked, with the message above the panel.
  */
+import { CAUTION } from '../shared/caution.ts';
 import { flToMetres, formatFl } from '../shared/units.ts';
 import type { SensorType } from '../shared/scenario.ts';
 import type { App } from './app.ts';
@@ -1360,8 +1361,7 @@ function filesPanel(app: App): HTMLElement {
   fl.value = String(s.view.fl);
   const summary = () => ({
     scenario: s.doc.name,
-    caution:
-      'Planning aid: not a certified or flight-inspected result. Results depend on the terrain data and the refraction assumed; defer to the local authority’s standards and licensed engineering practice.',
+    caution: CAUTION,
     network: s.network,
     coverage: app.coverage,
     outage: app.outage,

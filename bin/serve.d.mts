@@ -1,5 +1,7 @@
 // Types for bin/serve.mjs, for the TypeScript tests that start it.
 
+/** The caution printed on start: a copy of shared/caution.ts's CAUTION (test/caution.test.ts checks they match). */
+export declare const CAUTION: string;
 /** The Content-Security-Policy sent with every response. */
 export declare const CSP: string;
 /** Headers on every response, whatever its status. */

@@ -14,6 +14,14 @@ import { createServer } from 'node:http';
 import { extname, isAbsolute, join, relative, resolve, sep } from 'node:path';
 import { fileURLToPath } from 'node:url';
 
+/**
+ * The caution printed on start. A copy of CAUTION in shared/caution.ts (this file runs in plain node, without a
+ * TypeScript loader): keep the two identical — test/caution.test.ts checks that they are.
+ */
+export const CAUTION =
+  'A planning aid, not a certified or flight-inspected result. Results depend on the terrain data and on the ' +
+  "refraction assumed; defer to the local authority's standards and licensed engineering practice.";
+
 /** The Content-Security-Policy sent with every response. */
 export const CSP = [
   "default-src 'self'",
@@ -311,10 +319,7 @@ async function main(argv) {
   console.log(
     'Open it in Chromium, Chrome, Edge or Firefox; the demo loads on the first visit. Ctrl+C stops the server.',
   );
-  console.log(
-    'A planning aid, not a certified or flight-inspected result: coverage depends on the terrain data and refraction;',
-  );
-  console.log('defer to the local authority’s standards and licensed engineering practice.');
+  console.log(CAUTION);
   const stop = () => {
     server.close().then(() => process.exit(0));
   };

@@ -33,6 +33,8 @@ import { InputError } from './errors.ts';
 export const SCENARIO_DEFAULTS = {
   /** m²: a small aircraft (common practice). */
   targetRcsM2: 2,
+  targetFluctuation: 'swerling1',
+  targetTransponder: 'low-power',
   maxRangeKm: 400,
   volumeWeight: 1,
   existing: false,
@@ -41,6 +43,22 @@ export const SCENARIO_DEFAULTS = {
 /** Flight levels accepted anywhere in a scenario (hundreds of feet). */
 export const FL_MIN = 0;
 export const FL_MAX = 600;
+
+/** Limits of the detection laws (worker/core/detection.ts DETECTION_LIMITS; test/scenario.test.ts checks they agree). */
+export const DETECTION = {
+  pdMin: 0.1,
+  pdMax: 0.99,
+  pfaMin: 1e-10,
+  pfaMax: 1e-3,
+  nMin: 1,
+  nMax: 8096,
+} as const;
+export const FLUCTUATION_IDS = ['swerling0', 'swerling1', 'swerling2', 'swerling3', 'swerling4'] as const;
+export const TRANSPONDER_IDS = ['high-power', 'low-power'] as const;
+const inRange = (lo: number, hi: number, text: string) =>
+  z.number({ error: text }).min(lo, { error: text }).max(hi, { error: text });
+const PD_TEXT = `a probability of detection from ${DETECTION.pdMin} to ${DETECTION.pdMax}`;
+const PFA_TEXT = `a false-alarm probability from ${DETECTION.pfaMin} to ${DETECTION.pfaMax}`;
 
 /** Most problems listed in one error message; the rest are counted. */
 const MAX_LISTED_PROBLEMS = 40;
@@ -474,6 +492,10 @@ export const VolumeSchema = strictObject({
   flMax: FlightLevelSchema,
   requiredFold: strictObject({ primary: Fold.optional(), secondary: Fold.optional(), any: Fold.optional() }),
   weight: positive('relative demand weight').default(SCENARIO_DEFAULTS.volumeWeight),
+  /** This volume's own target (e.g. a terminal area studied for small aircraft); default the scenario's. */
+  targetRcsM2: Rcs.optional(),
+  targetFluctuation: z.enum(FLUCTUATION_IDS).optional(),
+  targetTransponder: z.enum(TRANSPONDER_IDS).optional(),
 }).superRefine((v, ctx) => {
   if (num(v.flMin) && num(v.flMax) && v.flMin > v.flMax) {
     problem(ctx, ['flMax'], `flMax ${v.flMax} below flMin ${v.flMin}`, 'flMin ≤ flMax');
@@ -542,20 +564,44 @@ export const ElevationPatternSchema = z.discriminatedUnion('type', [Cosec2Patter
 export const ReferenceDetectionSchema = strictObject({
   referenceRangeNm: positive('NM'),
   referenceRcsM2: Rcs.optional(),
+  /** Primary: the Pd, Pfa and target fluctuation the range is quoted for (defaults 0.8, 1e-6, swerling1). */
+  referencePd: z.number().optional(),
+  referencePfa: z.number().optional(),
+  referenceFluctuation: z.enum(FLUCTUATION_IDS).optional(),
+  /** Elevation the range applies to, degrees (default: the pattern's peak). */
+  referenceElevationDeg: z.number().min(-10).max(90).optional(),
+  hitsIntegrated: z.number().optional(),
+}).superRefine((d, ctx) => {
+  if (num(d.referencePd) && !(d.referencePd >= DETECTION.pdMin && d.referencePd <= DETECTION.pdMax))
+    problem(ctx, ['referencePd'], showValue(d.referencePd), PD_TEXT);
+  if (num(d.referencePfa) && !(d.referencePfa >= DETECTION.pfaMin && d.referencePfa <= DETECTION.pfaMax))
+    problem(ctx, ['referencePfa'], showValue(d.referencePfa), PFA_TEXT);
+  if (
+    d.hitsIntegrated !== undefined &&
+    !(
+      Number.isInteger(d.hitsIntegrated) &&
+      d.hitsIntegrated >= DETECTION.nMin &&
+      d.hitsIntegrated <= DETECTION.nMax
+    )
+  )
+    problem(ctx, ['hitsIntegrated'], showValue(d.hitsIntegrated), HITS_TEXT);
+}, always);
+
+/** An SSR's half of the uplink and downlink budgets (the transponder's half is the study's transponder class). */
+export const SecondaryLinkSchema = strictObject({
+  interrogatorPowerW: inRange(1e-3, 1e5, 'an interrogator peak power in W from 0.001 to 100 000'),
+  antennaGainDbi: z.number().gt(0).lt(50),
+  cableLossDb: z.number().min(0).lt(20),
+  receiverSensitivityDbm: inRange(-120, -40, 'a receiver sensitivity in dBm from −120 to −40'),
 });
 
-/** The range of Albersheim's approximation as published (Proc. IEEE 69(7), 1981); as in worker/core/sensor.ts. */
-const ALBERSHEIM = { pdMin: 0.1, pdMax: 0.9, pfaMin: 1e-7, pfaMax: 1e-3, nMin: 1, nMax: 8096 } as const;
-const inRange = (lo: number, hi: number, text: string) =>
-  z.number({ error: text }).min(lo, { error: text }).max(hi, { error: text });
-const ALB = "(the range of Albersheim's approximation)";
 const GAIN_TEXT = 'an antenna gain in dBi above 0 and below 70';
 const EFFICIENCY_TEXT = 'an aperture efficiency above 0 and at most 1';
 const NF_TEXT = 'a noise figure in dB from 0 to below 30';
 const LOSSES_TEXT = 'system losses in dB from 0 to below 60';
-const HITS_TEXT = `a whole number of pulses integrated from ${ALBERSHEIM.nMin} to ${ALBERSHEIM.nMax} ${ALB}`;
+const HITS_TEXT = `a whole number of pulses integrated from ${DETECTION.nMin} to ${DETECTION.nMax}`;
 
-/** Detection from physical parameters (radar equation + Albersheim); primary sensors only. */
+/** Detection from physical parameters (radar equation + the detection laws of worker/core/detection.ts); primary only. */
 export const PhysicalDetectionSchema = strictObject({
   peakPowerKw: positive('kW'),
   antennaGainDbi: z
@@ -573,12 +619,12 @@ export const PhysicalDetectionSchema = strictObject({
   pulseWidthUs: positive('µs'),
   noiseFigureDb: z.number({ error: NF_TEXT }).min(0, { error: NF_TEXT }).lt(30, { error: NF_TEXT }),
   lossesDb: z.number({ error: LOSSES_TEXT }).min(0, { error: LOSSES_TEXT }).lt(60, { error: LOSSES_TEXT }),
-  pd: inRange(ALBERSHEIM.pdMin, ALBERSHEIM.pdMax, `a probability of detection from 0.1 to 0.9 ${ALB}`),
-  pfa: inRange(ALBERSHEIM.pfaMin, ALBERSHEIM.pfaMax, `a false-alarm probability from 1e-7 to 1e-3 ${ALB}`),
+  pd: inRange(DETECTION.pdMin, DETECTION.pdMax, PD_TEXT),
+  pfa: inRange(DETECTION.pfaMin, DETECTION.pfaMax, PFA_TEXT),
   /** Pulses integrated non-coherently; default 1. */
   hitsIntegrated: whole(HITS_TEXT)
-    .min(ALBERSHEIM.nMin, { error: HITS_TEXT })
-    .max(ALBERSHEIM.nMax, { error: HITS_TEXT })
+    .min(DETECTION.nMin, { error: HITS_TEXT })
+    .max(DETECTION.nMax, { error: HITS_TEXT })
     .optional(),
 }).superRefine((d, ctx) => {
   const gain = d.antennaGainDbi !== undefined;
@@ -592,7 +638,11 @@ export const PhysicalDetectionSchema = strictObject({
     );
   }
 }, always);
-export const DetectionSchema = z.union([ReferenceDetectionSchema, PhysicalDetectionSchema]);
+export const DetectionSchema = z.union([
+  ReferenceDetectionSchema,
+  PhysicalDetectionSchema,
+  SecondaryLinkSchema,
+]);
 
 const FREQ_TEXT = 'a frequency in MHz from 1 to 300 000';
 const WEATHER_TEXT = 'a two-way weather loss in dB from 0 to below 40';
@@ -616,7 +666,7 @@ export const SensorTypeSchema = strictObject({
     .optional(),
   elevationPattern: ElevationPatternSchema,
   detection: DetectionSchema,
-  /** Primary only: this type's target RCS. */
+  /** Leftover of earlier files: loads with a warning; the study's target governs (worker/core/sensor.ts). */
   targetRcsM2: Rcs.optional(),
 }).superRefine((t, ctx) => {
   if (num(t.minRangeNm) && num(t.instrumentedRangeNm) && t.minRangeNm >= t.instrumentedRangeNm) {
@@ -638,20 +688,33 @@ export const SensorTypeSchema = strictObject({
       'the RCS (m²) of the reference target: a primary sensor’s range depends on the target’s RCS',
     );
   }
+  if (t.kind === 'primary' && 'interrogatorPowerW' in d) {
+    problem(
+      ctx,
+      ['detection'],
+      'SSR link parameters (interrogatorPowerW …)',
+      'a specification point { referenceRangeNm, referenceRcsM2, … } or physical radar parameters { peakPowerKw, … }',
+    );
+  }
   if (t.kind !== 'secondary') return;
-  const notRcs = "nothing: a secondary's range does not depend on the target's RCS";
-  if (reference && d.referenceRcsM2 !== undefined) {
-    problem(ctx, ['detection', 'referenceRcsM2'], showValue(d.referenceRcsM2), notRcs);
+  const notTarget = "nothing: a secondary's range comes from its links, not from a target's echo";
+  for (const k of [
+    'referenceRcsM2',
+    'referencePd',
+    'referencePfa',
+    'referenceFluctuation',
+    'hitsIntegrated',
+  ]) {
+    if (reference && d[k] !== undefined) problem(ctx, ['detection', k], showValue(d[k]), notTarget);
   }
   if (!reference && 'peakPowerKw' in d) {
     problem(
       ctx,
       ['detection'],
       'physical radar parameters (peakPowerKw …)',
-      "a reference range { referenceRangeNm }: a secondary's range comes from its link budget, not the radar equation",
+      "a reference range { referenceRangeNm } or link parameters { interrogatorPowerW, … }: a secondary's range comes from its link budget, not the radar equation",
     );
   }
-  if (t.targetRcsM2 !== undefined) problem(ctx, ['targetRcsM2'], showValue(t.targetRcsM2), notRcs);
   if (t.weatherLossDb !== undefined) {
     problem(
       ctx,
@@ -682,6 +745,8 @@ export const SitePropertiesSchema = z.object({
   id: Id,
   name: Name,
   mastHeightM: nonNegative('m, antenna height above ground'),
+  /** Antenna tilt, degrees above the horizontal (default 0): raises the whole elevation pattern. */
+  tiltDeg: inRange(-10, 20, 'an antenna tilt from −10 to 20 degrees').optional(),
   siteCost: nonNegative('M units'),
   existing: z.boolean().default(SCENARIO_DEFAULTS.existing),
   allowedTypes: z
@@ -775,7 +840,32 @@ function checkReferences(s: Record<string, unknown>, ctx: Ctx): void {
   });
 }
 
-const K_TEXT = 'an effective earth radius factor k > 0 (4/3 is standard)';
+/**
+ * Effective earth radius factor k = 157/(157 − ΔN) (ITU-R P.452 eq. (5), ΔN the refractivity decrease per km).
+ * k ≤ 0 or k → ∞ is a gradient of −157 N/km or steeper: the ray bends at least as fast as the earth (ducting),
+ * which an effective-earth model cannot represent. Accepted: 0.2 ≤ k ≤ 20, i.e. from strong sub-refraction
+ * (ΔN = −628 N/km) to within 5 % of the ducting gradient (ΔN = 149 N/km).
+ */
+export const K_LIMITS = { min: 0.2, max: 20 } as const;
+const K_TEXT = `an effective earth radius factor k from ${K_LIMITS.min} to ${K_LIMITS.max} (4/3 is standard)`;
+export const KFactorSchema = z.number({ error: K_TEXT }).superRefine((k, ctx) => {
+  if (!Number.isFinite(k)) return;
+  if (k <= 0 || k > K_LIMITS.max) {
+    problem(
+      ctx,
+      [],
+      String(k),
+      `${K_TEXT}: k ${k <= 0 ? '≤ 0' : `> ${K_LIMITS.max}`} means a refractivity gradient at or near −157 N/km, where the ray bends as fast as the earth (ducting) — the effective-earth model does not hold; study a duct with a propagation model that represents it`,
+    );
+  } else if (k < K_LIMITS.min) {
+    problem(
+      ctx,
+      [],
+      String(k),
+      `${K_TEXT}: k < ${K_LIMITS.min} is sub-refraction beyond anything the standard atmosphere models describe`,
+    );
+  }
+});
 const CELL_TEXT = 'a cell size in arc-seconds, > 0 and ≤ 3600';
 const SENSOR_TYPES_TEXT =
   'a list of sensor types (in a scenario file, or the path of a JSON file holding one)';
@@ -785,9 +875,7 @@ const ScenarioObjectSchema = strictObject({
   terrain: strictObject({
     files: z.array(z.string().min(1)).min(1, { error: 'at least one terrain file (GeoTIFF)' }),
   }),
-  earth: strictObject({
-    kFactor: z.number({ error: K_TEXT }).positive({ error: K_TEXT }),
-  }),
+  earth: strictObject({ kFactor: KFactorSchema }),
   grid: strictObject({
     cellArcSec: z.number({ error: CELL_TEXT }).positive({ error: CELL_TEXT }).max(3600, { error: CELL_TEXT }),
     bounds: BoundsSchema.optional(),
@@ -810,6 +898,17 @@ const ScenarioObjectSchema = strictObject({
   layouts: z.array(LayoutSchema).default([]),
   budget: nonNegative('M units').optional(),
   targetRcsM2: Rcs.default(SCENARIO_DEFAULTS.targetRcsM2),
+  /** The target's fluctuation (Swerling case); default swerling1, common practice for aircraft scan to scan. */
+  targetFluctuation: z.enum(FLUCTUATION_IDS).default(SCENARIO_DEFAULTS.targetFluctuation),
+  /** The target's transponder class (worker/core/sensor.ts TRANSPONDER_CLASSES); default the low-power class. */
+  targetTransponder: z.enum(TRANSPONDER_IDS).default(SCENARIO_DEFAULTS.targetTransponder),
+  /** The day: flight levels become true altitudes through the altimetry of worker/core/altimetry.ts. */
+  day: strictObject({
+    qnhHpa: inRange(870, 1090, 'a sea-level pressure (QNH) in hPa from 870 to 1090'),
+    isaDeviationC: inRange(-60, 40, 'a temperature deviation from the ISA in °C from −60 to +40'),
+  }).optional(),
+  /** Over-sea two-ray lobing where the reflection point lies over sea ("auto", default) or never ("off"). */
+  multipath: z.enum(['auto', 'off']).default('auto'),
   maxRangeKm: positive('km').default(SCENARIO_DEFAULTS.maxRangeKm),
 });
 

@@ -23,6 +23,7 @@ import GeometryFactory from 'jsts/org/locationtech/jts/geom/GeometryFactory.js';
 import GeoJSONReader from 'jsts/org/locationtech/jts/io/GeoJSONReader.js';
 import IsValidOp from 'jsts/org/locationtech/jts/operation/valid/IsValidOp.js';
 import { beforeAll, describe, expect, it } from 'vitest';
+import { CAUTION } from '../shared/caution.ts';
 import { InputError, isInputError } from '../shared/errors.ts';
 import {
   maskAreaKm2,
@@ -546,14 +547,15 @@ describe('GeoJSON layers', () => {
     const lines = text.trimEnd().split('\n');
     expect(lines.length).toBe(4); // header, two features, closing bracket
     expect(lines[0]).toBe(
-      '{"type":"FeatureCollection","metadata":{"alpha":[0.333333,"x",null,true],"zeta":0},"features":[',
+      `{"type":"FeatureCollection","caution":${JSON.stringify(CAUTION)},` +
+        '"metadata":{"alpha":[0.333333,"x",null,true],"zeta":0},"features":[',
     );
     expect(lines[1]).toMatch(
       /^\{"type":"Feature","properties":\{"altitudeM":3048,"areaKm2":1.234568,"flightLevel":100,/,
     );
     expect(lines[1]).toMatch(/"geometry":\{"type":"MultiPolygon","coordinates":\[\[\[\[/);
     const back = JSON.parse(text);
-    expect(Object.keys(back)).toEqual(['type', 'metadata', 'features']);
+    expect(Object.keys(back)).toEqual(['type', 'caution', 'metadata', 'features']);
     expect(Object.keys(back.features[0])).toEqual(['type', 'properties', 'geometry']);
     expect(Object.keys(back.features[0].properties)).toEqual([...Object.keys(f.properties)].sort());
     expect(back.features[0].geometry.coordinates).toEqual(coords); // already 6-decimal: unchanged

@@ -5,7 +5,7 @@
  *
  * Outside yardsticks, each named beside its check:
  * - Radar horizon on the effective earth: antenna 30 m, target FL100 (3048 m), k = 4/3 → ≈ 250.1 km, exact form
- *   √((Re+ha)² − Re²) + √((Re+h)² − Re²) (REFERENCES.md: Skolnik, Introduction to Radar Systems, horizon on
+ *   √((Re+ha)² − Re²) + √((Re+h)² − Re²) (test/REFERENCES.md: Skolnik, Introduction to Radar Systems, horizon on
  *   the 4/3 earth — recalled from memory, not re-read).
  * - Exact WGS84 geodesics (distances from the antenna): geographiclib-geodesic, the reference implementation of
  *   Karney, "Algorithms for geodesics", J. Geodesy 87 (2013).
@@ -189,14 +189,14 @@ describe('flat sea: the FL100 coverage ends at the radar horizon', () => {
   });
   afterAll(() => fx.cleanup());
 
-  // REFERENCES.md: ≈ 250.1 km for 30 m / FL100 / k = 4/3, exact form √((Re+h)² − Re²) summed
+  // test/REFERENCES.md: ≈ 250.1 km for 30 m / FL100 / k = 4/3, exact form √((Re+h)² − Re²) summed
   // (Skolnik, horizon on the 4/3 earth — recalled from memory). Recomputed here from the formula's inputs.
   const re = (4 / 3) * R;
   const hM = flToMetres(100); // ICAO Doc 7488: FL100 = 3048 m
   const horizonM = Math.sqrt((re + MAST_M) ** 2 - re ** 2) + Math.sqrt((re + hM) ** 2 - re ** 2);
-  // One analysis cell (60″): its sides in metres at 41° S (≈ 111.3 km per degree: a tolerance, not a check
-  // value), and its extent along an azimuth (the projection of the cell onto the radial) — "within one cell in
-  // that direction".
+  // One analysis cell (60″): its sides in metres at 41° S, and its extent along an azimuth (the projection of the
+  // cell onto the radial) — "within one cell in that direction". A tolerance, not a check value: 111 320 m is one
+  // degree along the WGS84 equator, 2π × 6 378 137 m / 360 [calc], a little more than a degree of latitude at 41° S.
   const cellM = (60 / 3600) * 111_320;
   const cellLonM = cellM * Math.cos((SITE.lat * Math.PI) / 180);
   const cellAlongM = (azDeg: number) =>
@@ -292,11 +292,12 @@ describe('flat sea: the cone of silence above a sensor', () => {
   afterAll(() => fx.cleanup());
 
   it('at FL100 with a 40° maximum elevation the hole has a radius of h / tan 40° = 3632 m, to within a cell', () => {
-    // REFERENCES.md: cone of silence radius 3632 m at FL100 for 40° (geometry [calc]); recomputed here.
+    // test/REFERENCES.md: cone of silence radius 3632 m at FL100 for 40° (geometry [calc]); recomputed here.
     const radiusM = flToMetres(100) / Math.tan((40 * Math.PI) / 180);
     expect(radiusM).toBeCloseTo(3632, 0);
     const { grid, network } = p;
     const fold = network.foldOf('any', 0);
+    // Tolerance: a cell's diagonal, with 111 320 m per degree as above.
     const cellDiagM = Math.hypot((3 / 3600) * 111_320, (3 / 3600) * 111_320 * Math.cos((41 * Math.PI) / 180));
     let inside = 0;
     let outside = 0;

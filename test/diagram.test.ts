@@ -4,12 +4,12 @@
  * Sources of the check values:
  * - Radar horizon on a smooth sphere of radius Re (exact spherical form: the tangent ray from the antenna grazes
  *   the sphere at arc Re·acos(Re/(Re+ha)) and climbs to altitude h over a further arc Re·acos(Re/(Re+h))), and
- *   the check value 30 m antenna → FL100 at ≈ 250.1 km on the 4/3 earth: REFERENCES.md (Skolnik, Introduction
+ *   the check value 30 m antenna → FL100 at ≈ 250.1 km on the 4/3 earth: test/REFERENCES.md (Skolnik, Introduction
  *   to Radar Systems, horizon on the 4/3 earth — recalled from memory).
  * - Cone of silence at FL100 for a 40° maximum elevation: 3048 m / tan 40° = 3632 m, geometry [calc]
- *   (REFERENCES.md).
+ *   (test/REFERENCES.md).
  * - A cosecant-squared elevation pattern gives R·sin ε ≈ const, a constant-altitude envelope on a flat earth:
- *   REFERENCES.md (Skolnik, ibid. — recalled from memory).
+ *   test/REFERENCES.md (Skolnik, ibid. — recalled from memory).
  */
 import { describe, expect, it } from 'vitest';
 import { XMLParser, XMLValidator } from 'fast-xml-parser';
@@ -17,8 +17,11 @@ import { diagramData, rayGroundRangeM } from '../worker/core/diagram.ts';
 import { renderDiagramSvg, escapeXml } from '../worker/io/diagram-svg.ts';
 import { computeHorizon, floorAt, planHorizon, traceRadial } from '../worker/core/horizon.ts';
 import { pseudoToAzimuthRad } from '../worker/core/geodesy.ts';
-import { buildSensorModel, type SensorModel } from '../worker/core/sensor.ts';
+import { buildSensorModel, DEFAULT_TARGET, type SensorModel } from '../worker/core/sensor.ts';
+
+const TARGET = DEFAULT_TARGET;
 import { isInputError } from '../shared/errors.ts';
+import { CAUTION } from '../shared/caution.ts';
 import { cellLonLat, metricGeo, metricTerrain } from './support/dem.ts';
 import { bumpyDem } from './support/bumps.ts';
 
@@ -81,7 +84,7 @@ describe.each([1, 4 / 3])('flat sea, k = %s', (k) => {
     azimuthDeg: 37,
     kFactor: k,
     maxRangeM: 270_000,
-    rcsM2: 2,
+    target: TARGET,
     flightLevels: [100],
   });
 
@@ -106,7 +109,7 @@ describe.each([1, 4 / 3])('flat sea, k = %s', (k) => {
   });
 
   if (k === 4 / 3) {
-    it('FL100 enters line of sight at ≈ 250.1 km for a 30 m antenna (REFERENCES.md) within 0.5 %', () => {
+    it('FL100 enters line of sight at ≈ 250.1 km for a 30 m antenna (test/REFERENCES.md) within 0.5 %', () => {
       const i = d.floorM.findIndex((f) => f >= 3048);
       expect(i).toBeGreaterThan(0);
       expect(Math.abs(d.rangesM[i] - 250_100) / 250_100).toBeLessThan(0.005);
@@ -137,7 +140,7 @@ describe('agreement with the horizon engine', () => {
       const azRad = pseudoToAzimuthRad(pseudo);
       const d = diagramData(terrain, spec, beacon, {
         azimuthDeg: azRad * RAD_TO_DEG,
-        rcsM2: 2,
+        target: TARGET,
         maxRangeM: 5000,
         flightLevels: [],
       });
@@ -176,7 +179,7 @@ describe('terrain features', () => {
     const d = diagramData(terrain, { ...site, mastM: 20 }, beacon, {
       azimuthDeg: 90,
       maxRangeM: 18_000,
-      rcsM2: 2,
+      target: TARGET,
       flightLevels: [],
     });
     expect(d.stepM).toBe(d.engineStepM);
@@ -197,7 +200,7 @@ describe('terrain features', () => {
     const d = diagramData(terrain, { ...site, mastM: 20 }, beacon, {
       azimuthDeg: 90,
       maxRangeM: 18_000,
-      rcsM2: 2,
+      target: TARGET,
       flightLevels: [],
     });
     expect(d.unknown.length).toBe(1);
@@ -219,7 +222,7 @@ describe('sensor limits', () => {
     const d = diagramData(terrain, { ...site, mastM: 0 }, beacon, {
       azimuthDeg: 200,
       maxRangeM: 20_000,
-      rcsM2: 2,
+      target: TARGET,
       flightLevels: [50, 100],
     });
     const fl100 = d.flightLevels.find((f) => f.fl === 100)!;
@@ -263,15 +266,18 @@ describe('sensor limits', () => {
   it('a cosec² sensor on a flat earth (k = 1000) has a flat envelope between its angles, within 2 %', () => {
     const startDeg = 2;
     const endDeg = 30;
-    const r0 = 100 * 1852;
     const model = cosec2Sensor({ startDeg, endDeg, maxElevationDeg: 40, referenceRangeNm: 100 });
+    // The free-space peak range (the 100 NM spec point is quoted in the standard atmosphere: sensor.ts).
+    const r0 = model.peakRangeM(TARGET);
     const { terrain, site } = grid(101, 500, () => 0);
+    // Free space (no gaseous loss), to isolate the pattern's shape.
     const d = diagramData(terrain, { ...site, mastM: 0 }, model, {
       azimuthDeg: 0,
       kFactor: 1000,
-      maxRangeM: 200_000,
-      rcsM2: 2,
+      maxRangeM: 250_000,
+      target: TARGET,
       flightLevels: [],
+      atmosphere: false,
     });
     const expected = r0 * Math.sin(startDeg / RAD_TO_DEG); // R·sin ε = const (flat earth, antenna at 0 m)
     const sNear = (expected / Math.tan(endDeg / RAD_TO_DEG)) * 1.1;
@@ -291,14 +297,15 @@ describe('sensor limits', () => {
     expect((hi - lo) / expected).toBeLessThan(0.02);
     // Beyond the peak range nothing is detected.
     const past = env.rangesM.findIndex((s) => s > r0 * 1.01);
+    expect(past).toBeGreaterThan(0);
     expect(Number.isNaN(env.hiM[past])).toBe(true);
   });
 
   it('bad options name the field', () => {
     const { terrain, site } = grid(21, 500, () => 0);
-    const base = { azimuthDeg: 0, maxRangeM: 4000, rcsM2: 2, flightLevels: [100] };
+    const base = { azimuthDeg: 0, maxRangeM: 4000, target: TARGET, flightLevels: [100] };
     const cases: [object, string][] = [
-      [{ rcsM2: 0 }, 'rcsM2'],
+      [{ target: { ...TARGET, rcsM2: 0 } }, 'target.rcsM2'],
       [{ azimuthDeg: NaN }, 'azimuthDeg'],
       [{ flightLevels: [100, 12.5] }, 'flightLevels[1]'],
     ];
@@ -319,7 +326,7 @@ describe('SVG', () => {
   const d = diagramData(terrain, { ...site, mastM: 20 }, beacon, {
     azimuthDeg: 90,
     maxRangeM: 30_000, // past the grid: some terrain unknown
-    rcsM2: 2,
+    target: TARGET,
     flightLevels: [50, 100, 245],
   });
   const title = 'Site <Ridge & "Co"> — beacon';
@@ -336,9 +343,9 @@ describe('SVG', () => {
       for (const label of ['FL050', 'FL100']) expect(svg).toContain(`>${label}</text>`);
       expect(svg).toContain('&lt;Ridge &amp; &quot;Co&quot;&gt;');
       expect(svg).not.toContain('<Ridge');
-      expect(textOf(svg)).toContain(
-        'Planning aid — not a certified or flight-inspected result; 4/3-earth refraction assumed',
-      );
+      // The whole caution (shared/caution.ts) in the caption, then the refraction assumed.
+      expect(textOf(svg)).toContain(escapeXml(CAUTION));
+      expect(textOf(svg)).toContain('Refraction assumed here: effective earth k = 4/3.');
       expect(svg).toContain(units === 'metric' ? '(km)' : '(NM)');
       expect(svg).toContain(units === 'metric' ? 'Altitude AMSL (m)' : 'Altitude AMSL (ft)');
       expect(svg).toContain('Terrain unknown');
@@ -352,12 +359,12 @@ describe('SVG', () => {
       azimuthDeg: 90,
       kFactor: 1.2,
       maxRangeM: 15_000,
-      rcsM2: 2,
+      target: TARGET,
       flightLevels: [100],
     });
     const svg = renderDiagramSvg(d12, { title: 'k test', units: 'metric', width: 640, height: 420 });
     expect(XMLValidator.validate(svg)).toBe(true);
-    expect(textOf(svg)).toContain('effective-earth refraction k = 1.2 assumed');
+    expect(textOf(svg)).toContain('Refraction assumed here: effective earth k = 1.2.');
     expect(svg).toContain('width="640" height="420"');
     expect(svg).not.toContain('Terrain unknown');
   });

@@ -167,7 +167,7 @@ describe('engine', () => {
     ).rejects.toThrow(/notes\.tif/);
     expect(e.terrainInfo()).toEqual(info);
     const away = structuredClone(doc);
-    away.sites.features[0].geometry.coordinates = [10, 10];
+    away.sites.features[0].geometry.coordinates = [-10, -10]; // open South Atlantic, far off the terrain
     expect(() => e.setScenario(away, 'moved.json')).toThrow(/outside the terrain/);
     // The previous study still stands: coverage runs.
     const r = await e.coverage(layout, undefined);

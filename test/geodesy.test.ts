@@ -39,13 +39,14 @@ const SITES: { name: string; geo: GridGeo; lon: number; lat: number }[] = [
     },
   },
   {
+    // High latitude, northern hemisphere: open Norwegian Sea, about 470 km from the nearest land.
     name: 'geographic grid, 68° N',
-    lon: 12.3,
+    lon: 1.0,
     lat: 68.0,
     geo: {
       width: 20,
       height: 20,
-      originX: 12.2,
+      originX: 0.9,
       originY: 68.1,
       pixelX: 0.01,
       pixelY: -0.01,

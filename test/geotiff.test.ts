@@ -76,11 +76,12 @@ describe('encodeGeoTiff -> readDemTile round trip', () => {
   it('Int16 projected EPSG:32724 with nodata -32768', async () => {
     const values = terrainValues(30, 20, 2);
     values[45] = -32768;
+    // Near 45.1° S 39.2° W (zone 24 south): open South Atlantic.
     const geo: GridGeo = {
       width: 30,
       height: 20,
       originX: 480000,
-      originY: 8010000,
+      originY: 5010000,
       pixelX: 30,
       pixelY: -30,
       crs: UTM24S,
@@ -96,7 +97,7 @@ describe('encodeGeoTiff -> readDemTile round trip', () => {
       width: 30,
       height: 20,
       originX: 480000,
-      originY: 8010000,
+      originY: 5010000,
       pixelX: 30,
       pixelY: -30,
     });
@@ -106,7 +107,7 @@ describe('encodeGeoTiff -> readDemTile round trip', () => {
 
   it('Int32 geographic', async () => {
     const values = terrainValues(17, 9, 3).map((v) => v * 1000);
-    const geo = geographic(17, 9, 100, 10, 0.5);
+    const geo = geographic(17, 9, 160, 40, 0.5); // open North Pacific, 160–168.5° E, 35.5–40° N
     const tile = await readDemTile(encodeGeoTiff({ geo, data: Int32Array.from(values) }), 'i.tif');
     expect(Array.from(tile.data)).toEqual(values);
     expect(tile.geo).toEqual(geo);
@@ -117,7 +118,8 @@ describe('encodeGeoTiff -> readDemTile round trip', () => {
     const data = Float32Array.from(values);
     const voids = [0, 21, 210, 399];
     for (const i of voids) data[i] = NaN;
-    const buf = encodeGeoTiff({ geo: geographic(20, 20, 5, 5, 0.01), data, nodata: NaN });
+    // 5° E 5° S: open Gulf of Guinea, about 400 km from the nearest island.
+    const buf = encodeGeoTiff({ geo: geographic(20, 20, 5, -5, 0.01), data, nodata: NaN });
     const image = await (await fromArrayBuffer(buf)).getImage();
     expect(String(image.getFileDirectory().getValue('GDAL_NODATA'))).toMatch(/^nan\0?$/);
     const raw = (await image.readRasters({ interleave: true })) as unknown as Float32Array;
@@ -244,19 +246,20 @@ describe('readDemTile: georeferencing', () => {
   it('pixel-is-point: the origin moves half a pixel out to the outer corner', async () => {
     const values = terrainValues(11, 11, 8);
     const spec = { width: 11, height: 11, values, sampleType: 'int16' as SampleType };
+    // 35° W 21° N: open North Atlantic.
     const point = await readDemTile(
-      encodeTiff({ ...spec, rasterType: 'point', georef: { x0: 10, y0: 21, dx: 0.1, dy: 0.1 } }),
+      encodeTiff({ ...spec, rasterType: 'point', georef: { x0: -35, y0: 21, dx: 0.1, dy: 0.1 } }),
       'p.tif',
     );
-    expect(point.geo.originX).toBeCloseTo(9.95, 12);
+    expect(point.geo.originX).toBeCloseTo(-35.05, 12);
     expect(point.geo.originY).toBeCloseTo(21.05, 12);
     expect(point.geo.pixelX).toBe(0.1);
     expect(point.geo.pixelY).toBe(-0.1);
     const area = await readDemTile(
-      encodeTiff({ ...spec, rasterType: 'area', georef: { x0: 10, y0: 21, dx: 0.1, dy: 0.1 } }),
+      encodeTiff({ ...spec, rasterType: 'area', georef: { x0: -35, y0: 21, dx: 0.1, dy: 0.1 } }),
       'a.tif',
     );
-    expect(area.geo.originX).toBe(10);
+    expect(area.geo.originX).toBe(-35);
     expect(area.geo.originY).toBe(21);
   });
 
@@ -269,7 +272,7 @@ describe('readDemTile: georeferencing', () => {
         values,
         sampleType: 'float32',
         crs: { kind: 'projected', epsg: 32724 },
-        georef: { x0: 495000, y0: 8100000, dx: 90, dy: 90 },
+        georef: { x0: 495000, y0: 5100000, dx: 90, dy: 90 }, // near 44.3° S 39.1° W: open South Atlantic
       }),
       'utm.tif',
     );
@@ -279,9 +282,9 @@ describe('readDemTile: georeferencing', () => {
     const ours = proj4(tile.geo.crs.proj4, WGS84_GEOGRAPHIC.proj4);
     const ref = proj4(UTM24S_PROJ4, WGS84_GEOGRAPHIC.proj4);
     for (const [x, y] of [
-      [495000, 8100000],
-      [500000, 8099100],
-      [495900, 8099100],
+      [495000, 5100000],
+      [500000, 5099100],
+      [495900, 5099100],
     ]) {
       const a = ours.forward([x, y]);
       const b = ref.forward([x, y]);
@@ -289,7 +292,7 @@ describe('readDemTile: georeferencing', () => {
       expect(a[1]).toBeCloseTo(b[1], 9);
     }
     // On the central meridian (easting 500 000 m) the longitude is -39° (UTM zone 24: 42°W..36°W).
-    expect(ours.forward([500000, 8099100])[0]).toBeCloseTo(-39, 9);
+    expect(ours.forward([500000, 5099100])[0]).toBeCloseTo(-39, 9);
   });
 
   it('a WGS84-equivalent geographic CRS (EPSG:4269, GRS80) is read as WGS84 with a warning', async () => {
@@ -338,7 +341,8 @@ describe('readDemTile: units and datum notes', () => {
         height: 1,
         values: [1, 2],
         sampleType: 'int16',
-        georef: { ...georef, x0: 400000, y0: 300000 },
+        // West of the grid's false origin: about 49.7° N 8.9° W, open Atlantic ~190 km from the nearest land.
+        georef: { ...georef, x0: -100000, y0: 0 },
         crs: { kind: 'projected', epsg: 27700 },
       }),
       'osgb.tif',

@@ -3,7 +3,7 @@
  * d ≈ √(2·Re·ha) + √(2·Re·h) (DESIGN §4; Skolnik, Introduction to Radar Systems, horizon on the 4/3 earth —
  * recalled from memory), and its exact spherical form: the tangent ray from the antenna grazes the sphere
  * of radius Re at arc Re·acos(Re/(Re+ha)) and reaches altitude h at a further arc Re·acos(Re/(Re+h)).
- * Check value (REFERENCES.md): antenna 30 m, target FL100 = 3048 m, k = 4/3 → ≈ 250.1 km.
+ * Check value (test/REFERENCES.md): antenna 30 m, target FL100 = 3048 m, k = 4/3 → ≈ 250.1 km.
  */
 import { describe, expect, it } from 'vitest';
 import { computeFloor, inlineExecutor } from '../worker/core/floor.ts';
@@ -62,7 +62,7 @@ describe.each([1, 4 / 3])('flat sea, k = %s', (k) => {
   });
 });
 
-it('the radar horizon for a 30 m antenna and a target at FL100 on the 4/3 earth is ≈ 250.1 km (REFERENCES.md)', () => {
+it('the radar horizon for a 30 m antenna and a target at FL100 on the 4/3 earth is ≈ 250.1 km (test/REFERENCES.md)', () => {
   const re = (4 / 3) * R;
   const d = Math.sqrt((re + 30) ** 2 - re ** 2) + Math.sqrt((re + 3048) ** 2 - re ** 2);
   expect(Math.abs(d / 1000 - 250.1)).toBeLessThan(0.1);

@@ -5,7 +5,7 @@
  *
  * Outside yardsticks, each named beside its check:
  * - "Covered by ≥ 2 distinct sites" ⇔ "still covered after any one site fails"; count sites, not sensors:
- *   sensors on one site fail together (REFERENCES.md, [calc]).
+ *   sensors on one site fail together (test/REFERENCES.md, [calc]).
  * - Cell areas on the sphere: @turf/area (a reference library; the same sphere of radius 6 371 008.8 m), and
  *   the area of a spherical zone 2πR²·|sin φ₁ − sin φ₀| (any spherical geometry text).
  * - Point in polygon: @turf/boolean-point-in-polygon (a reference library).
@@ -148,7 +148,7 @@ describe('Network: folds count distinct sites', () => {
   });
 
   it('two sensors on one site count once; on two sites twice (sensors on one site fail together)', () => {
-    // REFERENCES.md [calc]: count sites, not sensors.
+    // test/REFERENCES.md [calc]: count sites, not sensors.
     const full = (siteId: string, kind: 'primary' | 'secondary'): Footprint => ({
       siteId,
       typeId: `${kind}-type`,
@@ -196,7 +196,7 @@ describe('Network: folds count distinct sites', () => {
     expect(multiFold).toBeGreaterThan(0); // the property was exercised on cells seen twice or more
   });
 
-  it('fold ≥ 2 ⇔ still covered (fold ≥ 1) after any one site fails (REFERENCES.md, set identity)', () => {
+  it('fold ≥ 2 ⇔ still covered (fold ≥ 1) after any one site fails (test/REFERENCES.md, set identity)', () => {
     let twice = 0;
     fc.assert(
       fc.property(caseArb, (k) => {

@@ -1,6 +1,6 @@
 /**
  * Outage what-ifs and layout comparison. Yardstick: "covered by ≥ 2 distinct sites" ⇔ "still covered after any
- * one site fails" — count sites, not sensors, since sensors on one site fail together (REFERENCES.md, [calc]).
+ * one site fails" — count sites, not sensors, since sensors on one site fail together (test/REFERENCES.md, [calc]).
  */
 import fc from 'fast-check';
 import { readFileSync, existsSync } from 'node:fs';
@@ -92,6 +92,8 @@ describe('outage table', () => {
 
 /** Area of the cells covered by `site` and by no other site (any kind). */
 function singleSiteArea(fps: Footprint[], fold: Uint16Array, site: string): number {
+  // Cell area on the sphere R²·Δλ·|sin φ₁ − sin φ₀| [calc], R = 6 371 008.8 m: the mean earth radius
+  // R1 = (2a + b)/3 of the WGS84 ellipsoid [calc], the sphere @turf/area and worker/core/volumes.ts use.
   const rows = Array.from({ length: H }, (_, r) => {
     const R = 6_371_008.8;
     const a = (GRID.originY + r * GRID.pixelY) * (Math.PI / 180);

@@ -11,7 +11,7 @@
  *   [pub].
  * - The LP relaxation bounds the 0/1 optimum from below (above, for a maximisation) [pub, any OR text].
  * - "Covered by ≥ 2 distinct sites" ⇔ "still covered after any one site fails"; sensors on one site fail
- *   together (REFERENCES.md, [calc]).
+ *   together (test/REFERENCES.md, [calc]).
  */
 import { describe, expect, it } from 'vitest';
 import { InputError, isInputError } from '../shared/errors.ts';
@@ -176,7 +176,7 @@ function withoutTimings(r: PlanResult): string {
 // ---------------------------------------------------------------------------------------------------------------
 
 describe('the classic greedy trap (Chvátal 1979)', () => {
-  // U = {1..6}, S1 = {1,2,3,4}, S2 = {1,3,5}, S3 = {2,4,6}, unit costs — REFERENCES.md [calc]: greedy 3, optimum 2.
+  // U = {1..6}, S1 = {1,2,3,4}, S2 = {1,3,5}, S3 = {2,4,6}, unit costs — test/REFERENCES.md [calc]: greedy 3, optimum 2.
   // Points 0…5 stand for 1…6; each set is a candidate on its own free site; every point needs one cover.
   const u = (a: number[]): Uint32Array => Uint32Array.from(a.map((x) => x - 1));
   const toy: PlanInstance = {

@@ -17,11 +17,12 @@ import {
   rgbOf,
 } from '../worker/render.ts';
 
-// 4 columns × 50 rows of 0.1° from 60° S: far enough south for Mercator rows to differ from lon/lat rows.
+// 4 columns × 50 rows of 0.1° from 60° S: far enough south for Mercator rows to differ from lon/lat rows. At 35° W:
+// open Southern Ocean, some 400 km from the nearest island.
 const grid: GridGeo = {
   width: 4,
   height: 50,
-  originX: -30,
+  originX: -35,
   originY: -60,
   pixelX: 0.1,
   pixelY: -0.1,
@@ -44,10 +45,10 @@ describe('map rasters', () => {
     }
     expect(shifted).toBeGreaterThan(0); // the warp does something at these latitudes
     expect(img.corners).toEqual([
-      [-30, -60],
-      [-29.6, -60],
-      [-29.6, -65],
-      [-30, -65],
+      [-35, -60],
+      [-34.6, -60],
+      [-34.6, -65],
+      [-35, -65],
     ]);
   });
 

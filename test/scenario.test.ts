@@ -556,14 +556,19 @@ describe('bad input: one message per problem, naming file, field, what was found
     });
   });
 
-  it('k ≤ 0', async () => {
-    for (const k of [0, -1.3333]) {
+  it('k ≤ 0 or beyond 20: a gradient that ducts is refused, saying so (k = 157/(157 − ΔN), ITU-R P.452 eq. (5))', async () => {
+    for (const k of [0, -1.3333, 25, 1e300]) {
       const { e, file } = await loadBad(scenario((s) => (s.earth.kFactor = k)));
       expect(problems(e)).toHaveLength(1);
       expect(e.where).toBe(`${file}: earth.kFactor`);
       expect(e.found).toBe(String(k));
-      expect(e.expected).toBe('an effective earth radius factor k > 0 (4/3 is standard)');
+      expect(e.expected).toMatch(
+        /^an effective earth radius factor k from 0.2 to 20 \(4\/3 is standard\): .*ducting/,
+      );
     }
+    // Strong sub-refraction beyond what the standard models describe is refused too, without talk of ducts.
+    const { e } = await loadBad(scenario((s) => (s.earth.kFactor = 1e-300)));
+    expect(e.expected).toMatch(/sub-refraction/);
   });
 
   it('an RCS ≤ 0 (scenario target, sensor type target, reference target)', async () => {
@@ -655,7 +660,7 @@ describe('bad input: one message per problem, naming file, field, what was found
     const lines = e.message.split('\n');
     expect(lines).toHaveLength(5);
     expect(lines[0]).toBe(
-      `${file}: earth.kFactor: found 0; expected an effective earth radius factor k > 0 (4/3 is standard)`,
+      `${file}: earth.kFactor: found 0; expected an effective earth radius factor k from 0.2 to 20 (4/3 is standard): k ≤ 0 means a refractivity gradient at or near −157 N/km, where the ray bends as fast as the earth (ducting) — the effective-earth model does not hold; study a duct with a propagation model that represents it`,
     );
     expect(e.where).toBe(`${file}: earth.kFactor`);
     expect(problemAt(e, `${file}: flightlevels`).found).toBe('a field that is not known here');

@@ -1,26 +1,39 @@
 /**
- * Sensor models (worker/core/sensor.ts): radar equation, Albersheim, antenna gain, elevation patterns, weather
- * mode, cone of silence, the default catalog, and every InputError. Each check against something outside the
- * project names its source beside it (see REFERENCES.md): [pub] in the publication, [calc] computed here from the
- * published formula, [memory] recalled, "common practice" a fact of the trade with no single source.
+ * Sensor models (worker/core/sensor.ts): radar equation, antenna gain, the study's target (RCS, fluctuation,
+ * transponder class), specification points and their conventions, SSR link budgets, elevation patterns, tilt,
+ * weather mode, the cone of silence, the default catalog, and every InputError. Each check against something
+ * outside the project names its source beside it (test/REFERENCES.md): [pub] in the publication, [calc] computed
+ * here from the published formula, [memory] recalled, "common practice" a fact of the trade with no single source.
+ * Most checks switch the gaseous attenuation off (`atmosphere: false`) to isolate one effect; the atmosphere has
+ * its own checks (test/atmosphere.test.ts) and one here on how it enters the range.
  */
 import { readFileSync } from 'node:fs';
 import { describe, expect, it } from 'vitest';
 import { InputError } from '../shared/errors.ts';
-import { flToMetres, ftToM, kmToNm, nmToKm, nmToM } from '../shared/units.ts';
+import { flToMetres, nmToM } from '../shared/units.ts';
+import { oneWayPathLossDb } from '../worker/core/atmosphere.ts';
+import { requiredSnrDb } from '../worker/core/detection.ts';
 import {
   albersheimSnrDb,
   buildSensorModel,
+  DEFAULT_TARGET,
   gainFromAperture,
+  linkRangeM,
   noisePowerW,
   radarRangeM,
+  TRANSPONDER_CLASSES,
   wavelengthM,
   weatherRangeFactor,
   type SensorTypeSpec,
+  type Target,
 } from '../worker/core/sensor.ts';
 
 const DEG = Math.PI / 180;
 const db = (x: number) => 10 * Math.log10(x);
+const T = (o: Partial<Target> = {}): Target => ({ ...DEFAULT_TARGET, ...o });
+/** Range at ε for a target, no atmosphere, antenna at sea level. */
+const rangeAt = (m: ReturnType<typeof buildSensorModel>, e: number, t: Target = T(), o = {}) =>
+  m.profile({ target: t, antennaAltM: 0, atmosphere: false, ...o }).rangeM(e);
 
 function primaryRef(over: Partial<SensorTypeSpec> = {}): SensorTypeSpec {
   return {
@@ -92,6 +105,13 @@ describe('radar equation and antenna gain', () => {
     // F in dB multiplies: 3 dB noise figure doubles the noise (definition of noise figure [pub]).
     expect(noisePowerW(10 * Math.log10(2), 1e6) / noisePowerW(0, 1e6)).toBeCloseTo(2, 12);
   });
+
+  it('free-space link range: FSPL = 20 log10(4πd/λ) closes at the budget (Friis 1946 [pub])', () => {
+    // 150 dB of budget at 1090 MHz: d = λ/(4π)·10^(150/20) [calc], and the loss at that d is 150 dB.
+    const d = linkRangeM(150, 1090);
+    expect(20 * Math.log10((4 * Math.PI * d) / wavelengthM(1090))).toBeCloseTo(150, 9);
+    expect(linkRangeM(156, 1090) / d).toBeCloseTo(Math.pow(10, 6 / 20), 12); // +6 dB → ×2 (one-way, √ law)
+  });
 });
 
 describe("Albersheim's equation (Albersheim, Proc. IEEE 69(7), 1981 [pub formula, calc values])", () => {
@@ -101,94 +121,218 @@ describe("Albersheim's equation (Albersheim, Proc. IEEE 69(7), 1981 [pub formula
   it('Pd 0.9, Pfa 1e−6, N = 10 → 5.0 dB', () => {
     expect(albersheimSnrDb(0.9, 1e-6, 10)).toBeCloseTo(5.0, 1);
   });
-  it('needs less SNR for a lower Pd or a higher Pfa (monotone, [calc])', () => {
-    expect(albersheimSnrDb(0.5, 1e-6, 1)).toBeLessThan(albersheimSnrDb(0.9, 1e-6, 1));
-    expect(albersheimSnrDb(0.9, 1e-4, 1)).toBeLessThan(albersheimSnrDb(0.9, 1e-6, 1));
+  it('agrees with the exact steady-target law within its stated 0.2 dB (Marcum 1960 via detection.ts)', () => {
+    for (const [pd, pfa, n] of [
+      [0.9, 1e-6, 1],
+      [0.5, 1e-4, 4],
+      [0.8, 1e-6, 12],
+    ])
+      expect(Math.abs(albersheimSnrDb(pd, pfa, n) - requiredSnrDb(pd, pfa, n, 'swerling0'))).toBeLessThan(
+        0.25,
+      );
   });
 });
 
-describe('sensor model: detection range', () => {
-  it('the physical form reproduces the Skolnik worked example end to end (kW, µs, MHz, dB wiring [calc])', () => {
-    // Smin = k T0 B F · SNR · L = 1e−12 W with τ = 1 µs (B = 1 MHz), F = 0 dB, Pd 0.9, Pfa 1e−6, N = 1,
-    // and losses chosen to make up the rest.
-    const snr = albersheimSnrDb(0.9, 1e-6, 1);
-    const lossesDb = db(1e-12 / noisePowerW(0, 1e6)) - snr;
+describe('primary detection: the radar equation with the target fluctuation', () => {
+  it('the physical form is the radar equation with Smin = k·T0·(1/τ)·F·L·SNRreq, SNRreq from the published detection laws', () => {
+    // Written out here from the published formulas (not from the product's helpers):
+    // R⁴ = Pt·G²·λ²·σ / ((4π)³·k·T0·B·F·L·SNR), k = 1.380649e−23 J/K (SI), T0 = 290 K (IEEE), B = 1/τ.
+    // SNR for a steady target, N = 1, Pd 0.9, Pfa 1e−6: 13.18 dB (Marcum 1960 [pub]); for Swerling 1, N = 1:
+    // SNR = ln Pfa / ln Pd − 1 (Swerling 1960 [pub formula, calc]).
+    const spec = primaryRef({
+      frequencyMHz: 2900,
+      detection: {
+        peakPowerKw: 200,
+        antennaGainDbi: 39.78,
+        pulseWidthUs: 1,
+        noiseFigureDb: 3,
+        lossesDb: 6,
+        pd: 0.9,
+        pfa: 1e-6,
+      },
+    });
+    const m = buildSensorModel(spec, 'test');
+    const lambda = 299_792_458 / 2.9e9;
+    const G = Math.pow(10, 3.978);
+    const byHand = (snrDb: number) =>
+      Math.pow(
+        (200e3 * G * G * lambda * lambda * 2) /
+          (Math.pow(4 * Math.PI, 3) * 1.380649e-23 * 290 * 1e6 * Math.pow(10, (3 + 6 + snrDb) / 10)),
+        0.25,
+      );
+    expect(m.peakRangeM(T({ rcsM2: 2, fluctuation: 'swerling0' })) / byHand(13.18)).toBeCloseTo(1, 2);
+    const sw1 = 10 * Math.log10(Math.log(1e-6) / Math.log(0.9) - 1); // 21.14 dB
+    expect(m.peakRangeM(T({ rcsM2: 2, fluctuation: 'swerling1' })) / byHand(sw1)).toBeCloseTo(1, 3);
+  });
+
+  it('Swerling 1 against a steady target at Pd 0.9, Pfa 1e−6, one pulse: radius × 0.63–0.66 (~8 dB, Swerling 1960 / Marcum 1960)', () => {
     const m = buildSensorModel(
       primaryRef({
-        frequencyMHz: 2900,
         detection: {
-          peakPowerKw: 200,
-          antenna: { apertureM2: 13.5, efficiency: 0.6 },
+          peakPowerKw: 100,
+          antennaGainDbi: 33,
           pulseWidthUs: 1,
-          noiseFigureDb: 0,
-          lossesDb,
+          noiseFigureDb: 2,
+          lossesDb: 8,
           pd: 0.9,
           pfa: 1e-6,
         },
       }),
-      'test',
-    );
-    expect(Math.abs(m.peakRangeM(2) / 1000 - 118.2)).toBeLessThan(0.1); // Skolnik [memory for the numbers]
-  });
-
-  it('antenna gain in dBi and from aperture give the same range when they agree', () => {
-    const det = { peakPowerKw: 50, pulseWidthUs: 20, noiseFigureDb: 2, lossesDb: 8, pd: 0.8, pfa: 1e-6 };
-    const gDbi = db(gainFromAperture(6, 0.6, 2800));
-    const a = buildSensorModel(
-      primaryRef({ detection: { ...det, antenna: { apertureM2: 6, efficiency: 0.6 } } }),
-      'a',
-    );
-    const b = buildSensorModel(primaryRef({ detection: { ...det, antennaGainDbi: gDbi } }), 'b');
-    expect(a.peakRangeM(1) / b.peakRangeM(1)).toBeCloseTo(1, 12);
-    // A fixed aperture at twice the frequency: R⁴ ∝ G²λ² ∝ 1/λ² → R × √2 (radar equation [calc]).
-    const c = buildSensorModel(
-      primaryRef({ frequencyMHz: 5600, detection: { ...det, antenna: { apertureM2: 6, efficiency: 0.6 } } }),
-      'c',
-    );
-    expect(c.peakRangeM(1) / a.peakRangeM(1)).toBeCloseTo(Math.SQRT2, 12);
-  });
-
-  it('primary: R(σ) = Rref·(σ/σref)^¼ — σ × 16 → R × 2 (radar equation [pub])', () => {
-    const m = buildSensorModel(primaryRef(), 'test');
-    expect(m.peakRangeM(2)).toBeCloseTo(nmToM(100), 6);
-    expect(m.peakRangeM(32) / m.peakRangeM(2)).toBeCloseTo(2, 12);
-    const e = 5 * DEG;
-    expect(m.detectionRangeM(e, 32) / m.detectionRangeM(e, 2)).toBeCloseTo(2, 12);
-  });
-
-  it('secondary: the range does not depend on σ (one-way link, Friis transmission equation [pub])', () => {
-    const m = buildSensorModel(secondaryRef(), 'test');
-    expect(m.peakRangeM(0.1)).toBe(m.peakRangeM(100));
-    expect(m.peakRangeM(1)).toBeCloseTo(nmToM(200), 6);
-    expect(m.detectionRangeM(10 * DEG, 0.1)).toBe(m.detectionRangeM(10 * DEG, 100));
-  });
-
-  it('fourth-root law: a radar seeing 2 m² to about 360 km sees about 2.9× that RCS to about 470 km (common practice)', () => {
-    const m = buildSensorModel(
-      primaryRef({ detection: { referenceRangeNm: kmToNm(360), referenceRcsM2: 2 } }),
       't',
     );
-    expect(Math.abs(m.peakRangeM(2 * 2.9) / 1000 - 470)).toBeLessThan(5);
+    const ratio =
+      m.peakRangeM(T({ fluctuation: 'swerling1' })) / m.peakRangeM(T({ fluctuation: 'swerling0' }));
+    expect(ratio).toBeGreaterThan(0.63);
+    expect(ratio).toBeLessThan(0.66);
   });
 
-  it('range scales with √g(ε) for both kinds (radar equation / Friis [calc])', () => {
+  it('the target belongs to the study: σ × 16 → R × 2 (radar equation [pub]), and a leftover targetRcsM2 is ignored with a warning', () => {
+    const m = buildSensorModel(primaryRef({ targetRcsM2: 7 }), 'types.json: [0]');
+    expect(m.warnings).toHaveLength(1);
+    expect(m.warnings[0]).toMatch(/types\.json: \[0\]\.targetRcsM2: 7 is ignored .* scenario's targetRcsM2/);
+    expect(m.peakRangeM(T({ rcsM2: 32 })) / m.peakRangeM(T({ rcsM2: 2 }))).toBeCloseTo(2, 12);
+    const e = 5 * DEG;
+    expect(rangeAt(m, e, T({ rcsM2: 16 })) / rangeAt(m, e, T({ rcsM2: 1 }))).toBeCloseTo(2, 3);
+  });
+});
+
+describe('specification points: the convention is stated and applied', () => {
+  it('a spec point at its own elevation, Pd, Pfa and fluctuation is reproduced exactly there, in the standard atmosphere', () => {
+    const spec = primaryRef({
+      elevationPattern: { type: 'cosec2', startDeg: 3.6, endDeg: 30, beamwidthDeg: 4.8 },
+      detection: {
+        referenceRangeNm: 60,
+        referenceRcsM2: 1,
+        referencePd: 0.8,
+        referencePfa: 1e-6,
+        referenceFluctuation: 'swerling1',
+        referenceElevationDeg: 0,
+      },
+    });
+    const m = buildSensorModel(spec, 't');
+    // The same target as the spec point, at the spec point's elevation, from a sea-level antenna in the standard
+    // atmosphere: exactly the spec range (the spec point is quoted in the standard atmosphere, sensor.ts).
+    const withAir = m.profile({ target: T({ rcsM2: 1 }), antennaAltM: 0 }).rangeM(0);
+    expect(withAir / nmToM(60)).toBeCloseTo(1, 3);
+    // Free space (atmosphere off) the peak is farther than the spec point's free-space range by 1/√g(0) =
+    // 10^(6.75/20) (the Gaussian main beam [calc]).
+    expect(rangeAt(m, 3.6 * DEG, T({ rcsM2: 1 })) / rangeAt(m, 0, T({ rcsM2: 1 }))).toBeCloseTo(
+      Math.pow(10, (1.2 * 0.75 ** 2) / 2),
+      3,
+    );
+    expect(m.convention).toMatch(/1 m² Swerling 1 with Pd 0.8 at Pfa 0.000001 .* at 60 NM at 0°/);
+  });
+
+  it('without a stated elevation the spec point is the beam peak, and the convention says so', () => {
+    const m = buildSensorModel(primaryRef(), 't');
+    expect(m.convention).toMatch(/at 100 NM at 2° \(the beam peak\)/);
+    const withAir = m.profile({ target: T({ rcsM2: 2 }), antennaAltM: 0 }).rangeM(2 * DEG);
+    expect(withAir / nmToM(100)).toBeCloseTo(1, 3);
+  });
+
+  it('a spec point for a steady target, used for a Swerling 1 study target, loses the SNR difference (detection.ts)', () => {
+    const steady = buildSensorModel(
+      primaryRef({
+        detection: {
+          referenceRangeNm: 100,
+          referenceRcsM2: 2,
+          referencePd: 0.9,
+          referenceFluctuation: 'swerling0',
+        },
+      }),
+      't',
+    );
+    const d = requiredSnrDb(0.9, 1e-6, 1, 'swerling1') - requiredSnrDb(0.9, 1e-6, 1, 'swerling0');
+    const r = (f: Target['fluctuation']) => steady.peakRangeM(T({ fluctuation: f }));
+    expect(r('swerling1') / r('swerling0')).toBeCloseTo(Math.pow(10, -d / 40), 9);
+    const spec = steady.profile({ target: T({ fluctuation: 'swerling0' }), antennaAltM: 0 }).rangeM(2 * DEG);
+    expect(spec / nmToM(100)).toBeCloseTo(1, 3);
+  });
+
+  it('Pfa 1e−8 and 1e−10 are accepted (common specifications) and need more SNR', () => {
+    const at = (pfa: number) =>
+      buildSensorModel(
+        primaryRef({ detection: { referenceRangeNm: 100, referenceRcsM2: 2, referencePfa: pfa } }),
+        't',
+      );
+    // The spec point holds at its own Pfa; a steady study target is seen farther by the SNR difference the
+    // detection laws give at that Pfa (detection.ts; Swerling 1960 / Marcum 1960).
+    for (const pfa of [1e-8, 1e-10]) {
+      const withAir = at(pfa)
+        .profile({ target: T(), antennaAltM: 0 })
+        .rangeM(2 * DEG);
+      expect(withAir / nmToM(100)).toBeCloseTo(1, 3);
+      const d = requiredSnrDb(0.8, pfa, 1, 'swerling1') - requiredSnrDb(0.8, pfa, 1, 'swerling0');
+      const gain = at(pfa).peakRangeM(T({ fluctuation: 'swerling0' })) / at(pfa).peakRangeM(T());
+      expect(gain).toBeCloseTo(Math.pow(10, d / 40), 9);
+    }
+  });
+});
+
+describe('secondary: link budgets (Friis transmission equation [pub]; ICAO Annex 10 Vol. IV transponder values [memory])', () => {
+  const link = secondaryRef({
+    detection: { interrogatorPowerW: 1000, antennaGainDbi: 25, cableLossDb: 2, receiverSensitivityDbm: -80 },
+  });
+
+  it('range = the lesser of the uplink and downlink free-space ranges, each from its own budget', () => {
+    const m = buildSensorModel(link, 't');
+    for (const tr of ['low-power', 'high-power'] as const) {
+      const x = TRANSPONDER_CLASSES[tr];
+      // Written out from the budgets [calc]: uplink to the minimum triggering level at 1030 MHz, downlink to the
+      // receiver sensitivity at 1090 MHz.
+      const ac = x.antennaGainDbi - x.installationLossDb;
+      const up = linkRangeM(60 + 25 - 2 + ac - x.minTriggerDbm, 1030);
+      const down = linkRangeM(10 * Math.log10(x.replyPowerW * 1000) + ac + 25 - 2 + 80, 1090);
+      expect(m.peakRangeM(T({ transponder: tr })) / Math.min(up, down)).toBeCloseTo(1, 9);
+    }
+    // The low-power class replies with 70 W instead of 125 W (Annex 10 [memory]): its downlink is shorter by
+    // √(70/125) [calc], so it never reaches farther.
+    expect(m.peakRangeM(T({ transponder: 'low-power' }))).toBeLessThanOrEqual(
+      m.peakRangeM(T({ transponder: 'high-power' })),
+    );
+  });
+
+  it('the range of a secondary does not depend on the RCS or the fluctuation', () => {
+    const m = buildSensorModel(link, 't');
+    expect(m.peakRangeM(T({ rcsM2: 0.1, fluctuation: 'swerling0' }))).toBe(m.peakRangeM(T({ rcsM2: 100 })));
+  });
+
+  it('one-way links scale with √g(ε) (Friis [calc])', () => {
     const table = { type: 'table' as const, deg: [0, 10, 20], gainDb: [0, -6, -20] };
     for (const m of [
       buildSensorModel(primaryRef({ elevationPattern: table }), 'p'),
       buildSensorModel(secondaryRef({ elevationPattern: table }), 's'),
     ]) {
-      const r0 = m.detectionRangeM(0, 2);
-      expect(r0).toBeCloseTo(m.peakRangeM(2), 6);
-      expect(m.detectionRangeM(10 * DEG, 2) / r0).toBeCloseTo(Math.pow(10, -6 / 20), 4);
-      expect(m.detectionRangeM(20 * DEG, 2) / r0).toBeCloseTo(Math.pow(10, -20 / 20), 4);
+      const r0 = rangeAt(m, 0);
+      expect(r0).toBeCloseTo(m.peakRangeM(T()), 3);
+      expect(rangeAt(m, 10 * DEG) / r0).toBeCloseTo(Math.pow(10, -6 / 20), 4);
+      expect(rangeAt(m, 20 * DEG) / r0).toBeCloseTo(Math.pow(10, -20 / 20), 4);
       expect(m.patternGain(10 * DEG)).toBeCloseTo(Math.pow(10, -0.6), 12);
     }
   });
+});
 
+describe('atmosphere in the range', () => {
+  it('two-way gaseous loss under the fourth root (primary), one-way under the square root (SSR link)', () => {
+    const p = buildSensorModel(primaryRef({ instrumentedRangeNm: 10_000 }), 'p');
+    const e = 0.5 * DEG;
+    const free = rangeAt(p, e);
+    const air = p.profile({ target: T(), antennaAltM: 0 }).rangeM(e);
+    // R_air = R_free·10^(−2A(ε, R_air)/40) [calc, radar equation with a loss factor]; A from atmosphere.ts.
+    expect(air / (free * Math.pow(10, (-2 * oneWayPathLossDb(2800, 0, e, air)) / 40))).toBeCloseTo(1, 3);
+    const s = buildSensorModel(secondaryRef(), 's');
+    const sFree = rangeAt(s, e);
+    const sAir = s.profile({ target: T(), antennaAltM: 0 }).rangeM(e);
+    expect(sAir / (sFree * Math.pow(10, -oneWayPathLossDb(1030, 0, e, sAir) / 20))).toBeCloseTo(1, 2);
+    expect(air).toBeLessThan(free);
+  });
+});
+
+describe('limits: instrumented range, minimum range, weather', () => {
   it('the instrumented range caps the detection range', () => {
     const m = buildSensorModel(primaryRef({ instrumentedRangeNm: 60 }), 'test');
-    expect(m.peakRangeM(2)).toBeGreaterThan(nmToM(60));
-    expect(m.detectionRangeM(2 * DEG, 2)).toBe(nmToM(60));
+    expect(m.peakRangeM(T())).toBeGreaterThan(nmToM(60));
+    expect(rangeAt(m, 2 * DEG)).toBe(nmToM(60));
     expect(m.instrumentedRangeM).toBe(nmToM(60));
   });
 
@@ -196,27 +340,25 @@ describe('sensor model: detection range', () => {
     expect(buildSensorModel(primaryRef(), 't').minRangeM).toBe(nmToM(0.5));
     expect(buildSensorModel(primaryRef({ minRangeNm: 2 }), 't').minRangeM).toBe(nmToM(2));
   });
-});
 
-describe('weather mode', () => {
-  it('factor 10^(−L/40): a two-way loss under the fourth root; 12.04 dB halves the range (radar equation [calc])', () => {
+  it('weather: factor 10^(−L/40), a two-way loss under the fourth root; 12.04 dB halves the range (radar equation [calc])', () => {
     expect(weatherRangeFactor(40 * Math.log10(2))).toBeCloseTo(0.5, 12);
     expect(weatherRangeFactor(0)).toBe(1);
   });
-  it('primaries lose weatherLossDb; secondaries are unaffected', () => {
+
+  it('primaries lose weatherLossDb in weather mode; secondaries are unaffected', () => {
     const p = buildSensorModel(primaryRef({ weatherLossDb: 4 }), 'p');
-    expect(p.peakRangeM(2, true) / p.peakRangeM(2)).toBeCloseTo(Math.pow(10, -4 / 40), 12);
-    expect(p.detectionRangeM(5 * DEG, 2, true) / p.detectionRangeM(5 * DEG, 2)).toBeCloseTo(
+    expect(p.peakRangeM(T(), true) / p.peakRangeM(T())).toBeCloseTo(Math.pow(10, -4 / 40), 12);
+    expect(rangeAt(p, 5 * DEG, T(), { weather: true }) / rangeAt(p, 5 * DEG)).toBeCloseTo(
       Math.pow(10, -0.1),
-      12,
+      6,
     );
     const s = buildSensorModel(secondaryRef(), 's');
-    expect(s.peakRangeM(2, true)).toBe(s.peakRangeM(2));
-    expect(s.detectionRangeM(5 * DEG, 2, true)).toBe(s.detectionRangeM(5 * DEG, 2));
+    expect(s.peakRangeM(T(), true)).toBe(s.peakRangeM(T()));
   });
 });
 
-describe('elevation patterns', () => {
+describe('elevation patterns, tilt and the cone of silence', () => {
   it('cosec²: on a flat earth R·sin ε is constant within 2 % between its angles (Skolnik [memory])', () => {
     for (const [startDeg, endDeg] of [
       [0.5, 30],
@@ -227,10 +369,10 @@ describe('elevation patterns', () => {
         primaryRef({ maxElevationDeg: 45, elevationPattern: { type: 'cosec2', startDeg, endDeg } }),
         't',
       );
-      const ceiling = m.peakRangeM(2) * Math.sin(startDeg * DEG);
+      const ceiling = m.peakRangeM(T()) * Math.sin(startDeg * DEG);
       let worst = 0;
       for (let e = startDeg; e <= endDeg; e += 0.137) {
-        const h = m.detectionRangeM(e * DEG, 2) * Math.sin(e * DEG);
+        const h = rangeAt(m, e * DEG) * Math.sin(e * DEG);
         worst = Math.max(worst, Math.abs(h / ceiling - 1));
       }
       expect(worst).toBeLessThan(0.02);
@@ -250,7 +392,6 @@ describe('elevation patterns', () => {
     expect(gEnd).toBeCloseTo(Math.sin(2 * DEG) ** 2 / Math.sin(30 * DEG) ** 2, 12);
     expect(db(m.patternGain(31 * DEG) / gEnd)).toBeCloseTo(-3, 6);
     expect(db(m.patternGain(33 * DEG) / gEnd)).toBeCloseTo(-27, 6);
-    // beamwidthDeg widens the main beam below the peak: −3 dB at half the beamwidth below it.
     const w = buildSensorModel(
       primaryRef({ elevationPattern: { type: 'cosec2', startDeg: 2, endDeg: 30, beamwidthDeg: 10 } }),
       't',
@@ -270,7 +411,17 @@ describe('elevation patterns', () => {
     expect(db(m.patternGain(60 * DEG))).toBeCloseTo(-14, 10);
   });
 
-  it('the lookup table behind detectionRangeM agrees with the exact pattern within 0.2 %', () => {
+  it('tilt shifts the whole pattern up: R(ε + t) with tilt t equals R(ε) without [calc]', () => {
+    const m = buildSensorModel(primaryRef(), 't');
+    const tilted = m.profile({ target: T(), antennaAltM: 0, atmosphere: false, tiltDeg: 1.5 });
+    const flat = m.profile({ target: T(), antennaAltM: 0, atmosphere: false });
+    for (const e of [-1, 0, 0.7, 2, 10, 30]) {
+      expect(tilted.rangeM((e + 1.5) * DEG) / flat.rangeM(e * DEG)).toBeCloseTo(1, 3);
+    }
+    expect(tilted.coneOfSilenceRad - flat.coneOfSilenceRad).toBeCloseTo(1.5 * DEG, 3);
+  });
+
+  it('the lookup table agrees with the exact pattern within 0.2 %', () => {
     const catalog = JSON.parse(
       readFileSync(new URL('../data/catalog/sensor-types.json', import.meta.url), 'utf8'),
     );
@@ -278,49 +429,57 @@ describe('elevation patterns', () => {
       ...catalog,
       primaryRef({ elevationPattern: { type: 'cosec2', startDeg: 0.5, endDeg: 30, beamwidthDeg: 1 } }),
       primaryRef({ elevationPattern: { type: 'table', deg: [-1, 0, 1, 2], gainDb: [-20, -2, 0, -12] } }),
-      // Nodes off the 0.01° lattice around the peak: corners between table nodes (slope changes ≤ 4 dB/°).
       primaryRef({
         elevationPattern: { type: 'table', deg: [-3.003, 0.0047, 2.3333, 10.111], gainDb: [-18, -6, 0, -8] },
       }),
     ];
     for (const spec of specs) {
       const m = buildSensorModel(spec, spec.id);
-      const peak = m.peakRangeM(2);
+      const p = m.profile({ target: T(), antennaAltM: 0, atmosphere: false });
+      const peak = m.peakRangeM(T());
       let worst = 0;
-      for (let e = -20 * DEG; e <= m.maxElevationRad; e += 0.0031 * DEG) {
+      for (let e = -20 * DEG; e <= p.coneOfSilenceRad; e += 0.0031 * DEG) {
         const exact = Math.min(m.instrumentedRangeM, peak * Math.sqrt(m.patternGain(e)));
         if (exact < 1e-3 * peak) continue;
-        worst = Math.max(worst, Math.abs(m.detectionRangeM(e, 2) / exact - 1));
+        worst = Math.max(worst, Math.abs(p.rangeM(e) / exact - 1));
       }
       expect(worst, spec.id).toBeLessThan(0.002);
     }
   });
 
   it('cone of silence: radius at FL100 for a 40° maximum elevation is 3632 m (h / tan θmax, geometry [calc])', () => {
-    const m = buildSensorModel(primaryRef({ maxElevationDeg: 40 }), 't');
+    // cosec² up to 40°: the type's maximum elevation, not the pattern's shoulder, sets the cone here.
+    const m = buildSensorModel(
+      primaryRef({ maxElevationDeg: 40, elevationPattern: { type: 'cosec2', startDeg: 2, endDeg: 40 } }),
+      't',
+    );
+    const p = m.profile({ target: T(), antennaAltM: 0, atmosphere: false });
     const h = flToMetres(100);
-    // Bisect the ground distance at which the target leaves the cone (flat earth near the antenna).
     let a = 100;
     let b = 20_000;
     for (let k = 0; k < 60; k++) {
       const d = (a + b) / 2;
-      if (m.detectionRangeM(Math.atan2(h, d), 2) === 0) a = d;
+      if (p.rangeM(Math.atan2(h, d)) === 0) a = d;
       else b = d;
     }
     expect(Math.abs(b - h / Math.tan(40 * DEG))).toBeLessThan(0.01);
     expect(Math.round(b)).toBe(3632);
-    expect(m.detectionRangeM(40 * DEG, 2)).toBeGreaterThan(0);
-    expect(m.detectionRangeM(40.001 * DEG, 2)).toBe(0);
-    expect(m.detectionRangeM(89 * DEG, 2)).toBe(0);
+    expect(p.rangeM(89 * DEG)).toBe(0);
   });
-});
 
-describe('units of the trade used with the catalog (common practice)', () => {
-  it('200 NM ≈ 370 km; 105,000 ft ≈ 32 km; cruise 33,000–42,000 ft ≈ 10,000–12,800 m', () => {
-    expect(Math.round(nmToKm(200))).toBe(370);
-    expect(Math.round(ftToM(105_000) / 1000)).toBe(32);
-    expect(Math.abs(ftToM(33_000) - 10_000)).toBeLessThan(100);
-    expect(Math.abs(ftToM(42_000) - 12_800)).toBeLessThan(5);
+  it('the cone of silence begins where the usable gain ends, not at a maximum elevation past it', () => {
+    // cosec² to 30°, then the steep shoulder (−3 dB 1° past, −27 dB 3° past; sensor.ts): the range falls below the
+    // 0.5 NM minimum range a few degrees past 30°, well before the 40° maximum elevation.
+    const m = buildSensorModel(
+      primaryRef({ maxElevationDeg: 40, elevationPattern: { type: 'cosec2', startDeg: 2, endDeg: 30 } }),
+      't',
+    );
+    const p = m.profile({ target: T(), antennaAltM: 0, atmosphere: false });
+    // First elevation past the peak whose range is below the minimum range, from the exact pattern [calc].
+    let e = 2 * DEG;
+    while (m.peakRangeM(T()) * Math.sqrt(m.patternGain(e)) >= m.minRangeM) e += 0.001 * DEG;
+    expect(Math.abs(p.coneOfSilenceRad - e)).toBeLessThan(0.02 * DEG);
+    expect(p.coneOfSilenceRad).toBeLessThan(40 * DEG);
   });
 });
 
@@ -331,10 +490,11 @@ describe('default catalog data/catalog/sensor-types.json', () => {
   const readme = readFileSync(new URL('../data/catalog/README.md', import.meta.url), 'utf8');
   const models = catalog.map((t, i) => buildSensorModel(t, `sensor-types.json: [${i}]`));
 
-  it('has five valid types with unique ids, each documented in the README', () => {
+  it('has five valid types with unique ids, each documented in the README, none with a leftover target', () => {
     expect(catalog).toHaveLength(5);
     expect(new Set(catalog.map((t) => t.id)).size).toBe(5);
     for (const t of catalog) expect(readme).toContain(`## ${t.id} — ${t.name}`);
+    for (const m of models) expect(m.warnings).toEqual([]);
     expect(models.filter((m) => m.kind === 'primary').length).toBeGreaterThanOrEqual(2);
     expect(models.filter((m) => m.kind === 'secondary').length).toBeGreaterThanOrEqual(2);
   });
@@ -348,25 +508,12 @@ describe('default catalog data/catalog/sensor-types.json', () => {
     }
   });
 
-  it('primaries carry a weather loss and a default target RCS; maximum elevations are 30–45° (common practice)', () => {
+  it('maximum elevations are 30–45° (common practice); primaries carry a weather loss', () => {
     for (const t of catalog) {
       expect(t.maxElevationDeg).toBeGreaterThanOrEqual(30);
       expect(t.maxElevationDeg).toBeLessThanOrEqual(45);
-      if (t.kind === 'primary') {
-        expect(t.weatherLossDb).toBeGreaterThan(0);
-        expect(t.targetRcsM2).toBeGreaterThan(0);
-      }
+      if (t.kind === 'primary') expect(t.weatherLossDb).toBeGreaterThan(0);
     }
-  });
-
-  it('the long-range primary sees 2 m² to about 360 km and holds it above cruise levels (common practice)', () => {
-    const i = catalog.findIndex((t) => t.id === 'psr-l-longrange');
-    const m = models[i];
-    expect(Math.abs(m.peakRangeM(2) / 1000 - 360)).toBeLessThan(10);
-    const p = catalog[i].elevationPattern;
-    if (p.type !== 'cosec2') throw new Error('expected a cosec² pattern');
-    // Flat-earth cosec² ceiling R·sin(startDeg) at or above 42,000 ft.
-    expect(m.peakRangeM(2) * Math.sin(p.startDeg * DEG)).toBeGreaterThan(ftToM(42_000) * 0.97);
   });
 });
 
@@ -442,7 +589,7 @@ describe('bad input: one clear InputError each', () => {
       'secondary with a reference RCS',
       { ...S, detection: { referenceRangeNm: 100, referenceRcsM2: 2 } },
       'W.detection.referenceRcsM2',
-      /does not depend on the target's RCS/,
+      /not from a target's echo/,
     ],
     [
       'secondary with physical parameters',
@@ -481,20 +628,42 @@ describe('bad input: one clear InputError each', () => {
       /not affected by weather mode/,
     ],
     [
-      'target RCS on a secondary',
-      { ...S, targetRcsM2: 2 },
-      'W.targetRcsM2',
-      /does not depend on the target's RCS/,
+      'an RCS on a secondary spec point',
+      { ...S, detection: { referenceRangeNm: 100, referenceRcsM2: 2 } },
+      'W.detection.referenceRcsM2',
+      /not from a target's echo/,
     ],
-    ['target RCS ≤ 0', { ...P, targetRcsM2: -1 }, 'W.targetRcsM2', /positive RCS/],
     [
-      'Pd outside Albersheim',
-      { ...P, detection: { ...physical, pd: 0.99 } },
+      'Pd outside the detection laws',
+      { ...P, detection: { ...physical, pd: 0.999 } },
       'W.detection.pd',
-      /from 0.1 to 0.9 \(the range of Albersheim's approximation\)/,
+      /from 0.1 to 0.99/,
     ],
     [
-      'Pfa outside Albersheim',
+      'spec point fluctuation unknown',
+      {
+        ...P,
+        detection: { referenceRangeNm: 50, referenceRcsM2: 1, referenceFluctuation: 'swerling9' as never },
+      },
+      'W.detection.referenceFluctuation',
+      /one of "swerling0"/,
+    ],
+    [
+      'link parameters on a primary',
+      {
+        ...P,
+        detection: {
+          interrogatorPowerW: 1000,
+          antennaGainDbi: 25,
+          cableLossDb: 2,
+          receiverSensitivityDbm: -80,
+        },
+      },
+      'W.detection',
+      /a primary takes a specification point or physical radar parameters/,
+    ],
+    [
+      'Pfa outside the detection laws',
       { ...P, detection: { ...physical, pfa: 0.01 } },
       'W.detection.pfa',
       /false-alarm probability/,
@@ -551,9 +720,9 @@ describe('bad input: one clear InputError each', () => {
 
   it('RCS ≤ 0 passed to a primary model', () => {
     const m = buildSensorModel(primaryRef(), 'scenario.json: sensorTypes[0]');
-    expect(() => m.peakRangeM(0)).toThrow(InputError);
-    expect(() => m.detectionRangeM(0.05, -2)).toThrow(
-      'scenario.json: sensorTypes[0]: target RCS: found -2; expected a positive RCS in m²',
+    expect(() => m.peakRangeM(T({ rcsM2: 0 }))).toThrow(InputError);
+    expect(() => m.profile({ target: T({ rcsM2: -2 }), antennaAltM: 0 })).toThrow(
+      'p: target RCS: found -2; expected a positive RCS in m²',
     );
   });
 

@@ -192,7 +192,7 @@ describe('continuity', () => {
           const d = 0.001;
           const h0 = synthHeightM(x, y, DEMO_WORLD);
           const h1 = synthHeightM(x + d * Math.cos(a), y + d * Math.sin(a), DEMO_WORLD);
-          // slopes of a real landscape stay below ~5 (79°); a jump would show up as metres
+          // tolerance 5 m per m (79°), steeper than the generator's slopes: a jump would show up as metres
           expect(Math.abs(h1 - h0)).toBeLessThan(5 * d);
         },
       ),
@@ -316,6 +316,8 @@ describe('committed demo inputs', () => {
   }[];
   const inRegion = ([lon, lat]: [number, number]): boolean =>
     lon > DEMO_REGION.west && lon < DEMO_REGION.east && lat > DEMO_REGION.south && lat < DEMO_REGION.north;
+  // Flat approximation with 111.2 km per degree of a great circle on the 6371 km sphere (2π·6371/360 = 111.19
+  // [calc]); it measures the demo's own invented layout, not an outside figure.
   const kmBetween = (a: [number, number], b: [number, number]): number =>
     Math.hypot((a[0] - b[0]) * 111.2 * Math.cos((a[1] * Math.PI) / 180), (a[1] - b[1]) * 111.2);
 
@@ -346,7 +348,7 @@ describe('committed demo inputs', () => {
   });
 
   it('several sites on tops, some on the coast, some near each aerodrome', () => {
-    const stepDeg = 100 / 111_200; // ~100 m
+    const stepDeg = 100 / 111_200; // ~100 m (111.2 km per degree, as in kmBetween)
     let tops = 0;
     let coastal = 0;
     for (const f of sites.features) {

@@ -321,6 +321,7 @@ describe('mosaic warnings, resampling and errors', () => {
 });
 
 describe('projected terrain (EPSG:32724 tile read from a GeoTIFF)', async () => {
+  // Easting 480 km, northing 5010 km in zone 24 south: near 45.1° S 39.3° W, open South Atlantic.
   const w = 40;
   const h = 30;
   const values = Array.from({ length: w * h }, (_, i) => (i % w) * 2 + Math.floor(i / w));
@@ -331,7 +332,7 @@ describe('projected terrain (EPSG:32724 tile read from a GeoTIFF)', async () => 
       values,
       sampleType: 'float32',
       crs: { kind: 'projected', epsg: 32724 },
-      georef: { x0: 480000, y0: 8010000, dx: 30, dy: 30 },
+      georef: { x0: 480000, y0: 5010000, dx: 30, dy: 30 },
     }),
     'utm24s.tif',
   );
@@ -344,7 +345,7 @@ describe('projected terrain (EPSG:32724 tile read from a GeoTIFF)', async () => 
     [40, 30],
     [3.25, 27.5],
   ])('pixel (%d, %d) <-> lon/lat agrees with proj4', (x, y) => {
-    const [lon, lat] = ref.forward([480000 + 30 * x, 8010000 - 30 * y]);
+    const [lon, lat] = ref.forward([480000 + 30 * x, 5010000 - 30 * y]);
     const ll = [0, 0];
     terrain.pixelToLonLat(x, y, ll);
     expect(ll[0]).toBeCloseTo(lon, 9);
@@ -356,14 +357,14 @@ describe('projected terrain (EPSG:32724 tile read from a GeoTIFF)', async () => 
   });
 
   it('samples by lon/lat', () => {
-    const [lon, lat] = ref.forward([480000 + 30 * 10.5, 8010000 - 30 * 4.5]);
+    const [lon, lat] = ref.forward([480000 + 30 * 10.5, 5010000 - 30 * 4.5]);
     expect(terrain.sampleLonLat(lon, lat)).toBeCloseTo(10 * 2 + 4, 4);
-    const [lonOut, latOut] = ref.forward([470000, 8010000]);
+    const [lonOut, latOut] = ref.forward([470000, 5010000]);
     expect(terrain.sampleLonLat(lonOut, latOut)).toBeNaN();
   });
 
   it('metres per pixel on the central meridian is 30 m / k0 (k0 = 0.9996, UTM definition)', () => {
-    const [lon, lat] = ref.forward([500000, 8009000]);
+    const [lon, lat] = ref.forward([500000, 5009000]);
     const m = terrain.metresPerPixel(lon, lat);
     expect(m.x).toBeCloseTo(30 / 0.9996, 3);
     expect(m.y).toBeCloseTo(30 / 0.9996, 3);
@@ -373,11 +374,12 @@ describe('projected terrain (EPSG:32724 tile read from a GeoTIFF)', async () => 
 describe('metresPerPixel on a geographic grid', () => {
   it('matches geodesic distances (geographiclib, Karney 2013) across one pixel', () => {
     const px = 1 / 3600;
+    // A tiny grid on the equator at 35° W (open Atlantic); the latitudes below are where the scale is asked.
     const t = Terrain.fromParts({
       geo: {
         width: 10,
         height: 10,
-        originX: -30,
+        originX: -35,
         originY: 0,
         pixelX: px,
         pixelY: -px,
@@ -389,9 +391,9 @@ describe('metresPerPixel on a geographic grid', () => {
     });
     const g = geodesic.Geodesic.WGS84;
     for (const lat of [0, -23.5, -45, -60]) {
-      const m = t.metresPerPixel(-30, lat);
-      const ex = g.Inverse(lat, -30 - px / 2, lat, -30 + px / 2).s12 ?? NaN;
-      const ey = g.Inverse(lat - px / 2, -30, lat + px / 2, -30).s12 ?? NaN;
+      const m = t.metresPerPixel(-35, lat);
+      const ex = g.Inverse(lat, -35 - px / 2, lat, -35 + px / 2).s12 ?? NaN;
+      const ey = g.Inverse(lat - px / 2, -35, lat + px / 2, -35).s12 ?? NaN;
       expect(m.x).toBeCloseTo(ex, 4);
       expect(m.y).toBeCloseTo(ey, 4);
     }

@@ -13,7 +13,6 @@
  */
 import { InputError } from '../shared/errors.ts';
 import { fileLocator, parseScenario, type Scenario } from '../shared/scenario.ts';
-import { flToMetres } from '../shared/units.ts';
 import { computeFootprints, type Candidate } from './core/coverage.ts';
 import { diagramData } from './core/diagram.ts';
 import { inlineExecutor, type Executor } from './core/floor.ts';
@@ -42,7 +41,12 @@ import {
   buildDemand,
   candidate,
   coveredPoints,
+  layerMeta,
+  levelAltitudesM,
   openStudy,
+  studyConventions,
+  studyDay,
+  studyNetwork,
   terrainBounds,
   type Study,
   type StudyScenario,
@@ -195,8 +199,11 @@ function footprintKey(c: Candidate, study: Study, weather: boolean): string {
     c.site.lon,
     c.site.lat,
     c.site.mastHeightM,
+    c.site.tiltDeg ?? 0,
     c.model.spec,
-    c.rcsM2,
+    c.target,
+    study.targets,
+    s.multipath,
     s.earth.kFactor,
     s.maxRangeKm ?? 400,
     weather,
@@ -397,6 +404,7 @@ export class Engine {
           candidates: group.map((g) => g.cand),
           kFactor: s.earth.kFactor,
           maxRangeM: (s.maxRangeKm ?? 400) * 1000,
+          extraTargets: study.targets.slice(1),
         },
         exec,
         {
@@ -455,7 +463,14 @@ export class Engine {
     this.rebuildCurrent(uniq, fls, failed);
     const t2 = performance.now();
     const s = study.loaded.scenario;
-    const volumes = volumeStats(this.current!.network, s.volumes, study.volumeMasks, fls, study.grid);
+    const volumes = volumeStats(
+      this.current!.network,
+      s.volumes,
+      study.volumeMasks,
+      fls,
+      study.grid,
+      study.volumeTargets,
+    );
     progress?.(1, 'done');
     return {
       flightLevels: fls,
@@ -474,10 +489,10 @@ export class Engine {
   private rebuildCurrent(sensors: SensorRef[], fls: number[], failed = this.current?.failed): void {
     const study = this.needStudy();
     const fps = sensors.map((r) => this.cachedFootprint(r)!);
-    const altitudes = fls.map(flToMetres);
-    const network = new Network(study.grid.width * study.grid.height, altitudes, fps);
+    const altitudes = levelAltitudesM(study.loaded.scenario, fls);
+    const network = studyNetwork(study, fls, fps);
     const s = study.loaded.scenario;
-    const baseServed = servedMasks(network, s.volumes, study.volumeMasks, fls);
+    const baseServed = servedMasks(network, s.volumes, study.volumeMasks, fls, study.volumeTargets);
     const baseAny = fls.map((_, f) => network.foldOf('any', f).slice());
     this.current = {
       network,
@@ -563,7 +578,7 @@ export class Engine {
         ms: performance.now() - t0,
       };
     }
-    const now = servedMasks(cur.network, s.volumes, study.volumeMasks, cur.flightLevels);
+    const now = servedMasks(cur.network, s.volumes, study.volumeMasks, cur.flightLevels, study.volumeTargets);
     const t = tally(difference(cur.baseServed, now), s.volumes, study.grid);
     const rows = rowAreasKm2(study.grid);
     const W = study.grid.width;
@@ -594,9 +609,18 @@ export class Engine {
     const fls = cur?.flightLevels ?? s.flightLevels;
     const { footprints } = await this.footprintsOf(refs, check, progress, [0, 0.9]);
     check();
-    const network = new Network(study.grid.width * study.grid.height, fls.map(flToMetres), footprints);
+    const network = studyNetwork(study, fls, footprints);
     progress?.(0.95, 'outage table');
-    return outageTable(network, s.volumes, study.volumeMasks, fls, study.grid);
+    return outageTable(
+      network,
+      s.volumes,
+      study.volumeMasks,
+      fls,
+      study.grid,
+      undefined,
+      undefined,
+      study.volumeTargets,
+    );
   }
 
   // -------------------------------------------------------------------------------------------------- plan
@@ -621,7 +645,7 @@ export class Engine {
     check();
     progress?.(0.6, 'demand points');
     const fls = s.flightLevels;
-    const altitudes = fls.map(flToMetres);
+    const altitudes = levelAltitudesM(study.loaded.scenario, fls);
     const demand = buildDemand(study, fls);
     const siteIndex = new Map(s.sites.map((f, i) => [f.properties.id, i]));
     const budget = req.budget === undefined ? s.budget : (req.budget ?? undefined);
@@ -660,9 +684,9 @@ export class Engine {
     );
     check();
     const chosen = result.chosen.map((i) => all[i]);
-    const network = new Network(
-      study.grid.width * study.grid.height,
-      altitudes,
+    const network = studyNetwork(
+      study,
+      fls,
       result.chosen.map((i) => footprints[i]),
     );
     progress?.(1, 'done');
@@ -676,7 +700,7 @@ export class Engine {
       totalWeight: result.totalWeight,
       method: result.method,
       entries: chosen.map((r) => ({ ...r, cost: study.models.get(r.typeId)!.spec.cost })),
-      volumes: volumeStats(network, s.volumes, study.volumeMasks, fls, study.grid),
+      volumes: volumeStats(network, s.volumes, study.volumeMasks, fls, study.grid, study.volumeTargets),
       unmeetable: result.unmeetable.map((u) => ({
         kind: u.kind,
         required: u.required,
@@ -700,11 +724,10 @@ export class Engine {
     const B = dedupe(b);
     const { footprints } = await this.footprintsOf([...A, ...B], check, progress, [0, 0.9]);
     check();
-    const cells = study.grid.width * study.grid.height;
-    const netA = new Network(cells, fls.map(flToMetres), footprints.slice(0, A.length));
-    const netB = new Network(cells, fls.map(flToMetres), footprints.slice(A.length));
-    const servedA = servedMasks(netA, s.volumes, study.volumeMasks, fls);
-    const servedB = servedMasks(netB, s.volumes, study.volumeMasks, fls);
+    const netA = studyNetwork(study, fls, footprints.slice(0, A.length));
+    const netB = studyNetwork(study, fls, footprints.slice(A.length));
+    const servedA = servedMasks(netA, s.volumes, study.volumeMasks, fls, study.volumeTargets);
+    const servedB = servedMasks(netB, s.volumes, study.volumeMasks, fls, study.volumeTargets);
     const gained = difference(servedB, servedA);
     const lost = difference(servedA, servedB);
     this.compared = { gained, lost };
@@ -713,7 +736,7 @@ export class Engine {
     const side = (refs: SensorRef[], net: Network): CompareSide => ({
       sensors: refs,
       cost: this.costOf(refs),
-      volumes: volumeStats(net, s.volumes, study.volumeMasks, fls, study.grid),
+      volumes: volumeStats(net, s.volumes, study.volumeMasks, fls, study.grid, study.volumeTargets),
     });
     progress?.(1, 'done');
     return {
@@ -773,7 +796,12 @@ export class Engine {
     if (layer === 'gap') return { image: maskImage(grid, this.gapMask(f), GAP_COLOR), legend: [] };
     // The network floor, ramped from sea level to the highest computed level.
     const floor = cur.network.networkFloor();
-    const r = floorImage(grid, floor, 0, flToMetres(cur.flightLevels[cur.flightLevels.length - 1]));
+    const r = floorImage(
+      grid,
+      floor,
+      0,
+      levelAltitudesM(study.loaded.scenario, [cur.flightLevels[cur.flightLevels.length - 1]])[0],
+    );
     return { image: r.image, legend: r.legend };
   }
 
@@ -845,10 +873,20 @@ export class Engine {
     const cur = this.needCurrent();
     const f = this.levelIndex(fl);
     const s = study.loaded.scenario;
-    const fc = levelLayers(cur.network, f, fl, study.grid, s.volumes, study.volumeMasks);
+    const fc = levelLayers(
+      cur.network,
+      f,
+      fl,
+      study.grid,
+      s.volumes,
+      study.volumeMasks,
+      layerMeta(studyConventions(study, cur.flightLevels)),
+      study.volumeTargets,
+    );
     if (cur.failed.size > 0) {
       const lost = maskLayer(this.lostAt(f), study.grid, {
         flightLevel: fl,
+        altitudeM: cur.network.altitudesM[f],
         fold: 0,
         kind: 'any',
         siteIds: [...cur.failed],
@@ -870,6 +908,7 @@ export class Engine {
         if (Number(flText) !== fl) continue;
         const f = maskLayer(m, study.grid, {
           flightLevel: fl,
+          altitudeM: levelAltitudesM(study.loaded.scenario, [fl])[0],
           fold: 0,
           kind: 'any',
           siteIds: [],
@@ -889,12 +928,13 @@ export class Engine {
     const s = study.loaded.scenario;
     const data = diagramData(
       study.terrain,
-      { lon: c.site.lon, lat: c.site.lat, mastM: c.site.mastHeightM },
+      { lon: c.site.lon, lat: c.site.lat, mastM: c.site.mastHeightM, tiltDeg: c.site.tiltDeg },
       c.model,
       {
         azimuthDeg: ((azimuthDeg % 360) + 360) % 360,
         kFactor: s.earth.kFactor,
-        rcsM2: c.rcsM2,
+        target: c.target,
+        day: studyDay(s),
         flightLevels: s.flightLevels,
       },
     );

@@ -5,12 +5,15 @@
  * each read the files their own way and call `openStudy`.
  */
 import { InputError } from '../shared/errors.ts';
-import type { Locator, Scenario } from '../shared/scenario.ts';
+import type { Locator, Scenario, Volume } from '../shared/scenario.ts';
 import type { Candidate, CoverageSite } from './core/coverage.ts';
 import type { Footprint } from './core/footprint.ts';
+import { Network } from './core/network.ts';
 import { WGS84_GEOGRAPHIC, type GridGeo } from './core/grid.ts';
 import type { PlanInstance } from './core/plan.ts';
-import { buildSensorModel, type SensorModel } from './core/sensor.ts';
+import { buildSensorModel, describeTarget, type SensorModel, type Target } from './core/sensor.ts';
+import { trueAltitudeM, STANDARD_DAY, type Day } from './core/altimetry.ts';
+import { flToMetres } from '../shared/units.ts';
 import type { Terrain } from './core/terrain.ts';
 import { rasterizeVolume, rowAreasKm2 } from './core/volumes.ts';
 import { checkAgainstTerrain } from './io/scenario-text.ts';
@@ -30,6 +33,10 @@ export interface Study<L extends StudyScenario = StudyScenario> {
   models: Map<string, SensorModel>;
   /** Cells of each volume (same order as the scenario's volumes). */
   volumeMasks: Uint8Array[];
+  /** The study's targets: [0] the scenario's, then each distinct target a volume gives for itself. */
+  targets: Target[];
+  /** Per volume, its target's index in `targets`. */
+  volumeTargets: number[];
   threads: number;
 }
 
@@ -43,7 +50,8 @@ export function openStudy<L extends StudyScenario>(loaded: L, terrain: Terrain, 
     s.sensorTypes.map((t, i) => [t.id, buildSensorModel(t, loaded.locate(['sensorTypes', i]))]),
   );
   const volumeMasks = s.volumes.map((v) => rasterizeVolume(v, grid));
-  return { loaded, terrain, grid, ground, models, volumeMasks, threads };
+  const { targets, volumeTargets } = studyTargets(s);
+  return { loaded, terrain, grid, ground, models, volumeMasks, targets, volumeTargets, threads };
 }
 
 /** The analysis grid: the scenario's bounds (or the terrain's extent) in whole cells of cellArcSec. */
@@ -109,7 +117,14 @@ export function siteOf(session: Study, id: string, where: string): CoverageSite 
     );
   }
   const [lon, lat] = f.geometry.coordinates;
-  return { id, name: f.properties.name, lon, lat, mastHeightM: f.properties.mastHeightM };
+  return {
+    id,
+    name: f.properties.name,
+    lon,
+    lat,
+    mastHeightM: f.properties.mastHeightM,
+    tiltDeg: f.properties.tiltDeg ?? 0,
+  };
 }
 
 export function candidate(session: Study, siteId: string, typeId: string, where: string): Candidate {
@@ -121,12 +136,51 @@ export function candidate(session: Study, siteId: string, typeId: string, where:
       `the id of a sensor type in ${session.loaded.file} (${[...session.models.keys()].join(', ')})`,
     );
   }
-  const s = session.loaded.scenario;
+  return { site: siteOf(session, siteId, where), model, target: studyTarget(session.loaded.scenario) };
+}
+
+/** The aircraft the study is about: the scenario's target, or a volume's own where it gives one. */
+export function studyTarget(
+  s: Pick<Scenario, 'targetRcsM2' | 'targetFluctuation' | 'targetTransponder'>,
+  v?: Pick<Volume, 'targetRcsM2' | 'targetFluctuation' | 'targetTransponder'>,
+): Target {
   return {
-    site: siteOf(session, siteId, where),
-    model,
-    rcsM2: model.spec.targetRcsM2 ?? s.targetRcsM2 ?? model.targetRcsM2,
+    rcsM2: v?.targetRcsM2 ?? s.targetRcsM2,
+    fluctuation: v?.targetFluctuation ?? s.targetFluctuation,
+    transponder: v?.targetTransponder ?? s.targetTransponder,
   };
+}
+
+/** The distinct targets of a study ([0] the scenario's) and each volume's index among them. */
+export function studyTargets(s: Scenario): { targets: Target[]; volumeTargets: number[] } {
+  const targets = [studyTarget(s)];
+  const key = (t: Target) => `${t.rcsM2}|${t.fluctuation}|${t.transponder}`;
+  const volumeTargets = s.volumes.map((v) => {
+    const t = studyTarget(s, v);
+    let i = targets.findIndex((x) => key(x) === key(t));
+    if (i < 0) i = targets.push(t) - 1;
+    return i;
+  });
+  return { targets, volumeTargets };
+}
+
+/** The day of the study (the ISA standard day when the scenario gives none). */
+export function studyDay(s: Pick<Scenario, 'day'>): Day {
+  return s.day ?? STANDARD_DAY;
+}
+
+/** True altitudes (m AMSL) of flight levels (pressure altitudes) on the study's day. */
+export function levelAltitudesM(s: Pick<Scenario, 'day'>, fls: readonly number[]): number[] {
+  const day = studyDay(s);
+  // The standard day is the identity, exactly (not to rounding: footprints hold whole metres).
+  if (day.qnhHpa === STANDARD_DAY.qnhHpa && day.isaDeviationC === STANDARD_DAY.isaDeviationC)
+    return fls.map(flToMetres);
+  return fls.map((fl) => trueAltitudeM(flToMetres(fl), day));
+}
+
+/** Warnings of the sensor models (leftover fields), one line each. */
+export function modelWarnings(study: Pick<Study, 'models'>): string[] {
+  return [...study.models.values()].flatMap((m) => [...m.warnings]);
 }
 
 /** Every allowed (site, type) pair of the scenario. */
@@ -158,6 +212,8 @@ export interface Demand {
   instancePoints: PlanInstance['points'];
   /** Per point: the volume index, the cell and the flight level index. */
   volume: Uint16Array;
+  /** Per point: the index of its volume's target in the study's targets (0 = the scenario's). */
+  target: Uint8Array;
   cell: Uint32Array;
   level: Uint8Array;
 }
@@ -198,19 +254,140 @@ export function buildDemand(session: Study, fls: readonly number[]): Demand {
   return {
     instancePoints: { count: n, weight, reqAny, reqPrimary, reqSecondary },
     volume: Uint16Array.from(vol),
+    target: Uint8Array.from(vol, (v) => session.volumeTargets[v] ?? 0),
     cell: Uint32Array.from(cell),
     level: Uint8Array.from(level),
   };
 }
 
-/** The demand points a footprint covers, in increasing order. */
+/** The demand points a footprint covers (each with its volume's target), in increasing order. */
 export function coveredPoints(fp: Footprint, d: Demand, altitudesM: readonly number[]): Uint32Array {
   const out: number[] = [];
-  const { cell, level } = d;
+  const { cell, level, target } = d;
+  const byTarget = [fp, ...(fp.byTarget ?? [])];
   for (let p = 0; p < cell.length; p++) {
     const c = cell[p];
     const h = altitudesM[level[p]];
-    if (fp.lo[c] <= h && h <= fp.hi[c]) out.push(p);
+    const f = byTarget[target[p]];
+    if (f.lo[c] <= h && h <= f.hi[c]) out.push(p);
   }
   return Uint32Array.from(out);
+}
+
+/**
+ * What a result means, for every output (summary, layers, report, app): the target, the day, the refraction, what
+ * "seen" means and each sensor type's specification convention.
+ */
+export interface StudyConventions {
+  target: Target & { text: string };
+  /** Volumes that study their own target. */
+  volumeTargets: { volumeId: string; text: string }[];
+  day: Day & { text: string };
+  /** Each level's true altitude on the day. */
+  levels: { flightLevel: number; pressureAltitudeM: number; trueAltitudeM: number }[];
+  kFactor: number;
+  multipath: 'auto' | 'off';
+  seen: string;
+  sensorTypes: { id: string; convention: string; warnings: string[] }[];
+}
+
+export const SEEN_TEXT =
+  'seen = a primary detects the target with its type’s Pd at its type’s Pfa (the target’s RCS and Swerling case), ' +
+  'or a secondary closes both links (interrogation to the transponder’s minimum triggering level, reply to the ' +
+  'receiver’s sensitivity), in line of sight over the terrain on the effective earth, within the instrumented ' +
+  'range and below the cone of silence; flight levels are pressure altitudes, taken at their true altitude on the day';
+
+export function dayText(day: Day): string {
+  return day.qnhHpa === 1013.25 && day.isaDeviationC === 0
+    ? 'ISA standard day (QNH 1013.25 hPa, ISA +0 °C)'
+    : `QNH ${day.qnhHpa} hPa, ISA ${day.isaDeviationC >= 0 ? '+' : '−'}${Math.abs(day.isaDeviationC)} °C`;
+}
+
+export function studyConventions(
+  study: Pick<Study, 'loaded' | 'models'>,
+  fls: readonly number[],
+  altitudesM: readonly number[] = levelAltitudesM(study.loaded.scenario, fls),
+): StudyConventions {
+  const s = study.loaded.scenario;
+  const target = studyTarget(s);
+  const day = studyDay(s);
+  return {
+    target: { ...target, text: describeTarget(target) },
+    volumeTargets: s.volumes
+      .filter(
+        (v) =>
+          v.targetRcsM2 !== undefined ||
+          v.targetFluctuation !== undefined ||
+          v.targetTransponder !== undefined,
+      )
+      .map((v) => ({ volumeId: v.id, text: describeTarget(studyTarget(s, v)) })),
+    day: { ...day, text: dayText(day) },
+    levels: fls.map((fl, i) => ({
+      flightLevel: fl,
+      pressureAltitudeM: flToMetres(fl),
+      trueAltitudeM: altitudesM[i],
+    })),
+    kFactor: s.earth.kFactor,
+    multipath: s.multipath,
+    seen: SEEN_TEXT,
+    sensorTypes: [...study.models.values()].map((m) => ({
+      id: m.spec.id,
+      convention: m.convention,
+      warnings: [...m.warnings],
+    })),
+  };
+}
+
+/** The conventions in a few lines for the screen. */
+export function conventionsText(c: StudyConventions): string {
+  const lines = [
+    `target: ${c.target.text}`,
+    ...c.volumeTargets.map((v) => `  volume ${v.volumeId}: ${v.text}`),
+    `day: ${c.day.text}; k = ${+c.kFactor.toFixed(4)}; sea lobing: ${c.multipath}`,
+  ];
+  if (c.day.qnhHpa !== 1013.25 || c.day.isaDeviationC !== 0)
+    lines.push(
+      `true altitudes: ${c.levels.map((l) => `FL${String(l.flightLevel).padStart(3, '0')} ${l.trueAltitudeM.toFixed(0)} m`).join(', ')}`,
+    );
+  return lines.join('\n');
+}
+
+/** The conventions as a layer collection's metadata: the target, the day, k, what "seen" means. */
+export function layerMeta(c: StudyConventions): Record<string, unknown> {
+  return {
+    target: c.target.text,
+    volumeTargets: c.volumeTargets.length ? c.volumeTargets : undefined,
+    day: c.day.text,
+    kFactor: c.kFactor,
+    multipath: c.multipath,
+    seen: c.seen,
+  };
+}
+
+/**
+ * The network of a study's footprints at flight levels `fls`: true altitudes on the study's day, and the folds of
+ * each volume's own target only at the levels of that volume's band.
+ */
+export function studyNetwork(
+  study: Pick<Study, 'loaded' | 'grid' | 'volumeTargets' | 'targets'>,
+  fls: readonly number[],
+  footprints: readonly Footprint[],
+  active?: readonly boolean[],
+): Network {
+  const s = study.loaded.scenario;
+  const masks = study.targets.slice(1).map(() => 0);
+  s.volumes.forEach((v, vi) => {
+    const t = study.volumeTargets[vi];
+    if (!t) return;
+    fls.forEach((fl, f) => {
+      if (fl >= v.flMin && fl <= v.flMax) masks[t - 1] |= 1 << f;
+    });
+  });
+  return new Network(
+    study.grid.width * study.grid.height,
+    levelAltitudesM(s, fls),
+    footprints,
+    active,
+    masks,
+  );
 }

@@ -205,7 +205,7 @@ describe('the web app', () => {
       await page.waitForSelector('#coverage-table');
       const cells = await page.$$eval('#coverage-table tbody tr', (r) => r.map((x) => x.textContent ?? ''));
       expect(cells.length).toBeGreaterThan(0);
-      expect(cells.join(' ')).toMatch(/Tarn/);
+      expect(cells.join(' ')).toMatch(/Halvoran/);
       const fold = await page.$eval('.overlay-fold', (e) => ({
         w: (e as HTMLCanvasElement).width,
         shown: getComputedStyle(e).display !== 'none',
@@ -222,12 +222,12 @@ describe('the web app', () => {
     async () => {
       await panel('outages');
       const t0 = await now();
-      await page.click('[data-site-id="tarn-north"] .site-dot');
+      await page.click('[data-site-id="halvoran-north"] .site-dot');
       await page.waitForSelector('#app[data-outage="1"]', { timeout: STEP_MS });
       const t1 = await now();
       const text = await page.textContent('#outage-loss');
       expect(text).toMatch(/down:/);
-      expect(await page.$eval('[data-site-id="tarn-north"]', (e) => e.classList.contains('failed'))).toBe(
+      expect(await page.$eval('[data-site-id="halvoran-north"]', (e) => e.classList.contains('failed'))).toBe(
         true,
       );
       expect(await page.$$eval('.overlay-loss', (e) => e.length)).toBe(1);
@@ -238,7 +238,7 @@ describe('the web app', () => {
       );
       metrics.outageLongTasks = await blocksBetween(t0, t1);
       // Back up again: the loss layer empties.
-      await page.click('[data-fail="tarn-north"]');
+      await page.click('[data-fail="halvoran-north"]');
       await page.waitForSelector('#app[data-outage="2"]', { timeout: STEP_MS });
       expect(await page.textContent('#outage-loss')).toContain('No site failed');
     },
@@ -249,10 +249,10 @@ describe('the web app', () => {
     'recomputes only the site that was dragged to a new place',
     async () => {
       await panel('sites');
-      const dot = (await page.$('[data-site-id="tarn-north"] .site-dot'))!;
+      const dot = (await page.$('[data-site-id="halvoran-north"] .site-dot'))!;
       const box = (await dot.boundingBox())!;
       const before = await page.$eval(
-        '[aria-label="lon of tarn-north"]',
+        '[aria-label="lon of halvoran-north"]',
         (e) => (e as HTMLInputElement).value,
       );
       await page.mouse.move(box.x + box.width / 2, box.y + box.height / 2);
@@ -261,7 +261,7 @@ describe('the web app', () => {
       await page.mouse.up();
       await page.waitForSelector('#app[data-coverage="2"]', { timeout: STEP_MS });
       const after = await page.$eval(
-        '[aria-label="lon of tarn-north"]',
+        '[aria-label="lon of halvoran-north"]',
         (e) => (e as HTMLInputElement).value,
       );
       expect(Number(after)).toBeGreaterThan(Number(before));
@@ -270,9 +270,9 @@ describe('the web app', () => {
       const [, sensors, computed, cached] = text
         .match(/(\d+) sensors; (\d+) footprints computed, (\d+) from the cache/)!
         .map(Number);
-      // The layout has sensors on tarn-north and elsewhere: only tarn-north's were computed again.
+      // The layout has sensors on halvoran-north and elsewhere: only halvoran-north's were computed again.
       const atSite = ((await page.evaluate('window.airshade.state.network')) as { siteId: string }[]).filter(
-        (r) => r.siteId === 'tarn-north',
+        (r) => r.siteId === 'halvoran-north',
       ).length;
       expect(computed).toBe(atSite);
       expect(cached).toBe(sensors - atSite);
@@ -359,7 +359,7 @@ describe('the web app', () => {
       expect(msg).toContain('your work is unchanged');
       expect(await siteRows()).toEqual(before);
       // A bad value typed in a table is refused, named, and left in its field.
-      const mast = await page.$('[aria-label="mast of tarn-north"]');
+      const mast = await page.$('[aria-label="mast of halvoran-north"]');
       await mast!.fill('-5');
       await mast!.press('Enter');
       await page.waitForSelector('#message .msg.error');

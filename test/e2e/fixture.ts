@@ -74,8 +74,8 @@ export const E2E_SENSOR_TYPES: readonly FixtureSensorType[] = [E2E_PRIMARY, E2E_
 
 export const E2E_SITES: readonly FixtureSite[] = [
   {
-    id: 'tarn-north',
-    name: 'Tarn North Beacon',
+    id: 'halvoran-north',
+    name: 'Halvoran North Beacon',
     lon: -30.28,
     lat: -40.78,
     mastHeightM: 20,
@@ -83,8 +83,8 @@ export const E2E_SITES: readonly FixtureSite[] = [
     existing: true,
   },
   {
-    id: 'tarn-south',
-    name: 'Tarn South Hill',
+    id: 'halvoran-south',
+    name: 'Halvoran South Hill',
     lon: -30.12,
     lat: -41.27,
     mastHeightM: 15,
@@ -115,8 +115,8 @@ export const E2E_SITES: readonly FixtureSite[] = [
 
 export const E2E_VOLUMES: readonly FixtureVolume[] = [
   {
-    id: 'tarn-terminal',
-    name: 'Tarn terminal area',
+    id: 'halvoran-terminal',
+    name: 'Halvoran terminal area',
     polygon: { type: 'Polygon', coordinates: [ring(-30.5, -41.3, -29.9, -40.75)] },
     flMin: 50,
     flMax: 200,
@@ -139,17 +139,17 @@ export const E2E_LAYOUTS: readonly FixtureLayout[] = [
   {
     name: E2E_LAYOUT_NAME,
     sensors: [
-      { siteId: 'tarn-north', typeId: 'psr-compact' },
-      { siteId: 'tarn-north', typeId: 'ssr-compact' },
-      { siteId: 'tarn-south', typeId: 'ssr-compact' },
+      { siteId: 'halvoran-north', typeId: 'psr-compact' },
+      { siteId: 'halvoran-north', typeId: 'ssr-compact' },
+      { siteId: 'halvoran-south', typeId: 'ssr-compact' },
     ],
   },
   {
     name: 'existing plus east fill-in',
     sensors: [
-      { siteId: 'tarn-north', typeId: 'psr-compact' },
-      { siteId: 'tarn-north', typeId: 'ssr-compact' },
-      { siteId: 'tarn-south', typeId: 'ssr-compact' },
+      { siteId: 'halvoran-north', typeId: 'psr-compact' },
+      { siteId: 'halvoran-north', typeId: 'ssr-compact' },
+      { siteId: 'halvoran-south', typeId: 'ssr-compact' },
       { siteId: 'ridge-east', typeId: 'ssr-compact' },
     ],
   },

@@ -333,7 +333,7 @@ describe('e2e demo data (fixture.ts)', () => {
       expect(t.instrumentedRangeNm).toBeLessThanOrEqual(100);
     }
     expect(s.sites).toHaveLength(4);
-    expect(s.sites.map((f) => f.properties.id)).toContain('tarn-north');
+    expect(s.sites.map((f) => f.properties.id)).toContain('halvoran-north');
     expect(s.flightLevels).toEqual([50, 100, 200]);
     expect(s.grid.cellArcSec).toBe(60);
     expect(s.budget).toBeGreaterThan(0);
@@ -485,6 +485,7 @@ describe('browser harness on a tiny page', () => {
       expect(glShot.nonUniform).toBe(true);
       await expect(canvasNonBlank(page, '#missing')).rejects.toThrow(/nothing matches #missing/);
 
+      // The page spins 120 ms on its main thread; a long task is one of 50 ms or more (W3C Long Tasks API).
       const tasks = await longTasks(page);
       expect(tasks.some((t) => t.duration >= 50)).toBe(true);
 

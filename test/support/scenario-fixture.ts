@@ -129,7 +129,7 @@ export const DEFAULT_SITES: FixtureSite[] = [
   { id: 'alder', name: 'Alder Knoll', lon: -30.35, lat: -40.8, mastHeightM: 25, siteCost: 2, existing: true },
   {
     id: 'brook',
-    name: 'Brookmere Rise',
+    name: 'Brellindar Rise',
     lon: -29.65,
     lat: -41.3,
     mastHeightM: 20,

@@ -117,3 +117,25 @@ export function threadsArg(p: Parsed, fallback: number): number {
     ? fallback
     : numberArg('threads', text, 0, 64, 'a whole number of threads from 0 to 64');
 }
+
+/**
+ * The help of --weather (the same option in coverage, plan, outage, compare and diagram), as an options-list entry
+ * whose description starts at `column`, wrapped to `width` characters. The model is worker/core/sensor.ts's.
+ */
+export function weatherHelp(column: number, width = 112): string {
+  const text =
+    "weather mode: each primary's detection range is reduced by its type's two-way weather loss weatherLossDb " +
+    '(rain clutter and attenuation, circular polarization in heavy rain): the range is multiplied by ' +
+    '10^(−weatherLossDb/40); ' +
+    'secondaries are unaffected';
+  const lines: string[] = [];
+  let line = '  --weather'.padEnd(column);
+  for (const word of text.split(' ')) {
+    if (line.length > column && line.length + 1 + word.length > width) {
+      lines.push(line);
+      line = ' '.repeat(column) + word;
+    } else line = line.length > column ? `${line} ${word}` : line + word;
+  }
+  lines.push(line);
+  return lines.join('\n');
+}

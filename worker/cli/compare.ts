@@ -2,14 +2,16 @@
  * `airshade compare`: two named layouts of the scenario side by side — cost, coverage per volume and flight level,
  * fold histograms, and layers of what B gains and loses against A.
  */
-import { flToMetres, formatFl } from '../../shared/units.ts';
+import { CAUTION } from '../../shared/caution.ts';
+import { formatFl } from '../../shared/units.ts';
+import { levelAltitudesM, studyNetwork } from '../study.ts';
 import type { Candidate } from '../core/coverage.ts';
 import { Network } from '../core/network.ts';
 import { difference, servedMasks, tally } from '../core/outage.ts';
 import { volumeStats } from '../core/volumes.ts';
 import { featureCollection, stringifyGeoJson } from '../io/geojson.ts';
 import { NodePool } from '../node-pool.ts';
-import { parseArgs, required, scenarioArg, threadsArg } from './args.ts';
+import { parseArgs, required, scenarioArg, threadsArg, weatherHelp } from './args.ts';
 import { maskLayer } from '../io/layers.ts';
 import { writeFileChecked } from './files.ts';
 import { ProgressLine } from './progress.ts';
@@ -24,6 +26,9 @@ Compares two named layouts of the scenario: the cost of each (sensor types, plus
 the coverage per volume and flight level (covered, meeting the required folds, fold histograms), and where B
 serves demand that A does not (gained) and the reverse (lost). Writes DIR/compare.json and
 DIR/compare-FL050.geojson … with the gained and lost areas per volume.
+
+Options:
+${weatherHelp(19)}
 `;
 
 const SPEC = {
@@ -77,21 +82,20 @@ export async function compareCommand(argv: readonly string[], log: (s: string) =
   const fls = s.flightLevels;
   const inA = new Set(a.map(key));
   const inB = new Set(b.map(key));
-  const cells = session.grid.width * session.grid.height;
-  const netA = new Network(
-    cells,
-    fls.map(flToMetres),
+  const netA = studyNetwork(
+    session,
+    fls,
     footprints,
     all.map((c) => inA.has(key(c))),
   );
-  const netB = new Network(
-    cells,
-    fls.map(flToMetres),
+  const netB = studyNetwork(
+    session,
+    fls,
     footprints,
     all.map((c) => inB.has(key(c))),
   );
-  const servedA = servedMasks(netA, s.volumes, session.volumeMasks, fls);
-  const servedB = servedMasks(netB, s.volumes, session.volumeMasks, fls);
+  const servedA = servedMasks(netA, s.volumes, session.volumeMasks, fls, session.volumeTargets);
+  const servedB = servedMasks(netB, s.volumes, session.volumeMasks, fls, session.volumeTargets);
   const gained = difference(servedB, servedA);
   const lost = difference(servedA, servedB);
   progress.update(0.95, 'layers');
@@ -106,6 +110,7 @@ export async function compareCommand(argv: readonly string[], log: (s: string) =
         if (!m) continue;
         const f = maskLayer(m, session.grid, {
           flightLevel: fl,
+          altitudeM: levelAltitudesM(s, [fl])[0],
           fold: 0,
           kind: 'any',
           siteIds: [],
@@ -126,7 +131,7 @@ export async function compareCommand(argv: readonly string[], log: (s: string) =
     name,
     cost: layoutCost(session, sensors),
     sensors: sensors.map((c) => ({ siteId: c.site.id, typeId: c.model.spec.id })),
-    volumes: volumeStats(net, s.volumes, session.volumeMasks, fls, session.grid),
+    volumes: volumeStats(net, s.volumes, session.volumeMasks, fls, session.grid, session.volumeTargets),
   });
   const A = side(nameA, a, netA);
   const B = side(nameB, b, netB);
@@ -136,8 +141,7 @@ export async function compareCommand(argv: readonly string[], log: (s: string) =
     b: B,
     bGainsOverA: { demandWeight: g.demandWeight, areaKm2: g.unionAreaKm2, byVolume: g.byVolume },
     bLosesAgainstA: { demandWeight: l.demandWeight, areaKm2: l.unionAreaKm2, byVolume: l.byVolume },
-    caution:
-      'Planning aid: not a certified or flight-inspected result; defer to the local authority’s standards.',
+    caution: CAUTION,
   };
   writeFileChecked(`${outDir}/compare.json`, JSON.stringify(doc, null, 2) + '\n');
   progress.done();
@@ -159,5 +163,6 @@ export async function compareCommand(argv: readonly string[], log: (s: string) =
     `B gains ${g.unionAreaKm2.toFixed(0)} km² (demand weight ${g.demandWeight.toFixed(0)}) and loses ${l.unionAreaKm2.toFixed(0)} km² (${l.demandWeight.toFixed(0)}) against A; written to ${outDir}/compare.json`,
   );
   log(lines.join('\n'));
+  log(CAUTION);
   return 0;
 }

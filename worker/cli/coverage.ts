@@ -3,14 +3,22 @@
  * Builds the footprints of every sensor in the network (a named layout, or every allowed (site, type) pair),
  * the network from them, the statistics per volume and level, and the layers.
  */
+import { CAUTION } from '../../shared/caution.ts';
 import { InputError } from '../../shared/errors.ts';
-import { flToMetres, formatFl } from '../../shared/units.ts';
-import { Network } from '../core/network.ts';
+import { formatFl } from '../../shared/units.ts';
+import {
+  conventionsText,
+  layerMeta,
+  levelAltitudesM,
+  studyNetwork,
+  modelWarnings,
+  studyConventions,
+} from '../study.ts';
 import { volumeStats, type VolumeLevelStats } from '../core/volumes.ts';
 import { stringifyGeoJson } from '../io/geojson.ts';
 import { encodeGeoTiff } from '../io/geotiff-write.ts';
 import { NodePool } from '../node-pool.ts';
-import { one, parseArgs, required, scenarioArg, threadsArg } from './args.ts';
+import { one, parseArgs, required, scenarioArg, threadsArg, weatherHelp } from './args.ts';
 import { writeFileChecked } from './files.ts';
 import { ProgressLine } from './progress.ts';
 import type { LoadedScenario } from './scenario.ts';
@@ -36,7 +44,7 @@ DIR/network-floor.tif (lowest covered altitude, m AMSL).
 Options:
   --fl LIST        flight levels, comma-separated (default: the scenario's flightLevels)
   --layout NAME    the network is this layout of the scenario (default: every allowed site and type)
-  --weather        weather mode: primaries lose their weather loss (circular polarization in heavy rain)
+${weatherHelp(19)}
   --out DIR        output folder
   --threads N      worker threads (default: one per core; 0 runs on the main thread)
 `;
@@ -52,7 +60,15 @@ const SPEC = {
   help: {},
 } as const;
 
-export async function coverageCommand(argv: readonly string[], log: (s: string) => void): Promise<number> {
+/**
+ * Runs `airshade coverage`; prints the caution last unless `opts.caution` is false (the demo prints it after its
+ * own closing lines, so that it is said once, at the end).
+ */
+export async function coverageCommand(
+  argv: readonly string[],
+  log: (s: string) => void,
+  opts: { caution?: boolean } = {},
+): Promise<number> {
   const p = parseArgs(argv, SPEC, 'coverage');
   if (p.flags.has('help')) {
     log(COVERAGE_HELP);
@@ -78,11 +94,12 @@ export async function coverageCommand(argv: readonly string[], log: (s: string) 
         : `layout "${layoutName}" (${candidates.length} sensors)`,
   };
   const weather = p.flags.has('weather');
+  for (const w of modelWarnings(session)) log(`warning: ${w}`);
   const tSetup = performance.now();
   const result = { footprints: await footprintsFor(session, candidates, { weather, progress }) };
   const tFootprints = performance.now();
-  const altitudes = fls.map(flToMetres);
-  const network = new Network(grid.width * grid.height, altitudes, result.footprints);
+  const altitudes = levelAltitudesM(s, fls);
+  const network = studyNetwork(session, fls, result.footprints);
   const tNetwork = performance.now();
   // The what-if figure: switching one site off and on again from the cached footprints.
   const someSite = network.siteIds()[0];
@@ -93,21 +110,33 @@ export async function coverageCommand(argv: readonly string[], log: (s: string) 
   }
   const toggleMs = (performance.now() - tw0) / 2;
   progress.update(0.9, 'statistics');
+  const conventions = studyConventions(session, fls, altitudes);
   const masks = session.volumeMasks;
-  const stats = volumeStats(network, s.volumes, masks, fls, grid);
+  const stats = volumeStats(network, s.volumes, masks, fls, grid, session.volumeTargets);
   progress.update(0.92, 'layers');
   for (let f = 0; f < fls.length; f++) {
-    const fc = levelLayers(network, f, fls[f], grid, s.volumes, masks);
+    const fc = levelLayers(
+      network,
+      f,
+      fls[f],
+      grid,
+      s.volumes,
+      masks,
+      layerMeta(conventions),
+      session.volumeTargets,
+    );
     writeFileChecked(`${outDir}/coverage-${formatFl(fls[f])}.geojson`, stringifyGeoJson(fc));
   }
   const floor = network.networkFloor();
-  writeFileChecked(`${outDir}/network-floor.tif`, encodeGeoTiff({ geo: grid, data: floor, nodata: NaN }));
+  writeFileChecked(
+    `${outDir}/network-floor.tif`,
+    encodeGeoTiff({ geo: grid, data: floor, nodata: NaN, description: CAUTION }),
+  );
   const tLayers = performance.now();
   const summary = {
     scenario: s.name,
     file: session.loaded.file,
-    caution:
-      'Planning aid: not a certified or flight-inspected result. Results depend on the terrain data and the refraction assumed; defer to the local authority’s standards and licensed engineering practice.',
+    caution: CAUTION,
     earth: { kFactor: s.earth.kFactor, effectiveRadiusKm: (s.earth.kFactor * 6371).toFixed(1) },
     grid: {
       cellArcSec: s.grid.cellArcSec,
@@ -117,6 +146,7 @@ export async function coverageCommand(argv: readonly string[], log: (s: string) 
       north: grid.originY,
     },
     flightLevels: fls,
+    conventions,
     weatherMode: weather,
     network: {
       label: choice.label,
@@ -135,6 +165,8 @@ export async function coverageCommand(argv: readonly string[], log: (s: string) 
   writeFileChecked(`${outDir}/summary.json`, JSON.stringify(summary, null, 2) + '\n');
   progress.done();
   log(summaryText(s.name, choice.label, stats, fls, outDir, summary.timingsMs, s.volumes));
+  log(conventionsText(summary.conventions));
+  if (opts.caution !== false) log(CAUTION);
   return 0;
 }
 
@@ -180,9 +212,6 @@ function summaryText(
   );
   lines.push(
     `time: ${(t.total / 1000).toFixed(1)} s (footprints ${(t.footprints / 1000).toFixed(1)} s); one site switched off and on: ${t.siteToggle} ms; peak memory ${(process.resourceUsage().maxRSS / 1024).toFixed(0)} MiB`,
-  );
-  lines.push(
-    'Planning aid only — not a certified or flight-inspected result; depends on terrain data and refraction.',
   );
   return lines.join('\n');
 }

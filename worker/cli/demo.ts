@@ -4,6 +4,7 @@
  */
 import { existsSync } from 'node:fs';
 import { fileURLToPath } from 'node:url';
+import { CAUTION } from '../../shared/caution.ts';
 import { WGS84_GEOGRAPHIC, type GridGeo } from '../core/grid.ts';
 import { DEMO_REGION, DEMO_WORLD, fillGeographic } from '../core/synth-terrain.ts';
 import { encodeGeoTiff } from '../io/geotiff-write.ts';
@@ -128,7 +129,7 @@ export async function demoCommand(argv: readonly string[], log: (s: string) => v
   const args = [`${DATA_DIR}demo-scenario.json`, '--layout', 'existing network', '--out', outDir];
   if (threads !== undefined) args.push('--threads', threads);
   if (quiet) args.push('--quiet');
-  const code = await coverageCommand(args, log);
+  const code = await coverageCommand(args, log, { caution: false });
   log(
     [
       '',
@@ -136,6 +137,7 @@ export async function demoCommand(argv: readonly string[], log: (s: string) => v
       `  npx airshade coverage data/demo-scenario.json --out ${outDir}/all`,
       'a vertical coverage diagram —',
       `  npx airshade diagram data/demo-scenario.json --site karvessa --type psr-l-longrange --azimuth 250 --out ${outDir}/karvessa.svg`,
+      CAUTION,
     ].join('\n'),
   );
   return code;

@@ -1,10 +1,12 @@
 /** `airshade diagram`: the vertical coverage diagram of one sensor on one site along one azimuth, as SVG. */
+import { CAUTION } from '../../shared/caution.ts';
 import { InputError } from '../../shared/errors.ts';
 import { diagramData } from '../core/diagram.ts';
+import { studyDay, studyTarget } from '../study.ts';
 import { buildSensorModel } from '../core/sensor.ts';
 import { Terrain } from '../core/terrain.ts';
 import { renderDiagramSvg } from '../io/diagram-svg.ts';
-import { numberArg, one, parseArgs, required } from './args.ts';
+import { numberArg, one, parseArgs, required, weatherHelp } from './args.ts';
 import { readTiles, writeFileChecked } from './files.ts';
 import { loadScenario } from './scenario.ts';
 
@@ -18,6 +20,9 @@ Draws, along the geodesic radial at the azimuth (degrees clockwise from true nor
 terrain shadow and line-of-sight floor, the sensor's detection envelope on the effective earth, the cone of
 silence and the scenario's flight levels, as a range–height chart (altitude above mean sea level against
 ground range).
+
+Options:
+${weatherHelp(19)}
 `;
 
 const SPEC = {
@@ -86,14 +91,21 @@ export async function diagramCommand(argv: readonly string[], log: (s: string) =
   const model = buildSensorModel(s.sensorTypes[ti], loaded.locate(['sensorTypes', ti]));
   const terrain = Terrain.fromTiles(await readTiles(loaded.terrainPaths));
   const [lon, lat] = site.geometry.coordinates;
-  const data = diagramData(terrain, { lon, lat, mastM: site.properties.mastHeightM }, model, {
-    azimuthDeg: ((azimuthDeg % 360) + 360) % 360,
-    kFactor: s.earth.kFactor,
-    maxRangeM,
-    rcsM2: model.spec.targetRcsM2 ?? s.targetRcsM2 ?? model.targetRcsM2,
-    weather: p.flags.has('weather'),
-    flightLevels: s.flightLevels,
-  });
+  for (const w of model.warnings) log(`warning: ${w}`);
+  const data = diagramData(
+    terrain,
+    { lon, lat, mastM: site.properties.mastHeightM, tiltDeg: site.properties.tiltDeg },
+    model,
+    {
+      azimuthDeg: ((azimuthDeg % 360) + 360) % 360,
+      kFactor: s.earth.kFactor,
+      maxRangeM,
+      target: studyTarget(s),
+      day: studyDay(s),
+      weather: p.flags.has('weather'),
+      flightLevels: s.flightLevels,
+    },
+  );
   const title = `${site.properties.name} — ${model.spec.name} — azimuth ${data.azimuthDeg.toFixed(1)}°`;
   writeFileChecked(outPath, renderDiagramSvg(data, { title, units: unitsText }));
   const shadowKm = data.shadow.reduce((a, r) => a + (r.toM - r.fromM), 0) / 1000;
@@ -104,5 +116,6 @@ export async function diagramCommand(argv: readonly string[], log: (s: string) =
       `  antenna ${data.antennaAltM.toFixed(0)} m AMSL; ${shadowKm.toFixed(1)} km of the ${(data.maxRangeM / 1000).toFixed(0)} km radial lie in terrain shadow at ground level`,
     ].join('\n'),
   );
+  log(CAUTION);
   return 0;
 }

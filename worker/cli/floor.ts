@@ -1,4 +1,5 @@
 /** `airshade floor`: the terrain-masking floor of one antenna as a Float32 GeoTIFF on the first DEM's grid. */
+import { CAUTION } from '../../shared/caution.ts';
 import { InputError } from '../../shared/errors.ts';
 import { DEFAULT_K_FACTOR, EARTH_RADIUS_M } from '../../shared/units.ts';
 import { computeFloor, inlineExecutor, type FloorResult } from '../core/floor.ts';
@@ -113,7 +114,10 @@ export async function floorCommand(argv: readonly string[], log: (s: string) => 
   }
   progress.update(1, 'writing');
   const tComputed = performance.now();
-  writeFileChecked(outPath, encodeGeoTiff({ geo: outGeo, data: result.floor, nodata: NaN }));
+  writeFileChecked(
+    outPath,
+    encodeGeoTiff({ geo: outGeo, data: result.floor, nodata: NaN, description: CAUTION }),
+  );
   const tWritten = performance.now();
   progress.done();
   const s = result.stats;
@@ -132,6 +136,7 @@ export async function floorCommand(argv: readonly string[], log: (s: string) => 
       `  time         ${((performance.now() - started) / 1000).toFixed(2)} s, peak memory ${(process.resourceUsage().maxRSS / 1024).toFixed(0)} MiB`,
     ].join('\n'),
   );
+  log(CAUTION);
   return 0;
 }
 

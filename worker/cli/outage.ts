@@ -3,14 +3,15 @@
  * volume and flight level, the worst single failure, and the lost coverage as layers.
  */
 import { readFileSync } from 'node:fs';
+import { CAUTION } from '../../shared/caution.ts';
 import { InputError } from '../../shared/errors.ts';
-import { flToMetres, formatFl } from '../../shared/units.ts';
+import { formatFl } from '../../shared/units.ts';
+import { levelAltitudesM, studyNetwork } from '../study.ts';
 import type { Candidate } from '../core/coverage.ts';
-import { Network } from '../core/network.ts';
 import { outageTable } from '../core/outage.ts';
 import { featureCollection, stringifyGeoJson } from '../io/geojson.ts';
 import { NodePool } from '../node-pool.ts';
-import { one, parseArgs, required, scenarioArg, threadsArg } from './args.ts';
+import { one, parseArgs, required, scenarioArg, threadsArg, weatherHelp } from './args.ts';
 import { maskLayer } from '../io/layers.ts';
 import { writeFileChecked } from './files.ts';
 import { ProgressLine } from './progress.ts';
@@ -35,6 +36,9 @@ site and type, switches each site off in turn (or only the --site ones) and repo
 that stop meeting their volume's required folds, per volume and flight level, worst first. A demand point is a
 volume cell at a flight level in the volume's band; its weight is the cell's area times the volume's weight.
 Writes DIR/outage.json and DIR/outage-<site>-FL050.geojson … (the lost coverage, per volume).
+
+Options:
+${weatherHelp(19)}
 `;
 
 const SPEC = {
@@ -116,7 +120,7 @@ export async function outageCommand(argv: readonly string[], log: (s: string) =>
   const footprints = await footprintsFor(session, sensors, { weather: p.flags.has('weather'), progress });
   const fls = s.flightLevels;
   const tBuilt = performance.now();
-  const network = new Network(session.grid.width * session.grid.height, fls.map(flToMetres), footprints);
+  const network = studyNetwork(session, fls, footprints);
   progress.update(0.9, 'switching sites off');
   const lostBySite = new Map<string, Map<string, Uint8Array>>();
   const losses = outageTable(
@@ -127,6 +131,7 @@ export async function outageCommand(argv: readonly string[], log: (s: string) =>
     session.grid,
     siteIds,
     (siteId, lost) => lostBySite.set(siteId, lost),
+    session.volumeTargets,
   );
   const tableMs = performance.now() - tBuilt;
   progress.update(0.95, 'layers');
@@ -138,6 +143,7 @@ export async function outageCommand(argv: readonly string[], log: (s: string) =>
         if (!m) continue;
         const f = maskLayer(m, session.grid, {
           flightLevel: fl,
+          altitudeM: levelAltitudesM(s, [fl])[0],
           fold: 0,
           kind: 'any',
           siteIds: [siteId],
@@ -164,8 +170,7 @@ export async function outageCommand(argv: readonly string[], log: (s: string) =>
     },
     losses,
     timingsMs: { outageTable: Math.round(tableMs), total: Math.round(performance.now() - started) },
-    caution:
-      'Planning aid: not a certified or flight-inspected result; defer to the local authority’s standards.',
+    caution: CAUTION,
   };
   writeFileChecked(`${outDir}/outage.json`, JSON.stringify(doc, null, 2) + '\n');
   progress.done();
@@ -185,5 +190,6 @@ export async function outageCommand(argv: readonly string[], log: (s: string) =>
     `worst single failure: ${worst ? worst.siteId : 'none'}; outage table of ${losses.length} sites in ${(tableMs / 1000).toFixed(2)} s (layers not included); written to ${outDir}/outage.json`,
   );
   log(lines.join('\n'));
+  log(CAUTION);
   return 0;
 }

@@ -2,14 +2,16 @@
  * `airshade plan`: the cheapest set of (site, type) that gives every airspace volume its required folds at the
  * flight levels of its band — or, with a budget, the most demand within it — with a proven lower bound and gap.
  */
-import { flToMetres, formatFl } from '../../shared/units.ts';
+import { CAUTION } from '../../shared/caution.ts';
+import { formatFl } from '../../shared/units.ts';
+import { layerMeta, levelAltitudesM, studyConventions, studyNetwork } from '../study.ts';
 import type { Candidate } from '../core/coverage.ts';
 import { Network } from '../core/network.ts';
 import { solvePlan, type PlanInstance, type PlanResult } from '../core/plan.ts';
 import { volumeStats } from '../core/volumes.ts';
 import { stringifyGeoJson } from '../io/geojson.ts';
 import { NodePool } from '../node-pool.ts';
-import { numberArg, one, parseArgs, required, scenarioArg, threadsArg } from './args.ts';
+import { numberArg, one, parseArgs, required, scenarioArg, threadsArg, weatherHelp } from './args.ts';
 import { levelLayers } from '../io/layers.ts';
 import { buildDemand, coveredPoints, type Demand } from '../study.ts';
 import { writeFileChecked } from './files.ts';
@@ -43,6 +45,7 @@ Options:
   --budget COST     the budget (overrides the scenario's); --budget none plans without one
   --time-limit-s S  time limit for the LP/MILP solver (default 8); a plan cut short by it can differ between
                     machines of different speed (plan.json's log says when the limit was hit)
+${weatherHelp(20)}
 `;
 
 const SPEC = {
@@ -99,7 +102,7 @@ export async function planCommand(argv: readonly string[], log: (s: string) => v
   });
   progress.update(0.6, 'demand points');
   const fls = s.flightLevels;
-  const altitudes = fls.map(flToMetres);
+  const altitudes = levelAltitudesM(s, fls);
   const demand = buildDemand(session, fls);
   const siteIndex = new Map(s.sites.map((f, i) => [f.properties.id, i]));
   const inst: PlanInstance = {
@@ -132,9 +135,18 @@ export async function planCommand(argv: readonly string[], log: (s: string) => v
   const tSolved = performance.now();
   progress.update(0.96, 'layers');
   const active = candidates.map((_, i) => result.chosen.includes(i));
-  const network = new Network(session.grid.width * session.grid.height, altitudes, footprints, active);
+  const network = studyNetwork(session, fls, footprints, active);
   for (let f = 0; f < fls.length; f++) {
-    const fc = levelLayers(network, f, fls[f], session.grid, s.volumes, session.volumeMasks);
+    const fc = levelLayers(
+      network,
+      f,
+      fls[f],
+      session.grid,
+      s.volumes,
+      session.volumeMasks,
+      layerMeta(studyConventions(session, fls, altitudes)),
+      session.volumeTargets,
+    );
     writeFileChecked(`${outDir}/plan-coverage-${formatFl(fls[f])}.geojson`, stringifyGeoJson(fc));
   }
   const doc = planDocument(session, candidates, result, network, fls, demand);
@@ -147,6 +159,7 @@ export async function planCommand(argv: readonly string[], log: (s: string) => v
       total: performance.now() - started,
     }),
   );
+  log(CAUTION);
   return 0;
 }
 
@@ -193,11 +206,10 @@ function planDocument(
     totalWeight: r.totalWeight,
     method: r.method,
     entries,
-    volumes: volumeStats(network, s.volumes, session.volumeMasks, fls, session.grid),
+    volumes: volumeStats(network, s.volumes, session.volumeMasks, fls, session.grid, session.volumeTargets),
     unmeetable,
     log: r.log,
-    caution:
-      'Planning aid: not a certified or flight-inspected result; defer to the local authority’s standards and licensed engineering practice.',
+    caution: CAUTION,
   };
 }
 
@@ -228,6 +240,5 @@ function planSummary(
   lines.push(
     `written to ${outDir}/plan.json and plan-coverage-FL….geojson; demand + candidates ${(t.build / 1000).toFixed(1)} s, solver ${(t.solve / 1000).toFixed(1)} s, total ${(t.total / 1000).toFixed(1)} s`,
   );
-  lines.push('Planning aid only — not a certified or flight-inspected result.');
   return lines.join('\n');
 }

@@ -44,6 +44,7 @@ export async function footprintsFor(
         kFactor: s.earth.kFactor,
         maxRangeM: (s.maxRangeKm ?? 400) * 1000,
         weather: opts.weather,
+        extraTargets: session.targets.slice(1),
       },
       pool ? pool.executor() : inlineExecutor(terrain),
       { onProgress: (f, stage) => opts.progress?.update(from + span * f, stage) },

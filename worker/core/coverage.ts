@@ -12,7 +12,7 @@ import { buildFootprint, sensorBand, type Footprint } from './footprint.ts';
 import type { GridGeo } from './grid.ts';
 import type { HorizonCache } from './horizon-cache.ts';
 import type { TerrainRaster } from './horizon.ts';
-import type { SensorModel } from './sensor.ts';
+import type { SensorModel, Target } from './sensor.ts';
 
 export interface CoverageSite {
   id: string;
@@ -20,13 +20,15 @@ export interface CoverageSite {
   lon: number;
   lat: number;
   mastHeightM: number;
+  /** Antenna tilt, degrees (default 0). */
+  tiltDeg?: number;
 }
 
 export interface Candidate {
   site: CoverageSite;
   model: SensorModel;
-  /** Target RCS used for this sensor (primary), m². */
-  rcsM2: number;
+  /** The aircraft this footprint is for (the study's, or a volume's own). */
+  target: Target;
 }
 
 export interface CoverageRequest {
@@ -39,6 +41,13 @@ export interface CoverageRequest {
   /** Upper bound on ranges computed (m); each site also stops at its longest sensor range. */
   maxRangeM: number;
   weather?: boolean;
+  /** Gaseous attenuation (default true). */
+  atmosphere?: boolean;
+  /**
+   * The study's other targets (volumes with their own): each footprint then carries the same sensor's footprints
+   * for them in `byTarget`, from the same floor (the band alone depends on the target).
+   */
+  extraTargets?: readonly Target[];
   /** Range step along the radials (default: one terrain pixel at the site). */
   rangeStepM?: number;
   /** Arc between neighbouring radials (default: 0.75 of the analysis cell's shorter side). */
@@ -100,6 +109,24 @@ export async function computeFootprints(
       },
     );
   };
+  const footprintFor = (
+    c: Candidate,
+    target: Target,
+    floor: Float32Array,
+    distance: Float32Array,
+    antennaAltM: number,
+    maxRangeM: number,
+  ): Footprint => {
+    const profile = c.model.profile({
+      target,
+      antennaAltM,
+      tiltDeg: c.site.tiltDeg,
+      weather: req.weather,
+      atmosphere: req.atmosphere,
+    });
+    const band = sensorBand(profile, { antennaAltM, reM, maxRangeM });
+    return buildFootprint(c.site.id, c.model, floor, distance, band);
+  };
   let next = groups.length > 0 ? floorOf(groups[0]) : null;
   for (let g = 0; g < groups.length; g++) {
     const cands = groups[g];
@@ -115,14 +142,24 @@ export async function computeFootprints(
       groundM: res.stats.groundM,
     });
     for (const c of cands) {
-      const band = sensorBand(c.model, {
-        antennaAltM: res.stats.antennaAltM,
-        reM,
-        rcsM2: c.rcsM2,
-        weather: req.weather ?? false,
-        maxRangeM: res.horizon.layout.maxRangeM,
-      });
-      footprints.push(buildFootprint(site.id, c.model, res.floor, distance, band));
+      const fp = footprintFor(
+        c,
+        c.target,
+        res.floor,
+        distance,
+        res.stats.antennaAltM,
+        res.horizon.layout.maxRangeM,
+      );
+      if (req.extraTargets?.length) {
+        // Targets that differ only in what this type does not depend on share its footprint.
+        const key0 = c.model.targetKey(c.target);
+        fp.byTarget = req.extraTargets.map((t) =>
+          c.model.targetKey(t) === key0
+            ? fp
+            : footprintFor(c, t, res.floor, distance, res.stats.antennaAltM, res.horizon.layout.maxRangeM),
+        );
+      }
+      footprints.push(fp);
     }
     done++;
     opts.onProgress?.(done / groups.length, `${site.name}: done`);

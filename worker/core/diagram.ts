@@ -17,10 +17,11 @@
  */
 import { InputError } from '../../shared/errors.ts';
 import { DEG_TO_RAD, flToMetres, formatFl, RAD_TO_DEG } from '../../shared/units.ts';
+import { STANDARD_DAY, trueAltitudeM, type Day } from './altimetry.ts';
 import { RadialFan } from './geodesy.ts';
 import { FLOOR_CAP_M, planHorizon, radialScreening, type TerrainRaster } from './horizon.ts';
-import { sensorBand } from './footprint.ts';
-import type { SensorModel } from './sensor.ts';
+import { sensorBand, TOP_M } from './footprint.ts';
+import { describeTarget, type SensorModel, type Target } from './sensor.ts';
 
 /** The engine's marker for "nothing screens yet" (next to the antenna). */
 const NOTHING = -1e9;
@@ -39,6 +40,8 @@ export interface DiagramSite {
   lat: number;
   /** Antenna height above ground, metres. */
   mastM: number;
+  /** Antenna tilt, degrees (default 0). */
+  tiltDeg?: number;
 }
 
 export interface DiagramOptions {
@@ -48,11 +51,15 @@ export interface DiagramOptions {
   kFactor?: number;
   /** Farthest ground range drawn, metres (default: the sensor's instrumented range). */
   maxRangeM?: number;
-  /** Target radar cross-section, m². */
-  rcsM2: number;
+  /** The study's target. */
+  target: Target;
+  /** The day: flight levels are drawn at their true altitudes (default the ISA standard day). */
+  day?: Day;
+  /** Gaseous attenuation (default true). */
+  atmosphere?: boolean;
   /** Detection in rain (the sensor's weather range), default false. */
   weather?: boolean;
-  /** Flight levels to mark (whole numbers, ISA altitude FL × 100 ft). */
+  /** Flight levels to mark (whole numbers; pressure altitudes, drawn at their true altitude on the day). */
   flightLevels: number[];
   /** Earth radius R, metres (default 6 371 000). */
   earthRadiusM?: number;
@@ -112,6 +119,7 @@ export interface DiagramData {
   };
   /** Edge of the cone of silence: ground range (m) at which each altitude reaches the maximum elevation. */
   readonly cone: {
+    /** Where the cone of silence begins: the type's maximum elevation plus tilt, or where the usable gain ends. */
     readonly maxElevationDeg: number;
     readonly altitudesM: Float64Array;
     readonly rangesM: Float64Array;
@@ -121,10 +129,19 @@ export interface DiagramData {
     readonly id: string;
     readonly kind: 'primary' | 'secondary';
     readonly rcsM2: number;
+    /** The target in one line (RCS, fluctuation, transponder class). */
+    readonly target: string;
+    /** The type's specification convention in one line. */
+    readonly convention: string;
+    readonly tiltDeg: number;
     readonly weather: boolean;
     readonly instrumentedRangeM: number;
     readonly minRangeM: number;
   };
+  /** Highest altitude the envelope search reaches (m): a flat envelope top here is this limit, not the sensor's. */
+  readonly searchTopM: number;
+  /** The day the flight levels are drawn for. */
+  readonly day: Day;
 }
 
 /**
@@ -147,8 +164,12 @@ export function diagramData(
   if (!Number.isFinite(opts.azimuthDeg)) {
     throw new InputError('azimuthDeg', String(opts.azimuthDeg), 'an azimuth in degrees clockwise from north');
   }
-  if (!(opts.rcsM2 > 0) || !Number.isFinite(opts.rcsM2)) {
-    throw new InputError('rcsM2', String(opts.rcsM2), 'a positive target radar cross-section in m²');
+  if (!(opts.target?.rcsM2 > 0) || !Number.isFinite(opts.target.rcsM2)) {
+    throw new InputError(
+      'target.rcsM2',
+      String(opts.target?.rcsM2),
+      'a positive target radar cross-section in m²',
+    );
   }
   if (!Array.isArray(opts.flightLevels)) {
     throw new InputError(
@@ -173,6 +194,7 @@ export function diagramData(
     earthRadiusM: opts.earthRadiusM,
   });
   const azimuthDeg = ((opts.azimuthDeg % 360) + 360) % 360;
+  const day = opts.day ?? STANDARD_DAY;
   const re = layout.reM;
   const ha = layout.antennaAltM;
   const rha = re + ha;
@@ -227,11 +249,17 @@ export function diagramData(
   const stepM = stride * ds;
   const envStepM = Math.max(stepM, maxRangeM / MAX_ENVELOPE_ROWS);
   const weather = opts.weather ?? false;
-  const band = sensorBand(model, {
+  const tiltDeg = site.tiltDeg ?? 0;
+  const profile = model.profile({
+    target: opts.target,
+    antennaAltM: ha,
+    tiltDeg,
+    weather,
+    atmosphere: opts.atmosphere,
+  });
+  const band = sensorBand(profile, {
     antennaAltM: ha,
     reM: re,
-    rcsM2: opts.rcsM2,
-    weather,
     maxRangeM,
     stepM: envStepM,
     bottomM: lowestM,
@@ -240,7 +268,7 @@ export function diagramData(
   const envRanges = new Float64Array(rows);
   for (let i = 0; i < rows; i++) envRanges[i] = i * envStepM;
 
-  const eMax = model.maxElevationRad;
+  const eMax = profile.coneOfSilenceRad;
   const coneAlt = new Float64Array(CONE_POINTS);
   const coneRange = new Float64Array(CONE_POINTS);
   for (let i = 0; i < CONE_POINTS; i++) {
@@ -275,13 +303,18 @@ export function diagramData(
     },
     cone: { maxElevationDeg: eMax * RAD_TO_DEG, altitudesM: coneAlt, rangesM: coneRange },
     flightLevels: flightLevels.map((fl) => {
-      const altitudeM = flToMetres(fl);
+      const altitudeM = levelAltitudeM(fl, day);
       return { fl, label: formatFl(fl), altitudeM, coneEdgeM: rayGroundRangeM(altitudeM, ha, re, eMax) };
     }),
+    searchTopM: TOP_M,
+    day,
     sensor: {
       id: model.spec.id,
       kind: model.kind,
-      rcsM2: opts.rcsM2,
+      rcsM2: opts.target.rcsM2,
+      target: describeTarget(opts.target),
+      convention: model.convention,
+      tiltDeg,
       weather,
       instrumentedRangeM: model.instrumentedRangeM,
       minRangeM: model.minRangeM,
@@ -302,4 +335,12 @@ function runs(rangesM: Float64Array, inside: (i: number) => boolean): RangeRun[]
     }
   }
   return out;
+}
+
+/** True altitude of a flight level on the day (the standard day exactly: FL × 30.48 m). */
+function levelAltitudeM(fl: number, day: Day): number {
+  const p = flToMetres(fl);
+  return day.qnhHpa === STANDARD_DAY.qnhHpa && day.isaDeviationC === STANDARD_DAY.isaDeviationC
+    ? p
+    : trueAltitudeM(p, day);
 }

@@ -13,11 +13,11 @@
  * Intervals are stored as whole metres in Uint16 (lo rounded up, hi rounded down; 65 535 = none) to keep a
  * scenario's hundreds of footprints small; an empty cell has lo > hi.
  */
-import type { SensorModel } from './sensor.ts';
+import type { DetectionProfile, SensorModel } from './sensor.ts';
 
 export const NO_COVER_LO = 65_535;
 /** Highest altitude searched: above FL600 with room to spare. */
-const TOP_M = 25_000;
+export const TOP_M = 25_000;
 const COARSE_DH_M = 100;
 
 export interface SensorBand {
@@ -47,43 +47,47 @@ export function slantGeometry(
 
 const geom = { rangeM: 0, elevationRad: 0 };
 
+/**
+ * Over-sea lobing for `sensorDetects`: a factor F (0…1) on the detection range at a target altitude, from the
+ * two-ray model (multipath.ts). Applied where the caller knows the reflection point lies over sea.
+ */
+export type LobingFactor = (groundRangeM: number, altitudeM: number) => number;
+
 /** Whether the sensor's own limits (not terrain) let it detect a target at (s, h). */
 export function sensorDetects(
-  model: SensorModel,
+  profile: DetectionProfile,
   s: number,
   h: number,
   ha: number,
   re: number,
-  rcsM2: number,
-  weather: boolean,
+  lobing?: LobingFactor,
 ): boolean {
   slantGeometry(s, h, ha, re, geom);
   const r = geom.rangeM;
-  if (geom.elevationRad > model.maxElevationRad) return false;
-  if (r < model.minRangeM) return false;
-  return r <= model.detectionRangeM(geom.elevationRad, rcsM2, weather);
+  if (r < profile.minRangeM) return false;
+  const limit = profile.rangeM(geom.elevationRad);
+  if (r > limit) return false;
+  return lobing === undefined || r <= limit * lobing(s, h);
 }
 
 export interface BandRequest {
   antennaAltM: number;
   reM: number;
-  rcsM2: number;
-  weather: boolean;
   maxRangeM: number;
   /** Ground-distance step of the table (default 500 m). */
   stepM?: number;
   /** Lowest altitude considered (the lowest ground the footprint covers; default 0). */
   bottomM?: number;
+  lobing?: LobingFactor;
 }
 
-export function sensorBand(model: SensorModel, req: BandRequest): SensorBand {
+export function sensorBand(profile: DetectionProfile, req: BandRequest): SensorBand {
   const stepM = req.stepM ?? 500;
   const n = Math.ceil(req.maxRangeM / stepM) + 2;
   const lo = new Float64Array(n).fill(NaN);
   const hi = new Float64Array(n).fill(NaN);
   const bottom = req.bottomM ?? 0;
-  const det = (s: number, h: number) =>
-    sensorDetects(model, s, h, req.antennaAltM, req.reM, req.rcsM2, req.weather);
+  const det = (s: number, h: number) => sensorDetects(profile, s, h, req.antennaAltM, req.reM, req.lobing);
   /** Bisection of an edge known to lie in (a, b]: `a` on the `aDetected` side. */
   const edge = (s: number, a: number, b: number, aDetected: boolean): number => {
     for (let k = 0; k < 12; k++) {
@@ -148,6 +152,8 @@ export interface Footprint {
   /** Per analysis cell, whole metres AMSL: detected iff lo ≤ h ≤ hi. */
   readonly lo: Uint16Array;
   readonly hi: Uint16Array;
+  /** The same sensor's footprints for the study's other targets (volumes with their own target), in order. */
+  byTarget?: Footprint[];
 }
 
 /**

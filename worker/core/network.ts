@@ -5,6 +5,10 @@
  *
  * Switching a site on or off updates the counts incrementally from the cached footprints: only that site's
  * sensors are read (a map what-if).
+ *
+ * Several targets: when the study has volumes with their own target, each footprint carries the same sensor's
+ * footprints for those targets (`Footprint.byTarget`); the network then keeps folds per target as extra levels
+ * (target t, level f at t·levels + f) and `foldOf(kind, f, t)` reads them. Sites, switches and the floor are shared.
  */
 import { InputError } from '../../shared/errors.ts';
 import type { Footprint } from './footprint.ts';
@@ -15,8 +19,10 @@ export type FoldKind = (typeof KINDS)[number];
 type Bits = Uint8Array | Uint16Array | Uint32Array;
 
 export class Network {
-  /** fold[kindIndex * flCount + flIndex][cell] = distinct sites covering the cell at that level (exact to 65 535). */
+  /** fold[kindIndex·L + target·flCount + flIndex][cell] (L = targets·flCount) = distinct sites (exact to 65 535). */
   readonly fold: Uint16Array[];
+  /** Targets the folds are kept for (1 + the length of each footprint's byTarget). */
+  readonly targetCount: number;
   readonly active: boolean[];
   private readonly bySite = new Map<string, number[]>();
   /** Per footprint, per cell: bit f set iff the sensor covers the cell at altitudesM[f]. */
@@ -30,6 +36,11 @@ export class Network {
     readonly altitudesM: readonly number[],
     readonly footprints: readonly Footprint[],
     active?: readonly boolean[],
+    /**
+     * Per target t ≥ 1 (index t − 1), a bit mask of the levels its folds are needed at (the bands of the volumes
+     * that study it); default every level. Bits outside stay zero, which saves the work of unused levels.
+     */
+    targetLevels?: readonly number[],
   ) {
     if (new Set(footprints.map((f) => f.siteId)).size > 65_535) {
       throw new InputError(
@@ -38,25 +49,36 @@ export class Network {
         'at most 65 535 sites in one network',
       );
     }
-    if (altitudesM.length > 32) {
+    const nT = 1 + (footprints[0]?.byTarget?.length ?? 0);
+    if (footprints.some((f) => 1 + (f.byTarget?.length ?? 0) !== nT)) {
+      throw new Error('Network: every footprint must carry the same targets');
+    }
+    const levels = nT * altitudesM.length;
+    if (levels > 32) {
       throw new InputError(
         'flightLevels',
-        `${altitudesM.length} levels`,
-        'at most 32 flight levels in one network',
+        `${altitudesM.length} levels${nT > 1 ? ` × ${nT} targets (the scenario's and the volumes' own)` : ''}`,
+        'at most 32 flight levels (times targets) in one network',
       );
     }
+    this.targetCount = nT;
     const make = (): Bits =>
-      altitudesM.length <= 8
-        ? new Uint8Array(cells)
-        : altitudesM.length <= 16
-          ? new Uint16Array(cells)
-          : new Uint32Array(cells);
-    this.fold = Array.from({ length: KINDS.length * altitudesM.length }, () => new Uint16Array(cells));
+      levels <= 8 ? new Uint8Array(cells) : levels <= 16 ? new Uint16Array(cells) : new Uint32Array(cells);
+    this.fold = Array.from({ length: KINDS.length * levels }, () => new Uint16Array(cells));
     this.active = footprints.map((_, i) => active?.[i] ?? true);
     this.anyAt = [];
     this.bits = footprints.map((fp) => {
       const b = make();
-      this.anyAt.push(levelBits(fp, altitudesM, b));
+      let seen = levelBits(fp, altitudesM, b, 0, -1);
+      fp.byTarget?.forEach((other, t) => {
+        const all = altitudesM.length >= 32 ? -1 : (1 << altitudesM.length) - 1;
+        const mask = (targetLevels?.[t] ?? -1) & all;
+        const shift = (t + 1) * altitudesM.length;
+        if (mask === 0) return;
+        // A target this sensor does not tell apart shares its footprint: its bits are the base bits, shifted.
+        seen |= other === fp ? shiftBits(b, shift, mask) : levelBits(other, altitudesM, b, shift, mask);
+      });
+      this.anyAt.push(seen);
       return b;
     });
     footprints.forEach((f, i) => {
@@ -71,8 +93,10 @@ export class Network {
     return this.altitudesM.length;
   }
 
-  foldOf(kind: FoldKind, flIndex: number): Uint16Array {
-    return this.fold[KINDS.indexOf(kind) * this.altitudesM.length + flIndex];
+  /** Folds of a kind at level index f, for target t (0 = the study's target; t ≥ 1 a volume's own). */
+  foldOf(kind: FoldKind, flIndex: number, target = 0): Uint16Array {
+    const n = this.altitudesM.length;
+    return this.fold[KINDS.indexOf(kind) * n * this.targetCount + target * n + flIndex];
   }
 
   siteIds(): string[] {
@@ -122,7 +146,7 @@ export class Network {
   private applySite(siteId: string, sign: 1 | -1): void {
     const list = (this.bySite.get(siteId) ?? []).filter((i) => this.active[i]);
     if (list.length === 0) return;
-    const nFl = this.altitudesM.length;
+    const nFl = this.altitudesM.length * this.targetCount;
     const cells = this.reach(siteId);
     for (let k = 0; k < KINDS.length; k++) {
       const kind = KINDS[k];
@@ -184,8 +208,17 @@ export class Network {
   }
 }
 
-/** Fills `out` with the level bits of one footprint; returns the bits of levels covered anywhere. */
-function levelBits(fp: Footprint, altitudesM: readonly number[], out: Bits): number {
+/**
+ * ORs the level bits of one footprint into `out`, level f at bit f + shift, for the levels in `mask` (bit f);
+ * returns the bits set anywhere.
+ */
+function levelBits(
+  fp: Footprint,
+  altitudesM: readonly number[],
+  out: Bits,
+  shift: number,
+  mask: number,
+): number {
   const lo = fp.lo;
   const hi = fp.hi;
   const n = altitudesM.length;
@@ -197,9 +230,21 @@ function levelBits(fp: Footprint, altitudesM: readonly number[], out: Bits): num
     let b = 0;
     for (let f = 0; f < n; f++) {
       const a = altitudesM[f];
-      if (l <= a && a <= h) b |= 1 << f;
+      if (l <= a && a <= h && (mask >>> f) & 1) b |= 1 << (f + shift);
     }
-    out[c] = b;
+    out[c] |= b;
+    seen |= b;
+  }
+  return seen;
+}
+
+/** ORs each cell's base bits (those in `mask`) shifted by `shift` into the same cell; returns the bits set. */
+function shiftBits(out: Bits, shift: number, mask: number): number {
+  let seen = 0;
+  for (let c = 0; c < out.length; c++) {
+    const b = (out[c] & mask) << shift;
+    if (b === 0) continue;
+    out[c] |= b;
     seen |= b;
   }
   return seen;

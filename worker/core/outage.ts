@@ -31,14 +31,17 @@ export function servedMasks(
   volumes: readonly VolumeLike[],
   masks: readonly Uint8Array[],
   flightLevels: readonly number[],
+  /** Per volume, the index of its target in the network (default 0: the study's target). */
+  volumeTargets?: readonly number[],
 ): Map<string, Uint8Array> {
   const out = new Map<string, Uint8Array>();
   volumes.forEach((v, vi) => {
+    const t = volumeTargets?.[vi] ?? 0;
     flightLevels.forEach((fl, f) => {
       if (fl < v.flMin || fl > v.flMax) return;
-      const any = network.foldOf('any', f);
-      const pri = network.foldOf('primary', f);
-      const sec = network.foldOf('secondary', f);
+      const any = network.foldOf('any', f, t);
+      const pri = network.foldOf('primary', f, t);
+      const sec = network.foldOf('secondary', f, t);
       const vm = masks[vi];
       const m = new Uint8Array(vm.length);
       for (let i = 0; i < vm.length; i++)
@@ -106,8 +109,9 @@ export function outageTable(
   grid: GridGeo,
   siteIds?: readonly string[],
   onLoss?: (siteId: string, lost: Map<string, Uint8Array>) => void,
+  volumeTargets?: readonly number[],
 ): SiteLoss[] {
-  const base = servedMasks(network, volumes, masks, flightLevels);
+  const base = servedMasks(network, volumes, masks, flightLevels, volumeTargets);
   const rowArea = rowAreasKm2(grid);
   const W = grid.width;
   const ids = siteIds ?? network.siteIds().filter((id) => network.isSiteActive(id));
@@ -126,9 +130,10 @@ export function outageTable(
     const byVolume: LevelLoss[] = [];
     let weight = 0;
     for (const k of keys) {
-      const any = network.foldOf('any', k.f);
-      const pri = network.foldOf('primary', k.f);
-      const sec = network.foldOf('secondary', k.f);
+      const t = volumeTargets?.[k.vi] ?? 0;
+      const any = network.foldOf('any', k.f, t);
+      const pri = network.foldOf('primary', k.f, t);
+      const sec = network.foldOf('secondary', k.f, t);
       const was = base.get(k.key)!;
       // meets() inlined: the same rule, with the volume's numbers pulled out of the loop.
       const rAny = Math.max(1, k.v.requiredFold.any ?? 0);

@@ -1,48 +1,70 @@
 /**
- * Sensor models: from a catalog entry (a sensor type) to the detection range at each elevation angle.
+ * Sensor models: from a catalog entry (a sensor type), the study's target and a site, to the detection range at
+ * each elevation angle.
  *
- * Detection range at the peak of the elevation pattern, for a target of radar cross-section σ:
- * - Reference form `{ referenceRangeNm, referenceRcsM2 }`. Primary: R(σ) = Rref·(σ/σref)^¼ (the radar equation's
- *   fourth-root law). Secondary: R = Rref whatever σ (a one-way link budget: the reply does not come from an echo).
- * - Physical form (primary only): the monostatic radar equation with one antenna for transmit and receive,
- *     R⁴ = Pt·G²·λ²·σ / ((4π)³·Smin),   Smin = k·T0·B·F · SNRreq · L,   B ≈ 1/τ, T0 = 290 K,
- *   with SNRreq from Albersheim's equation for the type's Pd, Pfa and number of pulses integrated
- *   non-coherently, F the noise figure and L the system losses. τ is the transmitted pulse length (with pulse
- *   compression, the long pulse: the SNR depends on the pulse energy Pt·τ). The gain is given in dBi, or from an
- *   aperture and efficiency, G = 4π·η·A/λ², so that a type whose frequency is changed keeps its antenna size and
- *   its gain follows the frequency.
+ * Who owns what (DESIGN §4). The *target* belongs to the study: its RCS σ, its fluctuation (Swerling case) and its
+ * transponder class come from the scenario (or a volume). A *sensor type* says only how it performs: its
+ * specification point or its physical parameters, its Pd and Pfa, its antenna pattern, its limits. "Seen" means:
+ * detected with the type's Pd at the type's Pfa (primary), or both SSR links closed (secondary), for the study's
+ * target, inside the instrumented range and below the cone of silence.
  *
- * Elevation pattern g(ε): the normalised one-way power gain (1 at the peak). Both kinds scale range by √g(ε)
- * (a primary's two-way gain g² under the fourth root; a secondary's one-way gain under the square root).
+ * Primary, free-space range at the pattern peak, R0:
+ * - Physical form: the monostatic radar equation with one antenna for transmit and receive,
+ *     R0⁴ = Pt·G²·λ²·σ / ((4π)³·k·T0·B·F·L·SNRreq),   B ≈ 1/τ, T0 = 290 K,
+ *   with SNRreq the per-pulse SNR for (Pd, Pfa, n pulses integrated non-coherently, the target's Swerling case)
+ *   from detection.ts (exact Swerling/Marcum detection laws; Shnidman's equation as a cross-check).
+ * - Specification-point form `{ referenceRangeNm, referenceRcsM2, referencePd, referencePfa, referenceFluctuation,
+ *   referenceElevationDeg, hitsIntegrated }`: the type detects σref with Pd at Pfa for that fluctuation at that
+ *   range, at that elevation, in the standard atmosphere. Converted to the study's target with the fourth-root law
+ *   and the difference of required SNRs: R0 = Rfs·(σ/σref)^¼·10^((SNRref − SNRtarget)/40) / √g(εref), where
+ *   Rfs = Rref·10^(2·Aatm(εref, Rref)/40) removes the two-way gaseous loss of the spec point's own path (taken from
+ *   an antenna at sea level). Defaults when a field is absent (files written before these fields keep their
+ *   meaning): Pd 0.8, Pfa 1e−6, Swerling 1, one pulse, εref = the pattern peak.
+ * Secondary (SSR), one-way links (Friis transmission equation), each at its peak range R0 = λ/(4π)·10^(M/20), M
+ * the link's budget in dB before path loss:
+ *   uplink   (1030 MHz) M = Pint + Gant − Lcable + Gac − Lac − MTL
+ *   downlink (1090 MHz) M = Preply + Gac − Lac + Gant − Lcable − Sens
+ *   the transponder (Gac, Lac, MTL, Preply) from the study's transponder class (TRANSPONDER_CLASSES);
+ * or a reference range `{ referenceRangeNm, referenceElevationDeg }` (the range with its own transponder, in the
+ * standard atmosphere; the study's transponder class then does not apply — the outputs say so).
+ *
+ * Range at elevation ε, antenna at altitude ha, tilt t (degrees, the site's):
+ *   R(ε) = min(instrumented range, R0·√g(ε − t)·Katm(ε, R)),   0 above the cone of silence,
+ * g the normalised one-way power pattern (a primary's two-way g² under the fourth root, a link's one-way g under
+ * the square root: both √g), Katm = 10^(−2A/40) for a primary (two-way loss), 10^(−A/20) for each SSR link (A the
+ * one-way gaseous loss along the path, atmosphere.ts, ITU-R P.676), solved for R by fixed-point iteration (A grows
+ * slowly with R). In weather mode a primary's R0 is multiplied by 10^(−Lw/40) (its two-way weather loss Lw).
+ * The cone of silence begins at the lower of the type's maximum elevation (antenna coordinates, raised by the
+ * tilt) and the first elevation above the beam peak where the range falls below the minimum range: where the
+ * pattern's usable gain ends.
+ *
+ * Elevation pattern g(ε) (antenna coordinates; a site's tilt shifts it up by t):
  * - `cosec2 { startDeg, endDeg, beamwidthDeg? }`: the peak is at startDeg.
  *     below startDeg      g = 10^(−1.2·((startDeg − ε)/θ3)²)  (the usual Gaussian main-beam approximation: −3 dB at
  *                         half the half-power beamwidth θ3 from the peak). θ3 = beamwidthDeg, default
  *                         2·startDeg, which puts the beam's lower half-power point on the horizon (common practice
- *                         for tilting a surveillance beam); at most 1 at the peak, falling without floor below.
+ *                         for tilting a surveillance beam).
  *     startDeg … endDeg   g = sin²(startDeg)/sin²(ε): R·sin ε is constant, a constant-altitude envelope on a flat
  *                         earth.
  *     above endDeg        g = g(endDeg)·10^(−0.3·((ε − endDeg)/1°)²): a steep shoulder, −3 dB 1° past endDeg,
  *                         −12 dB at 2°, −27 dB at 3°.
  * - `table { deg, gainDb }`: degrees → dB, normalised so that the largest value is 0 dB, linearly interpolated in
  *   dB; below the first and above the last angle the end values hold.
- * `patternGain` is the pattern itself (exact, not tabulated); the cone of silence above maxElevationDeg is applied
- * by `detectionRangeM`, which returns 0 there.
  *
- * Hot path: `detectionRangeM` is called per cell and altitude. It reads √g from a table over elevation at
- * PATTERN_TABLE_STEP_DEG = 0.01° from −90° to just past the maximum elevation (at most 18 000 doubles), linearly
- * interpolated, with a node exactly at the pattern's peak (the corner where a cosec² pattern's slope jumps most).
- * Error of the interpolated √g against the exact pattern (h = the step in radians): on the cosec² curve about
- * h²/(4ε²) relative (< 1e−5 beyond 2°); at a corner between nodes at most Δ·h/4, Δ the jump of d ln√g/dε —
- * cosec² end: cot(endDeg)·h/4 (< 1e−4 for endDeg ≥ 25°); a table node whose dB slope changes by S dB/° and that is not a whole
- * number of steps from the peak: S × 0.029 % (table nodes on the 0.01° lattice from the peak cost nothing); most
- * in the steep Gaussian flank of a narrow beam (4.4e−4 for a 1° beam where g ≈ 1e−6). Measured over the catalog
- * and the test patterns wherever g > 1e−6: below 5e−4 (test/sensor.test.ts checks < 0.2 %). The peak range for σ
- * is cached (recomputed only when σ changes); nothing is allocated per call (about 10 ns a call on the
- * development machine). `detectionRangeM` does not apply the minimum range: callers compare the slant range
- * with `minRangeM`. ε must lie in [−π/2, π/2]; NaN gives NaN.
+ * Hot path: a `DetectionProfile` (one per site, type, target and mode) holds R(ε) tabulated every
+ * PATTERN_TABLE_STEP_DEG = 0.01° from −90° to just past the cone of silence, with a node at the tilted peak,
+ * linearly interpolated; `rangeM(ε)` allocates nothing (about 10 ns a call). Interpolation error of the table
+ * against the exact pattern: on the cosec² curve about h²/(4ε²) relative (< 1e−5 beyond 2°); at a corner between
+ * nodes at most Δ·h/4 (Δ the jump of d ln√g/dε); measured over the catalog wherever g > 1e−6: below 5e−4
+ * (test/sensor.test.ts checks < 0.2 %). `rangeM` does not apply the minimum range: callers compare the slant
+ * range with `minRangeM`.
  */
 import { InputError } from '../../shared/errors.ts';
 import { DEG_TO_RAD, nmToM } from '../../shared/units.ts';
+import { PathLossTable } from './atmosphere.ts';
+import { DETECTION_LIMITS, FLUCTUATIONS, requiredSnrDb, type Fluctuation } from './detection.ts';
+
+export type { Fluctuation } from './detection.ts';
 
 /** Speed of light in vacuum, m/s (exact, SI). */
 export const SPEED_OF_LIGHT_M_S = 299_792_458;
@@ -52,15 +74,87 @@ export const BOLTZMANN_J_PER_K = 1.380649e-23;
 export const T0_K = 290;
 /** Minimum range when the catalog gives none: 0.5 NM (common practice). */
 export const DEFAULT_MIN_RANGE_NM = 0.5;
-/** Target RCS when neither the type nor the caller gives one: 2 m², a mid-size aircraft (common practice). */
-export const DEFAULT_TARGET_RCS_M2 = 2;
-/** Resolution of the elevation lookup table behind `detectionRangeM`. */
+/** Resolution of the elevation lookup table behind `DetectionProfile.rangeM`. */
 export const PATTERN_TABLE_STEP_DEG = 0.01;
 /** The range of Albersheim's approximation as published (Proc. IEEE 69(7), 1981). */
 export const ALBERSHEIM_LIMITS = { pdMin: 0.1, pdMax: 0.9, pfaMin: 1e-7, pfaMax: 1e-3, nMin: 1, nMax: 8096 };
+/** SSR reply frequency, MHz (ICAO Annex 10 Vol. IV [pub]); the interrogation is the type's frequencyMHz (1030). */
+export const SSR_REPLY_MHZ = 1090;
+/**
+ * Specification-point defaults for fields a type leaves out: Pd 0.8 at Pfa 1e−6 against a Swerling 1 target with
+ * one pulse — the way surveillance radar specifications are usually quoted (common practice; 0.8 and 1e−6 from
+ * memory of published radar specifications), and one pulse is the conservative choice for converting between
+ * fluctuation cases (the Swerling 1 to 0 difference is largest for n = 1).
+ */
+export const SPEC_POINT_DEFAULTS = { pd: 0.8, pfa: 1e-6, fluctuation: 'swerling1' as Fluctuation, hits: 1 };
 
 /** Above a cosec² pattern's end angle: −3 dB at this many degrees past endDeg, then Gaussian. */
 const UPPER_SHOULDER_HALF_POWER_DEG = 1;
+
+// ---------------------------------------------------------------------------------------------------------------
+// The target
+
+export type TransponderClass = 'high-power' | 'low-power';
+export const TRANSPONDER_CLASS_IDS: readonly TransponderClass[] = ['high-power', 'low-power'];
+
+export interface Transponder {
+  label: string;
+  /** Reply (peak) power at the transponder's antenna end, W: the class's minimum. */
+  replyPowerW: number;
+  /** Minimum triggering level at the antenna end, dBm: the least sensitive value allowed. */
+  minTriggerDbm: number;
+  /** Aircraft antenna gain toward the ground station (dBi) and the installation loss (dB). */
+  antennaGainDbi: number;
+  installationLossDb: number;
+}
+
+/**
+ * Transponder classes (ICAO Annex 10 Vol. IV, from memory — the values below are the planning-side ends of the
+ * ranges it allows, so that a link closed here closes with any compliant transponder of the class):
+ * - reply power: at least 21 dBW (125 W) for aircraft operating above 15 000 ft or faster than 175 kt, at least
+ *   18.5 dBW (70 W) otherwise; the class's minimum is used.
+ * - minimum triggering level: −74 dBm ± 3 dB; the least sensitive end, −71 dBm, is used.
+ * - aircraft antenna: a quarter-wave blade, 0 dBi toward the ground station, 3 dB cable and installation loss
+ *   (common practice, from memory); the lobing of the airframe is not modelled.
+ */
+export const TRANSPONDER_CLASSES: Readonly<Record<TransponderClass, Transponder>> = {
+  'high-power': {
+    label: 'transponder ≥ 125 W (aircraft above 15 000 ft or faster than 175 kt)',
+    replyPowerW: 125,
+    minTriggerDbm: -71,
+    antennaGainDbi: 0,
+    installationLossDb: 3,
+  },
+  'low-power': {
+    label: 'transponder ≥ 70 W (aircraft below 15 000 ft and at most 175 kt)',
+    replyPowerW: 70,
+    minTriggerDbm: -71,
+    antennaGainDbi: 0,
+    installationLossDb: 3,
+  },
+};
+
+/** The aircraft a study is about (the scenario's, or a volume's own). */
+export interface Target {
+  rcsM2: number;
+  fluctuation: Fluctuation;
+  transponder: TransponderClass;
+}
+
+/**
+ * Default target: 2 m² (a small-to-medium aircraft seen broadside-averaged, common practice), Swerling 1
+ * (scan-to-scan fluctuation, common practice for aircraft), the low-power transponder class (the conservative
+ * one).
+ */
+export const DEFAULT_TARGET: Target = { rcsM2: 2, fluctuation: 'swerling1', transponder: 'low-power' };
+
+/** One line naming the target, for outputs. */
+export function describeTarget(t: Target): string {
+  return `${t.rcsM2} m² ${t.fluctuation.replace('swerling', 'Swerling ')}, ${TRANSPONDER_CLASSES[t.transponder].label}`;
+}
+
+// ---------------------------------------------------------------------------------------------------------------
+// Specs
 
 export type ElevationPatternSpec =
   | {
@@ -72,10 +166,19 @@ export type ElevationPatternSpec =
     }
   | { type: 'table'; deg: number[]; gainDb: number[] };
 
+/** A specification point: the type sees the reference target at this range (see the module comment). */
 export interface ReferenceDetectionSpec {
   referenceRangeNm: number;
   /** RCS at which the reference range holds; required for a primary, meaningless for a secondary. */
   referenceRcsM2?: number;
+  /** Primary: the Pd, Pfa and fluctuation the range is quoted for (defaults SPEC_POINT_DEFAULTS). */
+  referencePd?: number;
+  referencePfa?: number;
+  referenceFluctuation?: Fluctuation;
+  /** Elevation (degrees, antenna coordinates) the range applies to; default the pattern's peak. */
+  referenceElevationDeg?: number;
+  /** Primary: pulses integrated non-coherently (default 1). */
+  hitsIntegrated?: number;
 }
 
 export interface RadarDetectionSpec {
@@ -95,6 +198,18 @@ export interface RadarDetectionSpec {
   hitsIntegrated?: number;
 }
 
+/** An SSR's own half of the two link budgets (the transponder's half is the study's transponder class). */
+export interface SecondaryLinkSpec {
+  /** Interrogator peak power at the transmitter output, W. */
+  interrogatorPowerW: number;
+  /** Antenna gain at the elevation pattern's peak, dBi (sum beam). */
+  antennaGainDbi: number;
+  /** Cable and rotary-joint loss between the antenna and the interrogator/receiver, dB (each way). */
+  cableLossDb: number;
+  /** Receiver sensitivity (minimum reply level decoded) at the receiver input, dBm. */
+  receiverSensitivityDbm: number;
+}
+
 export interface SensorTypeSpec {
   id: string;
   name: string;
@@ -108,27 +223,57 @@ export interface SensorTypeSpec {
   /** Two-way loss in weather mode (primary only), dB; default 0. */
   weatherLossDb?: number;
   elevationPattern: ElevationPatternSpec;
-  detection: ReferenceDetectionSpec | RadarDetectionSpec;
-  /** Default target RCS for this type's coverage (primary only), m². */
+  detection: ReferenceDetectionSpec | RadarDetectionSpec | SecondaryLinkSpec;
+  /** Leftover of earlier files: ignored with a warning (the study's target governs). */
   targetRcsM2?: number;
+}
+
+/** What a profile is built for. */
+export interface ProfileRequest {
+  target: Target;
+  /** Antenna altitude AMSL, m (the gaseous loss depends on it). */
+  antennaAltM: number;
+  /** The site's antenna tilt, degrees (default 0). */
+  tiltDeg?: number;
+  weather?: boolean;
+  /** Gaseous attenuation on (default true; tests of other effects switch it off). */
+  atmosphere?: boolean;
+}
+
+/** The detection range of one type on one site for one target, per elevation (see the module comment). */
+export interface DetectionProfile {
+  readonly minRangeM: number;
+  readonly instrumentedRangeM: number;
+  /** Elevation (rad) above which nothing is detected: the cone of silence. */
+  readonly coneOfSilenceRad: number;
+  /** Free-space range at the (tilted) pattern peak, m, before the instrumented range and the atmosphere. */
+  readonly peakRangeM: number;
+  /** Secondary: which link sets the peak range. */
+  readonly limitingLink?: 'uplink' | 'downlink';
+  /** min(instrumented range, range with atmosphere) at ε (rad); 0 above the cone of silence; NaN gives NaN. */
+  rangeM(elevationRad: number): number;
 }
 
 export interface SensorModel {
   readonly spec: SensorTypeSpec;
   readonly kind: 'primary' | 'secondary';
+  /** The type's maximum elevation in antenna coordinates (a site's tilt raises it). */
   readonly maxElevationRad: number;
   readonly instrumentedRangeM: number;
   readonly minRangeM: number;
-  /** Default target RCS: the type's targetRcsM2, else its referenceRcsM2, else DEFAULT_TARGET_RCS_M2. */
-  readonly targetRcsM2: number;
   /** Range factor in weather mode: 10^(−L/40) for a primary, 1 for a secondary. */
   readonly weatherFactor: number;
-  /** Free-space detection range (m) at the pattern peak for RCS σ (primary; secondary ignores σ); weather = weather mode. */
-  peakRangeM(rcsM2: number, weather?: boolean): number;
+  /** Problems that did not stop the model (a leftover field): one line each, naming the field. */
+  readonly warnings: readonly string[];
+  /** The specification convention in one line, for outputs ("1 m² Swerling 1, Pd 0.8, Pfa 1e-6 at 60 NM, 3.6°"). */
+  readonly convention: string;
+  /** Free-space range (m) at the pattern peak for the target (no atmosphere, no instrumented range). */
+  peakRangeM(target: Target, weather?: boolean): number;
   /** Normalised one-way power gain g(ε) of the elevation pattern, 0…1 (1 at its peak); ε in radians. */
-  patternGain(elevationRad: number): number;
-  /** min(instrumented range, peakRange · √g(ε)); 0 above the maximum elevation (cone of silence). */
-  detectionRangeM(elevationRad: number, rcsM2: number, weather?: boolean): number;
+  patternGain(elevationRad: number, tiltRad?: number): number;
+  profile(req: ProfileRequest): DetectionProfile;
+  /** The part of a target this type's range depends on: two targets with one key give one footprint. */
+  targetKey(target: Target): string;
 }
 
 // ---------------------------------------------------------------------------------------------------------------
@@ -409,36 +554,142 @@ function buildPattern(p: unknown, path: string): Pattern {
 // ---------------------------------------------------------------------------------------------------------------
 // Detection
 
-/** Peak range (m) at σ = 1 m² for a primary; the σ-independent range for a secondary. */
-function peakRangeAtUnitRcs(
-  spec: Record<string, unknown>,
+/** Free-space range (m) at which a one-way link with M dB of budget before path loss closes: FSPL = M (Friis). */
+export function linkRangeM(marginDb: number, frequencyMHz: number): number {
+  return (wavelengthM(frequencyMHz) / (4 * Math.PI)) * Math.pow(10, marginDb / 20);
+}
+
+/** Power in dBm of a power in W. */
+export function wattsToDbm(w: number): number {
+  return 10 * Math.log10(w) + 30;
+}
+
+const fluctuationText = `one of ${FLUCTUATIONS.map((f) => `"${f}"`).join(', ')}`;
+const D = DETECTION_LIMITS;
+const pdText = `a probability of detection from ${D.pdMin} to ${D.pdMax}`;
+const pfaText = `a false-alarm probability from ${D.pfaMin} to ${D.pfaMax}`;
+const hitsText = `a whole number of pulses integrated from ${D.nMin} to ${D.nMax}`;
+
+/**
+ * How a type's range is built, independent of the target: `unit` gives the free-space peak range for a target
+ * (primary) or per link (secondary).
+ */
+type RangeBasis =
+  | {
+      kind: 'primary';
+      /** Peak range for σ = 1 m² at SNR `snrBasisDb` (free space). */
+      unitRangeM: number;
+      snrBasisDb: number;
+      pd: number;
+      pfa: number;
+      hits: number;
+    }
+  | { kind: 'secondary-reference'; peakRangeM: number }
+  | {
+      kind: 'secondary-link';
+      /** Budget before path loss with the transponder's terms left out, dB, per link. */
+      upBaseDb: number;
+      downBaseDb: number;
+      upMHz: number;
+    };
+
+function checkFluctuation(v: unknown, path: string): Fluctuation {
+  if (!FLUCTUATIONS.includes(v as Fluctuation)) throw new InputError(path, show(v), fluctuationText);
+  return v as Fluctuation;
+}
+
+/** Gaseous loss tables, shared by types and sites: keyed by frequency, antenna altitude (100 m) and reach. */
+const LOSS_TABLES = new Map<string, PathLossTable>();
+const LOSS_ALT_STEP_M = 250;
+const LOSS_REACH_STEP_M = 100_000;
+
+export function pathLossTable(fMHz: number, antennaAltM: number, reachM: number): PathLossTable {
+  const alt = Math.max(0, Math.round(antennaAltM / LOSS_ALT_STEP_M) * LOSS_ALT_STEP_M);
+  const reach = Math.ceil(reachM / LOSS_REACH_STEP_M) * LOSS_REACH_STEP_M;
+  const key = `${fMHz}|${alt}|${reach}`;
+  let t = LOSS_TABLES.get(key);
+  if (!t) {
+    if (LOSS_TABLES.size > 256) LOSS_TABLES.clear();
+    t = new PathLossTable(fMHz, alt, reach);
+    LOSS_TABLES.set(key, t);
+  }
+  return t;
+}
+
+/** The free-space range Rfs whose range with the path's gaseous loss is `rangeM`: Rfs = R·10^(A(ε,R)·c). */
+function freeSpaceOf(
+  rangeM: number,
+  elevationRad: number,
+  table: PathLossTable,
+  dbToRangeExp: number,
+): number {
+  return rangeM * Math.pow(10, table.oneWayDb(elevationRad, rangeM) * dbToRangeExp);
+}
+
+function rangeBasis(
+  s: Record<string, unknown>,
   kind: 'primary' | 'secondary',
   frequencyMHz: number,
+  pattern: Pattern,
   path: string,
-): number {
-  const d = spec.detection;
+): { basis: RangeBasis; convention: string } {
+  const d = s.detection;
   const dPath = `${path}.detection`;
   if (!isObject(d)) {
     throw new InputError(
       dPath,
       show(d),
-      '{ referenceRangeNm, referenceRcsM2 } or physical radar parameters { peakPowerKw, … }',
+      kind === 'primary'
+        ? '{ referenceRangeNm, referenceRcsM2, … } or physical radar parameters { peakPowerKw, … }'
+        : '{ referenceRangeNm } or SSR link parameters { interrogatorPowerW, … }',
     );
   }
   const hasRef = d.referenceRangeNm !== undefined;
   const hasPhys = d.peakPowerKw !== undefined;
-  if (hasRef && hasPhys) {
+  const hasLink = d.interrogatorPowerW !== undefined;
+  if (Number(hasRef) + Number(hasPhys) + Number(hasLink) > 1) {
     throw new InputError(
       dPath,
-      'both referenceRangeNm and peakPowerKw',
-      'one form only: a reference range, or physical radar parameters',
+      [hasRef && 'referenceRangeNm', hasPhys && 'peakPowerKw', hasLink && 'interrogatorPowerW']
+        .filter(Boolean)
+        .join(' and '),
+      'one form only: a specification point, physical radar parameters (primary) or link parameters (secondary)',
     );
   }
   if (hasRef) {
     const rangeM = nmToM(num(d, 'referenceRangeNm', dPath, positive, 'a positive range in NM'));
+    const eRefDeg =
+      optNum(
+        d,
+        'referenceElevationDeg',
+        dPath,
+        (v) => v >= -10 && v <= 90,
+        'an elevation from −10 to 90 degrees',
+      ) ?? pattern.peakRad / DEG_TO_RAD;
+    const eRef = eRefDeg * DEG_TO_RAD;
+    const gRef = pattern.gain(eRef);
+    if (!(gRef > 1e-6)) {
+      throw new InputError(
+        `${dPath}.referenceElevationDeg`,
+        show(eRefDeg),
+        'an elevation where the elevation pattern has usable gain (above −60 dB)',
+      );
+    }
+    const atRef = `${(rangeM / 1852).toFixed(0)} NM at ${+eRefDeg.toFixed(2)}°${d.referenceElevationDeg === undefined ? ' (the beam peak)' : ''}`;
     if (kind === 'secondary') {
-      forbid(d, 'referenceRcsM2', dPath, "a secondary's range does not depend on the target's RCS");
-      return rangeM;
+      for (const k of [
+        'referenceRcsM2',
+        'referencePd',
+        'referencePfa',
+        'referenceFluctuation',
+        'hitsIntegrated',
+      ])
+        forbid(d, k, dPath, "a secondary's range comes from its links, not from a target's echo");
+      const fs = freeSpaceOf(rangeM, eRef, pathLossTable(frequencyMHz, 0, rangeM), 1 / 20);
+      return {
+        basis: { kind: 'secondary-reference', peakRangeM: fs / Math.sqrt(gRef) },
+        convention: `reaches ${atRef} with its own reference transponder (the study's transponder class does not apply)`,
+      };
     }
     if (d.referenceRcsM2 === undefined) {
       throw new InputError(
@@ -448,22 +699,90 @@ function peakRangeAtUnitRcs(
       );
     }
     const rcs = num(d, 'referenceRcsM2', dPath, positive, 'a positive RCS in m²');
-    return rangeM / Math.sqrt(Math.sqrt(rcs));
+    const pd =
+      optNum(d, 'referencePd', dPath, (v) => v >= D.pdMin && v <= D.pdMax, pdText) ?? SPEC_POINT_DEFAULTS.pd;
+    const pfa =
+      optNum(d, 'referencePfa', dPath, (v) => v >= D.pfaMin && v <= D.pfaMax, pfaText) ??
+      SPEC_POINT_DEFAULTS.pfa;
+    const fl =
+      d.referenceFluctuation === undefined
+        ? SPEC_POINT_DEFAULTS.fluctuation
+        : checkFluctuation(d.referenceFluctuation, `${dPath}.referenceFluctuation`);
+    const hits =
+      optNum(
+        d,
+        'hitsIntegrated',
+        dPath,
+        (v) => Number.isInteger(v) && v >= D.nMin && v <= D.nMax,
+        hitsText,
+      ) ?? SPEC_POINT_DEFAULTS.hits;
+    const fs = freeSpaceOf(rangeM, eRef, pathLossTable(frequencyMHz, 0, rangeM), 2 / 40);
+    return {
+      basis: {
+        kind: 'primary',
+        unitRangeM: fs / Math.sqrt(gRef) / Math.sqrt(Math.sqrt(rcs)),
+        snrBasisDb: requiredSnrDb(pd, pfa, hits, fl),
+        pd,
+        pfa,
+        hits,
+      },
+      convention: `specified: ${rcs} m² ${fl.replace('swerling', 'Swerling ')} with Pd ${pd} at Pfa ${pfa} (${hits} pulse${hits > 1 ? 's' : ''}) at ${atRef}`,
+    };
+  }
+  if (kind === 'secondary') {
+    if (hasPhys) {
+      throw new InputError(
+        dPath,
+        'physical radar parameters (peakPowerKw …)',
+        "a reference range { referenceRangeNm } or link parameters { interrogatorPowerW, antennaGainDbi, cableLossDb, receiverSensitivityDbm }: a secondary's range comes from its link budget, not the radar equation",
+      );
+    }
+    if (!hasLink) throw new InputError(dPath, show(d), '{ referenceRangeNm } or { interrogatorPowerW, … }');
+    const pW = num(
+      d,
+      'interrogatorPowerW',
+      dPath,
+      (v) => v > 0 && v <= 1e5,
+      'a peak power in W from above 0 to 100 000',
+    );
+    const gDbi = num(
+      d,
+      'antennaGainDbi',
+      dPath,
+      (v) => v > 0 && v < 50,
+      'a gain in dBi above 0 and below 50',
+    );
+    const lc = num(d, 'cableLossDb', dPath, (v) => v >= 0 && v < 20, 'a loss in dB from 0 to below 20');
+    const sens = num(
+      d,
+      'receiverSensitivityDbm',
+      dPath,
+      (v) => v >= -120 && v <= -40,
+      'a sensitivity in dBm from −120 to −40',
+    );
+    const p = wattsToDbm(pW);
+    return {
+      basis: {
+        kind: 'secondary-link',
+        upBaseDb: p + gDbi - lc,
+        downBaseDb: gDbi - lc - sens,
+        upMHz: frequencyMHz,
+      },
+      convention: `link budgets: ${pW} W interrogations at ${frequencyMHz} MHz, ${gDbi} dBi, ${lc} dB cable, receiver ${sens} dBm at ${SSR_REPLY_MHZ} MHz`,
+    };
+  }
+  if (hasLink) {
+    throw new InputError(
+      dPath,
+      'SSR link parameters (interrogatorPowerW …)',
+      'a primary takes a specification point or physical radar parameters',
+    );
   }
   if (!hasPhys) {
     throw new InputError(
       dPath,
       show(d),
-      kind === 'secondary'
-        ? '{ referenceRangeNm }'
-        : '{ referenceRangeNm, referenceRcsM2 } or physical radar parameters { peakPowerKw, … }',
-    );
-  }
-  if (kind === 'secondary') {
-    throw new InputError(
-      dPath,
-      'physical radar parameters (peakPowerKw …)',
-      "a reference range { referenceRangeNm }: a secondary's range comes from its link budget, not the radar equation",
+      '{ referenceRangeNm, referenceRcsM2 } or physical radar parameters { peakPowerKw, … }',
     );
   }
   const peakPowerW = 1e3 * num(d, 'peakPowerKw', dPath, positive, 'a positive peak power in kW');
@@ -503,116 +822,210 @@ function peakRangeAtUnitRcs(
   const tauS = 1e-6 * num(d, 'pulseWidthUs', dPath, positive, 'a positive pulse length in µs');
   const nfDb = num(d, 'noiseFigureDb', dPath, (v) => v >= 0 && v < 30, 'a noise figure in dB from 0 to 30');
   const lossDb = num(d, 'lossesDb', dPath, (v) => v >= 0 && v < 60, 'system losses in dB from 0 to 60');
-  const L = ALBERSHEIM_LIMITS;
-  const pd = num(d, 'pd', dPath, (v) => v >= L.pdMin && v <= L.pdMax, albersheimExpected('pd'));
-  const pfa = num(d, 'pfa', dPath, (v) => v >= L.pfaMin && v <= L.pfaMax, albersheimExpected('pfa'));
+  const pd = num(d, 'pd', dPath, (v) => v >= D.pdMin && v <= D.pdMax, pdText);
+  const pfa = num(d, 'pfa', dPath, (v) => v >= D.pfaMin && v <= D.pfaMax, pfaText);
   const hits =
-    optNum(d, 'hitsIntegrated', dPath, (v) => v >= L.nMin && v <= L.nMax, albersheimExpected('n')) ?? 1;
-  const snrDb = albersheimSnrDb(pd, pfa, hits);
-  const minSignalW = noisePowerW(nfDb, 1 / tauS) * Math.pow(10, (snrDb + lossDb) / 10);
-  return radarRangeM({
+    optNum(d, 'hitsIntegrated', dPath, (v) => Number.isInteger(v) && v >= D.nMin && v <= D.nMax, hitsText) ??
+    1;
+  // The unit range at SNR 0 dB: the study's required SNR is applied per target.
+  const minSignalW = noisePowerW(nfDb, 1 / tauS) * Math.pow(10, lossDb / 10);
+  const unitRangeM = radarRangeM({
     peakPowerW,
     gainLinear: gain,
     wavelengthM: wavelengthM(frequencyMHz),
     rcsM2: 1,
     minSignalW,
   });
+  return {
+    basis: { kind: 'primary', unitRangeM, snrBasisDb: 0, pd, pfa, hits },
+    convention: `radar equation: ${d.peakPowerKw} kW, ${(10 * Math.log10(gain)).toFixed(1)} dBi, ${d.pulseWidthUs} µs, NF ${nfDb} dB, losses ${lossDb} dB; Pd ${pd} at Pfa ${pfa}, ${hits} pulse${hits > 1 ? 's' : ''}`,
+  };
+}
+
+/** Profile table: R(ε) on nodes PATTERN_TABLE_STEP_DEG apart. */
+class Profile implements DetectionProfile {
+  constructor(
+    readonly minRangeM: number,
+    readonly instrumentedRangeM: number,
+    readonly coneOfSilenceRad: number,
+    readonly peakRangeM: number,
+    readonly limitingLink: 'uplink' | 'downlink' | undefined,
+    private readonly table: Float64Array,
+    private readonly loRad: number,
+    private readonly invStepRad: number,
+  ) {}
+
+  rangeM(elevationRad: number): number {
+    if (elevationRad > this.coneOfSilenceRad) return 0;
+    let x = (elevationRad - this.loRad) * this.invStepRad;
+    if (x < 0) x = 0;
+    const i = x | 0;
+    const t = this.table;
+    const a = t[i];
+    return a + (x - i) * (t[i + 1] - a);
+  }
 }
 
 class Model implements SensorModel {
-  readonly kind: 'primary' | 'secondary';
   readonly maxElevationRad: number;
-  readonly instrumentedRangeM: number;
-  readonly minRangeM: number;
-  readonly targetRcsM2: number;
-  readonly weatherFactor: number;
-  private readonly unitRangeM: number;
-  private readonly pattern: Pattern;
-  /** √g at elevation tableLoRad + i·step, i = 0 … length − 1 (one node beyond the maximum elevation). */
-  private readonly sqrtGain: Float64Array;
-  private readonly tableLoRad: number;
-  private readonly invStepRad: number;
-  private readonly isPrimary: boolean;
-  private cachedRcs = NaN;
-  private cachedPeakM = NaN;
-  private cachedWeatherPeakM = NaN;
-
   constructor(
     readonly spec: SensorTypeSpec,
-    private readonly where: string,
-    fields: {
-      kind: 'primary' | 'secondary';
-      maxElevationDeg: number;
-      instrumentedRangeM: number;
-      minRangeM: number;
-      targetRcsM2: number;
-      weatherFactor: number;
-      unitRangeM: number;
-      pattern: Pattern;
-    },
+    readonly kind: 'primary' | 'secondary',
+    maxElevationDeg: number,
+    readonly instrumentedRangeM: number,
+    readonly minRangeM: number,
+    readonly weatherFactor: number,
+    readonly warnings: readonly string[],
+    readonly convention: string,
+    private readonly basis: RangeBasis,
+    private readonly pattern: Pattern,
   ) {
-    this.kind = fields.kind;
-    this.maxElevationRad = fields.maxElevationDeg * DEG_TO_RAD;
-    this.instrumentedRangeM = fields.instrumentedRangeM;
-    this.minRangeM = fields.minRangeM;
-    this.targetRcsM2 = fields.targetRcsM2;
-    this.weatherFactor = fields.weatherFactor;
-    this.unitRangeM = fields.unitRangeM;
-    this.pattern = fields.pattern;
-    this.isPrimary = this.kind === 'primary';
-    if (!this.isPrimary) {
-      this.cachedPeakM = this.unitRangeM;
-      this.cachedWeatherPeakM = this.unitRangeM;
-    }
+    this.maxElevationRad = maxElevationDeg * DEG_TO_RAD;
+  }
 
+  /** Free-space peak range per link (a primary has one). */
+  private peaks(target: Target, weather: boolean): { up: number; down: number } {
+    const b = this.basis;
+    if (b.kind === 'primary') {
+      if (!(target.rcsM2 > 0 && target.rcsM2 < Infinity)) {
+        throw new InputError(`${this.spec.id}: target RCS`, show(target.rcsM2), 'a positive RCS in m²');
+      }
+      const snr = requiredSnrDb(b.pd, b.pfa, b.hits, target.fluctuation);
+      const r =
+        b.unitRangeM *
+        Math.sqrt(Math.sqrt(target.rcsM2)) *
+        Math.pow(10, (b.snrBasisDb - snr) / 40) *
+        (weather ? this.weatherFactor : 1);
+      return { up: r, down: r };
+    }
+    if (b.kind === 'secondary-reference') return { up: b.peakRangeM, down: b.peakRangeM };
+    const x = TRANSPONDER_CLASSES[target.transponder];
+    const ac = x.antennaGainDbi - x.installationLossDb;
+    return {
+      up: linkRangeM(b.upBaseDb + ac - x.minTriggerDbm, b.upMHz),
+      down: linkRangeM(b.downBaseDb + wattsToDbm(x.replyPowerW) + ac, SSR_REPLY_MHZ),
+    };
+  }
+
+  targetKey(target: Target): string {
+    const k = this.basis.kind;
+    return k === 'primary'
+      ? `${target.rcsM2}|${target.fluctuation}`
+      : k === 'secondary-link'
+        ? target.transponder
+        : '';
+  }
+
+  peakRangeM(target: Target, weather = false): number {
+    const p = this.peaks(target, weather);
+    return Math.min(p.up, p.down);
+  }
+
+  patternGain(elevationRad: number, tiltRad = 0): number {
+    return this.pattern.gain(elevationRad - tiltRad);
+  }
+
+  profile(req: ProfileRequest): DetectionProfile {
+    const tilt = (req.tiltDeg ?? 0) * DEG_TO_RAD;
+    const peaks = this.peaks(req.target, req.weather ?? false);
+    const instr = this.instrumentedRangeM;
+    const primary = this.kind === 'primary';
+    const atm = req.atmosphere ?? true;
+    // Gaseous loss: two-way under the fourth root (primary), one-way under the square root (each SSR link).
+    const exp = primary ? -2 / 40 : -1 / 20;
+    const lossUp = atm ? pathLossTable(this.spec.frequencyMHz, req.antennaAltM, instr) : null;
+    const lossDown = atm && !primary ? pathLossTable(SSR_REPLY_MHZ, req.antennaAltM, instr) : lossUp;
     const step = PATTERN_TABLE_STEP_DEG * DEG_TO_RAD;
-    const peak = this.pattern.peakRad;
+    const peak = this.pattern.peakRad + tilt;
+    const top = Math.min(Math.PI / 2, this.maxElevationRad + tilt);
     const below = Math.ceil((peak + Math.PI / 2) / step - 1e-9);
     const lo = peak - below * step;
-    const n = Math.ceil((this.maxElevationRad - lo) / step) + 2;
+    const n = Math.max(2, Math.ceil((top - lo) / step) + 2);
     const t = new Float64Array(n);
-    for (let i = 0; i < n; i++) t[i] = Math.sqrt(this.pattern.gain(lo + i * step));
-    this.sqrtGain = t;
-    this.tableLoRad = lo;
-    this.invStepRad = 1 / step;
-  }
-
-  peakRangeM(rcsM2: number, weather = false): number {
-    if (this.isPrimary && rcsM2 !== this.cachedRcs) this.setRcs(rcsM2);
-    return weather ? this.cachedWeatherPeakM : this.cachedPeakM;
-  }
-
-  patternGain(elevationRad: number): number {
-    return this.pattern.gain(elevationRad);
-  }
-
-  detectionRangeM(elevationRad: number, rcsM2: number, weather = false): number {
-    if (elevationRad > this.maxElevationRad) return 0;
-    if (this.isPrimary && rcsM2 !== this.cachedRcs) this.setRcs(rcsM2);
-    // ε ≤ maxElevation here, and the table holds a node beyond it, so i + 1 is in range; NaN gives NaN.
-    let x = (elevationRad - this.tableLoRad) * this.invStepRad;
-    if (x < 0) x = 0;
-    const i = x | 0;
-    const t = this.sqrtGain;
-    const a = t[i];
-    const r = (weather ? this.cachedWeatherPeakM : this.cachedPeakM) * (a + (x - i) * (t[i + 1] - a));
-    return r > this.instrumentedRangeM ? this.instrumentedRangeM : r;
-  }
-
-  private setRcs(rcsM2: number): void {
-    if (!(rcsM2 > 0 && rcsM2 < Infinity)) {
-      throw new InputError(`${this.where}: target RCS`, show(rcsM2), 'a positive RCS in m²');
+    let cone = top;
+    // The gaseous-loss factor K = R/R0 varies slowly with elevation: it is solved every LOSS_STRIDE nodes (0.1°)
+    // and interpolated between (its change over 0.1° is below 1e−3 of the range), from the previous solution as
+    // the first guess.
+    const oneLink = peaks.up === peaks.down && lossUp === lossDown;
+    const kUp = lossFactors(n, lo, step, tilt, this.pattern, peaks.up, lossUp, exp, instr);
+    const kDown = oneLink
+      ? kUp
+      : lossFactors(n, lo, step, tilt, this.pattern, peaks.down, lossDown, exp, instr);
+    for (let i = 0; i < n; i++) {
+      const e = lo + i * step;
+      const sg = Math.sqrt(this.pattern.gain(e - tilt));
+      let r = Math.min(peaks.up * sg * factorAt(kUp, i), peaks.down * sg * factorAt(kDown, i));
+      if (r > instr) r = instr;
+      t[i] = r;
+      // Where the usable gain ends: the first node above the peak whose range is below the minimum range.
+      if (e > peak && r < this.minRangeM && e < cone) cone = e;
     }
-    this.cachedRcs = rcsM2;
-    this.cachedPeakM = this.unitRangeM * Math.sqrt(Math.sqrt(rcsM2));
-    this.cachedWeatherPeakM = this.cachedPeakM * this.weatherFactor;
+    return new Profile(
+      this.minRangeM,
+      instr,
+      cone,
+      Math.min(peaks.up, peaks.down),
+      primary ? undefined : peaks.up <= peaks.down ? 'uplink' : 'downlink',
+      t,
+      lo,
+      1 / step,
+    );
   }
+}
+
+/** Nodes between two solutions of the gaseous-loss factor (0.1° at the 0.01° table step). */
+const LOSS_STRIDE = 10;
+
+/**
+ * The gaseous-loss factor K = R/R0 every LOSS_STRIDE profile nodes (one more past the end), where R solves
+ * R = R0·10^(A(ε, R)·exp) by fixed-point iteration. The map's slope is |exp·ln10·R·dA/dR| ≈ 0.1 per dB of loss,
+ * so each step gains about a decimal; three steps from the neighbour's factor leave < 1e−4. Where R0 reaches the
+ * instrumented range the factor at that range is kept (enough to decide whether it still reaches it); null
+ * without a loss table (factor 1).
+ */
+function lossFactors(
+  n: number,
+  lo: number,
+  step: number,
+  tilt: number,
+  pattern: Pattern,
+  peakM: number,
+  table: PathLossTable | null,
+  exp: number,
+  cap: number,
+): Float64Array | null {
+  if (table === null) return null;
+  const m = Math.ceil(n / LOSS_STRIDE) + 1;
+  const out = new Float64Array(m);
+  let guess = 1;
+  for (let j = 0; j < m; j++) {
+    const e = lo + j * LOSS_STRIDE * step;
+    const r0 = peakM * Math.sqrt(pattern.gain(e - tilt));
+    if (!(r0 > 0)) {
+      out[j] = guess;
+      continue;
+    }
+    let r = Math.min(r0 * guess, cap);
+    for (let k = 0; k < 3; k++) r = Math.min(r0 * Math.pow(10, table.oneWayDb(e, r) * exp), cap);
+    guess = r / r0;
+    if (r >= cap) guess = Math.pow(10, table.oneWayDb(e, cap) * exp);
+    out[j] = guess;
+  }
+  return out;
+}
+
+/** The loss factor at profile node i, linear between the solved nodes. */
+function factorAt(k: Float64Array | null, i: number): number {
+  if (k === null) return 1;
+  const x = i / LOSS_STRIDE;
+  const j = x | 0;
+  return k[j] + (x - j) * (k[j + 1] - k[j]);
 }
 
 /**
  * Validates one sensor type and builds its model. `where` names the object in the user's terms, e.g.
  * `scenario.json: sensorTypes[2]`; field paths are appended (`….detection.pd`). Impossible or contradictory
- * values throw InputError(where + field path, found, expected).
+ * values throw InputError(where + field path, found, expected); a leftover `targetRcsM2` is a warning.
  */
 export function buildSensorModel(spec: SensorTypeSpec, where: string): SensorModel {
   const s: unknown = spec;
@@ -659,29 +1072,32 @@ export function buildSensorModel(spec: SensorTypeSpec, where: string): SensorMod
       `a range above the minimum range (${DEFAULT_MIN_RANGE_NM} NM by default)`,
     );
   }
+  const warnings: string[] = [];
   let weatherFactor = 1;
   if (kind === 'secondary') {
     forbid(s, 'weatherLossDb', where, 'a secondary is not affected by weather mode');
-    forbid(s, 'targetRcsM2', where, "a secondary's range does not depend on the target's RCS");
   } else {
     const loss =
       optNum(s, 'weatherLossDb', where, (v) => v >= 0 && v < 40, 'a two-way loss in dB from 0 to 40') ?? 0;
     weatherFactor = weatherRangeFactor(loss);
   }
-  const targetRcs =
-    kind === 'primary' ? optNum(s, 'targetRcsM2', where, positive, 'a positive RCS in m²') : undefined;
+  if (s.targetRcsM2 !== undefined) {
+    warnings.push(
+      `${where}.targetRcsM2: ${show(s.targetRcsM2)} is ignored — the target belongs to the study: the scenario's targetRcsM2 (or a volume's) is used instead`,
+    );
+  }
   const pattern = buildPattern(s.elevationPattern, `${where}.elevationPattern`);
-  const unitRangeM = peakRangeAtUnitRcs(s, kind, frequencyMHz, where);
-  const det = s.detection as Record<string, unknown>;
-  const refRcs = typeof det.referenceRcsM2 === 'number' ? det.referenceRcsM2 : undefined;
-  return new Model(spec, where, {
+  const { basis, convention } = rangeBasis(s, kind, frequencyMHz, pattern, where);
+  return new Model(
+    spec,
     kind,
     maxElevationDeg,
     instrumentedRangeM,
     minRangeM,
-    targetRcsM2: targetRcs ?? refRcs ?? DEFAULT_TARGET_RCS_M2,
     weatherFactor,
-    unitRangeM,
+    warnings,
+    convention,
+    basis,
     pattern,
-  });
+  );
 }

@@ -95,6 +95,8 @@ export function volumeStats(
   masks: readonly Uint8Array[],
   flightLevels: readonly number[],
   grid: GridGeo,
+  /** Per volume, the index of its target in the network (default 0: the study's target). */
+  volumeTargets?: readonly number[],
 ): VolumeLevelStats[] {
   const rowArea = rowAreasKm2(grid);
   const W = grid.width;
@@ -103,9 +105,10 @@ export function volumeStats(
     const mask = masks[vi];
     flightLevels.forEach((fl, f) => {
       if (fl < v.flMin || fl > v.flMax) return;
-      const any = network.foldOf('any', f);
-      const pri = network.foldOf('primary', f);
-      const sec = network.foldOf('secondary', f);
+      const t = volumeTargets?.[vi] ?? 0;
+      const any = network.foldOf('any', f, t);
+      const pri = network.foldOf('primary', f, t);
+      const sec = network.foldOf('secondary', f, t);
       const hist = Object.fromEntries(
         KINDS.map((k) => [k, new Array<number>(HISTOGRAM_BINS).fill(0)]),
       ) as Record<FoldKind, number[]>;

@@ -10,6 +10,7 @@ import { max, min } from 'd3-array';
 import { scaleLinear } from 'd3-scale';
 import { interpolateCividis, interpolateViridis } from 'd3-scale-chromatic';
 import { area, line } from 'd3-shape';
+import { CAUTION } from '../../shared/caution.ts';
 import { InputError } from '../../shared/errors.ts';
 import { FT_M, NM_M } from '../../shared/units.ts';
 import type { DiagramData } from '../core/diagram.ts';
@@ -115,7 +116,7 @@ export function renderDiagramSvg(data: DiagramData, opts: DiagramSvgOptions): st
       label:
         data.sensor.kind === 'primary'
           ? `Detection envelope (RCS ${fmtNumber(data.sensor.rcsM2)} m²)`
-          : 'Detection envelope',
+          : 'Detection envelope (both SSR links)',
       swatch: 'envelope',
     },
     { label: 'Line-of-sight floor', swatch: 'floor' },
@@ -145,11 +146,12 @@ export function renderDiagramSvg(data: DiagramData, opts: DiagramSvgOptions): st
   const kText = Math.abs(k - 4 / 3) < 5e-4 ? '4/3' : fmtNumber(k, 4);
   const note =
     `Altitude above mean sea level against ground distance along the earth's surface: a flat chart of curved ` +
-    `geometry; earth curvature (effective earth k = ${kText}) is drawn into the curves, not the axes.`;
-  const caution =
-    kText === '4/3'
-      ? 'Planning aid — not a certified or flight-inspected result; 4/3-earth refraction assumed.'
-      : `Planning aid — not a certified or flight-inspected result; effective-earth refraction k = ${kText} assumed.`;
+    `geometry; earth curvature (effective earth k = ${kText}) is drawn into the curves, not the axes. ` +
+    `Target: ${data.sensor.target}. Sensor: ${data.sensor.convention}. Flight levels at their true altitude ` +
+    `(${data.day.qnhHpa === 1013.25 && data.day.isaDeviationC === 0 ? 'ISA standard day' : `QNH ${data.day.qnhHpa} hPa, ISA ${data.day.isaDeviationC >= 0 ? '+' : '−'}${Math.abs(data.day.isaDeviationC)} °C`}). ` +
+    `The envelope is searched up to ${fmtNumber(data.searchTopM / 1000, 0)} km: a flat top there is that search limit, not the sensor's.`;
+  // The caution in full (shared/caution.ts), then the refraction this chart assumed.
+  const caution = `${CAUTION} Refraction assumed here: effective earth k = ${kText}.`;
   const captionChars = Math.max(30, Math.floor((right - left) / (CAPTION_PX * 0.56)));
   const captionLines = [
     ...wrap(note, captionChars).map((t) => ({ t, bold: false })),
@@ -202,8 +204,11 @@ export function renderDiagramSvg(data: DiagramData, opts: DiagramSvgOptions): st
   const title = escapeXml(opts.title);
   out.push(
     `<svg xmlns="http://www.w3.org/2000/svg" width="${width}" height="${height}" viewBox="0 0 ${width} ${height}" ` +
-      `role="img" aria-labelledby="airshade-title-${uid}" font-family="${escapeXml(FONT)}">`,
+      `role="img" aria-labelledby="airshade-title-${uid}" aria-describedby="airshade-desc-${uid}" ` +
+      `font-family="${escapeXml(FONT)}">`,
     `<title id="airshade-title-${uid}">${title}</title>`,
+    // The caution whole in one element, for readers of the file (the caption below wraps it into lines).
+    `<desc id="airshade-desc-${uid}">${escapeXml(CAUTION)}</desc>`,
     '<defs>',
     `<clipPath id="${clipId}"><rect x="${left}" y="${top}" width="${r2(right - left)}" height="${r2(bottom - top)}"/></clipPath>`,
     `<pattern id="${hatchId}" width="6" height="6" patternUnits="userSpaceOnUse" patternTransform="rotate(45)">` +
@@ -218,6 +223,7 @@ export function renderDiagramSvg(data: DiagramData, opts: DiagramSvgOptions): st
   const sub =
     `Azimuth ${data.azimuthDeg.toFixed(1).padStart(5, '0')}° · antenna ${antennaText} · ` +
     `sensor ${data.sensor.id} (${data.sensor.kind})${data.sensor.weather ? ' in rain' : ''} · ` +
+    `tilt ${fmtNumber(data.sensor.tiltDeg)}° · ` +
     `site ${fmtLonLat(data.lon, data.lat)}`;
   out.push(`<text x="${left}" y="46" font-size="12" fill="${PALETTE.muted}">${escapeXml(sub)}</text>`);
 

@@ -6,6 +6,7 @@
  * Types come from @types/geojson (the package @turf/turf's own types use).
  */
 import type { Feature, FeatureCollection, GeoJSON, Geometry, MultiPolygon } from 'geojson';
+import { CAUTION } from '../../shared/caution.ts';
 import { InputError } from '../../shared/errors.ts';
 import { round6, type MultiPolygonCoords } from '../core/contour.ts';
 
@@ -31,11 +32,14 @@ export interface LayerFeatureProps {
 
 export type LayerFeature = Feature<MultiPolygon, LayerFeatureProps>;
 
-/** A FeatureCollection with an optional `metadata` foreign member (RFC 7946 §6.1). */
+/**
+ * A FeatureCollection with the foreign members (RFC 7946 §6.1) `caution` (shared/caution.ts's text, in every
+ * layer file) and an optional `metadata`.
+ */
 export type LayerCollection<G extends Geometry = MultiPolygon, P = LayerFeatureProps> = FeatureCollection<
   G,
   P
-> & { metadata?: Record<string, unknown> };
+> & { caution: string; metadata?: Record<string, unknown> };
 
 const KINDS: readonly LayerKind[] = ['any', 'primary', 'secondary'];
 const LAYERS: readonly LayerName[] = ['coverage', 'gap', 'lost', 'gained'];
@@ -87,12 +91,15 @@ export function layerFeature(coords: MultiPolygonCoords, props: LayerFeatureProp
   return { type: 'Feature', properties, geometry: { type: 'MultiPolygon', coordinates: coords } };
 }
 
-/** A FeatureCollection of the features; `meta` (if any) rides along as the `metadata` foreign member. */
+/**
+ * A FeatureCollection of the features, with the caution as its `caution` foreign member; `meta` (if any) rides
+ * along as the `metadata` foreign member.
+ */
 export function featureCollection<G extends Geometry = MultiPolygon, P = LayerFeatureProps>(
   features: Feature<G, P>[],
   meta?: Record<string, unknown>,
 ): LayerCollection<G, P> {
-  const fc: LayerCollection<G, P> = { type: 'FeatureCollection', features };
+  const fc: LayerCollection<G, P> = { type: 'FeatureCollection', caution: CAUTION, features };
   if (meta !== undefined) fc.metadata = meta;
   return fc;
 }

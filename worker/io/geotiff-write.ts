@@ -7,10 +7,12 @@
  * pre-sized buffer, and the image is cut into ~256 KiB strips (readers can then fetch and decode strip by
  * strip). Output: little-endian classic TIFF, uncompressed, one band, chunky, with the GeoTIFF tags
  * (ModelPixelScale + ModelTiepoint, or ModelTransformation for a south-up raster), a GeoKeyDirectory
- * (model type, RasterPixelIsArea, EPSG code) and the GDAL_NODATA tag (42113) read by GDAL and geotiff.js.
+ * (model type, RasterPixelIsArea, EPSG code), the GDAL_NODATA tag (42113) read by GDAL and geotiff.js, and an
+ * optional ImageDescription (270; printable ASCII, as TIFF 6.0 asks of ASCII fields), where results carry the caution.
  *
  * The georeferencing follows grid.ts: pixel-is-area, (originX, originY) is the outer corner of pixel (0, 0).
  */
+import { InputError } from '../../shared/errors.ts';
 import type { GridGeo } from '../core/grid.ts';
 
 export interface GeoTiffRaster {
@@ -18,6 +20,8 @@ export interface GeoTiffRaster {
   data: Float32Array | Int16Array | Int32Array;
   /** Written as the GDAL_NODATA tag; NaN is written as "nan". */
   nodata?: number;
+  /** Written as the ImageDescription tag (270); printable ASCII only (e.g. shared/caution.ts's CAUTION). */
+  description?: string;
 }
 
 // TIFF field types.
@@ -142,6 +146,16 @@ export function encodeGeoTiff(r: GeoTiffRaster): ArrayBuffer {
     const nd = r.nodata;
     const text = Number.isNaN(nd) ? 'nan' : sampleFormat === 2 ? String(Math.round(nd)) : String(nd);
     entries.push({ tag: 42113, type: ASCII, values: text });
+  }
+  if (r.description !== undefined) {
+    if (!/^[\x20-\x7e]*$/.test(r.description)) {
+      throw new InputError(
+        'GeoTIFF ImageDescription',
+        JSON.stringify(r.description.slice(0, 60)),
+        'printable ASCII text (a TIFF ASCII field)',
+      );
+    }
+    entries.push({ tag: 270, type: ASCII, values: r.description });
   }
   entries.sort((a, b) => a.tag - b.tag);
 

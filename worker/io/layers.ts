@@ -3,7 +3,6 @@
  * volume (the CLI's coverage-FL*.geojson files and the web app's exports are both made here).
  */
 import type { Scenario } from '../../shared/scenario.ts';
-import { flToMetres } from '../../shared/units.ts';
 import { maskAreaKm2, maskToPolygons } from '../core/contour.ts';
 import type { GridGeo } from '../core/grid.ts';
 import { KINDS, type Network } from '../core/network.ts';
@@ -16,13 +15,12 @@ type Vol = Scenario['volumes'][number];
 export function maskLayer(
   mask: Uint8Array,
   grid: GridGeo,
-  props: Omit<LayerFeatureProps, 'altitudeM' | 'areaKm2'>,
+  props: Omit<LayerFeatureProps, 'areaKm2'>,
 ): ReturnType<typeof layerFeature> | null {
   const coords = maskToPolygons(mask, grid.width, grid.height, grid);
   if (coords.length === 0) return null;
   return layerFeature(coords, {
     ...props,
-    altitudeM: flToMetres(props.flightLevel),
     areaKm2: maskAreaKm2(mask, grid.width, grid.height, grid),
   });
 }
@@ -43,10 +41,15 @@ export function levelLayers(
   grid: GridGeo,
   volumes: readonly Vol[],
   masks: readonly Uint8Array[],
+  /** What the layers mean (target, day, k …), written beside the level in the collection's metadata. */
+  meta: Record<string, unknown> = {},
+  /** Per volume, the index of its target in the network (default 0: the study's target). */
+  volumeTargets?: readonly number[],
 ) {
   const features = [];
   const cells = grid.width * grid.height;
-  const altitudeM = flToMetres(fl);
+  // The level's true altitude on the study's day (the network holds it).
+  const altitudeM = network.altitudesM[f];
   const mask = new Uint8Array(cells);
   for (const kind of KINDS) {
     const fold = network.foldOf(kind, f);
@@ -55,15 +58,23 @@ export function levelLayers(
     const siteIds = network.contributingSites(kind, f);
     for (let k = 1; k <= Math.min(max, maxFoldLayers(volumes)); k++) {
       for (let i = 0; i < cells; i++) mask[i] = fold[i] >= k ? 1 : 0;
-      const f = maskLayer(mask, grid, { flightLevel: fl, fold: k, kind, siteIds, layer: 'coverage' });
+      const f = maskLayer(mask, grid, {
+        flightLevel: fl,
+        altitudeM,
+        fold: k,
+        kind,
+        siteIds,
+        layer: 'coverage',
+      });
       if (f) features.push(f);
     }
   }
-  const any = network.foldOf('any', f);
-  const pri = network.foldOf('primary', f);
-  const sec = network.foldOf('secondary', f);
   volumes.forEach((v, vi) => {
     if (fl < v.flMin || fl > v.flMax) return;
+    const t = volumeTargets?.[vi] ?? 0;
+    const any = network.foldOf('any', f, t);
+    const pri = network.foldOf('primary', f, t);
+    const sec = network.foldOf('secondary', f, t);
     const vm = masks[vi];
     let n = 0;
     for (let i = 0; i < cells; i++) {
@@ -71,15 +82,16 @@ export function levelLayers(
       n += mask[i];
     }
     if (n === 0) return;
-    const f = maskLayer(mask, grid, {
+    const gap = maskLayer(mask, grid, {
       flightLevel: fl,
+      altitudeM,
       fold: 0,
       kind: 'any',
       siteIds: [],
       layer: 'gap',
       volumeId: v.id,
     });
-    if (f) features.push(f);
+    if (gap) features.push(gap);
   });
-  return featureCollection(features, { flightLevel: fl, altitudeM });
+  return featureCollection(features, { ...meta, flightLevel: fl, altitudeM });
 }

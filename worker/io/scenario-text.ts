@@ -6,7 +6,8 @@
  *
  * Sites CSV: a header row, then one row per site. Columns (names matched without regard to case, any order,
  * other columns ignored): lon, lat, id, name, mastHeightM, siteCost, and optionally existing (true/false,
- * yes/no, 1/0; empty = false) and allowedTypes (sensor type ids separated by `;`; empty = every type).
+ * yes/no, 1/0; empty = false), allowedTypes (sensor type ids separated by `;`; empty = every type) and tiltDeg
+ * (antenna tilt in degrees; empty = 0).
  * Parsed with csv-parse (RFC 4180 quoting). A row number in a message is the row's line in the file, the
  * header being row 1.
  */
@@ -92,6 +93,7 @@ const CSV_COLUMNS = [
   'siteCost',
   'existing',
   'allowedTypes',
+  'tiltDeg',
 ] as const;
 const CSV_REQUIRED = CSV_COLUMNS.slice(0, 6);
 const NUMBER_TEXT = /^[+-]?(\d+(\.\d*)?|\.\d+)([eE][+-]?\d+)?$/;
@@ -144,7 +146,7 @@ export function readSitesCsv(text: string, display: string): CsvSites {
     throw new InputError(
       `${display}: row 1`,
       header.length ? `the columns ${header.join(', ')}` : 'no header row',
-      `a header row with the columns ${CSV_REQUIRED.join(', ')} (optional: existing, allowedTypes); missing ${missing.join(', ')}`,
+      `a header row with the columns ${CSV_REQUIRED.join(', ')} (optional: existing, allowedTypes, tiltDeg); missing ${missing.join(', ')}`,
     );
   }
   const rows: number[] = [];
@@ -164,6 +166,7 @@ export function readSitesCsv(text: string, display: string): CsvSites {
         siteCost: csvNumber(r.siteCost),
         existing: csvBoolean(r.existing),
         allowedTypes: allowed && allowed.length > 0 ? allowed : undefined,
+        tiltDeg: r.tiltDeg === undefined || r.tiltDeg.trim() === '' ? undefined : csvNumber(r.tiltDeg),
       },
     };
   });

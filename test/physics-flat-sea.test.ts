@@ -1,0 +1,269 @@
+/**
+ * The physics end to end on a flat sea (terrain 0 m everywhere): the product's footprints (worker/core/coverage.ts:
+ * the line-of-sight floor of the horizon engine × the sensor band of footprint.ts × the detection profile of
+ * sensor.ts) along one radial, compared with published relations. Each check isolates one effect: over-sea
+ * lobing is not applied here (the core applies it only when asked), and the gaseous attenuation is switched off
+ * where a check is about something else (and said so).
+ *
+ * Sources (test/REFERENCES.md):
+ * - Radar equation: R ∝ σ^¼ (Skolnik, Introduction to Radar Systems [pub]).
+ * - Swerling 1 single pulse Pd = Pfa^(1/(1+SNR)) (Swerling, IRE Trans. IT-6, 1960 [pub]) against the steady
+ *   target's 13.18 dB at Pd 0.9, Pfa 1e−6 (Marcum, IRE Trans. IT-6, 1960 [pub]): ~8 dB, radius × 0.63–0.66.
+ * - Radar horizon on the effective earth, exact spherical form √((Re+ha)² − Re²) + √((Re+h)² − Re²) (Skolnik,
+ *   horizon on the 4/3 earth [memory]); 30 m antenna, FL100 → ≈ 250.1 km.
+ * - True altitude on a cold low-pressure day: the hypsometric equation with the ICAO standard atmosphere
+ *   (ICAO Doc 7488 [pub]); QNH 980 hPa, ISA −20 °C puts FL100 at about 2,560–2,600 m (the issue's figure, which
+ *   follows from the same equation [calc]).
+ * - Beam heights on the effective earth: Doviak & Zrnić, Doppler Radar and Weather Observations (1993),
+ *   eq. 2.28b–c [memory, standard]: 100 km at 0° from 0 m → 588.6 m (k = 4/3), 784.8 m (k = 1); at 1° 2333.5 m.
+ * - The cone of silence radius h / tan θmax (geometry [calc]).
+ */
+import { readFileSync } from 'node:fs';
+import { describe, expect, it } from 'vitest';
+import { flToMetres } from '../shared/units.ts';
+import { computeFootprints, type Candidate } from '../worker/core/coverage.ts';
+import { inlineExecutor } from '../worker/core/floor.ts';
+import { slantGeometry, type Footprint } from '../worker/core/footprint.ts';
+import { buildSensorModel, DEFAULT_TARGET, type SensorTypeSpec, type Target } from '../worker/core/sensor.ts';
+import { levelAltitudesM } from '../worker/study.ts';
+import { cellLonLat, metricGeo, metricTerrain } from './support/dem.ts';
+
+const R = 6_371_000;
+const K = 4 / 3;
+const RE = K * R;
+const T = (o: Partial<Target> = {}): Target => ({ ...DEFAULT_TARGET, ...o });
+
+/** A strip of flat sea, `cells` long (east–west) and 5 cells high, antenna in the middle of the middle row. */
+function strip(cells: number, pixelM: number) {
+  const H = 5;
+  const data = new Float32Array(cells * H);
+  const terrain = metricTerrain(data, cells, H, pixelM);
+  const geo = metricGeo(cells, H, pixelM);
+  const c0 = (cells - 1) / 2;
+  const site = { id: 'buoy', name: 'Test buoy', ...cellLonLat(geo, c0, 2), mastHeightM: 30 };
+  return { terrain, geo, data, site, c0, cells, pixelM };
+}
+
+type Strip = ReturnType<typeof strip>;
+
+async function footprints(
+  st: Strip,
+  list: { spec: SensorTypeSpec; target: Target }[],
+  o: { atmosphere?: boolean; maxRangeM?: number } = {},
+): Promise<Footprint[]> {
+  const candidates: Candidate[] = list.map((x) => ({
+    site: st.site,
+    model: buildSensorModel(x.spec, x.spec.id),
+    target: x.target,
+  }));
+  const r = await computeFootprints(
+    st.terrain,
+    {
+      grid: st.geo,
+      ground: st.data,
+      candidates,
+      kFactor: K,
+      maxRangeM: o.maxRangeM ?? ((st.cells - 1) / 2) * st.pixelM,
+      atmosphere: o.atmosphere,
+    },
+    inlineExecutor(st.terrain),
+  );
+  return r.footprints;
+}
+
+/** Farthest ground distance east of the antenna (m, to a cell) at which the footprint covers altitude h. */
+function outerEdgeM(st: Strip, fp: Footprint, h: number): number {
+  let edge = 0;
+  for (let c = Math.ceil(st.c0) + 1; c < st.cells; c++) {
+    const i = 2 * st.cells + c;
+    if (fp.lo[i] <= h && h <= fp.hi[i]) edge = (c - st.c0) * st.pixelM;
+  }
+  return edge;
+}
+
+/** Nearest ground distance east of the antenna (m) at which the footprint covers altitude h. */
+function innerEdgeM(st: Strip, fp: Footprint, h: number): number {
+  for (let c = Math.ceil(st.c0) + 1; c < st.cells; c++) {
+    const i = 2 * st.cells + c;
+    if (fp.lo[i] <= h && h <= fp.hi[i]) return (c - st.c0) * st.pixelM;
+  }
+  return NaN;
+}
+
+/** A primary with physical parameters, a flat elevation pattern (0 dB everywhere) and no range cap. */
+function flatPrimary(over: Partial<SensorTypeSpec> = {}): SensorTypeSpec {
+  return {
+    id: 'flat-psr',
+    name: 'Test primary with a flat pattern',
+    kind: 'primary',
+    frequencyMHz: 1300,
+    cost: 1,
+    maxElevationDeg: 90,
+    instrumentedRangeNm: 10_000,
+    elevationPattern: { type: 'table', deg: [-90, 90], gainDb: [0, 0] },
+    detection: {
+      peakPowerKw: 2000,
+      antennaGainDbi: 38,
+      pulseWidthUs: 10,
+      noiseFigureDb: 3,
+      lossesDb: 8,
+      pd: 0.9,
+      pfa: 1e-6,
+    },
+    ...over,
+  };
+}
+
+/** Slant range (m) from the antenna (altitude ha) to altitude h at ground arc s: the law of cosines on the sphere. */
+const slantM = (s: number, h: number, ha = 30) =>
+  Math.sqrt((RE + ha) ** 2 + (RE + h) ** 2 - 2 * (RE + ha) * (RE + h) * Math.cos(s / RE));
+
+/** Exact radar horizon (ground arc) for antenna ha and target h on the sphere Re. */
+const horizonM = (ha: number, h: number) => RE * (Math.acos(RE / (RE + ha)) + Math.acos(RE / (RE + h)));
+
+describe('flat sea: the target belongs to the study', () => {
+  it('σ 1 → 16 m² doubles the radius (fourth-root law), less the extra gaseous loss — whatever targetRcsM2 the type carries', async () => {
+    const st = strip(1201, 1000);
+    // A high altitude keeps the horizon (≈ 605 km at 20 km) beyond the detection range: the range sets the edge.
+    const h = 20_000;
+    const spec = flatPrimary({ targetRcsM2: 100 }); // a leftover, ignored with a warning
+    expect(buildSensorModel(spec, 'x').warnings).toHaveLength(1);
+    const list = [
+      { spec, target: T({ rcsM2: 1 }) },
+      { spec, target: T({ rcsM2: 16 }) },
+    ];
+    const [a, b] = await footprints(st, list, { atmosphere: false });
+    // The law is for the slant range: the edges' ground distances are turned into slant ranges.
+    const r1 = slantM(outerEdgeM(st, a, h), h);
+    const r16 = slantM(outerEdgeM(st, b, h), h);
+    expect(r1).toBeGreaterThan(100_000);
+    expect(outerEdgeM(st, b, h)).toBeLessThan(horizonM(30, h) - 20_000);
+    expect(r16 / r1).toBeGreaterThan(2 - 2 * (1000 / r1)); // ×2 to a cell (no atmosphere)
+    expect(r16 / r1).toBeLessThan(2 + 2 * (1000 / r1));
+    // With the gaseous loss on, the longer path loses more: a little short of ×2, and never beyond it.
+    const [c, d] = await footprints(st, list);
+    const ratio = slantM(outerEdgeM(st, d, h), h) / slantM(outerEdgeM(st, c, h), h);
+    expect(ratio).toBeGreaterThan(1.85);
+    expect(ratio).toBeLessThan(2);
+  });
+
+  it('Pd 0.9, Pfa 1e−6, one pulse: Swerling 1 shortens the radius to 0.63–0.66 of a steady target’s', async () => {
+    const st = strip(1201, 1000);
+    const h = 20_000;
+    const spec = flatPrimary();
+    const [s0, s1] = await footprints(
+      st,
+      [
+        { spec, target: T({ fluctuation: 'swerling0' }) },
+        { spec, target: T({ fluctuation: 'swerling1' }) },
+      ],
+      { atmosphere: false },
+    );
+    const ratio = slantM(outerEdgeM(st, s1, h), h) / slantM(outerEdgeM(st, s0, h), h);
+    expect(ratio).toBeGreaterThan(0.63);
+    expect(ratio).toBeLessThan(0.66);
+  });
+});
+
+describe('flat sea: true altitudes on the day', () => {
+  it('QNH 980 hPa, ISA −20 °C: FL100 at 2,560–2,600 m true, and its edge moves in from the 250.1 km horizon to about 232 km', async () => {
+    const ha = 30;
+    const [isa] = levelAltitudesM({}, [100]);
+    const [cold] = levelAltitudesM({ day: { qnhHpa: 980, isaDeviationC: -20 } }, [100]);
+    expect(isa).toBe(flToMetres(100));
+    expect(cold).toBeGreaterThan(2560);
+    expect(cold).toBeLessThan(2600);
+    // A secondary with margin to spare: the horizon sets the edge.
+    const st = strip(1201, 500);
+    const spec: SensorTypeSpec = {
+      id: 'ssr-x',
+      name: 'Test secondary',
+      kind: 'secondary',
+      frequencyMHz: 1030,
+      cost: 1,
+      maxElevationDeg: 45,
+      instrumentedRangeNm: 1000,
+      elevationPattern: { type: 'table', deg: [-90, 90], gainDb: [0, 0] },
+      detection: { referenceRangeNm: 2000 },
+    };
+    const [fp] = await footprints(st, [{ spec, target: T() }]);
+    const eIsa = outerEdgeM(st, fp, isa);
+    const eCold = outerEdgeM(st, fp, cold);
+    // Skolnik's 4/3-earth horizon, exact spherical form [memory]: 250.1 km at FL100 in the ISA.
+    expect(Math.abs(eIsa - horizonM(ha, isa))).toBeLessThan(1000);
+    expect(Math.abs(horizonM(ha, flToMetres(100)) / 1000 - 250.1)).toBeLessThan(0.2);
+    expect(Math.abs(eCold - horizonM(ha, cold))).toBeLessThan(1000);
+    expect(eCold / 1000).toBeGreaterThan(229);
+    expect(eCold / 1000).toBeLessThan(235);
+  });
+});
+
+describe('flat sea: the default catalog', () => {
+  const catalog: SensorTypeSpec[] = JSON.parse(
+    readFileSync(new URL('../data/catalog/sensor-types.json', import.meta.url), 'utf8'),
+  );
+  const lva = catalog.find((t) => t.id === 'ssr-mono-lva')!;
+
+  it('the long-range SSR on a 30 m mast reaches at FL400 at least 95 % of the nearer of its instrumented range and the radio horizon', async () => {
+    const st = strip(1101, 1000);
+    const h = flToMetres(400);
+    // Aircraft at FL400 carry the high-power transponder class (ICAO Annex 10 Vol. IV [memory]: above 15 000 ft).
+    const [fp] = await footprints(st, [{ spec: lva, target: T({ transponder: 'high-power' }) }]);
+    const limit = Math.min(lva.instrumentedRangeNm * 1852, horizonM(30, h));
+    expect(outerEdgeM(st, fp, h)).toBeGreaterThanOrEqual(0.95 * limit);
+    // And at FL300 (horizon ≈ 441 km).
+    const h3 = flToMetres(300);
+    expect(outerEdgeM(st, fp, h3)).toBeGreaterThanOrEqual(
+      0.95 * Math.min(lva.instrumentedRangeNm * 1852, horizonM(30, h3)),
+    );
+  });
+});
+
+describe('flat sea: an edge set by the sensor’s own limits, not the horizon', () => {
+  it('the cone of silence at FL100 for a 40° maximum elevation: inner edge at h / tan 40° ≈ 3.6 km (geometry [calc])', async () => {
+    const st = strip(401, 50);
+    const spec: SensorTypeSpec = {
+      id: 'cone',
+      name: 'Test primary with a 40° cone',
+      kind: 'primary',
+      frequencyMHz: 2800,
+      cost: 1,
+      maxElevationDeg: 40,
+      instrumentedRangeNm: 60,
+      minRangeNm: 0.1,
+      elevationPattern: { type: 'table', deg: [-90, 90], gainDb: [0, 0] },
+      detection: { referenceRangeNm: 50, referenceRcsM2: 1 },
+    };
+    const [fp] = await footprints(st, [{ spec, target: T() }], { maxRangeM: 10_000 });
+    const h = flToMetres(100);
+    const expected = (h - 30) / Math.tan((40 * Math.PI) / 180); // antenna at 30 m
+    expect(Math.abs(innerEdgeM(st, fp, h) - expected)).toBeLessThanOrEqual(50);
+  });
+
+  it('the instrumented range sets the outer edge where it is nearer than range and horizon', async () => {
+    const st = strip(801, 500);
+    const spec = flatPrimary({ instrumentedRangeNm: 100 });
+    const [fp] = await footprints(st, [{ spec, target: T({ rcsM2: 100 }) }]);
+    expect(Math.abs(slantM(outerEdgeM(st, fp, 15_000), 15_000) - 185_200)).toBeLessThanOrEqual(500);
+  });
+});
+
+describe('beam heights on the effective earth (Doviak & Zrnić 1993, eq. 2.28b–c [memory, standard])', () => {
+  // h = √(r² + Re² + 2·r·Re·sin θ) − Re + ha and s = Re·asin(r·cos θ / (Re + h)): the published heights are checked
+  // against the product's slant geometry (footprint.ts), which must give back r = 100 km and θ there.
+  for (const [k, thetaDeg, hPub] of [
+    [4 / 3, 0, 588.6],
+    [1, 0, 784.8],
+    [4 / 3, 1, 2333.5],
+  ] as const) {
+    it(`k = ${k.toFixed(4)}, θ = ${thetaDeg}°: ${hPub} m at 100 km slant range`, () => {
+      const re = k * R;
+      const th = (thetaDeg * Math.PI) / 180;
+      const s = re * Math.asin((100_000 * Math.cos(th)) / (re + hPub));
+      const out = { rangeM: 0, elevationRad: 0 };
+      slantGeometry(s, hPub, 0, re, out);
+      expect(Math.abs(out.rangeM - 100_000)).toBeLessThan(1);
+      expect(Math.abs(out.elevationRad - th)).toBeLessThan(2e-6);
+    });
+  }
+});
