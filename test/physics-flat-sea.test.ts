@@ -26,6 +26,8 @@ import { inlineExecutor } from '../worker/core/floor.ts';
 import { slantGeometry, type Footprint } from '../worker/core/footprint.ts';
 import { buildSensorModel, DEFAULT_TARGET, type SensorTypeSpec, type Target } from '../worker/core/sensor.ts';
 import { levelAltitudesM } from '../worker/study.ts';
+import { WGS84_GEOGRAPHIC } from '../worker/core/grid.ts';
+import { Terrain } from '../worker/core/terrain.ts';
 import { cellLonLat, metricGeo, metricTerrain } from './support/dem.ts';
 
 const R = 6_371_000;
@@ -266,4 +268,85 @@ describe('beam heights on the effective earth (Doviak & Zrnić 1993, eq. 2.28b�
       expect(Math.abs(out.elevationRad - th)).toBeLessThan(2e-6);
     });
   }
+});
+
+describe('over-sea lobing: the first lobe’s lower edge (Blake 1980 / Barton 2005 two-ray model [memory])', () => {
+  // On a flat earth (k = 1000: Re ≈ 6.4e9 m) with the reflection coefficient Γ ≈ −1 at grazing incidence, the
+  // two-ray factor is F = 2·|sin(2π·h1·h2/(λ·d))| (Blake, Barton [pub formula]). A link whose free-space range is
+  // twice the distance d needs F ≥ 1/2 there: 2π·h1·h2/(λ·d) = asin(1/4), h2 = λ·d·asin(1/4)/(2π·h1) [calc].
+  const H = 5;
+  const W = 241;
+  const cell = 10 / 3600; // 10″: about 210 m east–west at 41° S
+  function seaStrip(multipath: boolean, landToM = 0) {
+    const data = new Float32Array(W * H);
+    // Optionally a low island (5 m) from the antenna out to landToM east: the specular points fall on land.
+    const metres = cell * 111_320 * Math.cos((41 * Math.PI) / 180);
+    for (let r = 0; r < H; r++)
+      for (let c = 0; c < W; c++) {
+        const x = (c - (W - 1) / 2) * metres;
+        if (x >= -metres && x <= landToM) data[r * W + c] = landToM > 0 ? 5 : 0;
+      }
+    const geo = {
+      width: W,
+      height: H,
+      originX: -30 - (W / 2) * cell,
+      originY: -41 + (H / 2) * cell,
+      pixelX: cell,
+      pixelY: -cell,
+      crs: WGS84_GEOGRAPHIC,
+    };
+    const terrain = Terrain.fromParts({ geo, data, warnings: [], sources: ['generated'] });
+    return { data, geo, terrain, multipath };
+  }
+  const spec = (): SensorTypeSpec => ({
+    id: 'ssr-l',
+    name: 'Test secondary at 1030 MHz',
+    kind: 'secondary',
+    frequencyMHz: 1030,
+    cost: 1,
+    maxElevationDeg: 45,
+    instrumentedRangeNm: 1000,
+    elevationPattern: { type: 'table', deg: [-90, 90], gainDb: [0, 0] },
+    detection: { referenceRangeNm: 40_000 / 1852 },
+  });
+
+  it('with the sea in view the lowest altitude seen at 20 km rises to the first lobe’s edge; with "off" it stays on the sea', async () => {
+    const out: Record<string, Footprint> = {};
+    for (const [key, mp, land] of [
+      ['true', true, 0],
+      ['false', false, 0],
+      ['island', true, 15_000],
+    ] as const) {
+      const st = seaStrip(mp, land);
+      const site = { id: 'buoy', name: 'Test buoy', lon: -30, lat: -41, mastHeightM: 10 };
+      const r = await computeFootprints(
+        st.terrain,
+        {
+          grid: st.geo,
+          ground: st.data,
+          candidates: [{ site, model: buildSensorModel(spec(), 'x'), target: T() }],
+          kFactor: 1000,
+          maxRangeM: 25_000,
+          multipath: mp,
+          atmosphere: false,
+        },
+        inlineExecutor(st.terrain),
+      );
+      out[key] = r.footprints[0];
+    }
+    // The cell of the middle row about 20 km east of the antenna.
+    const metresPerCell = cell * 111_320 * Math.cos((41 * Math.PI) / 180);
+    const c = Math.round((W - 1) / 2 + 20_000 / metresPerCell);
+    const d = (c - (W - 1) / 2) * metresPerCell;
+    const i = 2 * W + c;
+    const lambda = 299_792_458 / 1.03e9;
+    const expected = (lambda * d * Math.asin(0.25)) / (2 * Math.PI * 10);
+    expect(out.false.lo[i]).toBe(0); // free space down to the sea surface
+    expect(out.true.lo[i]).toBeGreaterThan(0.75 * expected);
+    expect(out.true.lo[i]).toBeLessThan(1.25 * expected);
+    // Above the edge nothing changes.
+    expect(out.true.hi[i]).toBe(out.false.hi[i]);
+    // With land under the specular points (about 8–9 km out here) the reflection is not the sea's: not applied.
+    expect(out.island.lo[i]).toBeLessThan(0.25 * expected);
+  });
 });

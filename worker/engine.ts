@@ -43,12 +43,14 @@ import {
   coveredPoints,
   layerMeta,
   levelAltitudesM,
+  modelWarnings,
   openStudy,
   studyConventions,
   studyDay,
   studyNetwork,
   terrainBounds,
   type Study,
+  type StudyConventions,
   type StudyScenario,
 } from './study.ts';
 
@@ -100,6 +102,13 @@ export interface StudySummary {
   volumes: { id: string; name: string; cells: number }[];
   /** Whether the network computed before still stands (no sensor of it changed). */
   hasCoverage: boolean;
+  /**
+   * What results of this scenario mean (worker/study.ts studyConventions) at the scenario's flight levels: the
+   * target, the day and each level's true altitude on it, k, what "seen" means, the types' spec conventions.
+   */
+  conventions: StudyConventions;
+  /** Warnings of the sensor models (leftover fields), one line each. */
+  warnings: string[];
 }
 
 export interface CoverageSummary {
@@ -109,6 +118,10 @@ export interface CoverageSummary {
   computed: number;
   cached: number;
   volumes: VolumeLevelStats[];
+  /** The conventions of this run (its levels, target, day, k), as the CLI's summary.json states them. */
+  conventions: StudyConventions;
+  /** Warnings of the sensor models, as the CLI prints them. */
+  warnings: string[];
   timingsMs: { footprints: number; network: number; total: number };
 }
 
@@ -335,7 +348,20 @@ export class Engine {
         cells: study.volumeMasks[i].reduce((a, b) => a + b, 0),
       })),
       hasCoverage: this.current !== null,
+      conventions: studyConventions(study, scenario.flightLevels),
+      warnings: modelWarnings(study),
     };
+  }
+
+  /**
+   * The conventions (worker/study.ts studyConventions) at flight levels `fls`: by default the levels of the
+   * network computed last, or the scenario's.
+   */
+  conventions(fls?: number[]): StudyConventions {
+    const study = this.needStudy();
+    const levels =
+      fls && fls.length ? this.levelsOf(fls) : (this.current?.flightLevels ?? this.levelsOf(undefined));
+    return studyConventions(study, levels);
   }
 
   private candidateOf(r: SensorRef, where: string): Candidate {
@@ -405,6 +431,7 @@ export class Engine {
           kFactor: s.earth.kFactor,
           maxRangeM: (s.maxRangeKm ?? 400) * 1000,
           extraTargets: study.targets.slice(1),
+          multipath: s.multipath === 'auto',
         },
         exec,
         {
@@ -478,6 +505,8 @@ export class Engine {
       computed,
       cached: uniq.length - computed,
       volumes,
+      conventions: studyConventions(study, fls, this.current!.altitudes),
+      warnings: modelWarnings(study),
       timingsMs: {
         footprints: Math.round(t1 - t0),
         network: Math.round(t2 - t1),

@@ -5,6 +5,7 @@
  */
 import { CAUTION } from '../../shared/caution.ts';
 import { InputError } from '../../shared/errors.ts';
+import { KFactorSchema, parseWith } from '../../shared/scenario.ts';
 import { formatFl } from '../../shared/units.ts';
 import {
   conventionsText,
@@ -32,7 +33,7 @@ export const COVERAGE_HELP = `airshade coverage — what the network detects at 
 
 Usage:
   airshade coverage SCENARIO.json [--fl 50,100,245] [--layout NAME] [--weather] --out DIR
-                    [--threads N] [--quiet] [--debug]
+                    [--k-sweep 1.3333,1,0.6667,0.5] [--threads N] [--quiet] [--debug]
 
 Computes, on the scenario's analysis grid, every sensor's footprint (terrain-masked line of sight on the
 effective earth, limited by the sensor's detection range per elevation, cone of silence, instrumented and
@@ -45,6 +46,10 @@ Options:
   --fl LIST        flight levels, comma-separated (default: the scenario's flightLevels)
   --layout NAME    the network is this layout of the scenario (default: every allowed site and type)
 ${weatherHelp(19)}
+  --k-sweep LIST   refraction cases: the network again at each effective-earth factor k in LIST (e.g.
+                   1.3333,1,0.6667,0.5 for standard, no and sub-refraction); DIR/k-sweep.json and a table give,
+                   per volume and level, the share meeting its requirement at each k and what is lost against the
+                   scenario's k. A k outside 0.2–20 is refused (near −157 N/km the ray follows the earth: ducting)
   --out DIR        output folder
   --threads N      worker threads (default: one per core; 0 runs on the main thread)
 `;
@@ -53,6 +58,7 @@ const SPEC = {
   fl: { value: true },
   layout: { value: true },
   weather: {},
+  'k-sweep': { value: true },
   out: { value: true },
   threads: { value: true },
   quiet: {},
@@ -94,6 +100,7 @@ export async function coverageCommand(
         : `layout "${layoutName}" (${candidates.length} sensors)`,
   };
   const weather = p.flags.has('weather');
+  const sweep = parseKSweep(one(p, 'k-sweep'));
   for (const w of modelWarnings(session)) log(`warning: ${w}`);
   const tSetup = performance.now();
   const result = { footprints: await footprintsFor(session, candidates, { weather, progress }) };
@@ -164,6 +171,37 @@ export async function coverageCommand(
   };
   writeFileChecked(`${outDir}/summary.json`, JSON.stringify(summary, null, 2) + '\n');
   progress.done();
+  if (sweep) {
+    const cases = [];
+    for (const k of sweep) {
+      progress.update(0.95, `refraction k = ${k}`);
+      const atK = { ...session, loaded: { ...session.loaded, scenario: { ...s, earth: { kFactor: k } } } };
+      const fps = await footprintsFor(atK, candidates, { weather });
+      const net = studyNetwork(atK, fls, fps);
+      cases.push({
+        kFactor: k,
+        volumes: volumeStats(net, s.volumes, masks, fls, grid, session.volumeTargets),
+      });
+    }
+    const table = kSweepTable(s.earth.kFactor, stats, cases, s.volumes);
+    writeFileChecked(
+      `${outDir}/k-sweep.json`,
+      JSON.stringify(
+        {
+          scenario: s.name,
+          caution: CAUTION,
+          conventions,
+          network: choice.label,
+          referenceKFactor: s.earth.kFactor,
+          note: 'per volume and level: the share (%) meeting the requirement at each k, and the loss against the scenario k',
+          rows: table.rows,
+        },
+        null,
+        2,
+      ) + '\n',
+    );
+    log(table.text);
+  }
   log(summaryText(s.name, choice.label, stats, fls, outDir, summary.timingsMs, s.volumes));
   log(conventionsText(summary.conventions));
   if (opts.caution !== false) log(CAUTION);
@@ -215,3 +253,63 @@ function summaryText(
   );
   return lines.join('\n');
 }
+
+/** `--k-sweep 1.3333,1,0.6667`: each k checked as the scenario's kFactor is (the ducting refusal included). */
+function parseKSweep(text: string | undefined): number[] | undefined {
+  if (text === undefined) return undefined;
+  const parts = text.split(',').map((x) => x.trim());
+  const values = parts.map(Number);
+  if (parts.length === 0 || parts.some((x) => x === '') || values.some((v) => !Number.isFinite(v))) {
+    throw new InputError(
+      '--k-sweep',
+      JSON.stringify(text),
+      'effective-earth factors k, comma-separated, e.g. 1.3333,1,0.6667,0.5',
+    );
+  }
+  return values.map((k) => parseWith(KFactorSchema, k, () => '--k-sweep'));
+}
+
+interface KSweepRow {
+  volumeId: string;
+  flightLevel: number;
+  meetsPct: Record<string, number>;
+  /** Percentage points lost at each k against the scenario's k (positive = lost). */
+  lostPts: Record<string, number>;
+}
+
+function kSweepTable(
+  k0: number,
+  base: readonly VolumeLevelStats[],
+  cases: { kFactor: number; volumes: VolumeLevelStats[] }[],
+  volumes: readonly Vol[],
+): { rows: KSweepRow[]; text: string } {
+  const label = (k: number) => `k=${+k.toFixed(4)}`;
+  const rows: KSweepRow[] = base.map((b) => {
+    const meetsPct: Record<string, number> = { [label(k0)]: round1(b.meetsRequirementPct) };
+    const lostPts: Record<string, number> = {};
+    for (const c of cases) {
+      const st = c.volumes.find((x) => x.volumeId === b.volumeId && x.flightLevel === b.flightLevel)!;
+      meetsPct[label(c.kFactor)] = round1(st.meetsRequirementPct);
+      lostPts[label(c.kFactor)] = round1(b.meetsRequirementPct - st.meetsRequirementPct);
+    }
+    return { volumeId: b.volumeId, flightLevel: b.flightLevel, meetsPct, lostPts };
+  });
+  const ks = [k0, ...cases.map((c) => c.kFactor)];
+  const lines = [
+    'refraction cases: share of each volume meeting its requirement (%), and what is lost against k = ' +
+      `${+k0.toFixed(4)} (points)`,
+    `  ${'volume'.padEnd(28)} ${'level'.padEnd(6)} ${ks.map((k) => label(k).padStart(10)).join(' ')}   lost at the lowest k`,
+  ];
+  const lowest = label(Math.min(...cases.map((c) => c.kFactor)));
+  for (const r of rows) {
+    const name = volumes.find((v) => v.id === r.volumeId)?.name ?? r.volumeId;
+    lines.push(
+      `  ${name.slice(0, 28).padEnd(28)} ${formatFl(r.flightLevel).padEnd(6)} ${ks
+        .map((k) => `${r.meetsPct[label(k)].toFixed(1)}`.padStart(10))
+        .join(' ')}   ${(r.lostPts[lowest] ?? 0).toFixed(1).padStart(6)}`,
+    );
+  }
+  return { rows, text: lines.join('\n') + '\n' };
+}
+
+const round1 = (x: number) => Math.round(x * 10) / 10;

@@ -45,6 +45,7 @@ export async function footprintsFor(
         maxRangeM: (s.maxRangeKm ?? 400) * 1000,
         weather: opts.weather,
         extraTargets: session.targets.slice(1),
+        multipath: s.multipath === 'auto',
       },
       pool ? pool.executor() : inlineExecutor(terrain),
       { onProgress: (f, stage) => opts.progress?.update(from + span * f, stage) },

@@ -8,7 +8,8 @@
  * Sensor types on one site share its floor (the horizon cache makes a second run with the same sites free).
  */
 import { computeFloor, type Executor, type Progress } from './floor.ts';
-import { buildFootprint, sensorBand, type Footprint } from './footprint.ts';
+import { buildFootprint, seaBand, sensorBand, type Footprint, type SeaChoice } from './footprint.ts';
+import { firstLobeFactor, reflectionDistanceM, type Polarization } from './multipath.ts';
 import type { GridGeo } from './grid.ts';
 import type { HorizonCache } from './horizon-cache.ts';
 import type { TerrainRaster } from './horizon.ts';
@@ -48,6 +49,11 @@ export interface CoverageRequest {
    * for them in `byTarget`, from the same floor (the band alone depends on the target).
    */
   extraTargets?: readonly Target[];
+  /**
+   * Over-sea lobing (multipath.ts, first-lobe factor) where the specular reflection point lies over sea (surface
+   * within ±SEA_LEVEL_TOLERANCE_M of 0 m); default off. Needs a geographic analysis grid (else not applied).
+   */
+  multipath?: boolean;
   /** Range step along the radials (default: one terrain pixel at the site). */
   rangeStepM?: number;
   /** Arc between neighbouring radials (default: 0.75 of the analysis cell's shorter side). */
@@ -116,6 +122,7 @@ export async function computeFootprints(
     distance: Float32Array,
     antennaAltM: number,
     maxRangeM: number,
+    sea: SeaMask | null,
   ): Footprint => {
     const profile = c.model.profile({
       target,
@@ -125,7 +132,24 @@ export async function computeFootprints(
       atmosphere: req.atmosphere,
     });
     const band = sensorBand(profile, { antennaAltM, reM, maxRangeM });
-    return buildFootprint(c.site.id, c.model, floor, distance, band);
+    let choice: SeaChoice | undefined;
+    if (sea !== null) {
+      const tiltRad = ((c.site.tiltDeg ?? 0) * Math.PI) / 180;
+      const model = c.model;
+      const fMHz = model.spec.frequencyMHz;
+      const voltage = (e: number) => Math.sqrt(model.patternGain(e, tiltRad));
+      const h1 = Math.max(0, antennaAltM);
+      const lobing = (s: number, h: number) =>
+        firstLobeFactor(h1, Math.max(0, h), s, reM, fMHz, LOBING_POLARIZATION, voltage);
+      const over = seaBand(profile, band, { antennaAltM, reM }, lobing);
+      const d1M = new Float64Array(over.lo.length);
+      for (let k = 0; k < d1M.length; k++) {
+        const h = over.lo[k];
+        d1M[k] = h === h ? reflectionDistanceM(h1, Math.max(0, h), k * over.stepM, reM) : NaN;
+      }
+      choice = { band: over, d1M, ...sea };
+    }
+    return buildFootprint(c.site.id, c.model, floor, distance, band, choice);
   };
   let next = groups.length > 0 ? floorOf(groups[0]) : null;
   for (let g = 0; g < groups.length; g++) {
@@ -141,6 +165,7 @@ export async function computeFootprints(
       antennaAltM: res.stats.antennaAltM,
       groundM: res.stats.groundM,
     });
+    const sea = req.multipath ? seaMask(terrain, req.grid, site, distance, res.horizon.layout.maxRangeM) : null;
     for (const c of cands) {
       const fp = footprintFor(
         c,
@@ -149,6 +174,7 @@ export async function computeFootprints(
         distance,
         res.stats.antennaAltM,
         res.horizon.layout.maxRangeM,
+        sea,
       );
       if (req.extraTargets?.length) {
         // Targets that differ only in what this type does not depend on share its footprint.
@@ -156,7 +182,7 @@ export async function computeFootprints(
         fp.byTarget = req.extraTargets.map((t) =>
           c.model.targetKey(t) === key0
             ? fp
-            : footprintFor(c, t, res.floor, distance, res.stats.antennaAltM, res.horizon.layout.maxRangeM),
+            : footprintFor(c, t, res.floor, distance, res.stats.antennaAltM, res.horizon.layout.maxRangeM, sea),
         );
       }
       footprints.push(fp);
@@ -179,4 +205,98 @@ function halfCellM(grid: GridGeo): number {
   return (
     (Math.min(Math.abs(grid.pixelX) * Math.cos((latMid * Math.PI) / 180), Math.abs(grid.pixelY)) * m) / 2
   );
+}
+
+/**
+ * Polarisation taken for the sea reflection: vertical, as SSR antennas radiate and as is usual for L- and S-band
+ * surveillance primaries (common practice, from memory). At the low grazing angles that set the first lobe both
+ * polarisations reflect with Γ ≈ −1; they differ near the Brewster angle (a few degrees), above the first lobe.
+ */
+const LOBING_POLARIZATION: Polarization = 'vertical';
+/** A surface sample within this many metres of 0 m counts as sea (DEMs give the sea as 0 m). */
+export const SEA_LEVEL_TOLERANCE_M = 0.5;
+/**
+ * Sea mask resolution: 360 radials uniform in the "diamond" pseudo-angle (so a cell's radial needs one division, no
+ * atan2; the true spacing is 0.7–1.4°), samples every 500 m out to SEA_MASK_REACH_M (beyond: the last sample).
+ */
+const SEA_RADIALS = 360;
+const SEA_STEP_M = 500;
+const SEA_MASK_REACH_M = 60_000;
+
+type SeaMask = Omit<SeaChoice, 'band' | 'd1M'>;
+
+/** Diamond pseudo-angle of a direction (x east, y north), 0…4, monotone in the compass bearing from north. */
+function diamond(x: number, y: number): number {
+  // Bearing quadrants: north→east [0, 1), east→south [1, 2), south→west [2, 3), west→north [3, 4).
+  if (x >= 0 && y > 0) return x / (x + y);
+  if (x > 0 && y <= 0) return 1 - y / (x - y);
+  if (x <= 0 && y < 0) return 2 - x / (-x - y);
+  if (x < 0 && y >= 0) return 3 + y / (y - x);
+  return 0;
+}
+
+/** The unit direction (x east, y north) of a diamond pseudo-angle. */
+function fromDiamond(p: number, out: number[]): void {
+  const q = Math.floor(p);
+  const f = p - q;
+  let x: number;
+  let y: number;
+  if (q === 0) [x, y] = [f, 1 - f];
+  else if (q === 1) [x, y] = [1 - f, -f];
+  else if (q === 2) [x, y] = [-f, -(1 - f)];
+  else [x, y] = [-(1 - f), f];
+  const n = Math.hypot(x, y);
+  out[0] = x / n;
+  out[1] = y / n;
+}
+
+/**
+ * Which surface lies under each radial of a site (every 500 m out to 60 km), and the radial of each analysis cell;
+ * null where no sea is found (nothing to do) or the grid is not geographic. Positions near the site use the local
+ * equirectangular approximation (within 60 km its error is far below the 500 m sampling). Specular points farther
+ * than 60 km (very low antennas at long range) take the radial's last sample.
+ */
+function seaMask(
+  terrain: TerrainRaster,
+  grid: GridGeo,
+  site: CoverageSite,
+  distance: Float32Array,
+  maxRangeM: number,
+): SeaMask | null {
+  if (grid.crs.kind !== 'geographic') return null;
+  const steps = Math.max(2, Math.ceil(Math.min(SEA_MASK_REACH_M, maxRangeM) / SEA_STEP_M) + 1);
+  const mask = new Uint8Array(SEA_RADIALS * steps);
+  const mPerDegLat = 111_320;
+  const cosLat = Math.cos((site.lat * Math.PI) / 180);
+  const px = [0, 0];
+  const dir = [0, 0];
+  let any = false;
+  for (let a = 0; a < SEA_RADIALS; a++) {
+    fromDiamond(((a + 0.5) * 4) / SEA_RADIALS, dir);
+    const dLon = dir[0] / (mPerDegLat * cosLat);
+    const dLat = dir[1] / mPerDegLat;
+    for (let j = 0; j < steps; j++) {
+      const d = j * SEA_STEP_M;
+      terrain.lonLatToPixel(site.lon + d * dLon, site.lat + d * dLat, px);
+      const z = terrain.samplePixel(px[0], px[1]);
+      if (z >= -SEA_LEVEL_TOLERANCE_M && z <= SEA_LEVEL_TOLERANCE_M) {
+        mask[a * steps + j] = 1;
+        any = true;
+      }
+    }
+  }
+  if (!any) return null;
+  const cellRadial = new Uint16Array(distance.length).fill(65_535);
+  const W = grid.width;
+  const scale = SEA_RADIALS / 4;
+  for (let i = 0; i < distance.length; i++) {
+    if (!(distance[i] === distance[i])) continue;
+    const r = (i / W) | 0;
+    const x = (grid.originX + (i - r * W + 0.5) * grid.pixelX - site.lon) * cosLat;
+    const y = grid.originY + (r + 0.5) * grid.pixelY - site.lat;
+    let b = Math.floor(diamond(x, y) * scale);
+    if (b >= SEA_RADIALS) b = SEA_RADIALS - 1;
+    cellRadial[i] = b;
+  }
+  return { cellRadial, seaMask: mask, steps, stepM: SEA_STEP_M };
 }

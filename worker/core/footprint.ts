@@ -139,6 +139,67 @@ export function sensorBand(profile: DetectionProfile, req: BandRequest): SensorB
   return { stepM, lo, hi };
 }
 
+/**
+ * The band over sea: the same upper edge as `land`, the lower edge raised where over-sea lobing (`lobing`, the
+ * first-lobe factor of multipath.ts, 0…1 and rising with altitude below the first lobe's peak) cuts the range.
+ * Per row: the land band's lower edge if it is still detected, else the first detected altitude above it (a
+ * doubling search, then bisection to 2 m); none if even the top of the land band is not.
+ */
+export function seaBand(
+  profile: DetectionProfile,
+  land: SensorBand,
+  req: Pick<BandRequest, 'antennaAltM' | 'reM'>,
+  lobing: LobingFactor,
+): SensorBand {
+  const n = land.lo.length;
+  const lo = new Float64Array(n).fill(NaN);
+  const ha = req.antennaAltM;
+  const re = req.reM;
+  for (let i = 0; i < n; i++) {
+    const l = land.lo[i];
+    const top = land.hi[i];
+    if (!(l === l) || !(top === top)) continue;
+    const s = i * land.stepM;
+    if (sensorDetects(profile, s, l, ha, re, lobing)) {
+      lo[i] = l;
+      continue;
+    }
+    if (!sensorDetects(profile, s, top, ha, re, lobing)) continue;
+    let a = l;
+    let b = top;
+    for (let step = 25; a + step < b; step *= 2) {
+      if (sensorDetects(profile, s, a + step, ha, re, lobing)) {
+        b = a + step;
+        break;
+      }
+      a += step;
+    }
+    while (b - a > 2) {
+      const m = 0.5 * (a + b);
+      if (sensorDetects(profile, s, m, ha, re, lobing)) b = m;
+      else a = m;
+    }
+    lo[i] = b;
+  }
+  return { stepM: land.stepM, lo, hi: land.hi };
+}
+
+/**
+ * Where the reflection point lies over sea, for `buildFootprint`: the sea band, the reflection point's distance from
+ * the antenna per band row (at the sea band's lower edge), and a sea mask along the site's radials.
+ */
+export interface SeaChoice {
+  band: SensorBand;
+  /** Per band row: distance (m) of the specular point from the antenna; NaN where none. */
+  d1M: Float64Array;
+  /** Per analysis cell: the radial (azimuth bin) it lies on; 65 535 where unknown. */
+  cellRadial: Uint16Array;
+  /** radials × steps: 1 where the surface at that distance along that radial is sea. */
+  seaMask: Uint8Array;
+  steps: number;
+  stepM: number;
+}
+
 /** Whether detection holds all the way from a to b (checked on the coarse ladder). */
 function runsThrough(det: (s: number, h: number) => boolean, s: number, a: number, b: number): boolean {
   for (let h = a; h < b; h += 4 * COARSE_DH_M) if (!det(s, h)) return false;
@@ -165,15 +226,15 @@ export function buildFootprint(
   model: SensorModel,
   floor: Float32Array,
   distance: Float32Array,
-  band: SensorBand,
+  land: SensorBand,
+  sea?: SeaChoice,
 ): Footprint {
   const n = floor.length;
   const lo = new Uint16Array(n);
   const hi = new Uint16Array(n);
-  const { stepM } = band;
-  const bl = band.lo;
-  const bh = band.hi;
-  const last = bl.length - 2;
+  const { stepM } = land;
+  const last = land.lo.length - 2;
+  const seaSteps = sea ? sea.steps : 0;
   for (let i = 0; i < n; i++) {
     const f = floor[i];
     const u = distance[i] / stepM;
@@ -185,6 +246,19 @@ export function buildFootprint(
     }
     if (k < 0) k = 0;
     const w = u - k;
+    let band = land;
+    if (sea !== undefined) {
+      // Over sea when the specular point for this row lies on a sea sample of the cell's radial.
+      const rad = sea.cellRadial[i];
+      const d1 = sea.d1M[k];
+      if (rad !== 65_535 && d1 === d1) {
+        let j = Math.round(d1 / sea.stepM);
+        if (j >= seaSteps) j = seaSteps - 1;
+        if (sea.seaMask[rad * seaSteps + j] === 1) band = sea.band;
+      }
+    }
+    const bl = band.lo;
+    const bh = band.hi;
     const l0 = bl[k];
     const l1 = bl[k + 1];
     const h0 = bh[k];

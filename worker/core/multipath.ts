@@ -445,3 +445,49 @@ export function propagationFactor(p: {
   const im = a * (gammaIm * ck - gammaRe * sk);
   return Math.sqrt(re * re + im * im);
 }
+
+/**
+ * The coverage maps' use of the two-ray model: the range factor over sea relative to free space with the same
+ * pattern, F/g(εd) = |1 + D·ρs·Γ·(g(εr)/g(εd))·exp(−j·2πΔ/λ)|, applied only below the peak of the first (lowest)
+ * lobe — where the reflected ray's phase lag 2πΔ/λ is still short of arg Γ (≈ π at low grazing) — and capped at 1
+ * there; 1 above it. Coverage maps thus show the first lobe's lower edge (the loss of low-angle coverage over
+ * water) but neither the reinforcement of the lobe maxima (up to ×2, not counted: conservative) nor the nulls
+ * between higher lobes (not counted: optimistic for a target that sits in a null; the vertical coverage diagram
+ * is where lobes are read). 1 where no reflection point exists (beyond the smooth-sphere horizon, where the
+ * line-of-sight floor decides). `voltage` is the one-way voltage pattern √g, any scale. No allocation.
+ */
+export function firstLobeFactor(
+  h1M: number,
+  h2M: number,
+  groundRangeM: number,
+  reM: number,
+  fMHz: number,
+  pol: Polarization,
+  voltage: (elevationRad: number) => number,
+  sigmaHM: number = DEFAULT_SEA_RMS_HEIGHT_M,
+): number {
+  if (solveGeometry(h1M, h2M, groundRangeM, reM, scratch) !== SOLVED) return 1;
+  const g = scratch;
+  const lambda = wavelengthM(fMHz);
+  const k = (2 * Math.PI * g.pathDiffM) / lambda;
+  const psi = g.grazingRad;
+  fresnel(psi, fMHz, pol, undefined);
+  let phase = Math.atan2(gammaIm, gammaRe);
+  if (phase <= 0) phase += 2 * Math.PI;
+  if (k >= phase) return 1;
+  const gd = voltage(g.directElevationRad);
+  if (!(gd > 0)) return 1;
+  const rough = (2 * Math.PI * sigmaHM * Math.sin(psi)) / lambda;
+  const a = (g.divergence * Math.exp(-2 * rough * rough) * voltage(g.reflectedElevationRad)) / gd;
+  const ck = Math.cos(k);
+  const sk = Math.sin(k);
+  const re = 1 + a * (gammaRe * ck + gammaIm * sk);
+  const im = a * (gammaIm * ck - gammaRe * sk);
+  const f = Math.sqrt(re * re + im * im);
+  return f < 1 ? f : 1;
+}
+
+/** The specular point's distance from the antenna (m), or NaN where none exists. */
+export function reflectionDistanceM(h1M: number, h2M: number, groundRangeM: number, reM: number): number {
+  return solveGeometry(h1M, h2M, groundRangeM, reM, scratch) === SOLVED ? scratch.d1M : NaN;
+}
