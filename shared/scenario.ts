@@ -484,23 +484,58 @@ export const AreaGeometrySchema = z.discriminatedUnion('type', [PolygonSchema, M
 const FOLD_TEXT = 'a whole number ≥ 0 of sensors';
 const Fold = whole(FOLD_TEXT).min(0, { error: FOLD_TEXT });
 
+const FT_TEXT = 'an altitude in feet from -1500 to 60000';
+const Feet = inRange(-1500, 60_000, FT_TEXT);
+
+/**
+ * A volume's vertical extent given as altitudes instead of flight levels: feet above mean sea level (`amsl`) or
+ * above each cell's ground (`agl`: low-level routes). The scenario's flight levels whose true altitude on the day
+ * falls inside it (above each cell's ground for `agl`) are the levels the volume is evaluated at.
+ */
+export const AltitudeBandSchema = strictObject({
+  reference: z.enum(['amsl', 'agl']),
+  minFt: Feet,
+  maxFt: Feet,
+}).superRefine((b, ctx) => {
+  if (num(b.minFt) && num(b.maxFt) && b.minFt > b.maxFt) {
+    problem(ctx, ['maxFt'], `maxFt ${b.maxFt} below minFt ${b.minFt}`, 'minFt ≤ maxFt');
+  }
+}, always);
+export type AltitudeBand = z.output<typeof AltitudeBandSchema>;
+
 export const VolumeSchema = strictObject({
   id: Id,
   name: Name,
   polygon: AreaGeometrySchema,
-  flMin: FlightLevelSchema,
-  flMax: FlightLevelSchema,
+  /** The band in flight levels; with `altitudeBand` both may be left out (then every level may apply). */
+  flMin: FlightLevelSchema.optional(),
+  flMax: FlightLevelSchema.optional(),
+  altitudeBand: AltitudeBandSchema.optional(),
   requiredFold: strictObject({ primary: Fold.optional(), secondary: Fold.optional(), any: Fold.optional() }),
   weight: positive('relative demand weight').default(SCENARIO_DEFAULTS.volumeWeight),
   /** This volume's own target (e.g. a terminal area studied for small aircraft); default the scenario's. */
   targetRcsM2: Rcs.optional(),
   targetFluctuation: z.enum(FLUCTUATION_IDS).optional(),
   targetTransponder: z.enum(TRANSPONDER_IDS).optional(),
-}).superRefine((v, ctx) => {
-  if (num(v.flMin) && num(v.flMax) && v.flMin > v.flMax) {
-    problem(ctx, ['flMax'], `flMax ${v.flMax} below flMin ${v.flMin}`, 'flMin ≤ flMax');
-  }
-}, always);
+})
+  .superRefine((v, ctx) => {
+    if (num(v.flMin) && num(v.flMax) && v.flMin > v.flMax) {
+      problem(ctx, ['flMax'], `flMax ${v.flMax} below flMin ${v.flMin}`, 'flMin ≤ flMax');
+    }
+    if (v.altitudeBand === undefined) {
+      for (const k of ['flMin', 'flMax'] as const) {
+        if (v[k] === undefined) {
+          problem(
+            ctx,
+            [k],
+            showValue(undefined),
+            `${FL_TEXT} — or give the band as altitudeBand { reference: "amsl" | "agl", minFt, maxFt }`,
+          );
+        }
+      }
+    }
+  }, always)
+  .transform((v) => ({ ...v, flMin: v.flMin ?? FL_MIN, flMax: v.flMax ?? FL_MAX }));
 export type Volume = z.output<typeof VolumeSchema>;
 
 // ---------------------------------------------------------------------------------------------------

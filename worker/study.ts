@@ -15,7 +15,7 @@ import { buildSensorModel, describeTarget, type SensorModel, type Target } from 
 import { trueAltitudeM, STANDARD_DAY, type Day } from './core/altimetry.ts';
 import { flToMetres } from '../shared/units.ts';
 import type { Terrain } from './core/terrain.ts';
-import { rasterizeVolume, rowAreasKm2 } from './core/volumes.ts';
+import { cellsAtLevel, rasterizeVolume, rowAreasKm2 } from './core/volumes.ts';
 import { checkAgainstTerrain } from './io/scenario-text.ts';
 
 /** The scenario as a study needs it: where it came from (for messages), its content and its field locator. */
@@ -226,10 +226,11 @@ export function buildDemand(session: Study, fls: readonly number[]): Demand {
   const vol: number[] = [];
   const cell: number[] = [];
   const level: number[] = [];
+  const altitudes = levelAltitudesM(s, fls);
   s.volumes.forEach((v, vi) => {
     fls.forEach((fl, f) => {
-      if (fl < v.flMin || fl > v.flMax) return;
-      const m = session.volumeMasks[vi];
+      const m = cellsAtLevel(v, session.volumeMasks[vi], fl, altitudes[f], session.ground);
+      if (m === null) return;
       for (let c = 0; c < m.length; c++) {
         if (!m[c]) continue;
         vol.push(vi);

@@ -45,10 +45,14 @@ export interface FixtureVolume {
   name: string;
   polygon:
     { type: 'Polygon'; coordinates: number[][][] } | { type: 'MultiPolygon'; coordinates: number[][][][] };
-  flMin: number;
-  flMax: number;
+  flMin?: number;
+  flMax?: number;
+  altitudeBand?: { reference: 'amsl' | 'agl'; minFt: number; maxFt: number };
   requiredFold: { primary?: number; secondary?: number; any?: number };
   weight?: number;
+  targetRcsM2?: number;
+  targetFluctuation?: string;
+  targetTransponder?: string;
 }
 
 export interface FixtureLayout {

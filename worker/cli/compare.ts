@@ -94,8 +94,22 @@ export async function compareCommand(argv: readonly string[], log: (s: string) =
     footprints,
     all.map((c) => inB.has(key(c))),
   );
-  const servedA = servedMasks(netA, s.volumes, session.volumeMasks, fls, session.volumeTargets);
-  const servedB = servedMasks(netB, s.volumes, session.volumeMasks, fls, session.volumeTargets);
+  const servedA = servedMasks(
+    netA,
+    s.volumes,
+    session.volumeMasks,
+    fls,
+    session.volumeTargets,
+    session.ground,
+  );
+  const servedB = servedMasks(
+    netB,
+    s.volumes,
+    session.volumeMasks,
+    fls,
+    session.volumeTargets,
+    session.ground,
+  );
   const gained = difference(servedB, servedA);
   const lost = difference(servedA, servedB);
   progress.update(0.95, 'layers');
@@ -131,7 +145,15 @@ export async function compareCommand(argv: readonly string[], log: (s: string) =
     name,
     cost: layoutCost(session, sensors),
     sensors: sensors.map((c) => ({ siteId: c.site.id, typeId: c.model.spec.id })),
-    volumes: volumeStats(net, s.volumes, session.volumeMasks, fls, session.grid, session.volumeTargets),
+    volumes: volumeStats(
+      net,
+      s.volumes,
+      session.volumeMasks,
+      fls,
+      session.grid,
+      session.volumeTargets,
+      session.ground,
+    ),
   });
   const A = side(nameA, a, netA);
   const B = side(nameB, b, netB);

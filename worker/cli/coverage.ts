@@ -119,7 +119,7 @@ export async function coverageCommand(
   progress.update(0.9, 'statistics');
   const conventions = studyConventions(session, fls, altitudes);
   const masks = session.volumeMasks;
-  const stats = volumeStats(network, s.volumes, masks, fls, grid, session.volumeTargets);
+  const stats = volumeStats(network, s.volumes, masks, fls, grid, session.volumeTargets, session.ground);
   progress.update(0.92, 'layers');
   for (let f = 0; f < fls.length; f++) {
     const fc = levelLayers(
@@ -131,6 +131,7 @@ export async function coverageCommand(
       masks,
       layerMeta(conventions),
       session.volumeTargets,
+      session.ground,
     );
     writeFileChecked(`${outDir}/coverage-${formatFl(fls[f])}.geojson`, stringifyGeoJson(fc));
   }
@@ -180,7 +181,7 @@ export async function coverageCommand(
       const net = studyNetwork(atK, fls, fps);
       cases.push({
         kFactor: k,
-        volumes: volumeStats(net, s.volumes, masks, fls, grid, session.volumeTargets),
+        volumes: volumeStats(net, s.volumes, masks, fls, grid, session.volumeTargets, session.ground),
       });
     }
     const table = kSweepTable(s.earth.kFactor, stats, cases, s.volumes);

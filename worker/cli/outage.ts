@@ -132,6 +132,7 @@ export async function outageCommand(argv: readonly string[], log: (s: string) =>
     siteIds,
     (siteId, lost) => lostBySite.set(siteId, lost),
     session.volumeTargets,
+    session.ground,
   );
   const tableMs = performance.now() - tBuilt;
   progress.update(0.95, 'layers');

@@ -146,6 +146,7 @@ export async function planCommand(argv: readonly string[], log: (s: string) => v
       session.volumeMasks,
       layerMeta(studyConventions(session, fls, altitudes)),
       session.volumeTargets,
+      session.ground,
     );
     writeFileChecked(`${outDir}/plan-coverage-${formatFl(fls[f])}.geojson`, stringifyGeoJson(fc));
   }
@@ -206,7 +207,15 @@ function planDocument(
     totalWeight: r.totalWeight,
     method: r.method,
     entries,
-    volumes: volumeStats(network, s.volumes, session.volumeMasks, fls, session.grid, session.volumeTargets),
+    volumes: volumeStats(
+      network,
+      s.volumes,
+      session.volumeMasks,
+      fls,
+      session.grid,
+      session.volumeTargets,
+      session.ground,
+    ),
     unmeetable,
     log: r.log,
     caution: CAUTION,

@@ -8,7 +8,7 @@
  */
 import type { GridGeo } from './grid.ts';
 import type { Network } from './network.ts';
-import { meets, rowAreasKm2, type VolumeLike } from './volumes.ts';
+import { cellsAtLevel, meets, rowAreasKm2, type VolumeLike } from './volumes.ts';
 
 export interface LevelLoss {
   volumeId: string;
@@ -33,16 +33,18 @@ export function servedMasks(
   flightLevels: readonly number[],
   /** Per volume, the index of its target in the network (default 0: the study's target). */
   volumeTargets?: readonly number[],
+  /** Ground per cell (m), for volumes with an AGL band. */
+  ground?: Float32Array,
 ): Map<string, Uint8Array> {
   const out = new Map<string, Uint8Array>();
   volumes.forEach((v, vi) => {
     const t = volumeTargets?.[vi] ?? 0;
     flightLevels.forEach((fl, f) => {
-      if (fl < v.flMin || fl > v.flMax) return;
+      const vm = cellsAtLevel(v, masks[vi], fl, network.altitudesM[f], ground);
+      if (vm === null) return;
       const any = network.foldOf('any', f, t);
       const pri = network.foldOf('primary', f, t);
       const sec = network.foldOf('secondary', f, t);
-      const vm = masks[vi];
       const m = new Uint8Array(vm.length);
       for (let i = 0; i < vm.length; i++)
         if (vm[i] && meets(v.requiredFold, any[i], pri[i], sec[i])) m[i] = 1;
@@ -110,8 +112,9 @@ export function outageTable(
   siteIds?: readonly string[],
   onLoss?: (siteId: string, lost: Map<string, Uint8Array>) => void,
   volumeTargets?: readonly number[],
+  ground?: Float32Array,
 ): SiteLoss[] {
-  const base = servedMasks(network, volumes, masks, flightLevels, volumeTargets);
+  const base = servedMasks(network, volumes, masks, flightLevels, volumeTargets, ground);
   const rowArea = rowAreasKm2(grid);
   const W = grid.width;
   const ids = siteIds ?? network.siteIds().filter((id) => network.isSiteActive(id));

@@ -3,6 +3,7 @@
  * per volume and flight level (covered share and area, area meeting the volume's required folds, fold
  * histograms per kind).
  */
+import { FT_M } from '../../shared/units.ts';
 import type { GridGeo } from './grid.ts';
 import { KINDS, type FoldKind, type Network } from './network.ts';
 
@@ -17,8 +18,42 @@ export interface VolumeLike {
     { type: 'Polygon'; coordinates: number[][][] } | { type: 'MultiPolygon'; coordinates: number[][][][] };
   flMin: number;
   flMax: number;
+  /** The band as altitudes (feet AMSL or above the cell's ground) instead of flight levels (shared/scenario.ts). */
+  altitudeBand?: { reference: 'amsl' | 'agl'; minFt: number; maxFt: number };
   requiredFold: { primary?: number; secondary?: number; any?: number };
   weight?: number;
+}
+
+/**
+ * The cells of volume `v` at one level — flight level `fl`, true altitude `altitudeM` on the study's day: null
+ * when the level lies outside the volume's band; its cells (`mask`) for a flight-level or AMSL band that holds the
+ * level; for an AGL band the cells whose ground (`ground`, m) plus the band holds the altitude (null if none).
+ */
+export function cellsAtLevel(
+  v: VolumeLike,
+  mask: Uint8Array,
+  fl: number,
+  altitudeM: number,
+  ground?: Float32Array,
+): Uint8Array | null {
+  if (fl < v.flMin || fl > v.flMax) return null;
+  const b = v.altitudeBand;
+  if (b === undefined) return mask;
+  const lo = b.minFt * FT_M;
+  const hi = b.maxFt * FT_M;
+  if (b.reference === 'amsl') return altitudeM >= lo && altitudeM <= hi ? mask : null;
+  if (ground === undefined) throw new Error(`cellsAtLevel: volume ${v.id} has an AGL band: pass the ground`);
+  const out = new Uint8Array(mask.length);
+  let any = false;
+  for (let i = 0; i < mask.length; i++) {
+    if (!mask[i]) continue;
+    const above = altitudeM - ground[i];
+    if (above >= lo && above <= hi) {
+      out[i] = 1;
+      any = true;
+    }
+  }
+  return any ? out : null;
 }
 
 /** Cells of a geographic grid whose centres lie inside the polygon (even–odd rule, holes excluded). */
@@ -97,14 +132,16 @@ export function volumeStats(
   grid: GridGeo,
   /** Per volume, the index of its target in the network (default 0: the study's target). */
   volumeTargets?: readonly number[],
+  /** Ground per cell (m), for volumes with an AGL band. */
+  ground?: Float32Array,
 ): VolumeLevelStats[] {
   const rowArea = rowAreasKm2(grid);
   const W = grid.width;
   const out: VolumeLevelStats[] = [];
   volumes.forEach((v, vi) => {
-    const mask = masks[vi];
     flightLevels.forEach((fl, f) => {
-      if (fl < v.flMin || fl > v.flMax) return;
+      const mask = cellsAtLevel(v, masks[vi], fl, network.altitudesM[f], ground);
+      if (mask === null) return;
       const t = volumeTargets?.[vi] ?? 0;
       const any = network.foldOf('any', f, t);
       const pri = network.foldOf('primary', f, t);

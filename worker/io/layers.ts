@@ -6,7 +6,7 @@ import type { Scenario } from '../../shared/scenario.ts';
 import { maskAreaKm2, maskToPolygons } from '../core/contour.ts';
 import type { GridGeo } from '../core/grid.ts';
 import { KINDS, type Network } from '../core/network.ts';
-import { meets } from '../core/volumes.ts';
+import { cellsAtLevel, meets } from '../core/volumes.ts';
 import { featureCollection, layerFeature, type LayerFeatureProps } from './geojson.ts';
 
 type Vol = Scenario['volumes'][number];
@@ -45,6 +45,8 @@ export function levelLayers(
   meta: Record<string, unknown> = {},
   /** Per volume, the index of its target in the network (default 0: the study's target). */
   volumeTargets?: readonly number[],
+  /** Ground per cell (m), for volumes with an AGL band. */
+  ground?: Float32Array,
 ) {
   const features = [];
   const cells = grid.width * grid.height;
@@ -70,12 +72,12 @@ export function levelLayers(
     }
   }
   volumes.forEach((v, vi) => {
-    if (fl < v.flMin || fl > v.flMax) return;
+    const vm = cellsAtLevel(v, masks[vi], fl, altitudeM, ground);
+    if (vm === null) return;
     const t = volumeTargets?.[vi] ?? 0;
     const any = network.foldOf('any', f, t);
     const pri = network.foldOf('primary', f, t);
     const sec = network.foldOf('secondary', f, t);
-    const vm = masks[vi];
     let n = 0;
     for (let i = 0; i < cells; i++) {
       mask[i] = vm[i] && !meets(v.requiredFold, any[i], pri[i], sec[i]) ? 1 : 0;
