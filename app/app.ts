@@ -31,7 +31,7 @@ import {
   stateFromScenario,
   type WorkState,
 } from './state.ts';
-import { fmtAltitude, fmtLonLat } from './units.ts';
+import { fmtAltitude, fmtLevel, fmtLonLat } from './units.ts';
 
 const DEMO_URL = 'data/demo-scenario.json';
 const SAVE_KEY = 'airshade-work';
@@ -121,6 +121,9 @@ export class App {
       h('option', { value: 'metric' }, 'km · m · FL'),
     );
     const about = h('dialog', { id: 'about' });
+    // Filled from the engine's conventions once a scenario is loaded (render()).
+    this.el.aboutSeen = h('p', { id: 'about-seen' });
+    this.el.aboutDay = h('p', { id: 'about-day' });
     clear(
       about,
       h('h2', {}, 'About Airshade'),
@@ -145,7 +148,15 @@ export class App {
           'Detection ranges come from the sensor models entered; real performance depends on the site, the equipment and its maintenance.',
         ),
       ),
-      h('p', {}, 'Flight levels are converted to altitude in the ICAO standard atmosphere (FL × 100 ft).'),
+      h('h3', {}, 'What “seen” means'),
+      this.el.aboutSeen,
+      h('h3', {}, 'Flight levels and the day'),
+      h(
+        'p',
+        { id: 'about-levels' },
+        'Flight levels are pressure altitudes (FL × 100 ft in the ICAO standard atmosphere), not heights. Airshade takes each level at its true altitude on the study’s day — its sea-level pressure (QNH) and temperature, set in the Coverage panel — and shows that altitude beside the level. On a cold, low-pressure day aircraft at a given level fly lower than on a standard day.',
+      ),
+      this.el.aboutDay,
       h('button', { onclick: () => about.close() }, 'Close'),
     );
     const progress = h('progress', { id: 'progress', max: 1, value: 0 });
@@ -224,7 +235,27 @@ export class App {
   render(): void {
     renderPanel(this, this.el.panel);
     this.el.title.textContent = this.state ? this.state.doc.name : '';
+    this.renderAbout();
     this.renderLegend();
+  }
+
+  /** The true altitude (m AMSL) of a flight level on the study's day, as the engine computed it. */
+  levelAltitudeM(fl: number): number | undefined {
+    const from = (c: StudySummary['conventions'] | undefined) =>
+      c?.levels.find((l) => l.flightLevel === fl)?.trueAltitudeM;
+    return from(this.study?.conventions) ?? from(this.coverage?.conventions);
+  }
+
+  /** The parts of About & cautions that come from the study: what "seen" means, and this study's day. */
+  private renderAbout(): void {
+    const c = this.study?.conventions;
+    if (!c) return;
+    this.el.aboutSeen.textContent =
+      c.seen.replace(/^seen = /, '').replace(/^./, (x) => x.toUpperCase()) + '.';
+    const u = this.state?.units ?? 'aviation';
+    this.el.aboutDay.textContent = `This study: ${c.day.text}; ${c.levels
+      .map((l) => `${formatFl(l.flightLevel)} at ${fmtAltitude(l.trueAltitudeM, u)}`)
+      .join(', ')}.`;
   }
 
   setMode(mode: App['mode']): void {
@@ -395,6 +426,7 @@ export class App {
     this.save();
     this.refreshVectors();
     this.render();
+    this.redrawDiagram();
     if (coverageRunning || (hadCoverage && (!study.hasCoverage || opts.recompute))) {
       // Something under the network changed (a site moved, a type edited), or a run was under way on the old
       // scenario: run again; the footprint cache keeps everything that did not change.
@@ -404,6 +436,16 @@ export class App {
       await this.refreshImages();
     }
     return true;
+  }
+
+  /** A diagram on show is drawn again after an edit (its site, type, target or day may have changed). */
+  private redrawDiagram(): void {
+    const pick = this.diagramPick;
+    if (!this.diagramSvg || !pick?.typeId) return;
+    const site = this.state.doc.sites.features.find((f) => f.properties.id === pick.siteId);
+    const allowed = site?.properties.allowedTypes ?? this.state.doc.sensorTypes.map((t) => t.id);
+    if (site && allowed.includes(pick.typeId) && this.state.doc.sensorTypes.some((t) => t.id === pick.typeId))
+      void this.drawDiagram(this.azimuth);
   }
 
   /** View-only changes (units, layers, level, failures) need no validation. */
@@ -516,6 +558,8 @@ export class App {
       await this.map.setImage('compare-lost', await this.engine.layerImage('lost', fl, kind));
     }
     this.renderLegend();
+    // The read-out under a still cursor follows what is drawn (another level, a new run, another day).
+    if (this.probeAt) this.probe(...this.probeAt);
   }
 
   floorLegend: { value: number; color: string }[] = [];
@@ -534,7 +578,7 @@ export class App {
           h(
             'strong',
             {},
-            `Sites seeing each cell at ${formatFl(fl)} (${kind === 'any' ? 'any kind' : kind})`,
+            `Sites seeing each cell at ${fmtLevel(fl, this.levelAltitudeM(fl), u)}, ${kind === 'any' ? 'any kind' : kind}`,
           ),
           h(
             'div',
@@ -721,7 +765,11 @@ export class App {
     this.render();
   }
 
+  /** Where the cursor was last over the map: the read-out is taken again there when the results change. */
+  private probeAt: [number, number] | null = null;
+
   private probe(lon: number, lat: number): void {
+    this.probeAt = [lon, lat];
     this.probeNext = [lon, lat];
     if (this.probeBusy || !this.engine) return;
     this.probeBusy = true;
@@ -741,7 +789,7 @@ export class App {
           );
           if (r.fold)
             parts.push(
-              `sites at ${formatFl(this.state.view.fl)}: ${r.fold.any} (PSR ${r.fold.primary}, SSR ${r.fold.secondary})`,
+              `sites at ${fmtLevel(this.state.view.fl, this.levelAltitudeM(this.state.view.fl), u)}: ${r.fold.any} (PSR ${r.fold.primary}, SSR ${r.fold.secondary})`,
             );
         }
         this.el.readout.textContent = parts.join(' · ');

@@ -3,8 +3,9 @@
  * own. Inputs apply on change; a rejected value stays in its field, marked, with the message above the panel.
  */
 import { CAUTION } from '../shared/caution.ts';
-import { flToMetres, formatFl } from '../shared/units.ts';
-import type { SensorType } from '../shared/scenario.ts';
+import { formatFl } from '../shared/units.ts';
+import { FLUCTUATION_IDS, TRANSPONDER_IDS, type SensorType } from '../shared/scenario.ts';
+import type { StudyConventions } from '../worker/study.ts';
 import type { App } from './app.ts';
 import { clear, download, h, table } from './dom.ts';
 import { progressProxy } from './engine-client.ts';
@@ -20,11 +21,17 @@ import {
   removeSite,
   removeVolume,
   replaceSensorType,
+  COLD_DAY,
+  dayOf,
+  isColdDay,
   saveLayout,
   scenarioFileText,
   sensorSetKey,
+  setDay,
   setFlightLevels,
   setNetwork,
+  setTarget,
+  setVolumeTarget,
   stateFromScenario,
   toggleSensor,
   useLayout,
@@ -35,6 +42,7 @@ import {
   type WorkState,
 } from './state.ts';
 import {
+  fmtAltitude,
   fmtArea,
   fmtCost,
   fmtLevel,
@@ -106,7 +114,12 @@ export function renderPanel(app: App, el: HTMLElement): void {
 }
 
 /** Applies an edit of the state; a thrown error marks the input and shows the message (the value is kept). */
-async function tryEdit(app: App, input: HTMLElement | null, edit: () => WorkState): Promise<void> {
+async function tryEdit(
+  app: App,
+  input: HTMLElement | null,
+  edit: () => WorkState,
+  opts: { recompute?: boolean } = {},
+): Promise<void> {
   let next: WorkState;
   try {
     next = edit();
@@ -116,11 +129,11 @@ async function tryEdit(app: App, input: HTMLElement | null, edit: () => WorkStat
     return;
   }
   input?.classList.remove('invalid');
-  await app.commit(next);
+  await app.commit(next, opts);
 }
 
 function numberIn(
-  value: number,
+  value: number | '',
   attrs: Record<string, string | number>,
   onValue: (v: number, el: HTMLInputElement) => void,
 ): HTMLInputElement {
@@ -344,9 +357,24 @@ function sitesPanel(app: App): HTMLElement {
         {},
         numberIn(
           heightToUser(p.mastHeightM, u),
-          { 'aria-label': `mast of ${p.id}`, className: 'short', min: 0 },
+          { 'aria-label': `mast of ${p.id}`, className: 'short stacked', min: 0 },
           (v, el) =>
             void tryEdit(app, el, () => editSite(app.state, p.id, { mastHeightM: heightFromUser(v, u) })),
+        ),
+        numberIn(
+          p.tiltDeg ?? 0,
+          {
+            'aria-label': `tilt of ${p.id}`,
+            className: 'short stacked',
+            min: -10,
+            max: 20,
+            step: 0.1,
+            title: 'antenna tilt, degrees above the horizontal (−10 to 20; empty = 0)',
+          },
+          (v, el) =>
+            void tryEdit(app, el, () =>
+              editSite(app.state, p.id, { tiltDeg: el.value.trim() === '' ? null : v }),
+            ),
         ),
       ),
       h(
@@ -409,7 +437,7 @@ function sitesPanel(app: App): HTMLElement {
           {},
           h('th', {}, 'Name / id'),
           h('th', {}, 'Lon, lat (°)'),
-          h('th', {}, `Mast (${heightUnit(u)})`),
+          h('th', {}, `Mast (${heightUnit(u)}) / tilt (°)`),
           h('th', {}, 'Site cost (M)'),
           h('th', {}, 'Exists'),
           h('th', {}, 'Types: allowed · in network'),
@@ -634,15 +662,18 @@ function volumesPanel(app: App): HTMLElement {
     'div',
     {},
     h('h2', {}, 'Airspace'),
+    targetSection(app),
+    h('h3', {}, 'Volumes'),
     h(
       'p',
       { className: 'hint' },
-      `Volumes to be seen: a polygon, a band of flight levels (${fmtLevel(s.doc.flightLevels[0], u)} …), the number of distinct sites required per kind, and a weight for the planner.`,
+      `Volumes to be seen: a polygon, a band of flight levels (${fmtLevel(s.doc.flightLevels[0], app.levelAltitudeM(s.doc.flightLevels[0]), u)} …), the number of distinct sites required per kind, and a weight for the planner.`,
     ),
     table(['Name / id', 'Band (FL)', 'Sites required', 'Weight', ''], rows, {
       id: 'volume-table',
       className: 'wide',
     }),
+    volumeTargets(app),
     section(
       'New volume',
       h('label', {}, 'Name ', newName),
@@ -689,6 +720,146 @@ function volumesPanel(app: App): HTMLElement {
   );
 }
 
+// ------------------------------------------------------------------------------------------------- target
+
+type FluctuationId = (typeof FLUCTUATION_IDS)[number];
+type TransponderId = (typeof TRANSPONDER_IDS)[number];
+
+/** Swerling cases in plain words: whether the echo fluctuates, and how fast. */
+const FLUCTUATION_LABELS: Record<FluctuationId, string> = {
+  swerling0: 'Swerling 0 (steady echo)',
+  swerling1: 'Swerling 1 (fluctuates scan to scan)',
+  swerling2: 'Swerling 2 (fluctuates pulse to pulse)',
+  swerling3: 'Swerling 3 (one strong reflector, scan to scan)',
+  swerling4: 'Swerling 4 (one strong reflector, pulse to pulse)',
+};
+/** Short forms for the per-volume table. */
+const FLUCTUATION_SHORT: Record<FluctuationId, string> = {
+  swerling0: 'Swerling 0 (steady)',
+  swerling1: 'Swerling 1',
+  swerling2: 'Swerling 2',
+  swerling3: 'Swerling 3',
+  swerling4: 'Swerling 4',
+};
+/** Transponder classes in plain words (the class's minimum reply power). */
+const TRANSPONDER_LABELS: Record<TransponderId, string> = {
+  'low-power': 'Low power, 70 W or more (below 15,000 ft, up to 175 kt)',
+  'high-power': 'High power, 125 W or more (above 15,000 ft or faster than 175 kt)',
+};
+const TRANSPONDER_SHORT: Record<TransponderId, string> = {
+  'low-power': 'low power',
+  'high-power': 'high power',
+};
+
+function choice<T extends string>(
+  attrs: Record<string, string>,
+  options: [T | '', string][],
+  value: T | '',
+  onValue: (v: T | '', el: HTMLSelectElement) => void,
+): HTMLSelectElement {
+  const el = h('select', attrs, ...options.map(([v, label]) => h('option', { value: v }, label)));
+  el.value = value;
+  el.addEventListener('change', () => onValue(el.value as T | '', el));
+  return el;
+}
+
+/** The study's target: what every primary must detect and every secondary must hear. */
+function targetSection(app: App): HTMLElement {
+  const d = app.state.doc;
+  const rcs = numberIn(
+    d.targetRcsM2,
+    { id: 'target-rcs', className: 'short', min: 0, 'aria-label': 'target radar cross-section (m²)' },
+    (v, el) => void tryEdit(app, el, () => setTarget(app.state, { targetRcsM2: v })),
+  );
+  const fluct = choice(
+    { id: 'target-fluctuation', 'aria-label': 'target fluctuation' },
+    FLUCTUATION_IDS.map((x) => [x, FLUCTUATION_LABELS[x]]),
+    d.targetFluctuation,
+    (v, el) => void tryEdit(app, el, () => setTarget(app.state, { targetFluctuation: v as FluctuationId })),
+  );
+  const xpdr = choice(
+    { id: 'target-transponder', 'aria-label': 'target transponder' },
+    TRANSPONDER_IDS.map((x) => [x, TRANSPONDER_LABELS[x]]),
+    d.targetTransponder,
+    (v, el) => void tryEdit(app, el, () => setTarget(app.state, { targetTransponder: v as TransponderId })),
+  );
+  return h(
+    'section',
+    { className: 'block target', id: 'target' },
+    h('h3', {}, 'Target aircraft'),
+    h(
+      'p',
+      { className: 'hint' },
+      'What every sensor must see. A primary radar sees the aircraft by its echo: its radar cross-section (RCS) and how that echo fluctuates. A secondary radar sees it by its transponder’s replies.',
+    ),
+    h('div', { className: 'field' }, h('label', { for: 'target-rcs' }, 'Radar cross-section (m²)'), rcs),
+    h('div', { className: 'field' }, h('label', { for: 'target-fluctuation' }, 'Echo fluctuation'), fluct),
+    h('div', { className: 'field' }, h('label', { for: 'target-transponder' }, 'Transponder'), xpdr),
+  );
+}
+
+/** Each volume's own target (blank or "study's" = the study's target). */
+function volumeTargets(app: App): HTMLElement | null {
+  const s = app.state;
+  if (s.doc.volumes.length === 0) return null;
+  const rows = s.doc.volumes.map((v) => {
+    const rcs = numberIn(
+      v.targetRcsM2 ?? '',
+      {
+        className: 'short',
+        min: 0,
+        placeholder: String(s.doc.targetRcsM2),
+        'aria-label': `target RCS of ${v.id}`,
+      },
+      (x, el) =>
+        void tryEdit(app, el, () =>
+          setVolumeTarget(app.state, v.id, { targetRcsM2: el.value.trim() === '' ? null : x }),
+        ),
+    );
+    const fluct = choice(
+      { 'aria-label': `target fluctuation of ${v.id}`, title: 'echo fluctuation (Swerling case)' },
+      [
+        ['', `study’s: ${FLUCTUATION_SHORT[s.doc.targetFluctuation]}`],
+        ...FLUCTUATION_IDS.map((x): [FluctuationId, string] => [x, FLUCTUATION_SHORT[x]]),
+      ],
+      v.targetFluctuation ?? '',
+      (x, el) =>
+        void tryEdit(app, el, () =>
+          setVolumeTarget(app.state, v.id, { targetFluctuation: x === '' ? null : x }),
+        ),
+    );
+    const xpdr = choice(
+      {
+        'aria-label': `target transponder of ${v.id}`,
+        title: 'low power: 70 W or more; high power: 125 W or more',
+      },
+      [
+        ['', `study’s: ${TRANSPONDER_SHORT[s.doc.targetTransponder]}`],
+        ...TRANSPONDER_IDS.map((x): [TransponderId, string] => [x, TRANSPONDER_SHORT[x]]),
+      ],
+      v.targetTransponder ?? '',
+      (x, el) =>
+        void tryEdit(app, el, () =>
+          setVolumeTarget(app.state, v.id, { targetTransponder: x === '' ? null : x }),
+        ),
+    );
+    return [v.name, rcs, fluct, xpdr];
+  });
+  return h(
+    'div',
+    {},
+    h(
+      'p',
+      { className: 'hint' },
+      'A volume may study an aircraft of its own (e.g. small aircraft in a terminal area); blank = the target above.',
+    ),
+    table(['Volume', 'RCS (m²)', 'Fluctuation', 'Transponder'], rows, {
+      id: 'volume-target-table',
+      className: 'wide',
+    }),
+  );
+}
+
 // ----------------------------------------------------------------------------------------------- coverage
 
 const LAYER_NAMES: [LayerId, string][] = [
@@ -714,7 +885,7 @@ function viewControls(app: App): HTMLElement {
         void app.refreshImages();
       },
     },
-    ...levels.map((x) => h('option', { value: x }, fmtLevel(x, s.units))),
+    ...levels.map((x) => h('option', { value: x }, fmtLevel(x, app.levelAltitudeM(x), s.units))),
   );
   fl.value = String(s.view.fl);
   const kind = h(
@@ -791,11 +962,16 @@ function coveragePanel(app: App): HTMLElement {
           { id: 'coverage-summary' },
           `${c.sensors.length} sensors; ${c.computed} footprints computed, ${c.cached} from the cache; ${(c.timingsMs.total / 1000).toFixed(1)} s.`,
         ),
+        conventionsBlock(app, c.conventions, c.warnings),
         table(
           ['Volume', 'Level', 'Area', 'Seen', 'Meets requirement'],
           c.volumes.map((v) => [
             s.doc.volumes.find((x) => x.id === v.volumeId)?.name ?? v.volumeId,
-            formatFl(v.flightLevel),
+            levelCell(
+              v.flightLevel,
+              c.conventions.levels.find((l) => l.flightLevel === v.flightLevel)?.trueAltitudeM,
+              u,
+            ),
             fmtArea(v.areaKm2, u),
             fmtPct(v.coveredPct),
             fmtPct(v.meetsRequirementPct),
@@ -814,6 +990,7 @@ function coveragePanel(app: App): HTMLElement {
       `Terrain-masked line of sight on an effective earth (k = ${+s.doc.earth.kFactor.toFixed(4)}), limited by each sensor's detection range, elevation and cone of silence. Network: ${s.network.length} sensors on ${new Set(s.network.map((r) => r.siteId)).size} sites.`,
     ),
     h('label', {}, 'Flight levels ', flText),
+    dayControls(app),
     h(
       'div',
       {},
@@ -830,6 +1007,109 @@ function coveragePanel(app: App): HTMLElement {
     ),
     result,
     viewControls(app),
+  );
+}
+
+/** The day: one switch for a cold, low-pressure day, the two numbers, and the levels' true altitudes on it. */
+function dayControls(app: App): HTMLElement {
+  const s = app.state;
+  const u = s.units;
+  const day = dayOf(s);
+  const edit = (el: HTMLElement, f: () => WorkState) => void tryEdit(app, el, f, { recompute: true });
+  const cold = h('input', { type: 'checkbox', id: 'day-cold', checked: isColdDay(s) });
+  cold.addEventListener('change', () =>
+    edit(cold, () => setDay(app.state, cold.checked ? { ...COLD_DAY } : null)),
+  );
+  const qnh = numberIn(
+    day.qnhHpa,
+    { id: 'day-qnh', min: 870, max: 1090, 'aria-label': 'QNH (hPa)' },
+    (v, el) => edit(el, () => setDay(app.state, { qnhHpa: v })),
+  );
+  const isa = numberIn(
+    day.isaDeviationC,
+    {
+      id: 'day-isa',
+      className: 'tiny',
+      min: -60,
+      max: 40,
+      'aria-label': 'temperature vs. the standard atmosphere (°C)',
+      title: 'degrees warmer (+) or colder (−) than the ICAO standard atmosphere, −60 to +40',
+    },
+    (v, el) => edit(el, () => setDay(app.state, { isaDeviationC: v })),
+  );
+  const c = app.study?.conventions;
+  return h(
+    'section',
+    { className: 'block day', id: 'day' },
+    h('h3', {}, 'The day'),
+    h(
+      'label',
+      {},
+      cold,
+      ` Cold, low-pressure day (QNH ${COLD_DAY.qnhHpa} hPa, ${-COLD_DAY.isaDeviationC} °C colder than standard)`,
+    ),
+    h('div', {}, h('label', {}, 'QNH (hPa) ', qnh), h('label', {}, 'Temperature vs. standard (°C) ', isa)),
+    c
+      ? h(
+          'p',
+          { className: 'hint', id: 'level-altitudes' },
+          `${c.day.text}. Flight levels are pressure altitudes; on this day they lie at ${c.levels
+            .map((l) => `${formatFl(l.flightLevel)} ${fmtAltitude(l.trueAltitudeM, u)}`)
+            .join(', ')}.`,
+        )
+      : null,
+  );
+}
+
+/** A flight level in a table, its true altitude on the day below it. */
+function levelCell(fl: number, altitudeM: number | undefined, u: WorkState['units']): HTMLElement {
+  return h(
+    'span',
+    {},
+    formatFl(fl),
+    altitudeM === undefined ? null : h('div', { className: 'sub' }, fmtAltitude(altitudeM, u)),
+  );
+}
+
+/** What a coverage run assumed — the target, the day, k — and the sensor models' warnings, if any. */
+function conventionsBlock(app: App, c: StudyConventions, warnings: string[]): HTMLElement {
+  const s = app.state;
+  const volName = (id: string) => s.doc.volumes.find((v) => v.id === id)?.name ?? id;
+  const standard = c.day.qnhHpa === 1013.25 && c.day.isaDeviationC === 0;
+  return h(
+    'div',
+    { id: 'coverage-conventions', className: 'conventions' },
+    h('div', {}, h('strong', {}, 'Target: '), c.target.text),
+    ...c.volumeTargets.map((v) =>
+      h('div', { className: 'sub-line' }, `${volName(v.volumeId)}: its own target, ${v.text}`),
+    ),
+    h(
+      'div',
+      {},
+      h('strong', {}, 'Day: '),
+      standard ? c.day.text : `${c.day.text} (each level at its true altitude on this day, as in the table)`,
+    ),
+    h(
+      'div',
+      {},
+      h('strong', {}, 'Refraction: '),
+      `k = ${+c.kFactor.toFixed(4)} (effective earth radius ${Math.round(c.kFactor * 6371).toLocaleString('en')} km); sea reflection ${c.multipath === 'auto' ? 'modelled over sea' : 'off'}`,
+    ),
+    h(
+      'details',
+      {},
+      h('summary', {}, 'What “seen” means, and how each sensor type is specified'),
+      h('p', {}, c.seen.replace(/^seen = /, 'Seen: ')),
+      h('ul', {}, ...c.sensorTypes.map((t) => h('li', {}, h('strong', {}, `${t.id}: `), t.convention))),
+    ),
+    warnings.length
+      ? h(
+          'div',
+          { className: 'warn', id: 'coverage-warnings' },
+          h('strong', {}, `Sensor type warning${warnings.length > 1 ? 's' : ''}:`),
+          h('ul', {}, ...warnings.map((w) => h('li', {}, w))),
+        )
+      : null,
   );
 }
 
@@ -1362,6 +1642,9 @@ function filesPanel(app: App): HTMLElement {
   const summary = () => ({
     scenario: s.doc.name,
     caution: CAUTION,
+    // What the figures mean, as the CLI's summary.json states it: the run's, else the scenario's as it stands.
+    conventions: app.coverage?.conventions ?? app.study?.conventions ?? null,
+    warnings: app.coverage?.warnings ?? app.study?.warnings ?? [],
     network: s.network,
     coverage: app.coverage,
     outage: app.outage,
@@ -1473,7 +1756,7 @@ function filesPanel(app: App): HTMLElement {
       h(
         'p',
         { className: 'hint' },
-        `Altitudes in the files are metres AMSL (FL ${s.doc.flightLevels[0]} = ${flToMetres(s.doc.flightLevels[0]).toFixed(0)} m). The vertical coverage diagram is saved from the Profile panel.`,
+        `Altitudes in the files are true altitudes on the study’s day, metres AMSL (${formatFl(s.doc.flightLevels[0])} = ${app.levelAltitudeM(s.doc.flightLevels[0])?.toFixed(0) ?? '…'} m${app.study ? `; ${app.study.conventions.day.text}` : ''}). The vertical coverage diagram is saved from the Profile panel.`,
       ),
     ),
   );

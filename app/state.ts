@@ -175,6 +175,8 @@ export function moveSite(state: WorkState, id: string, lon: number, lat: number)
 
 export type SitePatch = Partial<Pick<SiteProperties, 'name' | 'mastHeightM' | 'siteCost' | 'existing'>> & {
   allowedTypes?: string[] | null;
+  /** Antenna tilt in degrees (−10…20); null removes it (the default, 0°). */
+  tiltDeg?: number | null;
   lon?: number;
   lat?: number;
 };
@@ -182,10 +184,12 @@ export type SitePatch = Partial<Pick<SiteProperties, 'name' | 'mastHeightM' | 's
 export function editSite(state: WorkState, id: string, patch: SitePatch): WorkState {
   return withDoc(state, (doc) => {
     const f = findSite(doc, id);
-    const { allowedTypes, lon, lat, ...rest } = patch;
+    const { allowedTypes, lon, lat, tiltDeg, ...rest } = patch;
     Object.assign(f.properties, rest);
     if (allowedTypes === null) delete f.properties.allowedTypes;
     else if (allowedTypes !== undefined) f.properties.allowedTypes = allowedTypes;
+    if (tiltDeg === null) delete f.properties.tiltDeg;
+    else if (tiltDeg !== undefined) f.properties.tiltDeg = tiltDeg;
     if (lon !== undefined || lat !== undefined)
       f.geometry.coordinates = [
         round6(lon ?? f.geometry.coordinates[0]),
@@ -269,6 +273,69 @@ export function editVolume(state: WorkState, id: string, patch: Partial<Volume>)
 export function removeVolume(state: WorkState, id: string): WorkState {
   return withDoc(state, (doc) => {
     doc.volumes = doc.volumes.filter((v) => v.id !== id);
+  });
+}
+
+// ------------------------------------------------------------------------------------ the target, the day
+
+/** The fields that name the target the study looks for (the scenario's, or a volume's own). */
+export type TargetFields = Pick<Scenario, 'targetRcsM2' | 'targetFluctuation' | 'targetTransponder'>;
+/** A change of a volume's own target: a value sets it, null removes it (the volume then studies the scenario's). */
+export type VolumeTargetPatch = { [K in keyof TargetFields]?: TargetFields[K] | null };
+export const TARGET_KEYS = ['targetRcsM2', 'targetFluctuation', 'targetTransponder'] as const;
+
+/** Sets the study's target (RCS m², Swerling case, transponder class); the schema checks every value. */
+export function setTarget(state: WorkState, patch: Partial<TargetFields>): WorkState {
+  return withDoc(state, (doc) => {
+    for (const k of TARGET_KEYS) if (k in patch) (doc as Record<string, unknown>)[k] = patch[k];
+  });
+}
+
+/** Sets or removes (null) a volume's own target fields; the others stay as they are. */
+export function setVolumeTarget(state: WorkState, id: string, patch: VolumeTargetPatch): WorkState {
+  return withDoc(state, (doc) => {
+    const v = doc.volumes.find((x) => x.id === id);
+    if (!v) throw new InputError('volume', JSON.stringify(id), 'the id of a volume in the scenario');
+    for (const k of TARGET_KEYS) {
+      if (!(k in patch)) continue;
+      const x = patch[k];
+      if (x === null || x === undefined) delete v[k];
+      else (v as Record<string, unknown>)[k] = x;
+    }
+  });
+}
+
+/** The day of a study: sea-level pressure (QNH, hPa) and the deviation from the ISA temperature (°C). */
+export type Day = NonNullable<Scenario['day']>;
+/** The ICAO standard day (what a scenario without `day` studies). */
+export const STANDARD_DAY: Day = Object.freeze({ qnhHpa: 1013.25, isaDeviationC: 0 });
+/** The switch "Cold, low-pressure day": flight levels sit lowest on such a day. */
+export const COLD_DAY: Day = Object.freeze({ qnhHpa: 980, isaDeviationC: -20 });
+
+/** The day a state studies (the standard day when the scenario gives none). */
+export function dayOf(state: WorkState): Day {
+  return state.doc.day ?? STANDARD_DAY;
+}
+
+export function isColdDay(state: WorkState): boolean {
+  const d = state.doc.day;
+  return d !== undefined && d.qnhHpa === COLD_DAY.qnhHpa && d.isaDeviationC === COLD_DAY.isaDeviationC;
+}
+
+/**
+ * Sets the day (schema-checked: QNH 870…1090 hPa, ISA deviation −60…+40 °C), or removes it with null; a part
+ * left out keeps its present value. The standard day is stored as no day at all (the scenario's default).
+ */
+export function setDay(state: WorkState, day: Partial<Day> | null): WorkState {
+  return withDoc(state, (doc) => {
+    if (day === null) {
+      delete doc.day;
+      return;
+    }
+    const next = { ...(doc.day ?? STANDARD_DAY), ...day };
+    if (next.qnhHpa === STANDARD_DAY.qnhHpa && next.isaDeviationC === STANDARD_DAY.isaDeviationC)
+      delete doc.day;
+    else doc.day = next;
   });
 }
 

@@ -3,7 +3,7 @@
  * aviation (NM, ft, FL) or metric (km, m). Flight levels are shown as FL in both. Every formatted number carries
  * its unit. Inside the program everything is SI (shared/units.ts does the conversions).
  */
-import { FT_M, NM_M, flToMetres, formatFl } from '../shared/units.ts';
+import { FT_M, NM_M, formatFl } from '../shared/units.ts';
 import type { Units } from './state.ts';
 
 const KM2_PER_NM2 = (NM_M / 1000) ** 2;
@@ -46,8 +46,12 @@ export function fmtArea(km2: number, u: Units): string {
     : `${Math.round(km2).toLocaleString('en')} km²`;
 }
 
-export function fmtLevel(fl: number, u: Units): string {
-  return `${formatFl(fl)} (${fmtAltitude(flToMetres(fl), u)})`;
+/**
+ * A flight level with its true altitude on the study's day (`altitudeM`, from the engine: a flight level is a
+ * pressure altitude, so it sits lower on a cold or low-pressure day); the level alone when that is not known yet.
+ */
+export function fmtLevel(fl: number, altitudeM: number | undefined, u: Units): string {
+  return altitudeM === undefined ? formatFl(fl) : `${formatFl(fl)} (${fmtAltitude(altitudeM, u)})`;
 }
 
 export function fmtPct(v: number): string {

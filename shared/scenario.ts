@@ -5,8 +5,15 @@
  * is the CLI's job (worker/cli/scenario.ts); this module sees only plain values.
  *
  * The file contract is DESIGN §5. Optional extras and their defaults:
- * - `targetRcsM2` (scenario): target radar cross-section for primary sensors, default 2 m² (a small
- *   aircraft; common practice). A sensor type's own `targetRcsM2` overrides it.
+ * - The study's target (scenario, or a volume's own): `targetRcsM2` (default 2 m², common practice),
+ *   `targetFluctuation` (default "swerling1", common practice for aircraft seen scan to scan),
+ *   `targetTransponder` (default "low-power", the conservative class). A sensor type's leftover `targetRcsM2`
+ *   loads with a warning and is ignored: the target belongs to the study.
+ * - `day` { qnhHpa, isaDeviationC }: flight levels (pressure altitudes) are taken at their true altitude on that
+ *   day (worker/core/altimetry.ts); default the ISA standard day. `multipath`: "auto" (default) applies over-sea
+ *   lobing where the reflection point lies over sea; "off" never.
+ * - Volume `altitudeBand` { reference: "amsl" | "agl", minFt, maxFt } instead of (or besides) flMin/flMax.
+ * - Site `tiltDeg`: antenna tilt, degrees (default 0).
  * - `maxRangeKm` (scenario): how far from a site the analysis goes, default 400 km.
  * - `grid.bounds` {west, south, east, north} (degrees): the analysis area; when absent, the terrain's
  *   extent. Areas crossing the antimeridian are not supported.
@@ -15,7 +22,10 @@
  *   physical detection `hitsIntegrated`, and `detection.antenna` { apertureM2, efficiency } as the
  *   alternative to `antennaGainDbi` (exactly one of the two). These stay absent when not given: their
  *   defaults belong to the sensor model (worker/core/sensor.ts: 0.5 NM, 0 dB, 2·startDeg, 1 pulse).
- *   The physical form is for primary sensors; secondary sensors take `{ referenceRangeNm }` only.
+ *   The physical form is for primary sensors; secondary sensors take `{ referenceRangeNm, referenceElevationDeg? }`
+ *   or SSR link parameters `{ interrogatorPowerW, antennaGainDbi, cableLossDb, receiverSensitivityDbm }`. A
+ *   primary's spec point may state `referencePd`, `referencePfa`, `referenceFluctuation`, `referenceElevationDeg`
+ *   and `hitsIntegrated` (sensor.ts: SPEC_POINT_DEFAULTS).
  * - Site `existing` defaults to false; a site without `allowedTypes` may take every sensor type.
  * - Volume `weight` defaults to 1.
  *

@@ -14,14 +14,18 @@ import {
   type Volume,
 } from '../shared/scenario.ts';
 import { loadScenario } from '../worker/cli/scenario.ts';
+import { readSitesCsv } from '../worker/io/scenario-text.ts';
 import {
   addSensorType,
   addSite,
   addVolume,
+  COLD_DAY,
+  dayOf,
   DEFAULT_LAYERS,
   editSite,
   editVolume,
   errorLines,
+  isColdDay,
   moveSite,
   removeLayout,
   removeSensorType,
@@ -31,12 +35,17 @@ import {
   restoreState,
   saveLayout,
   scenarioFileText,
+  setDay,
   setFailed,
   setFlightLevels,
   setNetwork,
+  setTarget,
+  setVolumeTarget,
+  STANDARD_DAY,
   stateFromScenario,
   toggleSensor,
   useLayout,
+  validateDoc,
   type SensorRef,
   type WorkState,
 } from '../app/state.ts';
@@ -577,6 +586,203 @@ describe('network and layouts', () => {
 
 // ---------------------------------------------------------------------------------------------------
 
+describe('the target, the day and the antenna tilt', () => {
+  const volumeOf = (s: WorkState, id: string) => {
+    const v = s.doc.volumes.find((x) => x.id === id);
+    if (!v) throw new Error(`test: no volume ${id}`);
+    return v;
+  };
+  const RCS_TEXT = 'expected a radar cross-section > 0 m²';
+
+  it('the demo studies the schema defaults: 2 m², Swerling 1, low-power transponder, the standard day', () => {
+    const s = fresh();
+    expect([s.doc.targetRcsM2, s.doc.targetFluctuation, s.doc.targetTransponder]).toEqual([
+      2,
+      'swerling1',
+      'low-power',
+    ]);
+    expect(s.doc.day).toBeUndefined();
+    expect(dayOf(s)).toEqual(STANDARD_DAY);
+    expect(isColdDay(s)).toBe(false);
+  });
+
+  it('setTarget sets RCS, fluctuation and transponder, one or all at once, leaving the rest', () => {
+    const s = fresh();
+    const a = applied(s, (x) => setTarget(x, { targetRcsM2: 0.5 }));
+    expect([a.doc.targetRcsM2, a.doc.targetFluctuation, a.doc.targetTransponder]).toEqual([
+      0.5,
+      'swerling1',
+      'low-power',
+    ]);
+    const b = applied(a, (x) =>
+      setTarget(x, { targetFluctuation: 'swerling3', targetTransponder: 'high-power' }),
+    );
+    expect([b.doc.targetRcsM2, b.doc.targetFluctuation, b.doc.targetTransponder]).toEqual([
+      0.5,
+      'swerling3',
+      'high-power',
+    ]);
+    for (const f of ['swerling0', 'swerling1', 'swerling2', 'swerling3', 'swerling4'] as const)
+      expect(setTarget(s, { targetFluctuation: f }).doc.targetFluctuation).toBe(f);
+    // Other parts of the scenario are untouched.
+    expect(b.doc.volumes).toEqual(s.doc.volumes);
+    expect(b.network).toEqual(s.network);
+  });
+
+  it('setTarget refuses an RCS ≤ 0 or not a number, an unknown Swerling case or transponder class', () => {
+    const s = fresh();
+    for (const bad of [0, -1, NaN, Infinity]) {
+      const e = expectRefused(s, (x) => setTarget(x, { targetRcsM2: bad }), 'targetRcsM2');
+      expect(e.message).toContain(RCS_TEXT);
+    }
+    const f = expectRefused(
+      s,
+      (x) => setTarget(x, { targetFluctuation: 'swerling5' as never }),
+      'targetFluctuation',
+    );
+    expect(f.message).toContain('found "swerling5"');
+    expect(f.message).toContain('"swerling0", "swerling1", "swerling2", "swerling3", "swerling4"');
+    const t = expectRefused(
+      s,
+      (x) => setTarget(x, { targetTransponder: 'medium' as never }),
+      'targetTransponder',
+    );
+    expect(t.message).toContain('expected one of "high-power", "low-power"');
+  });
+
+  it('setVolumeTarget gives a volume its own target field by field; null gives it back the study’s', () => {
+    const s = fresh();
+    const id = 'zellantis-terminal';
+    const a = applied(s, (x) => setVolumeTarget(x, id, { targetRcsM2: 1, targetFluctuation: 'swerling2' }));
+    expect(volumeOf(a, id)).toMatchObject({ targetRcsM2: 1, targetFluctuation: 'swerling2' });
+    expect(volumeOf(a, id).targetTransponder).toBeUndefined();
+    const b = applied(a, (x) => setVolumeTarget(x, id, { targetRcsM2: null }));
+    expect('targetRcsM2' in volumeOf(b, id)).toBe(false);
+    expect(volumeOf(b, id).targetFluctuation).toBe('swerling2');
+    // The demo's en-route block studies high-power transponders of its own: removing that leaves no override.
+    const c = applied(b, (x) => setVolumeTarget(x, 'upper-enroute', { targetTransponder: null }));
+    expect(volumeOf(b, 'upper-enroute').targetTransponder).toBe('high-power');
+    expect('targetTransponder' in volumeOf(c, 'upper-enroute')).toBe(false);
+    // Only that volume changes.
+    expect(volumeOf(c, 'vaskerrow-terminal')).toEqual(volumeOf(s, 'vaskerrow-terminal'));
+  });
+
+  it('setVolumeTarget refuses bad values naming the volume’s field, and an unknown volume', () => {
+    const s = fresh();
+    const i = s.doc.volumes.findIndex((v) => v.id === 'zellantis-terminal');
+    const e = expectRefused(
+      s,
+      (x) => setVolumeTarget(x, 'zellantis-terminal', { targetRcsM2: 0 }),
+      `volumes[${i}].targetRcsM2`,
+    );
+    expect(e.message).toContain(RCS_TEXT);
+    expectRefused(
+      s,
+      (x) => setVolumeTarget(x, 'zellantis-terminal', { targetFluctuation: 'rayleigh' as never }),
+      `volumes[${i}].targetFluctuation`,
+    );
+    expectRefused(
+      s,
+      (x) => setVolumeTarget(x, 'zellantis-terminal', { targetTransponder: 'none' as never }),
+      `volumes[${i}].targetTransponder`,
+    );
+    const u = expectRefused(s, (x) => setVolumeTarget(x, 'no-such-volume', { targetRcsM2: 1 }), 'volume');
+    expect(u.message).toBe('volume: found "no-such-volume"; expected the id of a volume in the scenario');
+  });
+
+  it('setDay: the cold, low-pressure day on and off; one number at a time; the standard day stored as none', () => {
+    const s = fresh();
+    const cold = applied(s, (x) => setDay(x, { ...COLD_DAY }));
+    expect(cold.doc.day).toEqual({ qnhHpa: 980, isaDeviationC: -20 });
+    expect(isColdDay(cold)).toBe(true);
+    expect(dayOf(cold)).toEqual(COLD_DAY);
+    const off = applied(cold, (x) => setDay(x, null));
+    expect('day' in off.doc).toBe(false);
+    expect(isColdDay(off)).toBe(false);
+    // One number at a time: the other keeps its value (the standard one when there was no day).
+    const warm = applied(s, (x) => setDay(x, { isaDeviationC: 15 }));
+    expect(warm.doc.day).toEqual({ qnhHpa: 1013.25, isaDeviationC: 15 });
+    expect(isColdDay(warm)).toBe(false);
+    const low = applied(cold, (x) => setDay(x, { qnhHpa: 995 }));
+    expect(low.doc.day).toEqual({ qnhHpa: 995, isaDeviationC: -20 });
+    expect(isColdDay(low)).toBe(false);
+    // Back to the standard values: the scenario has no day again (its default).
+    expect('day' in setDay(warm, { isaDeviationC: 0 }).doc).toBe(false);
+    // The limits themselves are accepted.
+    expect(setDay(s, { qnhHpa: 870, isaDeviationC: -60 }).doc.day).toEqual({
+      qnhHpa: 870,
+      isaDeviationC: -60,
+    });
+    expect(setDay(s, { qnhHpa: 1090, isaDeviationC: 40 }).doc.day).toEqual({
+      qnhHpa: 1090,
+      isaDeviationC: 40,
+    });
+  });
+
+  it('setDay refuses a QNH outside 870…1090 hPa and a deviation outside −60…+40 °C, naming the field', () => {
+    const s = fresh();
+    for (const q of [869, 1091, 800, NaN]) {
+      const e = expectRefused(s, (x) => setDay(x, { qnhHpa: q }), 'day.qnhHpa');
+      expect(e.message).toContain('expected a sea-level pressure (QNH) in hPa from 870 to 1090');
+    }
+    const cold = setDay(s, { ...COLD_DAY });
+    for (const t of [-61, 41, NaN]) {
+      const e = expectRefused(cold, (x) => setDay(x, { isaDeviationC: t }), 'day.isaDeviationC');
+      expect(e.message).toContain('expected a temperature deviation from the ISA in °C from −60 to +40');
+    }
+  });
+
+  it('editSite sets the antenna tilt (−10…20°); null removes it (0°); beyond is refused', () => {
+    const s = fresh();
+    const i = siteIds(s).indexOf('vessamor');
+    const up = applied(s, (x) => editSite(x, 'vessamor', { tiltDeg: 2.5 }));
+    expect(siteOf(up, 'vessamor').properties.tiltDeg).toBe(2.5);
+    expect(siteOf(editSite(s, 'vessamor', { tiltDeg: -10 }), 'vessamor').properties.tiltDeg).toBe(-10);
+    expect(siteOf(editSite(s, 'vessamor', { tiltDeg: 20 }), 'vessamor').properties.tiltDeg).toBe(20);
+    const none = applied(up, (x) => editSite(x, 'vessamor', { tiltDeg: null }));
+    expect('tiltDeg' in siteOf(none, 'vessamor').properties).toBe(false);
+    // Other sites keep theirs.
+    expect(siteOf(up, 'karvessa')).toEqual(siteOf(s, 'karvessa'));
+    for (const bad of [20.5, -11, NaN]) {
+      const e = expectRefused(
+        s,
+        (x) => editSite(x, 'vessamor', { tiltDeg: bad }),
+        `sites.features[${i}].properties.tiltDeg`,
+      );
+      expect(e.message).toContain('expected an antenna tilt from −10 to 20 degrees');
+    }
+  });
+  it('a sites CSV with a tiltDeg column replaces the sites as the Sites panel does; a tilt beyond 20° is refused', () => {
+    const s = fresh();
+    // The demo's own sites as a CSV file (the layouts name them all), karvessa with a tilt and one cell empty.
+    const csv = (tilt: string) =>
+      [
+        'lon,lat,id,name,mastHeightM,siteCost,existing,allowedTypes,tiltDeg',
+        ...s.doc.sites.features.map((f) => {
+          const p = f.properties;
+          const t = p.id === 'karvessa' ? tilt : '';
+          return `${f.geometry.coordinates.join(',')},${p.id},"${p.name}",${p.mastHeightM},${p.siteCost},${p.existing},${(p.allowedTypes ?? []).join(';')},${t}`;
+        }),
+      ].join('\n') + '\n';
+    // What the panel does with a picked file: the sites replaced, the whole scenario checked, the network kept.
+    const replaced = (text: string) => {
+      const doc = {
+        ...s.doc,
+        sites: readSitesCsv(text, 'sites.csv').collection,
+      } as unknown as WorkState['doc'];
+      validateDoc(doc, 'sites.csv');
+      return setNetwork({ ...s, doc }, s.network);
+    };
+    const next = replaced(csv('-1.5'));
+    expect(siteOf(next, 'karvessa').properties.tiltDeg).toBe(-1.5);
+    expect(siteOf(next, 'vessamor').properties.tiltDeg).toBeUndefined(); // an empty cell: no tilt (0°)
+    const e = expectRefused(s, () => replaced(csv('30')), 'tiltDeg');
+    expect(e.message).toContain('expected an antenna tilt from −10 to 20 degrees');
+  });
+});
+
+// ---------------------------------------------------------------------------------------------------
+
 describe('the scenario file', () => {
   /** A demo state with one of each kind of edit. */
   function edited(): WorkState {
@@ -585,7 +791,10 @@ describe('the scenario file', () => {
     s = addVolume(s, newVolume());
     s = toggleSensor(s, 'tessaline', 'psr-s-gapfiller', true);
     s = saveLayout(s, 'with tessaline');
-    s = editSite(s, 'vessamor', { mastHeightM: 18 });
+    s = editSite(s, 'vessamor', { mastHeightM: 18, tiltDeg: 1.5 });
+    s = setTarget(s, { targetRcsM2: 0.5, targetFluctuation: 'swerling2', targetTransponder: 'high-power' });
+    s = setVolumeTarget(s, 'zellantis-terminal', { targetRcsM2: 1 });
+    s = setDay(s, { ...COLD_DAY });
     return s;
   }
 
@@ -600,6 +809,14 @@ describe('the scenario file', () => {
     expect(rebuilt.doc.volumes).toEqual(s.doc.volumes);
     expect(rebuilt.doc.layouts).toEqual(s.doc.layouts);
     expect(rebuilt.doc.flightLevels).toEqual(s.doc.flightLevels);
+    // The target, the day and the tilt travel with the file.
+    expect(rebuilt.doc.day).toEqual(COLD_DAY);
+    expect([rebuilt.doc.targetRcsM2, rebuilt.doc.targetFluctuation, rebuilt.doc.targetTransponder]).toEqual([
+      0.5,
+      'swerling2',
+      'high-power',
+    ]);
+    expect(siteOf(rebuilt, 'vessamor').properties.tiltDeg).toBe(1.5);
     expect(rebuilt.doc).toEqual(s.doc);
   });
 

@@ -298,7 +298,10 @@ describe('airshade floor: bad input, one message each', () => {
     );
     expectMessage(
       r,
-      new RegExp(`--k: found ${k.replace('.', '\\.')}; expected an effective-earth factor k > 0`),
+      // k ≤ 0: a refractivity gradient of −157 N/km or steeper ducts (ITU-R P.452 eq. (5): k = 157/(157 − ΔN)).
+      new RegExp(
+        `--k: found ${k.replace('.', '\\.')}; expected an effective earth radius factor k from 0.2 to 20 .*ducting`,
+      ),
     );
   });
   it('an unknown option', async () => {

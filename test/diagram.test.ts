@@ -375,3 +375,34 @@ describe('SVG', () => {
     expect(XMLValidator.validate(`<t>${s}</t>`)).toBe(true);
   });
 });
+
+describe('over-sea lobing in the diagram (two-ray model, Blake 1980 / Barton 2005 [memory]; multipath.ts)', () => {
+  // A 20 NM secondary on a 10 m mast: at a few km the first lobe's underside decides the lowest altitude seen.
+  const weak = cosec2Sensor({ startDeg: 2, endDeg: 45, maxElevationDeg: 40, referenceRangeNm: 20 });
+  const run = (surfaceM: number, multipath: boolean) => {
+    const { terrain, site } = grid(201, 250, () => surfaceM);
+    return diagramData(terrain, { ...site, mastM: 10 }, weak, {
+      azimuthDeg: 90,
+      maxRangeM: 20_000,
+      target: TARGET,
+      flightLevels: [],
+      atmosphere: false,
+      multipath,
+    });
+  };
+  it('over sea the envelope’s lower edge rises (the first lobe); over land, or with lobing off, it does not', () => {
+    const sea = run(0, true);
+    const off = run(0, false);
+    const land = run(5, true);
+    expect(sea.seaLobingRows).toBeGreaterThan(10);
+    expect(off.seaLobingRows).toBe(0);
+    expect(land.seaLobingRows).toBe(0);
+    let higher = 0;
+    for (let i = 0; i < sea.envelope.loM.length; i++) {
+      expect(sea.envelope.loM[i] >= off.envelope.loM[i] || Number.isNaN(off.envelope.loM[i])).toBe(true);
+      if (sea.envelope.loM[i] > off.envelope.loM[i] + 1) higher++;
+    }
+    expect(higher).toBeGreaterThan(10);
+    expect(renderDiagramSvg(sea, { title: 't', units: 'metric' })).toMatch(/first interference lobe/);
+  });
+});

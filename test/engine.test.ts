@@ -4,7 +4,7 @@
  * the core; this checks the engine's own wiring — footprint cache, network, outages, plan), recompute only what a
  * moved site changes, stop on cancel without losing the state, and refuse bad input without losing the state.
  */
-import { mkdtempSync, readFileSync, rmSync } from 'node:fs';
+import { mkdtempSync, readFileSync, rmSync, writeFileSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
@@ -13,6 +13,7 @@ import { docOf, type ScenarioDoc } from '../app/state.ts';
 import { Network } from '../worker/core/network.ts';
 import { outageTable } from '../worker/core/outage.ts';
 import { Cancelled, Engine, type SensorRef } from '../worker/engine.ts';
+import type { StudyConventions } from '../worker/study.ts';
 import { mercatorRowLatitudes } from '../worker/render.ts';
 import { loadScenario } from '../worker/cli/scenario.ts';
 import { writeE2eData, E2E_LAYOUT_NAME, type E2eData } from './e2e/fixture.ts';
@@ -29,14 +30,40 @@ const bytes = (p: string) => {
   return b.buffer.slice(b.byteOffset, b.byteOffset + b.byteLength) as ArrayBuffer;
 };
 
-async function engineOn(d: ScenarioDoc = doc): Promise<Engine> {
+async function engineOn(d: ScenarioDoc = doc, display = 'fixture'): Promise<Engine> {
   const e = new Engine();
   await e.loadTiles(
     tiles.map((t) => ({ name: t.name, buffer: t.buffer.slice(0) })),
     true,
-    { input: d, display: 'fixture' },
+    { input: d, display },
   );
   return e;
+}
+
+/** Conventions without the sensor models' warnings (whose place names the file as each side read it). */
+const sansWarnings = (c: StudyConventions) => ({
+  ...c,
+  sensorTypes: c.sensorTypes.map((t) => ({ id: t.id, convention: t.convention })),
+});
+
+/** `airshade coverage` of the fixture's layout on a copy of the scenario with `change`, in the data folder. */
+async function cliCoverage(name: string, change: Record<string, unknown>) {
+  const path = join(dir, `${name}.scenario.json`);
+  writeFileSync(path, JSON.stringify({ ...data.scenario, ...change }, null, 2));
+  const out = join(dir, name);
+  const cli = await runCli(
+    'coverage',
+    path,
+    '--layout',
+    E2E_LAYOUT_NAME,
+    '--out',
+    out,
+    '--threads',
+    '0',
+    '--quiet',
+  );
+  expect(cli.code).toBe(0);
+  return JSON.parse(readFileSync(join(out, 'summary.json'), 'utf8'));
 }
 
 beforeAll(async () => {
@@ -87,6 +114,73 @@ describe('engine', () => {
     expect(again.cached).toBe(layout.length - atSite);
     const fresh = await (await engineOn(moved)).coverage(layout, undefined);
     expect(again.volumes).toEqual(fresh.volumes);
+  });
+
+  it('states the conventions of a run as `airshade coverage` writes them, and the models’ warnings', async () => {
+    const e = await engineOn(doc, data.scenarioPath);
+    const r = await e.coverage(layout, undefined);
+    const summary = await cliCoverage('conventions', {});
+    expect(sansWarnings(r.conventions)).toEqual(sansWarnings(summary.conventions));
+    expect(r.conventions.target.text).toMatch(/^2 m² Swerling 1, transponder ≥ 70 W/);
+    expect(r.conventions.day.text).toBe('ISA standard day (QNH 1013.25 hPa, ISA +0 °C)');
+    expect(r.conventions.kFactor).toBeCloseTo(4 / 3, 12);
+    // The fixture's primary still carries a targetRcsM2 of its own: it loads, with a warning.
+    expect(r.warnings).toHaveLength(1);
+    expect(r.warnings[0]).toContain('targetRcsM2');
+    expect(r.conventions.sensorTypes.find((t) => t.id === 'psr-compact')!.warnings).toEqual(r.warnings);
+    // The scenario as it stands says the same, and so does the engine asked afterwards.
+    const study = e.setScenario(doc, data.scenarioPath);
+    expect(study.conventions).toEqual(r.conventions);
+    expect(study.warnings).toEqual(r.warnings);
+    expect(e.conventions()).toEqual(r.conventions);
+    expect(e.conventions([100]).levels).toEqual([r.conventions.levels[1]]);
+  });
+
+  it('on a cold, low-pressure day lowers every level, keeps the footprints, and agrees with the CLI', async () => {
+    const day = { qnhHpa: 980, isaDeviationC: -20 };
+    const e = await engineOn();
+    const std = await e.coverage(layout, undefined);
+    const study = e.setScenario({ ...doc, day }, 'fixture');
+    // Footprints are altitude bands: the day only moves the levels, so the network stands (no footprint anew).
+    expect(study.hasCoverage).toBe(true);
+    expect(study.conventions.day.text).toBe('QNH 980 hPa, ISA −20 °C');
+    for (const l of study.conventions.levels) {
+      expect(l.pressureAltitudeM).toBeCloseTo(l.flightLevel * 30.48, 9);
+      expect(l.trueAltitudeM).toBeLessThan(l.pressureAltitudeM - 250);
+    }
+    const cold = await e.coverage(layout, undefined);
+    expect(cold.computed).toBe(0);
+    expect(cold.conventions.levels).toEqual(study.conventions.levels);
+    expect(cold.volumes).not.toEqual(std.volumes);
+    const summary = await cliCoverage('cold', { day });
+    expect(cold.volumes).toEqual(summary.volumes);
+    expect(sansWarnings(cold.conventions)).toEqual(sansWarnings(summary.conventions));
+  });
+
+  it('computes every footprint again for a new target, and one site’s for a new tilt', async () => {
+    const e = await engineOn();
+    await e.coverage(layout, undefined);
+    const small = e.setScenario({ ...doc, targetRcsM2: 0.5, targetTransponder: 'high-power' }, 'fixture');
+    expect(small.hasCoverage).toBe(false);
+    const r = await e.coverage(layout, undefined);
+    expect(r.computed).toBe(layout.length);
+    expect(r.conventions.target).toMatchObject({ rcsM2: 0.5, transponder: 'high-power' });
+    expect(r.conventions.target.text).toMatch(/^0\.5 m² Swerling 1, transponder ≥ 125 W/);
+    const tilted = structuredClone({ ...doc, targetRcsM2: 0.5, targetTransponder: 'high-power' as const });
+    const id = layout[0].siteId;
+    tilted.sites.features.find((f) => f.properties.id === id)!.properties.tiltDeg = 3;
+    expect(e.setScenario(tilted, 'fixture').hasCoverage).toBe(false);
+    const again = await e.coverage(layout, undefined);
+    const atSite = layout.filter((x) => x.siteId === id).length;
+    expect(again.computed).toBe(atSite);
+    expect(again.cached).toBe(layout.length - atSite);
+    // A volume's own target: stated for that volume.
+    const own = structuredClone(doc);
+    own.volumes[0].targetRcsM2 = 0.3;
+    const c = e.setScenario(own, 'fixture').conventions;
+    expect(c.volumeTargets).toEqual([
+      { volumeId: own.volumes[0].id, text: expect.stringMatching(/^0\.3 m²/) },
+    ]);
   });
 
   it('tallies an outage as the N−1 table does, and restores the folds exactly', async () => {
@@ -202,6 +296,11 @@ describe('engine', () => {
     const svg = e.diagram(layout[0].siteId, layout[0].typeId, 90, 'aviation');
     expect(svg.startsWith('<svg')).toBe(true);
     expect(svg).toContain('FL');
+    // Its caption states the target, the sensor's spec convention, the tilt and the day (words split by wrapping).
+    const words = svg.replace(/<[^>]+>/g, ' ').replace(/\s+/g, ' ');
+    expect(words).toContain('Target: 2 m² Swerling 1');
+    expect(words).toContain('tilt 0°');
+    expect(words).toContain('ISA standard day');
   });
 });
 

@@ -28,6 +28,7 @@ import { buildSensorModel, DEFAULT_TARGET, type SensorTypeSpec, type Target } fr
 import { levelAltitudesM } from '../worker/study.ts';
 import { WGS84_GEOGRAPHIC } from '../worker/core/grid.ts';
 import { Terrain } from '../worker/core/terrain.ts';
+import { firstLobeFactor } from '../worker/core/multipath.ts';
 import { cellLonLat, metricGeo, metricTerrain } from './support/dem.ts';
 
 const R = 6_371_000;
@@ -346,6 +347,14 @@ describe('over-sea lobing: the first lobe’s lower edge (Blake 1980 / Barton 20
     expect(out.true.lo[i]).toBeLessThan(1.25 * expected);
     // Above the edge nothing changes.
     expect(out.true.hi[i]).toBe(out.false.hi[i]);
+    // The first-lobe factor is capped at free space and is exactly free space above the first lobe's peak
+    // (2πΔ/λ ≥ arg Γ, i.e. above h2 ≈ λ·d/(4·h1) on the flat earth [calc]): lobe maxima are not counted.
+    const reFlat = 1000 * 6_371_000;
+    for (let h2 = 1; h2 < 400; h2 += 3) {
+      const f = firstLobeFactor(10, h2, d, reFlat, 1030, 'vertical', () => 1);
+      expect(f).toBeLessThanOrEqual(1);
+      if (h2 > (1.05 * lambda * d) / (4 * 10)) expect(f).toBe(1);
+    }
     // With land under the specular points (about 8–9 km out here) the reflection is not the sea's: not applied.
     expect(out.island.lo[i]).toBeLessThan(0.25 * expected);
   });

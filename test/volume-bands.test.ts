@@ -10,7 +10,7 @@ import { flToMetres } from '../shared/units.ts';
 import { ProgressLine } from '../worker/cli/progress.ts';
 import { allCandidates, footprintsFor, openSession, type Session } from '../worker/cli/session.ts';
 import { cellsAtLevel, rowAreasKm2, volumeStats } from '../worker/core/volumes.ts';
-import { buildDemand, studyNetwork } from '../worker/study.ts';
+import { buildDemand, coveredPoints, studyNetwork } from '../worker/study.ts';
 import { DEFAULT_VOLUMES, writeScenarioFixture, type Fixture } from './support/scenario-fixture.ts';
 
 const box = DEFAULT_VOLUMES[0].polygon;
@@ -126,6 +126,21 @@ describe('volume bands in feet AMSL and AGL', () => {
     expect(aglPoints).toBeGreaterThan(0);
     expect(aglCells).toBeGreaterThan(0);
     expect([...demand.target].every((t, p) => t === (demand.volume[p] === 2 ? 1 : 0))).toBe(true);
+    // Each demand point is covered by its own volume's target's footprint (coveredPoints).
+    const altitudes = fls.map(flToMetres);
+    for (const fp of fps) {
+      const covered = new Set(coveredPoints(fp, demand, altitudes));
+      for (let p = 0; p < demand.cell.length; p += 7) {
+        const f = demand.target[p] === 1 ? fp.byTarget![0] : fp;
+        const c = demand.cell[p];
+        const h = altitudes[demand.level[p]];
+        expect(covered.has(p)).toBe(f.lo[c] <= h && h <= f.hi[c]);
+      }
+    }
+    // …and the 0.5 m² target is seen less than the 2 m² one somewhere, so the check above can tell them apart.
+    expect(
+      fps.some((fp) => fp.byTarget![0] !== fp && fp.byTarget![0].lo.some((v, i) => v !== fp.lo[i])),
+    ).toBe(true);
   });
 
   it('a volume with neither flight levels nor an altitude band is refused, naming the field', async () => {

@@ -179,6 +179,8 @@ export const engineApi = {
       return transfer({ ...m, legend: r.legend, minM: r.minM, maxM: r.maxM }, [m.bitmap]);
     }),
   setScenario: (input: unknown, display: string) => guard(() => engine.setScenario(input, display)),
+  /** What results mean (target, day, true altitudes, k, "seen", spec conventions) at `fls` or the last levels. */
+  conventions: (fls?: number[]) => guard(() => engine.conventions(fls)),
   coverage: (sensors: SensorRef[], fls: number[] | undefined, progress?: ProgressFn) =>
     guard(() => engine.coverage(sensors, fls, throttled(progress))),
   setFailed: (siteIds: string[]) => guard(() => engine.setFailed(siteIds)),

@@ -21,7 +21,7 @@ import { KINDS, Network, type FoldKind } from './core/network.ts';
 import { difference, outageTable, servedMasks, tally, type LevelLoss, type SiteLoss } from './core/outage.ts';
 import { solvePlan, type PlanInstance, type PlanOptions, type PlanResult } from './core/plan.ts';
 import { Terrain, type DemTile } from './core/terrain.ts';
-import { rowAreasKm2, volumeStats, type VolumeLevelStats } from './core/volumes.ts';
+import { cellsAtLevel, rowAreasKm2, volumeStats, type VolumeLevelStats } from './core/volumes.ts';
 import { renderDiagramSvg } from './io/diagram-svg.ts';
 import { featureCollection, stringifyGeoJson } from './io/geojson.ts';
 import { readDemTile } from './io/geotiff-read.ts';
@@ -497,6 +497,7 @@ export class Engine {
       fls,
       study.grid,
       study.volumeTargets,
+      study.ground,
     );
     progress?.(1, 'done');
     return {
@@ -521,7 +522,14 @@ export class Engine {
     const altitudes = levelAltitudesM(study.loaded.scenario, fls);
     const network = studyNetwork(study, fls, fps);
     const s = study.loaded.scenario;
-    const baseServed = servedMasks(network, s.volumes, study.volumeMasks, fls, study.volumeTargets);
+    const baseServed = servedMasks(
+      network,
+      s.volumes,
+      study.volumeMasks,
+      fls,
+      study.volumeTargets,
+      study.ground,
+    );
     const baseAny = fls.map((_, f) => network.foldOf('any', f).slice());
     this.current = {
       network,
@@ -607,7 +615,14 @@ export class Engine {
         ms: performance.now() - t0,
       };
     }
-    const now = servedMasks(cur.network, s.volumes, study.volumeMasks, cur.flightLevels, study.volumeTargets);
+    const now = servedMasks(
+      cur.network,
+      s.volumes,
+      study.volumeMasks,
+      cur.flightLevels,
+      study.volumeTargets,
+      study.ground,
+    );
     const t = tally(difference(cur.baseServed, now), s.volumes, study.grid);
     const rows = rowAreasKm2(study.grid);
     const W = study.grid.width;
@@ -649,6 +664,7 @@ export class Engine {
       undefined,
       undefined,
       study.volumeTargets,
+      study.ground,
     );
   }
 
@@ -729,7 +745,15 @@ export class Engine {
       totalWeight: result.totalWeight,
       method: result.method,
       entries: chosen.map((r) => ({ ...r, cost: study.models.get(r.typeId)!.spec.cost })),
-      volumes: volumeStats(network, s.volumes, study.volumeMasks, fls, study.grid, study.volumeTargets),
+      volumes: volumeStats(
+        network,
+        s.volumes,
+        study.volumeMasks,
+        fls,
+        study.grid,
+        study.volumeTargets,
+        study.ground,
+      ),
       unmeetable: result.unmeetable.map((u) => ({
         kind: u.kind,
         required: u.required,
@@ -755,8 +779,8 @@ export class Engine {
     check();
     const netA = studyNetwork(study, fls, footprints.slice(0, A.length));
     const netB = studyNetwork(study, fls, footprints.slice(A.length));
-    const servedA = servedMasks(netA, s.volumes, study.volumeMasks, fls, study.volumeTargets);
-    const servedB = servedMasks(netB, s.volumes, study.volumeMasks, fls, study.volumeTargets);
+    const servedA = servedMasks(netA, s.volumes, study.volumeMasks, fls, study.volumeTargets, study.ground);
+    const servedB = servedMasks(netB, s.volumes, study.volumeMasks, fls, study.volumeTargets, study.ground);
     const gained = difference(servedB, servedA);
     const lost = difference(servedA, servedB);
     this.compared = { gained, lost };
@@ -765,7 +789,15 @@ export class Engine {
     const side = (refs: SensorRef[], net: Network): CompareSide => ({
       sensors: refs,
       cost: this.costOf(refs),
-      volumes: volumeStats(net, s.volumes, study.volumeMasks, fls, study.grid, study.volumeTargets),
+      volumes: volumeStats(
+        net,
+        s.volumes,
+        study.volumeMasks,
+        fls,
+        study.grid,
+        study.volumeTargets,
+        study.ground,
+      ),
     });
     progress?.(1, 'done');
     return {
@@ -841,15 +873,16 @@ export class Engine {
     const s = study.loaded.scenario;
     const cells = study.grid.width * study.grid.height;
     const m = new Uint8Array(cells);
-    const any = cur.network.foldOf('any', f);
-    const pri = cur.network.foldOf('primary', f);
-    const sec = cur.network.foldOf('secondary', f);
     s.volumes.forEach((v, vi) => {
-      if (fl < v.flMin || fl > v.flMax) return;
-      const vm = study.volumeMasks[vi];
+      const vm = cellsAtLevel(v, study.volumeMasks[vi], fl, cur.network.altitudesM[f], study.ground);
+      if (vm === null) return;
+      const t = study.volumeTargets[vi] ?? 0;
       const rAny = Math.max(1, v.requiredFold.any ?? 0);
       const rPri = v.requiredFold.primary ?? 0;
       const rSec = v.requiredFold.secondary ?? 0;
+      const any = cur.network.foldOf('any', f, t);
+      const pri = cur.network.foldOf('primary', f, t);
+      const sec = cur.network.foldOf('secondary', f, t);
       for (let i = 0; i < cells; i++)
         if (vm[i] && !(any[i] >= rAny && pri[i] >= rPri && sec[i] >= rSec)) m[i] = 1;
     });
@@ -911,6 +944,7 @@ export class Engine {
       study.volumeMasks,
       layerMeta(studyConventions(study, cur.flightLevels)),
       study.volumeTargets,
+      study.ground,
     );
     if (cur.failed.size > 0) {
       const lost = maskLayer(this.lostAt(f), study.grid, {
@@ -964,6 +998,7 @@ export class Engine {
         kFactor: s.earth.kFactor,
         target: c.target,
         day: studyDay(s),
+        multipath: s.multipath === 'auto',
         flightLevels: s.flightLevels,
       },
     );

@@ -143,6 +143,13 @@ describe('the web app', () => {
       expect(about).toContain('not a certified or flight-inspected result');
       expect(about).toContain('refraction');
       expect(about).toContain('local authority');
+      // What "seen" means (the engine's text) and that flight levels are pressure altitudes taken on the day.
+      expect(about).toContain('What “seen” means');
+      expect(await page.textContent('#about-seen')).toMatch(
+        /^A primary detects the target with its type’s Pd/,
+      );
+      expect(about).toContain('Flight levels are pressure altitudes');
+      expect(await page.textContent('#about-day')).toContain('ISA standard day');
       await page.click('#about button');
       expect(watch.consoleErrors).toEqual([]);
       expect(watch.pageErrors).toEqual([]);
@@ -282,6 +289,133 @@ describe('the web app', () => {
   );
 
   it(
+    'states the target, the day and k after a run; the cold-day switch lowers the levels and changes the coverage',
+    async () => {
+      await panel('coverage');
+      const conventions = (await page.textContent('#coverage-conventions'))!;
+      expect(conventions).toContain('Target: 2 m² Swerling 1, transponder ≥ 70 W');
+      expect(conventions).toContain('Day: ISA standard day');
+      expect(conventions).toContain('k = 1.3333');
+      // The fixture's primary still carries its own targetRcsM2: the model's warning is shown.
+      expect(await page.textContent('#coverage-warnings')).toContain('targetRcsM2');
+      const levelText = () => page.$eval('#view-fl option[value="50"]', (e) => e.textContent ?? '');
+      const shares = () =>
+        page.$$eval('#coverage-table tbody tr', (rows) =>
+          rows.map((r) =>
+            [...r.querySelectorAll('td')]
+              .slice(3)
+              .map((td) => td.textContent)
+              .join(' | '),
+          ),
+        );
+      expect(await levelText()).toBe('FL050 (5,000 ft)');
+      const before = await shares();
+      await page.check('#day-cold');
+      await page.waitForSelector('#app[data-coverage="3"]', { timeout: STEP_MS });
+      await page.waitForFunction(() => !document.querySelector('#app')!.hasAttribute('data-busy'));
+      // FL050 is a pressure altitude: on QNH 980 hPa and ISA −20 °C it lies well below 5,000 ft.
+      const cold = await levelText();
+      const ft = Number(cold.match(/FL050 \(([\d,]+) ft\)/)![1].replace(/,/g, ''));
+      expect(ft).toBeGreaterThan(3000);
+      expect(ft).toBeLessThan(4500);
+      expect(await page.textContent('#level-altitudes')).toContain(`FL050 ${cold.slice(7, -1)}`);
+      expect(await page.textContent('#coverage-conventions')).toContain('Day: QNH 980 hPa, ISA −20 °C');
+      expect(await page.textContent('#coverage-table')).toContain(cold.slice(7, -1));
+      // The cursor read-out gives the shown level at its altitude on the day.
+      const map = (await (await page.$('#map'))!.boundingBox())!;
+      await page.mouse.move(map.x + map.width * 0.45, map.y + map.height * 0.5);
+      await expect.poll(() => page.textContent('#readout')).toContain(`sites at ${cold}`);
+      const after = await shares();
+      expect(after).not.toEqual(before);
+      expect(after).toHaveLength(before.length);
+      await page.click('#about-open');
+      expect(await page.textContent('#about-day')).toContain('QNH 980 hPa, ISA −20 °C');
+      await page.click('#about button');
+      saveArtefact('cold-day.png', await page.screenshot());
+      // Off again: the standard day's altitudes and figures come back.
+      await page.uncheck('#day-cold');
+      await page.waitForSelector('#app[data-coverage="4"]', { timeout: STEP_MS });
+      await page.waitForFunction(() => !document.querySelector('#app')!.hasAttribute('data-busy'));
+      expect(await levelText()).toBe('FL050 (5,000 ft)');
+      expect(await shares()).toEqual(before);
+      // A day outside the limits is refused, named, and left in its field.
+      await page.fill('#day-qnh', '800');
+      await page.press('#day-qnh', 'Enter');
+      await page.waitForSelector('#message .msg.error');
+      expect(await page.textContent('#message')).toContain('day.qnhHpa');
+      expect(await page.inputValue('#day-qnh')).toBe('800');
+      await page.click('#message .close');
+      expect(watch.pageErrors).toEqual([]);
+    },
+    STEP_MS,
+  );
+
+  it(
+    'sets the study’s target and a volume’s own, and the next run states them',
+    async () => {
+      await panel('volumes');
+      expect(
+        await page.$eval('#target-fluctuation', (e) => (e as HTMLSelectElement).selectedOptions[0].text),
+      ).toBe('Swerling 1 (fluctuates scan to scan)');
+      await page.fill('#target-rcs', '0.5');
+      await page.press('#target-rcs', 'Enter');
+      await page.waitForSelector('#app[data-coverage="5"]', { timeout: STEP_MS });
+      await page.waitForFunction(() => !document.querySelector('#app')!.hasAttribute('data-busy'));
+      await page.selectOption('[aria-label="target transponder of halvoran-terminal"]', 'high-power');
+      await page.waitForSelector('#app[data-coverage="6"]', { timeout: STEP_MS });
+      await page.waitForFunction(() => !document.querySelector('#app')!.hasAttribute('data-busy'));
+      // A refused RCS stays in its field with the message.
+      await page.fill('#target-rcs', '-1');
+      await page.press('#target-rcs', 'Enter');
+      await page.waitForSelector('#message .msg.error');
+      expect(await page.textContent('#message')).toContain('targetRcsM2');
+      expect(await page.textContent('#message')).toContain('a radar cross-section > 0 m²');
+      expect(await page.inputValue('#target-rcs')).toBe('-1');
+      await page.click('#message .close');
+      await panel('coverage');
+      const text = (await page.textContent('#coverage-conventions'))!;
+      expect(text).toContain('Target: 0.5 m² Swerling 1, transponder ≥ 70 W');
+      expect(text).toContain(
+        'Halvoran terminal area: its own target, 0.5 m² Swerling 1, transponder ≥ 125 W',
+      );
+      const doc = (await page.evaluate('window.airshade.state.doc')) as {
+        targetRcsM2: number;
+        volumes: { id: string; targetTransponder?: string }[];
+      };
+      expect(doc.targetRcsM2).toBe(0.5);
+      expect(doc.volumes.find((v) => v.id === 'halvoran-terminal')!.targetTransponder).toBe('high-power');
+      expect(watch.pageErrors).toEqual([]);
+    },
+    STEP_MS,
+  );
+
+  it(
+    'tilts a site in the Sites table, and its profile for a typed azimuth states target, tilt and day',
+    async () => {
+      await panel('sites');
+      await page.fill('[aria-label="tilt of halvoran-north"]', '2');
+      await page.press('[aria-label="tilt of halvoran-north"]', 'Enter');
+      await page.waitForSelector('#app[data-coverage="7"]', { timeout: STEP_MS });
+      await page.waitForFunction(() => !document.querySelector('#app')!.hasAttribute('data-busy'));
+      await panel('profile');
+      await page.selectOption('#profile-site', 'halvoran-north');
+      await page.selectOption('#profile-type', 'psr-compact');
+      await page.fill('#profile-az', '135');
+      await page.click('#profile-draw');
+      await page.waitForSelector('#diagram');
+      const svg = (await page.evaluate('window.airshade.diagramSvg')) as string;
+      const words = svg.replace(/<[^>]+>/g, ' ').replace(/\s+/g, ' ');
+      expect(words).toContain('azimuth 135.0°');
+      expect(words).toContain('tilt 2°');
+      expect(words).toContain('Target: 0.5 m² Swerling 1');
+      expect(words).toContain('ISA standard day');
+      saveArtefact('profile.png', await page.screenshot());
+      expect(watch.pageErrors).toEqual([]);
+    },
+    STEP_MS,
+  );
+
+  it(
     'makes a plan with cost, lower bound and per-volume table',
     async () => {
       await panel('plan');
@@ -314,6 +448,16 @@ describe('the web app', () => {
       expect(fc.type).toBe('FeatureCollection');
       const features = (fc as GeoJSON.FeatureCollection).features;
       expect(features.length).toBeGreaterThan(0);
+      // The summary JSON states what the figures mean, as the CLI's summary.json does.
+      const [sum] = await Promise.all([page.waitForEvent('download'), page.click('#export-summary')]);
+      const summary = JSON.parse(readFileSync((await sum.path())!, 'utf8'));
+      expect(summary.conventions.target.text).toMatch(/^0\.5 m² Swerling 1/);
+      expect(summary.conventions.day.text).toBe('ISA standard day (QNH 1013.25 hPa, ISA +0 °C)');
+      expect(summary.conventions.levels.map((l: { flightLevel: number }) => l.flightLevel)).toEqual([
+        50, 100, 200,
+      ]);
+      expect(summary.conventions.seen).toMatch(/^seen = /);
+      expect(summary.warnings.join(' ')).toContain('targetRcsM2');
       for (const f of features) {
         expect(f.properties).toHaveProperty('flightLevel');
         expect(f.properties).toHaveProperty('altitudeM');

@@ -102,6 +102,7 @@ export async function diagramCommand(argv: readonly string[], log: (s: string) =
       maxRangeM,
       target: studyTarget(s),
       day: studyDay(s),
+      multipath: s.multipath === 'auto',
       weather: p.flags.has('weather'),
       flightLevels: s.flightLevels,
     },

@@ -1,4 +1,5 @@
 /** `airshade floor`: the terrain-masking floor of one antenna as a Float32 GeoTIFF on the first DEM's grid. */
+import { KFactorSchema, parseWith } from '../../shared/scenario.ts';
 import { CAUTION } from '../../shared/caution.ts';
 import { InputError } from '../../shared/errors.ts';
 import { DEFAULT_K_FACTOR, EARTH_RADIUS_M } from '../../shared/units.ts';
@@ -26,7 +27,8 @@ Options:
   --dem FILE          a GeoTIFF elevation tile (metres above mean sea level); repeat for a mosaic
   --site LON,LAT      antenna position, decimal degrees WGS84 (negative values are fine: --site -29.5,-41.2)
   --mast-m H          antenna height above the ground, metres (0–1000)
-  --k K               effective-earth factor (default ${DEFAULT_K_FACTOR.toFixed(4)}, standard refraction)
+  --k K               effective-earth factor, 0.2–20 (default ${DEFAULT_K_FACTOR.toFixed(4)}, standard refraction;
+                      beyond 20 or at 0 and below the ray follows the earth: ducting, refused)
   --max-range-km R    farthest range computed (default: the farthest cell of the first DEM)
   --out FILE          output GeoTIFF
   --threads N         worker threads (default: one per core; 0 runs on the main thread)
@@ -74,12 +76,10 @@ export async function floorCommand(argv: readonly string[], log: (s: string) => 
   const kFactor =
     kText === undefined
       ? DEFAULT_K_FACTOR
-      : numberArg(
-          'k',
-          kText,
-          Number.MIN_VALUE,
-          100,
-          'an effective-earth factor k > 0 (4/3 ≈ 1.3333 for standard refraction)',
+      : parseWith(
+          KFactorSchema,
+          numberArg('k', kText, -1e9, 1e9, 'a number: the effective-earth factor k'),
+          () => '--k',
         );
   const rangeText = one(p, 'max-range-km');
   const maxRangeM =

@@ -165,7 +165,9 @@ export async function computeFootprints(
       antennaAltM: res.stats.antennaAltM,
       groundM: res.stats.groundM,
     });
-    const sea = req.multipath ? seaMask(terrain, req.grid, site, distance, res.horizon.layout.maxRangeM) : null;
+    const sea = req.multipath
+      ? seaMask(terrain, req.grid, site, distance, res.horizon.layout.maxRangeM)
+      : null;
     for (const c of cands) {
       const fp = footprintFor(
         c,
@@ -182,7 +184,15 @@ export async function computeFootprints(
         fp.byTarget = req.extraTargets.map((t) =>
           c.model.targetKey(t) === key0
             ? fp
-            : footprintFor(c, t, res.floor, distance, res.stats.antennaAltM, res.horizon.layout.maxRangeM, sea),
+            : footprintFor(
+                c,
+                t,
+                res.floor,
+                distance,
+                res.stats.antennaAltM,
+                res.horizon.layout.maxRangeM,
+                sea,
+              ),
         );
       }
       footprints.push(fp);

@@ -20,7 +20,9 @@ import { DEG_TO_RAD, flToMetres, formatFl, RAD_TO_DEG } from '../../shared/units
 import { STANDARD_DAY, trueAltitudeM, type Day } from './altimetry.ts';
 import { RadialFan } from './geodesy.ts';
 import { FLOOR_CAP_M, planHorizon, radialScreening, type TerrainRaster } from './horizon.ts';
-import { sensorBand, TOP_M } from './footprint.ts';
+import { seaBand, sensorBand, TOP_M } from './footprint.ts';
+import { firstLobeFactor, reflectionDistanceM } from './multipath.ts';
+import { SEA_LEVEL_TOLERANCE_M } from './coverage.ts';
 import { describeTarget, type SensorModel, type Target } from './sensor.ts';
 
 /** The engine's marker for "nothing screens yet" (next to the antenna). */
@@ -57,6 +59,8 @@ export interface DiagramOptions {
   day?: Day;
   /** Gaseous attenuation (default true). */
   atmosphere?: boolean;
+  /** Over-sea lobing where the specular point lies on sea along the radial (default false). */
+  multipath?: boolean;
   /** Detection in rain (the sensor's weather range), default false. */
   weather?: boolean;
   /** Flight levels to mark (whole numbers; pressure altitudes, drawn at their true altitude on the day). */
@@ -142,6 +146,8 @@ export interface DiagramData {
   readonly searchTopM: number;
   /** The day the flight levels are drawn for. */
   readonly day: Day;
+  /** Envelope rows whose lower edge is the first lobe's over sea (0 when lobing is off or no sea is in view). */
+  readonly seaLobingRows: number;
 }
 
 /**
@@ -264,6 +270,28 @@ export function diagramData(
     stepM: envStepM,
     bottomM: lowestM,
   });
+  // Over-sea lobing: where the specular point of a row's lowest detected altitude lies on sea along this radial,
+  // the envelope's lower edge is the first lobe's (coverage.ts does the same on the map).
+  let seaRows = 0;
+  if (opts.multipath) {
+    const h1 = Math.max(0, ha);
+    const fMHz = model.spec.frequencyMHz;
+    const tiltRad = tiltDeg * DEG_TO_RAD;
+    const voltage = (e: number) => Math.sqrt(model.patternGain(e, tiltRad));
+    const over = seaBand(profile, band, { antennaAltM: ha, reM: re }, (s, h) =>
+      firstLobeFactor(h1, Math.max(0, h), s, re, fMHz, 'vertical', voltage),
+    );
+    for (let k = 0; k < band.lo.length; k++) {
+      const h = over.lo[k];
+      if (!(h === h) || h === band.lo[k]) continue;
+      const d1 = reflectionDistanceM(h1, Math.max(0, h), k * envStepM, re);
+      const z = d1 === d1 ? terrainAt(d1) : NaN;
+      if (z >= -SEA_LEVEL_TOLERANCE_M && z <= SEA_LEVEL_TOLERANCE_M) {
+        band.lo[k] = h;
+        seaRows++;
+      }
+    }
+  }
   const rows = Math.floor(maxRangeM / envStepM + 1e-9) + 1;
   const envRanges = new Float64Array(rows);
   for (let i = 0; i < rows; i++) envRanges[i] = i * envStepM;
@@ -308,6 +336,7 @@ export function diagramData(
     }),
     searchTopM: TOP_M,
     day,
+    seaLobingRows: seaRows,
     sensor: {
       id: model.spec.id,
       kind: model.kind,

@@ -9,7 +9,7 @@
  * (reflected − direct), D the divergence factor of the sphere, ρs the roughness factor and Γ = |Γ|·e^{jφ} the
  * Fresnel reflection coefficient of sea water (time convention e^{jωt}: ε = ε′ − jε″). Convention: F² is the
  * power at the target relative to free space AT THE PEAK OF THE BEAM, so F already contains the direct-ray pattern
- * value; it replaces √g(ε) of `SensorModel.detectionRangeM`: range = peak free-space range × F, both for a primary
+ * value; it replaces √g(ε) of the detection profile (sensor.ts): range = peak free-space range × F, both for a primary
  * (two-way F⁴ under the radar equation's fourth root) and a one-way link (F² under the square root).
  * Sources: L. V. Blake, Radar Range-Performance Analysis (1980; Artech House 1986) and D. K. Barton, Radar
  * System Analysis and Modeling (Artech House 2005), their propagation-factor chapters, after D. E. Kerr, Propagation of

@@ -248,7 +248,7 @@ export interface DetectionProfile {
   readonly coneOfSilenceRad: number;
   /** Free-space range at the (tilted) pattern peak, m, before the instrumented range and the atmosphere. */
   readonly peakRangeM: number;
-  /** Secondary: which link sets the peak range. */
+  /** Secondary with link budgets: which link sets the peak range (undefined for a reference-range secondary). */
   readonly limitingLink?: 'uplink' | 'downlink';
   /** min(instrumented range, range with atmosphere) at ε (rad); 0 above the cone of silence; NaN gives NaN. */
   rangeM(elevationRad: number): number;
@@ -598,7 +598,11 @@ function checkFluctuation(v: unknown, path: string): Fluctuation {
   return v as Fluctuation;
 }
 
-/** Gaseous loss tables, shared by types and sites: keyed by frequency, antenna altitude (100 m) and reach. */
+/**
+ * Gaseous loss tables, shared by types and sites: keyed by frequency, antenna altitude (to 250 m; an antenna below
+ * sea level counts as at sea level) and reach (to 100 km). 250 m of antenna altitude changes a path's loss by about
+ * 3 % of itself (the oxygen scale height is about 8 km), a few hundredths of a dB at most.
+ */
 const LOSS_TABLES = new Map<string, PathLossTable>();
 const LOSS_ALT_STEP_M = 250;
 const LOSS_REACH_STEP_M = 100_000;
@@ -965,7 +969,7 @@ class Model implements SensorModel {
       instr,
       cone,
       Math.min(peaks.up, peaks.down),
-      primary ? undefined : peaks.up <= peaks.down ? 'uplink' : 'downlink',
+      this.basis.kind === 'secondary-link' ? (peaks.up <= peaks.down ? 'uplink' : 'downlink') : undefined,
       t,
       lo,
       1 / step,

@@ -149,7 +149,10 @@ export function renderDiagramSvg(data: DiagramData, opts: DiagramSvgOptions): st
     `geometry; earth curvature (effective earth k = ${kText}) is drawn into the curves, not the axes. ` +
     `Target: ${data.sensor.target}. Sensor: ${data.sensor.convention}. Flight levels at their true altitude ` +
     `(${data.day.qnhHpa === 1013.25 && data.day.isaDeviationC === 0 ? 'ISA standard day' : `QNH ${data.day.qnhHpa} hPa, ISA ${data.day.isaDeviationC >= 0 ? '+' : '−'}${Math.abs(data.day.isaDeviationC)} °C`}). ` +
-    `The envelope is searched up to ${fmtNumber(data.searchTopM / 1000, 0)} km: a flat top there is that search limit, not the sensor's.`;
+    `The envelope is searched up to ${fmtNumber(data.searchTopM / 1000, 0)} km: a flat top there is that search limit, not the sensor's.` +
+    (data.seaLobingRows > 0
+      ? ' Over sea the envelope’s lower edge is the first interference lobe’s (sea reflection, two-ray model); higher lobes and their nulls are not drawn.'
+      : '');
   // The caution in full (shared/caution.ts), then the refraction this chart assumed.
   const caution = `${CAUTION} Refraction assumed here: effective earth k = ${kText}.`;
   const captionChars = Math.max(30, Math.floor((right - left) / (CAPTION_PX * 0.56)));
