@@ -607,8 +607,13 @@ const LOSS_TABLES = new Map<string, PathLossTable>();
 const LOSS_ALT_STEP_M = 250;
 const LOSS_REACH_STEP_M = 100_000;
 
+/** The antenna altitude a loss table is built for: to LOSS_ALT_STEP_M, and sea level for an antenna below it. */
+function lossAltitudeStep(antennaAltM: number): number {
+  return Math.max(0, Math.round(antennaAltM / LOSS_ALT_STEP_M) * LOSS_ALT_STEP_M);
+}
+
 export function pathLossTable(fMHz: number, antennaAltM: number, reachM: number): PathLossTable {
-  const alt = Math.max(0, Math.round(antennaAltM / LOSS_ALT_STEP_M) * LOSS_ALT_STEP_M);
+  const alt = lossAltitudeStep(antennaAltM);
   const reach = Math.ceil(reachM / LOSS_REACH_STEP_M) * LOSS_REACH_STEP_M;
   const key = `${fMHz}|${alt}|${reach}`;
   let t = LOSS_TABLES.get(key);
@@ -929,7 +934,30 @@ class Model implements SensorModel {
     return this.pattern.gain(elevationRad - tiltRad);
   }
 
+  /**
+   * Profiles by what they depend on: the target (as this type tells targets apart), mode, tilt and the loss table
+   * (the antenna altitude enters only through it, to 250 m): sites in one altitude step share a profile.
+   */
+  private readonly profiles = new Map<string, DetectionProfile>();
+
   profile(req: ProfileRequest): DetectionProfile {
+    const atmOn = req.atmosphere ?? true;
+    const key = [
+      this.targetKey(req.target),
+      req.weather ?? false,
+      req.tiltDeg ?? 0,
+      atmOn ? lossAltitudeStep(req.antennaAltM) : 'free space',
+    ].join('|');
+    let p = this.profiles.get(key);
+    if (p === undefined) {
+      if (this.profiles.size >= 256) this.profiles.clear();
+      p = this.buildProfile(req);
+      this.profiles.set(key, p);
+    }
+    return p;
+  }
+
+  private buildProfile(req: ProfileRequest): DetectionProfile {
     const tilt = (req.tiltDeg ?? 0) * DEG_TO_RAD;
     const peaks = this.peaks(req.target, req.weather ?? false);
     const instr = this.instrumentedRangeM;
