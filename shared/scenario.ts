@@ -38,6 +38,9 @@
 import { booleanPointInPolygon, kinks } from '@turf/turf';
 import { z } from 'zod';
 import { InputError } from './errors.ts';
+import { DETECTION_LIMITS, ECHO_SPEC_FIELDS, FLUCTUATION_IDS, TRANSPONDER_IDS } from './target-terms.ts';
+
+export { FLUCTUATION_IDS, TRANSPONDER_IDS } from './target-terms.ts';
 
 /** Defaults of the optional fields (see the module comment). */
 export const SCENARIO_DEFAULTS = {
@@ -54,17 +57,8 @@ export const SCENARIO_DEFAULTS = {
 export const FL_MIN = 0;
 export const FL_MAX = 600;
 
-/** Limits of the detection laws (worker/core/detection.ts DETECTION_LIMITS; test/scenario.test.ts checks they agree). */
-export const DETECTION = {
-  pdMin: 0.1,
-  pdMax: 0.99,
-  pfaMin: 1e-10,
-  pfaMax: 1e-3,
-  nMin: 1,
-  nMax: 8096,
-} as const;
-export const FLUCTUATION_IDS = ['swerling0', 'swerling1', 'swerling2', 'swerling3', 'swerling4'] as const;
-export const TRANSPONDER_IDS = ['high-power', 'low-power'] as const;
+/** Limits of the detection laws (shared/target-terms.ts). */
+const DETECTION = DETECTION_LIMITS;
 const inRange = (lo: number, hi: number, text: string) =>
   z.number({ error: text }).min(lo, { error: text }).max(hi, { error: text });
 const PD_TEXT = `a probability of detection from ${DETECTION.pdMin} to ${DETECTION.pdMax}`;
@@ -743,13 +737,7 @@ export const SensorTypeSchema = strictObject({
   }
   if (t.kind !== 'secondary') return;
   const notTarget = "nothing: a secondary's range comes from its links, not from a target's echo";
-  for (const k of [
-    'referenceRcsM2',
-    'referencePd',
-    'referencePfa',
-    'referenceFluctuation',
-    'hitsIntegrated',
-  ]) {
+  for (const k of ECHO_SPEC_FIELDS) {
     if (reference && d[k] !== undefined) problem(ctx, ['detection', k], showValue(d[k]), notTarget);
   }
   if (!reference && 'peakPowerKw' in d) {

@@ -659,9 +659,10 @@ describe('the target, the day and the antenna tilt', () => {
     const b = applied(a, (x) => setVolumeTarget(x, id, { targetRcsM2: null }));
     expect('targetRcsM2' in volumeOf(b, id)).toBe(false);
     expect(volumeOf(b, id).targetFluctuation).toBe('swerling2');
-    // The demo's en-route block studies high-power transponders of its own: removing that leaves no override.
-    const c = applied(b, (x) => setVolumeTarget(x, 'upper-enroute', { targetTransponder: null }));
-    expect(volumeOf(b, 'upper-enroute').targetTransponder).toBe('high-power');
+    // A transponder override on the en-route block, then removed: no override is left.
+    const b2 = applied(b, (x) => setVolumeTarget(x, 'upper-enroute', { targetTransponder: 'high-power' }));
+    expect(volumeOf(b2, 'upper-enroute').targetTransponder).toBe('high-power');
+    const c = applied(b2, (x) => setVolumeTarget(x, 'upper-enroute', { targetTransponder: null }));
     expect('targetTransponder' in volumeOf(c, 'upper-enroute')).toBe(false);
     // Only that volume changes.
     expect(volumeOf(c, 'vaskerrow-terminal')).toEqual(volumeOf(s, 'vaskerrow-terminal'));

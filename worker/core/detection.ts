@@ -64,29 +64,12 @@
  * 1e−9 ≤ Pfa ≤ 1e−3 and n ≤ 100 only, and is not used for the answer.
  */
 import { InputError } from '../../shared/errors.ts';
+import { DETECTION_LIMITS, FLUCTUATION_IDS, type Fluctuation } from '../../shared/target-terms.ts';
 
-export type Fluctuation = 'swerling0' | 'swerling1' | 'swerling2' | 'swerling3' | 'swerling4';
-
-export const FLUCTUATIONS: readonly Fluctuation[] = Object.freeze([
-  'swerling0',
-  'swerling1',
-  'swerling2',
-  'swerling3',
-  'swerling4',
-] as const);
-
-/**
- * Limits the module accepts; outside → InputError. The exact formulas are valid beyond them: these are the
- * product's limits (Pd 0.1 … 0.99 as in Shnidman 2002, Pfa 1e−10 … 1e−3, n 1 … 8096 whole pulses).
- */
-export const DETECTION_LIMITS = Object.freeze({
-  pdMin: 0.1,
-  pdMax: 0.99,
-  pfaMin: 1e-10,
-  pfaMax: 1e-3,
-  nMin: 1,
-  nMax: 8096,
-});
+export type { Fluctuation } from '../../shared/target-terms.ts';
+export { DETECTION_LIMITS } from '../../shared/target-terms.ts';
+/** The Swerling cases, in order. */
+export const FLUCTUATIONS: readonly Fluctuation[] = FLUCTUATION_IDS;
 
 /** Required single-pulse SNR (dB) per pulse for (pd, pfa, n, case): exact, solved to 1e−9 dB. */
 export function requiredSnrDb(pd: number, pfa: number, n: number, fluctuation: Fluctuation): number {

@@ -63,6 +63,7 @@ import { InputError } from '../../shared/errors.ts';
 import { DEG_TO_RAD, nmToM } from '../../shared/units.ts';
 import { PathLossTable } from './atmosphere.ts';
 import { DETECTION_LIMITS, FLUCTUATIONS, requiredSnrDb, type Fluctuation } from './detection.ts';
+import { ECHO_SPEC_FIELDS, TRANSPONDER_IDS, type TransponderClass } from '../../shared/target-terms.ts';
 
 export type { Fluctuation } from './detection.ts';
 
@@ -94,8 +95,8 @@ const UPPER_SHOULDER_HALF_POWER_DEG = 1;
 // ---------------------------------------------------------------------------------------------------------------
 // The target
 
-export type TransponderClass = 'high-power' | 'low-power';
-export const TRANSPONDER_CLASS_IDS: readonly TransponderClass[] = ['high-power', 'low-power'];
+export type { TransponderClass } from '../../shared/target-terms.ts';
+export const TRANSPONDER_CLASS_IDS: readonly TransponderClass[] = TRANSPONDER_IDS;
 
 export interface Transponder {
   label: string;
@@ -686,13 +687,7 @@ function rangeBasis(
     }
     const atRef = `${(rangeM / 1852).toFixed(0)} NM at ${+eRefDeg.toFixed(2)}°${d.referenceElevationDeg === undefined ? ' (the beam peak)' : ''}`;
     if (kind === 'secondary') {
-      for (const k of [
-        'referenceRcsM2',
-        'referencePd',
-        'referencePfa',
-        'referenceFluctuation',
-        'hitsIntegrated',
-      ])
+      for (const k of ECHO_SPEC_FIELDS)
         forbid(d, k, dPath, "a secondary's range comes from its links, not from a target's echo");
       const fs = freeSpaceOf(rangeM, eRef, pathLossTable(frequencyMHz, 0, rangeM), 1 / 20);
       return {
