@@ -220,7 +220,7 @@ describe('specification points: the convention is stated and applied', () => {
       Math.pow(10, (1.2 * 0.75 ** 2) / 2),
       3,
     );
-    expect(m.convention).toMatch(/1 m² Swerling 1 with Pd 0.8 at Pfa 0.000001 .* at 60 NM at 0°/);
+    expect(m.convention).toMatch(/1 m² Swerling 1 with Pd 0.8 at Pfa 1e-6 .* at 60 NM at 0°/);
   });
 
   it('without a stated elevation the spec point is the beam peak, and the convention says so', () => {

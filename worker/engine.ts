@@ -981,7 +981,9 @@ export class Engine {
         if (f) features.push(f);
       }
     }
-    return stringifyGeoJson(featureCollection(features, { flightLevel: fl }));
+    return stringifyGeoJson(
+      featureCollection(features, { ...layerMeta(studyConventions(study, [fl])), flightLevel: fl }),
+    );
   }
 
   /** A vertical coverage diagram (SVG text) along one azimuth from a site, for one sensor type. */

@@ -4,7 +4,7 @@
  */
 import { CAUTION } from '../../shared/caution.ts';
 import { formatFl } from '../../shared/units.ts';
-import { levelAltitudesM, studyNetwork } from '../study.ts';
+import { conventionsText, layerMeta, levelAltitudesM, studyConventions, studyNetwork } from '../study.ts';
 import type { Candidate } from '../core/coverage.ts';
 import { Network } from '../core/network.ts';
 import { difference, servedMasks, tally } from '../core/outage.ts';
@@ -136,7 +136,14 @@ export async function compareCommand(argv: readonly string[], log: (s: string) =
     }
     writeFileChecked(
       `${outDir}/compare-${formatFl(fl)}.geojson`,
-      stringifyGeoJson(featureCollection(features, { flightLevel: fl, a: nameA, b: nameB })),
+      stringifyGeoJson(
+        featureCollection(features, {
+          ...layerMeta(studyConventions(session, fls)),
+          flightLevel: fl,
+          a: nameA,
+          b: nameB,
+        }),
+      ),
     );
   }
   const g = tally(gained, s.volumes, session.grid);
@@ -164,6 +171,7 @@ export async function compareCommand(argv: readonly string[], log: (s: string) =
     bGainsOverA: { demandWeight: g.demandWeight, areaKm2: g.unionAreaKm2, byVolume: g.byVolume },
     bLosesAgainstA: { demandWeight: l.demandWeight, areaKm2: l.unionAreaKm2, byVolume: l.byVolume },
     caution: CAUTION,
+    conventions: studyConventions(session, fls),
   };
   writeFileChecked(`${outDir}/compare.json`, JSON.stringify(doc, null, 2) + '\n');
   progress.done();
@@ -185,6 +193,7 @@ export async function compareCommand(argv: readonly string[], log: (s: string) =
     `B gains ${g.unionAreaKm2.toFixed(0)} km² (demand weight ${g.demandWeight.toFixed(0)}) and loses ${l.unionAreaKm2.toFixed(0)} km² (${l.demandWeight.toFixed(0)}) against A; written to ${outDir}/compare.json`,
   );
   log(lines.join('\n'));
+  log(conventionsText(studyConventions(session, fls)));
   log(CAUTION);
   return 0;
 }

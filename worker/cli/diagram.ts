@@ -2,7 +2,7 @@
 import { CAUTION } from '../../shared/caution.ts';
 import { InputError } from '../../shared/errors.ts';
 import { diagramData } from '../core/diagram.ts';
-import { studyDay, studyTarget } from '../study.ts';
+import { dayText, studyDay, studyTarget } from '../study.ts';
 import { buildSensorModel } from '../core/sensor.ts';
 import { Terrain } from '../core/terrain.ts';
 import { renderDiagramSvg } from '../io/diagram-svg.ts';
@@ -114,7 +114,10 @@ export async function diagramCommand(argv: readonly string[], log: (s: string) =
     [
       `diagram written to ${outPath}`,
       `  ${title}`,
-      `  antenna ${data.antennaAltM.toFixed(0)} m AMSL; ${shadowKm.toFixed(1)} km of the ${(data.maxRangeM / 1000).toFixed(0)} km radial lie in terrain shadow at ground level`,
+      `  antenna ${data.antennaAltM.toFixed(0)} m AMSL, tilt ${data.sensor.tiltDeg}°; ${shadowKm.toFixed(1)} km of the ${(data.maxRangeM / 1000).toFixed(0)} km radial lie in terrain shadow at ground level`,
+      `  target: ${data.sensor.target}; day: ${dayText(data.day)}; k = ${+data.kFactor.toFixed(4)}`,
+      `  sensor: ${data.sensor.convention}`,
+      `  cone of silence from ${data.cone.maxElevationDeg.toFixed(1)}°${data.seaLobingRows > 0 ? '; over sea the lower edge is the first lobe’s' : ''}`,
     ].join('\n'),
   );
   log(CAUTION);

@@ -6,7 +6,7 @@ import { readFileSync } from 'node:fs';
 import { CAUTION } from '../../shared/caution.ts';
 import { InputError } from '../../shared/errors.ts';
 import { formatFl } from '../../shared/units.ts';
-import { levelAltitudesM, studyNetwork } from '../study.ts';
+import { conventionsText, layerMeta, levelAltitudesM, studyConventions, studyNetwork } from '../study.ts';
 import type { Candidate } from '../core/coverage.ts';
 import { outageTable } from '../core/outage.ts';
 import { featureCollection, stringifyGeoJson } from '../io/geojson.ts';
@@ -155,7 +155,13 @@ export async function outageCommand(argv: readonly string[], log: (s: string) =>
       }
       writeFileChecked(
         `${outDir}/outage-${siteId}-${formatFl(fl)}.geojson`,
-        stringifyGeoJson(featureCollection(features, { flightLevel: fl, siteDown: siteId })),
+        stringifyGeoJson(
+          featureCollection(features, {
+            ...layerMeta(studyConventions(session, fls)),
+            flightLevel: fl,
+            siteDown: siteId,
+          }),
+        ),
       );
     }
   }
@@ -172,6 +178,7 @@ export async function outageCommand(argv: readonly string[], log: (s: string) =>
     losses,
     timingsMs: { outageTable: Math.round(tableMs), total: Math.round(performance.now() - started) },
     caution: CAUTION,
+    conventions: studyConventions(session, fls),
   };
   writeFileChecked(`${outDir}/outage.json`, JSON.stringify(doc, null, 2) + '\n');
   progress.done();
@@ -191,6 +198,7 @@ export async function outageCommand(argv: readonly string[], log: (s: string) =>
     `worst single failure: ${worst ? worst.siteId : 'none'}; outage table of ${losses.length} sites in ${(tableMs / 1000).toFixed(2)} s (layers not included); written to ${outDir}/outage.json`,
   );
   log(lines.join('\n'));
+  log(conventionsText(studyConventions(session, fls)));
   log(CAUTION);
   return 0;
 }

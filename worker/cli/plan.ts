@@ -4,7 +4,7 @@
  */
 import { CAUTION } from '../../shared/caution.ts';
 import { formatFl } from '../../shared/units.ts';
-import { layerMeta, levelAltitudesM, studyConventions, studyNetwork } from '../study.ts';
+import { conventionsText, layerMeta, levelAltitudesM, studyConventions, studyNetwork } from '../study.ts';
 import type { Candidate } from '../core/coverage.ts';
 import { Network } from '../core/network.ts';
 import { solvePlan, type PlanInstance, type PlanResult } from '../core/plan.ts';
@@ -160,6 +160,7 @@ export async function planCommand(argv: readonly string[], log: (s: string) => v
       total: performance.now() - started,
     }),
   );
+  log(conventionsText(doc.conventions));
   log(CAUTION);
   return 0;
 }
@@ -218,6 +219,7 @@ function planDocument(
     ),
     unmeetable,
     log: r.log,
+    conventions: studyConventions(session, fls),
     caution: CAUTION,
   };
 }

@@ -560,6 +560,11 @@ export function linkRangeM(marginDb: number, frequencyMHz: number): number {
   return (wavelengthM(frequencyMHz) / (4 * Math.PI)) * Math.pow(10, marginDb / 20);
 }
 
+/** A false-alarm probability as specifications write it: 1e-6, 1e-10. */
+function fmtPfa(p: number): string {
+  return p < 1e-3 ? p.toExponential() : String(p);
+}
+
 /** Power in dBm of a power in W. */
 export function wattsToDbm(w: number): number {
   return 10 * Math.log10(w) + 30;
@@ -730,7 +735,7 @@ function rangeBasis(
         pfa,
         hits,
       },
-      convention: `specified: ${rcs} m² ${fl.replace('swerling', 'Swerling ')} with Pd ${pd} at Pfa ${pfa} (${hits} pulse${hits > 1 ? 's' : ''}) at ${atRef}`,
+      convention: `specified: ${rcs} m² ${fl.replace('swerling', 'Swerling ')} with Pd ${pd} at Pfa ${fmtPfa(pfa)} (${hits} pulse${hits > 1 ? 's' : ''}) at ${atRef}`,
     };
   }
   if (kind === 'secondary') {
@@ -842,7 +847,7 @@ function rangeBasis(
   });
   return {
     basis: { kind: 'primary', unitRangeM, snrBasisDb: 0, pd, pfa, hits },
-    convention: `radar equation: ${d.peakPowerKw} kW, ${(10 * Math.log10(gain)).toFixed(1)} dBi, ${d.pulseWidthUs} µs, NF ${nfDb} dB, losses ${lossDb} dB; Pd ${pd} at Pfa ${pfa}, ${hits} pulse${hits > 1 ? 's' : ''}`,
+    convention: `radar equation: ${d.peakPowerKw} kW, ${(10 * Math.log10(gain)).toFixed(1)} dBi, ${d.pulseWidthUs} µs, NF ${nfDb} dB, losses ${lossDb} dB; Pd ${pd} at Pfa ${fmtPfa(pfa)}, ${hits} pulse${hits > 1 ? 's' : ''}`,
   };
 }
 
