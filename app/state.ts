@@ -5,6 +5,7 @@
  * what was wrong; a rejected edit leaves the state as it was. Unit-tested in test/app-state.test.ts.
  */
 import { InputError } from '../shared/errors.ts';
+import { COLD_DAY as SCENARIO_COLD_DAY } from '../shared/scenario.ts';
 import {
   parseScenario,
   ScenarioError,
@@ -309,8 +310,8 @@ export function setVolumeTarget(state: WorkState, id: string, patch: VolumeTarge
 export type Day = NonNullable<Scenario['day']>;
 /** The ICAO standard day (what a scenario without `day` studies). */
 export const STANDARD_DAY: Day = Object.freeze({ qnhHpa: 1013.25, isaDeviationC: 0 });
-/** The switch "Cold, low-pressure day": flight levels sit lowest on such a day. */
-export const COLD_DAY: Day = Object.freeze({ qnhHpa: 980, isaDeviationC: -20 });
+/** The switch "Cold, low-pressure day": flight levels sit lowest on such a day (shared/scenario.ts). */
+export const COLD_DAY: Day = SCENARIO_COLD_DAY;
 
 /** The day a state studies (the standard day when the scenario gives none). */
 export function dayOf(state: WorkState): Day {

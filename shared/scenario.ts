@@ -53,6 +53,14 @@ export const SCENARIO_DEFAULTS = {
   existing: false,
 } as const;
 
+/**
+ * The planner's cold, low-pressure worst case (one switch in the app, `--cold-day` on the command line): QNH
+ * 980 hPa with the air 20 °C colder than the ISA. Both are our own round choices inside what a winter low brings
+ * (common practice: planners check a cold low-pressure day, where flight levels sit lowest); FL100 then sits at
+ * about 2,590 m true instead of 3,048 m (worker/core/altimetry.ts).
+ */
+export const COLD_DAY = Object.freeze({ qnhHpa: 980, isaDeviationC: -20 });
+
 /** Flight levels accepted anywhere in a scenario (hundreds of feet). */
 export const FL_MIN = 0;
 export const FL_MAX = 600;

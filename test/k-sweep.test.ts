@@ -59,3 +59,36 @@ describe('coverage --k-sweep', () => {
     expect(t.err).toMatch(/--k-sweep: found "1,abc"/);
   });
 });
+
+describe('--cold-day', () => {
+  let fx: Fixture;
+  beforeAll(() => {
+    fx = writeScenarioFixture({ flightLevels: [50, 100] });
+  });
+  afterAll(() => fx.cleanup());
+
+  it('studies the cold, low-pressure day: the outputs state it and carry each level’s true altitude (ICAO Doc 7488 hypsometric relation via altimetry.ts)', async () => {
+    const out = join(fx.dir, 'cold');
+    const r = await runCli(
+      'coverage',
+      fx.scenarioPath,
+      '--cold-day',
+      '--out',
+      out,
+      '--threads',
+      '0',
+      '--quiet',
+    );
+    expect(r.code).toBe(0);
+    expect(r.out).toMatch(/day: QNH 980 hPa, ISA −20 °C/);
+    const j = JSON.parse(readFileSync(join(out, 'summary.json'), 'utf8'));
+    expect(j.conventions.day).toMatchObject({ qnhHpa: 980, isaDeviationC: -20 });
+    const l100 = j.conventions.levels.find((l: { flightLevel: number }) => l.flightLevel === 100);
+    // The figure for this day: FL100 at about 2,560–2,600 m true (test/physics-flat-sea.test.ts too).
+    expect(l100.trueAltitudeM).toBeGreaterThan(2560);
+    expect(l100.trueAltitudeM).toBeLessThan(2600);
+    const layer = JSON.parse(readFileSync(join(out, 'coverage-FL100.geojson'), 'utf8'));
+    expect(layer.metadata.altitudeM).toBeCloseTo(l100.trueAltitudeM, 6);
+    expect(layer.metadata.day).toMatch(/QNH 980/);
+  });
+});

@@ -3,6 +3,7 @@
  * minus sign, so `--site -27.0,-40.0` and `--site=-27.0,-40.0` both work (coordinates are often negative).
  */
 import { InputError } from '../../shared/errors.ts';
+import { COLD_DAY } from '../../shared/scenario.ts';
 
 export interface OptionSpec {
   /** Takes a value (otherwise a flag). */
@@ -138,4 +139,19 @@ export function weatherHelp(column: number, width = 112): string {
   }
   lines.push(line);
   return lines.join('\n');
+}
+
+/** Help of `--cold-day`, the same in every command that takes it; `column` is where option texts start. */
+export function coldDayHelp(column: number): string {
+  const pad = ' '.repeat(column - 1);
+  return (
+    `  --cold-day`.padEnd(column - 1) +
+    `the cold, low-pressure worst case: QNH ${COLD_DAY.qnhHpa} hPa, ISA ${COLD_DAY.isaDeviationC} °C, in place of the\n` +
+    `${pad}scenario's day (flight levels are pressure altitudes; on such a day they sit lowest)`
+  );
+}
+
+/** With `--cold-day`, the scenario's day becomes the cold, low-pressure worst case (the caller's scenario). */
+export function applyColdDay(p: Parsed, scenario: { day?: { qnhHpa: number; isaDeviationC: number } }): void {
+  if (p.flags.has('cold-day')) scenario.day = { ...COLD_DAY };
 }

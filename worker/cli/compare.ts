@@ -11,7 +11,15 @@ import { difference, servedMasks, tally } from '../core/outage.ts';
 import { volumeStats } from '../core/volumes.ts';
 import { featureCollection, stringifyGeoJson } from '../io/geojson.ts';
 import { NodePool } from '../node-pool.ts';
-import { parseArgs, required, scenarioArg, threadsArg, weatherHelp } from './args.ts';
+import {
+  applyColdDay,
+  coldDayHelp,
+  parseArgs,
+  required,
+  scenarioArg,
+  threadsArg,
+  weatherHelp,
+} from './args.ts';
 import { maskLayer } from '../io/layers.ts';
 import { writeFileChecked } from './files.ts';
 import { ProgressLine } from './progress.ts';
@@ -20,7 +28,7 @@ import { footprintsFor, layoutCandidates, openSession, type Session } from './se
 export const COMPARE_HELP = `airshade compare — two layouts side by side
 
 Usage:
-  airshade compare SCENARIO.json --a NAME --b NAME --out DIR [--weather] [--threads N] [--quiet] [--debug]
+  airshade compare SCENARIO.json --a NAME --b NAME --out DIR [--weather] [--cold-day] [--threads N] [--quiet] [--debug]
 
 Compares two named layouts of the scenario: the cost of each (sensor types, plus sites that are not existing),
 the coverage per volume and flight level (covered, meeting the required folds, fold histograms), and where B
@@ -29,6 +37,7 @@ DIR/compare-FL050.geojson … with the gained and lost areas per volume.
 
 Options:
 ${weatherHelp(19)}
+${coldDayHelp(19)}
 `;
 
 const SPEC = {
@@ -36,6 +45,7 @@ const SPEC = {
   b: { value: true },
   out: { value: true },
   weather: {},
+  'cold-day': {},
   threads: { value: true },
   quiet: {},
   debug: {},
@@ -70,6 +80,7 @@ export async function compareCommand(argv: readonly string[], log: (s: string) =
   const threads = threadsArg(p, NodePool.defaultSize());
   const progress = new ProgressLine('compare', p.flags.has('quiet'));
   const session = await openSession(scenarioPath, threads, progress);
+  applyColdDay(p, session.loaded.scenario);
   const s = session.loaded.scenario;
   const a = layoutCandidates(session, nameA, '--a');
   const b = layoutCandidates(session, nameB, '--b');

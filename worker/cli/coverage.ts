@@ -19,7 +19,16 @@ import { volumeStats, type VolumeLevelStats } from '../core/volumes.ts';
 import { stringifyGeoJson } from '../io/geojson.ts';
 import { encodeGeoTiff } from '../io/geotiff-write.ts';
 import { NodePool } from '../node-pool.ts';
-import { one, parseArgs, required, scenarioArg, threadsArg, weatherHelp } from './args.ts';
+import {
+  applyColdDay,
+  coldDayHelp,
+  one,
+  parseArgs,
+  required,
+  scenarioArg,
+  threadsArg,
+  weatherHelp,
+} from './args.ts';
 import { writeFileChecked } from './files.ts';
 import { ProgressLine } from './progress.ts';
 import type { LoadedScenario } from './scenario.ts';
@@ -32,7 +41,7 @@ export { levelLayers, maskLayer } from '../io/layers.ts';
 export const COVERAGE_HELP = `airshade coverage — what the network detects at each flight level
 
 Usage:
-  airshade coverage SCENARIO.json [--fl 50,100,245] [--layout NAME] [--weather] --out DIR
+  airshade coverage SCENARIO.json [--fl 50,100,245] [--layout NAME] [--weather] [--cold-day] --out DIR
                     [--k-sweep 1.3333,1,0.6667,0.5] [--threads N] [--quiet] [--debug]
 
 Computes, on the scenario's analysis grid, every sensor's footprint (terrain-masked line of sight on the
@@ -46,6 +55,7 @@ Options:
   --fl LIST        flight levels, comma-separated (default: the scenario's flightLevels)
   --layout NAME    the network is this layout of the scenario (default: every allowed site and type)
 ${weatherHelp(19)}
+${coldDayHelp(19)}
   --k-sweep LIST   refraction cases: the network again at each effective-earth factor k in LIST (e.g.
                    1.3333,1,0.6667,0.5 for standard, no and sub-refraction); DIR/k-sweep.json and a table give,
                    per volume and level, the share meeting its requirement at each k and what is lost against the
@@ -58,6 +68,7 @@ const SPEC = {
   fl: { value: true },
   layout: { value: true },
   weather: {},
+  'cold-day': {},
   'k-sweep': { value: true },
   out: { value: true },
   threads: { value: true },
@@ -86,6 +97,7 @@ export async function coverageCommand(
   const started = performance.now();
   const progress = new ProgressLine('coverage', p.flags.has('quiet'));
   const session = await openSession(scenarioPath, threads, progress);
+  applyColdDay(p, session.loaded.scenario);
   const s = session.loaded.scenario;
   const grid = session.grid;
   const fls = parseFlightLevels(one(p, 'fl')) ?? s.flightLevels;

@@ -6,7 +6,7 @@ import { dayText, studyDay, studyTarget } from '../study.ts';
 import { buildSensorModel } from '../core/sensor.ts';
 import { Terrain } from '../core/terrain.ts';
 import { renderDiagramSvg } from '../io/diagram-svg.ts';
-import { numberArg, one, parseArgs, required, weatherHelp } from './args.ts';
+import { applyColdDay, coldDayHelp, numberArg, one, parseArgs, required, weatherHelp } from './args.ts';
 import { readTiles, writeFileChecked } from './files.ts';
 import { loadScenario } from './scenario.ts';
 
@@ -14,7 +14,7 @@ export const DIAGRAM_HELP = `airshade diagram — vertical coverage diagram of o
 
 Usage:
   airshade diagram SCENARIO.json --site ID --type ID --azimuth DEG --out FILE.svg
-                   [--units metric|aviation] [--weather] [--max-range-km R] [--debug]
+                   [--units metric|aviation] [--weather] [--cold-day] [--max-range-km R] [--debug]
 
 Draws, along the geodesic radial at the azimuth (degrees clockwise from true north), the terrain profile, the
 terrain shadow and line-of-sight floor, the sensor's detection envelope on the effective earth, the cone of
@@ -23,6 +23,7 @@ ground range).
 
 Options:
 ${weatherHelp(19)}
+${coldDayHelp(19)}
 `;
 
 const SPEC = {
@@ -32,6 +33,7 @@ const SPEC = {
   out: { value: true },
   units: { value: true },
   weather: {},
+  'cold-day': {},
   'max-range-km': { value: true },
   debug: {},
   help: {},
@@ -70,6 +72,7 @@ export async function diagramCommand(argv: readonly string[], log: (s: string) =
       : numberArg('max-range-km', rangeText, 1, 2000, 'a range in km from 1 to 2000') * 1000;
   const loaded = await loadScenario(p.positional[0]);
   const s = loaded.scenario;
+  applyColdDay(p, s);
   const site = s.sites.find((f) => f.properties.id === siteId);
   if (!site) {
     throw new InputError(

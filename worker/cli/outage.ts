@@ -11,7 +11,16 @@ import type { Candidate } from '../core/coverage.ts';
 import { outageTable } from '../core/outage.ts';
 import { featureCollection, stringifyGeoJson } from '../io/geojson.ts';
 import { NodePool } from '../node-pool.ts';
-import { one, parseArgs, required, scenarioArg, threadsArg, weatherHelp } from './args.ts';
+import {
+  applyColdDay,
+  coldDayHelp,
+  one,
+  parseArgs,
+  required,
+  scenarioArg,
+  threadsArg,
+  weatherHelp,
+} from './args.ts';
 import { maskLayer } from '../io/layers.ts';
 import { writeFileChecked } from './files.ts';
 import { ProgressLine } from './progress.ts';
@@ -29,7 +38,7 @@ export const OUTAGE_HELP = `airshade outage — what is lost when a site goes do
 
 Usage:
   airshade outage SCENARIO.json [--plan DIR/plan.json | --layout NAME] [--site ID …] --out DIR
-                  [--weather] [--threads N] [--quiet] [--debug]
+                  [--weather] [--cold-day] [--threads N] [--quiet] [--debug]
 
 For the sensors of a plan (plan.json from \`airshade plan\`), of a layout of the scenario, or else every allowed
 site and type, switches each site off in turn (or only the --site ones) and reports the demand weight and area
@@ -39,6 +48,7 @@ Writes DIR/outage.json and DIR/outage-<site>-FL050.geojson … (the lost coverag
 
 Options:
 ${weatherHelp(19)}
+${coldDayHelp(19)}
 `;
 
 const SPEC = {
@@ -47,6 +57,7 @@ const SPEC = {
   site: { value: true, repeat: true },
   out: { value: true },
   weather: {},
+  'cold-day': {},
   threads: { value: true },
   quiet: {},
   debug: {},
@@ -102,6 +113,7 @@ export async function outageCommand(argv: readonly string[], log: (s: string) =>
   const started = performance.now();
   const progress = new ProgressLine('outage', p.flags.has('quiet'));
   const session = await openSession(scenarioPath, threads, progress);
+  applyColdDay(p, session.loaded.scenario);
   const s = session.loaded.scenario;
   const sensors =
     planPath !== undefined

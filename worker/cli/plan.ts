@@ -11,7 +11,17 @@ import { solvePlan, type PlanInstance, type PlanResult } from '../core/plan.ts';
 import { volumeStats } from '../core/volumes.ts';
 import { stringifyGeoJson } from '../io/geojson.ts';
 import { NodePool } from '../node-pool.ts';
-import { numberArg, one, parseArgs, required, scenarioArg, threadsArg, weatherHelp } from './args.ts';
+import {
+  applyColdDay,
+  coldDayHelp,
+  numberArg,
+  one,
+  parseArgs,
+  required,
+  scenarioArg,
+  threadsArg,
+  weatherHelp,
+} from './args.ts';
 import { levelLayers } from '../io/layers.ts';
 import { buildDemand, coveredPoints, type Demand } from '../study.ts';
 import { writeFileChecked } from './files.ts';
@@ -28,7 +38,7 @@ import {
 export const PLAN_HELP = `airshade plan — the cheapest sites and sensor types that meet the airspace's requirements
 
 Usage:
-  airshade plan SCENARIO.json --out DIR [--budget COST] [--keep LAYOUT] [--exclude SITE …] [--weather]
+  airshade plan SCENARIO.json --out DIR [--budget COST] [--keep LAYOUT] [--exclude SITE …] [--weather] [--cold-day]
                 [--time-limit-s S] [--threads N] [--quiet] [--debug]
 
 Demand: every cell of every volume at every scenario flight level inside the volume's band, weighted by cell area
@@ -46,6 +56,7 @@ Options:
   --time-limit-s S  time limit for the LP/MILP solver (default 8); a plan cut short by it can differ between
                     machines of different speed (plan.json's log says when the limit was hit)
 ${weatherHelp(20)}
+${coldDayHelp(20)}
 `;
 
 const SPEC = {
@@ -54,6 +65,7 @@ const SPEC = {
   keep: { value: true },
   exclude: { value: true, repeat: true },
   weather: {},
+  'cold-day': {},
   'time-limit-s': { value: true },
   threads: { value: true },
   quiet: {},
@@ -78,6 +90,7 @@ export async function planCommand(argv: readonly string[], log: (s: string) => v
   const started = performance.now();
   const progress = new ProgressLine('plan', p.flags.has('quiet'));
   const session = await openSession(scenarioPath, threads, progress);
+  applyColdDay(p, session.loaded.scenario);
   const s = session.loaded.scenario;
   const budgetText = one(p, 'budget');
   const budget =
