@@ -14,7 +14,6 @@ import { flToMetres, nmToM } from '../shared/units.ts';
 import { oneWayPathLossDb } from '../worker/core/atmosphere.ts';
 import { requiredSnrDb } from '../worker/core/detection.ts';
 import {
-  albersheimSnrDb,
   buildSensorModel,
   DEFAULT_TARGET,
   gainFromAperture,
@@ -111,25 +110,6 @@ describe('radar equation and antenna gain', () => {
     const d = linkRangeM(150, 1090);
     expect(20 * Math.log10((4 * Math.PI * d) / wavelengthM(1090))).toBeCloseTo(150, 9);
     expect(linkRangeM(156, 1090) / d).toBeCloseTo(Math.pow(10, 6 / 20), 12); // +6 dB → ×2 (one-way, √ law)
-  });
-});
-
-describe("Albersheim's equation (Albersheim, Proc. IEEE 69(7), 1981 [pub formula, calc values])", () => {
-  it('Pd 0.9, Pfa 1e−6, N = 1 → 13.1 dB', () => {
-    expect(albersheimSnrDb(0.9, 1e-6, 1)).toBeCloseTo(13.1, 1);
-  });
-  it('Pd 0.9, Pfa 1e−6, N = 10 → 5.0 dB', () => {
-    expect(albersheimSnrDb(0.9, 1e-6, 10)).toBeCloseTo(5.0, 1);
-  });
-  it('agrees with the exact steady-target law within its stated 0.2 dB (Marcum 1960 via detection.ts)', () => {
-    for (const [pd, pfa, n] of [
-      [0.9, 1e-6, 1],
-      [0.5, 1e-4, 4],
-      [0.8, 1e-6, 12],
-    ])
-      expect(Math.abs(albersheimSnrDb(pd, pfa, n) - requiredSnrDb(pd, pfa, n, 'swerling0'))).toBeLessThan(
-        0.25,
-      );
   });
 });
 
@@ -724,10 +704,6 @@ describe('bad input: one clear InputError each', () => {
     expect(() => m.profile({ target: T({ rcsM2: -2 }), antennaAltM: 0 })).toThrow(
       'p: target RCS: found -2; expected a positive RCS in m²',
     );
-  });
-
-  it('Albersheim outside its published range', () => {
-    expect(() => albersheimSnrDb(0.9, 1e-6, 0.5)).toThrow('albersheimSnrDb: n: found 0.5');
   });
 
   it('radar equation with a non-positive input', () => {

@@ -77,8 +77,6 @@ export const T0_K = 290;
 export const DEFAULT_MIN_RANGE_NM = 0.5;
 /** Resolution of the elevation lookup table behind `DetectionProfile.rangeM`. */
 export const PATTERN_TABLE_STEP_DEG = 0.01;
-/** The range of Albersheim's approximation as published (Proc. IEEE 69(7), 1981). */
-export const ALBERSHEIM_LIMITS = { pdMin: 0.1, pdMax: 0.9, pfaMin: 1e-7, pfaMax: 1e-3, nMin: 1, nMax: 8096 };
 /** SSR reply frequency, MHz (ICAO Annex 10 Vol. IV [pub]); the interrogation is the type's frequencyMHz (1030). */
 export const SSR_REPLY_MHZ = 1090;
 /**
@@ -304,41 +302,6 @@ export function radarRangeM(p: {
     (p.peakPowerW * p.gainLinear * p.gainLinear * p.wavelengthM * p.wavelengthM * p.rcsM2) /
     (fourPi * fourPi * fourPi * p.minSignalW);
   return Math.sqrt(Math.sqrt(r4));
-}
-
-/**
- * Albersheim's closed-form approximation of the single-pulse-equivalent SNR (dB) needed per pulse to reach
- * detection probability `pd` at false-alarm probability `pfa` after non-coherent integration of `n` pulses
- * (Albersheim, Proc. IEEE 69(7), 1981):
- *   A = ln(0.62/Pfa), B = ln(Pd/(1 − Pd)),
- *   SNR = −5·log10 n + (6.2 + 4.54/√(n + 0.44))·log10(A + 0.12·A·B + 1.7·B).
- * Valid (within about 0.2 dB) for 0.1 ≤ Pd ≤ 0.9, 1e−7 ≤ Pfa ≤ 1e−3, 1 ≤ n ≤ 8096; outside that → InputError.
- */
-export function albersheimSnrDb(pd: number, pfa: number, n: number): number {
-  const L = ALBERSHEIM_LIMITS;
-  if (!(pd >= L.pdMin && pd <= L.pdMax)) {
-    throw new InputError('albersheimSnrDb: pd', show(pd), albersheimExpected('pd'));
-  }
-  if (!(pfa >= L.pfaMin && pfa <= L.pfaMax)) {
-    throw new InputError('albersheimSnrDb: pfa', show(pfa), albersheimExpected('pfa'));
-  }
-  if (!(n >= L.nMin && n <= L.nMax)) {
-    throw new InputError('albersheimSnrDb: n', show(n), albersheimExpected('n'));
-  }
-  const a = Math.log(0.62 / pfa);
-  const b = Math.log(pd / (1 - pd));
-  return -5 * Math.log10(n) + (6.2 + 4.54 / Math.sqrt(n + 0.44)) * Math.log10(a + 0.12 * a * b + 1.7 * b);
-}
-
-function albersheimExpected(what: 'pd' | 'pfa' | 'n'): string {
-  const L = ALBERSHEIM_LIMITS;
-  const range =
-    what === 'pd'
-      ? `a probability of detection from ${L.pdMin} to ${L.pdMax}`
-      : what === 'pfa'
-        ? `a false-alarm probability from ${L.pfaMin} to ${L.pfaMax}`
-        : `a number of pulses integrated from ${L.nMin} to ${L.nMax}`;
-  return `${range} (the range of Albersheim's approximation)`;
 }
 
 /** Antenna power gain (linear) of an aperture: G = 4π·η·A/λ². */
