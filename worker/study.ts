@@ -179,8 +179,14 @@ export function levelAltitudesM(s: Pick<Scenario, 'day'>, fls: readonly number[]
 }
 
 /** Warnings of the sensor models (leftover fields), one line each. */
-export function modelWarnings(study: Pick<Study, 'models'>): string[] {
-  return [...study.models.values()].flatMap((m) => [...m.warnings]);
+export function modelWarnings(study: Pick<Study, 'models' | 'loaded'>): string[] {
+  return [...study.models.values()].flatMap((m) => warningsOf(study, m));
+}
+
+/** One model's warnings, each saying which value the study uses instead. */
+function warningsOf(study: Pick<Study, 'loaded'>, m: SensorModel): string[] {
+  const used = `the study's ${study.loaded.scenario.targetRcsM2} m² (targetRcsM2 of ${study.loaded.file})`;
+  return m.warnings.map((w) => `${w}; here: ${used}`);
 }
 
 /** Every allowed (site, type) pair of the scenario. */
@@ -334,7 +340,7 @@ export function studyConventions(
     sensorTypes: [...study.models.values()].map((m) => ({
       id: m.spec.id,
       convention: m.convention,
-      warnings: [...m.warnings],
+      warnings: warningsOf(study, m),
     })),
   };
 }
