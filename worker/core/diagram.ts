@@ -341,7 +341,7 @@ export function diagramData(
       id: model.spec.id,
       kind: model.kind,
       rcsM2: opts.target.rcsM2,
-      target: describeTarget(opts.target),
+      target: describeTarget(opts.target, model.kind),
       convention: model.convention,
       tiltDeg,
       weather,

@@ -147,9 +147,11 @@ export interface Target {
  */
 export const DEFAULT_TARGET: Target = { rcsM2: 2, fluctuation: 'swerling1', transponder: 'low-power' };
 
-/** One line naming the target, for outputs. */
-export function describeTarget(t: Target): string {
-  return `${t.rcsM2} m² ${t.fluctuation.replace('swerling', 'Swerling ')}, ${TRANSPONDER_CLASSES[t.transponder].label}`;
+/** One line naming the target, for outputs; for one kind of sensor, only what that kind sees of it. */
+export function describeTarget(t: Target, kind?: 'primary' | 'secondary'): string {
+  const echo = `${t.rcsM2} m² ${t.fluctuation.replace('swerling', 'Swerling ')}`;
+  const transponder = TRANSPONDER_CLASSES[t.transponder].label;
+  return kind === 'primary' ? echo : kind === 'secondary' ? transponder : `${echo}, ${transponder}`;
 }
 
 // ---------------------------------------------------------------------------------------------------------------
