@@ -23,7 +23,7 @@ import { describe, expect, it } from 'vitest';
 import { flToMetres } from '../shared/units.ts';
 import { computeFootprints, type Candidate } from '../worker/core/coverage.ts';
 import { inlineExecutor } from '../worker/core/floor.ts';
-import { slantGeometry, type Footprint } from '../worker/core/footprint.ts';
+import { sensorBand, slantGeometry, type Footprint } from '../worker/core/footprint.ts';
 import { buildSensorModel, DEFAULT_TARGET, type SensorTypeSpec, type Target } from '../worker/core/sensor.ts';
 import { levelAltitudesM } from '../worker/study.ts';
 import { WGS84_GEOGRAPHIC } from '../worker/core/grid.ts';
@@ -357,5 +357,34 @@ describe('over-sea lobing: the first lobe’s lower edge (Blake 1980 / Barton 20
     }
     // With land under the specular points (about 8–9 km out here) the reflection is not the sea's: not applied.
     expect(out.island.lo[i]).toBeLessThan(0.25 * expected);
+  });
+});
+
+describe('sensorBand directly (footprint.ts)', () => {
+  it('on a flat earth a range-limited, pattern-flat sensor’s band top is √(R² − s²) above a sea-level antenna (geometry [calc])', () => {
+    const spec: SensorTypeSpec = {
+      id: 'r',
+      name: 'Test range-limited secondary',
+      kind: 'secondary',
+      frequencyMHz: 1030,
+      cost: 1,
+      maxElevationDeg: 90,
+      instrumentedRangeNm: 30,
+      minRangeNm: 0,
+      elevationPattern: { type: 'table', deg: [-90, 90], gainDb: [0, 0] },
+      detection: { referenceRangeNm: 1000 },
+    };
+    const profile = buildSensorModel(spec, 's').profile({ target: T(), antennaAltM: 0, atmosphere: false });
+    const R = 30 * 1852;
+    // k = 1000: a flat earth to well within a metre here (a far larger radius would lose precision in the law of
+    // cosines the slant geometry uses; the product keeps k ≤ 20).
+    const band = sensorBand(profile, { antennaAltM: 0, reM: 1000 * 6_371_000, maxRangeM: R, stepM: 1000 });
+    for (let i = 1; i * 1000 < R - 2000; i++) {
+      const s = i * 1000;
+      expect(band.lo[i]).toBe(0);
+      // The band's top is searched to 25 km (footprint.ts TOP_M).
+      expect(Math.abs(band.hi[i] - Math.min(25_000, Math.sqrt(R * R - s * s)))).toBeLessThan(1);
+    }
+    expect(Number.isNaN(band.lo[Math.ceil(R / 1000) + 1])).toBe(true);
   });
 });
