@@ -408,7 +408,33 @@ export class App {
    * Replaces the state with an edited one once the engine accepts its scenario (schema and terrain). On
    * failure the message names the problem and the state stays as it was (the panel shows the old values).
    */
-  async commit(next: WorkState, opts: { recompute?: boolean } = {}): Promise<boolean> {
+  commit(next: WorkState, opts: { recompute?: boolean } = {}): Promise<boolean> {
+    // Registered at once (edits call this from their change events), so that a run started right after an edit
+    // waits for it: see flushEdits.
+    const p = this.commitNow(next, opts);
+    this.pendingCommits.add(p);
+    void p.finally(() => this.pendingCommits.delete(p));
+    return p;
+  }
+
+  private readonly pendingCommits = new Set<Promise<boolean>>();
+
+  /**
+   * Edits first, then work: a field still holding the cursor is left (its change event commits what was typed) and
+   * every commit under way is awaited, so a run never uses the values from before the last edit.
+   */
+  async flushEdits(): Promise<void> {
+    const active = document.activeElement;
+    if (
+      active instanceof HTMLInputElement ||
+      active instanceof HTMLTextAreaElement ||
+      active instanceof HTMLSelectElement
+    )
+      active.blur();
+    while (this.pendingCommits.size > 0) await Promise.allSettled([...this.pendingCommits]);
+  }
+
+  private async commitNow(next: WorkState, opts: { recompute?: boolean }): Promise<boolean> {
     const coverageRunning = this.busy === 'Coverage';
     let study: StudySummary;
     try {
@@ -485,6 +511,7 @@ export class App {
     progress(0, 'starting');
     this.render(); // the run buttons show as disabled
     try {
+      await this.flushEdits();
       return await run(progress);
     } catch (e) {
       // A job overtaken by a newer one was cancelled on purpose: no message for it.
@@ -503,6 +530,7 @@ export class App {
   }
 
   async runCoverage(): Promise<void> {
+    await this.flushEdits();
     if (this.state.network.length === 0) {
       this.say(
         'error',

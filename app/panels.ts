@@ -1110,6 +1110,14 @@ function conventionsBlock(app: App, c: StudyConventions, warnings: string[]): HT
           h('ul', {}, ...warnings.map((w) => h('li', {}, w))),
         )
       : null,
+    c.unevaluated?.length
+      ? h(
+          'div',
+          { className: 'warn', id: 'coverage-unevaluated' },
+          h('strong', {}, 'Not evaluated:'),
+          h('ul', {}, ...c.unevaluated.map((w) => h('li', {}, w))),
+        )
+      : null,
   );
 }
 

@@ -152,13 +152,13 @@ async function loadBad(s: Doc, d = folder()): Promise<{ e: InputError; file: str
 // ---------------------------------------------------------------------------------------------------
 
 describe('the demo scenario', () => {
-  it('loads: the catalog, the 33 demo sites, the inline volumes, 8 flight levels and its layouts', async () => {
+  it('loads: the catalog, the 33 demo sites, the inline volumes, 9 flight levels (FL030: the terminal areas’ bottom) and its layouts', async () => {
     const l = await loadScenario(DEMO_SCENARIO, { checkTerrainFiles: false });
     const s = l.scenario;
     expect(l.file).toBe(DEMO_SCENARIO);
     expect(l.sources.sensorTypes).toBe(join(DATA, 'catalog/sensor-types.json'));
     expect(l.sources.sites).toBe(join(DATA, 'demo-inputs/sites.geojson'));
-    expect(s.flightLevels).toEqual([50, 100, 150, 200, 245, 300, 400, 460]);
+    expect(s.flightLevels).toEqual([30, 50, 100, 150, 200, 245, 300, 400, 460]);
     expect(s.earth.kFactor).toBe(1.3333);
     expect(s.grid.cellArcSec).toBe(30);
     expect(s.sites).toHaveLength(33);

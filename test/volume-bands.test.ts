@@ -152,3 +152,18 @@ describe('volume bands in feet AMSL and AGL', () => {
     expect(() => parseScenario(bad, 's.json')).toThrow(/s\.json: volumes\[0\]\.flMin: .*altitudeBand/);
   });
 });
+
+describe('levels a band needs but the run does not compute are said, not passed over', () => {
+  const v = (id: string, flMin: number, flMax: number) => ({ id, name: id, flMin, flMax });
+  it('a band starting below the lowest computed level is named, with the level to add', async () => {
+    const { unevaluatedBands } = await import('../worker/study.ts');
+    const w = unevaluatedBands(
+      [v('t', 30, 245), v('u', 245, 460), v('x', 500, 550)],
+      [50, 100, 245, 300, 460],
+    );
+    expect(w).toHaveLength(2);
+    expect(w[0]).toMatch(/volume t .*FL030–FL245 .*FL030 up to FL050 is not evaluated — add FL030/);
+    expect(w[1]).toMatch(/volume x .*no computed level lies in its band FL500–FL550/);
+    expect(unevaluatedBands([v('t', 50, 245)], [50, 245])).toEqual([]);
+  });
+});

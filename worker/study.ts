@@ -296,6 +296,8 @@ export interface StudyConventions {
   multipath: 'auto' | 'off';
   seen: string;
   sensorTypes: { id: string; convention: string; warnings: string[] }[];
+  /** Parts of volume bands no computed level stands for (their requirement is not evaluated there). */
+  unevaluated: string[];
 }
 
 export const SEEN_TEXT =
@@ -337,6 +339,7 @@ export function studyConventions(
     kFactor: s.earth.kFactor,
     multipath: s.multipath,
     seen: SEEN_TEXT,
+    unevaluated: unevaluatedBands(s.volumes, fls),
     sensorTypes: [...study.models.values()].map((m) => ({
       id: m.spec.id,
       convention: m.convention,
@@ -356,7 +359,55 @@ export function conventionsText(c: StudyConventions): string {
     lines.push(
       `true altitudes: ${c.levels.map((l) => `FL${String(l.flightLevel).padStart(3, '0')} ${l.trueAltitudeM.toFixed(0)} m`).join(', ')}`,
     );
+  for (const u of c.unevaluated) lines.push(`warning: ${u}`);
   return lines.join('\n');
+}
+
+/**
+ * Where a volume's flight-level band reaches beyond the computed levels: its lowest (highest) band level is not
+ * computed, so the band's bottom (top) is not evaluated and "meets the requirement" does not speak for it. One
+ * line per such volume, naming it, the band, the levels computed in it and what to add. (Bands given as altitudes
+ * are evaluated at whichever computed levels fall inside them, per cell for AGL; none computed in one is said too.)
+ */
+export function unevaluatedBands(
+  volumes: readonly Pick<Volume, 'id' | 'name' | 'flMin' | 'flMax' | 'altitudeBand'>[],
+  fls: readonly number[],
+): string[] {
+  const out: string[] = [];
+  const fmt = (fl: number) => `FL${String(fl).padStart(3, '0')}`;
+  for (const v of volumes) {
+    const inBand = fls.filter((fl) => fl >= v.flMin && fl <= v.flMax);
+    if (v.altitudeBand !== undefined) {
+      if (inBand.length === 0)
+        out.push(
+          `volume ${v.id} (${v.name}): no computed flight level lies in its band; it is not evaluated`,
+        );
+      continue;
+    }
+    const band = `${fmt(v.flMin)}–${fmt(v.flMax)}`;
+    if (inBand.length === 0) {
+      out.push(
+        `volume ${v.id} (${v.name}): no computed level lies in its band ${band}; it is not evaluated — add its levels`,
+      );
+      continue;
+    }
+    const lo = inBand[0];
+    const hi = inBand[inBand.length - 1];
+    const missing: string[] = [];
+    if (lo > v.flMin) missing.push(`${fmt(v.flMin)} up to ${fmt(lo)}`);
+    if (hi < v.flMax) missing.push(`above ${fmt(hi)} up to ${fmt(v.flMax)}`);
+    if (missing.length > 0)
+      out.push(
+        `volume ${v.id} (${v.name}): its band ${band} is evaluated only at ${inBand.map(fmt).join(', ')}; ${missing.join(' and ')} is not evaluated — add ${[
+          v.flMin,
+          v.flMax,
+        ]
+          .filter((x) => !inBand.includes(x))
+          .map(fmt)
+          .join(' and ')} to the flight levels`,
+      );
+  }
+  return out;
 }
 
 /** The conventions as a layer collection's metadata: the target, the day, k, what "seen" means. */
@@ -368,6 +419,7 @@ export function layerMeta(c: StudyConventions): Record<string, unknown> {
     kFactor: c.kFactor,
     multipath: c.multipath,
     seen: c.seen,
+    unevaluated: c.unevaluated.length ? c.unevaluated : undefined,
   };
 }
 

@@ -544,4 +544,26 @@ describe('the web app', () => {
     },
     STEP_MS,
   );
+
+  it(
+    'flight levels typed and Compute pressed with the cursor still in the field: the run uses what was typed',
+    async () => {
+      await panel('coverage');
+      const before = Number(await page.getAttribute('#app', 'data-coverage'));
+      const old = (await page.evaluate('window.airshade.state.doc.flightLevels')) as number[];
+      const typed = [...old, 120].sort((a, b) => a - b);
+      await page.fill('#fl-list', typed.join(', ')); // focus stays in the field: no change event yet
+      await page.getByRole('button', { name: 'Compute coverage', exact: true }).click();
+      await page.waitForFunction(
+        (n) => Number(document.querySelector('#app')!.getAttribute('data-coverage')) > n,
+        before,
+        { timeout: STEP_MS },
+      );
+      await page.waitForFunction(() => !document.querySelector('#app')!.hasAttribute('data-busy'));
+      expect(await page.evaluate('window.airshade.state.doc.flightLevels')).toEqual(typed);
+      expect(await page.evaluate('window.airshade.coverage.flightLevels')).toEqual(typed);
+      expect(watch.pageErrors).toEqual([]);
+    },
+    STEP_MS,
+  );
 });
