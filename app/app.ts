@@ -590,7 +590,7 @@ export class App {
     if (this.probeAt) this.probe(...this.probeAt);
   }
 
-  floorLegend: { value: number; color: string }[] = [];
+  floorLegend: { value: number; color: string; label?: string }[] = [];
   reliefLegend: { value: number; color: string }[] = [];
 
   private renderLegend(): void {
@@ -627,13 +627,20 @@ export class App {
         h(
           'div',
           { className: 'legend-block' },
-          h('strong', {}, 'Network floor (lowest level seen)'),
-          h('div', { className: 'ramp viridis' }),
+          h('strong', {}, 'Network floor: the lowest computed level seen'),
           h(
             'div',
-            { className: 'ramp-labels' },
-            h('span', {}, fmtAltitude(this.floorLegend[0].value, u)),
-            h('span', {}, fmtAltitude(this.floorLegend[this.floorLegend.length - 1].value, u)),
+            { className: 'swatches' },
+            ...this.floorLegend.map((x) => {
+              const i = h('i', {});
+              i.style.background = x.color;
+              return h(
+                'span',
+                { className: 'swatch', title: Number.isFinite(x.value) ? fmtAltitude(x.value, u) : '' },
+                i,
+                x.label ?? fmtAltitude(x.value, u),
+              );
+            }),
           ),
         ),
       );

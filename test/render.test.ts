@@ -10,7 +10,8 @@ import { WGS84_GEOGRAPHIC, type GridGeo } from '../worker/core/grid.ts';
 import { Terrain } from '../worker/core/terrain.ts';
 import {
   FOLD_COLORS,
-  floorImage,
+  floorLevelImage,
+  ABOVE_LEVELS_COLOR,
   foldImage,
   mercatorRowLatitudes,
   reliefImage,
@@ -52,19 +53,6 @@ describe('map rasters', () => {
     ]);
   });
 
-  it('paint the floor on viridis from the low to the high end, and leave NaN transparent', () => {
-    const floor = new Float32Array(grid.width * grid.height).fill(NaN);
-    floor[0] = 0;
-    floor[grid.width * grid.height - 1] = 1000;
-    const { image, legend } = floorImage(grid, floor, 0, 1000);
-    expect(legend[0].color).toBe(interpolateViridis(0));
-    expect(legend[legend.length - 1].color).toBe(interpolateViridis(1));
-    expect([...image.rgba.slice(0, 3)]).toEqual(rgbOf(interpolateViridis(0)));
-    const last = image.rgba.length - 4;
-    expect([...image.rgba.slice(last, last + 3)]).toEqual(rgbOf(interpolateViridis(1)));
-    expect(image.rgba[7]).toBe(0); // second pixel: NaN
-  });
-
   it('shade the relief wherever the terrain is known', () => {
     const n = 64;
     const data = new Float32Array(n * n);
@@ -93,5 +81,36 @@ describe('map rasters', () => {
     expect(r.minM).toBeGreaterThanOrEqual(0);
     expect(r.maxM).toBeLessThanOrEqual(40 * 63 + 5 * 63);
     expect(r.maxM).toBeGreaterThan(2000);
+  });
+});
+
+describe('the network floor in steps of the computed levels', () => {
+  it('each cell takes the lowest level it is seen at; above every level grey; unseen transparent', () => {
+    const grid = {
+      width: 4,
+      height: 1,
+      originX: -35,
+      originY: -40,
+      pixelX: 1,
+      pixelY: -1,
+      crs: WGS84_GEOGRAPHIC,
+    };
+    const levels = [
+      { label: 'FL030', altitudeM: 914.4 },
+      { label: 'FL050', altitudeM: 1524 },
+      { label: 'FL100', altitudeM: 3048 },
+    ];
+    const { image, legend } = floorLevelImage(grid, Float32Array.from([100, 1000, 5000, NaN]), levels);
+    expect(legend.map((l) => l.label)).toEqual(['FL030', 'FL050', 'FL100', 'above FL100']);
+    expect(legend[0].color).toBe(interpolateViridis(0));
+    expect(legend[2].color).toBe(interpolateViridis(1));
+    // The image is on Mercator rows: read the colours the cells' columns got in its top row.
+    const px = (x: number) => [...image.rgba.slice(x * 4, x * 4 + 4)];
+    const w = image.width;
+    const col = (c: number) => Math.min(w - 1, Math.floor(((c + 0.5) / 4) * w));
+    expect(px(col(0)).slice(0, 3)).toEqual(rgbOf(interpolateViridis(0))); // 100 m: seen from FL030
+    expect(px(col(1)).slice(0, 3)).toEqual(rgbOf(interpolateViridis(0.5))); // 1000 m: from FL050
+    expect(px(col(2)).slice(0, 3)).toEqual(rgbOf(ABOVE_LEVELS_COLOR)); // above FL100
+    expect(px(col(3))[3]).toBe(0); // never seen
   });
 });

@@ -29,7 +29,7 @@ import { levelLayers, maskLayer } from './io/layers.ts';
 import {
   foldImage,
   foldLegend,
-  floorImage,
+  floorLevelImage,
   GAP_COLOR,
   LOSS_COLOR,
   maskImage,
@@ -855,13 +855,13 @@ export class Engine {
       return { image: foldImage(grid, cur.network.foldOf(kind, f)), legend: foldLegend() };
     if (layer === 'loss') return { image: maskImage(grid, this.lostAt(f), LOSS_COLOR), legend: [] };
     if (layer === 'gap') return { image: maskImage(grid, this.gapMask(f), GAP_COLOR), legend: [] };
-    // The network floor, ramped from sea level to the highest computed level.
+    // The network floor in steps of the computed levels (the lowest level each cell is seen at).
     const floor = cur.network.networkFloor();
-    const r = floorImage(
+    const alts = cur.network.altitudesM;
+    const r = floorLevelImage(
       grid,
       floor,
-      0,
-      levelAltitudesM(study.loaded.scenario, [cur.flightLevels[cur.flightLevels.length - 1]])[0],
+      cur.flightLevels.map((fl, i) => ({ label: `FL${String(fl).padStart(3, '0')}`, altitudeM: alts[i] })),
     );
     return { image: r.image, legend: r.legend };
   }

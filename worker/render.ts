@@ -71,7 +71,6 @@ export function rampTable(ramp: (t: number) => string): Uint8Array {
   return t;
 }
 
-const VIRIDIS = rampTable(interpolateViridis);
 const CIVIDIS = rampTable(interpolateCividis);
 
 /** Colours of the fold layer: fold 1, 2, 3, ≥ 4 (viridis steps, light = more sites). */
@@ -152,27 +151,46 @@ export function maskImage(grid: GridGeo, mask: Uint8Array, color: readonly numbe
   });
 }
 
-/** Network floor (m AMSL; NaN = not covered) on viridis from `lo` (dark) to `hi` (light), with a legend. */
-export function floorImage(
+/** Colour of cells whose floor lies above the highest computed level (seen, but not at any level shown). */
+export const ABOVE_LEVELS_COLOR = '#b9b9b9';
+
+/**
+ * The network floor in steps of the study's levels: each cell takes the colour of the lowest computed level it is
+ * seen at (the first level whose true altitude is at or above its floor), viridis from the lowest level to the
+ * highest, one legend entry per level — so the low levels, where the gaps are, get as much of the ramp as the high
+ * ones (a linear ramp from 0 to FL460 spent most of it above FL200). A floor above every level is grey; NaN (not
+ * seen at all) is transparent. `levels` in increasing altitude.
+ */
+export function floorLevelImage(
   grid: GridGeo,
   floor: Float32Array,
-  lo: number,
-  hi: number,
+  levels: readonly { label: string; altitudeM: number }[],
 ): { image: RasterImage; legend: LegendStop[] } {
-  const span = Math.max(1, hi - lo);
+  const n = levels.length;
+  const rgb = levels.map((_, i) => rgbOf(interpolateViridis(n > 1 ? i / (n - 1) : 0)));
+  const above = rgbOf(ABOVE_LEVELS_COLOR);
+  const alts = Float64Array.from(levels, (l) => l.altitudeM);
   const image = paintGrid(grid, (cell, rgba, o) => {
     const v = floor[cell];
     if (!(v === v)) return;
-    const t = Math.max(0, Math.min(255, Math.round(((v - lo) / span) * 255))) * 3;
-    rgba[o] = VIRIDIS[t];
-    rgba[o + 1] = VIRIDIS[t + 1];
-    rgba[o + 2] = VIRIDIS[t + 2];
+    let k = 0;
+    while (k < n && alts[k] < v) k++;
+    const c = k < n ? rgb[k] : above;
+    rgba[o] = c[0];
+    rgba[o + 1] = c[1];
+    rgba[o + 2] = c[2];
     rgba[o + 3] = 255;
   });
-  const legend = [0, 0.25, 0.5, 0.75, 1].map((t) => ({
-    value: lo + t * span,
-    color: interpolateViridis(t),
+  const legend: LegendStop[] = levels.map((l, i) => ({
+    value: l.altitudeM,
+    color: interpolateViridis(n > 1 ? i / (n - 1) : 0),
+    label: l.label,
   }));
+  legend.push({
+    value: Infinity,
+    color: ABOVE_LEVELS_COLOR,
+    label: `above ${levels[n - 1]?.label ?? ''}`.trim(),
+  });
   return { image, legend };
 }
 
