@@ -1202,7 +1202,7 @@ function planPanel(app: App): HTMLElement {
           ['Site', 'Sensor type', 'Cost'],
           p.entries.map((e) => [
             s.doc.sites.features.find((f) => f.properties.id === e.siteId)?.properties.name ?? e.siteId,
-            e.typeId,
+            s.doc.sensorTypes.find((t) => t.id === e.typeId)?.name ?? e.typeId,
             fmtCost(e.cost),
           ]),
           { id: 'plan-entries' },
