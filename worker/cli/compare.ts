@@ -10,6 +10,7 @@ import { Network } from '../core/network.ts';
 import { difference, servedMasks, tally } from '../core/outage.ts';
 import { volumeStats } from '../core/volumes.ts';
 import { featureCollection, stringifyGeoJson } from '../io/geojson.ts';
+import { undated } from '../io/provenance.ts';
 import { NodePool } from '../node-pool.ts';
 import {
   applyColdDay,
@@ -23,6 +24,7 @@ import {
 import { maskLayer } from '../io/layers.ts';
 import { writeFileChecked } from './files.ts';
 import { ProgressLine } from './progress.ts';
+import { scenarioProvenance } from './provenance.ts';
 import { footprintsFor, layoutCandidates, openSession, type Session } from './session.ts';
 
 export const COMPARE_HELP = `airshade compare — two layouts side by side
@@ -124,6 +126,8 @@ export async function compareCommand(argv: readonly string[], log: (s: string) =
   const gained = difference(servedB, servedA);
   const lost = difference(servedA, servedB);
   progress.update(0.95, 'layers');
+  // The run's date in compare.json only: the layers stay the same bytes for the same inputs.
+  const provenance = scenarioProvenance('compare', p, SPEC, session.loaded, studyConventions(session, fls));
   for (const fl of fls) {
     const features = [];
     for (const v of s.volumes) {
@@ -148,12 +152,16 @@ export async function compareCommand(argv: readonly string[], log: (s: string) =
     writeFileChecked(
       `${outDir}/compare-${formatFl(fl)}.geojson`,
       stringifyGeoJson(
-        featureCollection(features, {
-          ...layerMeta(studyConventions(session, fls)),
-          flightLevel: fl,
-          a: nameA,
-          b: nameB,
-        }),
+        featureCollection(
+          features,
+          {
+            ...layerMeta(studyConventions(session, fls)),
+            flightLevel: fl,
+            a: nameA,
+            b: nameB,
+          },
+          undated(provenance),
+        ),
       ),
     );
   }
@@ -182,6 +190,7 @@ export async function compareCommand(argv: readonly string[], log: (s: string) =
     bGainsOverA: { demandWeight: g.demandWeight, areaKm2: g.unionAreaKm2, byVolume: g.byVolume },
     bLosesAgainstA: { demandWeight: l.demandWeight, areaKm2: l.unionAreaKm2, byVolume: l.byVolume },
     caution: CAUTION,
+    provenance,
     conventions: studyConventions(session, fls),
   };
   writeFileChecked(`${outDir}/compare.json`, JSON.stringify(doc, null, 2) + '\n');

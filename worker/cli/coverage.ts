@@ -18,6 +18,7 @@ import {
 import { volumeStats, type VolumeLevelStats } from '../core/volumes.ts';
 import { stringifyGeoJson } from '../io/geojson.ts';
 import { encodeGeoTiff } from '../io/geotiff-write.ts';
+import { undated } from '../io/provenance.ts';
 import { NodePool } from '../node-pool.ts';
 import {
   applyColdDay,
@@ -31,6 +32,7 @@ import {
 } from './args.ts';
 import { writeFileChecked } from './files.ts';
 import { ProgressLine } from './progress.ts';
+import { scenarioProvenance } from './provenance.ts';
 import type { LoadedScenario } from './scenario.ts';
 import { allCandidates, footprintsFor, layoutCandidates, openSession } from './session.ts';
 import { levelLayers } from '../io/layers.ts';
@@ -130,6 +132,8 @@ export async function coverageCommand(
   const toggleMs = (performance.now() - tw0) / 2;
   progress.update(0.9, 'statistics');
   const conventions = studyConventions(session, fls, altitudes);
+  // The run's date in its JSON documents only: the layers and the raster stay the same bytes for the same inputs.
+  const provenance = scenarioProvenance('coverage', p, SPEC, session.loaded, conventions);
   const masks = session.volumeMasks;
   const stats = volumeStats(network, s.volumes, masks, fls, grid, session.volumeTargets, session.ground);
   progress.update(0.92, 'layers');
@@ -145,18 +149,26 @@ export async function coverageCommand(
       session.volumeTargets,
       session.ground,
     );
+    fc.provenance = undated(provenance);
     writeFileChecked(`${outDir}/coverage-${formatFl(fls[f])}.geojson`, stringifyGeoJson(fc));
   }
   const floor = network.networkFloor();
   writeFileChecked(
     `${outDir}/network-floor.tif`,
-    encodeGeoTiff({ geo: grid, data: floor, nodata: NaN, description: CAUTION }),
+    encodeGeoTiff({
+      geo: grid,
+      data: floor,
+      nodata: NaN,
+      description: CAUTION,
+      provenance: undated(provenance),
+    }),
   );
   const tLayers = performance.now();
   const summary = {
     scenario: s.name,
     file: session.loaded.file,
     caution: CAUTION,
+    provenance,
     earth: { kFactor: s.earth.kFactor, effectiveRadiusKm: (s.earth.kFactor * 6371).toFixed(1) },
     grid: {
       cellArcSec: s.grid.cellArcSec,
@@ -203,6 +215,7 @@ export async function coverageCommand(
         {
           scenario: s.name,
           caution: CAUTION,
+          provenance,
           conventions,
           network: choice.label,
           referenceKFactor: s.earth.kFactor,

@@ -2,12 +2,13 @@
 import { CAUTION } from '../../shared/caution.ts';
 import { InputError } from '../../shared/errors.ts';
 import { diagramData } from '../core/diagram.ts';
-import { dayText, studyDay, studyTarget } from '../study.ts';
+import { dayText, studyConventions, studyDay, studyTarget } from '../study.ts';
 import { buildSensorModel } from '../core/sensor.ts';
 import { Terrain } from '../core/terrain.ts';
 import { renderDiagramSvg } from '../io/diagram-svg.ts';
 import { applyColdDay, coldDayHelp, numberArg, one, parseArgs, required, weatherHelp } from './args.ts';
 import { readTiles, writeFileChecked } from './files.ts';
+import { scenarioProvenance } from './provenance.ts';
 import { loadScenario } from './scenario.ts';
 
 export const DIAGRAM_HELP = `airshade diagram — vertical coverage diagram of one sensor on one site
@@ -111,7 +112,14 @@ export async function diagramCommand(argv: readonly string[], log: (s: string) =
     },
   );
   const title = `${site.properties.name} — ${model.spec.name} — azimuth ${data.azimuthDeg.toFixed(1)}°`;
-  writeFileChecked(outPath, renderDiagramSvg(data, { title, units: unitsText }));
+  const provenance = scenarioProvenance(
+    'diagram',
+    p,
+    SPEC,
+    loaded,
+    studyConventions({ loaded, models: new Map([[model.spec.id, model]]) }, s.flightLevels),
+  );
+  writeFileChecked(outPath, renderDiagramSvg(data, { title, units: unitsText, provenance }));
   const shadowKm = data.shadow.reduce((a, r) => a + (r.toM - r.fromM), 0) / 1000;
   log(
     [

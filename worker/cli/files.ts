@@ -1,9 +1,21 @@
-/** File access for the CLI: reading DEM tiles and writing outputs, with messages that name the file. */
+/**
+ * File access for the CLI: reading DEM tiles and writing outputs, with messages that name the file. Every file read
+ * here is hashed (SHA-256) from the very bytes read, for the outputs' provenance (`digestOfRead`).
+ */
+import { createHash } from 'node:crypto';
 import { mkdirSync, readFileSync, statSync, writeFileSync } from 'node:fs';
-import { dirname } from 'node:path';
+import { dirname, resolve } from 'node:path';
 import { InputError } from '../../shared/errors.ts';
 import { readDemTile } from '../io/geotiff-read.ts';
 import type { DemTile } from '../core/terrain.ts';
+
+/** SHA-256 (hex) of the bytes last read through `readFileChecked`, by absolute path. */
+const readDigests = new Map<string, string>();
+
+/** The SHA-256 (lowercase hex) of a file's bytes as this process last read them, or undefined if not read. */
+export function digestOfRead(path: string): string | undefined {
+  return readDigests.get(resolve(path));
+}
 
 export function readFileChecked(path: string, what: string): ArrayBuffer {
   let st;
@@ -23,6 +35,7 @@ export function readFileChecked(path: string, what: string): ArrayBuffer {
       what,
     );
   }
+  readDigests.set(resolve(path), createHash('sha256').update(buf).digest('hex'));
   // A Buffer may sit inside a larger pooled ArrayBuffer: hand out exactly its bytes.
   return buf.byteOffset === 0 && buf.byteLength === buf.buffer.byteLength
     ? (buf.buffer as ArrayBuffer)

@@ -7,10 +7,12 @@ import { computeFloor, inlineExecutor, type FloorResult } from '../core/floor.ts
 import { Terrain } from '../core/terrain.ts';
 import type { GridGeo } from '../core/grid.ts';
 import { encodeGeoTiff } from '../io/geotiff-write.ts';
+import { undated } from '../io/provenance.ts';
 import { NodePool } from '../node-pool.ts';
 import { lonLatArg, numberArg, one, parseArgs, required, threadsArg } from './args.ts';
 import { readTiles, writeFileChecked } from './files.ts';
 import { ProgressLine } from './progress.ts';
+import { floorProvenance } from './provenance.ts';
 
 export const FLOOR_HELP = `airshade floor — lowest line-of-sight altitude above every cell of a DEM
 
@@ -82,10 +84,11 @@ export async function floorCommand(argv: readonly string[], log: (s: string) => 
           () => '--k',
         );
   const rangeText = one(p, 'max-range-km');
-  const maxRangeM =
+  const maxRangeKm =
     rangeText === undefined
       ? undefined
-      : numberArg('max-range-km', rangeText, 0.001, 2000, 'a range in km from 0 to 2000') * 1000;
+      : numberArg('max-range-km', rangeText, 0.001, 2000, 'a range in km from 0 to 2000');
+  const maxRangeM = maxRangeKm === undefined ? undefined : maxRangeKm * 1000;
   const outPath = required(p, 'out', 'the output GeoTIFF path');
   const threads = threadsArg(p, NodePool.defaultSize());
 
@@ -114,9 +117,13 @@ export async function floorCommand(argv: readonly string[], log: (s: string) => 
   }
   progress.update(1, 'writing');
   const tComputed = performance.now();
+  // No date in the raster: the same inputs give the same bytes (the file's time says when).
+  const provenance = undated(
+    floorProvenance(p, SPEC, dems, { antenna: { lon: site.lon, lat: site.lat, mastM }, kFactor, maxRangeKm }),
+  );
   writeFileChecked(
     outPath,
-    encodeGeoTiff({ geo: outGeo, data: result.floor, nodata: NaN, description: CAUTION }),
+    encodeGeoTiff({ geo: outGeo, data: result.floor, nodata: NaN, description: CAUTION, provenance }),
   );
   const tWritten = performance.now();
   progress.done();

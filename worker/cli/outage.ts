@@ -10,6 +10,7 @@ import { conventionsText, layerMeta, levelAltitudesM, studyConventions, studyNet
 import type { Candidate } from '../core/coverage.ts';
 import { outageTable } from '../core/outage.ts';
 import { featureCollection, stringifyGeoJson } from '../io/geojson.ts';
+import { undated } from '../io/provenance.ts';
 import { NodePool } from '../node-pool.ts';
 import {
   applyColdDay,
@@ -24,6 +25,7 @@ import {
 import { maskLayer } from '../io/layers.ts';
 import { writeFileChecked } from './files.ts';
 import { ProgressLine } from './progress.ts';
+import { scenarioProvenance } from './provenance.ts';
 import {
   allCandidates,
   candidate,
@@ -148,6 +150,8 @@ export async function outageCommand(argv: readonly string[], log: (s: string) =>
   );
   const tableMs = performance.now() - tBuilt;
   progress.update(0.95, 'layers');
+  // The run's date in outage.json only: the layers stay the same bytes for the same inputs.
+  const provenance = scenarioProvenance('outage', p, SPEC, session.loaded, studyConventions(session, fls));
   for (const [siteId, lost] of lostBySite) {
     for (const fl of fls) {
       const features: NonNullable<ReturnType<typeof maskLayer>>[] = [];
@@ -168,11 +172,15 @@ export async function outageCommand(argv: readonly string[], log: (s: string) =>
       writeFileChecked(
         `${outDir}/outage-${siteId}-${formatFl(fl)}.geojson`,
         stringifyGeoJson(
-          featureCollection(features, {
-            ...layerMeta(studyConventions(session, fls)),
-            flightLevel: fl,
-            siteDown: siteId,
-          }),
+          featureCollection(
+            features,
+            {
+              ...layerMeta(studyConventions(session, fls)),
+              flightLevel: fl,
+              siteDown: siteId,
+            },
+            undated(provenance),
+          ),
         ),
       );
     }
@@ -190,6 +198,7 @@ export async function outageCommand(argv: readonly string[], log: (s: string) =>
     losses,
     timingsMs: { outageTable: Math.round(tableMs), total: Math.round(performance.now() - started) },
     caution: CAUTION,
+    provenance,
     conventions: studyConventions(session, fls),
   };
   writeFileChecked(`${outDir}/outage.json`, JSON.stringify(doc, null, 2) + '\n');

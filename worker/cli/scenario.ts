@@ -7,8 +7,9 @@ import { statSync } from 'node:fs';
 import { dirname, isAbsolute, join, normalize, resolve } from 'node:path';
 import { InputError } from '../../shared/errors.ts';
 import { ScenarioError, showValue, type Locator, type Scenario } from '../../shared/scenario.ts';
+import type { FileDigest } from '../io/provenance.ts';
 import { assembleScenario, parseJsonText } from '../io/scenario-text.ts';
-import { readFileChecked } from './files.ts';
+import { digestOfRead, readFileChecked } from './files.ts';
 
 export { checkAgainstTerrain, parseJsonText, readSitesCsv } from '../io/scenario-text.ts';
 
@@ -23,6 +24,11 @@ export interface LoadedScenario {
   terrainPaths: string[];
   /** The files the sensor types and sites came from, as shown in messages (null when inline). */
   sources: { sensorTypes: string | null; sites: string | null };
+  /**
+   * SHA-256 of the bytes read: the scenario file, and the sensor-type and site files it names (null when inline),
+   * for the outputs' provenance.
+   */
+  digests: { scenario: FileDigest; sensorTypes: FileDigest | null; sites: FileDigest | null };
   /** Turns a field path of the scenario (sites as `['sites', 'features', i, …]`) into a message's `where`. */
   locate: Locator;
 }
@@ -88,18 +94,18 @@ function readReferenced(
  * Reads, resolves and validates a scenario file. Throws `InputError` (a `ScenarioError` listing several
  * problems when there are several) naming the file and field of each problem.
  */
-/**
- * Reads, resolves and validates a scenario file. Throws `InputError` (a `ScenarioError` listing several
- * problems when there are several) naming the file and field of each problem.
- */
 export async function loadScenario(path: string, options: LoadScenarioOptions = {}): Promise<LoadedScenario> {
   const file = resolve(path);
   const dir = dirname(file);
   const display = path;
   const json = parseJsonText(readText(file, display, SCENARIO_WHAT), display, SCENARIO_WHAT);
-  const { scenario, sources, locate } = assembleScenario(json, display, (field, ref, what) =>
-    readReferenced(dir, display, field, ref, what),
-  );
+  const digest = (abs: string): FileDigest => ({ file: abs, sha256: digestOfRead(abs)! });
+  const digests: LoadedScenario['digests'] = { scenario: digest(file), sensorTypes: null, sites: null };
+  const { scenario, sources, locate } = assembleScenario(json, display, (field, ref, what) => {
+    const r = readReferenced(dir, display, field, ref, what);
+    digests[field] = digest(r.abs);
+    return r;
+  });
   const terrainPaths = scenario.terrain.files.map((f) => resolve(dir, f));
 
   if (options.checkTerrainFiles ?? true) {
@@ -120,5 +126,5 @@ export async function loadScenario(path: string, options: LoadScenarioOptions = 
     });
     if (problems.length > 0) throw new ScenarioError(problems);
   }
-  return { file, dir, scenario, terrainPaths, sources, locate };
+  return { file, dir, scenario, terrainPaths, sources, digests, locate };
 }

@@ -14,6 +14,7 @@ import { CAUTION } from '../../shared/caution.ts';
 import { InputError } from '../../shared/errors.ts';
 import { FT_M, NM_M } from '../../shared/units.ts';
 import type { DiagramData } from '../core/diagram.ts';
+import type { Provenance } from './provenance.ts';
 
 export interface DiagramSvgOptions {
   /** Heading of the chart (user text: escaped). */
@@ -25,6 +26,8 @@ export interface DiagramSvgOptions {
   height?: number;
   /** Top of the altitude axis, m AMSL (default: above the highest flight level, terrain and envelope). */
   topM?: number;
+  /** Written as JSON (escaped) in the document's <metadata> element (io/provenance.ts). */
+  provenance?: Provenance;
 }
 
 const PALETTE = {
@@ -212,6 +215,10 @@ export function renderDiagramSvg(data: DiagramData, opts: DiagramSvgOptions): st
     `<title id="airshade-title-${uid}">${title}</title>`,
     // The caution whole in one element, for readers of the file (the caption below wraps it into lines).
     `<desc id="airshade-desc-${uid}">${escapeXml(CAUTION)}</desc>`,
+    // Which inputs and conventions the chart was drawn from, as JSON text.
+    ...(opts.provenance
+      ? [`<metadata id="airshade-provenance-${uid}">${escapeXml(JSON.stringify(opts.provenance))}</metadata>`]
+      : []),
     '<defs>',
     `<clipPath id="${clipId}"><rect x="${left}" y="${top}" width="${r2(right - left)}" height="${r2(bottom - top)}"/></clipPath>`,
     `<pattern id="${hatchId}" width="6" height="6" patternUnits="userSpaceOnUse" patternTransform="rotate(45)">` +

@@ -9,6 +9,7 @@ import type { Feature, FeatureCollection, GeoJSON, Geometry, MultiPolygon } from
 import { CAUTION } from '../../shared/caution.ts';
 import { InputError } from '../../shared/errors.ts';
 import { round6, type MultiPolygonCoords } from '../core/contour.ts';
+import type { Provenance } from './provenance.ts';
 
 export type LayerKind = 'any' | 'primary' | 'secondary';
 export type LayerName = 'coverage' | 'gap' | 'lost' | 'gained';
@@ -34,12 +35,12 @@ export type LayerFeature = Feature<MultiPolygon, LayerFeatureProps>;
 
 /**
  * A FeatureCollection with the foreign members (RFC 7946 §6.1) `caution` (shared/caution.ts's text, in every
- * layer file) and an optional `metadata`.
+ * layer file), an optional `metadata` and the `provenance` every file the CLI writes carries (io/provenance.ts).
  */
 export type LayerCollection<G extends Geometry = MultiPolygon, P = LayerFeatureProps> = FeatureCollection<
   G,
   P
-> & { caution: string; metadata?: Record<string, unknown> };
+> & { caution: string; metadata?: Record<string, unknown>; provenance?: Provenance };
 
 const KINDS: readonly LayerKind[] = ['any', 'primary', 'secondary'];
 const LAYERS: readonly LayerName[] = ['coverage', 'gap', 'lost', 'gained'];
@@ -93,22 +94,25 @@ export function layerFeature(coords: MultiPolygonCoords, props: LayerFeatureProp
 
 /**
  * A FeatureCollection of the features, with the caution as its `caution` foreign member; `meta` (if any) rides
- * along as the `metadata` foreign member.
+ * along as the `metadata` foreign member, `provenance` (if any) as the `provenance` one.
  */
 export function featureCollection<G extends Geometry = MultiPolygon, P = LayerFeatureProps>(
   features: Feature<G, P>[],
   meta?: Record<string, unknown>,
+  provenance?: Provenance,
 ): LayerCollection<G, P> {
   const fc: LayerCollection<G, P> = { type: 'FeatureCollection', caution: CAUTION, features };
   if (meta !== undefined) fc.metadata = meta;
+  if (provenance !== undefined) fc.provenance = provenance;
   return fc;
 }
 
 /**
  * GeoJSON text with a stable layout: in GeoJSON objects `type`, `id`, `bbox` first, then foreign members
- * (e.g. `metadata`) alphabetically, then `properties`, `geometry`, `geometries`, `coordinates`, `features`;
- * in every other object (properties, metadata) keys alphabetically. Every number is rounded to 6 decimals
- * (no -0); undefined members are left out; a non-finite number is an error. One feature per line.
+ * (`caution`, `metadata`, `provenance`, …) alphabetically, then `properties`, `geometry`, `geometries`,
+ * `coordinates`, `features`; in every other object (properties, metadata, provenance) keys alphabetically. Every
+ * number is rounded to 6 decimals (no -0), in `provenance` too; undefined members are left out; a non-finite
+ * number is an error. One feature per line.
  */
 export function stringifyGeoJson(geojson: GeoJSON | LayerCollection<Geometry, unknown>): string {
   const parts: string[] = [];

@@ -8,12 +8,14 @@
  * strip). Output: little-endian classic TIFF, uncompressed, one band, chunky, with the GeoTIFF tags
  * (ModelPixelScale + ModelTiepoint, or ModelTransformation for a south-up raster), a GeoKeyDirectory
  * (model type, RasterPixelIsArea, EPSG code), the GDAL_NODATA tag (42113) read by GDAL and geotiff.js, and an
- * optional ImageDescription (270; printable ASCII, as TIFF 6.0 asks of ASCII fields), where results carry the caution.
+ * optional ImageDescription (270; printable ASCII, as TIFF 6.0 asks of ASCII fields), where results carry the caution
+ * followed by their provenance (io/provenance.ts: ` Provenance: ` and the JSON, non-ASCII characters \u-escaped).
  *
  * The georeferencing follows grid.ts: pixel-is-area, (originX, originY) is the outer corner of pixel (0, 0).
  */
 import { InputError } from '../../shared/errors.ts';
 import type { GridGeo } from '../core/grid.ts';
+import { describeWithProvenance, type Provenance } from './provenance.ts';
 
 export interface GeoTiffRaster {
   geo: GridGeo;
@@ -22,6 +24,8 @@ export interface GeoTiffRaster {
   nodata?: number;
   /** Written as the ImageDescription tag (270); printable ASCII only (e.g. shared/caution.ts's CAUTION). */
   description?: string;
+  /** Written into the ImageDescription after `description` (io/provenance.ts's `describeWithProvenance`). */
+  provenance?: Provenance;
 }
 
 // TIFF field types.
@@ -147,15 +151,17 @@ export function encodeGeoTiff(r: GeoTiffRaster): ArrayBuffer {
     const text = Number.isNaN(nd) ? 'nan' : sampleFormat === 2 ? String(Math.round(nd)) : String(nd);
     entries.push({ tag: 42113, type: ASCII, values: text });
   }
-  if (r.description !== undefined) {
-    if (!/^[\x20-\x7e]*$/.test(r.description)) {
+  if (r.description !== undefined || r.provenance !== undefined) {
+    const text = r.description ?? '';
+    if (!/^[\x20-\x7e]*$/.test(text)) {
       throw new InputError(
         'GeoTIFF ImageDescription',
-        JSON.stringify(r.description.slice(0, 60)),
+        JSON.stringify(text.slice(0, 60)),
         'printable ASCII text (a TIFF ASCII field)',
       );
     }
-    entries.push({ tag: 270, type: ASCII, values: r.description });
+    const values = r.provenance ? describeWithProvenance(text, r.provenance) : text;
+    entries.push({ tag: 270, type: ASCII, values });
   }
   entries.sort((a, b) => a.tag - b.tag);
 
