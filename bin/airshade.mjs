@@ -18,6 +18,14 @@ function newestSource(dir) {
   return t;
 }
 
+// Output piped into a command that stops reading (`airshade … | head`) ends the run quietly, not with a trace.
+for (const stream of [process.stdout, process.stderr]) {
+  stream.on('error', (e) => {
+    if (e.code === 'EPIPE') process.exit(0);
+    throw e;
+  });
+}
+
 let main;
 if (
   existsSync(built) &&
