@@ -10,6 +10,7 @@ import { Network } from '../core/network.ts';
 import { solvePlan, type PlanInstance, type PlanResult } from '../core/plan.ts';
 import { volumeStats } from '../core/volumes.ts';
 import { stringifyGeoJson } from '../io/geojson.ts';
+import { undated } from '../io/provenance.ts';
 import { NodePool } from '../node-pool.ts';
 import {
   applyColdDay,
@@ -26,6 +27,7 @@ import { levelLayers } from '../io/layers.ts';
 import { buildDemand, coveredPoints, type Demand } from '../study.ts';
 import { writeFileChecked } from './files.ts';
 import { ProgressLine } from './progress.ts';
+import { scenarioProvenance } from './provenance.ts';
 import {
   allCandidates,
   footprintsFor,
@@ -149,6 +151,10 @@ export async function planCommand(argv: readonly string[], log: (s: string) => v
   progress.update(0.96, 'layers');
   const active = candidates.map((_, i) => result.chosen.includes(i));
   const network = studyNetwork(session, fls, footprints, active);
+  // No date in plan.json and its layers: the same inputs give the same bytes.
+  const provenance = undated(
+    scenarioProvenance('plan', p, SPEC, session.loaded, studyConventions(session, fls, altitudes)),
+  );
   for (let f = 0; f < fls.length; f++) {
     const fc = levelLayers(
       network,
@@ -161,10 +167,11 @@ export async function planCommand(argv: readonly string[], log: (s: string) => v
       session.volumeTargets,
       session.ground,
     );
+    fc.provenance = provenance;
     writeFileChecked(`${outDir}/plan-coverage-${formatFl(fls[f])}.geojson`, stringifyGeoJson(fc));
   }
   const doc = planDocument(session, candidates, result, network, fls, demand);
-  writeFileChecked(`${outDir}/plan.json`, JSON.stringify(doc, null, 2) + '\n');
+  writeFileChecked(`${outDir}/plan.json`, JSON.stringify({ ...doc, provenance }, null, 2) + '\n');
   progress.done();
   log(
     planSummary(session, doc, result, outDir, {
