@@ -570,7 +570,9 @@ describe('network and layouts', () => {
 
   it('setFlightLevels sorts and de-duplicates; view.fl moves to the first level only when the shown one is gone', () => {
     const s = fresh();
-    expect(s.view.fl).toBe(50);
+    // The view opens on the scenario's lowest level (the demo's is FL030).
+    expect(s.view.fl).toBe(Math.min(...(demo as { flightLevels: number[] }).flightLevels));
+    expect(s.view.fl).toBe(30);
     const next = applied(s, (x) => setFlightLevels(x, [300, 100, 300, 200, 100]));
     expect(next.doc.flightLevels).toEqual([100, 200, 300]);
     expect(next.view.fl).toBe(100);
