@@ -3,6 +3,7 @@
  * own. Inputs apply on change; a rejected value stays in its field, marked, with the message above the panel.
  */
 import { CAUTION } from '../shared/caution.ts';
+import { DEFAULT_SOLVER_NODES } from '../shared/plan-limits.ts';
 import { formatFl } from '../shared/units.ts';
 import { FLUCTUATION_IDS, TRANSPONDER_IDS, type SensorType } from '../shared/scenario.ts';
 import type { StudyConventions } from '../worker/study.ts';
@@ -1135,18 +1136,23 @@ function planPanel(app: App): HTMLElement {
     value: s.doc.budget ?? '',
   });
   const keep = h('input', { type: 'checkbox', id: 'plan-keep', checked: true, 'data-keep': true });
-  const limit = h('input', {
+  // A work limit, not a clock: the same study gives the same plan on any machine (shared/plan-limits.ts).
+  const nodes = h('input', {
     type: 'number',
-    id: 'plan-limit',
+    id: 'plan-nodes',
     'data-keep': true,
-    min: 1,
-    max: 600,
-    value: 8,
+    min: 0,
+    max: 100000,
+    step: 1,
+    value: DEFAULT_SOLVER_NODES,
     className: 'short',
   });
   const run = () =>
     void app.job('Plan', async (progress) => {
       const b = budget.value.trim() === '' ? null : Number(budget.value);
+      const n = Number(nodes.value);
+      if (!(Number.isInteger(n) && n >= 0 && n <= 100000))
+        throw new Error(`solver nodes: found "${nodes.value}"; expected a whole number from 0 to 100000`);
       if (b !== null && !(b >= 0))
         throw new Error(`budget: found "${budget.value}"; expected a number ≥ 0 or empty for none`);
       const keepRefs = keep.checked
@@ -1160,7 +1166,7 @@ function planPanel(app: App): HTMLElement {
           budget: b,
           keep: keepRefs,
           excludedSites: [],
-          timeLimitMs: Math.max(1, Number(limit.value) || 8) * 1000,
+          solverNodes: n,
         },
         progressProxy(progress),
       );
@@ -1188,6 +1194,15 @@ function planPanel(app: App): HTMLElement {
           h('dd', {}, fmtPct(p.gapPct)),
           h('dt', {}, 'Method'),
           h('dd', {}, p.method),
+          p.solverStop && p.solverStop !== 'nothing'
+            ? h(
+                'dd',
+                { className: p.solverStop === 'safety time limit' ? 'warn' : 'hint' },
+                p.solverStop === 'safety time limit'
+                  ? 'Stopped by the safety time limit: this plan may differ on another machine.'
+                  : 'Stopped at its work limit: the same plan on any machine; more nodes may narrow the gap.',
+              )
+            : null,
           h('dt', {}, 'Every requirement met'),
           h('dd', {}, p.demandMet ? 'yes' : 'no'),
         ),
@@ -1261,7 +1276,15 @@ function planPanel(app: App): HTMLElement {
     ),
     h('label', {}, 'Budget (M, empty = none) ', budget),
     h('label', {}, keep, ' keep the network’s sensors at existing sites'),
-    h('label', {}, 'Solver time limit (s) ', limit),
+    h(
+      'label',
+      {
+        title:
+          'Branch-and-bound nodes the exact search may explore; 0 keeps the heuristic plan with the LP bound',
+      },
+      'Solver work limit (nodes) ',
+      nodes,
+    ),
     h(
       'div',
       {},
@@ -1664,6 +1687,7 @@ function filesPanel(app: App): HTMLElement {
           entries: app.plan.entries,
           volumes: app.plan.volumes,
           method: app.plan.method,
+          solverStop: app.plan.solverStop,
         }
       : null,
     nMinus1: app.nMinus1,

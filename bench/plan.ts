@@ -9,15 +9,18 @@
  *   secondary (radius 150–230 cells) type: 200 candidates, each covering the disc of cells around its site;
  * - the existing sites' secondary sensors are forced in.
  * Each run is a child process (so each peak memory is its own): it builds the instance, then times solvePlan.
- * Prints every run, then the best and mean ± sd.
+ * Prints every run, then the best and mean ± sd, and whether every run gave the same plan (the planner stops on
+ * work counts, not on the clock, so it should, however busy the machine).
  *
  *   npx tsx bench/plan.ts                 (2 runs, cover mode)
  *   npx tsx bench/plan.ts --runs 3
  *   npx tsx bench/plan.ts --budget 400    (budget mode: the most demand within 400)
+ *   npx tsx bench/plan.ts --load 2        (odd runs with 2 threads spinning beside the solver: the same plan?)
  */
 import { spawnSync } from 'node:child_process';
 import { loadavg } from 'node:os';
 import { resolve } from 'node:path';
+import { Worker } from 'node:worker_threads';
 import { solvePlan, type PlanInstance } from '../worker/core/plan.ts';
 import { mulberry32 } from '../test/support/bumps.ts';
 
@@ -92,7 +95,6 @@ export function benchInstance(seed = 20_240_611): PlanInstance {
     candidates,
     points: { count: n, weight, reqAny, reqPrimary, reqSecondary },
     forced,
-    timeLimitMs: 5000,
   };
 }
 
@@ -108,9 +110,12 @@ interface Run {
     coveredWeight: number;
     weightUpperBound: number;
     chosen: number;
+    chosenList: string;
     groups: number;
     method: string;
+    solverStop: string;
   };
+  busyThreads: number;
   stageMs: Record<string, number>;
   log: string[];
 }
@@ -122,9 +127,15 @@ async function child(): Promise<void> {
   if (b > 0) inst.budget = Number(process.argv[b + 1]);
   const buildS = (performance.now() - t0) / 1000;
   const rssBeforeMiB = process.memoryUsage().rss / 2 ** 20;
+  const l = process.argv.indexOf('--busy');
+  const busy = Array.from(
+    { length: l > 0 ? Number(process.argv[l + 1]) : 0 },
+    () => new Worker('for (;;) {}', { eval: true }),
+  );
   const t1 = performance.now();
   const r = await solvePlan(inst);
   const planS = (performance.now() - t1) / 1000;
+  await Promise.all(busy.map((w) => w.terminate()));
   const run: Run = {
     planS,
     buildS,
@@ -137,9 +148,12 @@ async function child(): Promise<void> {
       coveredWeight: r.coveredWeight,
       weightUpperBound: r.weightUpperBound,
       chosen: r.chosen.length,
+      chosenList: r.chosen.join(','),
       groups: r.groups,
       method: r.method,
+      solverStop: r.solverStop,
     },
+    busyThreads: busy.length,
     stageMs: r.stageMs,
     log: r.log,
   };
@@ -150,6 +164,8 @@ function main(): void {
   const runsArg = process.argv.indexOf('--runs');
   const runs = runsArg > 0 ? Number(process.argv[runsArg + 1]) : 2;
   const budgetArg = process.argv[process.argv.indexOf('--budget') + 1];
+  const loadArg = process.argv.indexOf('--load');
+  const load = loadArg > 0 ? Number(process.argv[loadArg + 1]) : 0;
   const covers = benchInstance().candidates.reduce((a, c) => a + c.covers.length, 0);
   process.stderr.write(
     `plan bench: 200 candidates × 1 000 000 points (${covers} cover entries), ${runs} runs, ` +
@@ -158,6 +174,7 @@ function main(): void {
   const all: Run[] = [];
   for (let i = 0; i < runs; i++) {
     const extra = process.argv.includes('--budget') ? ['--budget', budgetArg] : [];
+    if (load > 0 && i % 2 === 0) extra.push('--busy', String(load));
     const r = spawnSync(process.execPath, [...process.execArgv, import.meta.filename, '--child', ...extra], {
       encoding: 'utf8',
       maxBuffer: 1 << 26,
@@ -167,12 +184,13 @@ function main(): void {
     all.push(run);
     if (i === 0) for (const line of run.log) process.stdout.write(`  ${line}\n`);
     process.stdout.write(
-      `run ${i + 1}: plan ${run.planS.toFixed(2)} s (stages ms ${JSON.stringify(run.stageMs)}), ` +
+      `run ${i + 1}${run.busyThreads ? ` (${run.busyThreads} threads spinning)` : ''}: plan ${run.planS.toFixed(2)} s (stages ms ${JSON.stringify(run.stageMs)}), ` +
         `instance build ${run.buildS.toFixed(2)} s, RSS before plan ${run.rssBeforeMiB.toFixed(0)} MiB, ` +
         `peak RSS ${run.peakRssMiB.toFixed(0)} MiB; cost ${run.result.cost}, lower bound ` +
         `${run.result.lowerBound}, gap ${run.result.gapPct.toFixed(2)} %, ${run.result.chosen} sensors, ` +
         `${run.result.groups} groups, covered weight ${run.result.coveredWeight.toFixed(0)} ` +
-        `(upper bound ${run.result.weightUpperBound.toFixed(0)}), ${run.result.method}\n`,
+        `(upper bound ${run.result.weightUpperBound.toFixed(0)}), ${run.result.method}; solver stop: ` +
+        `${run.result.solverStop}\n`,
     );
   }
   const t = all.map((r) => r.planS);

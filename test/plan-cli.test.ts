@@ -109,6 +109,29 @@ describe('airshade plan', () => {
     }
   });
 
+  it('--solver-nodes: 0 skips the exact search; the safety time limit leaves the plan alone; a bad count gives one message', async () => {
+    // plan.json without its provenance (which lists the options given)
+    const body = (d: Record<string, unknown>): string => JSON.stringify({ ...d, provenance: undefined });
+    const def = await plan('n1');
+    expect(def.code).toBe(0);
+    expect(def.doc.solverStop).toBe('nothing');
+    expect(def.doc.log.some((l: string) => /^MILP: \w+ after \d+ of at most \d+ nodes/.test(l))).toBe(true);
+    const longer = await plan('n2', '--time-limit-s', '600');
+    expect(body(longer.doc)).toBe(body(def.doc));
+    const none = await plan('n3', '--solver-nodes', '0');
+    expect(none.code).toBe(0);
+    expect(none.doc.log).toContain('MILP: not run (node limit 0)');
+    expect(none.doc.solverStop).toBe('work limit');
+    expect(none.out).toMatch(/stopped at its work limit \(--solver-nodes\)/);
+    expect(none.doc.cost).toBeGreaterThanOrEqual(def.doc.cost - 1e-9);
+    for (const bad of ['2.5', '-1', 'many']) {
+      const r = await plan('n4', '--solver-nodes', bad);
+      expect(r.code).not.toBe(0);
+      expect(r.err.trim().split('\n')).toHaveLength(1);
+      expect(r.err).toMatch(/--solver-nodes: found .*; expected a whole number of nodes/);
+    }
+  });
+
   it('the plan feeds airshade outage', async () => {
     const p = await plan('p10');
     const r = await run(

@@ -13,6 +13,9 @@
  * - "Covered by ≥ 2 distinct sites" ⇔ "still covered after any one site fails"; sensors on one site fail
  *   together (test/REFERENCES.md, [calc]).
  */
+import { once } from 'node:events';
+import { availableParallelism } from 'node:os';
+import { Worker } from 'node:worker_threads';
 import { describe, expect, it } from 'vitest';
 import { InputError, isInputError } from '../shared/errors.ts';
 import {
@@ -393,6 +396,54 @@ describe('determinism', () => {
     }
   });
 
+  // A seeded instance whose MILP needs more branch-and-bound nodes than it is given (89 when unlimited, measured
+  // here), so the node limit — not the clock — is what stops it.
+  const branching = (extra: Partial<PlanInstance> = {}): PlanInstance => ({
+    ...randomInstance(36, { candidates: [60, 60], points: [2000, 2000] }),
+    solverNodes: 20,
+    ...extra,
+  });
+  const withMilp = { exactMaxCandidates: 1000 };
+
+  it('a MILP stopped by its node limit: the same plan twice, and the log and solverStop say where it stopped', async () => {
+    const a = await solvePlan(branching(), withMilp);
+    const b = await solvePlan(branching(), withMilp);
+    expect(withoutTimings(b)).toBe(withoutTimings(a));
+    expect(a.solverStop).toBe('work limit');
+    expect(a.log.some((l) => l.startsWith('MILP: solutionLimit after 20 of at most 20 nodes'))).toBe(true);
+    expect(a.log.join('\n')).not.toMatch(/safety time limit/);
+  });
+
+  it('the same plan while other threads keep every core busy', async () => {
+    const quiet = await solvePlan(branching(), withMilp);
+    const busy = Array.from(
+      { length: availableParallelism() },
+      () => new Worker('for (;;) {}', { eval: true }),
+    );
+    try {
+      await Promise.all(busy.map((w) => once(w, 'online')));
+      const loaded = await solvePlan(branching(), withMilp);
+      expect(withoutTimings(loaded)).toBe(withoutTimings(quiet));
+    } finally {
+      await Promise.all(busy.map((w) => w.terminate()));
+    }
+  });
+
+  it('the safety time limit, when it is not reached, leaves the plan alone; more nodes never raise the cost', async () => {
+    const short = await solvePlan(branching({ timeLimitMs: 60_000 }), withMilp);
+    const long = await solvePlan(branching({ timeLimitMs: 600_000 }), withMilp);
+    expect(withoutTimings(long)).toBe(withoutTimings(short));
+    const more = await solvePlan(branching({ solverNodes: 200 }), withMilp);
+    expect(more.log.some((l) => /^MILP: optimal after \d+ of at most 200 nodes/.test(l))).toBe(true);
+    expect(more.solverStop).toBe('nothing');
+    expect(more.cost).toBeLessThanOrEqual(short.cost);
+    expect(more.lowerBound).toBeGreaterThanOrEqual(short.lowerBound);
+    const none = await solvePlan(branching({ solverNodes: 0 }), withMilp);
+    expect(none.log).toContain('MILP: not run (node limit 0)');
+    expect(none.solverStop).toBe('work limit');
+    expect(none.method).not.toMatch(/MILP/);
+  });
+
   it('reports progress from 0 to 1', async () => {
     const seen: number[] = [];
     await solvePlan(randomInstance(5, { candidates: [10, 10], points: [20, 20] }), {
@@ -498,5 +549,10 @@ describe('bad input', () => {
     const short = base();
     short.points.reqPrimary = new Uint8Array(2);
     await rejects(short, /points\.reqPrimary/, /2 entries/);
+  });
+
+  it('a node limit that is not a whole number ≥ 0', async () => {
+    await rejects({ ...base(), solverNodes: -1 }, /solverNodes/, /^-1$/);
+    await rejects({ ...base(), solverNodes: 2.5 }, /solverNodes/, /^2\.5$/);
   });
 });

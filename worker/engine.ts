@@ -19,7 +19,14 @@ import { inlineExecutor, type Executor } from './core/floor.ts';
 import type { Footprint } from './core/footprint.ts';
 import { KINDS, Network, type FoldKind } from './core/network.ts';
 import { difference, outageTable, servedMasks, tally, type LevelLoss, type SiteLoss } from './core/outage.ts';
-import { solvePlan, type PlanInstance, type PlanOptions, type PlanResult } from './core/plan.ts';
+import {
+  DEFAULT_SAFETY_TIME_LIMIT_MS,
+  DEFAULT_SOLVER_NODES,
+  solvePlan,
+  type PlanInstance,
+  type PlanOptions,
+  type PlanResult,
+} from './core/plan.ts';
 import { Terrain, type DemTile } from './core/terrain.ts';
 import { cellsAtLevel, rowAreasKm2, volumeStats, type VolumeLevelStats } from './core/volumes.ts';
 import { renderDiagramSvg } from './io/diagram-svg.ts';
@@ -141,6 +148,9 @@ export interface PlanRequest {
   /** Sensors that must stay in (e.g. the existing ones). */
   keep: SensorRef[];
   excludedSites: string[];
+  /** The MILP's work limit in branch-and-bound nodes (default: the CLI's, DEFAULT_SOLVER_NODES). */
+  solverNodes?: number;
+  /** Safety time limit (default DEFAULT_SAFETY_TIME_LIMIT_MS); a plan it stops may differ on another machine. */
   timeLimitMs?: number;
 }
 
@@ -153,6 +163,8 @@ export interface PlanSummary {
   coveredWeight: number;
   totalWeight: number;
   method: string;
+  /** What stopped the solver short: nothing, its work limit, or the safety time limit (see PlanResult). */
+  solverStop: PlanResult['solverStop'];
   entries: { siteId: string; typeId: string; cost: number }[];
   volumes: VolumeLevelStats[];
   unmeetable: { kind: string; required: number; achievable: number; points: number }[];
@@ -714,7 +726,8 @@ export class Engine {
       forced: req.keep.map((k) => all.findIndex((r) => r.siteId === k.siteId && r.typeId === k.typeId)),
       excludedSites: [],
       ...(budget !== undefined ? { budget } : {}),
-      timeLimitMs: req.timeLimitMs ?? 8000,
+      timeLimitMs: req.timeLimitMs ?? DEFAULT_SAFETY_TIME_LIMIT_MS,
+      solverNodes: req.solverNodes ?? DEFAULT_SOLVER_NODES,
     };
     check();
     const solve = this.options.solve ?? solvePlan;
@@ -744,6 +757,7 @@ export class Engine {
       coveredWeight: result.coveredWeight,
       totalWeight: result.totalWeight,
       method: result.method,
+      solverStop: result.solverStop,
       entries: chosen.map((r) => ({ ...r, cost: study.models.get(r.typeId)!.spec.cost })),
       volumes: volumeStats(
         network,

@@ -3,11 +3,19 @@
  * flight levels of its band — or, with a budget, the most demand within it — with a proven lower bound and gap.
  */
 import { CAUTION } from '../../shared/caution.ts';
+import { InputError } from '../../shared/errors.ts';
 import { formatFl } from '../../shared/units.ts';
 import { conventionsText, layerMeta, levelAltitudesM, studyConventions, studyNetwork } from '../study.ts';
 import type { Candidate } from '../core/coverage.ts';
 import { Network } from '../core/network.ts';
-import { solvePlan, type PlanInstance, type PlanResult } from '../core/plan.ts';
+import {
+  DEFAULT_SAFETY_TIME_LIMIT_MS,
+  DEFAULT_SOLVER_NODES,
+  SAFETY_LIMIT_NOTE,
+  solvePlan,
+  type PlanInstance,
+  type PlanResult,
+} from '../core/plan.ts';
 import { volumeStats } from '../core/volumes.ts';
 import { stringifyGeoJson } from '../io/geojson.ts';
 import { undated } from '../io/provenance.ts';
@@ -41,7 +49,7 @@ export const PLAN_HELP = `airshade plan — the cheapest sites and sensor types 
 
 Usage:
   airshade plan SCENARIO.json --out DIR [--budget COST] [--keep LAYOUT] [--exclude SITE …] [--weather] [--cold-day]
-                [--time-limit-s S] [--threads N] [--quiet] [--debug]
+                [--solver-nodes N] [--time-limit-s S] [--threads N] [--quiet] [--debug]
 
 Demand: every cell of every volume at every scenario flight level inside the volume's band, weighted by cell area
 times the volume's weight, needing the volume's required folds (distinct sites per kind). Candidates: every
@@ -55,8 +63,12 @@ Options:
   --keep LAYOUT     the sensors of this layout are kept by force (e.g. the existing network)
   --exclude SITE    never use this site (repeat)
   --budget COST     the budget (overrides the scenario's); --budget none plans without one
-  --time-limit-s S  time limit for the LP/MILP solver (default 8); a plan cut short by it can differ between
-                    machines of different speed (plan.json's log says when the limit was hit)
+  --solver-nodes N  work limit of the exact search: the branch-and-bound nodes the MILP may explore (default
+                    ${DEFAULT_SOLVER_NODES}; 0 skips it: the heuristic plan with the LP bound). The solver stops on this count, not
+                    on the clock, so the same inputs give the same plan.json on any machine and under any load
+  --time-limit-s S  safety time limit for the LP and MILP together (default ${DEFAULT_SAFETY_TIME_LIMIT_MS / 1000}), meant never to be reached:
+                    a plan it stops says so (on screen, in plan.json's solverStop and log) and may differ on
+                    another machine
 ${weatherHelp(20)}
 ${coldDayHelp(20)}
 `;
@@ -68,6 +80,7 @@ const SPEC = {
   exclude: { value: true, repeat: true },
   weather: {},
   'cold-day': {},
+  'solver-nodes': { value: true },
   'time-limit-s': { value: true },
   threads: { value: true },
   quiet: {},
@@ -87,8 +100,9 @@ export async function planCommand(argv: readonly string[], log: (s: string) => v
   const limitText = one(p, 'time-limit-s');
   const timeLimitMs =
     limitText === undefined
-      ? 8000
+      ? DEFAULT_SAFETY_TIME_LIMIT_MS
       : numberArg('time-limit-s', limitText, 0.1, 3600, 'a time limit in seconds from 0.1 to 3600') * 1000;
+  const solverNodes = solverNodesArg(one(p, 'solver-nodes'));
   const started = performance.now();
   const progress = new ProgressLine('plan', p.flags.has('quiet'));
   const session = await openSession(scenarioPath, threads, progress);
@@ -138,12 +152,13 @@ export async function planCommand(argv: readonly string[], log: (s: string) => v
     excludedSites: [...excluded].map((id) => siteIndex.get(id)!),
     ...(budget !== undefined ? { budget } : {}),
     timeLimitMs,
+    solverNodes,
   };
   const tBuilt = performance.now();
   const result = await solvePlan(inst, {
     onProgress: (f, stage) => progress.update(0.65 + 0.3 * f, stage),
     // The whole LP (no row truncation) and the MILP whenever it fits: on the demo the LP relaxation alone
-    // leaves a 6 % gap, the MILP closes it to < 1 % within the time limit.
+    // leaves a gap of a few per cent, the MILP closes it at its root node, well within the node limit.
     lpMaxNonzeros: 2_000_000,
     exactMaxCandidates: 1_000,
   });
@@ -183,6 +198,15 @@ export async function planCommand(argv: readonly string[], log: (s: string) => v
   log(conventionsText(doc.conventions));
   log(CAUTION);
   return 0;
+}
+
+/** --solver-nodes: a whole number of branch-and-bound nodes (default DEFAULT_SOLVER_NODES). */
+function solverNodesArg(text: string | undefined): number {
+  if (text === undefined) return DEFAULT_SOLVER_NODES;
+  const what = 'a whole number of nodes from 0 to 1000000000';
+  const v = numberArg('solver-nodes', text, 0, 1e9, what);
+  if (!Number.isInteger(v)) throw new InputError('--solver-nodes', `"${text}"`, what);
+  return v;
 }
 
 function planDocument(
@@ -227,6 +251,7 @@ function planDocument(
     achievableWeight: r.achievableWeight,
     totalWeight: r.totalWeight,
     method: r.method,
+    solverStop: r.solverStop,
     entries,
     volumes: volumeStats(
       network,
@@ -265,6 +290,15 @@ function planSummary(
   for (const u of doc.unmeetable) {
     lines.push(
       `  note: ${u.volumeName} needs ${u.kind} fold ${u.required} where at most ${u.achievable} is possible (${u.points} points): planned to ${u.achievable}`,
+    );
+  }
+  if (r.solverStop === 'safety time limit') {
+    lines.push(
+      `  warning: the solver was ${SAFETY_LIMIT_NOTE} (raise --time-limit-s, or lower --solver-nodes)`,
+    );
+  } else if (r.solverStop === 'work limit') {
+    lines.push(
+      '  note: the solver stopped at its work limit (--solver-nodes): the same plan on any machine; more nodes may narrow the gap',
     );
   }
   lines.push('');

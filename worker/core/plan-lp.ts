@@ -15,11 +15,21 @@
  * The LP relaxation bounds the 0/1 optimum (any OR text). The bound is not read from HiGHS's objective: it is
  * recomputed by weak duality from HiGHS's row duals π (clamped to the sign each row allows), as
  * Σ_i π_i·(bound of row i) + Σ_j min over x_j's box of (c_j − πᵀA_j)·x_j, which is a valid bound for *any* π —
- * so it holds whatever the solver's tolerances, and also when the time limit stops it early.
+ * so it holds whatever the solver's tolerances, and also when a limit stops it early.
  * If the LP would exceed `lpMaxNonzeros`, it keeps the tightest rows only (fewest spare sites, cover mode; or
  * heaviest, budget mode, the rest counted as fully covered) — a relaxation, hence a weaker but valid bound. A
  * combinatorial bound that needs no solver is always computed too: the cheapest way to meet the single hardest
  * row, on top of the forced sensors.
+ *
+ * Limits. HiGHS stops on work counts, not on the clock, so the same instance gives the same bound and MILP plan
+ * on any machine and under any load: the LP on `lpMaxIterations` interior-point iterations, the MILP on
+ * `mipMaxNodes` branch-and-bound nodes (HiGHS's `mip_max_nodes`, which HiGHS's maintainers name as the
+ * deterministic stand-in for a time limit, ERGO-Code/HiGHS issue #3133; the work before the first branching is
+ * bounded by HiGHS's own effort settings, which count iterations, not seconds). The `highs` package is
+ * WebAssembly and single-threaded, so no thread timing enters either; repeated runs, idle and with every core
+ * kept busy, gave identical results (test/plan.test.ts). `timeLimitMs` is a safety net only (HiGHS's
+ * `time_limit`, LP and MILP together): when it stops a stage the log says so, because that result may differ on
+ * another machine.
  */
 import loadHighs, { type Highs, type InitOptions, type ModelData } from 'highs';
 import { nowMs } from './clock.ts';
@@ -29,7 +39,12 @@ import { K_ANY, planCost, type PlanModel } from './plan.ts';
 export type HighsInit = InitOptions;
 
 export interface BoundOptions {
+  /** Safety net on the wall clock for the LP and the MILP together (ms); the work limits below come first. */
   timeLimitMs: number;
+  /** The MILP's work limit: branch-and-bound nodes (HiGHS `mip_max_nodes`). */
+  mipMaxNodes: number;
+  /** The LP's work limit: interior-point iterations (HiGHS `ipm_iteration_limit`). */
+  lpMaxIterations: number;
   exactMaxCandidates: number;
   exactMaxNonzeros: number;
   lpMaxNonzeros: number;
@@ -49,7 +64,15 @@ export interface BoundOutcome {
   milpStatus?: 'optimal' | 'incumbent';
   milpOptimal: boolean;
   milpObjective?: number;
+  /**
+   * What stopped HiGHS short, if anything: a work limit (deterministic) or the safety time limit (the bound and
+   * the MILP's plan may then differ on another machine).
+   */
+  stoppedBy: 'nothing' | 'work limit' | 'safety time limit';
 }
+
+/** The words the plan's log uses when the safety time limit stopped a stage. */
+export const SAFETY_LIMIT_NOTE = 'stopped by the safety time limit: this plan may differ on another machine';
 
 let highsPromise: Promise<Highs> | null = null;
 
@@ -439,6 +462,14 @@ function statusName(highs: Highs, code: number): string {
   return names ? names[0] : String(code);
 }
 
+/** HiGHS's model status as a limit: the clock (the safety net), a work count, or none. */
+function limitOf(highs: Highs, code: number): 'time' | 'work' | null {
+  const st = highs.constants.modelStatus;
+  if (code === st.timeLimit) return 'time';
+  if (code === st.iterationLimit || code === st.solutionLimit) return 'work';
+  return null;
+}
+
 export async function boundPlan(
   m: PlanModel,
   heuristic: readonly number[],
@@ -452,6 +483,18 @@ export async function boundPlan(
     method: budgetMode ? 'trivial bound' : 'single-row bound',
     log,
     milpOptimal: false,
+    stoppedBy: 'nothing',
+  };
+  const stopped = (limit: 'time' | 'work' | null): string => {
+    if (limit === 'time') {
+      out.stoppedBy = 'safety time limit';
+      return ` (${SAFETY_LIMIT_NOTE})`;
+    }
+    if (limit === 'work') {
+      if (out.stoppedBy === 'nothing') out.stoppedBy = 'work limit';
+      return ' (work limit reached)';
+    }
+    return '';
   };
   if (!budgetMode) log.push(`bound: single-row bound ${out.costLowerBound}`);
   if (m.nGroups === 0) {
@@ -494,6 +537,7 @@ export async function boundPlan(
       model.options.set({
         output_flag: false,
         time_limit: Math.max(0.05, o.timeLimitMs / 1000),
+        ipm_iteration_limit: o.lpMaxIterations,
         solver: 'ipm',
         run_crossover: 'off',
       });
@@ -502,9 +546,10 @@ export async function boundPlan(
       const sol = model.getSolution();
       const v = dualBound(b, sol.rowDual, inf) + b.offset;
       const bound = budgetMode ? -v : v;
+      const iterations = Number(model.info.get('ipm_iteration_count'));
       log.push(
-        `LP: ${statusName(highs, status)}, objective ${budgetMode ? -model.getObjectiveValue() - b.offset : model.getObjectiveValue()}, ` +
-          `dual bound ${bound}${status === highs.constants.modelStatus.timeLimit ? ' (time limit: depends on machine speed)' : ''}`,
+        `LP: ${statusName(highs, status)} after ${iterations} iterations, objective ${budgetMode ? -model.getObjectiveValue() - b.offset : model.getObjectiveValue()}, ` +
+          `dual bound ${bound}${stopped(limitOf(highs, status))}`,
       );
       if (Number.isFinite(bound)) improve(bound, lpName);
     } catch (e) {
@@ -522,6 +567,11 @@ export async function boundPlan(
   }
   const exact = full && (m.allowedList.length <= o.exactMaxCandidates || b.nonzeros <= o.exactMaxNonzeros);
   if (!exact) return out;
+  if (o.mipMaxNodes === 0) {
+    log.push('MILP: not run (node limit 0)');
+    out.stoppedBy = 'work limit';
+    return out;
+  }
   o.onProgress?.(0.5, 'MILP');
   const integrality = new Int32Array(b.numCols);
   for (const c of m.allowedList) integrality[b.xCol[c]] = 1;
@@ -532,6 +582,7 @@ export async function boundPlan(
     model.options.set({
       output_flag: false,
       time_limit: secs,
+      mip_max_nodes: o.mipMaxNodes,
       mip_rel_gap: 0,
       mip_abs_gap: !budgetMode && m.integerCosts ? 1 - 1e-6 : 0,
     });
@@ -545,10 +596,11 @@ export async function boundPlan(
     const feasible = Number(model.info.get('primal_solution_status')) === 2;
     const dual = Number(model.info.get('mip_dual_bound'));
     const optimal = status === highs.constants.modelStatus.optimal;
+    const nodes = Number(model.info.get('mip_node_count'));
     log.push(
-      `MILP: ${statusName(highs, status)}${feasible ? `, objective ${budgetMode ? -model.getObjectiveValue() : model.getObjectiveValue()}` : ''}` +
-        `, dual bound ${budgetMode ? -dual : dual}` +
-        `${status === highs.constants.modelStatus.timeLimit ? ' (time limit: depends on machine speed)' : ''}`,
+      `MILP: ${statusName(highs, status)} after ${nodes} of at most ${o.mipMaxNodes} nodes` +
+        `${feasible ? `, objective ${budgetMode ? -model.getObjectiveValue() : model.getObjectiveValue()}` : ''}` +
+        `, dual bound ${budgetMode ? -dual : dual}${stopped(limitOf(highs, status))}`,
     );
     if (Number.isFinite(dual)) {
       const margin = 1e-9 * Math.max(1, Math.abs(dual));

@@ -29,15 +29,24 @@
  *    greedy refill, then dropping picks that no longer cover anything.
  * 4. bound (plan-lp.ts): LP relaxation with HiGHS over the aggregated rows, a MILP when the instance is small.
  *
- * Determinism: ties are broken by index, there is no randomness, and the local search stops on a count of
- * operations, not on the clock. The only clock is HiGHS's time limit: when it is reached the log says so, and
- * the bound — and the plan, if a MILP incumbent found by then beats the heuristic one — may then depend on the
- * machine's speed (never its validity: every MILP plan is re-checked with exact counts before it is used).
+ * Determinism: ties are broken by index, there is no randomness, the local search stops on a count of
+ * operations, and HiGHS on counts of its own (interior-point iterations for the LP, branch-and-bound nodes for the
+ * MILP: `solverNodes`) — so the same instance gives the same result on any machine and under any load. The only
+ * clock is HiGHS's safety time limit (`timeLimitMs`, generous): when it is reached the log and `solverStop` say
+ * so, and the bound — and the plan, if a MILP incumbent found by then beats the heuristic one — may then depend
+ * on the machine's speed (never its validity: every MILP plan is re-checked with exact counts before it is used).
  */
 import { InputError } from '../../shared/errors.ts';
+import { DEFAULT_SAFETY_TIME_LIMIT_MS, DEFAULT_SOLVER_NODES } from '../../shared/plan-limits.ts';
 import { nowMs } from './clock.ts';
 import type { Progress } from './floor.ts';
-import { boundPlan, type HighsInit } from './plan-lp.ts';
+import { boundPlan, SAFETY_LIMIT_NOTE, type HighsInit } from './plan-lp.ts';
+
+export { SAFETY_LIMIT_NOTE };
+
+export { DEFAULT_SAFETY_TIME_LIMIT_MS, DEFAULT_SOLVER_NODES };
+/** Interior-point iterations allowed to the LP bound (it converges in 13–42 on the demo, cover or budget). */
+export const LP_MAX_ITERATIONS = 200;
 
 export type Kind = 'primary' | 'secondary';
 export type DemandKind = Kind | 'any';
@@ -67,7 +76,15 @@ export interface PlanInstance {
   excludedSites?: number[];
   /** When set: maximise the covered weight within this budget (maximal covering). */
   budget?: number;
-  /** Time limit for HiGHS, LP and MILP together (default 5000). */
+  /**
+   * The MILP's work limit in branch-and-bound nodes (default DEFAULT_SOLVER_NODES); 0: the root node only. The
+   * same count gives the same plan on any machine.
+   */
+  solverNodes?: number;
+  /**
+   * Safety time limit for HiGHS, LP and MILP together (default DEFAULT_SAFETY_TIME_LIMIT_MS). Not meant to be
+   * reached: when it is, the result may differ on another machine, and `solverStop` and the log say so.
+   */
   timeLimitMs?: number;
 }
 
@@ -123,7 +140,12 @@ export interface PlanResult {
   unmeetable: Unmeetable[];
   /** Groups of points with identical requirements and covering candidates (the size the solvers worked on). */
   groups: number;
-  /** What each stage did (deterministic: no timings). */
+  /**
+   * What stopped HiGHS short: nothing, a work limit (`solverNodes`, or the LP's iteration limit — the same on any
+   * machine), or the safety time limit (this plan may differ on another machine).
+   */
+  solverStop: 'nothing' | 'work limit' | 'safety time limit';
+  /** What each stage did (deterministic: no timings, unless the safety time limit was reached). */
   log: string[];
   /** Wall-clock time per stage — the one field that differs from run to run. */
   stageMs: Record<string, number>;
@@ -319,6 +341,12 @@ export function preparePlan(inst: PlanInstance): PlanModel {
   }
   if (inst.timeLimitMs !== undefined && !(Number.isFinite(inst.timeLimitMs) && inst.timeLimitMs > 0)) {
     throw new InputError('plan: timeLimitMs', String(inst.timeLimitMs), 'a time limit > 0 ms');
+  }
+  if (
+    inst.solverNodes !== undefined &&
+    !(Number.isInteger(inst.solverNodes) && inst.solverNodes >= 0 && inst.solverNodes <= 2 ** 31 - 1)
+  ) {
+    throw new InputError('plan: solverNodes', String(inst.solverNodes), 'a whole number of nodes ≥ 0');
   }
 
   // Partition refinement: start from classes of equal requirements, split by each allowed candidate's cover.
@@ -1392,7 +1420,9 @@ export async function solvePlan(inst: PlanInstance, opts: PlanOptions = {}): Pro
   const heuristicCost = st.cost();
   const heuristicWeight = st.coveredWeight();
   const bound = await boundPlan(m, chosen, {
-    timeLimitMs: inst.timeLimitMs ?? 5000,
+    timeLimitMs: inst.timeLimitMs ?? DEFAULT_SAFETY_TIME_LIMIT_MS,
+    mipMaxNodes: inst.solverNodes ?? DEFAULT_SOLVER_NODES,
+    lpMaxIterations: LP_MAX_ITERATIONS,
     exactMaxCandidates: opts.exactMaxCandidates ?? 40,
     exactMaxNonzeros: opts.exactMaxNonzeros ?? 20_000,
     lpMaxNonzeros: opts.lpMaxNonzeros ?? 400_000,
@@ -1450,7 +1480,10 @@ export async function solvePlan(inst: PlanInstance, opts: PlanOptions = {}): Pro
     }
     gapPct = weightUpperBound > 0 ? (100 * (weightUpperBound - coveredWeight)) / weightUpperBound : 0;
   }
-  log.push(`result: cost ${cost}, lower bound ${lowerBound}, gap ${gapPct.toFixed(3)} %`);
+  log.push(
+    `result: cost ${cost}, lower bound ${lowerBound}, gap ${gapPct.toFixed(3)} %` +
+      (bound.stoppedBy === 'safety time limit' ? `; ${SAFETY_LIMIT_NOTE}` : ''),
+  );
   progress(1, 'done');
   return {
     mode,
@@ -1466,6 +1499,7 @@ export async function solvePlan(inst: PlanInstance, opts: PlanOptions = {}): Pro
     method,
     unmeetable: m.unmeetable,
     groups: m.nGroups,
+    solverStop: bound.stoppedBy,
     log,
     stageMs,
   };
