@@ -1,13 +1,84 @@
 /**
  * `airshade plan` on a small scenario: plan.json per the DESIGN contract, the same bytes on a second run, the
  * budget respected, forced and excluded sites honoured, unmeetable requirements reported by volume name, and the
- * plan handed to `airshade outage`.
+ * plan handed to `airshade outage`. Figures, not shape: the plan's cost is recomputed from the scenario's costs,
+ * and every demand point the plan claims met is checked for its required folds from the plan's sensors
+ * (test/support/plan-check.ts, written from the definitions).
  */
 import { readFileSync } from 'node:fs';
 import { join } from 'node:path';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
+import { levelAltitudesM } from '../worker/study.ts';
+import { allCandidates, footprintsFor, openSession } from '../worker/cli/session.ts';
+import { ProgressLine } from '../worker/cli/progress.ts';
+import { buildDemand, coveredPoints } from '../worker/study.ts';
+import type { PlanInstance } from '../worker/core/plan.ts';
+import { cappedRequirements, shortfalls } from './support/plan-check.ts';
 import { runCli } from './support/run-cli.ts';
-import { DEFAULT_VOLUMES, writeScenarioFixture, type Fixture } from './support/scenario-fixture.ts';
+import {
+  DEFAULT_VOLUMES,
+  writeScenarioFixture,
+  type Fixture,
+  type FixtureSensorType,
+} from './support/scenario-fixture.ts';
+
+interface PlanEntry {
+  siteId: string;
+  typeId: string;
+  cost: number;
+}
+
+/**
+ * The plan's instance rebuilt here from the scenario (demand points, every allowed sensor and the points it
+ * covers, as the core's study defines them), so that a plan.json can be checked against it point by point.
+ */
+async function instanceOf(fx: Fixture): Promise<{ inst: PlanInstance; index: Map<string, number> }> {
+  const session = await openSession(fx.scenarioPath, 0, new ProgressLine('test', true));
+  const s = session.loaded.scenario;
+  const candidates = allCandidates(session);
+  const footprints = await footprintsFor(session, candidates);
+  const demand = buildDemand(session, s.flightLevels);
+  const altitudes = levelAltitudesM(s, s.flightLevels);
+  const siteIndex = new Map(s.sites.map((f, i) => [f.properties.id, i]));
+  const inst: PlanInstance = {
+    sites: s.sites.map((f) => ({
+      id: f.properties.id,
+      cost: f.properties.siteCost,
+      existing: f.properties.existing,
+    })),
+    candidates: candidates.map((c, i) => ({
+      siteIndex: siteIndex.get(c.site.id)!,
+      typeId: c.model.spec.id,
+      kind: c.model.kind,
+      cost: c.model.spec.cost,
+      covers: coveredPoints(footprints[i], demand, altitudes),
+    })),
+    points: demand.instancePoints,
+  };
+  return { inst, index: new Map(candidates.map((c, i) => [`${c.site.id}/${c.model.spec.id}`, i])) };
+}
+
+/**
+ * The cost a plan must report, from the scenario as written: each entry's sensor type cost (0 for a sensor kept
+ * on a site marked existing: it stands already), plus each distinct site's cost unless the site is existing.
+ */
+function statedCost(
+  fx: Fixture,
+  entries: PlanEntry[],
+  kept: { siteId: string; typeId: string }[] = [],
+): number {
+  const types = fx.scenario.sensorTypes as FixtureSensorType[];
+  const site = (id: string) => fx.sites.find((x) => x.id === id)!;
+  let cost = 0;
+  for (const e of entries) {
+    const standing =
+      kept.some((k) => k.siteId === e.siteId && k.typeId === e.typeId) && site(e.siteId).existing;
+    if (!standing) cost += types.find((t) => t.id === e.typeId)!.cost as number;
+  }
+  for (const id of new Set(entries.map((e) => e.siteId)))
+    if (!site(id).existing) cost += site(id).siteCost ?? 0;
+  return cost;
+}
 
 const run = runCli;
 
@@ -48,6 +119,71 @@ describe('airshade plan', () => {
     expect(Array.isArray(d.volumes)).toBe(true);
     const b = await plan('p2');
     expect(readFileSync(b.path).equals(readFileSync(a.path))).toBe(true);
+  });
+
+  it('figures: the cost is the scenario’s costs summed, and every point it claims met has its folds', async () => {
+    const { inst: all, index } = await instanceOf(fx);
+    /** (point, kind) pairs whose requirement no allowed sensor set can meet: what plan.json lists as unmeetable. */
+    const cappedPairs = (inst: PlanInstance): number => {
+      const { capped, uncapped } = cappedRequirements(inst);
+      let n = 0;
+      for (let i = 0; i < capped.length; i++) if (capped[i] < uncapped[i]) n++;
+      return n;
+    };
+    expect(all.points.count).toBeGreaterThan(100);
+    for (const [out, extra] of [
+      ['f1', []],
+      ['f2', ['--keep', 'pair']],
+      ['f3', ['--exclude', 'alder']],
+    ] as const) {
+      const r = await plan(out, ...extra);
+      expect(r.code).toBe(0);
+      const d = r.doc;
+      const entries = d.entries as PlanEntry[];
+      const chosen = entries.map((e) => index.get(`${e.siteId}/${e.typeId}`)!);
+      expect(chosen.every((c) => c !== undefined)).toBe(true);
+      const alder = all.sites.findIndex((x) => x.id === 'alder');
+      const inst = extra[0] === '--exclude' ? { ...all, excludedSites: [alder] } : all;
+      expect(d.demandMet).toBe(true);
+      expect(shortfalls(inst, chosen)).toEqual([]);
+      if (extra[0] !== '--keep') {
+        // the checker has teeth: with positive costs an optimal plan has no idle sensor, so dropping any one
+        // leaves some point short
+        for (let j = 0; j < chosen.length; j++) {
+          expect(
+            shortfalls(
+              inst,
+              chosen.filter((_, i) => i !== j),
+            ).length,
+          ).toBeGreaterThan(0);
+        }
+      }
+      const listed = d.unmeetable.reduce((a: number, u: { points: number }) => a + u.points, 0);
+      expect(listed).toBe(cappedPairs(inst));
+      const kept =
+        extra[0] === '--keep'
+          ? [
+              { siteId: 'alder', typeId: 'psr-t' },
+              { siteId: 'brook', typeId: 'ssr-t' },
+            ]
+          : [];
+      const cost = statedCost(fx, entries, kept);
+      expect(d.cost).toBeCloseTo(cost, 9);
+      expect(d.newSpend).toBeCloseTo(cost, 9);
+      expect(entries.reduce((a, e) => a + e.cost, 0)).toBeCloseTo(cost, 9);
+      expect(d.lowerBound).toBeLessThanOrEqual(d.cost + 1e-9);
+      if (extra[0] === '--keep') {
+        // alder is an existing site and its primary stands already: it costs nothing new, its value (6) apart
+        expect(d.existingSensors).toEqual([{ siteId: 'alder', typeId: 'psr-t', value: 6 }]);
+        expect(d.existingValue).toBe(6);
+        expect(entries.find((e) => e.siteId === 'alder' && e.typeId === 'psr-t')!.cost).toBe(0);
+        expect(r.out).toMatch(/existing sensors kept: 1, worth 6\.00/);
+        expect(r.out).toMatch(/psr-t\s+0\.00 {2}already standing \(worth 6\.00\)/);
+      } else {
+        expect(d.existingSensors).toEqual([]);
+        expect(d.existingValue).toBe(0);
+      }
+    }
   });
 
   it('a budget is never exceeded; a budget below the forced sensors gives one message', async () => {

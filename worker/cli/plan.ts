@@ -33,7 +33,7 @@ import {
 } from './args.ts';
 import { levelLayers } from '../io/layers.ts';
 import { buildDemand, coveredPoints, type Demand } from '../study.ts';
-import { writeFileChecked } from './files.ts';
+import { writeFileAtomic } from './files.ts';
 import { ProgressLine } from './progress.ts';
 import { scenarioProvenance } from './provenance.ts';
 import {
@@ -60,7 +60,8 @@ With a budget (--budget, or the scenario's budget) it covers the most demand wit
 Writes DIR/plan.json and DIR/plan-coverage-FL050.geojson … (the plan's coverage layers).
 
 Options:
-  --keep LAYOUT     the sensors of this layout are kept by force (e.g. the existing network)
+  --keep LAYOUT     the sensors of this layout are kept by force (e.g. the existing network); those on sites
+                    marked existing already stand: they cost nothing new, and their value is shown apart
   --exclude SITE    never use this site (repeat)
   --budget COST     the budget (overrides the scenario's); --budget none plans without one
   --solver-nodes N  work limit of the exact search: the branch-and-bound nodes the MILP may explore (default
@@ -149,6 +150,8 @@ export async function planCommand(argv: readonly string[], log: (s: string) => v
     })),
     points: demand.instancePoints,
     forced,
+    // The kept sensors on sites marked existing stand already: nothing new is spent on them.
+    standing: forced.filter((c) => s.sites[siteIndex.get(candidates[c].site.id)!].properties.existing),
     excludedSites: [...excluded].map((id) => siteIndex.get(id)!),
     ...(budget !== undefined ? { budget } : {}),
     timeLimitMs,
@@ -183,10 +186,10 @@ export async function planCommand(argv: readonly string[], log: (s: string) => v
       session.ground,
     );
     fc.provenance = provenance;
-    writeFileChecked(`${outDir}/plan-coverage-${formatFl(fls[f])}.geojson`, stringifyGeoJson(fc));
+    writeFileAtomic(`${outDir}/plan-coverage-${formatFl(fls[f])}.geojson`, stringifyGeoJson(fc));
   }
   const doc = planDocument(session, candidates, result, network, fls, demand);
-  writeFileChecked(`${outDir}/plan.json`, JSON.stringify({ ...doc, provenance }, null, 2) + '\n');
+  writeFileAtomic(`${outDir}/plan.json`, JSON.stringify({ ...doc, provenance }, null, 2) + '\n');
   progress.done();
   log(
     planSummary(session, doc, result, outDir, {
@@ -218,17 +221,20 @@ function planDocument(
   demand: Demand,
 ) {
   const s = session.loaded.scenario;
-  const opened = new Set<string>();
-  const entries = r.chosen.map((i) => {
-    const c = candidates[i];
-    const site = s.sites.find((f) => f.properties.id === c.site.id)!;
-    let cost = c.model.spec.cost;
-    if (!opened.has(c.site.id)) {
-      opened.add(c.site.id);
-      if (!site.properties.existing) cost += site.properties.siteCost;
-    }
-    return { siteId: c.site.id, typeId: c.model.spec.id, cost };
-  });
+  // Each entry's share of the cost: its type (0 for a sensor already standing) and its site's cost on the site's
+  // first entry (0 for an existing site).
+  const entries = r.chosen.map((i, j) => ({
+    siteId: candidates[i].site.id,
+    typeId: candidates[i].model.spec.id,
+    cost: r.chosenCost[j],
+  }));
+  const existingSensors = r.chosen
+    .filter((_, j) => r.chosenStanding[j])
+    .map((i) => ({
+      siteId: candidates[i].site.id,
+      typeId: candidates[i].model.spec.id,
+      value: candidates[i].model.spec.cost,
+    }));
   const unmeetable = r.unmeetable.map((u) => ({
     volumeId: s.volumes[demand.volume[u.firstPoint]].id,
     volumeName: s.volumes[demand.volume[u.firstPoint]].name,
@@ -245,6 +251,10 @@ function planDocument(
     cost: r.cost,
     lowerBound: r.lowerBound,
     gapPct: r.gapPct,
+    // `cost` is the new spend; the existing sensors kept (standing already) are valued apart, not in it.
+    newSpend: r.cost,
+    existingValue: r.existingValue,
+    existingSensors,
     ...(r.mode === 'budget' ? { budget: s.budget, weightUpperBound: r.weightUpperBound } : {}),
     demandMet: r.demandMet,
     coveredWeight: r.coveredWeight,
@@ -280,13 +290,22 @@ function planSummary(
   const lines = [
     `plan for "${s.name}" — ${r.mode === 'budget' ? 'most demand within the budget' : 'least cost meeting the demand'}`,
     `  cost ${doc.cost.toFixed(2)}, lower bound ${doc.lowerBound.toFixed(2)}, gap ${doc.gapPct.toFixed(2)} % (${r.method}); demand ${r.demandMet ? 'met' : 'not fully met'}`,
-    '',
-    `  ${'site'.padEnd(24)} ${'sensor type'.padEnd(18)} ${'cost'.padStart(7)}`,
   ];
-  for (const e of doc.entries) {
-    const name = s.sites.find((f) => f.properties.id === e.siteId)?.properties.name ?? e.siteId;
-    lines.push(`  ${name.slice(0, 24).padEnd(24)} ${e.typeId.padEnd(18)} ${e.cost.toFixed(2).padStart(7)}`);
+  if (doc.existingSensors.length > 0) {
+    lines.push(
+      `  existing sensors kept: ${doc.existingSensors.length}, worth ${doc.existingValue.toFixed(2)} — already standing, so not in the cost (the new spend)`,
+    );
   }
+  lines.push('', `  ${'site'.padEnd(24)} ${'sensor type'.padEnd(18)} ${'cost'.padStart(7)}`);
+  doc.entries.forEach((e, j) => {
+    const name = s.sites.find((f) => f.properties.id === e.siteId)?.properties.name ?? e.siteId;
+    const standing = r.chosenStanding[j]
+      ? `  already standing (worth ${s.sensorTypes.find((t) => t.id === e.typeId)!.cost.toFixed(2)})`
+      : '';
+    lines.push(
+      `  ${name.slice(0, 24).padEnd(24)} ${e.typeId.padEnd(18)} ${e.cost.toFixed(2).padStart(7)}${standing}`,
+    );
+  });
   for (const u of doc.unmeetable) {
     lines.push(
       `  note: ${u.volumeName} needs ${u.kind} fold ${u.required} where at most ${u.achievable} is possible (${u.points} points): planned to ${u.achievable}`,

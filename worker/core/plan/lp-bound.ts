@@ -2,7 +2,7 @@
  * Bounds for the plan: the LP relaxation of the site/sensor cover model solved with HiGHS (WebAssembly, the
  * `highs` package), and the exact MILP when the instance is small.
  *
- * Model over the aggregated groups of plan.ts (points with identical requirements and covering candidates share
+ * Model over the aggregated groups of demand.ts (points with identical requirements and covering candidates share
  * one row — the LP stays small):
  *   x_c ∈ [0,1]  candidate chosen;  y_s ∈ [0,1]  site opened;  x_c ≤ y_s
  *   for a group g and kind k with capped requirement r > 0, per site s with candidates of kind k covering g
@@ -32,9 +32,9 @@
  * another machine.
  */
 import loadHighs, { type Highs, type InitOptions, type ModelData } from 'highs';
-import { nowMs } from './clock.ts';
-import type { Progress } from './floor.ts';
-import { K_ANY, planCost, type PlanModel } from './plan.ts';
+import { nowMs } from '../clock.ts';
+import type { Progress } from '../floor.ts';
+import { K_ANY, planCost, type PlanModel } from './model.ts';
 
 export type HighsInit = InitOptions;
 

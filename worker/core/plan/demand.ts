@@ -1,0 +1,425 @@
+/**
+ * Stage 1 of the plan, the demand: validate the instance, then aggregate the demand points by partition
+ * refinement into groups with identical (requirements, covering candidates). Every later stage works on groups
+ * (tens of thousands instead of millions of points); a group's weight is the sum of its points' weights. This is
+ * exact: points of one group are covered by the same candidates, so they share every count. Requirements above
+ * what the allowed candidates together reach are capped there and summarised as `unmeetable`.
+ */
+import { InputError } from '../../../shared/errors.ts';
+import {
+  canonicalCost,
+  K_ANY,
+  K_PRIMARY,
+  K_SECONDARY,
+  KIND_NAMES,
+  type DemandKind,
+  type PlanInstance,
+  type PlanModel,
+  type Unmeetable,
+} from './model.ts';
+
+function describeCand(inst: PlanInstance, c: number): string {
+  const cand = inst.candidates[c];
+  const site = inst.sites[cand.siteIndex];
+  return `candidate ${c} (site '${site ? site.id : '?'}', type '${cand.typeId}')`;
+}
+
+function checkCost(where: string, v: unknown): void {
+  if (typeof v !== 'number' || !Number.isFinite(v) || v < 0) {
+    throw new InputError(where, String(v), 'a finite cost ≥ 0');
+  }
+}
+
+function checkIndexList(where: string, list: unknown, n: number, what: string): number[] {
+  if (list === undefined) return [];
+  if (!Array.isArray(list)) throw new InputError(where, typeof list, `an array of ${what} indices`);
+  list.forEach((v, i) => {
+    if (!Number.isInteger(v) || v < 0 || v >= n) {
+      throw new InputError(
+        `${where}[${i}]`,
+        String(v),
+        n > 0 ? `a known ${what} index 0…${n - 1}` : `no ${what} reference (there are no ${what}s)`,
+      );
+    }
+  });
+  return [...new Set(list as number[])].sort((a, b) => a - b);
+}
+
+/** Validates the instance and builds the aggregated model. Throws InputError with a clear message. */
+export function preparePlan(inst: PlanInstance): PlanModel {
+  const nSites = inst.sites?.length ?? 0;
+  const nCand = inst.candidates?.length ?? 0;
+  if (!Array.isArray(inst.sites)) throw new InputError('plan: sites', typeof inst.sites, 'an array of sites');
+  if (!Array.isArray(inst.candidates)) {
+    throw new InputError('plan: candidates', typeof inst.candidates, 'an array of candidates');
+  }
+  const pts = inst.points;
+  const n = pts?.count;
+  if (!Number.isInteger(n) || n < 0) throw new InputError('plan: points.count', String(n), 'an integer ≥ 0');
+  for (const [name, arr, Ctor] of [
+    ['weight', pts.weight, Float64Array],
+    ['reqAny', pts.reqAny, Uint8Array],
+    ['reqPrimary', pts.reqPrimary, Uint8Array],
+    ['reqSecondary', pts.reqSecondary, Uint8Array],
+  ] as const) {
+    if (!(arr instanceof Ctor) || arr.length !== n) {
+      throw new InputError(
+        `plan: points.${name}`,
+        arr instanceof Ctor ? `${arr.length} entries` : String(arr && arr.constructor?.name),
+        `a ${Ctor.name} of points.count = ${n} entries`,
+      );
+    }
+  }
+  if (nSites > 65_535) throw new InputError('plan: sites', `${nSites} sites`, 'at most 65 535 sites');
+  const siteCost = new Float64Array(nSites);
+  let integerCosts = true;
+  inst.sites.forEach((s, i) => {
+    checkCost(`plan: sites[${i}].cost ('${s?.id}')`, s?.cost);
+    siteCost[i] = s.existing ? 0 : s.cost;
+    if (!Number.isInteger(siteCost[i])) integerCosts = false;
+  });
+  const candSite = new Int32Array(nCand);
+  const candKind = new Uint8Array(nCand);
+  const candCost = new Float64Array(nCand);
+  inst.candidates.forEach((c, j) => {
+    if (!Number.isInteger(c?.siteIndex) || c.siteIndex < 0 || c.siteIndex >= nSites) {
+      throw new InputError(
+        `plan: candidates[${j}].siteIndex`,
+        String(c?.siteIndex),
+        nSites > 0 ? `a known site index 0…${nSites - 1}` : 'a site (there are none)',
+      );
+    }
+    if (c.kind !== 'primary' && c.kind !== 'secondary') {
+      throw new InputError(`plan: candidates[${j}].kind`, JSON.stringify(c.kind), "'primary' or 'secondary'");
+    }
+    checkCost(`plan: candidates[${j}].cost (${describeCand(inst, j)})`, c.cost);
+    if (!(c.covers instanceof Uint32Array)) {
+      throw new InputError(
+        `plan: candidates[${j}].covers`,
+        String(c.covers),
+        'a Uint32Array of point indices',
+      );
+    }
+    const cv = c.covers;
+    for (let i = 0; i < cv.length; i++) {
+      if (cv[i] >= n || (i > 0 && cv[i] <= cv[i - 1])) {
+        throw new InputError(
+          `plan: candidates[${j}].covers[${i}]`,
+          String(cv[i]),
+          `strictly increasing point indices below points.count = ${n}`,
+        );
+      }
+    }
+    candSite[j] = c.siteIndex;
+    candKind[j] = c.kind === 'primary' ? K_PRIMARY : K_SECONDARY;
+    candCost[j] = c.cost;
+  });
+  for (let p = 0; p < n; p++) {
+    const w = pts.weight[p];
+    if (!Number.isFinite(w) || w < 0)
+      throw new InputError(`plan: points.weight[${p}]`, String(w), 'a finite weight ≥ 0');
+  }
+  const forcedList = checkIndexList('plan: forced', inst.forced, nCand, 'candidate');
+  const standingList = checkIndexList('plan: standing', inst.standing, nCand, 'candidate');
+  const standing = new Uint8Array(nCand);
+  for (const c of standingList) {
+    if (!inst.sites[candSite[c]].existing) {
+      throw new InputError(
+        `plan: standing (${describeCand(inst, c)})`,
+        `a standing sensor on site '${inst.sites[candSite[c]].id}', which is not marked existing`,
+        'sensors already standing only on sites marked existing',
+      );
+    }
+    standing[c] = 1;
+    candCost[c] = 0; // nothing new is spent on it
+  }
+  for (let c = 0; c < nCand; c++) if (!Number.isInteger(candCost[c])) integerCosts = false;
+  const excludedList = checkIndexList('plan: excludedSites', inst.excludedSites, nSites, 'site');
+  const excluded = new Uint8Array(nSites);
+  for (const s of excludedList) excluded[s] = 1;
+  const forced = new Uint8Array(nCand);
+  for (const c of forcedList) {
+    if (excluded[candSite[c]]) {
+      throw new InputError(
+        `plan: forced (${describeCand(inst, c)})`,
+        `a forced sensor on excluded site '${inst.sites[candSite[c]].id}'`,
+        'forced sensors only on sites that are not excluded',
+      );
+    }
+    forced[c] = 1;
+  }
+  const allowed = new Uint8Array(nCand);
+  const allowedArr: number[] = [];
+  const siteLists: number[][] = Array.from({ length: nSites }, () => []);
+  for (let c = 0; c < nCand; c++) {
+    if (!excluded[candSite[c]]) {
+      allowed[c] = 1;
+      allowedArr.push(c);
+      siteLists[candSite[c]].push(c);
+    }
+  }
+  let budget: number | undefined;
+  if (inst.budget !== undefined) {
+    if (typeof inst.budget !== 'number' || !Number.isFinite(inst.budget) || inst.budget < 0) {
+      throw new InputError('plan: budget', String(inst.budget), 'a finite budget ≥ 0');
+    }
+    budget = inst.budget;
+    const fc = canonicalCost(siteCost, candSite, candCost, forcedList);
+    if (fc > budget) {
+      throw new InputError(
+        'plan: budget',
+        String(budget),
+        `at least ${fc}, the cost of the ${forcedList.length} forced sensor(s) and their sites`,
+      );
+    }
+  }
+  if (inst.timeLimitMs !== undefined && !(Number.isFinite(inst.timeLimitMs) && inst.timeLimitMs > 0)) {
+    throw new InputError('plan: timeLimitMs', String(inst.timeLimitMs), 'a time limit > 0 ms');
+  }
+  if (
+    inst.solverNodes !== undefined &&
+    !(Number.isInteger(inst.solverNodes) && inst.solverNodes >= 0 && inst.solverNodes <= 2 ** 31 - 1)
+  ) {
+    throw new InputError('plan: solverNodes', String(inst.solverNodes), 'a whole number of nodes ≥ 0');
+  }
+
+  // Partition refinement: start from classes of equal requirements, split by each allowed candidate's cover.
+  const cls = new Int32Array(n).fill(-1);
+  const reqKey = new Map<number, number>();
+  let nCls = 0;
+  for (let p = 0; p < n; p++) {
+    const a = pts.reqAny[p];
+    const pr = pts.reqPrimary[p];
+    const se = pts.reqSecondary[p];
+    if (pts.weight[p] > 0 && (a | pr | se) !== 0) {
+      const key = (a << 16) | (pr << 8) | se;
+      let id = reqKey.get(key);
+      if (id === undefined) {
+        id = nCls++;
+        reqKey.set(key, id);
+      }
+      cls[p] = id;
+    }
+  }
+  let cap = Math.max(1024, nCls * 2);
+  let size = new Int32Array(cap);
+  let touched = new Int32Array(cap);
+  let stamp = new Int32Array(cap).fill(-1);
+  let child = new Int32Array(cap);
+  for (let p = 0; p < n; p++) if (cls[p] >= 0) size[cls[p]]++;
+  for (const c of allowedArr) {
+    const cv = inst.candidates[c].covers;
+    for (let i = 0; i < cv.length; i++) {
+      const k = cls[cv[i]];
+      if (k < 0) continue;
+      if (stamp[k] !== c) {
+        stamp[k] = c;
+        touched[k] = 0;
+      }
+      touched[k]++;
+    }
+    for (let i = 0; i < cv.length; i++) {
+      const p = cv[i];
+      const k = cls[p];
+      if (k < 0) continue;
+      if (stamp[k] === c) {
+        // first visit of class k in this pass: decide split or not
+        stamp[k] = -2 - c;
+        if (touched[k] === size[k]) {
+          child[k] = k;
+        } else {
+          if (nCls === cap) {
+            cap *= 2;
+            const grow = (a: Int32Array<ArrayBuffer>, fill?: number): Int32Array<ArrayBuffer> => {
+              const b = new Int32Array(cap);
+              if (fill !== undefined) b.fill(fill);
+              b.set(a);
+              return b;
+            };
+            size = grow(size);
+            touched = grow(touched);
+            stamp = grow(stamp, -1);
+            child = grow(child);
+          }
+          child[k] = nCls;
+          size[nCls] = touched[k];
+          size[k] -= touched[k];
+          stamp[nCls] = -1;
+          nCls++;
+        }
+      }
+      cls[p] = child[k];
+    }
+  }
+  // Renumber classes by first point; groups are in point order.
+  const renum = new Int32Array(nCls).fill(-1);
+  let nAll = 0;
+  for (let p = 0; p < n; p++) {
+    const k = cls[p];
+    if (k < 0) continue;
+    if (renum[k] < 0) renum[k] = nAll++;
+    cls[p] = renum[k];
+  }
+  const allRep = new Uint32Array(nAll);
+  const allPoints = new Uint32Array(nAll);
+  const allWeight = new Float64Array(nAll);
+  {
+    const seen = new Uint8Array(nAll);
+    for (let p = 0; p < n; p++) {
+      const g = cls[p];
+      if (g < 0) continue;
+      if (!seen[g]) {
+        seen[g] = 1;
+        allRep[g] = p;
+      }
+      allPoints[g]++;
+      allWeight[g] += pts.weight[p];
+    }
+  }
+  // Signatures of all groups (from the representative points), CSR ascending by candidate.
+  const allSigStart = new Uint32Array(nAll + 1);
+  for (const c of allowedArr) {
+    const cv = inst.candidates[c].covers;
+    for (let i = 0; i < cv.length; i++) {
+      const g = cls[cv[i]];
+      if (g >= 0 && allRep[g] === cv[i]) allSigStart[g + 1]++;
+    }
+  }
+  for (let g = 0; g < nAll; g++) allSigStart[g + 1] += allSigStart[g];
+  const allSig = new Uint32Array(allSigStart[nAll]);
+  {
+    const fill = allSigStart.slice(0, nAll);
+    for (const c of allowedArr) {
+      const cv = inst.candidates[c].covers;
+      for (let i = 0; i < cv.length; i++) {
+        const g = cls[cv[i]];
+        if (g >= 0 && allRep[g] === cv[i]) allSig[fill[g]++] = c;
+      }
+    }
+  }
+  // Achievable fold per kind = distinct sites in the signature; cap, summarise what cannot be met.
+  const siteSeen = new Int32Array(nSites * 3).fill(-1);
+  const unmet = new Map<string, Unmeetable>();
+  const allReq = new Uint8Array(nAll * 3);
+  let totalWeight = 0;
+  let achievableWeight = 0;
+  let demandUnits = 0;
+  let live = 0;
+  const liveOf = new Int32Array(nAll).fill(-1);
+  const ach = [0, 0, 0];
+  for (let g = 0; g < nAll; g++) {
+    ach[0] = ach[1] = ach[2] = 0;
+    for (let i = allSigStart[g]; i < allSigStart[g + 1]; i++) {
+      const c = allSig[i];
+      const s = candSite[c];
+      const k = candKind[c];
+      if (siteSeen[s * 3 + K_ANY] !== g) {
+        siteSeen[s * 3 + K_ANY] = g;
+        ach[K_ANY]++;
+      }
+      if (siteSeen[s * 3 + k] !== g) {
+        siteSeen[s * 3 + k] = g;
+        ach[k]++;
+      }
+    }
+    const rep = allRep[g];
+    const req = [pts.reqAny[rep], pts.reqPrimary[rep], pts.reqSecondary[rep]];
+    let any = false;
+    for (let k = 0; k < 3; k++) {
+      totalWeight += allWeight[g] * req[k];
+      const r = Math.min(req[k], ach[k]);
+      if (r < req[k]) {
+        const key = `${k}/${req[k]}/${ach[k]}`;
+        const u = unmet.get(key);
+        if (u) {
+          u.points += allPoints[g];
+          u.weight += allWeight[g];
+          u.firstPoint = Math.min(u.firstPoint, rep);
+        } else {
+          unmet.set(key, {
+            kind: KIND_NAMES[k],
+            required: req[k],
+            achievable: ach[k],
+            points: allPoints[g],
+            weight: allWeight[g],
+            firstPoint: rep,
+          });
+        }
+      }
+      allReq[g * 3 + k] = r;
+      achievableWeight += allWeight[g] * r;
+      demandUnits += r * allPoints[g];
+      if (r > 0) any = true;
+    }
+    if (any) liveOf[g] = live++;
+  }
+  // Keep live groups only.
+  const gWeight = new Float64Array(live);
+  const gPoints = new Uint32Array(live);
+  const gRep = new Uint32Array(live);
+  const gReq = new Uint8Array(live * 3);
+  const sigStart = new Uint32Array(live + 1);
+  for (let g = 0; g < nAll; g++) {
+    const l = liveOf[g];
+    if (l < 0) continue;
+    gWeight[l] = allWeight[g];
+    gPoints[l] = allPoints[g];
+    gRep[l] = allRep[g];
+    gReq.set(allReq.subarray(g * 3, g * 3 + 3), l * 3);
+    sigStart[l + 1] = sigStart[l] + (allSigStart[g + 1] - allSigStart[g]);
+  }
+  const sigCand = new Uint32Array(sigStart[live]);
+  for (let g = 0; g < nAll; g++) {
+    const l = liveOf[g];
+    if (l >= 0) sigCand.set(allSig.subarray(allSigStart[g], allSigStart[g + 1]), sigStart[l]);
+  }
+  const covStart = new Uint32Array(nCand + 1);
+  for (let i = 0; i < sigCand.length; i++) covStart[sigCand[i] + 1]++;
+  for (let c = 0; c < nCand; c++) covStart[c + 1] += covStart[c];
+  const covGroup = new Uint32Array(sigCand.length);
+  {
+    const fill = covStart.slice(0, nCand);
+    for (let g = 0; g < live; g++) {
+      for (let i = sigStart[g]; i < sigStart[g + 1]; i++) covGroup[fill[sigCand[i]]++] = g;
+    }
+  }
+  const order: DemandKind[] = ['any', 'primary', 'secondary'];
+  const unmeetable = [...unmet.values()].sort(
+    (a, b) =>
+      order.indexOf(a.kind) - order.indexOf(b.kind) || a.required - b.required || a.achievable - b.achievable,
+  );
+  return {
+    nSites,
+    siteCost,
+    nCand,
+    candSite,
+    candKind,
+    candCost,
+    standing,
+    allowed,
+    forced,
+    allowedList: Int32Array.from(allowedArr),
+    forcedList: Int32Array.from(forcedList),
+    siteCands: siteLists.map((l) => Int32Array.from(l)),
+    nGroups: live,
+    gWeight,
+    gPoints,
+    gRep,
+    gReq,
+    sigStart,
+    sigCand,
+    covStart,
+    covGroup,
+    budget,
+    integerCosts,
+    totalWeight,
+    achievableWeight,
+    demandUnits,
+    unmeetable,
+    pointCount: n,
+    names: {
+      site: inst.sites.map((s) => s.id),
+      cand: inst.candidates.map((c, j) => `${inst.sites[candSite[j]].id}/${c.typeId}`),
+    },
+  };
+}

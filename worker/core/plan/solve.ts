@@ -1,0 +1,296 @@
+/**
+ * The solver entry: the stages in order — demand (demand.ts), greedy (greedy.ts), improvement (improve.ts), bound
+ * (lp-bound.ts) — then the MILP's plan checked with exact counts, and the result with its gap. The pipeline, its
+ * sources and its determinism are described in worker/core/plan.ts, the planner's public face.
+ */
+import { DEFAULT_SAFETY_TIME_LIMIT_MS, DEFAULT_SOLVER_NODES } from '../../../shared/plan-limits.ts';
+import { nowMs } from '../clock.ts';
+import type { Progress } from '../floor.ts';
+import { CoverState } from './cover-state.ts';
+import { preparePlan } from './demand.ts';
+import { greedyLazyOn, stateWithForced } from './greedy.ts';
+import { localSearchBudget, localSearchCover, type SearchCtx } from './improve.ts';
+import { boundPlan, SAFETY_LIMIT_NOTE, type HighsInit } from './lp-bound.ts';
+import { relLess, type PlanInstance, type PlanModel, type Unmeetable } from './model.ts';
+
+/** Interior-point iterations allowed to the LP bound (it converges in 13–42 on the demo, cover or budget). */
+export const LP_MAX_ITERATIONS = 200;
+
+export interface PlanOptions {
+  /** Solve the exact MILP when at most this many candidates are allowed (default 40). */
+  exactMaxCandidates?: number;
+  /** …or when the aggregated model has at most this many nonzeros (default 20 000). */
+  exactMaxNonzeros?: number;
+  /** Largest LP handed to HiGHS; above it the LP keeps the tightest rows only (default 400 000 nonzeros). */
+  lpMaxNonzeros?: number;
+  /** Local-search budget in group visits, a deterministic stand-in for time (default 4e8 ≈ 1–2 s). */
+  searchWork?: number;
+  onProgress?: Progress;
+  /** How to load HiGHS's WebAssembly (in a browser: `{ locateFile: () => wasmUrl }`). */
+  highs?: HighsInit;
+}
+
+export interface PlanResult {
+  mode: 'cover' | 'budget';
+  /** Candidate indices, sorted. */
+  chosen: number[];
+  /**
+   * What the plan spends anew (the objective, and what a budget limits): site costs (once per opened site, 0 for
+   * existing ones) plus sensor type costs (0 for a sensor already standing, `PlanInstance.standing`).
+   */
+  cost: number;
+  /**
+   * Per chosen candidate (same order as `chosen`): its share of `cost` — its type cost (0 when standing) plus its
+   * site's cost on the site's first chosen candidate (0 for an existing site). They sum to `cost`.
+   */
+  chosenCost: number[];
+  /** Per chosen candidate: whether it is a sensor already standing (it costs nothing new). */
+  chosenStanding: boolean[];
+  /** The standing sensors in the plan at their type costs: their value, shown apart, not part of `cost`. */
+  existingValue: number;
+  /**
+   * Cover mode: a proven lower bound on the cost of any plan that meets the (capped) demand with the forced
+   * sensors in. Budget mode: the cost is not the objective, and this equals `cost`.
+   */
+  lowerBound: number;
+  /** Budget mode: a proven upper bound on the covered weight; cover mode: `achievableWeight`. */
+  weightUpperBound: number;
+  /** Cover: 100·(cost − lowerBound)/cost (0 when cost = 0). Budget: 100·(weightUpperBound − covered)/bound. */
+  gapPct: number;
+  /** Σ_p w_p Σ_k min(distinct sites of kind k covering p, capped r_k(p)): requirement units met, weighted. */
+  coveredWeight: number;
+  /** Σ_p w_p Σ_k r_k(p) as requested (uncapped). */
+  totalWeight: number;
+  /** The same with requirements capped at what the allowed candidates can reach. */
+  achievableWeight: number;
+  /** Whether every capped requirement unit is met. */
+  demandMet: boolean;
+  method: string;
+  unmeetable: Unmeetable[];
+  /** Groups of points with identical requirements and covering candidates (the size the solvers worked on). */
+  groups: number;
+  /**
+   * What stopped HiGHS short: nothing, a work limit (`solverNodes`, or the LP's iteration limit — the same on any
+   * machine), or the safety time limit (this plan may differ on another machine).
+   */
+  solverStop: 'nothing' | 'work limit' | 'safety time limit';
+  /** What each stage did (deterministic: no timings, unless the safety time limit was reached). */
+  log: string[];
+  /** Wall-clock time per stage — the one field that differs from run to run. */
+  stageMs: Record<string, number>;
+}
+
+// ---------------------------------------------------------------------------------------------------------------
+// The whole solve
+
+export async function solvePlan(inst: PlanInstance, opts: PlanOptions = {}): Promise<PlanResult> {
+  const log: string[] = [];
+  const progress = opts.onProgress ?? (() => {});
+  const stageMs: Record<string, number> = {};
+  let t = nowMs();
+  const lap = (stage: string): void => {
+    const now = nowMs();
+    stageMs[stage] = Math.round(now - t);
+    t = now;
+  };
+  progress(0, 'prepare');
+  const m = preparePlan(inst);
+  const mode = m.budget === undefined ? 'cover' : 'budget';
+  log.push(
+    `prepare: ${m.pointCount} points → ${m.nGroups} groups with demand; ${m.allowedList.length} of ${m.nCand} ` +
+      `candidates allowed, ${m.forcedList.length} forced; mode ${mode}`,
+  );
+  for (const u of m.unmeetable) {
+    log.push(
+      `unmeetable: ${u.points} points (first #${u.firstPoint}) require ${u.kind} ≥ ${u.required}, ` +
+        `at most ${u.achievable} reachable — capped`,
+    );
+  }
+  lap('prepare');
+  progress(0.1, 'greedy');
+  const st = stateWithForced(m);
+  const picks = greedyLazyOn(st, m.budget);
+  let method = 'greedy';
+  if (m.budget !== undefined) {
+    // Khuller, Moss & Naor (1999): compare with the best single candidate that fits.
+    const greedyW = st.coveredWeight();
+    const base = stateWithForced(m);
+    let best = -1;
+    let bestGain = -1;
+    for (let i = 0; i < m.allowedList.length; i++) {
+      const c = m.allowedList[i];
+      if (base.chosen[c]) continue;
+      const g = base.gain(c);
+      if (g > bestGain && base.fits(c, m.budget)) {
+        best = c;
+        bestGain = g;
+      }
+    }
+    if (best >= 0) {
+      base.add(best);
+      if (base.coveredWeight() > greedyW) {
+        for (const c of st.chosenList()) if (!m.forced[c]) st.remove(c);
+        st.add(best);
+        greedyLazyOn(st, m.budget);
+        log.push(`greedy: the best single candidate ${best} beat the greedy set`);
+      }
+    }
+  }
+  log.push(`greedy: ${picks.length} picks, cost ${st.cost()}, deficit ${st.deficit} units`);
+  lap('greedy');
+  progress(0.3, 'local search');
+  const ctx: SearchCtx = {
+    st,
+    workLimit: st.work + (opts.searchWork ?? 4e8),
+    counts: { prune: 0, swap11: 0, site1: 0, swap21: 0, swap12: 0 },
+  };
+  if (m.budget === undefined) localSearchCover(ctx);
+  else localSearchBudget(ctx, m.budget);
+  const cnt = ctx.counts;
+  method += '+prune+swap';
+  log.push(
+    `local search: dropped ${cnt.prune}, swaps 1→1 ${cnt.swap11}, site→1 ${cnt.site1}, 2→1 ${cnt.swap21}, ` +
+      `1→2 ${cnt.swap12}${st.work > ctx.workLimit ? ' (work budget reached)' : ' (local optimum)'}; ` +
+      `cost ${st.cost()}`,
+  );
+  lap('localSearch');
+  progress(0.5, 'bound');
+  let chosen = st.chosenList();
+  const heuristicCost = st.cost();
+  const heuristicWeight = st.coveredWeight();
+  const bound = await boundPlan(m, chosen, {
+    timeLimitMs: inst.timeLimitMs ?? DEFAULT_SAFETY_TIME_LIMIT_MS,
+    mipMaxNodes: inst.solverNodes ?? DEFAULT_SOLVER_NODES,
+    lpMaxIterations: LP_MAX_ITERATIONS,
+    exactMaxCandidates: opts.exactMaxCandidates ?? 40,
+    exactMaxNonzeros: opts.exactMaxNonzeros ?? 20_000,
+    lpMaxNonzeros: opts.lpMaxNonzeros ?? 400_000,
+    highs: opts.highs,
+    onProgress: (f, stage) => progress(0.5 + 0.5 * f, stage),
+  });
+  lap('bound');
+  log.push(...bound.log);
+  if (bound.milpChosen) {
+    // Verify the MILP's set with our own exact counts before using it.
+    const check = new CoverState(m);
+    for (const c of bound.milpChosen) check.add(c);
+    const okForced = m.forcedList.every((c) => check.chosen[c]);
+    const cost = check.cost();
+    if (m.budget === undefined) {
+      if (okForced && check.deficit === 0 && relLess(cost, heuristicCost)) {
+        chosen = check.chosenList();
+        method = `MILP ${bound.milpStatus}`;
+        log.push(`MILP: its plan (cost ${cost}) replaces the heuristic one (cost ${heuristicCost})`);
+      }
+    } else {
+      const w = check.coveredWeight();
+      if (okForced && cost <= m.budget && w > heuristicWeight * (1 + 1e-12)) {
+        chosen = check.chosenList();
+        method = `MILP ${bound.milpStatus}`;
+        log.push(`MILP: its plan (weight ${w}) replaces the heuristic one (weight ${heuristicWeight})`);
+      }
+    }
+    if (!method.startsWith('MILP')) method += `, MILP ${bound.milpStatus}`;
+  }
+  method += bound.method ? `, ${bound.method}` : '';
+  const final = new CoverState(m);
+  for (const c of chosen) final.add(c);
+  const cost = final.cost();
+  const { chosenCost, chosenStanding, existingValue } = shares(inst, m, chosen);
+  const coveredWeight = final.coveredWeight();
+  let lowerBound: number;
+  let weightUpperBound: number;
+  let gapPct: number;
+  if (m.budget === undefined) {
+    lowerBound = Math.min(cost, bound.costLowerBound);
+    if (bound.milpOptimal && bound.milpObjective !== undefined && !relLess(bound.milpObjective, cost)) {
+      lowerBound = cost; // HiGHS proved this cost optimal (relative gap 0), within its tolerances
+    }
+    weightUpperBound = m.achievableWeight;
+    gapPct = cost > 0 ? (100 * (cost - lowerBound)) / cost : 0;
+  } else {
+    lowerBound = cost;
+    weightUpperBound = Math.max(coveredWeight, Math.min(m.achievableWeight, bound.weightUpperBound));
+    if (
+      bound.milpOptimal &&
+      bound.milpObjective !== undefined &&
+      !relLess(coveredWeight, bound.milpObjective)
+    ) {
+      weightUpperBound = coveredWeight;
+    }
+    gapPct = weightUpperBound > 0 ? (100 * (weightUpperBound - coveredWeight)) / weightUpperBound : 0;
+  }
+  if (chosenStanding.some((x) => x)) {
+    log.push(
+      `existing: ${chosenStanding.filter((x) => x).length} standing sensors kept, worth ${existingValue} ` +
+        '(not in the cost: nothing new is spent on them)',
+    );
+  }
+  log.push(
+    `result: cost ${cost}, lower bound ${lowerBound}, gap ${gapPct.toFixed(3)} %` +
+      (bound.stoppedBy === 'safety time limit' ? `; ${SAFETY_LIMIT_NOTE}` : ''),
+  );
+  if (m.budget !== undefined && final.deficit === 0) {
+    // The budget is not binding: every requirement is met within it. Spending the rest of the budget buys nothing,
+    // so plan for least cost instead (with its lower bound), and keep the budget plan only if that costs more.
+    log.push(`budget: every requirement met at cost ${cost} ≤ budget ${m.budget}; planning for least cost`);
+    const least = await solvePlan({ ...inst, budget: undefined }, opts);
+    if (least.demandMet && !relLess(cost, least.cost)) {
+      return {
+        ...least,
+        method: `${least.method}; budget ${m.budget} not binding`,
+        log: [...log, ...least.log.map((l) => `least cost: ${l}`)],
+        stageMs: {
+          ...stageMs,
+          ...Object.fromEntries(Object.entries(least.stageMs).map(([k, v]) => [`leastCost.${k}`, v])),
+        },
+      };
+    }
+    log.push(`budget: the least-cost search found no cheaper plan (${least.cost}); the budget plan stands`);
+  }
+  progress(1, 'done');
+  return {
+    mode,
+    chosen,
+    cost,
+    chosenCost,
+    chosenStanding,
+    existingValue,
+    lowerBound,
+    weightUpperBound,
+    gapPct,
+    coveredWeight,
+    totalWeight: m.totalWeight,
+    achievableWeight: m.achievableWeight,
+    demandMet: final.deficit === 0,
+    method,
+    unmeetable: m.unmeetable,
+    groups: m.nGroups,
+    solverStop: bound.stoppedBy,
+    log,
+    stageMs,
+  };
+}
+
+/**
+ * Each chosen candidate's share of the cost (ascending candidates: a site's cost goes with its first one) and the
+ * value of the standing sensors among them (their type costs as the instance gives them).
+ */
+function shares(
+  inst: PlanInstance,
+  m: PlanModel,
+  chosen: readonly number[],
+): Pick<PlanResult, 'chosenCost' | 'chosenStanding' | 'existingValue'> {
+  const opened = new Uint8Array(m.nSites);
+  const chosenCost: number[] = [];
+  const chosenStanding: boolean[] = [];
+  let existingValue = 0;
+  for (const c of chosen) {
+    const s = m.candSite[c];
+    chosenCost.push(m.candCost[c] + (opened[s] ? 0 : m.siteCost[s]));
+    opened[s] = 1;
+    chosenStanding.push(m.standing[c] === 1);
+    if (m.standing[c]) existingValue += inst.candidates[c].cost;
+  }
+  return { chosenCost, chosenStanding, existingValue };
+}
