@@ -409,7 +409,7 @@ describe('bad input: one message per problem, naming file, field, what was found
       scenario((s) => (s.sites = 'sites.csv')),
       d,
     );
-    const p = problemAt(e, `${join(d, 'sites.csv')}: row 3: allowedTypes`);
+    const p = problemAt(e, `${join(d, 'sites.csv')}: row 3, column "allowedTypes"`);
     expect(p.found).toBe('"radar-9"');
     expect(p.expected).toBe('the id of a sensor type in sensorTypes ("psr-a", "ssr-b")');
   });
@@ -614,8 +614,8 @@ describe('bad input: one message per problem, naming file, field, what was found
       scenario((s) => (s.sites = 'sites.csv')),
       d,
     );
-    const p = problemAt(e, `${join(d, 'sites.csv')}: row 4: mastHeightM`);
-    expect(p.found).toBe('"tall" (text)');
+    const p = problemAt(e, `${join(d, 'sites.csv')}: row 4, column "mastHeightM"`);
+    expect(p.found).toBe('"tall"');
     expect(p.expected).toBe('a number ≥ 0 (m, antenna height above ground)');
   });
 

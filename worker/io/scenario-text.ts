@@ -17,7 +17,9 @@ import { InputError } from '../../shared/errors.ts';
 import {
   fileLocator,
   parseScenario,
+  parseWith,
   ScenarioError,
+  SiteCollectionSchema,
   showValue,
   type Bounds,
   type FieldPath,
@@ -95,8 +97,28 @@ const CSV_COLUMNS = [
   'allowedTypes',
   'tiltDeg',
 ] as const;
+type CsvColumn = (typeof CSV_COLUMNS)[number];
 const CSV_REQUIRED = CSV_COLUMNS.slice(0, 6);
 const NUMBER_TEXT = /^[+-]?(\d+(\.\d*)?|\.\d+)([eE][+-]?\d+)?$/;
+
+/**
+ * What each column's cells must hold, in the words of the messages (the ranges as shared/scenario.ts words them,
+ * which checks them after this reader has checked the form of each cell).
+ */
+const CSV_CELL: Record<
+  Exclude<CsvColumn, 'allowedTypes'>,
+  { kind: 'number' | 'text' | 'boolean'; text: string }
+> = {
+  lon: { kind: 'number', text: 'a longitude from -180 to 180 (degrees east), in decimal degrees' },
+  lat: { kind: 'number', text: 'a latitude from -90 to 90 (degrees north), in decimal degrees' },
+  id: { kind: 'text', text: 'a site id of letters, digits, ".", "_" or "-"' },
+  name: { kind: 'text', text: 'the site’s name' },
+  mastHeightM: { kind: 'number', text: 'a number ≥ 0 (m, antenna height above ground)' },
+  siteCost: { kind: 'number', text: 'a number ≥ 0 (M units)' },
+  existing: { kind: 'boolean', text: 'true/false, yes/no, 1/0, or an empty cell (= false)' },
+  tiltDeg: { kind: 'number', text: 'an antenna tilt from −10 to 20 degrees, or an empty cell (= 0)' },
+};
+const CSV_OPTIONAL = new Set<CsvColumn>(['existing', 'allowedTypes', 'tiltDeg']);
 
 function csvNumber(cell: string | undefined): number | string | undefined {
   if (cell === undefined || cell === '') return undefined;
@@ -116,9 +138,21 @@ interface CsvSites {
   collection: unknown;
   /** Line in the file of each feature's row. */
   rows: number[];
+  /** Each known column as the file's header spells it (e.g. `Lat` for `lat`), for messages. */
+  columns: Record<string, string>;
 }
 
-/** Sites from CSV text into a (not yet validated) FeatureCollection. */
+/** `sites.csv: row 7, column "lat"`: where a cell stands, as a spreadsheet shows it (the header is row 1). */
+export function csvCellWhere(display: string, row: number | string, column?: string): string {
+  return column === undefined ? `${display}: row ${row}` : `${display}: row ${row}, column "${column}"`;
+}
+
+/**
+ * Sites from CSV text into a (not yet validated) FeatureCollection. The table's shape (a header with the required
+ * columns, each once; one cell per column in every row) and the form of every cell (numbers where numbers belong,
+ * no empty required cell) are checked here, each problem naming the row and the column; the values' ranges and the
+ * ids are checked by the scenario's schema afterwards (through `csvLocator`, with the same row and column).
+ */
 export function readSitesCsv(text: string, display: string): CsvSites {
   let records: { record: Record<string, string>; info: { lines: number } }[];
   let header: string[] = [];
@@ -133,9 +167,18 @@ export function readSitesCsv(text: string, display: string): CsvSites {
       info: true,
     }) as unknown as typeof records;
   } catch (e) {
-    const err = e as CsvError & { lines?: number };
+    const err = e as CsvError & { lines?: number; record?: unknown };
+    if (err.code === 'CSV_RECORD_INCONSISTENT_COLUMNS' && Array.isArray(err.record) && err.lines) {
+      const n = err.record.length;
+      throw new InputError(
+        csvCellWhere(display, err.lines),
+        `${n} cell${n === 1 ? '' : 's'}`,
+        `${header.length} cells, one per column of the header row (${header.join(', ')}); ` +
+          'a value that holds a comma goes in double quotes ("North Hill, upper")',
+      );
+    }
     throw new InputError(
-      err.lines ? `${display}: row ${err.lines}` : display,
+      err.lines ? csvCellWhere(display, err.lines) : display,
       `text that is not a well-formed CSV table (${err.message})`,
       `a header row (${CSV_COLUMNS.join(', ')}) and one row per site, each with one value per column`,
     );
@@ -144,10 +187,43 @@ export function readSitesCsv(text: string, display: string): CsvSites {
   const missing = CSV_REQUIRED.filter((c) => !present.has(c.toLowerCase()));
   if (missing.length > 0) {
     throw new InputError(
-      `${display}: row 1`,
+      csvCellWhere(display, 1),
       header.length ? `the columns ${header.join(', ')}` : 'no header row',
       `a header row with the columns ${CSV_REQUIRED.join(', ')} (optional: existing, allowedTypes, tiltDeg); missing ${missing.join(', ')}`,
     );
+  }
+  const columns: Record<string, string> = {};
+  const firstAt = new Map<CsvColumn, number>();
+  header.forEach((h, i) => {
+    const k = CSV_COLUMNS.find((c) => c.toLowerCase() === h.toLowerCase());
+    if (k === undefined) return;
+    const at = firstAt.get(k);
+    if (at !== undefined) {
+      throw new InputError(
+        csvCellWhere(display, 1, h),
+        `the column ${k} a second time (columns ${at + 1} and ${i + 1})`,
+        'each column once: the header names every column of the table once',
+      );
+    }
+    firstAt.set(k, i);
+    columns[k] = h;
+  });
+
+  const problems: InputError[] = [];
+  for (const { record: r, info } of records) {
+    for (const [k, cell] of Object.entries(CSV_CELL) as [keyof typeof CSV_CELL, (typeof CSV_CELL)['lon']][]) {
+      const v = r[k];
+      if (v === undefined) continue; // an optional column that the table does not have
+      const where = csvCellWhere(display, info.lines, columns[k]);
+      if (v === '') {
+        if (!CSV_OPTIONAL.has(k)) problems.push(new InputError(where, 'an empty cell', cell.text));
+      } else if (
+        (cell.kind === 'number' && typeof csvNumber(v) !== 'number') ||
+        (cell.kind === 'boolean' && typeof csvBoolean(v) !== 'boolean')
+      ) {
+        problems.push(new InputError(where, showValue(v), cell.text));
+      }
+    }
   }
   const rows: number[] = [];
   const features = records.map(({ record: r, info }) => {
@@ -170,23 +246,79 @@ export function readSitesCsv(text: string, display: string): CsvSites {
       },
     };
   });
-  return { collection: { type: 'FeatureCollection', features }, rows };
+  const collection = { type: 'FeatureCollection', features };
+  if (problems.length > 0) throw allProblems(problems, collection, display, rows, columns);
+  return { collection, rows, columns };
 }
 
-/** `['sites', 'features', i, 'properties', 'mastHeightM']` → `sites.csv: row 7: mastHeightM`. */
-export function csvLocator(display: string, rows: readonly number[]): Locator {
+/**
+ * One list of every problem of the file: the cells of the wrong form (`cellProblems`), then what the schema finds
+ * in the other cells (ranges, ids) and repeated site ids, so that a planner fixes the file in one pass.
+ */
+function allProblems(
+  cellProblems: InputError[],
+  collection: unknown,
+  display: string,
+  rows: readonly number[],
+  columns: Readonly<Record<string, string>>,
+): ScenarioError {
+  const locate = csvLocator(display, rows, columns);
+  const out = [...cellProblems];
+  const seen = new Set(cellProblems.map((p) => p.where));
+  try {
+    parseWith(SiteCollectionSchema, collection, locate);
+  } catch (e) {
+    const more = e instanceof ScenarioError ? e.problems : [];
+    // A cell already named for its form is not named again for its value.
+    for (const p of more) if (!seen.has(p.where)) out.push(p);
+  }
+  const features = (collection as { features: { properties: { id?: unknown } }[] }).features;
+  const first = new Map<unknown, number>();
+  features.forEach((f, i) => {
+    const id = f.properties.id;
+    if (typeof id !== 'string') return;
+    const at = first.get(id);
+    if (at === undefined) first.set(id, i);
+    else
+      out.push(
+        new InputError(
+          locate(['features', i, 'properties', 'id']),
+          `${showValue(id)} again`,
+          `a unique site id (first used at ${locate(['features', at, 'properties', 'id'])})`,
+        ),
+      );
+  });
+  const rowOf = (p: InputError) => Number(/: row (\d+)/.exec(p.where)?.[1] ?? 0);
+  return new ScenarioError(
+    out
+      .map((p, i) => ({ p, i }))
+      .sort((a, b) => rowOf(a.p) - rowOf(b.p) || a.i - b.i)
+      .map((x) => x.p),
+  );
+}
+
+/**
+ * `['features', i, 'properties', 'mastHeightM']` → `sites.csv: row 7, column "mastHeightM"` (the row's line in the
+ * file, the column as the file's header spells it when `columns` is given).
+ */
+export function csvLocator(
+  display: string,
+  rows: readonly number[],
+  columns: Readonly<Record<string, string>> = {},
+): Locator {
+  const col = (k: string) => columns[k] ?? k;
   return (path) => {
     // path is inside the FeatureCollection: ['features', i, ...rest]
     if (path[0] !== 'features' || typeof path[1] !== 'number') return fileLocator(display)(path);
-    const where = `${display}: row ${rows[path[1]] ?? '?'}`;
+    const row = rows[path[1]] ?? '?';
     const rest = path.slice(2);
-    if (rest[0] === 'properties' && rest.length > 1) return `${where}: ${String(rest[1])}`;
+    if (rest[0] === 'properties' && rest.length > 1) return csvCellWhere(display, row, col(String(rest[1])));
     if (rest[0] === 'geometry') {
-      if (rest[2] === 0) return `${where}: lon`;
-      if (rest[2] === 1) return `${where}: lat`;
-      return `${where}: lon, lat`;
+      if (rest[2] === 0) return csvCellWhere(display, row, col('lon'));
+      if (rest[2] === 1) return csvCellWhere(display, row, col('lat'));
+      return `${csvCellWhere(display, row)}, columns "${col('lon')}", "${col('lat')}"`;
     }
-    return where;
+    return csvCellWhere(display, row);
   };
 }
 
@@ -240,7 +372,7 @@ export function assembleScenario(json: unknown, display: string, read: Reference
       if (/\.csv$/i.test(json.sites)) {
         const csv = readSitesCsv(f.text, f.display);
         merged.sites = csv.collection;
-        locators.sites = csvLocator(f.display, csv.rows);
+        locators.sites = csvLocator(f.display, csv.rows, csv.columns);
       } else {
         merged.sites = parseJsonText(f.text, f.display, 'a GeoJSON FeatureCollection of sites');
         locators.sites = fileLocator(f.display);
