@@ -11,6 +11,8 @@ import { diagramCommand, DIAGRAM_HELP } from './cli/diagram.ts';
 import { outageCommand, OUTAGE_HELP } from './cli/outage.ts';
 import { compareCommand, COMPARE_HELP } from './cli/compare.ts';
 import { planCommand, PLAN_HELP } from './cli/plan.ts';
+import { reportCommand, REPORT_HELP } from './cli/report.ts';
+import { initCommand, INIT_HELP } from './cli/init.ts';
 
 const HELP = `airshade — radar network coverage planner (planning aid; see the cautions in README.md)
 
@@ -19,22 +21,26 @@ Usage: airshade <command> [options]     airshade <command> --help
 Commands:
   demo          coverage of the invented demo network, with a summary per airspace volume and flight level
   demo-data     generate the demo terrain tiles (data/demo/terrain) if they are missing
+  init          a new study from your own DEM tiles and sites (and optionally volumes and sensor types)
   floor         lowest line-of-sight altitude above every cell of a DEM, as a GeoTIFF
   coverage      what a network of sensors detects at each flight level: GeoJSON layers and statistics
   diagram       vertical coverage diagram (range–height) of one sensor on one site along one azimuth, as SVG
   plan          the cheapest sites and sensor types meeting every volume's required folds, with its gap
   outage        what is lost, per volume and flight level, when each site of a plan or layout goes down
   compare       two layouts side by side: cost, coverage per volume and level, gained and lost areas
+  report        one self-contained HTML report of a network for a safety case: maps, tables, provenance
 `;
 
 type Command = (argv: readonly string[], log: (s: string) => void) => Promise<number>;
 const COMMANDS: Record<string, { run: Command; help: string }> = {
+  init: { run: initCommand, help: INIT_HELP },
   floor: { run: floorCommand, help: FLOOR_HELP },
   coverage: { run: coverageCommand, help: COVERAGE_HELP },
   diagram: { run: diagramCommand, help: DIAGRAM_HELP },
   plan: { run: planCommand, help: PLAN_HELP },
   outage: { run: outageCommand, help: OUTAGE_HELP },
   compare: { run: compareCommand, help: COMPARE_HELP },
+  report: { run: reportCommand, help: REPORT_HELP },
   demo: { run: demoCommand, help: DEMO_HELP },
   'demo-data': { run: demoDataCommand, help: DEMO_DATA_HELP },
 };

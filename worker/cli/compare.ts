@@ -22,7 +22,7 @@ import {
   weatherHelp,
 } from './args.ts';
 import { maskLayer } from '../io/layers.ts';
-import { writeFileChecked } from './files.ts';
+import { writeFileAtomic } from './files.ts';
 import { ProgressLine } from './progress.ts';
 import { scenarioProvenance } from './provenance.ts';
 import { footprintsFor, layoutCandidates, openSession, type Session } from './session.ts';
@@ -149,7 +149,7 @@ export async function compareCommand(argv: readonly string[], log: (s: string) =
         if (f) features.push(f);
       }
     }
-    writeFileChecked(
+    writeFileAtomic(
       `${outDir}/compare-${formatFl(fl)}.geojson`,
       stringifyGeoJson(
         featureCollection(
@@ -193,7 +193,7 @@ export async function compareCommand(argv: readonly string[], log: (s: string) =
     provenance,
     conventions: studyConventions(session, fls),
   };
-  writeFileChecked(`${outDir}/compare.json`, JSON.stringify(doc, null, 2) + '\n');
+  writeFileAtomic(`${outDir}/compare.json`, JSON.stringify(doc, null, 2) + '\n');
   progress.done();
   const lines = [
     `compare  A = "${nameA}" (${a.length} sensors, cost ${A.cost.total.toFixed(2)})  with  B = "${nameB}" (${b.length} sensors, cost ${B.cost.total.toFixed(2)})`,

@@ -30,7 +30,7 @@ import {
   threadsArg,
   weatherHelp,
 } from './args.ts';
-import { writeFileChecked } from './files.ts';
+import { writeFileAtomic } from './files.ts';
 import { ProgressLine } from './progress.ts';
 import { scenarioProvenance } from './provenance.ts';
 import type { LoadedScenario } from './scenario.ts';
@@ -150,10 +150,10 @@ export async function coverageCommand(
       session.ground,
     );
     fc.provenance = undated(provenance);
-    writeFileChecked(`${outDir}/coverage-${formatFl(fls[f])}.geojson`, stringifyGeoJson(fc));
+    writeFileAtomic(`${outDir}/coverage-${formatFl(fls[f])}.geojson`, stringifyGeoJson(fc));
   }
   const floor = network.networkFloor();
-  writeFileChecked(
+  writeFileAtomic(
     `${outDir}/network-floor.tif`,
     encodeGeoTiff({
       geo: grid,
@@ -194,7 +194,7 @@ export async function coverageCommand(
       total: Math.round(performance.now() - started),
     },
   };
-  writeFileChecked(`${outDir}/summary.json`, JSON.stringify(summary, null, 2) + '\n');
+  writeFileAtomic(`${outDir}/summary.json`, JSON.stringify(summary, null, 2) + '\n');
   progress.done();
   if (sweep) {
     const cases = [];
@@ -209,7 +209,7 @@ export async function coverageCommand(
       });
     }
     const table = kSweepTable(s.earth.kFactor, stats, cases, s.volumes);
-    writeFileChecked(
+    writeFileAtomic(
       `${outDir}/k-sweep.json`,
       JSON.stringify(
         {

@@ -10,7 +10,7 @@ import { DEMO_REGION, DEMO_WORLD, fillGeographic } from '../core/synth-terrain.t
 import { encodeGeoTiff } from '../io/geotiff-write.ts';
 import { one, parseArgs } from './args.ts';
 import { coverageCommand } from './coverage.ts';
-import { writeFileChecked } from './files.ts';
+import { writeFileAtomic } from './files.ts';
 import { ProgressLine } from './progress.ts';
 
 const DATA_DIR = fileURLToPath(new URL('../../data/', import.meta.url));
@@ -83,7 +83,7 @@ export async function ensureDemoData(
     const t = tiles[i];
     if (!force && existsSync(t.path)) continue;
     progress.update(i / tiles.length, `generating ${t.path.slice(DEMO_TERRAIN_DIR.length)}`);
-    writeFileChecked(t.path, demoTile(t.lon, t.lat));
+    writeFileAtomic(t.path, demoTile(t.lon, t.lat));
     written++;
   }
   progress.done();

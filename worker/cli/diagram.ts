@@ -7,7 +7,7 @@ import { buildSensorModel } from '../core/sensor.ts';
 import { Terrain } from '../core/terrain.ts';
 import { renderDiagramSvg } from '../io/diagram-svg.ts';
 import { applyColdDay, coldDayHelp, numberArg, one, parseArgs, required, weatherHelp } from './args.ts';
-import { readTiles, writeFileChecked } from './files.ts';
+import { readTiles, writeFileAtomic } from './files.ts';
 import { scenarioProvenance } from './provenance.ts';
 import { loadScenario } from './scenario.ts';
 
@@ -119,7 +119,7 @@ export async function diagramCommand(argv: readonly string[], log: (s: string) =
     loaded,
     studyConventions({ loaded, models: new Map([[model.spec.id, model]]) }, s.flightLevels),
   );
-  writeFileChecked(outPath, renderDiagramSvg(data, { title, units: unitsText, provenance }));
+  writeFileAtomic(outPath, renderDiagramSvg(data, { title, units: unitsText, provenance }));
   const shadowKm = data.shadow.reduce((a, r) => a + (r.toM - r.fromM), 0) / 1000;
   log(
     [

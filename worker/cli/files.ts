@@ -2,9 +2,9 @@
  * File access for the CLI: reading DEM tiles and writing outputs, with messages that name the file. Every file read
  * here is hashed (SHA-256) from the very bytes read, for the outputs' provenance (`digestOfRead`).
  */
-import { createHash } from 'node:crypto';
-import { mkdirSync, readFileSync, statSync, writeFileSync } from 'node:fs';
-import { dirname, resolve } from 'node:path';
+import { createHash, randomBytes } from 'node:crypto';
+import { mkdirSync, readFileSync, renameSync, rmSync, statSync, writeFileSync } from 'node:fs';
+import { basename, dirname, join, resolve } from 'node:path';
 import { InputError } from '../../shared/errors.ts';
 import { readDemTile } from '../io/geotiff-read.ts';
 import type { DemTile } from '../core/terrain.ts';
@@ -50,13 +50,20 @@ export async function readTiles(paths: readonly string[]): Promise<DemTile[]> {
   return tiles;
 }
 
-export function writeFileChecked(path: string, data: ArrayBuffer | string): void {
+/**
+ * Writes a file whole or not at all: the bytes go to a temporary file beside it, which is then renamed into place
+ * (a rename within one folder replaces the old file in one step), so a reader never sees half a file.
+ */
+export function writeFileAtomic(path: string, data: ArrayBuffer | string, what = path): void {
+  const tmp = join(dirname(resolve(path)), `.${basename(path)}.${randomBytes(6).toString('hex')}.tmp`);
   try {
-    mkdirSync(dirname(path), { recursive: true });
-    writeFileSync(path, typeof data === 'string' ? data : new Uint8Array(data));
+    mkdirSync(dirname(resolve(path)), { recursive: true });
+    writeFileSync(tmp, typeof data === 'string' ? data : new Uint8Array(data));
+    renameSync(tmp, path);
   } catch (e) {
+    rmSync(tmp, { force: true });
     throw new InputError(
-      path,
+      what,
       `a path that cannot be written (${(e as NodeJS.ErrnoException).code ?? 'error'})`,
       'a writable output path',
     );

@@ -10,7 +10,7 @@ import { encodeGeoTiff } from '../io/geotiff-write.ts';
 import { undated } from '../io/provenance.ts';
 import { NodePool } from '../node-pool.ts';
 import { lonLatArg, numberArg, one, parseArgs, required, threadsArg } from './args.ts';
-import { readTiles, writeFileChecked } from './files.ts';
+import { readTiles, writeFileAtomic } from './files.ts';
 import { ProgressLine } from './progress.ts';
 import { floorProvenance } from './provenance.ts';
 
@@ -121,7 +121,7 @@ export async function floorCommand(argv: readonly string[], log: (s: string) => 
   const provenance = undated(
     floorProvenance(p, SPEC, dems, { antenna: { lon: site.lon, lat: site.lat, mastM }, kFactor, maxRangeKm }),
   );
-  writeFileChecked(
+  writeFileAtomic(
     outPath,
     encodeGeoTiff({ geo: outGeo, data: result.floor, nodata: NaN, description: CAUTION, provenance }),
   );

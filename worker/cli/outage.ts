@@ -23,7 +23,7 @@ import {
   weatherHelp,
 } from './args.ts';
 import { maskLayer } from '../io/layers.ts';
-import { writeFileChecked } from './files.ts';
+import { writeFileAtomic } from './files.ts';
 import { ProgressLine } from './progress.ts';
 import { scenarioProvenance } from './provenance.ts';
 import {
@@ -169,7 +169,7 @@ export async function outageCommand(argv: readonly string[], log: (s: string) =>
         });
         if (f) features.push(f);
       }
-      writeFileChecked(
+      writeFileAtomic(
         `${outDir}/outage-${siteId}-${formatFl(fl)}.geojson`,
         stringifyGeoJson(
           featureCollection(
@@ -201,7 +201,7 @@ export async function outageCommand(argv: readonly string[], log: (s: string) =>
     provenance,
     conventions: studyConventions(session, fls),
   };
-  writeFileChecked(`${outDir}/outage.json`, JSON.stringify(doc, null, 2) + '\n');
+  writeFileAtomic(`${outDir}/outage.json`, JSON.stringify(doc, null, 2) + '\n');
   progress.done();
   const lines = [`outage of each site — sensors: ${label} (${sensors.length})`, ''];
   lines.push(

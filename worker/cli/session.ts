@@ -7,7 +7,7 @@ import { inlineExecutor } from '../core/floor.ts';
 import type { Footprint } from '../core/footprint.ts';
 import { Terrain } from '../core/terrain.ts';
 import { NodePool } from '../node-pool.ts';
-import { openStudy, type Study } from '../study.ts';
+import { allCandidates, layoutCandidates, openStudy, type Study } from '../study.ts';
 import { readTiles } from './files.ts';
 import type { ProgressLine } from './progress.ts';
 import { loadScenario, type LoadedScenario } from './scenario.ts';
@@ -15,6 +15,24 @@ import { loadScenario, type LoadedScenario } from './scenario.ts';
 export type Session = Study<LoadedScenario>;
 
 export { allCandidates, candidate, layoutCandidates, siteOf } from '../study.ts';
+
+/**
+ * The network a scenario command computes when it is not given a plan: the layout named by `where` (e.g.
+ * `--layout`), or else every allowed (site, type) — with the words the command prints for it.
+ */
+export function networkChoice(
+  session: Session,
+  layoutName: string | undefined,
+  where: string,
+): { candidates: Candidate[]; label: string } {
+  const candidates =
+    layoutName === undefined ? allCandidates(session) : layoutCandidates(session, layoutName, where);
+  const label =
+    layoutName === undefined
+      ? `every allowed site and type (${candidates.length} sensors on ${session.loaded.scenario.sites.length} sites)`
+      : `layout "${layoutName}" (${candidates.length} sensors)`;
+  return { candidates, label };
+}
 
 export async function openSession(path: string, threads: number, progress: ProgressLine): Promise<Session> {
   progress.update(0, 'reading the scenario');
