@@ -4,6 +4,7 @@
  * IndexedDB; long jobs show a progress bar with their stage and a cancel button; a moved site cancels the
  * running job and recomputes only what changed (the engine caches footprints).
  */
+import { destination } from '@turf/turf';
 import { get as idbGet, set as idbSet } from 'idb-keyval';
 import { CAUTION, CAUTION_SHORT } from '../shared/caution.ts';
 import { formatFl } from '../shared/units.ts';
@@ -31,7 +32,8 @@ import {
   stateFromScenario,
   type WorkState,
 } from './state.ts';
-import { fmtAltitude, fmtLevel, fmtLonLat } from './units.ts';
+import { LEGEND_WIDTH_PX, renderLegend } from './legend.ts';
+import { fmtAltitude, fmtLevel, fmtLonLat, fmtReadout, type ReadoutFigures } from './units.ts';
 
 const DEMO_URL = 'data/demo-scenario.json';
 const SAVE_KEY = 'airshade-work';
@@ -84,6 +86,7 @@ export class App {
     this.map = new MapView(this.el.map, {
       onSiteClick: (id) => void this.siteClicked(id),
       onSiteDrag: (id, lon, lat) => void this.siteDragged(id, lon, lat),
+      onMoveSites: (on) => this.setMoveSites(on),
     });
     this.map.map.on('click', (e) => this.mapClicked(e.lngLat.lng, e.lngLat.lat));
     this.map.map.on('mousemove', (e) => this.probe(e.lngLat.lng, e.lngLat.lat));
@@ -227,6 +230,9 @@ export class App {
     if (id !== 'volumes' && this.mode === 'draw') this.setMode('none');
     if (id !== 'sites' && this.mode === 'add-site') this.setMode('none');
     if (id !== 'profile' && this.mode === 'azimuth') this.setMode('none');
+    // The diagram's azimuth is on the map while the Profile panel is.
+    if (id !== 'profile') this.map.setAzimuth(null);
+    else if (this.diagramSvg && this.diagramPick) this.showAzimuth(this.diagramPick, this.azimuth);
     this.renderRail();
     this.refreshVectors();
     this.render();
@@ -341,9 +347,17 @@ export class App {
       progress(0.2, `reading ${tileUrls.length} terrain tiles`);
       const state = stateFromScenario(scenario, 'demo-scenario.json', this.state?.units ?? 'aviation');
       const sources: TileSource[] = tileUrls;
-      const r = await this.engine.loadTiles(sources, true, { input: state.doc, display: state.source });
+      // Per tile read and decoded, from 20 % to 90 % of the bar.
+      const r = await this.engine.loadTiles(
+        sources,
+        true,
+        { input: state.doc, display: state.source },
+        undefined,
+        progressProxy((f, stage) => progress(0.2 + 0.7 * f, stage)),
+      );
       this.adoptLoaded(state, r.terrain, r.study!);
       this.save();
+      progress(0.92, 'drawing the relief');
       const t = performance.now();
       await this.afterTerrain();
       this.metrics.demoMs = { ...r.timingsMs, relief: Math.round(performance.now() - t) };
@@ -372,7 +386,10 @@ export class App {
   /** After new terrain: the relief image and the view. */
   async afterTerrain(): Promise<void> {
     if (!this.terrain) return;
-    this.map.fitBounds(this.terrain.bounds);
+    this.renderLegend();
+    // The legend box sits at the map's lower right: the study area is fitted beside it, not under it.
+    const legendSoon = !this.el.legend.hidden || (this.state?.view.layers.relief.on ?? false);
+    this.map.fitBounds(this.terrain.bounds, legendSoon ? LEGEND_WIDTH_PX + 10 : 0);
     const relief = await this.engine.relief();
     this.reliefLegend = relief.legend;
     await this.map.setImage('relief', relief);
@@ -485,6 +502,18 @@ export class App {
   setUnits(u: WorkState['units']): void {
     this.map.setScaleUnits(u);
     this.setView({ ...this.state, units: u });
+    // What shows figures outside the panels follows: the read-out, and a diagram on show.
+    this.showReadout();
+    this.redrawDiagram();
+  }
+
+  /** Sites can be dragged on the map from any panel while this is on (the "Move sites" switch on the map). */
+  moveSites = false;
+
+  setMoveSites(on: boolean): void {
+    this.moveSites = on;
+    this.map.setMoveSites(on);
+    this.refreshVectors();
   }
 
   // ------------------------------------------------------------------------------------------------- jobs
@@ -595,87 +624,20 @@ export class App {
 
   private renderLegend(): void {
     if (!this.state) return;
-    const u = this.state.units;
-    const parts: HTMLElement[] = [];
     const { layers, fl, kind } = this.state.view;
-    if (this.coverage && layers.fold.on) {
-      parts.push(
-        h(
-          'div',
-          { className: 'legend-block' },
-          h(
-            'strong',
-            {},
-            `Sites seeing each cell at ${fmtLevel(fl, this.levelAltitudeM(fl), u)}, ${kind === 'any' ? 'any kind' : kind}`,
-          ),
-          h(
-            'div',
-            { className: 'swatches' },
-            ...['1', '2', '3', '≥ 4'].map((label, i) =>
-              h('span', { className: `swatch fold-${i + 1}` }, h('i', {}), label),
-            ),
-          ),
-          layers.gap.on ? h('span', { className: 'swatch gap' }, h('i', {}), 'gap in a volume') : null,
-          layers.loss.on && this.state.failed.length
-            ? h('span', { className: 'swatch loss' }, h('i', {}), 'lost by the outage')
-            : null,
-        ),
-      );
-    }
-    if (this.coverage && layers.floor.on && this.floorLegend.length) {
-      parts.push(
-        h(
-          'div',
-          { className: 'legend-block' },
-          h('strong', {}, 'Network floor: the lowest computed level seen'),
-          h(
-            'div',
-            { className: 'swatches' },
-            ...this.floorLegend.map((x) => {
-              const i = h('i', {});
-              i.style.background = x.color;
-              return h(
-                'span',
-                { className: 'swatch', title: Number.isFinite(x.value) ? fmtAltitude(x.value, u) : '' },
-                i,
-                x.label ?? fmtAltitude(x.value, u),
-              );
-            }),
-          ),
-        ),
-      );
-    }
-    if (this.compare && layers.compare.on) {
-      parts.push(
-        h(
-          'div',
-          { className: 'legend-block' },
-          h('strong', {}, `${this.compare.names[1]} against ${this.compare.names[0]}`),
-          h('span', { className: 'swatch gained' }, h('i', {}), 'gained'),
-          h('span', { className: 'swatch compare-lost' }, h('i', {}), 'lost'),
-        ),
-      );
-    }
-    if (layers.relief.on && this.reliefLegend.length) {
-      const ramp = h('div', { className: 'ramp' });
-      ramp.style.background = `linear-gradient(to right, ${this.reliefLegend.map((x) => x.color).join(', ')})`;
-      parts.push(
-        h(
-          'div',
-          { className: 'legend-block' },
-          h('strong', {}, 'Ground height (shaded relief; sea in grey-blue)'),
-          ramp,
-          h(
-            'div',
-            { className: 'ramp-labels' },
-            h('span', {}, fmtAltitude(this.reliefLegend[0].value, u)),
-            h('span', {}, fmtAltitude(this.reliefLegend[this.reliefLegend.length - 1].value, u)),
-          ),
-        ),
-      );
-    }
-    clear(this.el.legend, ...parts);
-    this.el.legend.hidden = parts.length === 0;
+    const u = this.state.units;
+    renderLegend(this.el.legend, {
+      units: u,
+      layers,
+      foldTitle: this.coverage
+        ? `${fmtLevel(fl, this.levelAltitudeM(fl), u)}, ${kind === 'any' ? 'any kind' : kind}`
+        : null,
+      anyFailed: this.state.failed.length > 0,
+      floor: this.coverage ? this.floorLegend : [],
+      relief: this.reliefLegend,
+      compared: this.compare ? this.compare.names : null,
+      planned: this.plan !== null,
+    });
   }
 
   // --------------------------------------------------------------------------------------------- outages
@@ -695,7 +657,7 @@ export class App {
       await this.engine.setFailed(next.failed);
       this.state = next;
       this.refreshVectors();
-      await this.refreshImages(['fold', 'gap', 'loss']);
+      await this.refreshImages(['fold', 'gap', 'loss', 'floor']);
       // Drawn once the frame with the new images is painted (a task queued from the next animation frame runs
       // after that frame's paint); the figures for the panel come after.
       await new Promise<void>((res) => requestAnimationFrame(() => setTimeout(res, 0)));
@@ -791,17 +753,61 @@ export class App {
     }
     this.azimuth = az;
     try {
-      this.diagramSvg = await this.engine.diagram(pick.siteId, pick.typeId, az, this.state.units);
+      // Drawn at the width it is shown at (the panel's), so its text keeps its size; saved at 960 × 560.
+      this.diagramSvg = await this.engine.diagram(
+        pick.siteId,
+        pick.typeId,
+        az,
+        this.state.units,
+        diagramSizeFor(this.el.panel.clientWidth),
+      );
       if (this.diagramUrl) URL.revokeObjectURL(this.diagramUrl);
       this.diagramUrl = URL.createObjectURL(new Blob([this.diagramSvg], { type: 'image/svg+xml' }));
+      this.showAzimuth(pick, az);
     } catch (e) {
       this.fail(e);
     }
     this.render();
   }
 
+  /**
+   * The diagram's azimuth on the map, typed or dragged: from the site along the azimuth to the type's
+   * instrumented range (a great circle from @turf/destination; the diagram's own radial is a WGS84 geodesic, the
+   * same line on screen to well under a pixel).
+   */
+  private showAzimuth(pick: { siteId: string; typeId: string }, az: number): void {
+    if (this.panel !== 'profile') return;
+    const site = this.state.doc.sites.features.find((f) => f.properties.id === pick.siteId);
+    const type = this.state.doc.sensorTypes.find((t) => t.id === pick.typeId);
+    if (!site || !type) return;
+    const rangeKm = (type.instrumentedRangeNm * 1852) / 1000;
+    const line: [number, number][] = [];
+    for (let i = 0; i <= 48; i++)
+      line.push(
+        destination(site.geometry.coordinates, (rangeKm * i) / 48, az > 180 ? az - 360 : az, {
+          units: 'kilometers',
+        }).geometry.coordinates as [number, number],
+      );
+    this.map.setAzimuth(line);
+  }
+
   /** Where the cursor was last over the map: the read-out is taken again there when the results change. */
   private probeAt: [number, number] | null = null;
+  /** What the engine gave there: written again in the new units when the units change. */
+  private probeLast: ReadoutFigures | null = null;
+
+  /** Writes the read-out from the last probe, in the units now chosen. */
+  showReadout(): void {
+    const r = this.probeLast;
+    if (!r || !this.state) return;
+    const { fl } = this.state.view;
+    const u = this.state.units;
+    this.el.readout.textContent = this.el.readout.title = fmtReadout(
+      r,
+      u,
+      this.coverage ? { level: fmtLevel(fl, this.levelAltitudeM(fl), u) } : null,
+    );
+  }
 
   private probe(lon: number, lat: number): void {
     this.probeAt = [lon, lat];
@@ -812,22 +818,8 @@ export class App {
       while (this.probeNext) {
         const [x, y] = this.probeNext;
         this.probeNext = null;
-        const r = await this.engine.probe(x, y);
-        const u = this.state?.units ?? 'aviation';
-        const parts = [
-          fmtLonLat(x, y),
-          `ground ${r.groundM === null ? 'no data' : fmtAltitude(r.groundM, u)}`,
-        ];
-        if (this.coverage) {
-          parts.push(
-            `network floor ${r.floorM === null ? 'not seen at computed levels' : fmtAltitude(r.floorM, u)}`,
-          );
-          if (r.fold)
-            parts.push(
-              `sites at ${fmtLevel(this.state.view.fl, this.levelAltitudeM(this.state.view.fl), u)}: ${r.fold.any} (PSR ${r.fold.primary}, SSR ${r.fold.secondary})`,
-            );
-        }
-        this.el.readout.textContent = parts.join(' · ');
+        this.probeLast = await this.engine.probe(x, y);
+        this.showReadout();
       }
       this.probeBusy = false;
     })();
@@ -850,7 +842,7 @@ export class App {
         failed: failed.has(f.properties.id),
         planned: planned.has(f.properties.id),
       })),
-      this.panel === 'sites',
+      this.panel === 'sites' || this.moveSites,
     );
     this.map.setVolumes({
       type: 'FeatureCollection',
@@ -861,4 +853,13 @@ export class App {
       })),
     });
   }
+}
+
+/**
+ * The diagram's size for a panel `panelPx` wide: its width (less the panel's padding), at least 480 px; taller when
+ * narrower, since its legend and notes then take more rows.
+ */
+export function diagramSizeFor(panelPx: number): { width: number; height: number } {
+  const width = Math.max(480, Math.min(1200, Math.round(panelPx - 26)));
+  return { width, height: Math.round(560 + Math.max(0, 960 - width) * 0.35) };
 }

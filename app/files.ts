@@ -6,7 +6,8 @@
  */
 import { InputError } from '../shared/errors.ts';
 import { showValue, type Scenario } from '../shared/scenario.ts';
-import { assembleScenario, parseJsonText, readSitesCsv } from '../worker/io/scenario-text.ts';
+import { givenJson, givenSites, type GivenFile } from '../worker/io/new-study.ts';
+import { assembleScenario, parseJsonText } from '../worker/io/scenario-text.ts';
 
 const baseName = (p: string) => p.split(/[\\/]/).pop() ?? p;
 const utf8 = new TextDecoder('utf-8', { fatal: true });
@@ -102,11 +103,18 @@ export async function fetchScenario(
   return { scenario, tileUrls };
 }
 
-/** Sites from a picked GeoJSON or CSV file, as a FeatureCollection (not yet validated). */
-export async function readSitesFile(f: File): Promise<unknown> {
-  const text = await textOf(f, f.name, 'a sites file (GeoJSON or CSV)');
-  if (/\.csv$/i.test(f.name)) return readSitesCsv(text, f.name).collection;
-  return parseJsonText(text, f.name, 'a GeoJSON FeatureCollection of sites');
+/**
+ * Sites from a picked GeoJSON or CSV file, as a FeatureCollection (not yet validated), with the locator that
+ * names a field in the file: a CSV row and column (`sites.csv: row 7, column "lat"`), or a GeoJSON path. Read as
+ * `airshade init` reads it (worker/io/new-study.ts givenSites).
+ */
+export async function readSitesFile(f: Blob & { name: string }): Promise<GivenFile> {
+  return givenSites(await textOf(f, f.name, 'a sites file (GeoJSON or CSV)'), f.name);
+}
+
+/** A picked JSON or GeoJSON file, parsed (line and column on a syntax error). */
+export async function readJsonFile(f: Blob & { name: string }, what: string): Promise<GivenFile> {
+  return givenJson(await textOf(f, f.name, what), f.name, what);
 }
 
 /** The polygons of a picked GeoJSON file (Polygon / MultiPolygon geometries, features or a collection). */

@@ -2,7 +2,9 @@
  * The map: MapLibre with a style of our own that loads nothing from outside (no tiles, glyphs, sprites or fonts):
  * raster images made by the engine worker (relief, network floor, folds, gaps, losses, layout differences) laid
  * under the map's transparent canvas, the airspace volumes, an azimuth line for the vertical coverage diagram, a drawing
- * preview, and the sites as draggable markers whose labels are text nodes.
+ * preview, and the sites as markers whose labels are text nodes. Each marker is its symbol alone, centred on the site;
+ * its label sits beside it, on whichever side is free of other labels and symbols (a label with no free side hides
+ * until the pointer rests on its site). A "Move sites" switch on the map lets sites be dragged from any panel.
  */
 import * as maplibregl from 'maplibre-gl';
 import type { GeoJSONSource, StyleSpecification } from 'maplibre-gl';
@@ -58,12 +60,18 @@ export class MapView {
   private settings: Partial<Record<LayerId, LayerSetting>> = {};
   readonly ready: Promise<void>;
   private readonly scale = new maplibregl.ScaleControl({ maxWidth: 160, unit: 'nautical' });
+  private readonly moveButton: HTMLButtonElement;
+  private readonly moveHint: HTMLElement;
+  /** Sites drawn last, in the order their labels get first choice of a place. */
+  private siteOrder: SiteMarker[] = [];
 
   constructor(
     container: HTMLElement,
     private readonly handlers: {
       onSiteClick: (id: string) => void;
       onSiteDrag: (id: string, lon: number, lat: number) => void;
+      /** The "Move sites" switch on the map was pressed. */
+      onMoveSites: (on: boolean) => void;
     },
   ) {
     this.map = new maplibregl.Map({
@@ -87,6 +95,30 @@ export class MapView {
     this.map.on('move', () => this.place());
     this.map.on('resize', () => this.place());
     this.map.addControl(this.scale, 'bottom-left');
+    // Our own switch for moving sites from any panel (a control like the zoom buttons), and its hint.
+    this.moveButton = document.createElement('button');
+    this.moveButton.type = 'button';
+    this.moveButton.id = 'move-sites';
+    this.moveButton.className = 'move-sites';
+    this.moveButton.textContent = 'Move sites';
+    this.moveButton.setAttribute('aria-pressed', 'false');
+    this.moveButton.title = 'Drag sites on the map to move them (from any panel)';
+    this.moveButton.addEventListener('click', () =>
+      this.handlers.onMoveSites(this.moveButton.getAttribute('aria-pressed') !== 'true'),
+    );
+    const moveBox = document.createElement('div');
+    moveBox.className = 'maplibregl-ctrl maplibregl-ctrl-group move-sites-ctrl';
+    moveBox.appendChild(this.moveButton);
+    this.map.addControl({ onAdd: () => moveBox, onRemove: () => moveBox.remove() }, 'top-left');
+    this.moveHint = document.createElement('div');
+    this.moveHint.id = 'move-hint';
+    this.moveHint.className = 'map-hint';
+    this.moveHint.hidden = true;
+    this.moveHint.textContent =
+      'Moving sites: drag a site to its new place; its coverage is computed again. Press “Move sites” again to stop.';
+    container.appendChild(this.moveHint);
+    this.map.on('moveend', () => this.placeLabels());
+    this.map.on('resize', () => this.placeLabels());
     this.ready = new Promise((res) => this.map.once('load', () => res()));
     void this.ready.then(() => this.addVectorLayers());
   }
@@ -215,6 +247,13 @@ export class MapView {
     src.setData(fc);
   }
 
+  /** Shows the state of the "Move sites" switch and its hint. */
+  setMoveSites(on: boolean): void {
+    this.moveButton.setAttribute('aria-pressed', String(on));
+    this.moveButton.classList.toggle('on', on);
+    this.moveHint.hidden = !on;
+  }
+
   setAzimuth(line: [number, number][] | null): void {
     (this.map.getSource('azimuth') as GeoJSONSource | undefined)?.setData({
       type: 'FeatureCollection',
@@ -254,24 +293,37 @@ export class MapView {
     for (const s of sites) {
       let m = this.markers.get(s.id);
       if (!m) {
+        // The marker's element is the symbol alone (so its centre is the site); the label is placed beside it.
         const el = document.createElement('div');
         el.className = 'site';
         el.dataset.siteId = s.id;
         const dot = document.createElement('span');
         dot.className = 'site-dot';
         const label = document.createElement('span');
-        label.className = 'site-label';
+        label.className = 'site-label at-right';
         el.append(dot, label);
+        let dragged = false;
         el.addEventListener('click', (e) => {
           e.stopPropagation();
+          // The click that ends a drag is not a click on the site.
+          if (dragged) {
+            dragged = false;
+            return;
+          }
           this.handlers.onSiteClick(s.id);
         });
         const marker = new maplibregl.Marker({ element: el, draggable })
           .setLngLat([s.lon, s.lat])
           .addTo(this.map);
+        marker.on('dragstart', () => {
+          dragged = true;
+        });
         marker.on('dragend', () => {
           const p = marker.getLngLat();
+          // A click may not follow (the pointer left the symbol): forget the drag soon after.
+          setTimeout(() => (dragged = false), 300);
           this.handlers.onSiteDrag(s.id, p.lng, p.lat);
+          this.placeLabels();
         });
         m = { marker, el };
         this.markers.set(s.id, m);
@@ -284,17 +336,74 @@ export class MapView {
       m.el.classList.toggle('in-network', s.inNetwork);
       m.el.classList.toggle('failed', s.failed);
       m.el.classList.toggle('planned', s.planned);
+      m.el.classList.toggle('movable', draggable);
     }
+    // Labels choose their place in this order: sites that matter now (down, planned, in the network, existing)
+    // first, then by name, so the same view always gives the same labels.
+    const rank = (s: SiteMarker) =>
+      (s.failed ? 0 : 8) + (s.planned ? 0 : 4) + (s.inNetwork ? 0 : 2) + (s.existing ? 0 : 1);
+    this.siteOrder = [...sites].sort((a, b) => rank(a) - rank(b) || a.name.localeCompare(b.name));
     this.applySettings();
+    this.placeLabels();
   }
 
-  fitBounds(b: { west: number; south: number; east: number; north: number }): void {
+  /**
+   * Puts each site's label on the first side — right, left, above, below — where it overlaps no symbol and no label
+   * placed before it (greedy, in `siteOrder`); a label with no free side is hidden (shown while the pointer rests
+   * on its site). Runs when the view settles and when the sites change, not on every frame of a pan.
+   */
+  placeLabels(): void {
+    const sites = this.siteOrder.filter((s) => this.markers.has(s.id));
+    if (sites.length === 0) return;
+    const GAP = 3;
+    const DOT = 11; // half the symbol's 13 px box and the plan's 4 px ring, with a pixel to spare
+    const pts = sites.map((s) => this.map.project([s.lon, s.lat]));
+    const labels = sites.map((s) => this.markers.get(s.id)!.el.querySelector('.site-label') as HTMLElement);
+    // Read every size first, then write every class: one layout, not one per label.
+    const sizes = labels.map((l) => [l.offsetWidth, l.offsetHeight]);
+    const taken: [number, number, number, number][] = pts.map((p) => [
+      p.x - DOT,
+      p.y - DOT,
+      p.x + DOT,
+      p.y + DOT,
+    ]);
+    const free = (b: [number, number, number, number], own: number) =>
+      !taken.some((t, k) => k !== own && b[0] < t[2] && b[2] > t[0] && b[1] < t[3] && b[3] > t[1]);
+    const places: string[] = sites.map((_, i) => {
+      const { x, y } = pts[i];
+      const [w, hgt] = sizes[i];
+      if (w === 0) return 'at-right'; // hidden (sites layer off): keep its place
+      const options: [string, [number, number, number, number]][] = [
+        ['at-right', [x + DOT, y - hgt / 2, x + DOT + GAP + w, y + hgt / 2]],
+        ['at-left', [x - DOT - GAP - w, y - hgt / 2, x - DOT, y + hgt / 2]],
+        ['at-top', [x - w / 2, y - DOT - GAP - hgt, x + w / 2, y - DOT]],
+        ['at-bottom', [x - w / 2, y + DOT, x + w / 2, y + DOT + GAP + hgt]],
+      ];
+      const pick = options.find(([, b]) => free(b, i));
+      if (!pick) return 'crowded';
+      taken.push(pick[1]);
+      return pick[0];
+    });
+    labels.forEach((l, i) => {
+      const cls = `site-label ${places[i]}`;
+      if (l.className !== cls) l.className = cls;
+    });
+  }
+
+  /**
+   * Shows the whole of `b`, clear of the legend box at the lower right (`rightPx`: the room it takes) and of the
+   * controls along the top.
+   */
+  fitBounds(b: { west: number; south: number; east: number; north: number }, rightPx = 0): void {
+    const c = this.map.getContainer();
+    // Keep the legend's room only when enough map is left beside it.
+    const right = rightPx > 0 && c.clientWidth - rightPx > 240 ? rightPx + 20 : 30;
     this.map.fitBounds(
       [
         [b.west, b.south],
         [b.east, b.north],
       ],
-      { padding: 30, duration: 0 },
+      { padding: { top: 44, bottom: 30, left: 30, right }, duration: 0 },
     );
   }
 }

@@ -2,7 +2,6 @@
  * The side panels, one function each, rebuilt from the state whenever it changes. Names are plain words of our
  * own. Inputs apply on change; a rejected value stays in its field, marked, with the message above the panel.
  */
-import { CAUTION } from '../shared/caution.ts';
 import { DEFAULT_SOLVER_NODES } from '../shared/plan-limits.ts';
 import { formatFl } from '../shared/units.ts';
 import { FLUCTUATION_IDS, TRANSPONDER_IDS, type SensorType } from '../shared/scenario.ts';
@@ -10,7 +9,18 @@ import type { StudyConventions } from '../worker/study.ts';
 import type { App } from './app.ts';
 import { clear, download, h, table } from './dom.ts';
 import { progressProxy } from './engine-client.ts';
-import { isTiff, readPickedScenario, readPolygonFile, readSitesFile } from './files.ts';
+import {
+  allLevelsZip,
+  compareLayersText,
+  layerFileName,
+  levelLayersText,
+  savedScenarioText,
+  scenarioFileName,
+  summaryText,
+} from './exports.ts';
+import { isTiff, readPickedScenario, readPolygonFile } from './files.ts';
+import { newStudySection, picks, sortDropped } from './new-study-panel.ts';
+import { replaceSitesFromFile } from './sites-import.ts';
 import {
   addSensorType,
   addVolume,
@@ -26,7 +36,6 @@ import {
   dayOf,
   isColdDay,
   saveLayout,
-  scenarioFileText,
   sensorSetKey,
   setDay,
   setFlightLevels,
@@ -36,7 +45,6 @@ import {
   stateFromScenario,
   toggleSensor,
   useLayout,
-  validateDoc,
   type FoldKind,
   type LayerId,
   type SensorRef,
@@ -48,9 +56,12 @@ import {
   fmtCost,
   fmtLevel,
   fmtPct,
-  heightFromUser,
+  DEMAND_WEIGHT_TEXT,
+  fmtDemandWeight,
+  heightInputM,
   heightToUser,
   heightUnit,
+  rangeInputNm,
   rangeUnit,
 } from './units.ts';
 
@@ -202,11 +213,26 @@ export async function loadTerrainFiles(app: App, files: File[], replace: boolean
       ? tiffs.map((f) => f.name)
       : [...new Set([...(await app.engine.tileNames()), ...tiffs.map((f) => f.name)])];
     const doc = { ...app.state.doc, terrain: { files: names } };
-    const r = await app.engine.loadTiles(
-      tiffs.map((f) => ({ name: f.name, file: f })),
-      replace,
-      { input: doc, display: app.state.source },
-    );
+    let r;
+    try {
+      r = await app.engine.loadTiles(
+        tiffs.map((f) => ({ name: f.name, file: f })),
+        replace,
+        { input: doc, display: app.state.source },
+      );
+    } catch (e) {
+      // Tiles that do not hold the present sites or volumes: the way on is a new study on them.
+      if (!(e instanceof Error && /outside the terrain/.test(e.message))) throw e;
+      app.say('error', ['The tiles were not loaded; your work is unchanged.', ...errorLines(e)], {
+        label: 'Start a new study on these tiles',
+        run: () => {
+          picks.tiles = tiffs;
+          app.showPanel('files');
+          document.getElementById('new-study')?.scrollIntoView({ block: 'start' });
+        },
+      });
+      return;
+    }
     app.adoptLoaded({ ...app.state, doc, failed: [] }, r.terrain, r.study!);
     app.save();
     await app.afterTerrain();
@@ -282,22 +308,7 @@ function sitesPanel(app: App): HTMLElement {
     'Replace sites from a file (GeoJSON or CSV)',
     '.geojson,.json,.csv',
     false,
-    (files) =>
-      void (async () => {
-        try {
-          const fc = await readSitesFile(files[0]);
-          const doc = { ...app.state.doc, sites: fc } as unknown as WorkState['doc'];
-          validateDoc(doc, files[0].name);
-          const next = setNetwork({ ...app.state, doc: doc }, app.state.network);
-          if (await app.commit(next))
-            app.say(
-              'info',
-              `Sites: ${(fc as { features: unknown[] }).features.length} read from ${files[0].name}.`,
-            );
-        } catch (e) {
-          app.fail(e);
-        }
-      })(),
+    (files) => void replaceSitesFromFile(app, files[0]),
   );
   const rows = s.doc.sites.features.map((f) => {
     const p = f.properties;
@@ -360,7 +371,11 @@ function sitesPanel(app: App): HTMLElement {
           heightToUser(p.mastHeightM, u),
           { 'aria-label': `mast of ${p.id}`, className: 'short stacked', min: 0 },
           (v, el) =>
-            void tryEdit(app, el, () => editSite(app.state, p.id, { mastHeightM: heightFromUser(v, u) })),
+            void tryEdit(app, el, () =>
+              editSite(app.state, p.id, {
+                mastHeightM: heightInputM(v, u, `mast height of ${p.name} (${p.id}, mastHeightM)`),
+              }),
+            ),
         ),
         numberIn(
           p.tiltDeg ?? 0,
@@ -467,7 +482,6 @@ function typesPanel(app: App): HTMLElement {
   const patch = (t: SensorType, el: HTMLElement, change: Partial<SensorType>) =>
     void tryEdit(app, el, () => replaceSensorType(app.state, t.id, { ...t, ...change }));
   const rangeToUser = (nm: number) => (u === 'aviation' ? nm : Math.round(nm * 1.852 * 10) / 10);
-  const rangeFromUser = (v: number) => (u === 'aviation' ? v : v / 1.852);
   const rows = s.doc.sensorTypes.map((t) => [
     (() => {
       const name = h('input', { type: 'text', value: t.name, 'aria-label': `name of ${t.id}` });
@@ -479,7 +493,18 @@ function typesPanel(app: App): HTMLElement {
     numberIn(
       rangeToUser(t.instrumentedRangeNm),
       { className: 'short', min: 0, 'aria-label': `range of ${t.id}` },
-      (v, el) => patch(t, el, { instrumentedRangeNm: rangeFromUser(v) }),
+      (v, el) =>
+        void tryEdit(app, el, () =>
+          replaceSensorType(app.state, t.id, {
+            ...t,
+            instrumentedRangeNm: rangeInputNm(
+              v,
+              u,
+              `instrumented range of ${t.id} (instrumentedRangeNm)`,
+              t.minRangeNm ?? 0,
+            ),
+          }),
+        ),
     ),
     numberIn(
       t.maxElevationDeg,
@@ -1126,7 +1151,6 @@ function conventionsBlock(app: App, c: StudyConventions, warnings: string[]): HT
 
 function planPanel(app: App): HTMLElement {
   const s = app.state;
-  const u = s.units;
   const budget = h('input', {
     type: 'number',
     id: 'plan-budget',
@@ -1188,7 +1212,7 @@ function planPanel(app: App): HTMLElement {
             {},
             p.mode === 'cover'
               ? fmtCost(p.lowerBound)
-              : `${p.coveredWeight.toFixed(0)} of ${p.totalWeight.toFixed(0)}`,
+              : `${fmtDemandWeight(p.coveredWeight)} of ${fmtDemandWeight(p.totalWeight)} (${fmtPct(p.totalWeight > 0 ? (100 * p.coveredWeight) / p.totalWeight : 0)})`,
           ),
           h('dt', {}, 'Gap'),
           h('dd', {}, fmtPct(p.gapPct)),
@@ -1300,7 +1324,11 @@ function planPanel(app: App): HTMLElement {
       `Needs the footprint of every allowed site and type (${countCandidates(app)}); those already computed come from the cache.`,
     ),
     result,
-    h('p', { className: 'hint' }, `Units: ${u === 'aviation' ? 'areas in NM²' : 'areas in km²'}.`),
+    h(
+      'p',
+      { className: 'hint', id: 'plan-weight-hint' },
+      `Costs in millions (M), as in the sites and sensor types. ${DEMAND_WEIGHT_TEXT} Within a budget the plan covers the most of it.`,
+    ),
   );
 }
 
@@ -1313,6 +1341,19 @@ function countCandidates(app: App): number {
 }
 
 // ------------------------------------------------------------------------------------------------ outages
+
+/**
+ * The study's whole demand weight (every volume cell at every level of its band, area × weight): from the last
+ * coverage run's volume table, else from the last plan; undefined when neither is there.
+ */
+function totalDemandWeight(app: App): number | undefined {
+  const c = app.coverage;
+  if (c) {
+    const w = new Map(app.state.doc.volumes.map((v) => [v.id, v.weight ?? 1]));
+    return c.volumes.reduce((a, v) => a + v.areaKm2 * (w.get(v.volumeId) ?? 1), 0);
+  }
+  return app.plan?.totalWeight;
+}
 
 function outagesPanel(app: App): HTMLElement {
   const s = app.state;
@@ -1333,10 +1374,15 @@ function outagesPanel(app: App): HTMLElement {
           h(
             'p',
             { id: 'outage-loss' },
-            `${o.failed.map(name).join(', ')} down: ${fmtArea(o.areaKm2Lost, u)} of volume area lose their requirement at one level or more (demand weight ${o.demandWeightLost.toFixed(0)}).`,
+            `${o.failed.map(name).join(', ')} down: ${fmtArea(o.areaKm2Lost, u)} of volume area lose their requirement at one level or more.`,
+          ),
+          h(
+            'p',
+            { id: 'outage-weight', title: DEMAND_WEIGHT_TEXT },
+            `Demand weight lost: ${fmtDemandWeight(o.demandWeightLost, totalDemandWeight(app))}.`,
           ),
           table(
-            ['Level', 'Area losing coverage or requirement'],
+            ['Level', 'Volume area losing its requirement'],
             (app.coverage?.flightLevels ?? []).map((fl, i) => [
               formatFl(fl),
               fmtArea(o.lostKm2ByLevel[i] ?? 0, u),
@@ -1383,11 +1429,20 @@ function outagesPanel(app: App): HTMLElement {
       ),
       n1
         ? table(
-            ['Site down', 'Area losing requirement', 'Demand weight lost'],
-            n1.map((x) => [name(x.siteId), fmtArea(x.areaKm2Lost, u), x.demandWeightLost.toFixed(0)]),
+            ['Site down', 'Volume area losing its requirement', 'Demand weight lost'],
+            n1.map((x) => [
+              name(x.siteId),
+              fmtArea(x.areaKm2Lost, u),
+              fmtDemandWeight(x.demandWeightLost, totalDemandWeight(app)),
+            ]),
             { id: 'n1-table', className: 'wide' },
           )
         : null,
+    ),
+    h(
+      'p',
+      { className: 'hint', id: 'demand-weight-hint' },
+      `Areas count a cell once however many volumes and levels it loses. ${DEMAND_WEIGHT_TEXT} The share is of the whole study’s demand.`,
     ),
   );
 }
@@ -1546,26 +1601,46 @@ function profilePanel(app: App): HTMLElement {
     className: 'short',
   });
   const dragging = app.mode === 'azimuth';
+  // The panel shows the diagram drawn at the panel's width (its text at full size); enlarged and saved, it is the
+  // standard 960 × 560 drawing, asked for when wanted.
+  const standard = async (): Promise<string | null> => {
+    if (!pick?.typeId) return null;
+    try {
+      return await app.engine.diagram(pick.siteId, pick.typeId, app.azimuth, app.state.units);
+    } catch (e) {
+      app.fail(e);
+      return null;
+    }
+  };
   let img: HTMLElement | null = null;
   if (app.diagramSvg && app.diagramUrl) {
-    const url = app.diagramUrl;
     const im = h('img', {
       id: 'diagram',
-      src: url,
+      src: app.diagramUrl,
       alt: 'vertical coverage diagram',
       title: 'Click to enlarge',
     });
-    im.addEventListener('click', () => {
-      const big = h(
-        'dialog',
-        { className: 'diagram-dialog' },
-        h('img', { src: url, alt: 'vertical coverage diagram' }),
-      );
-      big.addEventListener('click', () => big.close());
-      big.addEventListener('close', () => big.remove());
-      document.body.appendChild(big);
-      big.showModal();
-    });
+    im.addEventListener(
+      'click',
+      () =>
+        void (async () => {
+          const svg = await standard();
+          if (!svg) return;
+          const url = URL.createObjectURL(new Blob([svg], { type: 'image/svg+xml' }));
+          const big = h(
+            'dialog',
+            { className: 'diagram-dialog' },
+            h('img', { src: url, alt: 'vertical coverage diagram' }),
+          );
+          big.addEventListener('click', () => big.close());
+          big.addEventListener('close', () => {
+            big.remove();
+            URL.revokeObjectURL(url);
+          });
+          document.body.appendChild(big);
+          big.showModal();
+        })(),
+    );
     img = im;
   }
   return h(
@@ -1575,7 +1650,7 @@ function profilePanel(app: App): HTMLElement {
     h(
       'p',
       { className: 'hint' },
-      'A vertical coverage diagram along one azimuth: terrain profile, screening, detection envelope, cone of silence and flight levels.',
+      'A vertical coverage diagram along one azimuth: terrain profile, screening, detection envelope, cone of silence and flight levels. The azimuth is drawn on the map; click the diagram to enlarge it.',
     ),
     h('label', {}, 'Site ', site),
     h('label', {}, ' Type ', type),
@@ -1604,10 +1679,14 @@ function profilePanel(app: App): HTMLElement {
           {
             id: 'export-diagram',
             onclick: () =>
-              download(
-                `profile-${pick?.siteId}-${pick?.typeId}-${app.azimuth}.svg`,
-                app.diagramSvg!,
-                'image/svg+xml',
+              void standard().then(
+                (svg) =>
+                  svg &&
+                  download(
+                    `profile-${pick?.siteId}-${pick?.typeId}-${app.azimuth}.svg`,
+                    svg,
+                    'image/svg+xml',
+                  ),
               ),
           },
           'Save the diagram (SVG)',
@@ -1624,7 +1703,23 @@ export async function loadScenarioFiles(app: App, files: File[]): Promise<void> 
   try {
     picked = await readPickedScenario(files);
   } catch (e) {
-    app.say('error', ['The scenario was not loaded; your work is unchanged.', ...errorLines(e)]);
+    // Tiles with sites (and no scenario file) are the makings of a new study: offer it.
+    const makings = files.some((f) => isTiff(f.name)) && /no scenario file among them/.test(String(e));
+    app.say(
+      'error',
+      ['The scenario was not loaded; your work is unchanged.', ...errorLines(e)],
+      makings
+        ? {
+            label: 'Start a new study with these files',
+            run: () =>
+              void sortDropped(files).then((notes) => {
+                app.showPanel('files');
+                if (notes.length) app.say('error', notes);
+                document.getElementById('new-study')?.scrollIntoView({ block: 'start' });
+              }),
+          }
+        : undefined,
+    );
     return;
   }
   const state = stateFromScenario(picked.scenario, picked.source, app.state.units);
@@ -1670,29 +1765,8 @@ function filesPanel(app: App): HTMLElement {
     ...(app.coverage?.flightLevels ?? []).map((x) => h('option', { value: x }, formatFl(x))),
   );
   fl.value = String(s.view.fl);
-  const summary = () => ({
-    scenario: s.doc.name,
-    caution: CAUTION,
-    // What the figures mean, as the CLI's summary.json states it: the run's, else the scenario's as it stands.
-    conventions: app.coverage?.conventions ?? app.study?.conventions ?? null,
-    warnings: app.coverage?.warnings ?? app.study?.warnings ?? [],
-    network: s.network,
-    coverage: app.coverage,
-    outage: app.outage,
-    plan: app.plan
-      ? {
-          cost: app.plan.cost,
-          lowerBound: app.plan.lowerBound,
-          gapPct: app.plan.gapPct,
-          entries: app.plan.entries,
-          volumes: app.plan.volumes,
-          method: app.plan.method,
-          solverStop: app.plan.solverStop,
-        }
-      : null,
-    nMinus1: app.nMinus1,
-    compare: app.compare,
-  });
+  /** Runs an export; a failure shows its message (nothing is written). */
+  const exporting = (make: () => Promise<void>) => () => void make().catch((e: unknown) => app.fail(e));
   return h(
     'div',
     {},
@@ -1703,7 +1777,7 @@ function filesPanel(app: App): HTMLElement {
         'button',
         {
           id: 'save-scenario',
-          onclick: () => download(`${slug(s.doc.name)}.scenario.json`, scenarioFileText(s)),
+          onclick: exporting(async () => download(scenarioFileName(app), await savedScenarioText(app))),
         },
         'Save the scenario file',
       ),
@@ -1738,39 +1812,42 @@ function filesPanel(app: App): HTMLElement {
               'button',
               {
                 id: 'export-layer',
-                onclick: () =>
-                  void (async () => {
-                    try {
-                      const text = await app.engine.levelGeoJson(Number(fl.value));
-                      download(
-                        `coverage-${formatFl(Number(fl.value))}.geojson`,
-                        text,
-                        'application/geo+json',
-                      );
-                    } catch (e) {
-                      app.fail(e);
-                    }
-                  })(),
+                onclick: exporting(async () => {
+                  const level = Number(fl.value);
+                  download(layerFileName(level), await levelLayersText(app, level), 'application/geo+json');
+                }),
               },
               'Coverage layers (GeoJSON)',
+            ),
+            h(
+              'button',
+              {
+                id: 'export-all-levels',
+                disabled: app.busy !== null,
+                onclick: () =>
+                  void app.job('Export', async (progress) => {
+                    const zip = await allLevelsZip(app, (done, total) =>
+                      progress((0.9 * done) / total, `level ${done} of ${total}`),
+                    );
+                    download(zip.name, new Blob([zip.bytes as BlobPart], { type: 'application/zip' }));
+                    app.say('info', `${zip.name}: ${zip.files.join(', ')}.`);
+                  }),
+              },
+              'Every level in one zip',
             ),
             app.compare
               ? h(
                   'button',
                   {
                     id: 'export-compare',
-                    onclick: () =>
-                      void (async () => {
-                        try {
-                          download(
-                            `compare-${formatFl(Number(fl.value))}.geojson`,
-                            await app.engine.compareGeoJson(Number(fl.value)),
-                            'application/geo+json',
-                          );
-                        } catch (e) {
-                          app.fail(e);
-                        }
-                      })(),
+                    onclick: exporting(async () => {
+                      const level = Number(fl.value);
+                      download(
+                        `compare-${formatFl(level)}.geojson`,
+                        await compareLayersText(app, level),
+                        'application/geo+json',
+                      );
+                    }),
                   },
                   'Layout differences (GeoJSON)',
                 )
@@ -1781,26 +1858,17 @@ function filesPanel(app: App): HTMLElement {
         'button',
         {
           id: 'export-summary',
-          onclick: () => download('airshade-summary.json', JSON.stringify(summary(), null, 2) + '\n'),
+          onclick: exporting(async () => download('airshade-summary.json', await summaryText(app))),
         },
         'Summary and plan (JSON)',
       ),
       h(
         'p',
         { className: 'hint' },
-        `Altitudes in the files are true altitudes on the study’s day, metres AMSL (${formatFl(s.doc.flightLevels[0])} = ${app.levelAltitudeM(s.doc.flightLevels[0])?.toFixed(0) ?? '…'} m${app.study ? `; ${app.study.conventions.day.text}` : ''}). The vertical coverage diagram is saved from the Profile panel.`,
+        `Altitudes in the files are true altitudes on the study’s day, metres AMSL (${formatFl(s.doc.flightLevels[0])} = ${app.levelAltitudeM(s.doc.flightLevels[0])?.toFixed(0) ?? '…'} m${app.study ? `; ${app.study.conventions.day.text}` : ''}). Every file records its provenance: the tool’s version, the SHA-256 of the scenario file as saved here and of each terrain tile, k, the target, the day, the levels and the date. The vertical coverage diagram is saved from the Profile panel.`,
       ),
     ),
-  );
-}
-
-function slug(s: string): string {
-  return (
-    s
-      .toLowerCase()
-      .replace(/[^a-z0-9]+/g, '-')
-      .replace(/^-|-$/g, '')
-      .slice(0, 40) || 'scenario'
+    newStudySection(app),
   );
 }
 

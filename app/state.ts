@@ -4,13 +4,17 @@
  * the failed sites, the view settings and the units. Each edit returns a new state or an `InputError` saying
  * what was wrong; a rejected edit leaves the state as it was. Unit-tested in test/app-state.test.ts.
  */
+import { CAUTION } from '../shared/caution.ts';
 import { InputError } from '../shared/errors.ts';
+import type { Provenance } from '../worker/io/provenance.ts';
 import { COLD_DAY as SCENARIO_COLD_DAY } from '../shared/scenario.ts';
 import {
+  fileLocator,
   parseScenario,
   ScenarioError,
   showValue,
   type Layout,
+  type Locator,
   type Scenario,
   type SensorType,
   type SiteProperties,
@@ -97,12 +101,17 @@ export function existingSensors(s: Scenario): SensorRef[] {
     .filter((r) => r.typeId !== undefined);
 }
 
-/** Applies a change to the document and validates the result; throws (state untouched) when it is invalid. */
-function withDoc(state: WorkState, change: (doc: ScenarioDoc) => void): WorkState {
+/**
+ * Applies a change to the document and validates the result; throws (state untouched) when it is invalid.
+ * `locate` names the fields in messages (default: their path in "the working scenario").
+ */
+function withDoc(state: WorkState, change: (doc: ScenarioDoc) => void, locate?: Locator): WorkState {
   const doc = structuredClone(state.doc);
   change(doc);
   dropDanglingLayoutEntries(doc);
-  const s = validateDoc(doc, 'the working scenario');
+  const s = locate
+    ? parseScenario(doc, 'the working scenario', locate)
+    : validateDoc(doc, 'the working scenario');
   const next: WorkState = { ...state, doc: docOf(s) };
   return prune(next);
 }
@@ -205,6 +214,110 @@ export function removeSite(state: WorkState, id: string): WorkState {
     doc.sites.features = doc.sites.features.filter((f) => f.properties.id !== id);
     doc.layouts = doc.layouts.map((l) => ({ ...l, sensors: l.sensors.filter((s) => s.siteId !== id) }));
   });
+}
+
+// ------------------------------------------------------------------------------------ sites from a file
+
+/** What replacing the sites does to the saved layouts, counted before the planner chooses. */
+export interface SitesOffer {
+  /** Sites of the scenario that the file does not have (by id). */
+  sitesGone: string[];
+  /** Saved layouts, in all. */
+  layouts: number;
+  /** Layouts naming a site the file does not have (or a type the file's site no longer allows). */
+  affected: string[];
+  /** Layout entries that would go with those sites, over all affected layouts. */
+  entriesGone: number;
+  /** Affected layouts that would be left with no sensor if kept. */
+  emptied: number;
+  /** Sensors of the network being looked at that would go. */
+  networkGone: number;
+}
+
+const idsOf = (collection: unknown): Map<unknown, Record<string, unknown>> => {
+  const out = new Map<unknown, Record<string, unknown>>();
+  const c = collection as { features?: unknown };
+  if (!c || typeof c !== 'object' || !Array.isArray(c.features)) return out;
+  for (const f of c.features as { properties?: unknown }[]) {
+    const p = f && typeof f.properties === 'object' && f.properties !== null ? f.properties : null;
+    if (p) out.set((p as Record<string, unknown>).id, p as Record<string, unknown>);
+  }
+  return out;
+};
+
+/**
+ * The counts behind the question "drop or keep the layouts?" when the sites are replaced by `collection` (not yet
+ * validated: malformed features count as no site). Nothing is changed.
+ */
+export function sitesOffer(state: WorkState, collection: unknown): SitesOffer {
+  const next = idsOf(collection);
+  const types = new Set(state.doc.sensorTypes.map((t) => t.id));
+  const stays = (r: SensorRef) => {
+    const p = next.get(r.siteId);
+    if (!p || !types.has(r.typeId)) return false;
+    const allowed = p.allowedTypes;
+    return !Array.isArray(allowed) || allowed.includes(r.typeId);
+  };
+  const affected: string[] = [];
+  let entriesGone = 0;
+  let emptied = 0;
+  for (const l of state.doc.layouts) {
+    const gone = l.sensors.filter((r) => !stays(r)).length;
+    if (gone === 0) continue;
+    affected.push(l.name);
+    entriesGone += gone;
+    if (gone === l.sensors.length) emptied++;
+  }
+  return {
+    sitesGone: state.doc.sites.features.map((f) => f.properties.id).filter((id) => !next.has(id)),
+    layouts: state.doc.layouts.length,
+    affected,
+    entriesGone,
+    emptied,
+    networkGone: state.network.filter((r) => !stays(r)).length,
+  };
+}
+
+/** `2 layouts`, `1 layout`. */
+export const plural = (n: number, one: string, many = `${one}s`) => `${n} ${n === 1 ? one : many}`;
+
+/** The question's lines, from the counts. */
+export function offerText(offer: SitesOffer, file: string): string[] {
+  const gone = offer.sitesGone;
+  return [
+    `${offer.affected.length} of ${plural(offer.layouts, 'saved layout')} name${offer.affected.length === 1 ? 's' : ''} sites that ${file} does not have (${plural(offer.entriesGone, 'sensor entry', 'sensor entries')}${offer.emptied ? `; ${plural(offer.emptied, 'layout')} would be left with no sensor` : ''}): ${offer.affected.join(', ')}.`,
+    `${plural(gone.length, 'site')} of the scenario ${gone.length === 1 ? 'is' : 'are'} not in the file${gone.length ? `: ${gone.slice(0, 8).join(', ')}${gone.length > 8 ? ', …' : ''}` : ''}.`,
+    offer.networkGone
+      ? `${plural(offer.networkGone, 'sensor')} of the network being looked at will leave it either way.`
+      : '',
+  ].filter((l) => l !== '');
+}
+
+/**
+ * Replaces every site with those of `collection` (a FeatureCollection read from a GeoJSON or CSV file). Layouts
+ * that name a site the file does not have are dropped (`layouts: 'drop'`) or kept without those entries
+ * ('keep'); either way the replacement goes through when the file is valid. Network sensors and failures at sites
+ * that are gone leave. `locate` names a site's fields in its own file (a CSV row and column: csvLocator); the
+ * other fields keep their path in the working scenario.
+ */
+export function replaceSites(
+  state: WorkState,
+  collection: unknown,
+  opts: { layouts: 'keep' | 'drop'; locate?: Locator },
+): WorkState {
+  const offer = sitesOffer(state, collection);
+  const own = fileLocator('the working scenario');
+  const locate: Locator | undefined = opts.locate
+    ? (p) => (p[0] === 'sites' ? opts.locate!(p.slice(1)) : own(p))
+    : undefined;
+  return withDoc(
+    state,
+    (doc) => {
+      doc.sites = collection as ScenarioDoc['sites'];
+      if (opts.layouts === 'drop') doc.layouts = doc.layouts.filter((l) => !offer.affected.includes(l.name));
+    },
+    locate,
+  );
 }
 
 // ------------------------------------------------------------------------------------------- sensor types
@@ -412,9 +525,11 @@ export function sensorSetKey(l: readonly SensorRef[]): string {
 
 /**
  * The scenario file the app saves: the working document, with the current network as the layout "working
- * network" unless a saved layout already holds exactly that set (opening the file brings the network back).
+ * network" unless a saved layout already holds exactly that set (opening the file brings the network back), and
+ * with the provenance given, the caution and that provenance as its last members (app/provenance.ts; the schema
+ * sets both aside on load).
  */
-export function scenarioFileText(state: WorkState): string {
+export function scenarioFileText(state: WorkState, provenance?: Provenance): string {
   const doc = structuredClone(state.doc);
   const key = sensorSetKey;
   const mine = key(state.network);
@@ -427,7 +542,7 @@ export function scenarioFileText(state: WorkState): string {
     if (i >= 0) doc.layouts[i] = layout;
     else doc.layouts.push(layout);
   }
-  return JSON.stringify(doc, null, 2) + '\n';
+  return JSON.stringify(provenance ? { ...doc, caution: CAUTION, provenance } : doc, null, 2) + '\n';
 }
 
 /** Restores a saved working state (autosave); anything malformed throws and the caller starts from the demo. */

@@ -3,6 +3,7 @@
  * aviation (NM, ft, FL) or metric (km, m). Flight levels are shown as FL in both. Every formatted number carries
  * its unit. Inside the program everything is SI (shared/units.ts does the conversions).
  */
+import { InputError } from '../shared/errors.ts';
 import { FT_M, NM_M, formatFl } from '../shared/units.ts';
 import type { Units } from './state.ts';
 
@@ -64,4 +65,82 @@ export function fmtCost(v: number): string {
 
 export function fmtLonLat(lon: number, lat: number): string {
   return `${lat >= 0 ? 'N' : 'S'} ${Math.abs(lat).toFixed(4)}°, ${lon >= 0 ? 'E' : 'W'} ${Math.abs(lon).toFixed(4)}°`;
+}
+
+/**
+ * A height the user typed (a mast), checked in the units it was typed in and returned in metres: a bad value is
+ * reported in those units (the schema, which works in metres, would quote the converted number).
+ */
+export function heightInputM(v: number, u: Units, where: string): number {
+  if (!(Number.isFinite(v) && v >= 0))
+    throw new InputError(where, typedValue(v, heightUnit(u)), `a height of 0 ${heightUnit(u)} or more`);
+  return heightFromUser(v, u);
+}
+
+/**
+ * A range the user typed (a sensor type's instrumented range), checked in the units it was typed in — above zero
+ * and above the type's minimum range when it has one — and returned in NM (the scenario's unit for ranges).
+ */
+export function rangeInputNm(v: number, u: Units, where: string, minRangeNm = 0): number {
+  const unit = rangeUnit(u);
+  const nm = u === 'aviation' ? v : (v * 1000) / NM_M;
+  if (!(Number.isFinite(v) && v > 0 && nm > minRangeNm)) {
+    const floor =
+      minRangeNm > 0 ? `${fmtRange(minRangeNm * NM_M, u)} (the type's minimum range)` : `0 ${unit}`;
+    throw new InputError(where, typedValue(v, unit), `a range of more than ${floor}`);
+  }
+  return nm;
+}
+
+/** What was typed, with its unit ("nothing" for an empty field). */
+function typedValue(v: number, unit: string): string {
+  return Number.isNaN(v) ? 'nothing' : `${v} ${unit}`;
+}
+
+/**
+ * Demand weight, the planner's and the outage tables' measure: for each lost (or covered) cell of a volume at each
+ * level of its band, the cell's area in km² times the volume's weight, summed. With the study's total it is also
+ * given as a share, which needs no unit to be read.
+ */
+export function fmtDemandWeight(w: number, totalW?: number): string {
+  const v = Math.round(w).toLocaleString('en');
+  return totalW && totalW > 0 ? `${v} (${fmtPct((100 * w) / totalW)} of all demand)` : v;
+}
+
+/** What the demand weight counts, in one line for hints and titles. */
+export const DEMAND_WEIGHT_TEXT =
+  'Demand weight: each volume cell at each flight level of its band counts its area in km² times the volume’s weight.';
+
+/** The cursor read-out's figures: what the engine's probe gives under the cursor (worker/engine.ts ProbeResult). */
+export interface ReadoutFigures {
+  lon: number;
+  lat: number;
+  groundM: number | null;
+  /** The exact network floor of the cell (null: no sensor sees it), and the floor map's step it is drawn in. */
+  floorM: number | null;
+  floorStep?: string | null;
+  fold: { any: number; primary: number; secondary: number } | null;
+}
+
+/**
+ * The read-out line: position, ground, and once coverage is computed the exact network floor with the step of the
+ * floor map it falls in, and the folds at the level shown (`level`, already formatted).
+ */
+export function fmtReadout(r: ReadoutFigures, u: Units, coverage: { level: string } | null): string {
+  const parts = [
+    fmtLonLat(r.lon, r.lat),
+    `ground ${r.groundM === null ? 'no data' : fmtAltitude(r.groundM, u)}`,
+  ];
+  if (coverage) {
+    parts.push(
+      r.floorM === null
+        ? 'network floor: not seen'
+        : `network floor ${fmtAltitude(r.floorM, u)}${r.floorStep ? ` (map step ${r.floorStep})` : ''}`,
+    );
+    if (r.fold)
+      parts.push(
+        `sites at ${coverage.level}: ${r.fold.any} (PSR ${r.fold.primary}, SSR ${r.fold.secondary})`,
+      );
+  }
+  return parts.join(' · ');
 }

@@ -951,13 +951,23 @@ const ScenarioObjectSchema = strictObject({
   /** Over-sea two-ray lobing where the reflection point lies over sea ("auto", default) or never ("off"). */
   multipath: z.enum(['auto', 'off']).default('auto'),
   maxRangeKm: positive('km').default(SCENARIO_DEFAULTS.maxRangeKm),
+  /**
+   * The record of the tool that wrote the file (worker/io/provenance.ts: version, terrain digests, conventions),
+   * as the web app saves it: accepted and set aside on load, so a saved scenario opens again.
+   */
+  provenance: z.looseObject({}).optional(),
+  /** The caution (shared/caution.ts), which `airshade init` writes into the study it makes: set aside on load. */
+  caution: z.string().optional(),
 });
 
 /** The scenario with inline sites and sensor types; the output has `sites` as an array of features. */
 export const ScenarioSchema = ScenarioObjectSchema.superRefine(
   (s, ctx) => checkReferences(s as unknown as Record<string, unknown>, ctx),
   always,
-).transform(({ sites, ...rest }) => ({ ...rest, sites: sites.features }));
+).transform(({ sites, provenance: _provenance, caution: _caution, ...rest }) => ({
+  ...rest,
+  sites: sites.features,
+}));
 
 export type Scenario = z.output<typeof ScenarioSchema>;
 export type ScenarioInput = z.input<typeof ScenarioSchema>;

@@ -14,7 +14,14 @@ import {
   type Volume,
 } from '../shared/scenario.ts';
 import { loadScenario } from '../worker/cli/scenario.ts';
-import { readSitesCsv } from '../worker/io/scenario-text.ts';
+import { readFileSync } from 'node:fs';
+import { csvLocator, readSitesCsv } from '../worker/io/scenario-text.ts';
+import { readSitesFile } from '../app/files.ts';
+import proj4 from 'proj4';
+import { checkFilesAlone, newStudyDefaultText, studyOnTerrain } from '../app/new-study.ts';
+import type { TerrainSummary } from '../worker/engine.ts';
+import { NEW_STUDY_DEFAULTS } from '../worker/io/new-study.ts';
+import { APP_VERSION, appProvenance, geoJsonWithProvenance, sha256Hex } from '../app/provenance.ts';
 import {
   addSensorType,
   addSite,
@@ -32,6 +39,8 @@ import {
   removeSite,
   removeVolume,
   replaceSensorType,
+  offerText,
+  replaceSites,
   restoreState,
   saveLayout,
   scenarioFileText,
@@ -41,6 +50,7 @@ import {
   setNetwork,
   setTarget,
   setVolumeTarget,
+  sitesOffer,
   STANDARD_DAY,
   stateFromScenario,
   toggleSensor,
@@ -972,5 +982,373 @@ describe('errorLines', () => {
     expect(errorLines(new InputError('site', '"q"', 'a site'))).toEqual(['site: found "q"; expected a site']);
     expect(errorLines(new Error('first\n\nsecond\n'))).toEqual(['first', 'second']);
     expect(errorLines('plain text')).toEqual(['plain text']);
+  });
+});
+
+// ---------------------------------------------------------------------------------------------------
+
+describe('replacing the sites from a file (Sites panel)', () => {
+  /** The demo with three layouts of known content, the network being layout A. */
+  const withLayouts = (): WorkState => {
+    const s = fresh();
+    const A: SensorRef[] = [
+      { siteId: 'karvessa', typeId: 'psr-l-longrange' },
+      { siteId: 'karvessa', typeId: 'ssr-mono-lva' },
+      { siteId: 'pellenroy', typeId: 'ssr-mono-lva' },
+    ];
+    s.doc.layouts = [
+      { name: 'A', sensors: A },
+      { name: 'B', sensors: [{ siteId: 'obrellan', typeId: 'ssr-mono-lva' }] },
+      { name: 'C', sensors: [{ siteId: 'karvessa', typeId: 'ssr-mono-lva' }] },
+    ];
+    return { ...s, network: A.map((r) => ({ ...r })), failed: ['pellenroy'] };
+  };
+  /** karvessa kept where it is, and one new site; every other demo site is gone. */
+  const CSV = [
+    'lon,lat,id,name,mastHeightM,siteCost,existing,allowedTypes',
+    '-28.4666,-40.7568,karvessa,Karvessa Crest,12,2.8,true,',
+    '-28.9,-40.9,new-knoll,New Knoll,20,1.5,false,ssr-short',
+  ].join('\n');
+  const csvSites = () => {
+    const r = readSitesCsv(CSV, 'my-sites.csv');
+    return { value: r.collection, locate: csvLocator('my-sites.csv', r.rows) };
+  };
+
+  it('counts what each answer would do before anything changes', () => {
+    const s = withLayouts();
+    const offer = applied(s, (x) => sitesOffer(x, csvSites().value));
+    // By construction: A loses pellenroy (1 entry), B loses obrellan (1 entry, left empty), C is untouched.
+    expect(offer.affected).toEqual(['A', 'B']);
+    expect(offer.layouts).toBe(3);
+    expect(offer.entriesGone).toBe(2);
+    expect(offer.emptied).toBe(1);
+    expect(offer.networkGone).toBe(1);
+    expect(offer.sitesGone).toHaveLength(s.doc.sites.features.length - 1);
+    expect(offer.sitesGone).not.toContain('karvessa');
+    expect(offerText(offer, 'my-sites.csv')[0]).toBe(
+      '2 of 3 saved layouts name sites that my-sites.csv does not have (2 sensor entries; 1 layout would be left with no sensor): A, B.',
+    );
+  });
+
+  it('the whole-document check alone refuses such a file (the old dead end) …', () => {
+    const s = withLayouts();
+    const doc = { ...s.doc, sites: csvSites().value } as unknown as WorkState['doc'];
+    expect(() => validateDoc(doc, 'my-sites.csv')).toThrow(/layouts\[0\]\.sensors\[2\]\.siteId/);
+  });
+
+  it('… which replaceSites never refuses: "drop" removes the layouts naming missing sites', () => {
+    const s = withLayouts();
+    const { value, locate } = csvSites();
+    const next = applied(s, (x) => replaceSites(x, value, { layouts: 'drop', locate }));
+    expect(siteIds(next)).toEqual(['karvessa', 'new-knoll']);
+    expect(next.doc.layouts.map((l) => l.name)).toEqual(['C']);
+    expect(next.network).toEqual([
+      { siteId: 'karvessa', typeId: 'psr-l-longrange' },
+      { siteId: 'karvessa', typeId: 'ssr-mono-lva' },
+    ]);
+    expect(next.failed).toEqual([]);
+    expect(siteOf(next, 'new-knoll').properties.allowedTypes).toEqual(['ssr-short']);
+  });
+
+  it('… and "keep" keeps every layout without the missing sites (an emptied one stays, by name)', () => {
+    const s = withLayouts();
+    const { value, locate } = csvSites();
+    const next = applied(s, (x) => replaceSites(x, value, { layouts: 'keep', locate }));
+    expect(next.doc.layouts.map((l) => [l.name, l.sensors.length])).toEqual([
+      ['A', 2],
+      ['B', 0],
+      ['C', 1],
+    ]);
+    expect(layoutOf(next, 'A').sensors.every((r) => r.siteId === 'karvessa')).toBe(true);
+    // The saved file opens again.
+    expect(() => parseScenario(JSON.parse(scenarioFileText(next)), 'saved.json')).not.toThrow();
+  });
+
+  it('with no layout naming a missing site, nothing is affected', () => {
+    const s = fresh();
+    const same = { type: 'FeatureCollection', features: structuredClone(s.doc.sites.features) };
+    const offer = sitesOffer(s, same);
+    expect(offer.affected).toEqual([]);
+    expect(offer.entriesGone).toBe(0);
+    expect(offer.sitesGone).toEqual([]);
+  });
+});
+
+describe('CSV errors as the app shows them: the row, the column, what was expected', () => {
+  /** What the Sites panel does with a picked file (readSitesFile, then replaceSites), as message lines. */
+  const linesFor = async (csv: string): Promise<string[]> => {
+    try {
+      const given = await readSitesFile(new File([csv], 'my-sites.csv'));
+      replaceSites(fresh(), given.value, { layouts: 'keep', locate: given.locate });
+    } catch (e) {
+      expect(isInputError(e)).toBe(true);
+      return errorLines(e);
+    }
+    throw new Error('test: expected the file to be refused');
+  };
+  const HEAD = 'lon,lat,id,name,mastHeightM,siteCost,existing,allowedTypes';
+  const at = (lines: string[], row: number, column: string) =>
+    lines.find((l) => l.startsWith(`my-sites.csv: row ${row}, column "${column}": found `));
+
+  it('a cell of the wrong form: its row (header = row 1) and column, never a GeoJSON path', async () => {
+    const lines = await linesFor(
+      [
+        HEAD,
+        '-28.4,-40.7,one,One,12,2,true,',
+        '-28.5,-40.8,two,Two,tall,2,false,',
+        '-28.8,-41,six,Six,12,2,maybe,',
+      ].join('\n'),
+    );
+    expect(at(lines, 3, 'mastHeightM')).toMatch(/found "tall"; expected a number ≥ 0 \(m, antenna height/);
+    expect(at(lines, 4, 'existing')).toMatch(/found "maybe"; expected true\/false/);
+    for (const l of lines) expect(l).not.toMatch(/features\[|properties\.|geometry/);
+  });
+
+  it('a value out of range or naming nothing: its row and column, with what was expected', async () => {
+    const lines = await linesFor(
+      [
+        HEAD,
+        '-28.4,-40.7,one,One,12,2,true,',
+        '-28.6,-95,three,Three,12,2,false,',
+        '-28.7,-40.9,four,Four,12,2,false,ssr-nowhere',
+        '-28.8,-41.0,one,One again,12,2,false,',
+      ].join('\n'),
+    );
+    expect(at(lines, 3, 'lat')).toMatch(/found -95; expected .*latitude/);
+    expect(at(lines, 4, 'allowedTypes')).toMatch(/found "ssr-nowhere"; expected the id of a sensor type/);
+    expect(at(lines, 5, 'id')).toMatch(/found "one"/);
+    for (const l of lines) expect(l).not.toMatch(/features\[|properties\.|geometry/);
+  });
+
+  it('a missing column is named on row 1 with the columns expected', async () => {
+    const given = readSitesFile(new File(['lon,lat,id,name,siteCost\n-28,-40,a,A,1\n'], 'my-sites.csv'));
+    await expect(given).rejects.toThrow(
+      'my-sites.csv: row 1: found the columns lon, lat, id, name, siteCost; expected a header row with the columns lon, lat, id, name, mastHeightM, siteCost',
+    );
+  });
+});
+
+// ---------------------------------------------------------------------------------------------------
+
+describe('a new study from the planner’s own data (app/new-study.ts over worker/io/new-study.ts)', () => {
+  /** UTM zone 26 south (EPSG:32726), as the GeoTIFF reader describes it; its central meridian is 27° W. */
+  const UTM26S = {
+    kind: 'projected' as const,
+    proj4: '+proj=utm +zone=26 +south +datum=WGS84 +units=m +no_defs',
+    epsg: 32726,
+    label: 'EPSG:32726',
+  };
+  /** A 60 km × 50 km tile of 100 m pixels over open ocean near 40.5° S 27° W (nothing real implied). */
+  const TILE = {
+    name: 'ocean-utm.tif',
+    geo: {
+      width: 600,
+      height: 500,
+      originX: 470_000,
+      originY: 5_540_000,
+      pixelX: 100,
+      pixelY: -100,
+      crs: UTM26S,
+    },
+  };
+  const SITES_CSV = [
+    'lon,lat,id,name,mastHeightM,siteCost,existing,allowedTypes',
+    '-27.1,-40.6,brannock-rise,Brannock Rise,15,2,true,ssr-mono-lva',
+    '-26.9,-40.4,ollith-knap,Ollith Knap,20,1.5,false,',
+  ].join('\n');
+  const files = async (csv = SITES_CSV) => ({
+    name: '',
+    tileNames: [TILE.name],
+    sites: await readSitesFile(new File([csv], 'own-sites.csv')),
+    volumes: null,
+    sensorTypes: null,
+  });
+  const catalogIds = (
+    JSON.parse(readFileSync('data/catalog/sensor-types.json', 'utf8')) as { id: string }[]
+  ).map((t) => t.id);
+
+  it('takes the study area from a projected tile, the stated defaults and the catalog; nothing of the demo', async () => {
+    const f = await files();
+    expect(() => checkFilesAlone(f)).not.toThrow();
+    const built = studyOnTerrain({ tiles: [TILE] as unknown as TerrainSummary['tiles'] }, f);
+    const s = built.scenario;
+    // The tile's lon/lat extent: its corners through proj4 (outside in, the study area lies within it).
+    const corner = (x: number, y: number) => proj4(UTM26S.proj4, 'WGS84', [x, y]);
+    const sw = corner(470_000, 5_490_000);
+    const ne = corner(530_000, 5_540_000);
+    const b = s.grid.bounds!;
+    expect(b.west).toBeGreaterThanOrEqual(Math.min(sw[0], corner(470_000, 5_540_000)[0]) - 1e-9);
+    expect(b.east).toBeLessThanOrEqual(Math.max(ne[0], corner(530_000, 5_490_000)[0]) + 1e-9);
+    expect(b.south).toBeGreaterThanOrEqual(sw[1] - 0.01);
+    expect(b.north).toBeLessThanOrEqual(ne[1] + 1e-9);
+    expect(b.north - b.south).toBeGreaterThan(0.4); // 50 km ≈ 0.45° of latitude
+    // 100 m pixels are 3.24″ of latitude (1852/60 m per arc-second): cells of 5″, within the cell limit.
+    expect(s.grid.cellArcSec).toBe(5);
+    expect(s.terrain.files).toEqual(['ocean-utm.tif']);
+    expect(s.flightLevels).toEqual([...NEW_STUDY_DEFAULTS.flightLevels]);
+    expect(s.earth.kFactor).toBeCloseTo(4 / 3, 12);
+    expect([s.targetRcsM2, s.targetFluctuation, s.targetTransponder]).toEqual([2, 'swerling1', 'low-power']);
+    expect(s.sensorTypes.map((t) => t.id)).toEqual(catalogIds);
+    expect(s.layouts).toEqual([]);
+    expect(s.volumes.map((v) => [v.id, v.flMin, v.flMax, v.requiredFold])).toEqual([
+      ['study-area', 30, 400, { primary: 1, secondary: 1 }],
+    ]);
+    const text = JSON.stringify(s).toLowerCase();
+    for (const demoWord of [
+      'demo',
+      'karvessa',
+      'zellantis',
+      'vaskerrow',
+      'upper-enroute',
+      'existing network',
+    ])
+      expect(text).not.toContain(demoWord);
+    // The working state from it: the existing site's sensor is the network.
+    expect(stateFromScenario(s, 'the new study').network).toEqual([
+      { siteId: 'brannock-rise', typeId: 'ssr-mono-lva' },
+    ]);
+    // The form states the builder's own defaults.
+    const said = newStudyDefaultText().join(' ');
+    for (const fl of NEW_STUDY_DEFAULTS.flightLevels)
+      expect(said).toContain(`FL${String(fl).padStart(3, '0')}`);
+    expect(said).toContain('k = 4/3');
+  });
+
+  it('a bad CSV value is refused before any tile is read, by row and column', async () => {
+    const f = await files(SITES_CSV.replace('-40.4,ollith', '-95,ollith'));
+    expect(() => checkFilesAlone(f)).toThrow(/own-sites\.csv: row 3, column "lat": found -95/);
+  });
+
+  it('a site outside the tiles: one message naming the site and the DEM’s extent', async () => {
+    const f = await files(SITES_CSV + '\n-25.0,-40.5,far-out,Far Out,10,1,false,');
+    expect(() => checkFilesAlone(f)).not.toThrow(); // the files alone are fine
+    let thrown: unknown;
+    try {
+      studyOnTerrain({ tiles: [TILE] as unknown as TerrainSummary['tiles'] }, f);
+    } catch (e) {
+      thrown = e;
+    }
+    const lines = errorLines(thrown);
+    expect(lines).toHaveLength(1);
+    expect(lines[0]).toMatch(
+      /^own-sites\.csv: row 4: found site "far-out" at lon -25, lat -40\.5, outside the DEM; expected a site on the terrain: the DEM \(ocean-utm\.tif\) covers lon -27\.\d+…-26\.\d+, lat -40\.\d+…-40\.\d+$/,
+    );
+  });
+});
+
+describe('provenance in the app’s files (app/provenance.ts)', () => {
+  it('SHA-256 through Web Crypto: the FIPS 180-2 test vector for "abc"', async () => {
+    // FIPS 180-2, Appendix B.1 (one-block message "abc").
+    expect(await sha256Hex('abc')).toBe('ba7816bf8f01cfea414140de5dae2223b00361a396177a9cb410ff61f20015ad');
+  });
+
+  it('the saved scenario carries a provenance without a date, and opens again without it', () => {
+    const s = fresh();
+    const p = appProvenance({
+      command: 'app scenario',
+      terrain: [{ file: 'own-dem.tif', sha256: 'a'.repeat(64) }],
+      conventions: null,
+      kFactor: s.doc.earth.kFactor,
+      version: '9.9.9',
+    });
+    const text = scenarioFileText(s, p);
+    const json = JSON.parse(text);
+    expect(json.provenance).toEqual({
+      tool: 'airshade',
+      version: '9.9.9',
+      command: 'app scenario',
+      options: {},
+      terrain: [{ file: 'own-dem.tif', sha256: 'a'.repeat(64) }],
+      kFactor: s.doc.earth.kFactor,
+    });
+    const back = parseScenario(json, 'saved.json');
+    expect('provenance' in back).toBe(false);
+    expect(scenarioFileText(stateFromScenario(back, 'saved.json'), p)).toBe(text);
+    expect(APP_VERSION).toBe(JSON.parse(readFileSync('package.json', 'utf8')).version);
+  });
+
+  it('a layer collection gets the provenance as a top-level member, written as the CLI writes it', () => {
+    const fc = { type: 'FeatureCollection', caution: 'c', features: [] };
+    const p = appProvenance({
+      command: 'app layers',
+      terrain: [],
+      conventions: null,
+      kFactor: 1.3333,
+      createdUtc: '2030-01-02T03:04:05.000Z',
+      version: '9.9.9',
+    });
+    const out = geoJsonWithProvenance(JSON.stringify(fc), p);
+    expect(JSON.parse(out).provenance).toEqual(p);
+    expect(out.indexOf('"provenance"')).toBeLessThan(out.indexOf('"features"'));
+  });
+});
+
+describe('numbers in the user’s units (app/units.ts)', () => {
+  let u: typeof import('../app/units.ts');
+  beforeAll(async () => {
+    u = await import('../app/units.ts');
+  });
+  // 1 ft = 0.3048 m and 1 NM = 1852 m exactly (test/REFERENCES.md, units).
+  const message = (f: () => unknown) => {
+    try {
+      f();
+    } catch (e) {
+      expect(isInputError(e)).toBe(true);
+      return (e as InputError).message;
+    }
+    throw new Error('expected an InputError');
+  };
+
+  it('refuses a negative mast in the units it was typed in, and converts a good one to metres', () => {
+    expect(message(() => u.heightInputM(-10, 'aviation', 'mast of North (n)'))).toBe(
+      'mast of North (n): found -10 ft; expected a height of 0 ft or more',
+    );
+    expect(message(() => u.heightInputM(-10, 'metric', 'mast of North (n)'))).toBe(
+      'mast of North (n): found -10 m; expected a height of 0 m or more',
+    );
+    expect(message(() => u.heightInputM(NaN, 'metric', 'mast'))).toContain('found nothing');
+    expect(u.heightInputM(100, 'aviation', 'mast')).toBeCloseTo(30.48, 10);
+    expect(u.heightInputM(30, 'metric', 'mast')).toBe(30);
+  });
+
+  it('refuses a range at or below zero or the type’s minimum range in the typed units, and gives NM', () => {
+    expect(message(() => u.rangeInputNm(-5, 'metric', 'instrumented range of psr'))).toBe(
+      'instrumented range of psr: found -5 km; expected a range of more than 0 km',
+    );
+    // Minimum range 0.5 NM = 0.926 km: 0.9 km is too short, and the message says so in km.
+    expect(message(() => u.rangeInputNm(0.9, 'metric', 'range', 0.5))).toBe(
+      "range: found 0.9 km; expected a range of more than 0.9 km (the type's minimum range)",
+    );
+    expect(u.rangeInputNm(1.852, 'metric', 'range')).toBeCloseTo(1, 12);
+    expect(u.rangeInputNm(60, 'aviation', 'range', 0.5)).toBe(60);
+  });
+
+  it('writes the read-out again in the other units from the same figures', () => {
+    const r = {
+      lon: -29.5,
+      lat: -41.25,
+      groundM: 304.8,
+      floorM: 882.4,
+      floorStep: 'FL030',
+      fold: { any: 2, primary: 1, secondary: 1 },
+    };
+    const aviation = u.fmtReadout(r, 'aviation', { level: 'FL030 (3,000 ft)' });
+    const metric = u.fmtReadout(r, 'metric', { level: 'FL030 (914 m)' });
+    expect(aviation).toBe(
+      'S 41.2500°, W 29.5000° · ground 1,000 ft · network floor 2,895 ft (map step FL030) · sites at FL030 (3,000 ft): 2 (PSR 1, SSR 1)',
+    );
+    expect(metric).toBe(
+      'S 41.2500°, W 29.5000° · ground 305 m · network floor 882 m (map step FL030) · sites at FL030 (914 m): 2 (PSR 1, SSR 1)',
+    );
+    // Before a coverage run: position and ground only; no sensor sees a cell: said so.
+    expect(u.fmtReadout(r, 'metric', null)).toBe('S 41.2500°, W 29.5000° · ground 305 m');
+    expect(u.fmtReadout({ ...r, floorM: null, floorStep: null }, 'metric', { level: 'x' })).toContain(
+      'network floor: not seen',
+    );
+  });
+
+  it('gives a demand weight with its share of all demand', () => {
+    expect(u.fmtDemandWeight(42612.4, 745_000)).toBe('42,612 (5.7 % of all demand)');
+    expect(u.fmtDemandWeight(753)).toBe('753');
   });
 });

@@ -10,7 +10,11 @@ import { WGS84_GEOGRAPHIC, type GridGeo } from '../worker/core/grid.ts';
 import { Terrain } from '../worker/core/terrain.ts';
 import {
   FOLD_COLORS,
+  GAINED_COLOR,
+  GAP_COLOR,
+  LOSS_COLOR,
   floorLevelImage,
+  floorStep,
   ABOVE_LEVELS_COLOR,
   foldImage,
   mercatorRowLatitudes,
@@ -112,5 +116,134 @@ describe('the network floor in steps of the computed levels', () => {
     expect(px(col(1)).slice(0, 3)).toEqual(rgbOf(interpolateViridis(0.5))); // 1000 m: from FL050
     expect(px(col(2)).slice(0, 3)).toEqual(rgbOf(ABOVE_LEVELS_COLOR)); // above FL100
     expect(px(col(3))[3]).toBe(0); // never seen
+  });
+});
+
+/**
+ * CIELAB of an sRGB colour (D65 white): the sRGB transfer function and primaries of IEC 61966-2-1 [pub], then
+ * L*a*b* of CIE 15:2004 (Colorimetry) [pub]; the difference is ΔE*ab (CIE 1976), the Euclidean distance.
+ */
+function lab(rgb: readonly number[]): [number, number, number] {
+  const lin = rgb.map((v) => {
+    const c = v / 255;
+    return c <= 0.04045 ? c / 12.92 : ((c + 0.055) / 1.055) ** 2.4;
+  });
+  const X = 0.4124 * lin[0] + 0.3576 * lin[1] + 0.1805 * lin[2];
+  const Y = 0.2126 * lin[0] + 0.7152 * lin[1] + 0.0722 * lin[2];
+  const Z = 0.0193 * lin[0] + 0.1192 * lin[1] + 0.9505 * lin[2];
+  const f = (t: number) => (t > (6 / 29) ** 3 ? Math.cbrt(t) : t / (3 * (6 / 29) ** 2) + 4 / 29);
+  const fx = f(X / 0.95047);
+  const fy = f(Y / 1.0);
+  const fz = f(Z / 1.08883);
+  return [116 * fy - 16, 500 * (fx - fy), 200 * (fy - fz)];
+}
+const deltaE = (a: readonly number[], b: readonly number[]) => {
+  const [l1, a1, b1] = lab(a);
+  const [l2, a2, b2] = lab(b);
+  return Math.hypot(l1 - l2, a1 - a2, b1 - b2);
+};
+
+/**
+ * Colour-vision deficiency simulated with the matrices of Machado, Oliveira & Fernandes, "A physiologically-based
+ * model for simulation of color vision deficiency", IEEE TVCG 15(6), 2009, at severity 1.0, applied to linear RGB
+ * (the matrices from memory; each row sums to 1, so white stays white).
+ */
+const CVD: Record<'deuteranopia' | 'protanopia', number[][]> = {
+  deuteranopia: [
+    [0.367322, 0.860646, -0.227968],
+    [0.280085, 0.672501, 0.047413],
+    [-0.01182, 0.04294, 0.968881],
+  ],
+  protanopia: [
+    [0.152286, 1.052583, -0.204868],
+    [0.114503, 0.786281, 0.099216],
+    [-0.003882, -0.048116, 1.051998],
+  ],
+};
+function simulate(rgb: readonly number[], m: number[][]): number[] {
+  const lin = rgb.map((v) => {
+    const c = v / 255;
+    return c <= 0.04045 ? c / 12.92 : ((c + 0.055) / 1.055) ** 2.4;
+  });
+  return m.map((row) => {
+    const v = Math.min(1, Math.max(0, row[0] * lin[0] + row[1] * lin[1] + row[2] * lin[2]));
+    return 255 * (v <= 0.0031308 ? 12.92 * v : 1.055 * v ** (1 / 2.4) - 0.055);
+  });
+}
+
+/** The least ΔE*ab between the two given colours and every other map colour (and between themselves). */
+function closest(
+  mine: Record<string, readonly number[]>,
+  view: (c: readonly number[]) => readonly number[] = (c) => c,
+): { pair: string; dE: number } {
+  const others: Record<string, readonly number[]> = {
+    ...Object.fromEntries(FOLD_COLORS.map((c, i) => [`fold ${i + 1}`, c])),
+    gap: GAP_COLOR,
+  };
+  let best = { pair: '', dE: Infinity };
+  const names = Object.keys(mine);
+  for (const [i, n] of names.entries()) {
+    const against = { ...others, ...Object.fromEntries(names.slice(i + 1).map((k) => [k, mine[k]])) };
+    for (const [o, c] of Object.entries(against)) {
+      const dE = deltaE(view(mine[n]), view(c));
+      if (dE < best.dE) best = { pair: `${n} / ${o}`, dE };
+    }
+  }
+  return best;
+}
+
+describe('map colours', () => {
+  // Thresholds: a ΔE*ab of about 2.3 is just noticeable (Sharma & Trussell, "Digital color imaging", IEEE TIP 6(7),
+  // 1997 [memory]); categories on a map want far more. 25 in normal vision and 15 under simulated deuteranopia and
+  // protanopia are this project's choice, not a published figure.
+  const layout = { gained: GAINED_COLOR, lost: LOSS_COLOR };
+
+  it('tell gained and lost apart from every fold colour, the gap colour and each other', () => {
+    expect(closest(layout).dE).toBeGreaterThan(25);
+  });
+
+  it('still do under simulated deuteranopia and protanopia', () => {
+    for (const m of Object.values(CVD)) expect(closest(layout, (c) => simulate(c, m)).dE).toBeGreaterThan(15);
+  });
+
+  it('would catch the green "gained" it replaced (it sat on the fold-3 green)', () => {
+    const old = closest({ gained: [72, 200, 120], lost: LOSS_COLOR });
+    expect(old.pair).toBe('gained / fold 3');
+    expect(old.dE).toBeLessThan(10);
+  });
+
+  it('check the conversion on known values: white is L* 100, black L* 0, sRGB red L* 53.2 a* 80.1 b* 67.2', () => {
+    // sRGB red in CIELAB (D65): L* 53.24, a* 80.09, b* 67.20 [calc, from the same IEC 61966-2-1 and CIE 15 formulas;
+    // the figures as commonly tabulated, from memory].
+    expect(lab([255, 255, 255])[0]).toBeCloseTo(100, 1);
+    expect(lab([0, 0, 0])[0]).toBeCloseTo(0, 6);
+    const red = lab([255, 0, 0]);
+    expect(red[0]).toBeCloseTo(53.24, 1);
+    expect(red[1]).toBeCloseTo(80.09, 0);
+    expect(red[2]).toBeCloseTo(67.2, 0);
+  });
+});
+
+describe('floor steps', () => {
+  const alts = [914.4, 1524, 3048];
+  it('name the first level at or above the floor, "above" past the last, nothing for NaN', () => {
+    expect(floorStep(0, alts)).toBe(0);
+    expect(floorStep(914.4, alts)).toBe(0); // at a level: seen at that level
+    expect(floorStep(914.5, alts)).toBe(1);
+    expect(floorStep(3048, alts)).toBe(2);
+    expect(floorStep(3049, alts)).toBe(3);
+    expect(floorStep(NaN, alts)).toBe(-1);
+  });
+
+  it('are the steps the floor map is painted in', () => {
+    const floor = Float32Array.from([500, 1600, 3048, 4000]);
+    const levels = alts.map((a, i) => ({ label: `L${i}`, altitudeM: a }));
+    const { image, legend } = floorLevelImage(grid, floor, levels);
+    const w = image.width;
+    for (let c = 0; c < 4; c++) {
+      const x = Math.min(w - 1, Math.floor(((c + 0.5) / 4) * w));
+      const want = rgbOf(legend[floorStep(floor[c], alts)].color);
+      expect([...image.rgba.slice(x * 4, x * 4 + 3)]).toEqual(want);
+    }
   });
 });

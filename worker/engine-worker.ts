@@ -85,6 +85,29 @@ function keepTiles(files: { name: string; buffer: ArrayBuffer }[]): Promise<stri
   return keeping;
 }
 
+/**
+ * SHA-256 (lowercase hex) of each tile of the terrain, by name: of the very bytes decoded (the app's exports name
+ * them in their provenance). Replaced together with the terrain, only once a load has been accepted.
+ */
+let digests = new Map<string, string>();
+
+async function sha256Of(buffer: ArrayBuffer): Promise<string> {
+  const d = new Uint8Array(await crypto.subtle.digest('SHA-256', buffer));
+  return Array.from(d, (b) => b.toString(16).padStart(2, '0')).join('');
+}
+
+/** Digests of the files just read, then kept for the tiles the terrain now holds. */
+async function noteDigests(files: { name: string; buffer: ArrayBuffer }[], replace: boolean): Promise<void> {
+  const fresh = await Promise.all(files.map(async (f) => [f.name, await sha256Of(f.buffer)] as const));
+  const next = replace ? new Map<string, string>() : new Map(digests);
+  for (const [name, sha] of fresh) next.set(name, sha);
+  const names = engine.tileNames();
+  digests = new Map(names.filter((n) => next.has(n)).map((n) => [n, next.get(n)!]));
+}
+
+/** The tiles of the last load that was not kept at once (see keepLoaded). */
+let unkept: { name: string; buffer: ArrayBuffer }[] = [];
+
 export interface MapBitmap {
   bitmap: ImageBitmap;
   width: number;
@@ -141,19 +164,43 @@ export const engineApi = {
     replace: boolean,
     scenario?: { input: unknown; display: string },
     keep = true,
+    /** Reading (0…0.3, per tile read), decoding (0.3…0.95, per tile), joining and placing the study. */
+    progress?: ProgressFn,
   ) =>
     guard(async () => {
       const t0 = performance.now();
-      const files = await Promise.all(sources.map(readSource));
+      const report = throttled(progress);
+      let read = 0;
+      const files = await Promise.all(
+        sources.map(async (src) => {
+          const f = await readSource(src);
+          read++;
+          report?.((0.3 * read) / sources.length, `read ${read} of ${sources.length} tiles`);
+          return f;
+        }),
+      );
       const t1 = performance.now();
-      const r = await engine.loadTiles(files, replace, scenario);
+      const r = await engine.loadTiles(
+        files,
+        replace,
+        scenario,
+        // The last stage (joining the tiles, placing the study) is always shown: it can take seconds.
+        report && ((f, stage) => (f >= 0.9 ? progress! : report)(0.3 + (0.65 * f) / 0.9, stage)),
+      );
       const t2 = performance.now();
-      // Kept for the next visit after the answer has gone back, one tile at a time.
+      await noteDigests(files, replace);
+      // Kept for the next visit after the answer has gone back, one tile at a time (or once the app says so).
       if (keep) void keepTiles(files);
+      unkept = keep ? [] : files;
       return { ...r, timingsMs: { read: Math.round(t1 - t0), decode: Math.round(t2 - t1) } };
     }),
   /** The tiles kept in IndexedDB, by name (a reload): throws naming the first one missing. */
-  restoreTiles: (names: string[], scenario?: { input: unknown; display: string }) =>
+  restoreTiles: (
+    names: string[],
+    scenario?: { input: unknown; display: string },
+    /** Per tile decoded, as loadTiles. */
+    progress?: ProgressFn,
+  ) =>
     guard(async () => {
       const files: { name: string; buffer: ArrayBuffer }[] = [];
       for (const name of names) {
@@ -166,9 +213,22 @@ export const engineApi = {
           );
         files.push({ name, buffer });
       }
-      return engine.loadTiles(files, true, scenario);
+      const r = await engine.loadTiles(files, true, scenario, throttled(progress));
+      await noteDigests(files, true);
+      return r;
     }),
+  /**
+   * Keeps the tiles of the last `loadTiles(…, keep = false)` in IndexedDB (the app's new study, once its sites
+   * are found inside them); resolves as `tilesKept` does.
+   */
+  keepLoaded: () => {
+    const files = unkept;
+    unkept = [];
+    return files.length ? keepTiles(files) : keeping;
+  },
   tileNames: () => engine.tileNames(),
+  /** Each terrain tile with the SHA-256 of the bytes read, in the terrain's order (for the exports' provenance). */
+  tileDigests: () => engine.tileNames().map((file) => ({ file, sha256: digests.get(file) ?? '' })),
   /** Resolves when the tiles of the last load are stored: null, or what went wrong. */
   tilesKept: () => keeping,
   terrainInfo: () => engine.terrainInfo(),
@@ -200,8 +260,13 @@ export const engineApi = {
   setProbeLevel: (fl: number) => engine.setProbeLevel(fl),
   levelGeoJson: (fl: number) => guard(() => engine.levelGeoJson(fl)),
   compareGeoJson: (fl: number) => guard(() => engine.compareGeoJson(fl)),
-  diagram: (siteId: string, typeId: string, az: number, units: 'metric' | 'aviation') =>
-    guard(() => engine.diagram(siteId, typeId, az, units)),
+  diagram: (
+    siteId: string,
+    typeId: string,
+    az: number,
+    units: 'metric' | 'aviation',
+    size?: { width: number; height: number },
+  ) => guard(() => engine.diagram(siteId, typeId, az, units, size)),
   cancel: () => engine.cancel(),
 };
 

@@ -13,10 +13,12 @@
  */
 import { InputError } from '../shared/errors.ts';
 import { fileLocator, parseScenario, type Scenario } from '../shared/scenario.ts';
+import { formatFl } from '../shared/units.ts';
 import { computeFootprints, type Candidate } from './core/coverage.ts';
 import { diagramData } from './core/diagram.ts';
 import { inlineExecutor, type Executor } from './core/floor.ts';
 import type { Footprint } from './core/footprint.ts';
+import type { GridGeo } from './core/grid.ts';
 import { KINDS, Network, type FoldKind } from './core/network.ts';
 import { difference, outageTable, servedMasks, tally, type LevelLoss, type SiteLoss } from './core/outage.ts';
 import {
@@ -28,7 +30,7 @@ import {
   type PlanResult,
 } from './core/plan.ts';
 import { Terrain, type DemTile } from './core/terrain.ts';
-import { cellsAtLevel, rowAreasKm2, volumeStats, type VolumeLevelStats } from './core/volumes.ts';
+import { cellsAtLevel, volumeStats, type VolumeLevelStats } from './core/volumes.ts';
 import { renderDiagramSvg } from './io/diagram-svg.ts';
 import { featureCollection, stringifyGeoJson } from './io/geojson.ts';
 import { readDemTile } from './io/geotiff-read.ts';
@@ -37,6 +39,8 @@ import {
   foldImage,
   foldLegend,
   floorLevelImage,
+  floorStep,
+  GAINED_COLOR,
   GAP_COLOR,
   LOSS_COLOR,
   maskImage,
@@ -86,6 +90,8 @@ export interface TileSummary {
   /** Pixel size: arc seconds for lon/lat tiles, metres for projected ones. */
   pixel: { x: number; y: number; unit: 'arcsec' | 'm' };
   crs: string;
+  /** The tile's georeferencing (its CRS included): what the app's new study is built from (io/new-study.ts). */
+  geo: GridGeo;
   voidsFilled: number;
   minM: number;
   maxM: number;
@@ -137,7 +143,7 @@ export interface OutageView {
   demandWeightLost: number;
   areaKm2Lost: number;
   byVolume: LevelLoss[];
-  /** Cells that lose coverage or their volume's requirement, at each level (km²). */
+  /** Volume area losing its requirement at each level (km²; a cell in two volumes counts once). */
   lostKm2ByLevel: number[];
   ms: number;
 }
@@ -156,7 +162,12 @@ export interface PlanRequest {
 
 export interface PlanSummary {
   mode: 'cover' | 'budget';
+  /** What the plan spends anew (the objective): existing sites and sensors already standing count 0. */
   cost: number;
+  /** The same figure under its plain name (plan.json's `newSpend`). */
+  newSpend: number;
+  /** The kept sensors already standing (on existing sites), at their type costs: shown apart, not in `cost`. */
+  existingValue: number;
   lowerBound: number;
   gapPct: number;
   demandMet: boolean;
@@ -165,7 +176,11 @@ export interface PlanSummary {
   method: string;
   /** What stopped the solver short: nothing, its work limit, or the safety time limit (see PlanResult). */
   solverStop: PlanResult['solverStop'];
-  entries: { siteId: string; typeId: string; cost: number }[];
+  /**
+   * The plan's sensors, each with its share of `cost` (its type, 0 when already standing, and its site's cost on
+   * the site's first entry, 0 for an existing site: the entries sum to `cost`, as in plan.json).
+   */
+  entries: { siteId: string; typeId: string; cost: number; existingSensor: boolean }[];
   volumes: VolumeLevelStats[];
   unmeetable: { kind: string; required: number; achievable: number; points: number }[];
   log: string[];
@@ -189,7 +204,10 @@ export interface ProbeResult {
   lon: number;
   lat: number;
   groundM: number | null;
+  /** The exact network floor of the cell under the point (m AMSL; null where no sensor sees it). */
   floorM: number | null;
+  /** The floor map's step it is drawn in: the lowest computed level at or above it ("FL050"), or "above FL460". */
+  floorStep?: string | null;
   fold: Record<FoldKind, number> | null;
 }
 
@@ -211,6 +229,10 @@ interface Current {
   failed: Set<string>;
   /** Per level, the cells lost to the failed sites, once computed (empty arrays until then). */
   lost: Uint8Array[];
+  /** Per (volume|FL), the cells served with every site up and not now: what the failed sites cost (lazy). */
+  lostServed: Map<string, Uint8Array> | null;
+  /** The network floor (m AMSL per cell, NaN where unseen) of the sites up now, once computed. */
+  floor: Float32Array | null;
 }
 
 const FOOTPRINT_CACHE_LIMIT = 600;
@@ -271,11 +293,17 @@ export class Engine {
     files: { name: string; buffer: ArrayBuffer }[],
     replace: boolean,
     scenario?: { input: unknown; display: string },
+    /** Per tile decoded (fraction 0…0.9 of the load), then the mosaic and the study. */
+    progress?: ProgressFn,
   ): Promise<{ terrain: TerrainSummary; study: StudySummary | null }> {
     if (files.length === 0)
       throw new InputError('terrain files', 'no files', 'one or more GeoTIFF DEM tiles');
     const decoded: DemTile[] = [];
-    for (const f of files) decoded.push(await readDemTile(f.buffer, f.name));
+    for (const [i, f] of files.entries()) {
+      progress?.((0.9 * i) / files.length, `decoding tile ${i + 1} of ${files.length} (${f.name})`);
+      decoded.push(await readDemTile(f.buffer, f.name));
+    }
+    progress?.(0.9, scenario ? 'joining the tiles, placing the study' : 'joining the tiles');
     const names = new Set(decoded.map((t) => t.name));
     const tiles = replace ? decoded : [...this.tiles.filter((t) => !names.has(t.name)), ...decoded];
     const terrain = Terrain.fromTiles(tiles, { shared: this.options.shared ?? false });
@@ -552,6 +580,8 @@ export class Engine {
       baseAny,
       failed: new Set(),
       lost: fls.map(() => new Uint8Array(0)),
+      lostServed: null,
+      floor: null,
     };
     const keep = [...(failed ?? [])].filter((id) => network.siteIds().includes(id));
     if (keep.length > 0) this.setFailed(keep);
@@ -578,12 +608,34 @@ export class Engine {
     }
     cur.failed = want;
     cur.lost = cur.flightLevels.map(() => new Uint8Array(0));
+    cur.lostServed = null;
+    cur.floor = null;
     return { failed: [...want], ms: performance.now() - t0 };
   }
 
   /**
-   * The cells of one level that the failed sites cost: coverage lost altogether, or a volume's requirement no
-   * longer met where it was (empty when no site is failed). Computed when first asked for.
+   * Per (volume|FL), the cells whose volume's requirement was met with every site up and is not now: the one
+   * set every outage figure and the loss layer are counted from (through `tally`, as the N−1 table is).
+   */
+  private lostServed(): Map<string, Uint8Array> {
+    const cur = this.needCurrent();
+    if (cur.lostServed) return cur.lostServed;
+    const study = this.needStudy();
+    const now = servedMasks(
+      cur.network,
+      study.loaded.scenario.volumes,
+      study.volumeMasks,
+      cur.flightLevels,
+      study.volumeTargets,
+      study.ground,
+    );
+    cur.lostServed = difference(cur.baseServed, now);
+    return cur.lostServed;
+  }
+
+  /**
+   * The cells of one level where a volume's requirement, met with every site up, is no longer met (empty when no
+   * site is failed): the union over the volumes of `lostServed` at that level. Computed when first asked for.
    */
   private lostAt(f: number): Uint8Array {
     const cur = this.needCurrent();
@@ -593,25 +645,15 @@ export class Engine {
     if (cur.lost[f].length) return cur.lost[f];
     const fl = cur.flightLevels[f];
     const m = new Uint8Array(cells);
-    const any = cur.network.foldOf('any', f);
-    const pri = cur.network.foldOf('primary', f);
-    const sec = cur.network.foldOf('secondary', f);
-    const base = cur.baseAny[f];
-    for (let i = 0; i < cells; i++) if (base[i] > 0 && any[i] === 0) m[i] = 1;
-    study.loaded.scenario.volumes.forEach((v) => {
-      const was = cur.baseServed.get(`${v.id}|${fl}`);
-      if (!was) return;
-      const rAny = Math.max(1, v.requiredFold.any ?? 0);
-      const rPri = v.requiredFold.primary ?? 0;
-      const rSec = v.requiredFold.secondary ?? 0;
-      for (let i = 0; i < cells; i++)
-        if (was[i] && !(any[i] >= rAny && pri[i] >= rPri && sec[i] >= rSec)) m[i] = 1;
-    });
+    for (const [k, d] of this.lostServed()) if (Number(k.split('|')[1]) === fl) orInto(m, d);
     cur.lost[f] = m;
     return m;
   }
 
-  /** What the failed sites cost the network against all sites up: per volume and level, and per level. */
+  /**
+   * What the failed sites cost the network against all sites up: per volume and level, per level and over all
+   * levels, each counted by `tally` from `lostServed` (the N−1 table counts with the same function).
+   */
   outageTally(): OutageView {
     const t0 = performance.now();
     const cur = this.needCurrent();
@@ -627,23 +669,10 @@ export class Engine {
         ms: performance.now() - t0,
       };
     }
-    const now = servedMasks(
-      cur.network,
-      s.volumes,
-      study.volumeMasks,
-      cur.flightLevels,
-      study.volumeTargets,
-      study.ground,
+    const t = tally(this.lostServed(), s.volumes, study.grid);
+    const lostKm2ByLevel = cur.flightLevels.map(
+      (fl) => t.byLevel.find((x) => x.flightLevel === fl)?.areaKm2 ?? 0,
     );
-    const t = tally(difference(cur.baseServed, now), s.volumes, study.grid);
-    const rows = rowAreasKm2(study.grid);
-    const W = study.grid.width;
-    const lostKm2ByLevel = cur.flightLevels.map((_, f) => {
-      const m = this.lostAt(f);
-      let a = 0;
-      for (let i = 0; i < m.length; i++) if (m[i]) a += rows[(i / W) | 0];
-      return a;
-    });
     return {
       failed: [...cur.failed],
       demandWeightLost: t.demandWeight,
@@ -706,6 +735,7 @@ export class Engine {
     const demand = buildDemand(study, fls);
     const siteIndex = new Map(s.sites.map((f, i) => [f.properties.id, i]));
     const budget = req.budget === undefined ? s.budget : (req.budget ?? undefined);
+    const forced = req.keep.map((k) => all.findIndex((r) => r.siteId === k.siteId && r.typeId === k.typeId));
     const inst: PlanInstance = {
       sites: s.sites.map((f) => ({
         id: f.properties.id,
@@ -723,7 +753,9 @@ export class Engine {
         };
       }),
       points: demand.instancePoints,
-      forced: req.keep.map((k) => all.findIndex((r) => r.siteId === k.siteId && r.typeId === k.typeId)),
+      forced,
+      // The kept sensors on sites marked existing stand already: nothing new is spent on them.
+      standing: forced.filter((c) => s.sites[siteIndex.get(all[c].siteId)!].properties.existing),
       excludedSites: [],
       ...(budget !== undefined ? { budget } : {}),
       timeLimitMs: req.timeLimitMs ?? DEFAULT_SAFETY_TIME_LIMIT_MS,
@@ -751,6 +783,8 @@ export class Engine {
     return {
       mode: result.mode,
       cost: result.cost,
+      newSpend: result.cost,
+      existingValue: result.existingValue,
       lowerBound: result.lowerBound,
       gapPct: result.gapPct,
       demandMet: result.demandMet,
@@ -758,7 +792,11 @@ export class Engine {
       totalWeight: result.totalWeight,
       method: result.method,
       solverStop: result.solverStop,
-      entries: chosen.map((r) => ({ ...r, cost: study.models.get(r.typeId)!.spec.cost })),
+      entries: chosen.map((r, j) => ({
+        ...r,
+        cost: result.chosenCost[j],
+        existingSensor: result.chosenStanding[j],
+      })),
       volumes: volumeStats(
         network,
         s.volumes,
@@ -860,7 +898,7 @@ export class Engine {
       const m = new Uint8Array(grid.width * grid.height);
       const maps = this.compared?.[layer];
       if (maps) for (const [k, d] of maps) if (Number(k.split('|')[1]) === fl) orInto(m, d);
-      const color = layer === 'lost' ? LOSS_COLOR : [72, 200, 120];
+      const color = layer === 'lost' ? LOSS_COLOR : GAINED_COLOR;
       return { image: maskImage(grid, m, color), legend: [] };
     }
     const cur = this.needCurrent();
@@ -869,15 +907,19 @@ export class Engine {
       return { image: foldImage(grid, cur.network.foldOf(kind, f)), legend: foldLegend() };
     if (layer === 'loss') return { image: maskImage(grid, this.lostAt(f), LOSS_COLOR), legend: [] };
     if (layer === 'gap') return { image: maskImage(grid, this.gapMask(f), GAP_COLOR), legend: [] };
-    // The network floor in steps of the computed levels (the lowest level each cell is seen at).
-    const floor = cur.network.networkFloor();
+    // The network floor in steps of the computed levels (the lowest level at or above each cell's floor).
     const alts = cur.network.altitudesM;
     const r = floorLevelImage(
       grid,
-      floor,
-      cur.flightLevels.map((fl, i) => ({ label: `FL${String(fl).padStart(3, '0')}`, altitudeM: alts[i] })),
+      this.floorOf(cur),
+      cur.flightLevels.map((fl, i) => ({ label: formatFl(fl), altitudeM: alts[i] })),
     );
     return { image: r.image, legend: r.legend };
+  }
+
+  /** The network floor of the sites up now (kept until the network or its failures change). */
+  private floorOf(cur: Current): Float32Array {
+    return (cur.floor ??= cur.network.networkFloor());
   }
 
   private gapMask(f: number): Uint8Array {
@@ -917,14 +959,17 @@ export class Engine {
     const r = Math.floor((lat - grid.originY) / grid.pixelY);
     if (c < 0 || r < 0 || c >= grid.width || r >= grid.height) return out;
     const i = r * grid.width + c;
-    let floorM = NaN;
-    for (let f = 0; f < cur.flightLevels.length; f++) {
-      if (cur.network.foldOf('any', f)[i] > 0) {
-        floorM = cur.altitudes[f];
-        break;
-      }
-    }
+    // The exact floor of the cell, and the step of the floor map it is drawn in (the same rule: floorStep).
+    const floorM = this.floorOf(cur)[i];
     out.floorM = floorM === floorM ? floorM : null;
+    const alts = cur.network.altitudesM;
+    const k = floorStep(floorM, alts);
+    out.floorStep =
+      k < 0
+        ? null
+        : k < alts.length
+          ? formatFl(cur.flightLevels[k])
+          : `above ${formatFl(cur.flightLevels.at(-1)!)}`;
     out.fold = Object.fromEntries(
       KINDS.map((k) => [k, cur.flightLevels.length ? cur.network.foldOf(k, this.probeLevel(cur))[i] : 0]),
     ) as Record<FoldKind, number>;
@@ -1001,7 +1046,14 @@ export class Engine {
   }
 
   /** A vertical coverage diagram (SVG text) along one azimuth from a site, for one sensor type. */
-  diagram(siteId: string, typeId: string, azimuthDeg: number, units: 'metric' | 'aviation'): string {
+  diagram(
+    siteId: string,
+    typeId: string,
+    azimuthDeg: number,
+    units: 'metric' | 'aviation',
+    /** CSS pixels (default 960 × 560, as saved): the app draws it at the width it is shown at. */
+    size?: { width: number; height: number },
+  ): string {
     const study = this.needStudy();
     const c = this.candidateOf({ siteId, typeId }, 'diagram');
     const s = study.loaded.scenario;
@@ -1019,7 +1071,7 @@ export class Engine {
       },
     );
     const title = `${c.site.name} — ${c.model.spec.name} — azimuth ${data.azimuthDeg.toFixed(1)}°`;
-    return renderDiagramSvg(data, { title, units });
+    return renderDiagramSvg(data, { title, units, ...size });
   }
 }
 
@@ -1098,6 +1150,7 @@ function summariseTerrain(terrain: Terrain, tiles: DemTile[], shared: boolean): 
           unit: geographic ? 'arcsec' : 'm',
         },
         crs: geographic ? 'lon/lat (WGS 84)' : 'projected',
+        geo: t.geo,
         voidsFilled: t.voidsFilled,
         minM,
         maxM,

@@ -4,7 +4,13 @@
  * span), with perceptual colour ramps (viridis, cividis, inferno from d3-scale-chromatic). Pure: typed arrays in,
  * typed arrays out; the worker entry turns them into PNG.
  */
-import { interpolateCividis, interpolateInferno, interpolateViridis } from 'd3-scale-chromatic';
+import {
+  interpolateCividis,
+  interpolateInferno,
+  interpolatePlasma,
+  interpolateViridis,
+  schemeSet1,
+} from 'd3-scale-chromatic';
 import type { GridGeo } from './core/grid.ts';
 import type { Terrain } from './core/terrain.ts';
 
@@ -75,11 +81,26 @@ const CIVIDIS = rampTable(interpolateCividis);
 
 /** Colours of the fold layer: fold 1, 2, 3, ≥ 4 (viridis steps, light = more sites). */
 export const FOLD_COLORS = [0.25, 0.5, 0.72, 0.95].map((t) => rgbOf(interpolateViridis(t)));
-/** Gaps inside a volume (requirement not met) and what an outage loses (inferno, apart from the viridis set). */
+/** Gaps inside a volume (requirement not met): inferno's crimson, apart from the viridis set. */
 export const GAP_COLOR = rgbOf(interpolateInferno(0.42));
-export const LOSS_COLOR = rgbOf(interpolateInferno(0.82));
+/**
+ * What an outage loses, and what layout B loses against A: Set1's red. (Inferno's orange, used before, came within
+ * CIELAB ΔE 9 of the ≥ 4 yellow under simulated deuteranopia.)
+ */
+export const LOSS_COLOR = rgbOf(schemeSet1[0]);
+/**
+ * What layout B gains against A: plasma's deep violet. (A green used before sat within ΔE 5 of the fold-3 green.)
+ * test/render.test.ts holds every pair of these and the fold colours at least 25 apart in CIELAB ΔE*ab, and 15
+ * apart under simulated deuteranopia and protanopia.
+ */
+export const GAINED_COLOR = rgbOf(interpolatePlasma(0.15));
 
 const hex = (c: readonly number[]) => '#' + c.map((v) => v.toString(16).padStart(2, '0')).join('');
+
+/** A colour of this module as CSS hex, for the app's legend (one source for the map and its legend). */
+export function cssColor(c: readonly number[]): string {
+  return hex(c);
+}
 
 export function foldLegend(): LegendStop[] {
   return FOLD_COLORS.map((c, i) => ({ value: i + 1, color: hex(c), label: i === 3 ? '≥ 4' : String(i + 1) }));
@@ -161,6 +182,19 @@ export const ABOVE_LEVELS_COLOR = '#b9b9b9';
  * ones (a linear ramp from 0 to FL460 spent most of it above FL200). A floor above every level is grey; NaN (not
  * seen at all) is transparent. `levels` in increasing altitude.
  */
+/**
+ * The step of the floor map a floor falls in: the index of the first level whose altitude is at or above it
+ * (`altitudesM` increasing), `altitudesM.length` when the floor lies above every level, −1 for NaN (not seen).
+ * floorLevelImage paints with it and the cursor read-out names it, so the two agree.
+ */
+export function floorStep(floorM: number, altitudesM: ArrayLike<number>): number {
+  if (!(floorM === floorM)) return -1;
+  const n = altitudesM.length;
+  let k = 0;
+  while (k < n && altitudesM[k] < floorM) k++;
+  return k;
+}
+
 export function floorLevelImage(
   grid: GridGeo,
   floor: Float32Array,
@@ -171,10 +205,8 @@ export function floorLevelImage(
   const above = rgbOf(ABOVE_LEVELS_COLOR);
   const alts = Float64Array.from(levels, (l) => l.altitudeM);
   const image = paintGrid(grid, (cell, rgba, o) => {
-    const v = floor[cell];
-    if (!(v === v)) return;
-    let k = 0;
-    while (k < n && alts[k] < v) k++;
+    const k = floorStep(floor[cell], alts);
+    if (k < 0) return;
     const c = k < n ? rgb[k] : above;
     rgba[o] = c[0];
     rgba[o + 1] = c[1];

@@ -69,33 +69,77 @@ export function difference(
   return out;
 }
 
-/** Weight and area of a set of lost (or gained) cells per (volume, level), and the area of their union. */
+/**
+ * Weight and area of a set of lost (or gained) cells per (volume, level), the area of their union over every
+ * volume and level, and per level (increasing) the area of the union over the volumes (a cell in two volumes
+ * counts once at that level).
+ * The one count behind every outage figure: the app's outage panel, its per-level table and its map layer, and the
+ * N−1 table (`outageTable`) and the CLI's outage.json. `cells`, when given, lists the only cells that can be set
+ * (a failed site's own cells), so the loops skip the rest of the grid.
+ */
 export function tally(
   diff: Map<string, Uint8Array>,
   volumes: readonly VolumeLike[],
   grid: GridGeo,
-): { byVolume: LevelLoss[]; demandWeight: number; unionAreaKm2: number } {
+  cells?: Int32Array,
+): {
+  byVolume: LevelLoss[];
+  demandWeight: number;
+  unionAreaKm2: number;
+  byLevel: { flightLevel: number; areaKm2: number }[];
+} {
   const rowArea = rowAreasKm2(grid);
   const W = grid.width;
-  const union = new Uint8Array(grid.width * grid.height);
-  const byVolume: LevelLoss[] = [];
-  let demandWeight = 0;
-  for (const [key, m] of diff) {
+  const n = grid.width * grid.height;
+  const count = cells ? cells.length : n;
+  const union = new Uint8Array(n);
+  // Cells already counted at the level at hand (cleared between levels).
+  const mark = new Uint8Array(n);
+  const entries = [...diff].map(([key, m], order) => {
     const [volumeId, flText] = key.split('|');
-    const v = volumes.find((x) => x.id === volumeId)!;
-    let area = 0;
-    for (let i = 0; i < m.length; i++) {
-      if (!m[i]) continue;
-      area += rowArea[(i / W) | 0];
-      union[i] = 1;
+    return { order, volumeId, fl: Number(flText), m };
+  });
+  const levels = [...new Set(entries.map((e) => e.fl))].sort((x, y) => x - y);
+  const byVolume: LevelLoss[] = new Array<LevelLoss>(entries.length);
+  const byLevel: { flightLevel: number; areaKm2: number }[] = [];
+  let demandWeight = 0;
+  for (const fl of levels) {
+    let levelArea = 0;
+    for (const e of entries) {
+      if (e.fl !== fl) continue;
+      const m = e.m;
+      let area = 0;
+      for (let k = 0; k < count; k++) {
+        const i = cells ? cells[k] : k;
+        if (!m[i]) continue;
+        const a = rowArea[(i / W) | 0];
+        area += a;
+        union[i] = 1;
+        if (!mark[i]) {
+          mark[i] = 1;
+          levelArea += a;
+        }
+      }
+      const v = volumes.find((x) => x.id === e.volumeId)!;
+      const weight = area * (v.weight ?? 1);
+      demandWeight += weight;
+      byVolume[e.order] = {
+        volumeId: e.volumeId,
+        flightLevel: fl,
+        areaKm2Lost: area,
+        demandWeightLost: weight,
+      };
     }
-    const weight = area * (v.weight ?? 1);
-    demandWeight += weight;
-    byVolume.push({ volumeId, flightLevel: Number(flText), areaKm2Lost: area, demandWeightLost: weight });
+    byLevel.push({ flightLevel: fl, areaKm2: levelArea });
+    if (cells) for (let k = 0; k < count; k++) mark[cells[k]] = 0;
+    else mark.fill(0);
   }
   let unionAreaKm2 = 0;
-  for (let i = 0; i < union.length; i++) if (union[i]) unionAreaKm2 += rowArea[(i / W) | 0];
-  return { byVolume, demandWeight, unionAreaKm2 };
+  for (let k = 0; k < count; k++) {
+    const i = cells ? cells[k] : k;
+    if (union[i]) unionAreaKm2 += rowArea[(i / W) | 0];
+  }
+  return { byVolume, demandWeight, unionAreaKm2, byLevel };
 }
 
 /**
@@ -115,8 +159,6 @@ export function outageTable(
   ground?: Float32Array,
 ): SiteLoss[] {
   const base = servedMasks(network, volumes, masks, flightLevels, volumeTargets, ground);
-  const rowArea = rowAreasKm2(grid);
-  const W = grid.width;
   const ids = siteIds ?? network.siteIds().filter((id) => network.isSiteActive(id));
   const keys = [...base.keys()].map((k) => {
     const [volumeId, fl] = k.split('|');
@@ -124,14 +166,11 @@ export function outageTable(
     return { key: k, v: volumes[vi], vi, fl: Number(fl), f: flightLevels.indexOf(Number(fl)) };
   });
   const out: SiteLoss[] = [];
-  const unionMark = new Uint8Array(grid.width * grid.height);
   for (const id of ids) {
     // Only the cells this site covers can lose service when it goes down.
     const cells = network.siteCells(id);
     network.setSite(id, false);
     const lostMaps = new Map<string, Uint8Array>();
-    const byVolume: LevelLoss[] = [];
-    let weight = 0;
     for (const k of keys) {
       const t = volumeTargets?.[k.vi] ?? 0;
       const any = network.foldOf('any', k.f, t);
@@ -143,31 +182,28 @@ export function outageTable(
       const rPri = k.v.requiredFold.primary ?? 0;
       const rSec = k.v.requiredFold.secondary ?? 0;
       let lost: Uint8Array | null = null;
-      let area = 0;
       for (let n = 0; n < cells.length; n++) {
         const i = cells[n];
         if (!was[i] || (any[i] >= rAny && pri[i] >= rPri && sec[i] >= rSec)) continue;
         lost ??= new Uint8Array(was.length);
         lost[i] = 1;
-        unionMark[i] = 1;
-        area += rowArea[(i / W) | 0];
       }
-      const w = area * (k.v.weight ?? 1);
-      weight += w;
-      byVolume.push({ volumeId: k.v.id, flightLevel: k.fl, areaKm2Lost: area, demandWeightLost: w });
       if (lost) lostMaps.set(k.key, lost);
     }
     network.setSite(id, true);
-    let union = 0;
-    for (let n = 0; n < cells.length; n++) {
-      const i = cells[n];
-      if (unionMark[i]) {
-        union += rowArea[(i / W) | 0];
-        unionMark[i] = 0;
-      }
-    }
+    // The same count as the app's outage panel (tally), over this site's cells only.
+    const t = tally(lostMaps, volumes, grid, cells);
+    const byVolume = keys.map(
+      (k): LevelLoss =>
+        t.byVolume.find((x) => x.volumeId === k.v.id && x.flightLevel === k.fl) ?? {
+          volumeId: k.v.id,
+          flightLevel: k.fl,
+          areaKm2Lost: 0,
+          demandWeightLost: 0,
+        },
+    );
     onLoss?.(id, lostMaps);
-    out.push({ siteId: id, demandWeightLost: weight, areaKm2Lost: union, byVolume });
+    out.push({ siteId: id, demandWeightLost: t.demandWeight, areaKm2Lost: t.unionAreaKm2, byVolume });
   }
   return out.sort((a, b) => b.demandWeightLost - a.demandWeightLost || (a.siteId < b.siteId ? -1 : 1));
 }

@@ -163,7 +163,19 @@ export function renderDiagramSvg(data: DiagramData, opts: DiagramSvgOptions): st
     ...wrap(note, captionChars).map((t) => ({ t, bold: false })),
     ...wrap(caution, captionChars).map((t) => ({ t, bold: true })),
   ];
-  const top = 64;
+  // Heading: the title and a line of facts, each wrapped to the width (a narrow chart, as the app's side panel
+  // shows, would otherwise cut them off at its right edge).
+  const antennaText = aviation
+    ? `${fmtNumber(data.antennaAltM / FT_M, 0)} ft AMSL (mast ${fmtNumber(data.mastM / FT_M, 0)} ft)`
+    : `${fmtNumber(data.antennaAltM, 0)} m AMSL (mast ${fmtNumber(data.mastM, 0)} m)`;
+  const sub =
+    `Azimuth ${data.azimuthDeg.toFixed(1).padStart(5, '0')}° · antenna ${antennaText} · ` +
+    `sensor ${data.sensor.id} (${data.sensor.kind})${data.sensor.weather ? ' in rain' : ''} · ` +
+    `tilt ${fmtNumber(data.sensor.tiltDeg)}° · ` +
+    `site ${fmtLonLat(data.lon, data.lat)}`;
+  const titleLines = wrap(opts.title, Math.max(20, Math.floor((width - left - 10) / (17 * 0.56))));
+  const subLines = wrap(sub, Math.max(30, Math.floor((width - left - 10) / (12 * 0.52))));
+  const top = 64 + 20 * (titleLines.length - 1) + 15 * (subLines.length - 1);
   const captionH = captionLines.length * 14 + 12;
   const bottom = height - (46 + legendRowCount * 20 + captionH);
   if (bottom - top < 60) {
@@ -208,6 +220,7 @@ export function renderDiagramSvg(data: DiagramData, opts: DiagramSvgOptions): st
 
   // --- Document head. ---
   const title = escapeXml(opts.title);
+  const subTop = 46 + 20 * (titleLines.length - 1);
   out.push(
     `<svg xmlns="http://www.w3.org/2000/svg" width="${width}" height="${height}" viewBox="0 0 ${width} ${height}" ` +
       `role="img" aria-labelledby="airshade-title-${uid}" aria-describedby="airshade-desc-${uid}" ` +
@@ -225,17 +238,15 @@ export function renderDiagramSvg(data: DiagramData, opts: DiagramSvgOptions): st
       `<line x1="0" y1="0" x2="0" y2="6" stroke="${PALETTE.unknown}" stroke-width="1.2"/></pattern>`,
     '</defs>',
     `<rect width="${width}" height="${height}" fill="#ffffff"/>`,
-    `<text x="${left}" y="26" font-size="17" font-weight="600" fill="${PALETTE.text}">${title}</text>`,
+    ...titleLines.map(
+      (t, i) =>
+        `<text x="${left}" y="${26 + 20 * i}" font-size="17" font-weight="600" fill="${PALETTE.text}">${escapeXml(t)}</text>`,
+    ),
   );
-  const antennaText = aviation
-    ? `${fmtNumber(data.antennaAltM / FT_M, 0)} ft AMSL (mast ${fmtNumber(data.mastM / FT_M, 0)} ft)`
-    : `${fmtNumber(data.antennaAltM, 0)} m AMSL (mast ${fmtNumber(data.mastM, 0)} m)`;
-  const sub =
-    `Azimuth ${data.azimuthDeg.toFixed(1).padStart(5, '0')}° · antenna ${antennaText} · ` +
-    `sensor ${data.sensor.id} (${data.sensor.kind})${data.sensor.weather ? ' in rain' : ''} · ` +
-    `tilt ${fmtNumber(data.sensor.tiltDeg)}° · ` +
-    `site ${fmtLonLat(data.lon, data.lat)}`;
-  out.push(`<text x="${left}" y="46" font-size="12" fill="${PALETTE.muted}">${escapeXml(sub)}</text>`);
+  for (const [i, t] of subLines.entries())
+    out.push(
+      `<text x="${left}" y="${subTop + 15 * i}" font-size="12" fill="${PALETTE.muted}">${escapeXml(t)}</text>`,
+    );
 
   // --- Grid and axes. ---
   const yTicks = yDisp.ticks(8);
