@@ -10,7 +10,6 @@ import { CAUTION, CAUTION_SHORT } from '../shared/caution.ts';
 import { formatFl } from '../shared/units.ts';
 import type { SiteLoss } from '../worker/core/outage.ts';
 import type {
-  CompareSummary,
   CoverageSummary,
   OutageView,
   PlanSummary,
@@ -22,7 +21,8 @@ import { clear, download, h } from './dom.ts';
 import { progressProxy, startEngine, type Engine } from './engine-client.ts';
 import { fetchScenario } from './files.ts';
 import { MapView, type ImageLayerId } from './map-view.ts';
-import { renderPanel, PANELS, type PanelId } from './panels.ts';
+import type { ComparedLayouts, MapMode, PanelHost, PanelId } from './panel-host.ts';
+import { renderPanel, PANELS } from './panels/index.ts';
 import {
   addSite,
   errorLines,
@@ -49,7 +49,8 @@ export interface Metrics {
   shellMs?: number;
 }
 
-export class App {
+/** The app; the panels see it only as a PanelHost (app/panel-host.ts). */
+export class App implements PanelHost {
   state!: WorkState;
   engine!: Engine;
   map!: MapView;
@@ -59,12 +60,12 @@ export class App {
   outage: OutageView | null = null;
   plan: PlanSummary | null = null;
   nMinus1: SiteLoss[] | null = null;
-  compare: (CompareSummary & { names: [string, string] }) | null = null;
+  compare: ComparedLayouts | null = null;
   poolSize = 0;
   shared = false;
   panel: PanelId = 'coverage';
   /** Map click mode: add a site, draw a volume vertex, pick an azimuth, or nothing. */
-  mode: 'none' | 'add-site' | 'draw' | 'azimuth' = 'none';
+  mode: MapMode = 'none';
   draft: [number, number][] = [];
   diagramPick: { siteId: string; typeId: string } | null = null;
   diagramSvg: string | null = null;
@@ -264,7 +265,7 @@ export class App {
       .join(', ')}.`;
   }
 
-  setMode(mode: App['mode']): void {
+  setMode(mode: MapMode): void {
     this.mode = mode;
     this.el.map.dataset.mode = mode;
     if (mode !== 'draw') {
@@ -315,7 +316,15 @@ export class App {
         const r = await this.engine.restoreTiles(names, { input: state.doc, display: state.source });
         this.adoptLoaded(state, r.terrain, r.study!);
         await this.afterTerrain();
-        this.say('info', `Restored your work from the last visit (${state.doc.name}).`);
+        const hadCoverage = (saved as { results?: { coverage?: boolean } }).results?.coverage === true;
+        if (hadCoverage && state.network.length > 0) {
+          // The results are not stored (a few MB of footprints per sensor): they are computed again, with progress.
+          this.say(
+            'info',
+            `Restored your work from the last visit (${state.doc.name}); its coverage is being computed again (progress below).`,
+          );
+          void this.restoreResults(state.doc.name);
+        } else this.say('info', `Restored your work from the last visit (${state.doc.name}).`);
         return;
       } catch (e) {
         // What was saved stays within reach: the demo replaces it in the browser, not in the user's hands.
@@ -338,6 +347,22 @@ export class App {
       }
     }
     await this.loadDemo();
+  }
+
+  /** True while restoreResults runs: a save meanwhile still records that coverage is wanted. */
+  private restoringResults = false;
+
+  /** After a reload: the coverage that existed before it, run again; the message says so when it is back. */
+  private async restoreResults(name: string): Promise<void> {
+    const note = this.el.message.firstElementChild;
+    this.restoringResults = true;
+    try {
+      await this.runCoverage();
+    } finally {
+      this.restoringResults = false;
+    }
+    if (this.coverage && this.el.message.firstElementChild === note)
+      this.say('info', `Restored your work from the last visit (${name}) and its coverage, computed again.`);
   }
 
   async loadDemo(): Promise<void> {
@@ -403,7 +428,9 @@ export class App {
         try {
           const tiles = await this.engine.tileNames();
           const tileProblem = await this.engine.tilesKept();
-          await idbSet(SAVE_KEY, { state: this.state, tiles, savedAt: new Date().toISOString() });
+          // Whether coverage had been computed: a reload runs it again (restoreResults).
+          const results = { coverage: this.coverage !== null || this.restoringResults };
+          await idbSet(SAVE_KEY, { state: this.state, tiles, results, savedAt: new Date().toISOString() });
           if (tileProblem && tileProblem !== this.tileProblemShown) {
             this.tileProblemShown = tileProblem;
             this.say('error', [
@@ -586,6 +613,7 @@ export class App {
       await this.refreshImages();
       this.metrics.coverageMs.push(performance.now() - t0);
       this.el.root.dataset.coverage = String(this.metrics.coverageMs.length);
+      this.save(); // a reload now computes it again
     });
   }
 

@@ -12,9 +12,15 @@ import { zipSync, strToU8 } from 'fflate';
 import { CAUTION } from '../shared/caution.ts';
 import { formatFl } from '../shared/units.ts';
 import type { FileDigest, Provenance } from '../worker/io/provenance.ts';
-import type { App } from './app.ts';
+import type { PanelHost } from './panel-host.ts';
 import { appProvenance, geoJsonWithProvenance, sha256Hex } from './provenance.ts';
 import { scenarioFileText } from './state.ts';
+
+/** What the exports read of the host: the study, its results and the engine that holds the layers. */
+export type ExportHost = Pick<
+  PanelHost,
+  'state' | 'engine' | 'study' | 'coverage' | 'outage' | 'plan' | 'nMinus1' | 'compare'
+>;
 
 /** A file-name stem from a study's name: lower case, words joined by "-", at most 40 characters. */
 export function slug(s: string): string {
@@ -28,79 +34,82 @@ export function slug(s: string): string {
 }
 
 /** The scenario file's name when saved. */
-export const scenarioFileName = (app: App) => `${slug(app.state.doc.name)}.scenario.json`;
+export const scenarioFileName = (host: ExportHost) => `${slug(host.state.doc.name)}.scenario.json`;
 
 /** The terrain tiles with the SHA-256 of the bytes the engine read. */
-async function terrainDigests(app: App): Promise<FileDigest[]> {
-  return app.engine.tileDigests();
+async function terrainDigests(host: ExportHost): Promise<FileDigest[]> {
+  return host.engine.tileDigests();
 }
 
 /**
  * The scenario file as the app saves it: the working document, with a provenance that has no date and no digest
  * of itself (the same work saves to the same bytes).
  */
-export async function savedScenarioText(app: App): Promise<string> {
+export async function savedScenarioText(host: ExportHost): Promise<string> {
   const p = appProvenance({
     command: 'app scenario',
-    terrain: await terrainDigests(app),
-    conventions: app.study?.conventions ?? null,
-    kFactor: app.state.doc.earth.kFactor,
+    terrain: await terrainDigests(host),
+    conventions: host.study?.conventions ?? null,
+    kFactor: host.state.doc.earth.kFactor,
   });
-  return scenarioFileText(app.state, p);
+  return scenarioFileText(host.state, p);
 }
 
 /** The provenance of an export: the saved scenario's digest, the terrain's, the conventions, the date. */
 export async function exportProvenance(
-  app: App,
+  host: ExportHost,
   command: string,
   options: Provenance['options'] = {},
-  conventions = app.coverage?.conventions ?? app.study?.conventions ?? null,
+  conventions = host.coverage?.conventions ?? host.study?.conventions ?? null,
 ): Promise<Provenance> {
-  const text = await savedScenarioText(app);
+  const text = await savedScenarioText(host);
   return appProvenance({
     command,
     options,
-    scenario: { file: scenarioFileName(app), sha256: await sha256Hex(text) },
-    terrain: await terrainDigests(app),
+    scenario: { file: scenarioFileName(host), sha256: await sha256Hex(text) },
+    terrain: await terrainDigests(host),
     conventions,
-    kFactor: app.state.doc.earth.kFactor,
+    kFactor: host.state.doc.earth.kFactor,
     createdUtc: new Date().toISOString(),
   });
 }
 
 /** The summary document: what the app computed, its conventions, the caution and the provenance. */
-export async function summaryText(app: App): Promise<string> {
-  const s = app.state;
+export async function summaryText(host: ExportHost): Promise<string> {
+  const s = host.state;
   const doc = {
     scenario: s.doc.name,
     caution: CAUTION,
     // What the figures mean, as the CLI's summary.json states it: the run's, else the scenario's as it stands.
-    conventions: app.coverage?.conventions ?? app.study?.conventions ?? null,
-    warnings: app.coverage?.warnings ?? app.study?.warnings ?? [],
+    conventions: host.coverage?.conventions ?? host.study?.conventions ?? null,
+    warnings: host.coverage?.warnings ?? host.study?.warnings ?? [],
     network: s.network,
-    coverage: app.coverage,
-    outage: app.outage,
-    plan: app.plan
+    coverage: host.coverage,
+    outage: host.outage,
+    plan: host.plan
       ? {
-          cost: app.plan.cost,
-          lowerBound: app.plan.lowerBound,
-          gapPct: app.plan.gapPct,
-          entries: app.plan.entries,
-          volumes: app.plan.volumes,
-          method: app.plan.method,
-          solverStop: app.plan.solverStop,
+          cost: host.plan.cost,
+          // plan.json's names: what the plan spends anew (= cost), and the kept sensors already standing apart
+          newSpend: host.plan.newSpend,
+          existingValue: host.plan.existingValue,
+          lowerBound: host.plan.lowerBound,
+          gapPct: host.plan.gapPct,
+          entries: host.plan.entries,
+          volumes: host.plan.volumes,
+          method: host.plan.method,
+          solverStop: host.plan.solverStop,
         }
       : null,
-    nMinus1: app.nMinus1,
-    compare: app.compare,
-    provenance: await exportProvenance(app, 'app summary', networkOptions(app)),
+    nMinus1: host.nMinus1,
+    compare: host.compare,
+    provenance: await exportProvenance(host, 'app summary', networkOptions(host)),
   };
   return JSON.stringify(doc, null, 2) + '\n';
 }
 
 /** The network a layer export shows, and the failed sites, as the provenance's options. */
-function networkOptions(app: App): Provenance['options'] {
-  const s = app.state;
+function networkOptions(host: ExportHost): Provenance['options'] {
+  const s = host.state;
   return {
     network: s.network.map((r) => `${r.siteId}:${r.typeId}`),
     ...(s.failed.length ? { failed: [...s.failed] } : {}),
@@ -108,18 +117,18 @@ function networkOptions(app: App): Provenance['options'] {
 }
 
 /** One level's coverage layers (as `airshade coverage` writes them), with their provenance. */
-export async function levelLayersText(app: App, fl: number, p?: Provenance): Promise<string> {
-  const text = await app.engine.levelGeoJson(fl);
-  return geoJsonWithProvenance(text, p ?? (await exportProvenance(app, 'app layers', networkOptions(app))));
+export async function levelLayersText(host: ExportHost, fl: number, p?: Provenance): Promise<string> {
+  const text = await host.engine.levelGeoJson(fl);
+  return geoJsonWithProvenance(text, p ?? (await exportProvenance(host, 'app layers', networkOptions(host))));
 }
 
 /** The comparison layers of one level, with their provenance. */
-export async function compareLayersText(app: App, fl: number): Promise<string> {
-  const names = app.compare?.names ?? ['', ''];
-  const text = await app.engine.compareGeoJson(fl);
+export async function compareLayersText(host: ExportHost, fl: number): Promise<string> {
+  const names = host.compare?.names ?? ['', ''];
+  const text = await host.engine.compareGeoJson(fl);
   return geoJsonWithProvenance(
     text,
-    await exportProvenance(app, 'app compare', { a: names[0], b: names[1] }),
+    await exportProvenance(host, 'app compare', { a: names[0], b: names[1] }),
   );
 }
 
@@ -130,18 +139,18 @@ export const layerFileName = (fl: number) => `coverage-${formatFl(fl)}.geojson`;
  * the same provenance. `progress` is told after each level.
  */
 export async function allLevelsZip(
-  app: App,
+  host: ExportHost,
   progress: (done: number, total: number) => void = () => {},
 ): Promise<{ name: string; bytes: Uint8Array; files: string[] }> {
-  const levels = app.coverage?.flightLevels ?? [];
-  const p = await exportProvenance(app, 'app layers', networkOptions(app));
+  const levels = host.coverage?.flightLevels ?? [];
+  const p = await exportProvenance(host, 'app layers', networkOptions(host));
   const entries: Record<string, Uint8Array> = {};
   for (let i = 0; i < levels.length; i++) {
-    entries[layerFileName(levels[i])] = strToU8(await levelLayersText(app, levels[i], p));
+    entries[layerFileName(levels[i])] = strToU8(await levelLayersText(host, levels[i], p));
     progress(i + 1, levels.length);
   }
-  entries['summary.json'] = strToU8(await summaryText(app));
-  entries[scenarioFileName(app)] = strToU8(await savedScenarioText(app));
+  entries['summary.json'] = strToU8(await summaryText(host));
+  entries[scenarioFileName(host)] = strToU8(await savedScenarioText(host));
   const bytes = zipSync(entries, { level: 6 });
-  return { name: `${slug(app.state.doc.name)}-layers.zip`, bytes, files: Object.keys(entries) };
+  return { name: `${slug(host.state.doc.name)}-layers.zip`, bytes, files: Object.keys(entries) };
 }

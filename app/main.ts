@@ -5,11 +5,18 @@
 import './style.css';
 import { App } from './app.ts';
 import { isTiff } from './files.ts';
-import { loadScenarioFiles, loadTerrainFiles } from './panels.ts';
+import { loadScenarioFiles } from './panels/files.ts';
+import { loadTerrainFiles } from './panels/ground.ts';
+import { makeReport, reportSection, type Paper } from './report.ts';
 
 const root = document.getElementById('app')!;
 const app = new App();
 (window as unknown as { airshade: App }).airshade = app;
+// The report's block and maker, for the end-to-end tests until the Files panel shows the block (app/report.ts).
+(window as unknown as { airshadeReport: unknown }).airshadeReport = {
+  make: (paper?: Paper) => makeReport(app, paper),
+  section: () => reportSection(app),
+};
 
 document.addEventListener('dragover', (e) => e.preventDefault());
 document.addEventListener('drop', (e) => {

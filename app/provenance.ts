@@ -25,7 +25,7 @@ export async function sha256Hex(data: string | ArrayBuffer | Uint8Array): Promis
 }
 
 export interface AppProvenanceInput {
-  /** What the app made: `app layers`, `app summary`, `app scenario`, `app compare`. */
+  /** What the app made: `app layers`, `app summary`, `app scenario`, `app compare`, `app diagram`. */
   command: string;
   options?: CommandOptions;
   /** The scenario file as the app saves it, and its digest (absent for the scenario file itself). */

@@ -6,15 +6,18 @@
  */
 import { fileLocator, type Locator, type Scenario } from '../shared/scenario.ts';
 import { checkAgainstTerrain } from '../worker/io/scenario-text.ts';
-import type { App } from './app.ts';
 import { ask } from './ask.ts';
 import { readSitesFile } from './files.ts';
+import type { PanelHost } from './panel-host.ts';
 import { errorLines, offerText, plural, replaceSites, sitesOffer, type WorkState } from './state.ts';
 
+/** What replacing the sites needs of the host. */
+export type SitesImportHost = Pick<PanelHost, 'state' | 'terrain' | 'say' | 'commit'>;
+
 /** Reads a sites file and replaces the sites, asking about layouts when it must. */
-export async function replaceSitesFromFile(app: App, file: File): Promise<void> {
+export async function replaceSitesFromFile(host: SitesImportHost, file: File): Promise<void> {
   const refused = (e: unknown) =>
-    app.say('error', ['The sites were not replaced; your work is unchanged.', ...errorLines(e)]);
+    host.say('error', ['The sites were not replaced; your work is unchanged.', ...errorLines(e)]);
   let value: unknown;
   let locate: Locator;
   let kept: WorkState;
@@ -22,11 +25,11 @@ export async function replaceSitesFromFile(app: App, file: File): Promise<void> 
     const given = await readSitesFile(file);
     value = given.value;
     locate = given.locate ?? fileLocator(given.display);
-    kept = replaceSites(app.state, value, { layouts: 'keep', locate });
-    if (app.terrain) {
+    kept = replaceSites(host.state, value, { layouts: 'keep', locate });
+    if (host.terrain) {
       const own = fileLocator('the working scenario');
       const s = { ...kept.doc, sites: kept.doc.sites.features } as unknown as Scenario;
-      checkAgainstTerrain(s, app.terrain.bounds, file.name, (p) =>
+      checkAgainstTerrain(s, host.terrain.bounds, file.name, (p) =>
         p[0] === 'sites' ? locate(p.slice(1)) : own(p),
       );
     }
@@ -34,7 +37,7 @@ export async function replaceSitesFromFile(app: App, file: File): Promise<void> 
     refused(e);
     return;
   }
-  const offer = sitesOffer(app.state, value);
+  const offer = sitesOffer(host.state, value);
   let next = kept;
   if (offer.affected.length > 0) {
     const choice = await ask(
@@ -56,21 +59,21 @@ export async function replaceSitesFromFile(app: App, file: File): Promise<void> 
       { id: 'sites-layouts-question' },
     );
     if (choice === null) {
-      app.say('info', 'The sites were not replaced; your work is unchanged.');
+      host.say('info', 'The sites were not replaced; your work is unchanged.');
       return;
     }
     if (choice === 'drop') {
       try {
-        next = replaceSites(app.state, value, { layouts: 'drop', locate: locate! });
+        next = replaceSites(host.state, value, { layouts: 'drop', locate: locate! });
       } catch (e) {
         refused(e);
         return;
       }
     }
   }
-  if (await app.commit(next)) {
+  if (await host.commit(next)) {
     const layoutsLeft = next.doc.layouts.length;
-    app.say(
+    host.say(
       'info',
       `Sites: ${next.doc.sites.features.length} read from ${file.name}; ${plural(layoutsLeft, 'saved layout')}; ${plural(next.network.length, 'sensor')} in the network.`,
     );

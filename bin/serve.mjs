@@ -6,10 +6,11 @@
 //   node bin/serve.mjs [--port N] [--data DIR] [--host H]
 //
 // Routes: /data/... → files under the data folder; everything else → files under the app folder; a folder
-// (and so `/`) → its index.html. A path that resolves outside its folder is 404. Only GET and HEAD. A single
+// (and so `/`) → its index.html. A path that resolves outside its folder is 404, and so is a file whose real path
+// (links followed) leaves the folder's real path: a symbolic link inside does not lead out. Only GET and HEAD. A single
 // byte range (`Range: bytes=a-b`) is answered with 206, so readers that fetch parts of a GeoTIFF work too.
 import { createReadStream, realpathSync } from 'node:fs';
-import { stat } from 'node:fs/promises';
+import { realpath, stat } from 'node:fs/promises';
 import { createServer } from 'node:http';
 import { extname, isAbsolute, join, relative, resolve, sep } from 'node:path';
 import { fileURLToPath } from 'node:url';
@@ -126,20 +127,33 @@ function sendStatus(res, status, text, extra = {}) {
   res.end(res.req.method === 'HEAD' ? undefined : body);
 }
 
-async function findFile(file) {
+/** Whether `file` lies inside `base` (both absolute). */
+function isInside(base, file) {
+  const rel = relative(base, file);
+  return rel !== '..' && !rel.startsWith('..' + sep) && !isAbsolute(rel);
+}
+
+/**
+ * The file to send for `file` (a folder's index.html), by its real path, or null. With `realBase` (the real path of
+ * the route's folder), a file whose real path leaves it is null: links inside the folder never lead out.
+ */
+async function findFile(file, realBase) {
   try {
     let st = await stat(file);
     if (st.isDirectory()) {
       file = join(file, 'index.html');
       st = await stat(file);
     }
-    return st.isFile() ? { file, st } : null;
+    if (!st.isFile()) return null;
+    const real = await realpath(file);
+    if (realBase !== undefined && !isInside(realBase, real)) return null;
+    return { file, real, st };
   } catch {
     return null;
   }
 }
 
-async function handle(req, res, root, dataDir) {
+async function handle(req, res, root, dataDir, realRoot, realData) {
   if (req.method !== 'GET' && req.method !== 'HEAD') {
     sendStatus(res, 405, 'Method Not Allowed', { Allow: 'GET, HEAD' });
     return;
@@ -149,10 +163,11 @@ async function handle(req, res, root, dataDir) {
     sendStatus(res, 400, 'Bad Request');
     return;
   }
-  const target = rawPath.startsWith(DATA_PREFIX)
+  const inData = rawPath.startsWith(DATA_PREFIX);
+  const target = inData
     ? fileUnder(dataDir, rawPath.slice(DATA_PREFIX.length))
     : fileUnder(root, rawPath.slice(1));
-  const found = target === null ? null : await findFile(target);
+  const found = target === null ? null : await findFile(target, inData ? realData : realRoot);
   if (found === null) {
     sendStatus(res, 404, 'Not Found');
     return;
@@ -185,7 +200,7 @@ async function handle(req, res, root, dataDir) {
     res.end();
     return;
   }
-  const stream = createReadStream(file, { start, end });
+  const stream = createReadStream(found.real, { start, end });
   stream.on('error', () => res.destroy());
   res.on('close', () => stream.destroy());
   stream.pipe(res);
@@ -207,8 +222,11 @@ export async function startServer({ root, dataDir, port = 0, host = '127.0.0.1' 
   }
   const rootAbs = resolve(root);
   const dataAbs = resolve(dataDir);
+  // The folders' own real paths (they may themselves be links): what a served file must stay inside.
+  const realRoot = await realpath(rootAbs).catch(() => rootAbs);
+  const realData = await realpath(dataAbs).catch(() => dataAbs);
   const server = createServer((req, res) => {
-    handle(req, res, rootAbs, dataAbs).catch(() => {
+    handle(req, res, rootAbs, dataAbs, realRoot, realData).catch(() => {
       if (!res.headersSent) sendStatus(res, 500, 'Internal Server Error');
       else res.destroy();
     });

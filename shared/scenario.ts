@@ -118,7 +118,8 @@ export function showValue(v: unknown, maxChars = 60): string {
   try {
     s = typeof v === 'number' && !Number.isFinite(v) ? String(v) : (JSON.stringify(v) ?? String(v));
   } catch {
-    s = String(v);
+    // A value too deep or circular to print: its kind only (String() of a deep list would overflow too).
+    s = Array.isArray(v) ? 'a list' : typeof v === 'object' ? 'an object' : typeof v;
   }
   return s.length > maxChars ? `${s.slice(0, maxChars - 1)}…` : s;
 }
@@ -925,6 +926,7 @@ const ScenarioObjectSchema = strictObject({
     .array(FlightLevelSchema)
     .min(1)
     .superRefine((fls, ctx) => {
+      if (!Array.isArray(fls)) return; // `always` runs this on a value that failed the list check too
       const seen = new Map<number, number>();
       fls.forEach((fl, i) => {
         if (!num(fl)) return;

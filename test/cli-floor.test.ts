@@ -256,7 +256,10 @@ describe('airshade floor: bad input, one message each', () => {
       '--threads',
       '0',
     );
-    expectMessage(r, /--site: found -10,-41\.5; expected a site inside the loaded terrain tiles/);
+    expectMessage(
+      r,
+      /--site: found -10,-41\.5, outside the DEM tiles .*; expected an antenna position on the loaded terrain/,
+    );
   });
   it('a site that is not LON,LAT', async () => {
     expectMessage(
@@ -307,7 +310,7 @@ describe('airshade floor: bad input, one message each', () => {
   it('an unknown option', async () => {
     expectMessage(
       await floorWith(dem, '--mast', '20'),
-      /airshade floor: found unknown option --mast; expected one of --dem, --site/,
+      /airshade floor: --mast: found an option that airshade floor does not have; expected one of --dem, --site/,
     );
   });
   it('no --out', async () => {

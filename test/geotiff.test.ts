@@ -166,10 +166,15 @@ describe('encodeGeoTiff -> readDemTile round trip', () => {
     expect(Array.from(tile.data)).toEqual(values);
   });
 
-  it('refuses a projected CRS without an EPSG code', () => {
+  it('writes a projected CRS without an EPSG code as user-defined keys, and refuses one it cannot spell', () => {
+    // (test/crs-roundtrip.test.ts reads such files back, with GDAL too.)
     const crs: Crs = { kind: 'projected', proj4: '+proj=tmerc +lon_0=-20', label: 'custom TM' };
     const geo: GridGeo = { width: 2, height: 2, originX: 0, originY: 0, pixelX: 1, pixelY: -1, crs };
-    expect(() => encodeGeoTiff({ geo, data: new Float32Array(4) })).toThrow(/custom TM.*no EPSG code/);
+    expect(() => encodeGeoTiff({ geo, data: new Float32Array(4) })).not.toThrow();
+    const odd: Crs = { kind: 'projected', proj4: '+proj=robin +lon_0=-20', label: 'custom world' };
+    expect(() => encodeGeoTiff({ geo: { ...geo, crs: odd }, data: new Float32Array(4) })).toThrow(
+      /custom world.*no EPSG code/,
+    );
   });
 });
 
@@ -425,7 +430,7 @@ describe('readDemTile: bad input gives one clear InputError', () => {
     await expectInputError(
       readDemTile(png, 'photo.png'),
       'photo.png',
-      /not a TIFF \(first bytes 89 50 4e 47\)/,
+      /not a TIFF \(a PNG image\)/,
       /GeoTIFF/,
     );
   });

@@ -23,17 +23,6 @@ const ROOT = resolve(import.meta.dirname, '..');
 const DIRS = ['app', 'worker', 'shared'];
 const SOURCE = /\.(ts|mts|mjs|js)$/;
 
-/**
- * The circle known today, left to its own issue: app/app.ts builds the panels, and the panel modules (panels.ts,
- * and the files split from it) take the whole `App` as their host through `import type { App } from './app.ts'`
- * (STYLE.md, "Panels as controls": a panel should take a small host interface instead). Those type-only edges
- * into app/app.ts are set aside; every other edge counts, so the test fails on any new circle — a value import
- * back into app.ts included. When no circle needs the exception any more, the test says to drop it.
- */
-function knownException(from: string, e: Edge): boolean {
-  return e.typeOnly && e.to === 'app/app.ts' && from.startsWith('app/');
-}
-
 interface Edge {
   to: string;
   typeOnly: boolean;
@@ -230,18 +219,17 @@ describe('import cycles', () => {
     ]);
   });
 
-  it('no circular imports in app/, worker/ and shared/ (apart from the known circle above)', () => {
-    const kept = new Map([...graph].map(([f, es]) => [f, es.filter((e) => !knownException(f, e))]));
-    const fresh = cyclicComponents(kept).map((c) => describeCycle(kept, c));
-    expect(fresh, `circular imports:\n${fresh.join('\n')}`).toEqual([]);
-    const known = cyclicComponents(graph).map((c) => describeCycle(graph, c));
-    if (known.length === 0) console.info('the known app/ circle is gone: drop knownException');
+  it('no circular imports in app/, worker/ and shared/', () => {
+    const circles = cyclicComponents(graph).map((c) => describeCycle(graph, c));
+    expect(circles, `circular imports:\n${circles.join('\n')}`).toEqual([]);
   });
 
-  it('the exception sets aside only type-only edges into app/app.ts', () => {
-    expect(knownException('app/panels.ts', { to: 'app/app.ts', typeOnly: true })).toBe(true);
-    expect(knownException('app/panels.ts', { to: 'app/app.ts', typeOnly: false })).toBe(false);
-    expect(knownException('worker/engine.ts', { to: 'app/app.ts', typeOnly: true })).toBe(false);
-    expect(knownException('app/panels.ts', { to: 'app/state.ts', typeOnly: true })).toBe(false);
+  it('the panels reach the app only through its host interface (app/panel-host.ts), never app/app.ts', () => {
+    const panels = [...graph.keys()].filter((f) => f.startsWith('app/panels/'));
+    expect(panels).toContain('app/panels/kit.ts');
+    expect(panels.length).toBeGreaterThanOrEqual(10);
+    for (const f of panels) expect(graph.get(f)!.map((e) => e.to)).not.toContain('app/app.ts');
+    expect(graph.get('app/app.ts')!.map((e) => e.to)).toContain('app/panels/index.ts');
+    expect(graph.get('app/panels/index.ts')!.map((e) => e.to)).toContain('app/panel-host.ts');
   });
 });

@@ -123,10 +123,13 @@ describe('airshade init, then coverage', () => {
     expect(r.out).toContain('cells of 10″');
     expect(r.out).toContain('FL030 FL050 FL100 FL150 FL200 FL300 FL400');
     expect(r.out).toContain('3 from');
-    expect(r.out).toContain(`airshade coverage ${study} --out ${at('new/out/coverage')}`);
-    expect(r.out).toContain(`airshade plan ${study} --out ${at('new/out/plan')}`);
+    // The tiles sit beside new/, outside the study's folder: the next commands say --allow-outside-paths (issue 13).
+    const allow = `${study} --allow-outside-paths`;
+    expect(r.out).toContain('the tiles lie outside the study');
+    expect(r.out).toContain(`airshade coverage ${allow} --out ${at('new/out/coverage')}`);
+    expect(r.out).toContain(`airshade plan ${allow} --out ${at('new/out/plan')}`);
     expect(r.out).toContain(
-      `airshade report ${study} --plan ${at('new/out/plan/plan.json')} --out ${at('new/out/report.html')}`,
+      `airshade report ${allow} --plan ${at('new/out/plan/plan.json')} --out ${at('new/out/report.html')}`,
     );
     expect(r.out.trimEnd().endsWith(CAUTION)).toBe(true);
 
@@ -168,7 +171,20 @@ describe('airshade init, then coverage', () => {
     expect(r.out).toContain('% of the study area lies on no DEM tile');
 
     const out = at('new/out/coverage');
-    const c = await runCli('coverage', study, '--out', out, '--threads', '0', '--quiet');
+    const refused = await runCli('coverage', study, '--out', out, '--threads', '0', '--quiet');
+    expect(refused.err).toMatch(
+      /terrain\.files\[0\]: found .*outside the scenario's folder.*--allow-outside-paths/,
+    );
+    const c = await runCli(
+      'coverage',
+      study,
+      '--allow-outside-paths',
+      '--out',
+      out,
+      '--threads',
+      '0',
+      '--quiet',
+    );
     expect(c.err).toBe('');
     expect(c.code).toBe(0);
     const written = filesUnder(out).map((f) => f.slice(out.length + 1));

@@ -285,7 +285,11 @@ describe('paths', () => {
       }),
     );
     const rel = relative(process.cwd(), file);
-    const l = await loadScenario(rel);
+    // Files outside the scenario's folder are read only when asked (issue 13; test/bad-input.test.ts).
+    await expect(loadScenario(rel, { allowOutsidePaths: false })).rejects.toThrow(
+      /outside the scenario's folder.*--allow-outside-paths/,
+    );
+    const l = await loadScenario(rel, { allowOutsidePaths: true });
     expect(l.file).toBe(file);
     expect(l.dir).toBe(join(root, 'plan'));
     expect(l.terrainPaths).toEqual([join(root, 'dem/a.tif'), join(root, 'dem/b.tif')]);

@@ -65,7 +65,10 @@ export async function main(argv: readonly string[]): Promise<number> {
   } catch (e) {
     if (process.stderr.isTTY) process.stderr.write('\r\x1b[K');
     if (isInputError(e)) {
-      process.stderr.write(`airshade ${name}: ${e.message}\n`);
+      // One prefix per message, even when the message already starts with the command's name.
+      const prefix = `airshade ${name}: `;
+      const text = e.message.startsWith(prefix) ? e.message.slice(prefix.length) : e.message;
+      process.stderr.write(`${prefix}${text}\n`);
       if (debug) process.stderr.write(`${e.stack}\n`);
       return 2;
     }

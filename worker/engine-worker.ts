@@ -12,6 +12,7 @@ import { inlineExecutor } from './core/floor.ts';
 import { solvePlan } from './core/plan.ts';
 import { Engine, type ImageLayer, type ProgressFn, type SensorRef, type PlanRequest } from './engine.ts';
 import type { FoldKind } from './core/network.ts';
+import type { Provenance } from './io/provenance.ts';
 import { RemotePool } from './pool.ts';
 import type { RasterImage } from './render.ts';
 
@@ -260,13 +261,19 @@ export const engineApi = {
   setProbeLevel: (fl: number) => engine.setProbeLevel(fl),
   levelGeoJson: (fl: number) => guard(() => engine.levelGeoJson(fl)),
   compareGeoJson: (fl: number) => guard(() => engine.compareGeoJson(fl)),
+  /** The report of the current network as one self-contained HTML string (engine.report). */
+  report: (
+    options: { provenance: Provenance; caution: string; paper?: 'A4' | 'A3'; includePlan?: boolean },
+    progress?: ProgressFn,
+  ) => guard(() => engine.report(options, throttled(progress))),
   diagram: (
     siteId: string,
     typeId: string,
     az: number,
     units: 'metric' | 'aviation',
     size?: { width: number; height: number },
-  ) => guard(() => engine.diagram(siteId, typeId, az, units, size)),
+    provenance?: Provenance,
+  ) => guard(() => engine.diagram(siteId, typeId, az, units, size, provenance)),
   cancel: () => engine.cancel(),
 };
 

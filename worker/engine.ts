@@ -32,6 +32,9 @@ import {
 import { Terrain, type DemTile } from './core/terrain.ts';
 import { cellsAtLevel, volumeStats, type VolumeLevelStats } from './core/volumes.ts';
 import { renderDiagramSvg } from './io/diagram-svg.ts';
+import type { Provenance } from './io/provenance.ts';
+import { buildReportHtml, type ReportPlan } from './io/report-html.ts';
+import { buildReportModel } from './io/report-model.ts';
 import { featureCollection, stringifyGeoJson } from './io/geojson.ts';
 import { readDemTile } from './io/geotiff-read.ts';
 import { levelLayers, maskLayer } from './io/layers.ts';
@@ -182,7 +185,15 @@ export interface PlanSummary {
    */
   entries: { siteId: string; typeId: string; cost: number; existingSensor: boolean }[];
   volumes: VolumeLevelStats[];
-  unmeetable: { kind: string; required: number; achievable: number; points: number }[];
+  unmeetable: {
+    /** The volume of the first demand point in this class (as plan.json names it). */
+    volumeId?: string;
+    volumeName?: string;
+    kind: string;
+    required: number;
+    achievable: number;
+    points: number;
+  }[];
   log: string[];
   stageMs: Record<string, number>;
 }
@@ -268,6 +279,8 @@ export class Engine {
   private compared: { gained: Map<string, Uint8Array>; lost: Map<string, Uint8Array> } | null = null;
   private cancelFlag = 0;
   private jobSeq = 0;
+  /** The last plan, its budget, and the scenario it was made on (as JSON): the report includes it while current. */
+  private lastPlan: { scenarioKey: string; summary: PlanSummary; budget: number | undefined } | null = null;
 
   constructor(
     /** Where floors run (a pool of workers); rebuilt when the terrain changes. */
@@ -315,6 +328,7 @@ export class Engine {
     this.study = null;
     this.current = null;
     this.compared = null;
+    this.lastPlan = null;
     this.footprints.clear();
     this.terrainSummary = summariseTerrain(terrain, tiles, this.options.shared ?? false);
     return { terrain: this.terrainSummary, study: study ? this.adopt(study) : null };
@@ -780,7 +794,7 @@ export class Engine {
       result.chosen.map((i) => footprints[i]),
     );
     progress?.(1, 'done');
-    return {
+    const summary: PlanSummary = {
       mode: result.mode,
       cost: result.cost,
       newSpend: result.cost,
@@ -807,6 +821,8 @@ export class Engine {
         study.ground,
       ),
       unmeetable: result.unmeetable.map((u) => ({
+        volumeId: s.volumes[demand.volume[u.firstPoint]]?.id,
+        volumeName: s.volumes[demand.volume[u.firstPoint]]?.name,
         kind: u.kind,
         required: u.required,
         achievable: u.achievable,
@@ -815,6 +831,63 @@ export class Engine {
       log: result.log,
       stageMs: result.stageMs,
     };
+    this.lastPlan = { scenarioKey: JSON.stringify(s), summary, budget };
+    return summary;
+  }
+
+  // ------------------------------------------------------------------------------------------------ report
+
+  /**
+   * The report of the current network as one self-contained HTML document (io/report-html.ts), its model built by
+   * io/report-model.ts as `airshade report` builds it: statistics, the N−1 table and the maps of the network with
+   * every site up (sites switched off in the Outages panel are named in its warnings), and the last plan while it
+   * was made on the scenario as it stands. The provenance is the app's (app/provenance.ts), made on the page.
+   */
+  report(
+    options: { provenance: Provenance; caution: string; paper?: 'A4' | 'A3'; includePlan?: boolean },
+    progress?: ProgressFn,
+  ): string {
+    const study = this.needStudy();
+    const cur = this.needCurrent();
+    const s = study.loaded.scenario;
+    const candidates = cur.sensors.map((r, i) => this.candidateOf(r, `sensors[${i}]`));
+    const footprints = cur.sensors.map((r) => this.cachedFootprint(r));
+    if (footprints.some((fp) => fp === null))
+      throw new InputError('report', 'a network whose footprints are gone', 'a coverage run first');
+    progress?.(0.05, 'the network, every site up');
+    // A network of its own with every site up: outageTable switches each site off and on again.
+    const network = studyNetwork(study, cur.flightLevels, footprints as Footprint[]);
+    const warnings = [...modelWarnings(study)];
+    if (cur.failed.size > 0)
+      warnings.push(
+        `sites switched off in the app (${[...cur.failed].join(', ')}) are up in this report: its maps and tables are of the whole network, and its N−1 table takes each site out in turn`,
+      );
+    const key = JSON.stringify(s);
+    const plan = options.includePlan === false ? null : this.lastPlan;
+    if (plan && plan.scenarioKey !== key)
+      warnings.push(
+        'the last plan was made before the study was edited: it is left out (run the plan again)',
+      );
+    const current = plan && plan.scenarioKey === key ? plan : null;
+    const siteCount = new Set(cur.sensors.map((r) => r.siteId)).size;
+    const { model } = buildReportModel({
+      study,
+      network,
+      flightLevels: cur.flightLevels,
+      candidates,
+      label: `the app's working network (${cur.sensors.length} sensors on ${siteCount} sites)`,
+      weatherMode: false,
+      warnings,
+      provenance: options.provenance,
+      ...(current ? { plan: reportPlan(current.summary, current.budget) } : {}),
+      caution: options.caution,
+      paper: options.paper ?? 'A4',
+      onStage: (f, stage) => progress?.(0.1 + 0.8 * f, stage),
+    });
+    progress?.(0.9, 'the document');
+    const html = buildReportHtml(model);
+    progress?.(1, 'done');
+    return html;
   }
 
   // ----------------------------------------------------------------------------------------------- compare
@@ -1053,6 +1126,8 @@ export class Engine {
     units: 'metric' | 'aviation',
     /** CSS pixels (default 960 × 560, as saved): the app draws it at the width it is shown at. */
     size?: { width: number; height: number },
+    /** Written into the SVG (its <metadata>) when the diagram is saved. */
+    provenance?: Provenance,
   ): string {
     const study = this.needStudy();
     const c = this.candidateOf({ siteId, typeId }, 'diagram');
@@ -1071,7 +1146,7 @@ export class Engine {
       },
     );
     const title = `${c.site.name} — ${c.model.spec.name} — azimuth ${data.azimuthDeg.toFixed(1)}°`;
-    return renderDiagramSvg(data, { title, units, ...size });
+    return renderDiagramSvg(data, { title, units, ...size, provenance });
   }
 }
 
@@ -1100,6 +1175,32 @@ function untilCancelled<T>(work: Promise<T>, check: () => void): Promise<T> {
       },
     );
   });
+}
+
+/** A plan of the app's Plan panel as the report shows it (the fields of plan.json it names). */
+function reportPlan(p: PlanSummary, budget: number | undefined): ReportPlan {
+  return {
+    file: 'plan (the app)',
+    origin:
+      "Made in the app's Plan panel on the scenario as it stands (the file named in section 1), with the planner of airshade plan.",
+    mode: p.mode,
+    cost: p.cost,
+    lowerBound: p.lowerBound,
+    gapPct: p.gapPct,
+    method: p.method,
+    demandMet: p.demandMet,
+    solverStop: p.solverStop,
+    ...(budget !== undefined ? { budget } : {}),
+    entries: p.entries.map((e) => ({ siteId: e.siteId, typeId: e.typeId, cost: e.cost })),
+    volumes: p.volumes,
+    unmeetable: p.unmeetable.map((u) => ({
+      volumeId: u.volumeId ?? '',
+      volumeName: u.volumeName,
+      kind: u.kind,
+      required: u.required,
+      achievable: u.achievable,
+    })),
+  };
 }
 
 function dedupe(refs: readonly SensorRef[]): SensorRef[] {

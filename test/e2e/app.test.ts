@@ -9,12 +9,23 @@
  * reported, never a pass/fail condition.
  */
 import { check as checkGeoJson } from '@placemarkio/check-geojson';
-import { existsSync, mkdtempSync, readFileSync, rmSync, writeFileSync } from 'node:fs';
+import {
+  copyFileSync,
+  existsSync,
+  mkdirSync,
+  mkdtempSync,
+  readFileSync,
+  rmSync,
+  writeFileSync,
+} from 'node:fs';
 import { tmpdir } from 'node:os';
-import { join } from 'node:path';
+import { basename, dirname, join } from 'node:path';
 import type { Page } from 'playwright-core';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { startServer } from '../../bin/serve.mjs';
+import { fmtCost, fmtPct } from '../../app/units.ts';
+import { formatFl } from '../../shared/units.ts';
+import { runCli } from '../support/run-cli.ts';
 import { E2E_SITES, E2E_TERRAIN_FILES, writeE2eData } from './fixture.ts';
 import {
   blockOutside,
@@ -416,22 +427,95 @@ describe('the web app', () => {
   );
 
   it(
-    'makes a plan with cost, lower bound and per-volume table',
+    'makes a plan whose cost, lower bound, gap and per-volume table are those of airshade plan on the same scenario',
     async () => {
       await panel('plan');
       // The same measure over a quiet second with nothing running: what the browser itself costs.
       const q0 = await now();
       await page.evaluate(() => new Promise((r) => setTimeout(r, 1500)));
       metrics.idleLongTasks = await blocksBetween(q0, await now());
+      // No budget: the least cost meeting every volume, with its lower bound (the budget's goal shows no bound).
+      await page.fill('#plan-budget', '');
       const t0 = await now();
       await page.click('#run-plan');
       await page.waitForSelector('#plan-cost', { timeout: STEP_MS });
       const t1 = await now();
       metrics.planMs = Math.round(t1 - t0);
       metrics.planLongTasks = await blocksBetween(t0, t1);
-      const cost = await page.textContent('#plan-cost');
-      expect(cost).toMatch(/^\d+(\.\d+)? M$/);
-      expect(await page.$$eval('#plan-entries tbody tr', (r) => r.length)).toBeGreaterThan(0);
+      await page.waitForFunction(() => !document.querySelector('#app')!.hasAttribute('data-busy'));
+      // The CLI on the same scenario: the file the app saves (with the edits of the steps before), on the same
+      // tiles, the sensors the panel kept (the network's on existing sites) as a layout, no budget.
+      type Ref = { siteId: string; typeId: string };
+      const keep = (await page.evaluate(`(() => {
+        const s = window.airshade.state;
+        return s.network.filter((r) => s.doc.sites.features.find((f) => f.properties.id === r.siteId)?.properties.existing);
+      })()`)) as Ref[];
+      expect(keep.length).toBeGreaterThan(0);
+      await panel('files');
+      const [saved] = await Promise.all([page.waitForEvent('download'), page.click('#save-scenario')]);
+      const doc = JSON.parse(readFileSync((await saved.path())!, 'utf8'));
+      doc.layouts = [...(doc.layouts ?? []), { name: 'kept by the plan panel', sensors: keep }];
+      const planDir = mkdtempSync(join(tmpdir(), 'airshade-e2e-plan-'));
+      try {
+        for (const f of doc.terrain.files as string[]) {
+          mkdirSync(dirname(join(planDir, f)), { recursive: true });
+          copyFileSync(join(dataDir, 'terrain', basename(f)), join(planDir, f));
+        }
+        const scenarioPath = join(planDir, 'app.scenario.json');
+        writeFileSync(scenarioPath, JSON.stringify(doc));
+        const r = await runCli(
+          'plan',
+          scenarioPath,
+          '--keep',
+          'kept by the plan panel',
+          '--budget',
+          'none',
+          '--out',
+          join(planDir, 'out'),
+          '--threads',
+          '0',
+          '--quiet',
+        );
+        expect(r.err).toBe('');
+        expect(r.code).toBe(0);
+        const plan = JSON.parse(readFileSync(join(planDir, 'out', 'plan.json'), 'utf8'));
+        expect(plan.mode).toBe('cover');
+        // The engine's figures are plan.json's.
+        const mine = (await page.evaluate('window.airshade.plan')) as {
+          cost: number;
+          lowerBound: number;
+          gapPct: number;
+          entries: Ref[];
+          volumes: { volumeId: string; flightLevel: number; meetsRequirementPct: number }[];
+        };
+        expect([mine.cost, mine.lowerBound, mine.gapPct]).toEqual([plan.cost, plan.lowerBound, plan.gapPct]);
+        expect(mine.entries.map((e) => [e.siteId, e.typeId])).toEqual(
+          plan.entries.map((e: Ref) => [e.siteId, e.typeId]),
+        );
+        // And what the panel shows: cost, lower bound, gap, and each volume's share meeting its requirement.
+        await panel('plan');
+        const facts = await page.$$eval('#plan-result dt', (dts) =>
+          Object.fromEntries(dts.map((dt) => [dt.textContent, dt.nextElementSibling?.textContent ?? ''])),
+        );
+        expect(facts['Cost']).toBe(fmtCost(plan.cost));
+        expect(facts['Lower bound']).toBe(fmtCost(plan.lowerBound));
+        expect(facts['Gap']).toBe(fmtPct(plan.gapPct));
+        expect(await page.$$eval('#plan-entries tbody tr', (r) => r.length)).toBe(plan.entries.length);
+        const rows = await page.$$eval('#plan-result ~ table.wide tbody tr', (trs) =>
+          trs.map((tr) => [...tr.querySelectorAll('td')].map((td) => td.textContent ?? '')),
+        );
+        const names = new Map((doc.volumes as { id: string; name: string }[]).map((v) => [v.id, v.name]));
+        expect(plan.volumes.length).toBeGreaterThan(0);
+        expect(rows).toEqual(
+          plan.volumes.map((v: { volumeId: string; flightLevel: number; meetsRequirementPct: number }) => [
+            names.get(v.volumeId),
+            formatFl(v.flightLevel),
+            fmtPct(v.meetsRequirementPct),
+          ]),
+        );
+      } finally {
+        rmSync(planDir, { recursive: true, force: true });
+      }
     },
     STEP_MS,
   );
@@ -479,10 +563,21 @@ describe('the web app', () => {
       await page.mouse.click(bb.x + bb.width * 0.55, bb.y + bb.height * 0.45);
       await expect.poll(siteRows).toHaveLength(E2E_SITES.length + 2);
       const before = await siteRows();
+      const figures = async () => {
+        await panel('coverage');
+        return page.$$eval('#coverage-table tbody tr', (rows) => rows.map((r) => r.textContent ?? ''));
+      };
+      const coverage = await figures();
+      expect(coverage.length).toBeGreaterThan(0);
       await page.evaluate(() => new Promise((r) => setTimeout(r, 800))); // autosave is debounced
       await page.reload();
       await page.waitForSelector('#app[data-ready="true"]', { timeout: STEP_MS });
       expect(await page.textContent('#message')).toContain('Restored');
+      // The coverage computed before the reload is computed again by itself: the same figures come back.
+      await page.waitForSelector('#app[data-coverage="1"]', { timeout: STEP_MS });
+      await page.waitForFunction(() => !document.querySelector('#app')!.hasAttribute('data-busy'));
+      expect(await page.textContent('#message')).toContain('and its coverage, computed again');
+      expect(await figures()).toEqual(coverage);
       expect(await siteRows()).toEqual(before);
       await panel('ground');
       expect(await page.$$eval('#tile-table tbody tr', (r) => r.length)).toBe(2);

@@ -5,7 +5,15 @@
  * back, and cannot reach anything outside this machine.
  */
 import { spawn } from 'node:child_process';
-import { copyFileSync, mkdirSync, mkdtempSync, readFileSync, rmSync, writeFileSync } from 'node:fs';
+import {
+  copyFileSync,
+  mkdirSync,
+  mkdtempSync,
+  readFileSync,
+  rmSync,
+  symlinkSync,
+  writeFileSync,
+} from 'node:fs';
 import { request } from 'node:http';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
@@ -92,6 +100,10 @@ describe('bin/serve.mjs', () => {
     writeFileSync(join(dataDir, 'sites.csv'), 'id,name\n');
     writeFileSync(join(dataDir, 'terrain', 'a tile.tif'), tiff);
     writeFileSync(join(dataDir, 'blob.bin'), 'x');
+    // Links (issue 13): to a file and a folder outside the served folders, and one that stays inside.
+    symlinkSync(join(top, 'package.json'), join(dataDir, 'linked-out.json'));
+    symlinkSync(top, join(root, 'linked-folder'));
+    symlinkSync(join(dataDir, 'sites.geojson'), join(dataDir, 'linked-in.geojson'));
     server = await startServer({ root, dataDir });
   });
 
@@ -171,6 +183,24 @@ describe('bin/serve.mjs', () => {
     const inside = await raw(server.url, '/data/terrain/../sites.geojson');
     expect(inside.status).toBe(200);
     expect(inside.headers['content-type']).toBe('application/geo+json');
+  });
+
+  it('follows no link out of its folders: the real path of a served file stays inside (issue 13)', async () => {
+    for (const path of [
+      '/data/linked-out.json',
+      '/linked-folder/package.json',
+      '/linked-folder/data/blob.bin',
+    ]) {
+      const r = await raw(server.url, path);
+      expect(r.status, path).toBe(404);
+      expect(r.body.toString(), path).not.toContain('secret');
+      expectSecurityHeaders(r.headers);
+    }
+    // A link that stays inside is served, with the type of the name asked for.
+    const inside = await raw(server.url, '/data/linked-in.geojson');
+    expect(inside.status).toBe(200);
+    expect(inside.headers['content-type']).toBe('application/geo+json');
+    expect(inside.body.toString()).toContain('FeatureCollection');
   });
 
   it('gives 404 for a missing file and for a folder without index.html', async () => {

@@ -2,6 +2,7 @@
  * A small argument parser. Options that take a value always take the next token, even when it starts with a
  * minus sign, so `--site -27.0,-40.0` and `--site=-27.0,-40.0` both work (coordinates are often negative).
  */
+import { availableParallelism } from 'node:os';
 import { InputError } from '../../shared/errors.ts';
 import { COLD_DAY } from '../../shared/scenario.ts';
 
@@ -29,9 +30,9 @@ export function parseArgs(
     if (!tok.startsWith('--') || tok === '--') {
       if (tok.startsWith('-') && tok.length > 1 && !/^-[\d.]/.test(tok)) {
         throw new InputError(
-          `airshade ${command}`,
-          `option ${tok}`,
-          `options spelled with two dashes; see --help`,
+          `argument ${tok}`,
+          'an option with one dash',
+          `options spelled with two dashes (see airshade ${command} --help)`,
         );
       }
       out.positional.push(tok);
@@ -44,7 +45,11 @@ export function parseArgs(
       const known = Object.keys(spec)
         .map((k) => `--${k}`)
         .join(', ');
-      throw new InputError(`airshade ${command}`, `unknown option --${name}`, `one of ${known}`);
+      throw new InputError(
+        `--${name}`,
+        `an option that airshade ${command} does not have`,
+        `one of ${known}`,
+      );
     }
     if (!opt.value) {
       if (eq >= 0) throw new InputError(`--${name}`, `a value (${tok})`, 'no value: it is a switch');
@@ -77,11 +82,22 @@ export function required(p: Parsed, name: string, what: string): string {
   return v;
 }
 
-/** A finite number within [min, max]; the message names the option, the text found and the range. */
-export function numberArg(name: string, text: string, min: number, max: number, what: string): number {
+/**
+ * A finite number within [min, max] (above min when `minExclusive`); the message names the option, the text
+ * found and the range.
+ */
+export function numberArg(
+  name: string,
+  text: string,
+  min: number,
+  max: number,
+  what: string,
+  minExclusive = false,
+): number {
   const v = Number(text);
-  if (text.trim() === '' || !Number.isFinite(v)) throw new InputError(`--${name}`, `"${text}"`, what);
-  if (v < min || v > max) throw new InputError(`--${name}`, `${v}`, what);
+  if (text.trim() === '' || !Number.isFinite(v))
+    throw new InputError(`--${name}`, JSON.stringify(text), what);
+  if (v < min || v > max || (minExclusive && v === min)) throw new InputError(`--${name}`, `${v}`, what);
   return v;
 }
 
@@ -103,20 +119,28 @@ export function lonLatArg(name: string, text: string): { lon: number; lat: numbe
 export function scenarioArg(p: Parsed, command: string): string {
   if (p.positional.length !== 1) {
     throw new InputError(
-      `airshade ${command}`,
-      p.positional.length === 0 ? 'no scenario file' : `${p.positional.length} positional arguments`,
-      'one SCENARIO.json (see --help)',
+      'the scenario argument',
+      p.positional.length === 0
+        ? 'no scenario file'
+        : `${p.positional.length} arguments that are not options`,
+      `one SCENARIO.json (see airshade ${command} --help)`,
     );
   }
   return p.positional[0];
 }
 
-/** --threads N (0–64); `fallback` when absent (one per core, from the caller). */
-export function threadsArg(p: Parsed, fallback: number): number {
+/**
+ * --threads N: a whole number from 0 (the main thread) to this machine's cores (more threads than cores only add
+ * memory: each worker holds its own heap); `fallback` when absent (one per core, from the caller).
+ */
+export function threadsArg(p: Parsed, fallback: number, cores = availableParallelism()): number {
   const text = one(p, 'threads');
-  return text === undefined
-    ? fallback
-    : numberArg('threads', text, 0, 64, 'a whole number of threads from 0 to 64');
+  if (text === undefined) return Math.min(fallback, cores);
+  const what = `a whole number of worker threads from 0 to ${cores} (this machine's cores; 0 = the main thread)`;
+  if (!/^\s*\+?\d+\s*$/.test(text)) throw new InputError('--threads', JSON.stringify(text), what);
+  const n = Number(text);
+  if (n > cores) throw new InputError('--threads', String(n), what);
+  return n;
 }
 
 /**

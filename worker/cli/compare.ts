@@ -22,10 +22,18 @@ import {
   weatherHelp,
 } from './args.ts';
 import { maskLayer } from '../io/layers.ts';
-import { writeFileAtomic } from './files.ts';
+import { finishRun, RunFolder, runFolderHelp } from './files.ts';
 import { ProgressLine } from './progress.ts';
 import { scenarioProvenance } from './provenance.ts';
-import { footprintsFor, layoutCandidates, openSession, type Session } from './session.ts';
+import {
+  footprintsFor,
+  layoutCandidates,
+  openSession,
+  type Session,
+  SESSION_OPTIONS,
+  sessionHelp,
+  sessionOptions,
+} from './session.ts';
 
 export const COMPARE_HELP = `airshade compare — two layouts side by side
 
@@ -40,7 +48,9 @@ DIR/compare-FL050.geojson … with the gained and lost areas per volume.
 Options:
 ${weatherHelp(19)}
 ${coldDayHelp(19)}
-`;
+${sessionHelp(19)}
+
+${runFolderHelp()}`;
 
 const SPEC = {
   a: { value: true },
@@ -49,6 +59,7 @@ const SPEC = {
   weather: {},
   'cold-day': {},
   threads: { value: true },
+  ...SESSION_OPTIONS,
   quiet: {},
   debug: {},
   help: {},
@@ -79,9 +90,15 @@ export async function compareCommand(argv: readonly string[], log: (s: string) =
   const nameA = required(p, 'a', 'the name of a layout of the scenario');
   const nameB = required(p, 'b', 'the name of a layout of the scenario');
   const outDir = required(p, 'out', 'the output folder');
+  const run = RunFolder.open(outDir, 'compare');
   const threads = threadsArg(p, NodePool.defaultSize());
   const progress = new ProgressLine('compare', p.flags.has('quiet'));
-  const session = await openSession(scenarioPath, threads, progress);
+  const session = await openSession(
+    scenarioPath,
+    threads,
+    progress,
+    sessionOptions(p, { path: outDir, kind: 'folder' }),
+  );
   applyColdDay(p, session.loaded.scenario);
   const s = session.loaded.scenario;
   const a = layoutCandidates(session, nameA, '--a');
@@ -149,8 +166,8 @@ export async function compareCommand(argv: readonly string[], log: (s: string) =
         if (f) features.push(f);
       }
     }
-    writeFileAtomic(
-      `${outDir}/compare-${formatFl(fl)}.geojson`,
+    run.write(
+      `compare-${formatFl(fl)}.geojson`,
       stringifyGeoJson(
         featureCollection(
           features,
@@ -193,7 +210,8 @@ export async function compareCommand(argv: readonly string[], log: (s: string) =
     provenance,
     conventions: studyConventions(session, fls),
   };
-  writeFileAtomic(`${outDir}/compare.json`, JSON.stringify(doc, null, 2) + '\n');
+  run.write('compare.json', JSON.stringify(doc, null, 2) + '\n');
+  for (const line of finishRun(run, 'compare', outDir)) log(line);
   progress.done();
   const lines = [
     `compare  A = "${nameA}" (${a.length} sensors, cost ${A.cost.total.toFixed(2)})  with  B = "${nameB}" (${b.length} sensors, cost ${B.cost.total.toFixed(2)})`,

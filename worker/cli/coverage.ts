@@ -30,11 +30,19 @@ import {
   threadsArg,
   weatherHelp,
 } from './args.ts';
-import { writeFileAtomic } from './files.ts';
+import { finishRun, RunFolder, runFolderHelp } from './files.ts';
 import { ProgressLine } from './progress.ts';
 import { scenarioProvenance } from './provenance.ts';
 import type { LoadedScenario } from './scenario.ts';
-import { allCandidates, footprintsFor, layoutCandidates, openSession } from './session.ts';
+import {
+  allCandidates,
+  footprintsFor,
+  layoutCandidates,
+  openSession,
+  SESSION_OPTIONS,
+  sessionHelp,
+  sessionOptions,
+} from './session.ts';
 import { levelLayers } from '../io/layers.ts';
 
 export { analysisGrid, groundOnGrid, terrainBounds } from '../study.ts';
@@ -64,7 +72,9 @@ ${coldDayHelp(19)}
                    scenario's k. A k outside 0.2–20 is refused (near −157 N/km the ray follows the earth: ducting)
   --out DIR        output folder
   --threads N      worker threads (default: one per core; 0 runs on the main thread)
-`;
+${sessionHelp(20)}
+
+${runFolderHelp()}`;
 
 const SPEC = {
   fl: { value: true },
@@ -74,6 +84,7 @@ const SPEC = {
   'k-sweep': { value: true },
   out: { value: true },
   threads: { value: true },
+  ...SESSION_OPTIONS,
   quiet: {},
   debug: {},
   help: {},
@@ -95,10 +106,16 @@ export async function coverageCommand(
   }
   const scenarioPath = scenarioArg(p, 'coverage');
   const outDir = required(p, 'out', 'the output folder');
+  const run = RunFolder.open(outDir, 'coverage');
   const threads = threadsArg(p, NodePool.defaultSize());
   const started = performance.now();
   const progress = new ProgressLine('coverage', p.flags.has('quiet'));
-  const session = await openSession(scenarioPath, threads, progress);
+  const session = await openSession(
+    scenarioPath,
+    threads,
+    progress,
+    sessionOptions(p, { path: outDir, kind: 'folder' }),
+  );
   applyColdDay(p, session.loaded.scenario);
   const s = session.loaded.scenario;
   const grid = session.grid;
@@ -134,6 +151,7 @@ export async function coverageCommand(
   const conventions = studyConventions(session, fls, altitudes);
   // The run's date in its JSON documents only: the layers and the raster stay the same bytes for the same inputs.
   const provenance = scenarioProvenance('coverage', p, SPEC, session.loaded, conventions);
+  run.setProvenance(provenance);
   const masks = session.volumeMasks;
   const stats = volumeStats(network, s.volumes, masks, fls, grid, session.volumeTargets, session.ground);
   progress.update(0.92, 'layers');
@@ -150,11 +168,11 @@ export async function coverageCommand(
       session.ground,
     );
     fc.provenance = undated(provenance);
-    writeFileAtomic(`${outDir}/coverage-${formatFl(fls[f])}.geojson`, stringifyGeoJson(fc));
+    run.write(`coverage-${formatFl(fls[f])}.geojson`, stringifyGeoJson(fc));
   }
   const floor = network.networkFloor();
-  writeFileAtomic(
-    `${outDir}/network-floor.tif`,
+  run.write(
+    'network-floor.tif',
     encodeGeoTiff({
       geo: grid,
       data: floor,
@@ -194,7 +212,7 @@ export async function coverageCommand(
       total: Math.round(performance.now() - started),
     },
   };
-  writeFileAtomic(`${outDir}/summary.json`, JSON.stringify(summary, null, 2) + '\n');
+  run.write('summary.json', JSON.stringify(summary, null, 2) + '\n');
   progress.done();
   if (sweep) {
     const cases = [];
@@ -209,8 +227,8 @@ export async function coverageCommand(
       });
     }
     const table = kSweepTable(s.earth.kFactor, stats, cases, s.volumes);
-    writeFileAtomic(
-      `${outDir}/k-sweep.json`,
+    run.write(
+      'k-sweep.json',
       JSON.stringify(
         {
           scenario: s.name,
@@ -228,6 +246,7 @@ export async function coverageCommand(
     );
     log(table.text);
   }
+  for (const line of finishRun(run, 'coverage', outDir)) log(line);
   log(summaryText(s.name, choice.label, stats, fls, outDir, summary.timingsMs, s.volumes));
   log(conventionsText(summary.conventions));
   if (opts.caution !== false) log(CAUTION);

@@ -7,7 +7,10 @@ import { buildSensorModel } from '../core/sensor.ts';
 import { Terrain } from '../core/terrain.ts';
 import { renderDiagramSvg } from '../io/diagram-svg.ts';
 import { applyColdDay, coldDayHelp, numberArg, one, parseArgs, required, weatherHelp } from './args.ts';
-import { readTiles, writeFileAtomic } from './files.ts';
+import { writeFileAtomic } from './files.ts';
+import { memoryLimitArg, readTilesWithin } from './budget-check.ts';
+import { checkOutput } from './out-check.ts';
+import { SESSION_OPTIONS, sessionHelp } from './session.ts';
 import { scenarioProvenance } from './provenance.ts';
 import { loadScenario } from './scenario.ts';
 
@@ -25,6 +28,7 @@ ground range).
 Options:
 ${weatherHelp(19)}
 ${coldDayHelp(19)}
+${sessionHelp(19)}
 `;
 
 const SPEC = {
@@ -32,6 +36,7 @@ const SPEC = {
   type: { value: true },
   azimuth: { value: true },
   out: { value: true },
+  ...SESSION_OPTIONS,
   units: { value: true },
   weather: {},
   'cold-day': {},
@@ -71,7 +76,11 @@ export async function diagramCommand(argv: readonly string[], log: (s: string) =
     rangeText === undefined
       ? undefined
       : numberArg('max-range-km', rangeText, 1, 2000, 'a range in km from 1 to 2000') * 1000;
-  const loaded = await loadScenario(p.positional[0]);
+  const memoryLimit = memoryLimitArg(p);
+  const loaded = await loadScenario(p.positional[0], {
+    allowOutsidePaths: p.flags.has('allow-outside-paths'),
+  });
+  checkOutput(outPath, 'file', [loaded.file, ...loaded.terrainPaths]);
   const s = loaded.scenario;
   applyColdDay(p, s);
   const site = s.sites.find((f) => f.properties.id === siteId);
@@ -93,7 +102,7 @@ export async function diagramCommand(argv: readonly string[], log: (s: string) =
       `the id of a sensor type in ${loaded.file} (${s.sensorTypes.map((t) => t.id).join(', ')})`,
     );
   const model = buildSensorModel(s.sensorTypes[ti], loaded.locate(['sensorTypes', ti]));
-  const terrain = Terrain.fromTiles(await readTiles(loaded.terrainPaths));
+  const terrain = Terrain.fromTiles((await readTilesWithin(loaded.terrainPaths, memoryLimit)).tiles);
   const [lon, lat] = site.geometry.coordinates;
   for (const w of model.warnings) log(`warning: ${w}`);
   const data = diagramData(

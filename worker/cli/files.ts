@@ -3,8 +3,24 @@
  * here is hashed (SHA-256) from the very bytes read, for the outputs' provenance (`digestOfRead`).
  */
 import { createHash, randomBytes } from 'node:crypto';
-import { mkdirSync, readFileSync, renameSync, rmSync, statSync, writeFileSync } from 'node:fs';
+import {
+  accessSync,
+  closeSync,
+  constants as fsConstants,
+  existsSync,
+  fsyncSync,
+  lstatSync,
+  mkdirSync,
+  openSync,
+  readdirSync,
+  readFileSync,
+  renameSync,
+  rmSync,
+  statSync,
+  writeSync,
+} from 'node:fs';
 import { basename, dirname, join, resolve } from 'node:path';
+import { CAUTION } from '../../shared/caution.ts';
 import { InputError } from '../../shared/errors.ts';
 import { readDemTile } from '../io/geotiff-read.ts';
 import type { DemTile } from '../core/terrain.ts';
@@ -51,14 +67,25 @@ export async function readTiles(paths: readonly string[]): Promise<DemTile[]> {
 }
 
 /**
- * Writes a file whole or not at all: the bytes go to a temporary file beside it, which is then renamed into place
- * (a rename within one folder replaces the old file in one step), so a reader never sees half a file.
+ * Writes a file whole or not at all: the bytes go to a temporary file beside it (`.NAME.<12 hex>.tmp`), are flushed
+ * to the disk (fsync), and the temporary file is renamed into place (a rename within one folder replaces the old
+ * file in one step), then the folder itself is flushed so that the rename survives a power cut. A reader — or a
+ * process killed at any moment — never sees half a file under the final name.
  */
 export function writeFileAtomic(path: string, data: ArrayBuffer | string, what = path): void {
-  const tmp = join(dirname(resolve(path)), `.${basename(path)}.${randomBytes(6).toString('hex')}.tmp`);
+  const dir = dirname(resolve(path));
+  const tmp = join(dir, `.${basename(path)}.${randomBytes(6).toString('hex')}.tmp`);
   try {
-    mkdirSync(dirname(resolve(path)), { recursive: true });
-    writeFileSync(tmp, typeof data === 'string' ? data : new Uint8Array(data));
+    mkdirSync(dir, { recursive: true });
+    const bytes = typeof data === 'string' ? Buffer.from(data, 'utf8') : new Uint8Array(data);
+    const fd = openSync(tmp, 'w');
+    try {
+      let at = 0;
+      while (at < bytes.byteLength) at += writeSync(fd, bytes, at, bytes.byteLength - at);
+      fsyncSync(fd);
+    } finally {
+      closeSync(fd);
+    }
     renameSync(tmp, path);
   } catch (e) {
     rmSync(tmp, { force: true });
@@ -67,5 +94,322 @@ export function writeFileAtomic(path: string, data: ArrayBuffer | string, what =
       `a path that cannot be written (${(e as NodeJS.ErrnoException).code ?? 'error'})`,
       'a writable output path',
     );
+  }
+  syncFolder(dir);
+}
+
+/** Flushes a folder's entries (a rename) to the disk; not every platform allows it, and then it is skipped. */
+function syncFolder(dir: string): void {
+  let fd: number | undefined;
+  try {
+    fd = openSync(dir, 'r');
+    fsyncSync(fd);
+  } catch {
+    // e.g. Windows cannot open a folder for fsync; the rename itself is still atomic
+  } finally {
+    if (fd !== undefined) closeSync(fd);
+  }
+}
+
+/** SHA-256 (lowercase hex) of bytes or text. */
+export function sha256(data: ArrayBuffer | Uint8Array | string): string {
+  return createHash('sha256')
+    .update(typeof data === 'string' ? data : data instanceof Uint8Array ? data : new Uint8Array(data))
+    .digest('hex');
+}
+
+/** The temporary files `writeFileAtomic` leaves beside NAME when killed mid-write. */
+export function isTempOf(entry: string, name: string): boolean {
+  return (
+    entry.length === name.length + 18 &&
+    entry.startsWith(`.${name}.`) &&
+    /^\.[0-9a-f]{12}\.tmp$/.test(entry.slice(name.length + 1))
+  );
+}
+
+// ---- run folders -------------------------------------------------------------------------------------------------
+
+/** The manifest in every output folder: which files each command's last run wrote there. */
+export const RUN_MANIFEST = 'airshade-run.json';
+
+/** Said in the help of every command that writes a folder. */
+export const RUN_FOLDER_HELP =
+  `The folder gets ${RUN_MANIFEST}, listing the files of this command's run with their sizes and SHA-256. ` +
+  'Files that an earlier run of the same command wrote there and this run did not are removed at the end — ' +
+  'only files that manifest lists and whose bytes are still the ones Airshade wrote; any other file is left alone. ' +
+  'Each file is written whole under a temporary name and then renamed; while a run is writing, its entry says ' +
+  '"writing".';
+
+/** RUN_FOLDER_HELP as a help paragraph, wrapped at 110 columns. */
+export function runFolderHelp(): string {
+  const lines = ['Output folder:'];
+  let line = ' ';
+  for (const word of RUN_FOLDER_HELP.split(' ')) {
+    if (line.length + word.length + 1 > 110) {
+      lines.push(line);
+      line = ' ';
+    }
+    line += ' ' + word;
+  }
+  lines.push(line);
+  return lines.join('\n') + '\n';
+}
+
+export interface RunFile {
+  name: string;
+  bytes: number;
+  sha256: string;
+}
+
+interface RunEntry {
+  state: 'writing' | 'complete';
+  started: string;
+  finished?: string;
+  files: RunFile[];
+  /** While writing: the files of the run before, still in the folder until this run completes. */
+  earlier?: RunFile[];
+  /** While writing: names about to be written (so a kill leaves no temporary file unaccounted for). */
+  pending?: string[];
+  provenance?: unknown;
+}
+
+interface RunManifest {
+  about: string;
+  caution: string;
+  runs: Record<string, RunEntry>;
+}
+
+/**
+ * A command's output folder. `RunFolder.open` checks the folder before any long work (nothing is written yet);
+ * `write` writes one output atomically and records it in the manifest; `finish` marks the run complete and removes
+ * the files of the command's earlier run that this run did not write — only those the earlier manifest lists, whose
+ * size and SHA-256 still match (a file changed or put there by anyone else is never deleted).
+ */
+export class RunFolder {
+  readonly dir: string;
+  private readonly command: string;
+  private readonly what: string;
+  private readonly earlier: RunFile[];
+  private readonly earlierPending: string[];
+  private readonly started = new Date().toISOString();
+  private readonly files: RunFile[] = [];
+  private provenance: unknown;
+  private begun = false;
+
+  private constructor(dir: string, command: string, what: string, earlier: RunFile[], pending: string[]) {
+    this.dir = dir;
+    this.command = command;
+    this.what = what;
+    this.earlier = earlier;
+    this.earlierPending = pending;
+  }
+
+  /** Checks DIR (a folder, or a path where one can be made) and reads its manifest; writes nothing. */
+  static open(dir: string, command: string, what = '--out'): RunFolder {
+    const abs = resolve(dir);
+    let st;
+    try {
+      st = statSync(abs);
+    } catch {
+      st = undefined;
+    }
+    if (st && !st.isDirectory()) {
+      throw new InputError(
+        `${what} ${dir}`,
+        'an existing file',
+        'a folder for the outputs (existing or new)',
+      );
+    }
+    if (st) {
+      try {
+        accessSync(abs, fsConstants.W_OK);
+      } catch {
+        throw new InputError(`${what} ${dir}`, 'a folder that cannot be written', 'a writable folder');
+      }
+    } else {
+      // The nearest existing parent must be a writable folder.
+      let parent = dirname(abs);
+      while (!existsSync(parent) && dirname(parent) !== parent) parent = dirname(parent);
+      try {
+        if (!statSync(parent).isDirectory()) throw new Error('not a folder');
+        accessSync(parent, fsConstants.W_OK);
+      } catch {
+        throw new InputError(
+          `${what} ${dir}`,
+          `a path under ${parent}, which cannot be written`,
+          'a writable folder',
+        );
+      }
+    }
+    const before = readManifest(abs)?.runs[command];
+    const earlier = before ? [...before.files, ...(before.earlier ?? [])] : [];
+    return new RunFolder(abs, command, what, earlier, before?.pending ?? []);
+  }
+
+  /** The run's provenance, written into its manifest entry. */
+  setProvenance(p: unknown): void {
+    this.provenance = p;
+  }
+
+  /** Writes DIR/NAME whole (temporary file, fsync, rename) and records it. */
+  write(name: string, data: ArrayBuffer | string): void {
+    if (!isPlainName(name) || name === RUN_MANIFEST)
+      throw new Error(`RunFolder.write: bad file name "${name}"`);
+    if (!this.begun) this.begin();
+    this.saveManifest('writing', [name]);
+    writeFileAtomic(join(this.dir, name), data, `${this.what} ${join(this.dir, name)}`);
+    const entry: RunFile = {
+      name,
+      bytes: typeof data === 'string' ? Buffer.byteLength(data, 'utf8') : data.byteLength,
+      sha256: sha256(data),
+    };
+    const at = this.files.findIndex((f) => f.name === name);
+    if (at >= 0) this.files[at] = entry;
+    else this.files.push(entry);
+    this.saveManifest('writing');
+  }
+
+  /**
+   * Marks the run complete and removes the earlier run's files that this run did not write (see the class note).
+   * Returns the names removed and those left alone because their bytes changed since Airshade wrote them.
+   */
+  finish(): { removed: string[]; leftAlone: string[] } {
+    if (!this.begun) this.begin();
+    const now = new Set(this.files.map((f) => f.name));
+    const removed: string[] = [];
+    const leftAlone: string[] = [];
+    const seen = new Set<string>();
+    for (const f of this.earlier) {
+      if (now.has(f.name) || seen.has(f.name) || !isPlainName(f.name) || f.name === RUN_MANIFEST) continue;
+      seen.add(f.name);
+      const path = join(this.dir, f.name);
+      if (!existsSync(path)) continue;
+      if (unchanged(path, f)) {
+        rmSync(path, { force: true });
+        removed.push(f.name);
+      } else {
+        leftAlone.push(f.name);
+      }
+    }
+    this.saveManifest('complete');
+    return { removed, leftAlone };
+  }
+
+  private begin(): void {
+    this.begun = true;
+    mkdirSync(this.dir, { recursive: true });
+    // Temporary files of an earlier run of this command killed mid-write (only names it said it was writing).
+    const names = new Set([...this.earlier.map((f) => f.name), ...this.earlierPending, RUN_MANIFEST]);
+    for (const entry of readdirSync(this.dir)) {
+      if (!entry.endsWith('.tmp')) continue;
+      for (const n of names) {
+        if (isTempOf(entry, n)) {
+          rmSync(join(this.dir, entry), { force: true });
+          break;
+        }
+      }
+    }
+  }
+
+  private saveManifest(state: RunEntry['state'], pending: string[] = []): void {
+    const path = join(this.dir, RUN_MANIFEST);
+    const m: RunManifest = readManifest(this.dir) ?? {
+      about: 'the files Airshade wrote in this folder, per command (its last run)',
+      caution: CAUTION,
+      runs: {},
+    };
+    const entry: RunEntry = { state, started: this.started, files: this.files };
+    if (state === 'complete') {
+      entry.finished = new Date().toISOString();
+    } else {
+      const mine = new Set(this.files.map((f) => f.name));
+      entry.earlier = this.earlier.filter((f) => !mine.has(f.name));
+      const stillPending = [...new Set([...pending, ...this.earlierPending])].filter((n) => !mine.has(n));
+      if (stillPending.length > 0) entry.pending = stillPending;
+    }
+    if (this.provenance !== undefined) entry.provenance = this.provenance;
+    m.caution = CAUTION;
+    m.runs[this.command] = entry;
+    writeFileAtomic(path, JSON.stringify(m, null, 2) + '\n', `${this.what} ${path}`);
+  }
+}
+
+/** Finishes a run (`RunFolder.finish`) and says what was tidied: the lines to print. */
+export function finishRun(run: RunFolder, command: string, outDir: string): string[] {
+  const tidy = run.finish();
+  const lines: string[] = [];
+  if (tidy.removed.length > 0) {
+    lines.push(
+      `removed ${tidy.removed.length} file(s) of the earlier ${command} run in ${outDir}: ${tidy.removed.join(', ')}`,
+    );
+  }
+  for (const f of tidy.leftAlone) {
+    lines.push(
+      `warning: ${join(outDir, f)} was written by an earlier ${command} run but has changed since; left alone`,
+    );
+  }
+  return lines;
+}
+
+/** A file name with no folder part (a manifest is only trusted for names inside its own folder). */
+function isPlainName(name: unknown): name is string {
+  return (
+    typeof name === 'string' &&
+    name !== '' &&
+    name !== '.' &&
+    name !== '..' &&
+    !name.includes('/') &&
+    !name.includes('\\') &&
+    !name.includes('\0')
+  );
+}
+
+/** True when the file still has the size and SHA-256 the manifest recorded. */
+function unchanged(path: string, f: RunFile): boolean {
+  try {
+    const st = lstatSync(path);
+    if (!st.isFile() || st.size !== f.bytes) return false;
+    return sha256(readFileSync(path)) === f.sha256;
+  } catch {
+    return false;
+  }
+}
+
+/** The folder's manifest, or undefined when absent or not ours (an unreadable one is ignored, never trusted). */
+function readManifest(dir: string): RunManifest | undefined {
+  let text: string;
+  try {
+    text = readFileSync(join(dir, RUN_MANIFEST), 'utf8');
+  } catch {
+    return undefined;
+  }
+  try {
+    const m = JSON.parse(text) as RunManifest;
+    if (typeof m !== 'object' || m === null || typeof m.runs !== 'object' || m.runs === null)
+      return undefined;
+    const runs: Record<string, RunEntry> = {};
+    for (const [cmd, e] of Object.entries(m.runs)) {
+      if (typeof e !== 'object' || e === null) continue;
+      const list = (v: unknown): RunFile[] =>
+        Array.isArray(v)
+          ? v.filter(
+              (f): f is RunFile =>
+                typeof f === 'object' &&
+                f !== null &&
+                isPlainName((f as RunFile).name) &&
+                typeof (f as RunFile).bytes === 'number' &&
+                typeof (f as RunFile).sha256 === 'string',
+            )
+          : [];
+      runs[cmd] = {
+        ...e,
+        files: list(e.files),
+        earlier: list(e.earlier),
+        pending: Array.isArray(e.pending) ? e.pending.filter(isPlainName) : [],
+      };
+    }
+    return { ...m, runs };
+  } catch {
+    return undefined;
   }
 }

@@ -6,11 +6,20 @@ import { DEFAULT_K_FACTOR, EARTH_RADIUS_M } from '../../shared/units.ts';
 import { computeFloor, inlineExecutor, type FloorResult } from '../core/floor.ts';
 import { Terrain } from '../core/terrain.ts';
 import type { GridGeo } from '../core/grid.ts';
-import { encodeGeoTiff } from '../io/geotiff-write.ts';
+import { encodeGeoTiff, geoTiffCrsProblem } from '../io/geotiff-write.ts';
 import { undated } from '../io/provenance.ts';
 import { NodePool } from '../node-pool.ts';
 import { lonLatArg, numberArg, one, parseArgs, required, threadsArg } from './args.ts';
-import { readTiles, writeFileAtomic } from './files.ts';
+import { writeFileAtomic } from './files.ts';
+import { checkOutput } from './out-check.ts';
+import {
+  checkEstimate,
+  estimateRun,
+  MEMORY_OPTION,
+  memoryHelp,
+  memoryLimitArg,
+  readTilesWithin,
+} from './budget-check.ts';
 import { ProgressLine } from './progress.ts';
 import { floorProvenance } from './provenance.ts';
 
@@ -18,7 +27,7 @@ export const FLOOR_HELP = `airshade floor — lowest line-of-sight altitude abov
 
 Usage:
   airshade floor --dem A.tif [--dem B.tif …] --site LON,LAT --mast-m H [--k 1.3333]
-                 [--max-range-km R] --out floor.tif [--threads N] [--quiet] [--debug]
+                 [--max-range-km R] --out floor.tif [--threads N] [--max-memory SIZE] [--quiet] [--debug]
 
 Writes a Float32 GeoTIFF on the first DEM's grid and CRS: per cell, the lowest altitude above mean sea level
 (metres) at which a target above that cell is in line of sight of the antenna — never below the ground there.
@@ -31,9 +40,11 @@ Options:
   --mast-m H          antenna height above the ground, metres (0–1000)
   --k K               effective-earth factor, 0.2–20 (default ${DEFAULT_K_FACTOR.toFixed(4)}, standard refraction;
                       beyond 20 or at 0 and below the ray follows the earth: ducting, refused)
-  --max-range-km R    farthest range computed (default: the farthest cell of the first DEM)
+  --max-range-km R    farthest range computed, more than 0 and at most 2000 km (default: the farthest cell of
+                      the first DEM, at most 2000 km)
   --out FILE          output GeoTIFF
-  --threads N         worker threads (default: one per core; 0 runs on the main thread)
+  --threads N         worker threads, 0 to the machine's cores (default: one per core; 0 = the main thread)
+${memoryHelp(21)}
   --quiet             no progress line
   --debug             show stack traces on errors
 `;
@@ -46,6 +57,7 @@ const SPEC = {
   'max-range-km': { value: true },
   out: { value: true },
   threads: { value: true },
+  ...MEMORY_OPTION,
   quiet: {},
   debug: {},
   help: {},
@@ -59,9 +71,9 @@ export async function floorCommand(argv: readonly string[], log: (s: string) => 
   }
   if (p.positional.length > 0) {
     throw new InputError(
-      'airshade floor',
-      `an unexpected argument "${p.positional[0]}"`,
-      'only options (see --help)',
+      `argument ${JSON.stringify(p.positional[0])}`,
+      'an argument that is not an option',
+      'only options (see airshade floor --help)',
     );
   }
   const dems = p.values.get('dem') ?? [];
@@ -87,18 +99,26 @@ export async function floorCommand(argv: readonly string[], log: (s: string) => 
   const maxRangeKm =
     rangeText === undefined
       ? undefined
-      : numberArg('max-range-km', rangeText, 0.001, 2000, 'a range in km from 0 to 2000');
+      : numberArg('max-range-km', rangeText, 0, 2000, 'a range in km, more than 0 and at most 2000', true);
   const maxRangeM = maxRangeKm === undefined ? undefined : maxRangeKm * 1000;
   const outPath = required(p, 'out', 'the output GeoTIFF path');
   const threads = threadsArg(p, NodePool.defaultSize());
+  const memoryLimit = memoryLimitArg(p);
+  checkOutput(outPath, 'file', dems);
 
   const started = performance.now();
   const progress = new ProgressLine('floor', p.flags.has('quiet'));
   progress.update(0, 'reading terrain');
-  const tiles = await readTiles(dems);
+  const { tiles, largest } = await readTilesWithin(dems, memoryLimit);
   const tRead = performance.now();
   const terrain = Terrain.fromTiles(tiles, { shared: threads > 0 });
   const outGeo = tiles[0].geo;
+  checkFloorRun(terrain, outGeo, site, maxRangeM, largest, memoryLimit);
+  // The output is written on the first DEM's CRS: make sure it can be, before the long work.
+  const crsProblem = geoTiffCrsProblem(outGeo.crs);
+  if (crsProblem !== undefined) {
+    throw new InputError(dems[0], crsProblem, 'a DEM whose CRS can be written back as GeoTIFF keys');
+  }
   const ground = windowOf(terrain, outGeo);
   const pool = threads > 0 ? await NodePool.start(threads, terrain.toParts()) : null;
   const tReady = performance.now();
@@ -145,6 +165,56 @@ export async function floorCommand(argv: readonly string[], log: (s: string) => 
   );
   log(CAUTION);
   return 0;
+}
+
+/**
+ * Before the sweep: the antenna stands on the terrain (else `--site` is to blame, not the range), and the run fits
+ * the memory limit (the horizon grows with the range squared over the pixel squared).
+ */
+function checkFloorRun(
+  terrain: Terrain,
+  outGeo: GridGeo,
+  site: { lon: number; lat: number },
+  maxRangeM: number | undefined,
+  largest: Parameters<typeof estimateRun>[0]['largestTile'],
+  memoryLimit: number,
+): void {
+  if (!Number.isFinite(terrain.sampleLonLat(site.lon, site.lat))) {
+    const b = terrain.geo;
+    throw new InputError(
+      '--site',
+      `${site.lon},${site.lat}, outside the DEM tiles (${terrain.sources.length} tile(s) of ${b.width} × ${b.height} pixels)`,
+      'an antenna position on the loaded terrain (LON,LAT in degrees)',
+    );
+  }
+  const px = terrain.metresPerPixel(site.lon, site.lat);
+  const pixelM = Math.min(px.x, px.y);
+  // The default range reaches the farthest cell of the first DEM: its diagonal bounds it.
+  const diagonalM = Math.hypot(outGeo.width * px.x, outGeo.height * px.y);
+  const reachM = Math.min(maxRangeM ?? diagonalM, 2_000_000);
+  const est = estimateRun({
+    terrainPixels: terrain.geo.width * terrain.geo.height,
+    largestTile: largest,
+    cells: outGeo.width * outGeo.height,
+    sites: 1,
+    pairs: 0,
+    levels: 0,
+    targets: 1,
+    volumes: 0,
+    reachM,
+    rangeStepM: 0.75 * pixelM,
+    arcStepM: 1.5 * pixelM,
+    horizonsInFlight: 1,
+  });
+  checkEstimate(est, memoryLimit, {
+    terrain: '--dem',
+    grid: '--dem',
+    footprints: '--dem',
+    horizons:
+      maxRangeM === undefined
+        ? '--dem (the range reaches its farthest cell; see --max-range-km)'
+        : '--max-range-km',
+  });
 }
 
 /** The terrain heights under `geo`'s cells when `geo` lies on the terrain lattice (it does for the first tile). */

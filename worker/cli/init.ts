@@ -12,7 +12,6 @@ import { CAUTION } from '../../shared/caution.ts';
 import { InputError } from '../../shared/errors.ts';
 import { formatFl } from '../../shared/units.ts';
 import type { Provenance } from '../io/provenance.ts';
-import { readDemTile } from '../io/geotiff-read.ts';
 import {
   boundsText,
   buildNewStudy,
@@ -26,6 +25,8 @@ import {
 import { one, parseArgs, required } from './args.ts';
 import { readFileChecked, writeFileAtomic } from './files.ts';
 import { ProgressLine } from './progress.ts';
+import { MEMORY_OPTION, memoryHelp, memoryLimitArg, readTilesWithin } from './budget-check.ts';
+import { checkOutput } from './out-check.ts';
 import { commandOptions, readDigest, toolVersion } from './provenance.ts';
 
 /** The default sensor catalog, beside the sources (and beside dist/cli in a build). */
@@ -61,6 +62,7 @@ Options:
   --name TEXT      the study's name (default: from the sites file and the tiles)
   --out FILE       the study file to write (.json)
   --force          replace an existing study file
+${memoryHelp(18)}
 `;
 
 const SPEC = {
@@ -70,6 +72,7 @@ const SPEC = {
   types: { value: true },
   name: { value: true },
   out: { value: true },
+  ...MEMORY_OPTION,
   force: {},
   quiet: {},
   debug: {},
@@ -165,6 +168,8 @@ export async function initCommand(argv: readonly string[], log: (s: string) => v
       );
   }
   const dems = demFiles(p.values.get('dem') ?? [], p.positional);
+  checkOutput(out, 'file', dems);
+  const memoryLimit = memoryLimitArg(p);
   const sitesPath = required(
     p,
     'sites',
@@ -203,7 +208,7 @@ export async function initCommand(argv: readonly string[], log: (s: string) => v
   for (let i = 0; i < dems.length; i++) {
     progress.update(i / dems.length, `reading ${dems[i]}`);
     // Only the georeferencing is kept: one tile's samples in memory at a time.
-    const t = await readDemTile(readFileChecked(dems[i], 'a GeoTIFF elevation tile (DEM)'), dems[i]);
+    const t = (await readTilesWithin([dems[i]], memoryLimit)).tiles[0];
     tiles.push({ ref: refFrom(studyDir, dems[i]), name: dems[i], geo: t.geo });
     tileWarnings.push(...t.warnings);
   }
@@ -237,6 +242,11 @@ export async function initCommand(argv: readonly string[], log: (s: string) => v
   return 0;
 }
 
+/** Whether the study names a tile outside its own folder (worker/cli/scenario.ts refuses those by default). */
+function outsideTiles(tiles: readonly StudyTile[]): boolean {
+  return tiles.some((t) => t.ref === '..' || t.ref.startsWith('../') || isAbsolute(t.ref));
+}
+
 /** What was chosen and what to run next, for the screen. */
 export function summaryText(study: NewStudy, out: string, tiles: readonly StudyTile[], ms: number): string {
   const c = study.choices;
@@ -265,18 +275,24 @@ export function summaryText(study: NewStudy, out: string, tiles: readonly StudyT
     ),
     '',
     'Next (the outputs in an out/ folder beside the study):',
-    ...nextCommands(out).map((c) => `  ${c}`),
+    ...(outsideTiles(tiles)
+      ? [
+          "  (the tiles lie outside the study's folder: the commands read them only with --allow-outside-paths;",
+          '   or move the study beside its tiles and run init again)',
+        ]
+      : []),
+    ...nextCommands(out, outsideTiles(tiles)).map((c) => `  ${c}`),
   ];
   return lines.join('\n');
 }
 
 /** The commands to run on the new study, with an out/ folder beside it. */
-export function nextCommands(study: string): string[] {
+export function nextCommands(study: string, outsidePaths = false): string[] {
   const dir = dirname(study);
   // Quoted for a POSIX shell when the path holds a space or a character the shell would act on.
   const q = (t: string) => (/[\s"'$`\\!*?;&|<>()]/.test(t) ? `'${t.replace(/'/g, `'\\''`)}'` : t);
   const o = (name: string) => q(dir === '.' ? `out/${name}` : join(dir, 'out', name));
-  const out = q(study);
+  const out = q(study) + (outsidePaths ? ' --allow-outside-paths' : '');
   return [
     `airshade coverage ${out} --out ${o('coverage')}`,
     `airshade plan ${out} --out ${o('plan')}`,

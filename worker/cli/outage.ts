@@ -23,7 +23,7 @@ import {
   weatherHelp,
 } from './args.ts';
 import { maskLayer } from '../io/layers.ts';
-import { writeFileAtomic } from './files.ts';
+import { finishRun, RunFolder, runFolderHelp } from './files.ts';
 import { ProgressLine } from './progress.ts';
 import { scenarioProvenance } from './provenance.ts';
 import {
@@ -34,6 +34,9 @@ import {
   openSession,
   siteOf,
   type Session,
+  SESSION_OPTIONS,
+  sessionHelp,
+  sessionOptions,
 } from './session.ts';
 
 export const OUTAGE_HELP = `airshade outage — what is lost when a site goes down
@@ -51,7 +54,9 @@ Writes DIR/outage.json and DIR/outage-<site>-FL050.geojson … (the lost coverag
 Options:
 ${weatherHelp(19)}
 ${coldDayHelp(19)}
-`;
+${sessionHelp(19)}
+
+${runFolderHelp()}`;
 
 const SPEC = {
   plan: { value: true },
@@ -61,6 +66,7 @@ const SPEC = {
   weather: {},
   'cold-day': {},
   threads: { value: true },
+  ...SESSION_OPTIONS,
   quiet: {},
   debug: {},
   help: {},
@@ -107,6 +113,7 @@ export async function outageCommand(argv: readonly string[], log: (s: string) =>
   }
   const scenarioPath = scenarioArg(p, 'outage');
   const outDir = required(p, 'out', 'the output folder');
+  const run = RunFolder.open(outDir, 'outage');
   const planPath = one(p, 'plan');
   const layoutName = one(p, 'layout');
   if (planPath !== undefined && layoutName !== undefined)
@@ -114,7 +121,12 @@ export async function outageCommand(argv: readonly string[], log: (s: string) =>
   const threads = threadsArg(p, NodePool.defaultSize());
   const started = performance.now();
   const progress = new ProgressLine('outage', p.flags.has('quiet'));
-  const session = await openSession(scenarioPath, threads, progress);
+  const session = await openSession(
+    scenarioPath,
+    threads,
+    progress,
+    sessionOptions(p, { path: outDir, kind: 'folder' }),
+  );
   applyColdDay(p, session.loaded.scenario);
   const s = session.loaded.scenario;
   const sensors =
@@ -169,8 +181,8 @@ export async function outageCommand(argv: readonly string[], log: (s: string) =>
         });
         if (f) features.push(f);
       }
-      writeFileAtomic(
-        `${outDir}/outage-${siteId}-${formatFl(fl)}.geojson`,
+      run.write(
+        `outage-${siteId}-${formatFl(fl)}.geojson`,
         stringifyGeoJson(
           featureCollection(
             features,
@@ -201,7 +213,8 @@ export async function outageCommand(argv: readonly string[], log: (s: string) =>
     provenance,
     conventions: studyConventions(session, fls),
   };
-  writeFileAtomic(`${outDir}/outage.json`, JSON.stringify(doc, null, 2) + '\n');
+  run.write('outage.json', JSON.stringify(doc, null, 2) + '\n');
+  for (const line of finishRun(run, 'outage', outDir)) log(line);
   progress.done();
   const lines = [`outage of each site — sensors: ${label} (${sensors.length})`, ''];
   lines.push(

@@ -33,7 +33,7 @@ import {
 } from './args.ts';
 import { levelLayers } from '../io/layers.ts';
 import { buildDemand, coveredPoints, type Demand } from '../study.ts';
-import { writeFileAtomic } from './files.ts';
+import { finishRun, RunFolder, runFolderHelp } from './files.ts';
 import { ProgressLine } from './progress.ts';
 import { scenarioProvenance } from './provenance.ts';
 import {
@@ -43,6 +43,9 @@ import {
   openSession,
   siteOf,
   type Session,
+  SESSION_OPTIONS,
+  sessionHelp,
+  sessionOptions,
 } from './session.ts';
 
 export const PLAN_HELP = `airshade plan — the cheapest sites and sensor types that meet the airspace's requirements
@@ -72,7 +75,9 @@ Options:
                     another machine
 ${weatherHelp(20)}
 ${coldDayHelp(20)}
-`;
+${sessionHelp(20)}
+
+${runFolderHelp()}`;
 
 const SPEC = {
   out: { value: true },
@@ -84,6 +89,7 @@ const SPEC = {
   'solver-nodes': { value: true },
   'time-limit-s': { value: true },
   threads: { value: true },
+  ...SESSION_OPTIONS,
   quiet: {},
   debug: {},
   help: {},
@@ -97,6 +103,7 @@ export async function planCommand(argv: readonly string[], log: (s: string) => v
   }
   const scenarioPath = scenarioArg(p, 'plan');
   const outDir = required(p, 'out', 'the output folder');
+  const run = RunFolder.open(outDir, 'plan');
   const threads = threadsArg(p, NodePool.defaultSize());
   const limitText = one(p, 'time-limit-s');
   const timeLimitMs =
@@ -106,7 +113,12 @@ export async function planCommand(argv: readonly string[], log: (s: string) => v
   const solverNodes = solverNodesArg(one(p, 'solver-nodes'));
   const started = performance.now();
   const progress = new ProgressLine('plan', p.flags.has('quiet'));
-  const session = await openSession(scenarioPath, threads, progress);
+  const session = await openSession(
+    scenarioPath,
+    threads,
+    progress,
+    sessionOptions(p, { path: outDir, kind: 'folder' }),
+  );
   applyColdDay(p, session.loaded.scenario);
   const s = session.loaded.scenario;
   const budgetText = one(p, 'budget');
@@ -186,10 +198,11 @@ export async function planCommand(argv: readonly string[], log: (s: string) => v
       session.ground,
     );
     fc.provenance = provenance;
-    writeFileAtomic(`${outDir}/plan-coverage-${formatFl(fls[f])}.geojson`, stringifyGeoJson(fc));
+    run.write(`plan-coverage-${formatFl(fls[f])}.geojson`, stringifyGeoJson(fc));
   }
   const doc = planDocument(session, candidates, result, network, fls, demand);
-  writeFileAtomic(`${outDir}/plan.json`, JSON.stringify({ ...doc, provenance }, null, 2) + '\n');
+  run.write('plan.json', JSON.stringify({ ...doc, provenance }, null, 2) + '\n');
+  for (const line of finishRun(run, 'plan', outDir)) log(line);
   progress.done();
   log(
     planSummary(session, doc, result, outDir, {

@@ -3,19 +3,19 @@
  * assumptions, a map per flight level and the network floor, the per-volume table, the single-site outage (N−1)
  * table, optionally a plan of `airshade plan`, and the caution. The network is computed as `airshade coverage`
  * computes it (a layout, or every allowed site and type); the outage table as `airshade outage` does
- * (core/outage.ts outageTable). The document itself is built by io/report-html.ts (pure, shared with the app).
+ * (core/outage.ts outageTable). The model is built by io/report-model.ts and the document by io/report-html.ts (both
+ * pure, shared with the app's engine).
  */
 import { mkdirSync, statSync } from 'node:fs';
 import { dirname, join, resolve } from 'node:path';
 import { CAUTION } from '../../shared/caution.ts';
 import { InputError } from '../../shared/errors.ts';
 import { formatFl } from '../../shared/units.ts';
-import { conventionsText, levelAltitudesM, modelWarnings, studyConventions, studyNetwork } from '../study.ts';
-import { outageTable } from '../core/outage.ts';
-import { volumeStats, type VolumeLevelStats } from '../core/volumes.ts';
+import { conventionsText, modelWarnings, studyNetwork } from '../study.ts';
+import type { VolumeLevelStats } from '../core/volumes.ts';
 import type { Provenance } from '../io/provenance.ts';
-import { buildReportHtml, type ReportPlan, type ReportSite } from '../io/report-html.ts';
-import { coastPolygons, reportMaps } from '../io/report-maps.ts';
+import { buildReportHtml, type ReportPlan } from '../io/report-html.ts';
+import { buildReportModel } from '../io/report-model.ts';
 import { NodePool } from '../node-pool.ts';
 import {
   applyColdDay,
@@ -32,7 +32,15 @@ import type { Candidate } from '../core/coverage.ts';
 import { planCandidates } from './outage.ts';
 import { ProgressLine } from './progress.ts';
 import { scenarioProvenance } from './provenance.ts';
-import { footprintsFor, networkChoice, openSession, type Session } from './session.ts';
+import {
+  footprintsFor,
+  networkChoice,
+  openSession,
+  type Session,
+  SESSION_OPTIONS,
+  sessionHelp,
+  sessionOptions,
+} from './session.ts';
 
 export const REPORT_HELP = `airshade report — one self-contained HTML report of a network, for a safety case
 
@@ -60,6 +68,7 @@ ${coldDayHelp(19)}
   --out FILE|DIR   the HTML file to write (a path ending in .html), or a folder to write report.html into; the
                    file is written whole or not at all
   --threads N      worker threads (default: one per core; 0 runs on the main thread)
+${sessionHelp(20)}
 `;
 
 const SPEC = {
@@ -70,6 +79,7 @@ const SPEC = {
   'cold-day': {},
   out: { value: true },
   threads: { value: true },
+  ...SESSION_OPTIONS,
   quiet: {},
   debug: {},
   help: {},
@@ -223,7 +233,12 @@ export async function reportCommand(argv: readonly string[], log: (s: string) =>
   const weather = p.flags.has('weather');
   const started = performance.now();
   const progress = new ProgressLine('report', p.flags.has('quiet'));
-  const session = await openSession(scenarioPath, threads, progress);
+  const session = await openSession(
+    scenarioPath,
+    threads,
+    progress,
+    sessionOptions(p, { path: outPath, kind: 'file' }),
+  );
   applyColdDay(p, session.loaded.scenario);
   const s = session.loaded.scenario;
   const planPath = one(p, 'plan');
@@ -248,70 +263,24 @@ export async function reportCommand(argv: readonly string[], log: (s: string) =>
   const footprints = await footprintsFor(session, candidates, { weather, progress, share: [0, 0.8] });
   const tFootprints = performance.now();
   const fls = s.flightLevels;
-  const altitudes = levelAltitudesM(s, fls);
-  const network = studyNetwork(session, fls, footprints);
-  progress.update(0.8, 'statistics');
-  const stats = volumeStats(
-    network,
-    s.volumes,
-    session.volumeMasks,
-    fls,
-    session.grid,
-    session.volumeTargets,
-    session.ground,
-  );
-  progress.update(0.82, 'switching sites off');
-  const losses = outageTable(
-    network,
-    s.volumes,
-    session.volumeMasks,
-    fls,
-    session.grid,
-    undefined,
-    undefined,
-    session.volumeTargets,
-    session.ground,
-  );
-  const tOutage = performance.now();
-  progress.update(0.88, 'maps');
-  const { bounds, maps } = reportMaps({
-    grid: session.grid,
-    ground: session.ground,
-    network,
-    volumes: s.volumes,
-    masks: session.volumeMasks,
+  const { model, timingsMs } = buildReportModel({
+    study: session,
+    network: studyNetwork(session, fls, footprints),
     flightLevels: fls,
-    volumeTargets: session.volumeTargets,
-  });
-  const coast = coastPolygons(session.grid, session.ground);
-  const tMaps = performance.now();
-  const conventions = studyConventions(session, fls, altitudes);
-  const provenance = scenarioProvenance('report', p, SPEC, session.loaded, conventions);
-  const typesBySite = new Map<string, string[]>();
-  for (const c of candidates)
-    typesBySite.set(c.site.id, [...(typesBySite.get(c.site.id) ?? []), c.model.spec.id]);
-  const sites: ReportSite[] = [...typesBySite].map(([id, typeIds]) => {
-    const c = candidates.find((x) => x.site.id === id)!.site;
-    return { id, name: c.name, lon: c.lon, lat: c.lat, mastHeightM: c.mastHeightM, typeIds };
-  });
-  progress.update(0.95, 'writing');
-  const html = buildReportHtml({
-    scenarioName: s.name,
-    provenance,
-    conventions,
-    network: { label, weatherMode: weather },
-    sites,
-    volumes: s.volumes,
+    candidates,
+    label,
+    weatherMode: weather,
     warnings,
-    bounds,
-    coast,
-    maps,
-    volumeStats: stats,
-    outage: losses,
+    provenance: (conventions) => scenarioProvenance('report', p, SPEC, session.loaded, conventions),
     ...(planRead ? { plan: planRead.plan } : {}),
     caution: CAUTION,
     paper,
+    onStage: (f, stage) => progress.update(0.8 + 0.15 * f, stage),
   });
+  const tModel = performance.now();
+  const { volumeStats: stats, outage: losses, maps, conventions } = model;
+  progress.update(0.95, 'writing');
+  const html = buildReportHtml(model);
   writeFileAtomic(outPath, html);
   progress.done();
   const worst = losses[0];
@@ -330,7 +299,7 @@ export async function reportCommand(argv: readonly string[], log: (s: string) =>
         : []),
       '',
       `written to ${outPath} (${(Buffer.byteLength(html) / 1048576).toFixed(1)} MiB, ${paper})`,
-      `time: ${sec(performance.now() - started)} s (setup ${sec(tSetup - started)} s, footprints ${sec(tFootprints - tSetup)} s, statistics and N−1 ${sec(tOutage - tFootprints)} s, maps ${sec(tMaps - tOutage)} s, document ${sec(performance.now() - tMaps)} s)`,
+      `time: ${sec(performance.now() - started)} s (setup ${sec(tSetup - started)} s, footprints ${sec(tFootprints - tSetup)} s, statistics and N−1 ${sec(timingsMs.statisticsAndOutage)} s, maps ${sec(timingsMs.maps)} s, document ${sec(performance.now() - tModel)} s)`,
     ].join('\n'),
   );
   log(conventionsText(conventions));

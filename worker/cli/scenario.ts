@@ -3,8 +3,8 @@
  * sensor-type and site files read from disk, then assembled and validated by `io/scenario-text.ts` (shared with
  * the web app) with messages that name the file each value came from (`sites.csv: row 7: mastHeightM`).
  */
-import { statSync } from 'node:fs';
-import { dirname, isAbsolute, join, normalize, resolve } from 'node:path';
+import { realpathSync, statSync } from 'node:fs';
+import { dirname, isAbsolute, join, normalize, relative, resolve } from 'node:path';
 import { InputError } from '../../shared/errors.ts';
 import { ScenarioError, showValue, type Locator, type Scenario } from '../../shared/scenario.ts';
 import type { FileDigest } from '../io/provenance.ts';
@@ -36,6 +36,46 @@ export interface LoadedScenario {
 export interface LoadScenarioOptions {
   /** Check that every terrain file exists (default true). */
   checkTerrainFiles?: boolean;
+  /**
+   * Let the scenario name files outside its own folder (absolute paths, `../`, or links that lead out). The
+   * commands pass false unless `--allow-outside-paths` is given, so a scenario from elsewhere cannot make them read
+   * any file of this machine; a caller that does not say (a script, a test) keeps the old behaviour: allowed.
+   */
+  allowOutsidePaths?: boolean;
+}
+
+/** The switch that lets a scenario name files outside its folder, as every scenario command spells it. */
+export const OUTSIDE_PATHS_OPTION = { 'allow-outside-paths': {} } as const;
+export const OUTSIDE_PATHS_HELP = (column: number): string =>
+  '  --allow-outside-paths'.padEnd(column - 1) +
+  'read files the scenario names outside its own folder (absolute paths, ../); by default refused\n' +
+  `${' '.repeat(column - 1)}(a study made by airshade init with its tiles elsewhere needs it)`;
+
+function realOr(path: string): string {
+  try {
+    return realpathSync(path);
+  } catch {
+    return path;
+  }
+}
+
+/** Whether `abs` (and, when it exists, the file it really is) lies inside the folder `dir`. */
+export function insideFolder(dir: string, abs: string): boolean {
+  const inside = (d: string, f: string) => {
+    const rel = relative(d, f);
+    return rel !== '' && !rel.startsWith('..') && !isAbsolute(rel);
+  };
+  return inside(dir, abs) && inside(realOr(dir), realOr(abs));
+}
+
+/** Refuses a path the scenario names outside its folder, unless allowed; the message does not read the file. */
+function confine(dir: string, abs: string, where: string, ref: string, what: string, allow: boolean): void {
+  if (allow || insideFolder(dir, abs)) return;
+  throw new InputError(
+    where,
+    `${showValue(ref)}, a file outside the scenario's folder (${dir})`,
+    `${what}, inside that folder — or run with --allow-outside-paths to read files elsewhere`,
+  );
 }
 
 const SCENARIO_WHAT = 'a scenario file (JSON)';
@@ -72,9 +112,11 @@ function readReferenced(
   field: string,
   ref: string,
   what: string,
+  allowOutside: boolean,
 ): { abs: string; display: string; text: string } {
   const abs = resolve(dir, ref);
   const display = displayPath(scenarioDisplay, ref);
+  confine(dir, abs, `${scenarioDisplay}: ${field}`, ref, what, allowOutside);
   let st;
   try {
     st = statSync(abs);
@@ -102,11 +144,27 @@ export async function loadScenario(path: string, options: LoadScenarioOptions = 
   const digest = (abs: string): FileDigest => ({ file: abs, sha256: digestOfRead(abs)! });
   const digests: LoadedScenario['digests'] = { scenario: digest(file), sensorTypes: null, sites: null };
   const { scenario, sources, locate } = assembleScenario(json, display, (field, ref, what) => {
-    const r = readReferenced(dir, display, field, ref, what);
+    const r = readReferenced(dir, display, field, ref, what, options.allowOutsidePaths ?? true);
     digests[field] = digest(r.abs);
     return r;
   });
   const terrainPaths = scenario.terrain.files.map((f) => resolve(dir, f));
+  const outside: InputError[] = [];
+  terrainPaths.forEach((abs, i) => {
+    try {
+      confine(
+        dir,
+        abs,
+        locate(['terrain', 'files', i]),
+        scenario.terrain.files[i],
+        TERRAIN_WHAT,
+        options.allowOutsidePaths ?? true,
+      );
+    } catch (e) {
+      outside.push(e as InputError);
+    }
+  });
+  if (outside.length > 0) throw new ScenarioError(outside);
 
   if (options.checkTerrainFiles ?? true) {
     const problems: InputError[] = [];

@@ -7,10 +7,29 @@ import { inlineExecutor } from '../core/floor.ts';
 import type { Footprint } from '../core/footprint.ts';
 import { Terrain } from '../core/terrain.ts';
 import { NodePool } from '../node-pool.ts';
-import { allCandidates, layoutCandidates, openStudy, type Study } from '../study.ts';
-import { readTiles } from './files.ts';
+import {
+  allCandidates,
+  analysisGrid,
+  layoutCandidates,
+  openStudy,
+  studyTargets,
+  type Study,
+} from '../study.ts';
+import type { GridGeo } from '../core/grid.ts';
+import { NM_M } from '../../shared/units.ts';
+import type { Parsed } from './args.ts';
+import {
+  checkEstimate,
+  estimateRun,
+  MEMORY_OPTION,
+  memoryHelp,
+  memoryLimitArg,
+  readTilesWithin,
+  type TileShape,
+} from './budget-check.ts';
+import { checkOutput } from './out-check.ts';
 import type { ProgressLine } from './progress.ts';
-import { loadScenario, type LoadedScenario } from './scenario.ts';
+import { loadScenario, OUTSIDE_PATHS_HELP, OUTSIDE_PATHS_OPTION, type LoadedScenario } from './scenario.ts';
 
 export type Session = Study<LoadedScenario>;
 
@@ -34,12 +53,105 @@ export function networkChoice(
   return { candidates, label };
 }
 
-export async function openSession(path: string, threads: number, progress: ProgressLine): Promise<Session> {
+/** The options every scenario command takes for its inputs: --max-memory and --allow-outside-paths. */
+export const SESSION_OPTIONS = { ...MEMORY_OPTION, ...OUTSIDE_PATHS_OPTION } as const;
+
+/** Their help lines, with option texts starting at `column`. */
+export function sessionHelp(column: number): string {
+  return `${memoryHelp(column)}\n${OUTSIDE_PATHS_HELP(column)}`;
+}
+
+export interface SessionOptions {
+  /** The memory limit (--max-memory, default budget-check.ts's). */
+  maxMemoryBytes?: number;
+  /** Let the scenario name files outside its own folder (--allow-outside-paths). */
+  allowOutsidePaths?: boolean;
+  /** The output (checked once the inputs are known, before the terrain is read): a folder or a file. */
+  out?: { path: string; kind: 'file' | 'folder' };
+}
+
+/** The session options as the command line gives them (`out` from the command itself). */
+export function sessionOptions(p: Parsed, out?: SessionOptions['out']): SessionOptions {
+  return { maxMemoryBytes: memoryLimitArg(p), allowOutsidePaths: p.flags.has('allow-outside-paths'), out };
+}
+
+export async function openSession(
+  path: string,
+  threads: number,
+  progress: ProgressLine,
+  opts: SessionOptions = {},
+): Promise<Session> {
   progress.update(0, 'reading the scenario');
-  const loaded = await loadScenario(path);
+  const loaded = await loadScenario(path, { allowOutsidePaths: opts.allowOutsidePaths });
+  if (opts.out) {
+    const inputs = [
+      loaded.file,
+      ...loaded.terrainPaths,
+      ...Object.values(loaded.digests).map((d) => d?.file ?? ''),
+    ];
+    checkOutput(
+      opts.out.path,
+      opts.out.kind,
+      inputs.filter((f) => f !== ''),
+    );
+  }
+  const limit =
+    opts.maxMemoryBytes ?? memoryLimitArg({ positional: [], values: new Map(), flags: new Set() });
   progress.update(0, 'reading terrain');
-  const terrain = Terrain.fromTiles(await readTiles(loaded.terrainPaths), { shared: threads > 0 });
+  const { tiles, largest } = await readTilesWithin(
+    loaded.terrainPaths,
+    limit,
+    loaded.scenario.terrain.files.map((_, i) => loaded.locate(['terrain', 'files', i])),
+  );
+  const terrain = Terrain.fromTiles(tiles, { shared: threads > 0 });
+  checkStudyMemory(loaded, terrain, largest, limit);
   return openStudy(loaded, terrain, threads);
+}
+
+/**
+ * The study's memory against the limit, before its grid exists (budget-check.ts): every allowed (site, type)
+ * pair, the scenario's levels and the volumes' own targets, the farthest reach of any type.
+ */
+export function checkStudyMemory(
+  loaded: LoadedScenario,
+  terrain: Terrain,
+  largest: TileShape | undefined,
+  limit: number,
+): void {
+  const s = loaded.scenario;
+  const grid: GridGeo = analysisGrid(loaded, terrain);
+  const cells = grid.width * grid.height;
+  const typeCount = s.sensorTypes.length;
+  const pairs = s.sites.reduce((n, f) => n + (f.properties.allowedTypes?.length ?? typeCount), 0);
+  const reachM = Math.min(
+    s.maxRangeKm * 1000,
+    Math.max(0, ...s.sensorTypes.map((t) => t.instrumentedRangeNm * NM_M)),
+  );
+  const lat = grid.originY + (grid.height / 2) * grid.pixelY;
+  const lon = grid.originX + (grid.width / 2) * grid.pixelX;
+  const px = terrain.metresPerPixel(lon, lat);
+  const cellM = Math.min(grid.pixelX * Math.cos((lat * Math.PI) / 180), -grid.pixelY) * 111_320;
+  const est = estimateRun({
+    terrainPixels: terrain.geo.width * terrain.geo.height,
+    largestTile: largest,
+    cells,
+    sites: s.sites.length,
+    pairs,
+    levels: s.flightLevels.length,
+    targets: studyTargets(s).targets.length,
+    volumes: s.volumes.length,
+    reachM,
+    rangeStepM: Math.min(px.x, px.y) || cellM,
+    arcStepM: 0.75 * cellM,
+    horizonsInFlight: 2,
+  });
+  const cell = `${loaded.locate(['grid', 'cellArcSec'])} (${s.grid.cellArcSec}″: ${grid.width} × ${grid.height} cells)`;
+  checkEstimate(est, limit, {
+    terrain: loaded.locate(['terrain', 'files']),
+    grid: cell,
+    footprints: `${cell} with ${pairs} (site, type) pairs`,
+    horizons: `${cell} out to ${(reachM / 1000).toFixed(0)} km (maxRangeKm, the types' instrumented range)`,
+  });
 }
 
 /** Footprints of the candidates (the floors in a pool of `session.threads` workers, 0 = inline). */

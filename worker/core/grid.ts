@@ -17,6 +17,20 @@ export interface Crs {
   readonly epsg?: number;
   /** Human-readable description for messages and summaries. */
   readonly label: string;
+  /**
+   * The CRS's geokeys exactly as the source GeoTIFF gave them (model type, geographic and projected keys,
+   * citations; no raster-type or vertical keys), so that any CRS we can read — a custom WKT without an EPSG code
+   * included — is written back unchanged (io/geotiff-write.ts).
+   */
+  readonly geoKeys?: readonly GeoKeyEntry[];
+  /** File coordinates × this = the CRS coordinates used here (e.g. 0.3048 for a grid in feet); default [1, 1]. */
+  readonly geoKeysScale?: readonly [number, number];
+}
+
+/** One GeoTIFF geokey (OGC 19-008r4 §7): a SHORT value, DOUBLE values, or ASCII text. */
+export interface GeoKeyEntry {
+  readonly id: number;
+  readonly value: number | readonly number[] | string;
 }
 
 export interface GridGeo {
@@ -46,9 +60,14 @@ export interface GridMapper {
 export function gridMapper(geo: GridGeo): GridMapper {
   const { originX, originY, pixelX, pixelY } = geo;
   if (geo.crs.kind === 'geographic') {
+    // A longitude is taken within ±180° of the grid's centre, so grids across the antimeridian (e.g. 179…181° E,
+    // continuous) take −179.5° as 180.5°.
+    const centre = originX + (geo.width * pixelX) / 2;
     return {
       lonLatToPixel(lon, lat, out) {
-        out[0] = (lon - originX) / pixelX;
+        const d = lon - centre;
+        const x = d >= -180 && d < 180 ? lon : lon - 360 * Math.round(d / 360);
+        out[0] = (x - originX) / pixelX;
         out[1] = (lat - originY) / pixelY;
       },
       pixelToLonLat(x, y, out) {

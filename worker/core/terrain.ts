@@ -54,6 +54,8 @@ export class Terrain {
   readonly sources: string[];
   /** WGS84 lon/lat <-> this CRS; null for a geographic raster (no conversion needed). */
   private readonly proj: Converter | null;
+  /** Geographic terrain: the longitude of its centre; a lon is taken within ±180° of it (the antimeridian). */
+  private readonly lonCentre: number;
   private readonly xy = [0, 0];
 
   private constructor(p: TerrainParts) {
@@ -66,6 +68,7 @@ export class Terrain {
     this.warnings = p.warnings;
     this.sources = p.sources;
     this.proj = geo.crs.kind === 'geographic' ? null : proj4(WGS84_GEOGRAPHIC.proj4, geo.crs.proj4);
+    this.lonCentre = geo.originX + (geo.width * geo.pixelX) / 2;
   }
 
   /** Rebuilds a Terrain from `toParts()` output (e.g. inside a worker) without copying the data. */
@@ -81,12 +84,17 @@ export class Terrain {
    * Mosaics tiles onto the first tile's lattice. `shared: true` puts the data in a SharedArrayBuffer so a
    * pool of workers can read one copy.
    */
-  static fromTiles(tiles: DemTile[], opts: { shared?: boolean } = {}): Terrain {
+  static fromTiles(tilesIn: DemTile[], opts: { shared?: boolean } = {}): Terrain {
+    let tiles = tilesIn;
     if (tiles.length === 0) {
       throw new InputError('terrain', 'no DEM tiles', 'at least one GeoTIFF elevation tile');
     }
     const g0 = tiles[0].geo;
     const base = g0.crs;
+    checkPolar(tiles);
+    // Geographic tiles across the antimeridian: each is taken at the longitude (±360°) nearest the first tile, so
+    // that tiles either side of 180° form one continuous lattice (e.g. 179…181° E) instead of two ends of the world.
+    if (base.kind === 'geographic') tiles = tiles.map((t, i) => (i === 0 ? t : nearestCopy(t, g0)));
     // Bounds of every tile in base-lattice pixel coordinates.
     const bounds = tiles.map((t) => tileBoundsOnLattice(t.geo, g0));
     let uMin = Infinity;
@@ -150,7 +158,9 @@ export class Terrain {
     const g = this.geo;
     let x = lon;
     let y = lat;
-    if (this.proj) {
+    if (!this.proj) {
+      x = nearLon(lon, this.lonCentre);
+    } else {
       const xy = this.xy;
       xy[0] = lon;
       xy[1] = lat;
@@ -162,7 +172,10 @@ export class Terrain {
     out[1] = (y - g.originY) / g.pixelY;
   }
 
-  /** Lon/lat (degrees, WGS84) of continuous pixel coordinates into out[0], out[1]. */
+  /**
+   * Lon/lat (degrees, WGS84) of continuous pixel coordinates into out[0], out[1]. On geographic terrain across the
+   * antimeridian the longitude runs on past ±180° (continuous across the mosaic).
+   */
   pixelToLonLat(x: number, y: number, out: Float64Array | number[]): void {
     const g = this.geo;
     const cx = g.originX + x * g.pixelX;
@@ -196,7 +209,8 @@ export class Terrain {
         (p[1] - g.originY) / g.pixelY,
       );
     }
-    return bilinear(this.data, g.width, g.height, (lon - g.originX) / g.pixelX, (lat - g.originY) / g.pixelY);
+    const x = nearLon(lon, this.lonCentre);
+    return bilinear(this.data, g.width, g.height, (x - g.originX) / g.pixelX, (lat - g.originY) / g.pixelY);
   }
 
   /** Bilinear elevation (m) at continuous pixel coordinates; NaN where unknown. */
@@ -419,4 +433,54 @@ function localDistanceM(lon1: number, lat1: number, lon2: number, lat2: number):
   const dx = (lon2 - lon1) * DEG * n * Math.cos(lat);
   const dy = (lat2 - lat1) * DEG * m;
   return Math.hypot(dx, dy);
+}
+
+/** `lon` moved by whole turns to lie within ±180° of `centre` (degrees). */
+export function nearLon(lon: number, centre: number): number {
+  const d = lon - centre;
+  return d >= -180 && d < 180 ? lon : lon - 360 * Math.round(d / 360);
+}
+
+/** A geographic tile at the longitude (±360°) whose centre is nearest the base tile's centre. */
+function nearestCopy(t: DemTile, base: GridGeo): DemTile {
+  if (t.geo.crs.kind !== 'geographic') return t;
+  const centre = t.geo.originX + (t.geo.width * t.geo.pixelX) / 2;
+  const baseCentre = base.originX + (base.width * base.pixelX) / 2;
+  const shift = nearLon(centre, baseCentre) - centre;
+  return shift === 0 ? t : { ...t, geo: { ...t.geo, originX: t.geo.originX + shift } };
+}
+
+/**
+ * Geographic tiles must lie within ±90° of latitude (a file beyond it is misread, not polar). Near the poles a
+ * lon/lat lattice degenerates — a pixel's east–west size shrinks with cos(latitude) to nothing — so a geographic
+ * mosaic reaching past POLAR_LIMIT_DEG is refused with a message: polar terrain wants a polar projection
+ * (e.g. a polar stereographic DEM), which is read like any projected CRS.
+ */
+export const POLAR_LIMIT_DEG = 85;
+
+function checkPolar(tiles: readonly DemTile[]): void {
+  for (const t of tiles) {
+    const g = t.geo;
+    if (g.crs.kind !== 'geographic') continue;
+    const yA = g.originY;
+    const yB = g.originY + g.height * g.pixelY;
+    const north = Math.max(yA, yB);
+    const south = Math.min(yA, yB);
+    if (north > 90 + 1e-6 || south < -90 - 1e-6) {
+      throw new InputError(
+        t.name,
+        `a geographic tile reaching latitude ${(north > 90 ? north : south).toFixed(4)}°`,
+        'latitudes within ±90°',
+      );
+    }
+    if (north > POLAR_LIMIT_DEG || south < -POLAR_LIMIT_DEG) {
+      throw new InputError(
+        t.name,
+        `a lon/lat tile reaching ${(north > POLAR_LIMIT_DEG ? north : south).toFixed(2)}° of latitude ` +
+          `(beyond ±${POLAR_LIMIT_DEG}° a lon/lat grid's cells shrink to slivers and the sweep cannot step on them)`,
+        `lon/lat terrain within ±${POLAR_LIMIT_DEG}° latitude; for polar regions reproject the DEM to a polar ` +
+          'projection (a polar stereographic grid, e.g. EPSG:3031 or EPSG:3413), which Airshade reads as it is',
+      );
+    }
+  }
 }

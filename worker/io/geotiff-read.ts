@@ -12,7 +12,7 @@ import { fromArrayBuffer, type GeoTIFF, type GeoTIFFImage } from 'geotiff';
 import geokeysToProj4 from 'geotiff-geokeys-to-proj4';
 import proj4 from 'proj4';
 import { InputError } from '../../shared/errors.ts';
-import { WGS84_GEOGRAPHIC, type Crs, type GridGeo } from '../core/grid.ts';
+import { WGS84_GEOGRAPHIC, type Crs, type GeoKeyEntry, type GridGeo } from '../core/grid.ts';
 import type { DemTile } from '../core/terrain.ts';
 
 export type { DemTile } from '../core/terrain.ts';
@@ -37,7 +37,28 @@ const VERTICAL_UNIT_M: Record<number, [number, string]> = {
 
 type Keys = Record<string, unknown>;
 
-export async function readDemTile(buffer: ArrayBuffer, name: string): Promise<DemTile> {
+/** The sample layout of a tile, known from its header before any pixel is decoded. */
+export interface TileHeader {
+  width: number;
+  height: number;
+  bytesPerSample: number;
+}
+
+/**
+ * Pixels of one tile refused at the header whatever the memory: its Float32 copy alone would pass 4 GiB, more
+ * than one JavaScript typed array holds.
+ */
+export const MAX_TILE_PIXELS = 2 ** 30;
+
+/**
+ * `checkHeader` (optional) sees the tile's dimensions before its pixels are decoded and may throw (the CLI refuses
+ * a tile that would not fit its memory limit there).
+ */
+export async function readDemTile(
+  buffer: ArrayBuffer,
+  name: string,
+  checkHeader?: (h: TileHeader) => void,
+): Promise<DemTile> {
   const bad = (found: string, expected: string): InputError => new InputError(name, found, expected);
   checkSignature(buffer, bad);
 
@@ -77,6 +98,13 @@ export async function readDemTile(buffer: ArrayBuffer, name: string): Promise<De
       EXPECT_SAMPLES,
     );
   }
+  if (width * height > MAX_TILE_PIXELS) {
+    throw bad(
+      `a TIFF image of ${width} x ${height} pixels`,
+      `at most ${MAX_TILE_PIXELS} pixels per tile (cut the DEM into smaller tiles)`,
+    );
+  }
+  checkHeader?.({ width, height, bytesPerSample: bits / 8 });
 
   // ---- georeferencing ------------------------------------------------------------------------------
   const transform = readTransform(fd, bad);
@@ -92,7 +120,15 @@ export async function readDemTile(buffer: ArrayBuffer, name: string): Promise<De
     originX -= pixelX / 2;
     originY -= pixelY / 2;
   }
-  const geo: GridGeo = { width, height, originX, originY, pixelX, pixelY, crs: crsInfo.crs };
+  const crs: Crs =
+    crsInfo.crs.kind === 'projected'
+      ? {
+          ...crsInfo.crs,
+          geoKeys: rawCrsGeoKeys(fd),
+          geoKeysScale: [crsInfo.scaleX, crsInfo.scaleY],
+        }
+      : crsInfo.crs;
+  const geo: GridGeo = { width, height, originX, originY, pixelX, pixelY, crs };
   if (crsInfo.crs.kind === 'projected') checkProjection(geo, bad);
 
   // ---- pixel data ----------------------------------------------------------------------------------
@@ -144,12 +180,22 @@ function checkSignature(buffer: ArrayBuffer, bad: (f: string, e: string) => Inpu
   const le = b[0] === 0x49 && b[1] === 0x49 && (b[2] === 42 || b[2] === 43) && b[3] === 0;
   const be = b[0] === 0x4d && b[1] === 0x4d && b[2] === 0 && (b[3] === 42 || b[3] === 43);
   if (!le && !be) {
-    const hex = Array.from(b, (x) => x.toString(16).padStart(2, '0')).join(' ');
-    throw bad(
-      `a file that is not a TIFF (first bytes ${hex})`,
-      'a GeoTIFF file (starting with "II*" or "MM*")',
-    );
+    // The file's own bytes are never echoed (a message may end up in a log); a few common kinds are named.
+    throw bad(`a file that is not a TIFF (${fileKind(new Uint8Array(buffer, 0, 8))})`, 'a GeoTIFF file');
   }
+}
+
+/** What a non-TIFF file looks like, in words, from its first bytes (never the bytes themselves). */
+function fileKind(b: Uint8Array): string {
+  const starts = (...x: number[]) => x.every((v, i) => b[i] === v);
+  if (starts(0x89, 0x50, 0x4e, 0x47)) return 'a PNG image';
+  if (starts(0xff, 0xd8, 0xff)) return 'a JPEG image';
+  if (starts(0x50, 0x4b, 0x03, 0x04)) return 'a zip archive';
+  if (starts(0x1f, 0x8b)) return 'a gzip archive';
+  if (starts(0x25, 0x50, 0x44, 0x46)) return 'a PDF document';
+  if (Array.from(b).every((x) => x === 9 || x === 10 || x === 13 || (x >= 32 && x < 127)))
+    return 'it begins with text';
+  return 'it does not begin with the TIFF signature';
 }
 
 type SampleKind = 'int16' | 'uint16' | 'int32' | 'float32' | 'float64';
@@ -242,6 +288,28 @@ function readTransform(fd: FileDirectory, bad: (f: string, e: string) => InputEr
     'a TIFF without georeferencing (no ModelTiepoint + ModelPixelScale or ModelTransformation)',
     expectedGeo,
   );
+}
+
+/**
+ * The CRS's geokeys as the file holds them (GeoKeyDirectory, GeoDoubleParams, GeoAsciiParams; OGC 19-008r4 §7),
+ * for writing the same CRS back: model type, geographic (2048–2061) and projected (3072–3095) keys and the citation.
+ * Raster type and vertical keys are left out (outputs are pixel-is-area, heights in metres).
+ */
+function rawCrsGeoKeys(fd: FileDirectory): GeoKeyEntry[] | undefined {
+  const dir = numbers(fd.getValue('GeoKeyDirectory'));
+  if (!dir || dir.length < 4) return undefined;
+  const doubles = numbers(fd.getValue('GeoDoubleParams')) ?? [];
+  const asciiRaw = fd.getValue('GeoAsciiParams');
+  const ascii = typeof asciiRaw === 'string' ? asciiRaw : '';
+  const out: GeoKeyEntry[] = [];
+  for (let i = 4; i + 3 < dir.length && i <= dir[3] * 4; i += 4) {
+    const [id, location, count, offset] = dir.slice(i, i + 4);
+    if (!(id === 1024 || id === 1026 || (id >= 2048 && id < 4096))) continue;
+    if (location === 0) out.push({ id, value: offset });
+    else if (location === 34736) out.push({ id, value: doubles.slice(offset, offset + count) });
+    else if (location === 34737) out.push({ id, value: ascii.substring(offset, offset + count - 1) });
+  }
+  return out;
 }
 
 function safeGeoKeys(image: GeoTIFFImage, bad: (f: string, e: string) => InputError): Keys | null {

@@ -7,14 +7,16 @@
  * pre-sized buffer, and the image is cut into ~256 KiB strips (readers can then fetch and decode strip by
  * strip). Output: little-endian classic TIFF, uncompressed, one band, chunky, with the GeoTIFF tags
  * (ModelPixelScale + ModelTiepoint, or ModelTransformation for a south-up raster), a GeoKeyDirectory
- * (model type, RasterPixelIsArea, EPSG code), the GDAL_NODATA tag (42113) read by GDAL and geotiff.js, and an
+ * (model type, RasterPixelIsArea, and the CRS: WGS84 lon/lat, the source file's own geokeys, an EPSG code, or
+ * user-defined keys — `crsGeoKeys` below — with GeoDoubleParams and GeoAsciiParams as needed), the GDAL_NODATA tag (42113) read by GDAL and geotiff.js, and an
  * optional ImageDescription (270; printable ASCII, as TIFF 6.0 asks of ASCII fields), where results carry the caution
  * followed by their provenance (io/provenance.ts: ` Provenance: ` and the JSON, non-ASCII characters \u-escaped).
  *
  * The georeferencing follows grid.ts: pixel-is-area, (originX, originY) is the outer corner of pixel (0, 0).
  */
 import { InputError } from '../../shared/errors.ts';
-import type { GridGeo } from '../core/grid.ts';
+import proj4 from 'proj4';
+import type { Crs, GeoKeyEntry, GridGeo } from '../core/grid.ts';
 import { describeWithProvenance, type Provenance } from './provenance.ts';
 
 export interface GeoTiffRaster {
@@ -94,26 +96,20 @@ export function encodeGeoTiff(r: GeoTiffRaster): ArrayBuffer {
   }
   const bytesPerSample = bitsPerSample / 8;
 
-  // GeoKeyDirectory: header (version 1, revision 1.0, key count) then sorted (id, location, count, value).
-  const keys: [number, number][] = [];
-  if (geo.crs.kind === 'geographic') {
-    keys.push([1024, 2]); // GTModelTypeGeoKey = ModelTypeGeographic
-    keys.push([1025, 1]); // GTRasterTypeGeoKey = RasterPixelIsArea
-    keys.push([2048, 4326]); // GeographicTypeGeoKey: our geographic CRS is always WGS84 lon/lat
-  } else {
-    const epsg = geo.crs.epsg;
-    if (epsg === undefined || !Number.isInteger(epsg) || epsg <= 0 || epsg >= 32767) {
-      throw new Error(
-        `encodeGeoTiff: the projected CRS "${geo.crs.label}" has no EPSG code; ` +
-          'a GeoTIFF can only be written for a projected CRS with an EPSG code',
-      );
-    }
-    keys.push([1024, 1]); // GTModelTypeGeoKey = ModelTypeProjected
-    keys.push([1025, 1]); // GTRasterTypeGeoKey = RasterPixelIsArea
-    keys.push([3072, epsg]); // ProjectedCSTypeGeoKey
-  }
-  const geoKeyDirectory = [1, 1, 0, keys.length];
-  for (const [id, value] of keys) geoKeyDirectory.push(id, 0, 1, value);
+  const keys = crsGeoKeys(geo.crs);
+  // Georeferencing in the file's own units when the CRS came with geokeys in feet or the like.
+  const [sx, sy] = geo.crs.geoKeysScale ?? [1, 1];
+  const fileGeo =
+    geo.crs.geoKeys !== undefined && (sx !== 1 || sy !== 1)
+      ? {
+          ...geo,
+          originX: geo.originX / sx,
+          originY: geo.originY / sy,
+          pixelX: geo.pixelX / sx,
+          pixelY: geo.pixelY / sy,
+        }
+      : geo;
+  const { geoKeyDirectory, doubles, ascii } = geoKeyTags(keys);
 
   const rowBytes = width * bytesPerSample;
   const rowsPerStrip = Math.max(1, Math.min(height, Math.floor(STRIP_BYTES / rowBytes)));
@@ -133,19 +129,22 @@ export function encodeGeoTiff(r: GeoTiffRaster): ArrayBuffer {
     { tag: 284, type: SHORT, values: [1] }, // PlanarConfiguration = chunky
     { tag: 339, type: SHORT, values: [sampleFormat] }, // SampleFormat
   ];
-  if (geo.pixelY < 0) {
+  const fg = fileGeo;
+  if (fg.pixelY < 0) {
     // North-up: ModelPixelScale holds |pixelY|, raster row index grows southward.
-    entries.push({ tag: 33550, type: DOUBLE, values: [geo.pixelX, -geo.pixelY, 0] });
-    entries.push({ tag: 33922, type: DOUBLE, values: [0, 0, 0, geo.originX, geo.originY, 0] });
+    entries.push({ tag: 33550, type: DOUBLE, values: [fg.pixelX, -fg.pixelY, 0] });
+    entries.push({ tag: 33922, type: DOUBLE, values: [0, 0, 0, fg.originX, fg.originY, 0] });
   } else {
     // South-up cannot be said with a positive ModelPixelScale: write the full affine matrix.
     entries.push({
       tag: 34264,
       type: DOUBLE,
-      values: [geo.pixelX, 0, 0, geo.originX, 0, geo.pixelY, 0, geo.originY, 0, 0, 0, 0, 0, 0, 0, 1],
+      values: [fg.pixelX, 0, 0, fg.originX, 0, fg.pixelY, 0, fg.originY, 0, 0, 0, 0, 0, 0, 0, 1],
     });
   }
   entries.push({ tag: 34735, type: SHORT, values: geoKeyDirectory });
+  if (doubles.length > 0) entries.push({ tag: 34736, type: DOUBLE, values: doubles });
+  if (ascii.length > 0) entries.push({ tag: 34737, type: ASCII, values: ascii });
   if (r.nodata !== undefined) {
     const nd = r.nodata;
     const text = Number.isNaN(nd) ? 'nan' : sampleFormat === 2 ? String(Math.round(nd)) : String(nd);
@@ -245,4 +244,226 @@ function writeValues(view: DataView, at: number, e: Entry): void {
     else if (e.type === LONG) view.setUint32(at + i * 4, v[i], true);
     else view.setFloat64(at + i * 8, v[i], true);
   }
+}
+
+// ---- the CRS as geokeys ---------------------------------------------------------------------------------------
+
+/** Geokey ids (OGC 19-008r4 / GeoTIFF 1.0 §6.2) used below. */
+const K = {
+  model: 1024,
+  rasterType: 1025,
+  citation: 1026,
+  geographicType: 2048,
+  geodeticDatum: 2050,
+  primeMeridian: 2051,
+  angularUnits: 2054,
+  ellipsoid: 2056,
+  semiMajor: 2057,
+  invFlattening: 2059,
+  primeMeridianLong: 2061,
+  toWgs84: 2062,
+  projectedType: 3072,
+  projection: 3074,
+  coordTrans: 3075,
+  linearUnits: 3076,
+  stdParallel1: 3078,
+  stdParallel2: 3079,
+  natOriginLong: 3080,
+  natOriginLat: 3081,
+  falseEasting: 3082,
+  falseNorthing: 3083,
+  falseOriginLong: 3084,
+  falseOriginLat: 3085,
+  falseOriginEasting: 3086,
+  falseOriginNorthing: 3087,
+  centerLong: 3088,
+  centerLat: 3089,
+  scaleAtNatOrigin: 3092,
+  straightVertPoleLong: 3095,
+} as const;
+const USER_DEFINED = 32767;
+
+/** Why a CRS cannot be written as GeoTIFF geokeys, or undefined when it can (check before long work). */
+export function geoTiffCrsProblem(crs: Crs): string | undefined {
+  try {
+    crsGeoKeys(crs);
+    return undefined;
+  } catch (e) {
+    return e instanceof Error ? e.message : String(e);
+  }
+}
+
+/**
+ * The geokeys of a CRS, in this order of preference: the keys the source file gave (any CRS we could read, custom
+ * WKT without an EPSG code included, written back as it was); the EPSG code; or user-defined keys built from the
+ * proj4 definition for the common projections (GeoTIFF 1.0 §6.3.3.3 coordinate transformation codes).
+ */
+export function crsGeoKeys(crs: Crs): GeoKeyEntry[] {
+  const area: GeoKeyEntry = { id: K.rasterType, value: 1 }; // RasterPixelIsArea
+  if (crs.kind === 'geographic') {
+    // Our geographic CRS is always WGS84 lon/lat.
+    return [{ id: K.model, value: 2 }, area, { id: K.geographicType, value: 4326 }];
+  }
+  if (crs.geoKeys && crs.geoKeys.length > 0) {
+    const kept = crs.geoKeys.filter((k) => k.id !== K.model && k.id !== K.rasterType && k.id < 4096);
+    return [{ id: K.model, value: 1 }, area, ...kept];
+  }
+  if (crs.epsg !== undefined && Number.isInteger(crs.epsg) && crs.epsg > 0 && crs.epsg < USER_DEFINED) {
+    return [{ id: K.model, value: 1 }, area, { id: K.projectedType, value: crs.epsg }];
+  }
+  return [{ id: K.model, value: 1 }, area, ...userDefinedProjected(crs)];
+}
+
+/** proj4's parsed definition: the fields read below (angles in radians). */
+interface ParsedProj {
+  projName?: string;
+  a: number;
+  b?: number;
+  rf?: number;
+  lat0?: number;
+  long0?: number;
+  lat1?: number;
+  lat2?: number;
+  lat_ts?: number;
+  k0?: number;
+  x0?: number;
+  y0?: number;
+  to_meter?: number;
+  from_greenwich?: number;
+  datum_params?: (number | string)[];
+}
+
+function userDefinedProjected(crs: Crs): GeoKeyEntry[] {
+  let p: ParsedProj;
+  try {
+    p = proj4.Proj(crs.proj4) as unknown as ParsedProj;
+  } catch (e) {
+    throw new Error(`the CRS "${crs.label}" (${crs.proj4}) cannot be parsed by proj4: ${String(e)}`);
+  }
+  const deg = (r: number | undefined) => ((r ?? 0) * 180) / Math.PI;
+  const num = (v: number | undefined) => [v ?? 0];
+  const keys: GeoKeyEntry[] = [];
+  keys.push({ id: K.citation, value: asciiText(crs.label) });
+  // The geographic base: WGS84 by code, otherwise its ellipsoid (and datum shift) spelled out.
+  const params = (p.datum_params ?? []).map(Number);
+  const shift = params.some((v) => v !== 0);
+  const rf = p.rf ?? (p.b !== undefined && p.b !== p.a ? p.a / (p.a - p.b) : 0);
+  const wgs84 = Math.abs(p.a - 6378137) < 1e-3 && Math.abs(rf - 298.257223563) < 1e-6 && !shift;
+  if (p.from_greenwich) throw new Error(`the CRS "${crs.label}" has a prime meridian other than Greenwich`);
+  if (wgs84) {
+    keys.push({ id: K.geographicType, value: 4326 });
+  } else {
+    keys.push({ id: K.geographicType, value: USER_DEFINED });
+    keys.push({ id: K.geodeticDatum, value: USER_DEFINED });
+    keys.push({ id: K.primeMeridian, value: 8901 });
+    keys.push({ id: K.angularUnits, value: 9102 });
+    keys.push({ id: K.ellipsoid, value: USER_DEFINED });
+    keys.push({ id: K.semiMajor, value: [p.a] });
+    keys.push({ id: K.invFlattening, value: [rf] });
+    if (shift) keys.push({ id: K.toWgs84, value: params });
+  }
+  if (p.to_meter !== undefined && p.to_meter !== 1) {
+    throw new Error(`the CRS "${crs.label}" is not in metres (to_meter ${p.to_meter})`);
+  }
+  keys.push({ id: K.projectedType, value: USER_DEFINED });
+  keys.push({ id: K.projection, value: USER_DEFINED });
+  keys.push({ id: K.linearUnits, value: 9001 });
+  const fe = { id: K.falseEasting, value: num(p.x0) };
+  const fn = { id: K.falseNorthing, value: num(p.y0) };
+  switch (p.projName) {
+    case 'utm':
+    case 'tmerc':
+    case 'etmerc':
+      keys.push({ id: K.coordTrans, value: 1 }); // CT_TransverseMercator
+      keys.push({ id: K.natOriginLong, value: [deg(p.long0)] }, { id: K.natOriginLat, value: [deg(p.lat0)] });
+      keys.push({ id: K.scaleAtNatOrigin, value: num(p.k0 ?? 1) }, fe, fn);
+      break;
+    case 'merc':
+      keys.push({ id: K.coordTrans, value: 7 }); // CT_Mercator
+      keys.push({ id: K.natOriginLong, value: [deg(p.long0)] }, { id: K.natOriginLat, value: [deg(p.lat0)] });
+      if (p.lat_ts) keys.push({ id: K.stdParallel1, value: [deg(p.lat_ts)] });
+      else keys.push({ id: K.scaleAtNatOrigin, value: num(p.k0 ?? 1) });
+      keys.push(fe, fn);
+      break;
+    case 'lcc':
+      if (p.lat2 !== undefined && p.lat1 !== p.lat2) {
+        keys.push({ id: K.coordTrans, value: 8 }); // CT_LambertConfConic_2SP
+        keys.push({ id: K.stdParallel1, value: [deg(p.lat1)] }, { id: K.stdParallel2, value: [deg(p.lat2)] });
+        keys.push({ id: K.falseOriginLong, value: [deg(p.long0)] });
+        keys.push({ id: K.falseOriginLat, value: [deg(p.lat0)] });
+        keys.push({ id: K.falseOriginEasting, value: num(p.x0) });
+        keys.push({ id: K.falseOriginNorthing, value: num(p.y0) });
+      } else {
+        keys.push({ id: K.coordTrans, value: 9 }); // CT_LambertConfConic_1SP
+        keys.push({ id: K.natOriginLong, value: [deg(p.long0)] });
+        keys.push({ id: K.natOriginLat, value: [deg(p.lat1 ?? p.lat0)] });
+        keys.push({ id: K.scaleAtNatOrigin, value: num(p.k0 ?? 1) }, fe, fn);
+      }
+      break;
+    case 'laea':
+      keys.push({ id: K.coordTrans, value: 10 }); // CT_LambertAzimEqualArea
+      keys.push(
+        { id: K.centerLong, value: [deg(p.long0)] },
+        { id: K.centerLat, value: [deg(p.lat0)] },
+        fe,
+        fn,
+      );
+      break;
+    case 'aea':
+      keys.push({ id: K.coordTrans, value: 11 }); // CT_AlbersEqualArea
+      keys.push({ id: K.stdParallel1, value: [deg(p.lat1)] }, { id: K.stdParallel2, value: [deg(p.lat2)] });
+      keys.push({ id: K.natOriginLong, value: [deg(p.long0)] }, { id: K.natOriginLat, value: [deg(p.lat0)] });
+      keys.push(fe, fn);
+      break;
+    case 'aeqd':
+      keys.push({ id: K.coordTrans, value: 12 }); // CT_AzimuthalEquidistant
+      keys.push(
+        { id: K.centerLong, value: [deg(p.long0)] },
+        { id: K.centerLat, value: [deg(p.lat0)] },
+        fe,
+        fn,
+      );
+      break;
+    case 'eqc':
+      keys.push({ id: K.coordTrans, value: 17 }); // CT_Equirectangular
+      keys.push({ id: K.natOriginLong, value: [deg(p.long0)] }, { id: K.natOriginLat, value: [deg(p.lat0)] });
+      keys.push({ id: K.stdParallel1, value: [deg(p.lat_ts)] }, fe, fn);
+      break;
+    default:
+      throw new Error(
+        `the CRS "${crs.label}" (${crs.proj4}) has no EPSG code, no geokeys from its source file, and a ` +
+          `projection (${p.projName ?? 'unknown'}) this writer cannot spell as GeoTIFF keys`,
+      );
+  }
+  return keys;
+}
+
+/** Printable ASCII only (TIFF 6.0 ASCII fields). A '|' inside stays: readers take a key's text by its count. */
+function asciiText(s: string): string {
+  return s.replace(/[^\x20-\x7e]/g, '?');
+}
+
+/** The GeoKeyDirectory (sorted by id), GeoDoubleParams and GeoAsciiParams ('|'-terminated) of a key list. */
+function geoKeyTags(keys: readonly GeoKeyEntry[]): {
+  geoKeyDirectory: number[];
+  doubles: number[];
+  ascii: string;
+} {
+  const sorted = [...keys].sort((a, b) => a.id - b.id);
+  const dir = [1, 1, 0, sorted.length];
+  const doubles: number[] = [];
+  let ascii = '';
+  for (const k of sorted) {
+    if (typeof k.value === 'number') {
+      dir.push(k.id, 0, 1, k.value);
+    } else if (typeof k.value === 'string') {
+      const text = asciiText(k.value);
+      dir.push(k.id, 34737, text.length + 1, ascii.length);
+      ascii += text + '|';
+    } else {
+      dir.push(k.id, 34736, k.value.length, doubles.length);
+      doubles.push(...k.value);
+    }
+  }
+  return { geoKeyDirectory: dir, doubles, ascii };
 }

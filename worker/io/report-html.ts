@@ -55,6 +55,11 @@ export interface ReportSite {
 export interface ReportPlan {
   /** The file as the user named it. */
   file: string;
+  /**
+   * Where the plan was made, when not by `airshade plan` into `file` (the app's Plan panel): one sentence, shown
+   * instead of the file's.
+   */
+  origin?: string;
   mode?: string;
   cost: number;
   lowerBound: number;
@@ -377,7 +382,7 @@ function mapSvg(map: ReportMap, f: MapFrame): string {
     `<image class="${cls}" href="${pngDataUri(m)}" x="0" y="0" width="${W}" height="${H}" preserveAspectRatio="none"/>`;
   const grat = graticule(f);
   const hatch = map.hatch
-    ? `<mask id="as-unmet-${id}" maskUnits="userSpaceOnUse" x="0" y="0" width="${W}" height="${H}" style="mask-type:alpha">${img(map.hatch, 'cells')}</mask>` +
+    ? `<mask id="as-unmet-${id}" maskUnits="userSpaceOnUse" x="0" y="0" width="${W}" height="${H}" mask-type="alpha">${img(map.hatch, 'cells')}</mask>` +
       `<rect x="0" y="0" width="${W}" height="${H}" fill="url(#as-hatch)" mask="url(#as-unmet-${id})" class="unmet"/>`
     : '';
   return (
@@ -479,7 +484,10 @@ ${rows([
   ],
   ['Network', esc(m.network.label)],
   ['Made by', `${esc(p.tool)} ${esc(p.version)}${p.commit ? ` (commit <code>${esc(p.commit)}</code>)` : ''}`],
-  ['Command', `<code>airshade ${esc(p.command)}${opts ? ' ' + esc(opts) : ''}</code>`],
+  // The web app records its actions as "app <action>" (app/exports.ts): not a command anyone can type.
+  p.command.startsWith('app ')
+    ? ['Made in', `the web app: ${esc(p.command.slice(4))}${opts ? ` (${esc(opts)})` : ''}`]
+    : ['Command', `<code>airshade ${esc(p.command)}${opts ? ' ' + esc(opts) : ''}</code>`],
   ['Run started (UTC)', esc(p.createdUtc ?? 'not recorded')],
 ])}
 </tbody></table>
@@ -638,8 +646,12 @@ function planSection(m: ReportModel, n: number): string {
   const alt = new Map(m.conventions.levels.map((l) => [l.flightLevel, l.trueAltitudeM]));
   return `<section class="text" id="plan">
 <h2>${n} The plan</h2>
-<p>From <code>${esc(p.file)}</code> (written by <code>airshade plan</code> for this scenario file: its SHA-256
-matches). The figures are the plan's own, for its sensors; the maps and tables above are those of the network
+<p>${
+    p.origin
+      ? esc(p.origin)
+      : `From <code>${esc(p.file)}</code> (written by <code>airshade plan</code> for this scenario file: its SHA-256
+matches).`
+  } The figures are the plan's own, for its sensors; the maps and tables above are those of the network
 named in section 1.</p>
 <table class="kv" data-table="plan-summary"><tbody>
 ${rows([

@@ -11,6 +11,7 @@
  * Parsed with csv-parse (RFC 4180 quoting). A row number in a message is the row's line in the file, the
  * header being row 1.
  */
+import { nearLon } from '../core/terrain.ts';
 import { parse as parseCsv, type CsvError } from 'csv-parse/sync';
 import { parse as scanJson, printParseErrorCode, type ParseError } from 'jsonc-parser';
 import { InputError } from '../../shared/errors.ts';
@@ -59,11 +60,67 @@ const JSON_EXPECTED: Record<string, string> = {
 };
 
 /**
+ * Limits of a JSON input, checked before it is parsed: its size (a scenario, a sites file or a sensor catalog is
+ * kilobytes to a few megabytes; detailed volume polygons stay well under this) and its nesting (the deepest
+ * legitimate place, a MultiPolygon's coordinates inside a volume inside the scenario, is 7 levels deep). Deeper
+ * nesting would exhaust the stack of the validators that walk it.
+ */
+export const JSON_LIMITS = Object.freeze({ maxChars: 256 * 1024 * 1024, maxDepth: 64 });
+
+/** The first place where `text`'s nesting passes `maxDepth` (its offset), or -1. Strings are skipped. */
+export function tooDeepAt(text: string, maxDepth: number): number {
+  let depth = 0;
+  let inString = false;
+  for (let i = 0; i < text.length; i++) {
+    const c = text.charCodeAt(i);
+    if (inString) {
+      if (c === 92)
+        i++; // backslash: skip the escaped character
+      else if (c === 34) inString = false;
+    } else if (c === 34) inString = true;
+    else if (c === 91 || c === 123) {
+      if (++depth > maxDepth) return i;
+    } else if (c === 93 || c === 125) depth--;
+  }
+  return -1;
+}
+
+/** What a character is, in words (a message never echoes the file's own text). */
+function charKind(ch: string): string {
+  if (ch === '') return 'the end of the file';
+  if (/[A-Za-z]/.test(ch)) return 'a letter';
+  if (/[0-9]/.test(ch)) return 'a digit';
+  if (ch === '"' || ch === "'") return 'a quote';
+  if (/[{}[\],:]/.test(ch)) return `"${ch}"`; // JSON punctuation: part of the syntax, not of the content
+  if (/\s/.test(ch)) return 'white space';
+  if (ch.charCodeAt(0) < 32) return 'a control character';
+  if (ch.charCodeAt(0) > 126) return 'a non-ASCII character';
+  return 'a punctuation mark';
+}
+
+/**
  * JSON.parse, and on a syntax error a message with the line and column. Node's own message does not always
  * say where the error is, so the position comes from a JSON scanner (jsonc-parser, with comments and
- * trailing commas disallowed as in strict JSON).
+ * trailing commas disallowed as in strict JSON). The file's text is never echoed: what stands at the error is
+ * described (a letter, a digit, a quote …), so a file named by mistake does not leak into a log.
  */
 export function parseJsonText(text: string, display: string, what: string): unknown {
+  if (text.length > JSON_LIMITS.maxChars) {
+    throw new InputError(
+      display,
+      `${(text.length / 1048576).toFixed(0)} MiB of text`,
+      `${what} of at most ${JSON_LIMITS.maxChars / 1048576} MiB`,
+    );
+  }
+  const deep = tooDeepAt(text, JSON_LIMITS.maxDepth);
+  if (deep >= 0) {
+    const { line, column } = lineColumn(text, deep);
+    throw new InputError(
+      `${display}: line ${line}, column ${column}`,
+      `lists or objects nested more than ${JSON_LIMITS.maxDepth} levels deep`,
+      `${what}, nested at most ${JSON_LIMITS.maxDepth} levels`,
+    );
+  }
   try {
     return JSON.parse(text);
   } catch (e) {
@@ -71,12 +128,12 @@ export function parseJsonText(text: string, display: string, what: string): unkn
     const errors: ParseError[] = [];
     scanJson(text, errors, { disallowComments: true, allowTrailingComma: false, allowEmptyContent: false });
     if (errors.length === 0) {
-      throw new InputError(display, `invalid JSON (${(e as Error).message})`, what);
+      // Node's message may quote the text: only its kind is kept.
+      throw new InputError(display, `invalid JSON (${(e as Error).name})`, what);
     }
     const first = errors[0];
     const { line, column } = lineColumn(text, first.offset);
-    const token = text.slice(first.offset, first.offset + Math.max(1, Math.min(first.length, 20)));
-    const found = first.offset >= text.length ? 'the end of the file' : showValue(token);
+    const found = first.offset >= text.length ? 'the end of the file' : charKind(text.charAt(first.offset));
     const code = printParseErrorCode(first.error);
     throw new InputError(
       `${display}: line ${line}, column ${column}`,
@@ -168,7 +225,13 @@ export function readSitesCsv(text: string, display: string): CsvSites {
     }) as unknown as typeof records;
   } catch (e) {
     const err = e as CsvError & { lines?: number; record?: unknown };
-    if (err.code === 'CSV_RECORD_INCONSISTENT_COLUMNS' && Array.isArray(err.record) && err.lines) {
+    const sitesHeader = header.some((h) => CSV_COLUMNS.some((k) => k.toLowerCase() === h.toLowerCase()));
+    if (
+      err.code === 'CSV_RECORD_INCONSISTENT_COLUMNS' &&
+      Array.isArray(err.record) &&
+      err.lines &&
+      sitesHeader
+    ) {
       const n = err.record.length;
       throw new InputError(
         csvCellWhere(display, err.lines),
@@ -177,18 +240,25 @@ export function readSitesCsv(text: string, display: string): CsvSites {
           'a value that holds a comma goes in double quotes ("North Hill, upper")',
       );
     }
+    // csv-parse's own message quotes the text: only its code is kept.
     throw new InputError(
       err.lines ? csvCellWhere(display, err.lines) : display,
-      `text that is not a well-formed CSV table (${err.message})`,
+      `text that is not a well-formed CSV table (${err.code ?? 'unreadable'})`,
       `a header row (${CSV_COLUMNS.join(', ')}) and one row per site, each with one value per column`,
     );
   }
   const present = new Set(header.map((c) => c.toLowerCase()));
   const missing = CSV_REQUIRED.filter((c) => !present.has(c.toLowerCase()));
+  // The header is shown only when it is recognisably a sites table's (a file named by mistake is not echoed).
+  const known = header.filter((h) => CSV_COLUMNS.some((k) => k.toLowerCase() === h.toLowerCase()));
   if (missing.length > 0) {
     throw new InputError(
       csvCellWhere(display, 1),
-      header.length ? `the columns ${header.join(', ')}` : 'no header row',
+      header.length === 0
+        ? 'no header row'
+        : known.length > 0
+          ? `the columns ${header.join(', ')}`
+          : `a first row of ${header.length} cell${header.length === 1 ? '' : 's'}, none of them a known column`,
       `a header row with the columns ${CSV_REQUIRED.join(', ')} (optional: existing, allowedTypes, tiltDeg); missing ${missing.join(', ')}`,
     );
   }
@@ -409,9 +479,13 @@ export function checkAgainstTerrain(
     lon >= bounds.west && lon <= bounds.east && lat >= bounds.south && lat <= bounds.north;
   const extent = `${fmt(bounds.west)}…${fmt(bounds.east)}° E, ${fmt(bounds.south)}…${fmt(bounds.north)}° N`;
   const problems: InputError[] = [];
+  // A site's longitude is taken within ±180° of the terrain's middle: terrain across the antimeridian has
+  // continuous bounds (e.g. 179.5…180.5° E) and a site there may be given as −179.8°. (Volume vertices are not:
+  // the volume rasteriser works on the grid's own longitudes.)
+  const midLon = (bounds.west + bounds.east) / 2;
   s.sites.forEach((f, i) => {
     const [lon, lat] = f.geometry.coordinates;
-    if (!inside(lon, lat)) {
+    if (!inside(nearLon(lon, midLon), lat)) {
       problems.push(
         new InputError(
           locate(['sites', 'features', i]),

@@ -1,16 +1,15 @@
 /**
- * "New study" in the Files panel: terrain tiles (any CRS the reader knows), the planner's sites (CSV or GeoJSON)
+ * "New study" in the Files panel (files.ts): terrain tiles (any CRS the reader knows), the planner's sites (CSV or GeoJSON)
  * and, if they have them, their volumes and sensor types; the study is built by app/new-study.ts and replaces the
  * current work only after the planner says so (with a chance to save it first) and only once every check has
  * passed: the files' schema first (before any tile is read), then the sites and volumes against the tiles'
  * extent. A refusal leaves the work, the terrain and what is stored in the browser as they were.
  */
-import { InputError } from '../shared/errors.ts';
-import type { App } from './app.ts';
-import { ask } from './ask.ts';
-import { download, h } from './dom.ts';
-import { savedScenarioText, scenarioFileName } from './exports.ts';
-import { isTiff, readJsonFile, readSitesFile } from './files.ts';
+import { InputError } from '../../shared/errors.ts';
+import { ask } from '../ask.ts';
+import { download, h } from '../dom.ts';
+import { savedScenarioText, scenarioFileName, type ExportHost } from '../exports.ts';
+import { isTiff, readJsonFile, readSitesFile } from '../files.ts';
 import {
   checkFilesAlone,
   newStudyDefaultText,
@@ -19,8 +18,14 @@ import {
   type GivenFile,
   type NewStudy,
   type NewStudyFiles,
-} from './new-study.ts';
-import { errorLines, stateFromScenario } from './state.ts';
+} from '../new-study.ts';
+import type { PanelHost } from '../panel-host.ts';
+import { errorLines, stateFromScenario } from '../state.ts';
+import { dropZone, filePicker } from './kit.ts';
+
+/** What a new study needs of the host (the Files panel's). */
+export type NewStudyHost = ExportHost &
+  Pick<PanelHost, 'busy' | 'job' | 'say' | 'render' | 'adoptLoaded' | 'save' | 'afterTerrain'>;
 
 /** What the planner picked so far (kept across redraws of the panel, which are frequent). */
 export interface NewStudyPicks {
@@ -78,42 +83,29 @@ function sniff(json: unknown): 'sites' | 'volumes' | 'types' | null {
 }
 
 /** The section of the Files panel. */
-export function newStudySection(app: App): HTMLElement {
-  const redraw = () => app.render();
+export function newStudySection(host: NewStudyHost): HTMLElement {
+  const redraw = () => host.render();
+  // A pick redraws the list of what is picked.
   const picker = (
     id: string,
     label: string,
     accept: string,
     multiple: boolean,
     take: (f: File[]) => void,
-  ): HTMLElement => {
-    const input = h('input', { type: 'file', id, accept, multiple });
-    input.addEventListener('change', () => {
-      const files = [...(input.files ?? [])];
-      input.value = '';
-      if (files.length) {
-        take(files);
-        redraw();
-      }
-    });
-    return h('label', { className: 'picker' }, label, ' ', input);
-  };
-  const drop = h('div', { className: 'drop', id: 'new-study-drop' }, '…or drop all the files here');
-  drop.addEventListener('dragover', (e) => {
-    e.preventDefault();
-    drop.classList.add('over');
-  });
-  drop.addEventListener('dragleave', () => drop.classList.remove('over'));
-  drop.addEventListener('drop', (e) => {
-    e.preventDefault();
-    e.stopPropagation();
-    drop.classList.remove('over');
-    const files = [...(e.dataTransfer?.files ?? [])];
-    void sortDropped(files).then((notes) => {
-      if (notes.length) app.say('error', notes);
+  ): HTMLElement =>
+    filePicker(id, label, accept, multiple, (files) => {
+      take(files);
       redraw();
     });
-  });
+  const drop = dropZone(
+    '…or drop all the files here',
+    (files) =>
+      void sortDropped(files).then((notes) => {
+        if (notes.length) host.say('error', notes);
+        redraw();
+      }),
+    'new-study-drop',
+  );
   const remove = (label: string, run: () => void) =>
     h(
       'button',
@@ -212,8 +204,8 @@ export function newStudySection(app: App): HTMLElement {
       {
         id: 'new-study-create',
         className: 'primary',
-        disabled: !ready || app.busy !== null,
-        onclick: () => void startNewStudy(app, name.value),
+        disabled: !ready || host.busy !== null,
+        onclick: () => void startNewStudy(host, name.value),
       },
       'Create the study',
     ),
@@ -228,9 +220,9 @@ async function given(f: File | null, what: string): Promise<GivenFile | null> {
  * Builds and opens the new study from the picks. Nothing changes until every check has passed and the planner
  * has agreed to replace the present work.
  */
-export async function startNewStudy(app: App, name: string): Promise<void> {
+export async function startNewStudy(host: NewStudyHost, name: string): Promise<void> {
   const refused = (e: unknown) =>
-    app.say('error', ['The new study was not started; your work is unchanged.', ...errorLines(e)]);
+    host.say('error', ['The new study was not started; your work is unchanged.', ...errorLines(e)]);
   const tiles = picks.tiles;
   if (tiles.length === 0 || !picks.sites) {
     refused(
@@ -262,7 +254,7 @@ export async function startNewStudy(app: App, name: string): Promise<void> {
   const answer = await ask(
     'Start a new study?',
     [
-      `“${app.state.doc.name}” and everything computed for it will be replaced by the new study (${tiles.length} terrain tile${tiles.length > 1 ? 's' : ''}, sites from ${sites.display}).`,
+      `“${host.state.doc.name}” and everything computed for it will be replaced by the new study (${tiles.length} terrain tile${tiles.length > 1 ? 's' : ''}, sites from ${sites.display}).`,
       'Save its scenario file first to keep it: it opens again with its terrain tiles.',
     ],
     [
@@ -270,21 +262,21 @@ export async function startNewStudy(app: App, name: string): Promise<void> {
         label: 'Save the current scenario file',
         value: 'save',
         id: 'new-study-save-old',
-        run: () => void savedScenarioText(app).then((text) => download(scenarioFileName(app), text)),
+        run: () => void savedScenarioText(host).then((text) => download(scenarioFileName(host), text)),
       },
       { label: 'Start the new study', value: 'go', primary: true, id: 'new-study-go' },
     ],
     { id: 'new-study-confirm' },
   );
   if (answer !== 'go') return;
-  const before = { names: await app.engine.tileNames(), doc: app.state.doc, source: app.state.source };
-  await app.job('New study', async (progress) => {
+  const before = { names: await host.engine.tileNames(), doc: host.state.doc, source: host.state.source };
+  await host.job('New study', async (progress) => {
     progress(0.1, `reading ${tiles.length} terrain tile${tiles.length > 1 ? 's' : ''}`);
     // 3. The tiles: read and decoded, not yet kept in the browser's storage.
     let terrain;
     try {
       terrain = (
-        await app.engine.loadTiles(
+        await host.engine.loadTiles(
           tiles.map((f) => ({ name: f.name, file: f })),
           true,
           undefined,
@@ -300,14 +292,14 @@ export async function startNewStudy(app: App, name: string): Promise<void> {
     let study;
     try {
       built = studyOnTerrain(terrain, files);
-      study = await app.engine.setScenario(built.doc, NEW_STUDY_DISPLAY);
+      study = await host.engine.setScenario(built.doc, NEW_STUDY_DISPLAY);
     } catch (e) {
       // The tiles do not hold the sites (or volumes): the previous terrain and study come back.
       try {
-        await app.engine.restoreTiles(before.names, { input: before.doc, display: before.source });
+        await host.engine.restoreTiles(before.names, { input: before.doc, display: before.source });
         refused(e);
       } catch (e2) {
-        app.say('error', [
+        host.say('error', [
           'The new study was not started, and the previous terrain could not be read back from this browser: reload the page to restore your work.',
           ...errorLines(e),
           ...errorLines(e2),
@@ -316,16 +308,16 @@ export async function startNewStudy(app: App, name: string): Promise<void> {
       return;
     }
     progress(0.85, 'drawing');
-    const state = stateFromScenario(built.scenario, NEW_STUDY_DISPLAY, app.state.units);
-    await app.engine.keepLoaded();
-    app.adoptLoaded(state, terrain, study);
-    app.save();
-    await app.afterTerrain();
+    const state = stateFromScenario(built.scenario, NEW_STUDY_DISPLAY, host.state.units);
+    await host.engine.keepLoaded();
+    host.adoptLoaded(state, terrain, study);
+    host.save();
+    await host.afterTerrain();
     picks.tiles = [];
     picks.sites = picks.volumes = picks.types = null;
     const c = built.choices;
     const b = c.area;
-    app.say('info', [
+    host.say('info', [
       `New study “${state.doc.name}”: ${c.siteCount} sites from ${c.sitesFrom}, ${c.sensorTypes.ids.length} sensor types from ${c.sensorTypes.from}, ${c.volumes.length} volume${c.volumes.length > 1 ? 's' : ''}${c.defaultVolume ? ' (the study area)' : ''}.`,
       `Study area ${b.west.toFixed(3)}…${b.east.toFixed(3)}° E, ${b.south.toFixed(3)}…${b.north.toFixed(3)}° N, in cells of ${c.cell.cellArcSec}″ (${c.cell.width} × ${c.cell.height}): ${c.cell.rule}.`,
       ...c.warnings,

@@ -1,0 +1,120 @@
+/**
+ * Outages: sites taken down (ticked here or clicked on the map) and what the network loses — volume area and
+ * demand weight, per level and per volume — and the N−1 table (one site down at a time).
+ */
+import { formatFl } from '../../shared/units.ts';
+import { h, table } from '../dom.ts';
+import { progressProxy } from '../engine-client.ts';
+import type { PanelHost } from '../panel-host.ts';
+import { DEMAND_WEIGHT_TEXT, fmtArea, fmtDemandWeight } from '../units.ts';
+import { section } from './kit.ts';
+
+type Host = Pick<
+  PanelHost,
+  'state' | 'engine' | 'busy' | 'job' | 'coverage' | 'outage' | 'plan' | 'nMinus1' | 'toggleFailure'
+>;
+
+/**
+ * The study's whole demand weight (every volume cell at every level of its band, area × weight): from the last
+ * coverage run's volume table, else from the last plan; undefined when neither is there.
+ */
+function totalDemandWeight(host: Pick<PanelHost, 'state' | 'coverage' | 'plan'>): number | undefined {
+  const c = host.coverage;
+  if (c) {
+    const w = new Map(host.state.doc.volumes.map((v) => [v.id, v.weight ?? 1]));
+    return c.volumes.reduce((a, v) => a + v.areaKm2 * (w.get(v.volumeId) ?? 1), 0);
+  }
+  return host.plan?.totalWeight;
+}
+
+export function outagesPanel(host: Host): HTMLElement {
+  const s = host.state;
+  const u = s.units;
+  const sites = [...new Set(s.network.map((r) => r.siteId))];
+  const name = (id: string) =>
+    s.doc.sites.features.find((f) => f.properties.id === id)?.properties.name ?? id;
+  const o = host.outage;
+  const boxes = sites.map((id) => {
+    const c = h('input', { type: 'checkbox', checked: s.failed.includes(id), 'data-fail': id });
+    c.addEventListener('change', () => void host.toggleFailure(id));
+    return h('label', { className: 'fail-row' }, c, ' ', name(id));
+  });
+  const loss =
+    o && o.failed.length
+      ? section(
+          'What is lost',
+          h(
+            'p',
+            { id: 'outage-loss' },
+            `${o.failed.map(name).join(', ')} down: ${fmtArea(o.areaKm2Lost, u)} of volume area lose their requirement at one level or more.`,
+          ),
+          h(
+            'p',
+            { id: 'outage-weight', title: DEMAND_WEIGHT_TEXT },
+            `Demand weight lost: ${fmtDemandWeight(o.demandWeightLost, totalDemandWeight(host))}.`,
+          ),
+          table(
+            ['Level', 'Volume area losing its requirement'],
+            (host.coverage?.flightLevels ?? []).map((fl, i) => [
+              formatFl(fl),
+              fmtArea(o.lostKm2ByLevel[i] ?? 0, u),
+            ]),
+            { id: 'outage-levels' },
+          ),
+          table(
+            ['Volume', 'Level', 'Area lost'],
+            o.byVolume
+              .filter((x) => x.areaKm2Lost > 0)
+              .map((x) => [
+                s.doc.volumes.find((v) => v.id === x.volumeId)?.name ?? x.volumeId,
+                formatFl(x.flightLevel),
+                fmtArea(x.areaKm2Lost, u),
+              ]),
+          ),
+        )
+      : h('p', { className: 'hint', id: 'outage-loss' }, 'No site failed.');
+  const n1 = host.nMinus1;
+  return h(
+    'div',
+    {},
+    h('h2', {}, 'Outages'),
+    h(
+      'p',
+      { className: 'hint' },
+      'Click a site on the map, or tick it here, to take it down; the loss shows at once from the cached footprints.',
+    ),
+    host.coverage ? h('div', { className: 'fail-list' }, ...boxes) : h('p', {}, 'Compute coverage first.'),
+    loss,
+    section(
+      'One site down at a time (N−1)',
+      h(
+        'button',
+        {
+          id: 'run-n1',
+          disabled: host.busy !== null || !host.coverage,
+          onclick: () =>
+            void host.job('Outage table', async (progress) => {
+              host.nMinus1 = await host.engine.outageTable(undefined, progressProxy(progress));
+            }),
+        },
+        'Table for the current network',
+      ),
+      n1
+        ? table(
+            ['Site down', 'Volume area losing its requirement', 'Demand weight lost'],
+            n1.map((x) => [
+              name(x.siteId),
+              fmtArea(x.areaKm2Lost, u),
+              fmtDemandWeight(x.demandWeightLost, totalDemandWeight(host)),
+            ]),
+            { id: 'n1-table', className: 'wide' },
+          )
+        : null,
+    ),
+    h(
+      'p',
+      { className: 'hint', id: 'demand-weight-hint' },
+      `Areas count a cell once however many volumes and levels it loses. ${DEMAND_WEIGHT_TEXT} The share is of the whole study’s demand.`,
+    ),
+  );
+}

@@ -1,0 +1,206 @@
+/**
+ * Terrain across the antimeridian: two lon/lat tiles either side of 180° over the open North Pacific (40–40.5° N,
+ * invented hills) give the same floor and the same coverage as the very same geometry moved 180° west (straddling
+ * 0°), where no wrap is involved. A longitude shift changes no geodesic distance or azimuth on the ellipsoid, so the
+ * figures must agree exactly (common practice: the WGS84 ellipsoid is symmetric about its axis). Also: lon/lat
+ * tiles reaching the poles are refused with a message.
+ */
+import { afterAll, beforeAll, describe, expect, it } from 'vitest';
+import { copyFileSync, mkdtempSync, readFileSync, rmSync, writeFileSync } from 'node:fs';
+import { tmpdir } from 'node:os';
+import { join } from 'node:path';
+import { fromArrayBuffer } from 'geotiff';
+import { runCli } from './support/run-cli.ts';
+import { bumpyDem } from './support/bumps.ts';
+import { ring, writeScenarioFixture, type Fixture } from './support/scenario-fixture.ts';
+import { encodeGeoTiff } from '../worker/io/geotiff-write.ts';
+import { WGS84_GEOGRAPHIC } from '../worker/core/grid.ts';
+
+const N = 241;
+const PX = 0.5 / (N - 1);
+let dir: string;
+const fixtures: Fixture[] = [];
+
+/** West tile 179.5–180° and east tile 180–180.5° (written as −180…−179.5°), or both moved by `shift` degrees. */
+function writeTiles(shift: number): { west: string; east: string } {
+  const W = 2 * N - 1;
+  const all = bumpyDem(7, W, N);
+  const write = (col0: number, lonW: number, name: string) => {
+    const d = new Float32Array(N * N);
+    for (let r = 0; r < N; r++) for (let c = 0; c < N; c++) d[r * N + c] = all[r * W + col0 + c];
+    const geo = {
+      width: N,
+      height: N,
+      originX: lonW - PX / 2,
+      originY: 40.5 + PX / 2,
+      pixelX: PX,
+      pixelY: -PX,
+      crs: WGS84_GEOGRAPHIC,
+    };
+    const path = join(dir, `${name}${shift}.tif`);
+    writeFileSync(path, new Uint8Array(encodeGeoTiff({ geo, data: d })));
+    return path;
+  };
+  return {
+    west: write(0, 179.5 + shift, 'west'),
+    east: write(N - 1, shift === 0 ? -180 : 180 + shift, 'east'),
+  };
+}
+
+async function raster(path: string): Promise<{ origin: number[]; data: Float32Array }> {
+  const b = readFileSync(path);
+  const img = await (
+    await fromArrayBuffer(b.buffer.slice(b.byteOffset, b.byteOffset + b.byteLength))
+  ).getImage();
+  return { origin: img.getOrigin(), data: ((await img.readRasters()) as unknown as Float32Array[])[0] };
+}
+
+function expectSame(a: Float32Array, b: Float32Array): void {
+  expect(a.length).toBe(b.length);
+  let valued = 0;
+  for (let i = 0; i < a.length; i++) {
+    if (Number.isNaN(a[i]) || Number.isNaN(b[i])) {
+      expect([i, Number.isNaN(a[i])]).toEqual([i, Number.isNaN(b[i])]);
+    } else {
+      valued++;
+      expect(Math.abs(a[i] - b[i])).toBeLessThanOrEqual(1e-3);
+    }
+  }
+  expect(valued).toBeGreaterThan(a.length * 0.9);
+}
+
+let tiles: { west: string; east: string }[];
+beforeAll(() => {
+  dir = mkdtempSync(join(tmpdir(), 'airshade-antimeridian-'));
+  tiles = [writeTiles(0), writeTiles(-180)];
+});
+afterAll(() => {
+  rmSync(dir, { recursive: true, force: true });
+  for (const f of fixtures) f.cleanup();
+});
+
+describe('terrain across the antimeridian', () => {
+  for (const [first, label] of [
+    ['east', 'the east tile (−180…−179.5°)'],
+    ['west', 'the west tile (179.5…180°)'],
+  ] as const) {
+    it(`floor on ${label} equals the same geometry at 0°`, async () => {
+      const outs: string[] = [];
+      for (let k = 0; k < 2; k++) {
+        const t = tiles[k];
+        const dems = first === 'east' ? [t.east, t.west] : [t.west, t.east];
+        const site = k === 0 ? '179.9,40.25' : `${179.9 - 180},40.25`;
+        const out = join(dir, `floor-${first}-${k}.tif`);
+        const r = await runCli(
+          'floor',
+          '--dem',
+          dems[0],
+          '--dem',
+          dems[1],
+          `--site=${site}`,
+          '--mast-m',
+          '30',
+          '--out',
+          out,
+          '--threads',
+          '0',
+          '--quiet',
+        );
+        expect(r.err).toBe('');
+        expect(r.code).toBe(0);
+        outs.push(out);
+      }
+      const a = await raster(outs[0]);
+      const b = await raster(outs[1]);
+      expect(a.origin[0] - b.origin[0]).toBeCloseTo(first === 'east' ? -180 : 180, 9);
+      expectSame(a.data, b.data);
+    });
+  }
+
+  it('coverage with sites either side of 180° equals the same study at 0°', async () => {
+    const outs: string[] = [];
+    for (let k = 0; k < 2; k++) {
+      const shift = k === 0 ? 0 : -180;
+      const f = writeScenarioFixture({
+        sites: [
+          { id: 'wa', name: 'Wavecrest', lon: 179.8 + shift, lat: 40.3, mastHeightM: 30 },
+          // East of 180°, given the usual way (−179.8°), or at 0.2° E in the shifted copy.
+          { id: 'eb', name: 'Eastbank', lon: shift === 0 ? -179.8 : 0.2, lat: 40.2, mastHeightM: 30 },
+        ],
+        volumes: [
+          {
+            id: 'v',
+            name: 'West block',
+            polygon: { type: 'Polygon', coordinates: [ring(179.6 + shift, 40.1, 179.95 + shift, 40.4)] },
+            flMin: 50,
+            flMax: 100,
+            requiredFold: { any: 2 },
+          },
+        ],
+        layouts: [],
+        cellArcSec: 30,
+        flightLevels: [50, 100],
+      });
+      fixtures.push(f);
+      copyFileSync(tiles[k].west, join(f.dir, 'west.tif'));
+      copyFileSync(tiles[k].east, join(f.dir, 'east.tif'));
+      writeFileSync(
+        f.scenarioPath,
+        JSON.stringify({ ...f.scenario, terrain: { files: ['west.tif', 'east.tif'] } }, null, 2),
+      );
+      const out = join(dir, `coverage-${k}`);
+      const r = await runCli('coverage', f.scenarioPath, '--out', out, '--threads', '0', '--quiet');
+      expect(r.err).toBe('');
+      expect(r.code).toBe(0);
+      outs.push(out);
+    }
+    const a = await raster(join(outs[0], 'network-floor.tif'));
+    const b = await raster(join(outs[1], 'network-floor.tif'));
+    expect(a.origin[0] - b.origin[0]).toBeCloseTo(180, 9);
+    expectSame(a.data, b.data);
+    const stats = (o: string) =>
+      (JSON.parse(readFileSync(join(o, 'summary.json'), 'utf8')) as { volumes: unknown[] }).volumes;
+    expect(stats(outs[0])).toEqual(stats(outs[1]));
+    // The layers of the antimeridian study stay within ±180° (RFC 7946 §3.1.9), with features either side.
+    const layer = readFileSync(join(outs[0], 'coverage-FL100.geojson'), 'utf8');
+    const lons = [...layer.matchAll(/\[(-?\d+(?:\.\d+)?),\s*-?\d+(?:\.\d+)?\]/g)].map((m) => Number(m[1]));
+    expect(Math.max(...lons)).toBeLessThanOrEqual(180);
+    expect(Math.min(...lons)).toBeGreaterThanOrEqual(-180);
+    expect(lons.some((x) => x > 179.5) && lons.some((x) => x < -179.5)).toBe(true);
+  });
+});
+
+describe('near the poles', () => {
+  it('a lon/lat tile reaching 89° N is refused with a message naming the file and what to do', async () => {
+    const n = 41;
+    const geo = {
+      width: n,
+      height: n,
+      originX: -30,
+      originY: 89,
+      pixelX: 1 / n,
+      pixelY: -1 / n,
+      crs: WGS84_GEOGRAPHIC,
+    };
+    const path = join(dir, 'polar.tif');
+    writeFileSync(path, new Uint8Array(encodeGeoTiff({ geo, data: bumpyDem(3, n, n) })));
+    const r = await runCli(
+      'floor',
+      '--dem',
+      path,
+      '--site=-29.5,88.5',
+      '--mast-m',
+      '30',
+      '--out',
+      join(dir, 'polar-floor.tif'),
+      '--threads',
+      '0',
+      '--quiet',
+    );
+    expect(r.code).not.toBe(0);
+    expect(r.code).not.toBe(70);
+    expect(r.err).toContain(path);
+    expect(r.err).toMatch(/89\.00° of latitude/);
+    expect(r.err).toMatch(/polar stereographic/);
+  });
+});

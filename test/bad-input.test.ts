@@ -1,0 +1,345 @@
+/**
+ * Bad and unusual inputs (issue 13): each gives one message naming the input, what was found and what was
+ * expected, before any long work, with exit status 2 and no stack trace — or a correct result. The inputs are
+ * invented and sit over open ocean (test/support/scenario-fixture.ts).
+ */
+import { createHash } from 'node:crypto';
+import {
+  mkdirSync,
+  readFileSync,
+  symlinkSync,
+  writeFileSync,
+  closeSync,
+  openSync,
+  ftruncateSync,
+} from 'node:fs';
+import { join } from 'node:path';
+import { afterAll, beforeAll, describe, expect, it } from 'vitest';
+import { runCli } from './support/run-cli.ts';
+import { writeScenarioFixture, type Fixture } from './support/scenario-fixture.ts';
+import { encodeTiff } from './support/tiff-encoder.ts';
+import { estimateRun, horizonSamples, memoryLimitArg, type RunShape } from '../worker/cli/budget-check.ts';
+import { parseArgs } from '../worker/cli/args.ts';
+
+let fx: Fixture;
+const SITE = '-30.35,-40.8'; // alder, on the fixture's terrain
+
+beforeAll(() => {
+  fx = writeScenarioFixture();
+});
+afterAll(() => fx.cleanup());
+
+function variant(name: string, edit: (s: Record<string, unknown>) => void): string {
+  const s = JSON.parse(JSON.stringify(fx.scenario)) as Record<string, unknown>;
+  edit(s);
+  const path = join(fx.dir, name);
+  writeFileSync(path, JSON.stringify(s));
+  return path;
+}
+
+/** One refusal: status 2, one line on stderr with one prefix, naming `where`, and no stack trace. */
+async function refused(where: RegExp | string, ...argv: string[]): Promise<string> {
+  const r = await runCli(...argv);
+  const line = r.err
+    .split(`\r${String.fromCharCode(27)}[K`)
+    .join('')
+    .trim();
+  expect(r.code, line).toBe(2);
+  expect(line.split('\n').length, line).toBe(1);
+  expect(line).not.toMatch(/\n\s+at /);
+  expect(line.startsWith(`airshade ${argv[0]}: `), line).toBe(true);
+  expect(line.slice(`airshade ${argv[0]}: `.length)).not.toMatch(/^airshade /);
+  expect(line).toMatch(where);
+  return line;
+}
+
+const floor = (...more: string[]) => [
+  'floor',
+  '--dem',
+  fx.demPath,
+  '--site',
+  SITE,
+  '--mast-m',
+  '10',
+  '--quiet',
+  '--threads',
+  '0',
+  ...more,
+];
+
+describe('refuse before allocating', () => {
+  it('a grid of 0.01″ and of 0.1″ is refused at once, naming grid.cellArcSec and --max-memory', async () => {
+    for (const cell of [0.01, 0.1]) {
+      const sc = variant(`cell-${cell}.json`, (s) => (s.grid = { cellArcSec: cell }));
+      const msg = await refused(
+        /grid\.cellArcSec .*--max-memory/,
+        'coverage',
+        sc,
+        '--out',
+        join(fx.dir, 'o1'),
+      );
+      expect(msg).toContain(`${cell}″`);
+    }
+  });
+
+  it('a tile too large for the limit is refused from its size on disk, before it is read', async () => {
+    // A sparse file: 12 000 × 12 000 int16 pixels declared, nothing written (common practice: "sparse" GeoTIFFs).
+    const path = join(fx.dir, 'sparse.tif');
+    const head = encodeTiff({
+      width: 2,
+      height: 2,
+      values: [0, 0, 0, 0],
+      sampleType: 'int16',
+      georef: { x0: -31, y0: -40, dx: 0.001, dy: 0.001 },
+    });
+    writeFileSync(path, new Uint8Array(head));
+    const fd = openSync(path, 'r+');
+    ftruncateSync(fd, 12_000 * 12_000 * 2);
+    closeSync(fd);
+    await refused(
+      /sparse\.tif: found a file of .*--max-memory/,
+      'floor',
+      ...floor('--dem', path).slice(1),
+      '--max-memory',
+      '256M',
+      '--out',
+      join(fx.dir, 's.tif'),
+    );
+  });
+
+  it('absurd dimensions in a small TIFF are refused at its header', async () => {
+    const path = join(fx.dir, 'huge-header.tif');
+    const small = encodeTiff({
+      width: 20_000,
+      height: 1,
+      values: new Int16Array(20_000),
+      sampleType: 'int16',
+      compression: 'deflate',
+      georef: { x0: -31, y0: -40, dx: 0.0001, dy: 0.0001 },
+    });
+    // Height 1 → 40 000 (ImageLength is the second entry of the IFD, tag 257, a SHORT or LONG value).
+    const bytes = new Uint8Array(small);
+    const dv = new DataView(small);
+    const ifd = dv.getUint32(4, true);
+    const n = dv.getUint16(ifd, true);
+    for (let i = 0; i < n; i++) {
+      const at = ifd + 2 + 12 * i;
+      if (dv.getUint16(at, true) === 257) {
+        if (dv.getUint16(at + 2, true) === 3) dv.setUint16(at + 8, 20_000, true);
+        else dv.setUint32(at + 8, 20_000, true);
+      }
+    }
+    writeFileSync(path, bytes);
+    await refused(
+      /huge-header\.tif: found a tile of 20000 × 20000 pixels.*--max-memory/,
+      'floor',
+      ...floor().slice(1),
+      '--dem',
+      path,
+      '--out',
+      join(fx.dir, 'h.tif'),
+    );
+  });
+
+  it('the estimate grows with cells × pairs and with the horizon (range² over pixel × arc)', () => {
+    const base: RunShape = {
+      terrainPixels: 1e6,
+      cells: 1e5,
+      sites: 10,
+      pairs: 20,
+      levels: 5,
+      targets: 1,
+      volumes: 2,
+      reachM: 100_000,
+      rangeStepM: 90,
+      arcStepM: 700,
+      horizonsInFlight: 2,
+    };
+    const e = estimateRun(base);
+    // Footprints: two Uint16 per cell per pair (worker/core/footprint.ts).
+    expect(e.parts.footprints).toBe(1e5 * 20 * 4);
+    expect(estimateRun({ ...base, pairs: 40 }).parts.footprints).toBe(2 * e.parts.footprints);
+    // π R² / (0.75 step · arc) samples, plus the rim: at least the disc's area in step × arc pieces.
+    expect(horizonSamples(100_000, 90, 700)).toBeGreaterThan((Math.PI * 1e10) / (90 * 700));
+    expect(estimateRun({ ...base, arcStepM: 70 }).parts.horizons).toBeGreaterThan(9 * e.parts.horizons);
+  });
+
+  it('--max-memory takes 1.5G, 800M, 2GiB and refuses what is not a size or passes the machine', () => {
+    const p = (v: string) => parseArgs(['--max-memory', v], { 'max-memory': { value: true } }, 'floor');
+    const machine = { totalBytes: 8 * 2 ** 30 };
+    expect(memoryLimitArg(p('1.5G'), machine)).toBe(1.5 * 2 ** 30);
+    expect(memoryLimitArg(p('800M'), machine)).toBe(800 * 2 ** 20);
+    expect(memoryLimitArg(p('2GiB'), machine)).toBe(2 * 2 ** 30);
+    for (const bad of ['lots', '-1G', '0', '100M', '9G', '1e3G']) {
+      expect(() => memoryLimitArg(p(bad), machine), bad).toThrow(
+        /--max-memory: found .*expected a memory size/,
+      );
+    }
+    // Default: the smaller of half the machine and 2 GiB.
+    expect(memoryLimitArg(parseArgs([], {}, 'floor'), machine)).toBe(2 * 2 ** 30);
+    expect(memoryLimitArg(parseArgs([], {}, 'floor'), { totalBytes: 2 ** 31 })).toBe(2 ** 30);
+  });
+});
+
+describe('arguments', () => {
+  it('--threads: a whole number within the machine', async () => {
+    for (const t of ['64', '2.5', '-1', 'two', '1e1']) {
+      const argv = floor('--out', join(fx.dir, 't.tif'));
+      argv[argv.indexOf('--threads') + 1] = t;
+      await refused(/--threads: found .*whole number of worker threads from 0 to \d+/, ...argv);
+    }
+  });
+
+  it('--k: the effective-earth model holds for 0.2 ≤ k ≤ 20 (ITU-R P.452 eq. (5)); beyond, ducting or worse', async () => {
+    await refused(
+      /--k: found 1e-300; expected .*k < 0\.2/,
+      ...floor('--k', '1e-300', '--out', join(fx.dir, 'k.tif')),
+    );
+    await refused(/--k: found 25; expected .*ducting/, ...floor('--k', '25', '--out', join(fx.dir, 'k.tif')));
+    await refused(/--k: found -1; expected .*ducting/, ...floor('--k', '-1', '--out', join(fx.dir, 'k.tif')));
+  });
+
+  it('a site off the DEM blames --site, and --max-range-km 0 asks for more than 0', async () => {
+    await refused(
+      /--site: found 10,10, outside the DEM tiles/,
+      'floor',
+      '--dem',
+      fx.demPath,
+      '--site',
+      '10,10',
+      '--mast-m',
+      '5',
+      '--out',
+      join(fx.dir, 'x.tif'),
+      '--threads',
+      '0',
+    );
+    await refused(
+      /--max-range-km: found 0; expected a range in km, more than 0/,
+      ...floor('--max-range-km', '0', '--out', join(fx.dir, 'x.tif')),
+    );
+  });
+
+  it('one prefix per message: unknown options, single dashes, stray arguments', async () => {
+    await refused(
+      /^airshade floor: --bogus: found an option that airshade floor does not have/,
+      'floor',
+      '--bogus',
+    );
+    await refused(/^airshade floor: argument -x: found an option with one dash/, 'floor', '-x');
+    await refused(
+      /^airshade coverage: the scenario argument: found no scenario file/,
+      'coverage',
+      '--out',
+      'x',
+    );
+  });
+
+  it('--out is checked before the work: unwritable, a folder, or an input of the run', async () => {
+    const blocker = join(fx.dir, 'a-file');
+    writeFileSync(blocker, 'x');
+    await refused(
+      /--out: found .*under .*a-file, which is a file/,
+      ...floor('--out', join(blocker, 'f.tif')),
+    );
+    await refused(/--out: found .*, a folder/, ...floor('--out', fx.dir));
+    const before = createHash('sha256').update(readFileSync(fx.demPath)).digest('hex');
+    await refused(/--out: found .*also an input of this run/, ...floor('--out', fx.demPath));
+    expect(createHash('sha256').update(readFileSync(fx.demPath)).digest('hex')).toBe(before);
+    await refused(
+      /--out.*: found .*an existing file/,
+      'coverage',
+      fx.scenarioPath,
+      '--out',
+      blocker,
+      '--threads',
+      '0',
+    );
+  });
+});
+
+describe('JSON limits and file contents', () => {
+  const deep = (n: number) => '['.repeat(n) + '1' + ']'.repeat(n);
+
+  it('deep nesting in the scenario and in a sites GeoJSON is refused with the line and column', async () => {
+    const s1 = join(fx.dir, 'deep.json');
+    writeFileSync(
+      s1,
+      JSON.stringify(fx.scenario).replace(
+        '"flightLevels":[50,100,200]',
+        `"flightLevels":[50,${deep(100_000)}]`,
+      ),
+    );
+    await refused(
+      /deep\.json: line 1, column \d+: found lists or objects nested more than 64 levels/,
+      'coverage',
+      s1,
+      '--out',
+      join(fx.dir, 'o2'),
+    );
+    const sites = readFileSync(fx.sitesPath!, 'utf8').replace(
+      '"mastHeightM": 25',
+      `"mastHeightM": ${deep(50_000)}`,
+    );
+    writeFileSync(join(fx.dir, 'deep-sites.geojson'), sites);
+    const s2 = variant('deep-sites.json', (s) => (s.sites = 'deep-sites.geojson'));
+    await refused(
+      /deep-sites\.geojson: line \d+, column \d+: found lists or objects nested more than 64/,
+      'coverage',
+      s2,
+      '--out',
+      join(fx.dir, 'o3'),
+    );
+  });
+
+  it('a scenario path outside its folder needs --allow-outside-paths, and the file is never echoed', async () => {
+    const secretDir = join(fx.dir, '..', `airshade-secret-${process.pid}`);
+    mkdirSync(secretDir, { recursive: true });
+    const secret = join(secretDir, 'private.txt');
+    writeFileSync(secret, 'VERY-PRIVATE-TOKEN:x:0:0\n');
+    const up = variant('outside.json', (s) => (s.sites = `../airshade-secret-${process.pid}/private.txt`));
+    const abs = variant('outside-abs.json', (s) => (s.sites = secret));
+    for (const sc of [up, abs]) {
+      const msg = await refused(
+        /sites: found .*outside the scenario's folder.*--allow-outside-paths/,
+        'coverage',
+        sc,
+        '--out',
+        join(fx.dir, 'o4'),
+      );
+      expect(msg).not.toContain('VERY-PRIVATE');
+    }
+    // A link inside the folder that leads out is outside too.
+    symlinkSync(secret, join(fx.dir, 'linked-sites.geojson'));
+    const linked = variant('outside-link.json', (s) => (s.sites = 'linked-sites.geojson'));
+    await refused(/outside the scenario's folder/, 'coverage', linked, '--out', join(fx.dir, 'o5'));
+    // Allowed: read, refused as JSON, and still not echoed.
+    const msg = await refused(
+      /private\.txt: line 1, column 1: found a letter, which is not valid JSON/,
+      'coverage',
+      up,
+      '--allow-outside-paths',
+      '--out',
+      join(fx.dir, 'o6'),
+    );
+    expect(msg).not.toContain('VERY');
+    const terr = variant('outside-terrain.json', (s) => (s.terrain = { files: [secret] }));
+    await refused(
+      /terrain\.files\[0\]: found .*outside the scenario's folder/,
+      'coverage',
+      terr,
+      '--out',
+      join(fx.dir, 'o7'),
+    );
+  });
+
+  it('a file that is not a TIFF is named by kind, never by its bytes', async () => {
+    const path = join(fx.dir, 'notes.tif');
+    writeFileSync(path, 'PRIVATE NOTES, not a raster\n');
+    const msg = await refused(
+      /notes\.tif: found a file that is not a TIFF \(it begins with text\)/,
+      ...floor('--dem', path, '--out', join(fx.dir, 'n.tif')).filter((_, i) => i !== 1 && i !== 2),
+    );
+    expect(msg).not.toContain('PRIVATE');
+  });
+});
