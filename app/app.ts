@@ -19,17 +19,24 @@ import type {
 import type { TileSource } from '../worker/engine-worker.ts';
 import { clear, download, h } from './dom.ts';
 import { progressProxy, startEngine, type Engine } from './engine-client.ts';
+import { allLevelsZip, savedScenarioText, scenarioFileName } from './exports.ts';
 import { fetchScenario } from './files.ts';
 import { MapView, type ImageLayerId } from './map-view.ts';
-import type { ComparedLayouts, MapMode, PanelHost, PanelId } from './panel-host.ts';
+import type { ComparedLayouts, MapMode, MessageAction, PanelHost, PanelId } from './panel-host.ts';
 import { renderPanel, PANELS } from './panels/index.ts';
 import {
   addSite,
+  ageText,
   errorLines,
+  isQuotaError,
   moveSite,
+  restoredLines,
   restoreState,
+  saveFailureLines,
   setFailed as stateSetFailed,
   stateFromScenario,
+  utcText,
+  type SavedWork,
   type WorkState,
 } from './state.ts';
 import { LEGEND_WIDTH_PX, renderLegend } from './legend.ts';
@@ -187,6 +194,17 @@ export class App implements PanelHost {
         h('span', { className: 'brand' }, 'Airshade'),
         (this.el.title = h('span', { id: 'scenario-name' })),
         h('span', { className: 'spacer' }),
+        (this.el.unsaved = h(
+          'button',
+          {
+            id: 'unsaved',
+            className: 'small',
+            hidden: true,
+            title: 'The last save in this browser failed: your work is only in this page.',
+            onclick: () => this.offerDownloads(this.lastSaveError),
+          },
+          'Not saved in this browser: download',
+        )),
         h('label', {}, 'Units ', units),
         h('button', { id: 'about-open', onclick: () => about.showModal() }, 'About & cautions'),
       ),
@@ -277,15 +295,16 @@ export class App implements PanelHost {
 
   // ------------------------------------------------------------------------------------------- messages
 
-  say(kind: 'error' | 'info', lines: string | string[], action?: { label: string; run: () => void }): void {
+  say(kind: 'error' | 'info', lines: string | string[], action?: MessageAction | MessageAction[]): void {
     const list = Array.isArray(lines) ? lines : [lines];
+    const actions = action === undefined ? [] : Array.isArray(action) ? action : [action];
     clear(
       this.el.message,
       h(
         'div',
         { className: `msg ${kind}`, role: kind === 'error' ? 'alert' : 'status' },
         ...list.map((l) => h('div', {}, l)),
-        action ? h('button', { className: 'small', onclick: action.run }, action.label) : null,
+        ...actions.map((a) => h('button', { className: 'small', onclick: a.run }, a.label)),
         h(
           'button',
           { className: 'close', 'aria-label': 'Dismiss', onclick: () => clear(this.el.message) },
@@ -317,22 +336,29 @@ export class App implements PanelHost {
         this.adoptLoaded(state, r.terrain, r.study!);
         await this.afterTerrain();
         const hadCoverage = (saved as { results?: { coverage?: boolean } }).results?.coverage === true;
+        const savedAt = (saved as { savedAt?: unknown }).savedAt;
+        // What comes back, how old it is and which data it used (the tiles the engine restored).
+        const restored: SavedWork = {
+          state,
+          tiles: await this.engine.tileNames(),
+          savedAt: typeof savedAt === 'string' ? savedAt : undefined,
+        };
+        this.el.root.dataset.restoredAt = restored.savedAt ?? 'unknown';
         if (hadCoverage && state.network.length > 0) {
           // The results are not stored (a few MB of footprints per sensor): they are computed again, with progress.
-          this.say(
-            'info',
-            `Restored your work from the last visit (${state.doc.name}); its coverage is being computed again (progress below).`,
-          );
-          void this.restoreResults(state.doc.name);
-        } else this.say('info', `Restored your work from the last visit (${state.doc.name}).`);
+          this.say('info', restoredLines(restored, new Date(), 'again'));
+          void this.restoreResults(restored);
+        } else this.say('info', restoredLines(restored, new Date()));
         return;
       } catch (e) {
         // What was saved stays within reach: the demo replaces it in the browser, not in the user's hands.
         const doc = (saved as { state?: { doc?: unknown } }).state?.doc;
+        const at = new Date(String((saved as { savedAt?: unknown }).savedAt));
+        const when = Number.isNaN(at.getTime()) ? '' : ` (saved ${ageText(at, new Date())}, ${utcText(at)})`;
         this.say(
           'error',
           [
-            'The work saved in this browser could not be restored; the demo is loaded instead.',
+            `The work saved in this browser${when} could not be restored; the demo is loaded instead.`,
             ...errorLines(e),
           ],
           doc
@@ -353,7 +379,7 @@ export class App implements PanelHost {
   private restoringResults = false;
 
   /** After a reload: the coverage that existed before it, run again; the message says so when it is back. */
-  private async restoreResults(name: string): Promise<void> {
+  private async restoreResults(restored: SavedWork): Promise<void> {
     const note = this.el.message.firstElementChild;
     this.restoringResults = true;
     try {
@@ -362,7 +388,7 @@ export class App implements PanelHost {
       this.restoringResults = false;
     }
     if (this.coverage && this.el.message.firstElementChild === note)
-      this.say('info', `Restored your work from the last visit (${name}) and its coverage, computed again.`);
+      this.say('info', restoredLines(restored, new Date(), 'done'));
   }
 
   async loadDemo(): Promise<void> {
@@ -431,19 +457,70 @@ export class App implements PanelHost {
           // Whether coverage had been computed: a reload runs it again (restoreResults).
           const results = { coverage: this.coverage !== null || this.restoringResults };
           await idbSet(SAVE_KEY, { state: this.state, tiles, results, savedAt: new Date().toISOString() });
+          this.saveFailed(null);
           if (tileProblem && tileProblem !== this.tileProblemShown) {
             this.tileProblemShown = tileProblem;
             this.say('error', [
-              'Your work is saved in this browser, but the terrain tiles could not be kept for the next visit: load them again then.',
+              isQuotaError(tileProblem)
+                ? "Your work is saved in this browser, but the terrain tiles could not be kept for the next visit: the browser's storage for this site is full. Load the tiles again then."
+                : 'Your work is saved in this browser, but the terrain tiles could not be kept for the next visit: load them again then.',
               tileProblem,
             ]);
           }
           this.el.root.dataset.saved = String(Date.now());
         } catch (e) {
-          this.say('error', ['Could not save your work in this browser.', ...errorLines(e)]);
+          this.saveFailed(e);
         }
       })();
     }, 150);
+  }
+
+  /** What the last save in the browser threw (null: it worked). */
+  private lastSaveError: unknown = null;
+
+  /**
+   * A save in the browser failed (or, with null, worked again): the message says why — the storage full, with the
+   * browser's own figures — and offers the work as files; the header keeps a button for them until a save works.
+   */
+  private saveFailed(e: unknown): void {
+    const was = this.lastSaveError;
+    this.lastSaveError = e;
+    this.el.unsaved.hidden = e === null;
+    if (e === null) {
+      delete this.el.root.dataset.unsaved;
+      return;
+    }
+    this.el.root.dataset.unsaved = isQuotaError(e) ? 'quota' : 'error';
+    // Said once per failure run (every edit saves again): the header's button brings it back.
+    if (was === null) void this.offerDownloads(e);
+  }
+
+  /** The message of a failed save, with the downloads of the scenario and (once computed) the results. */
+  private async offerDownloads(e: unknown): Promise<void> {
+    let storage: { usage?: number; quota?: number } | undefined;
+    try {
+      storage = await navigator.storage?.estimate();
+    } catch {
+      storage = undefined;
+    }
+    const actions: MessageAction[] = [
+      {
+        label: 'Download the scenario',
+        run: () =>
+          void savedScenarioText(this)
+            .then((text) => download(scenarioFileName(this), text))
+            .catch((err: unknown) => this.fail(err)),
+      },
+    ];
+    if (this.coverage)
+      actions.push({
+        label: 'Download the results (zip)',
+        run: () =>
+          void allLevelsZip(this)
+            .then((zip) => download(zip.name, new Blob([zip.bytes as BlobPart], { type: 'application/zip' })))
+            .catch((err: unknown) => this.fail(err)),
+      });
+    this.say('error', saveFailureLines(e, storage), actions);
   }
 
   // ------------------------------------------------------------------------------------------ state edits

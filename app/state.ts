@@ -7,6 +7,7 @@
 import { CAUTION } from '../shared/caution.ts';
 import { InputError } from '../shared/errors.ts';
 import type { Provenance } from '../worker/io/provenance.ts';
+import { formatBytes } from '../worker/core/memory-estimate.ts';
 import { COLD_DAY as SCENARIO_COLD_DAY } from '../shared/scenario.ts';
 import {
   fileLocator,
@@ -571,6 +572,105 @@ export function restoreState(saved: unknown): WorkState {
     failed: Array.isArray(w.failed) ? w.failed.filter((x) => typeof x === 'string') : [],
     view: { fl, kind, layers },
   });
+}
+
+// ------------------------------------------------------------------------------------- saved in the browser
+
+/** What the app keeps in the browser (IndexedDB) between visits: the working state and what it was made on. */
+export interface SavedWork {
+  state: WorkState;
+  /** Names of the terrain tiles (their bytes are kept apart, by name). */
+  tiles: string[];
+  /** Whether coverage had been computed (a reload computes it again; results themselves are not stored). */
+  results?: { coverage?: boolean };
+  /** When it was saved (ISO 8601, UTC); absent in work saved by older versions. */
+  savedAt?: string;
+}
+
+/** Work older than this is marked as such when it comes back. */
+export const STALE_AFTER_MS = 24 * 3600 * 1000;
+
+/** "2026-03-01 14:05 UTC": a date a planner can quote. */
+export function utcText(d: Date): string {
+  return `${d.toISOString().slice(0, 16).replace('T', ' ')} UTC`;
+}
+
+const RELATIVE = new Intl.RelativeTimeFormat('en', { numeric: 'auto' });
+
+/** How long ago `then` was, seen at `now`: "less than a minute ago", "5 minutes ago", "yesterday", "3 days ago". */
+export function ageText(then: Date, now: Date): string {
+  const s = (now.getTime() - then.getTime()) / 1000;
+  if (!(s >= 0)) return "in the future by this computer's clock";
+  if (s < 60) return 'less than a minute ago';
+  const days = s / 86400;
+  if (s < 3600) return RELATIVE.format(-Math.floor(s / 60), 'minute');
+  if (days < 1) return RELATIVE.format(-Math.floor(s / 3600), 'hour');
+  if (days < 60) return RELATIVE.format(-Math.floor(days), 'day');
+  if (days < 730) return RELATIVE.format(-Math.floor(days / 30.44), 'month');
+  return RELATIVE.format(-Math.floor(days / 365.25), 'year');
+}
+
+/**
+ * The message of work brought back from the last visit: what it is, how old it is and which data it used (where
+ * the scenario came from, the terrain tiles), marked when older than a day. `coverage`: whether its coverage is
+ * being computed again, or is back.
+ */
+export function restoredLines(
+  saved: SavedWork,
+  now: Date,
+  coverage: 'none' | 'again' | 'done' = 'none',
+): string[] {
+  const name = saved.state.doc.name;
+  const first =
+    coverage === 'again'
+      ? `Restored your work from the last visit (${name}); its coverage is being computed again (progress below).`
+      : coverage === 'done'
+        ? `Restored your work from the last visit (${name}) and its coverage, computed again.`
+        : `Restored your work from the last visit (${name}).`;
+  const at = saved.savedAt ? new Date(saved.savedAt) : null;
+  const when =
+    at && !Number.isNaN(at.getTime())
+      ? `Saved ${ageText(at, now)} (${utcText(at)})`
+      : 'Saved at a time not recorded';
+  const tiles = saved.tiles.length
+    ? `${plural(saved.tiles.length, 'terrain tile')}: ${saved.tiles.join(', ')}`
+    : 'no terrain tile';
+  const lines = [first, `${when}; scenario from ${saved.state.source}, on ${tiles}.`];
+  if (!at || now.getTime() - at.getTime() > STALE_AFTER_MS)
+    lines.push(
+      `This work ${at ? 'is more than a day old' : 'may be old'}: check that its scenario and terrain are still the ones to use (Files and Ground panels).`,
+    );
+  return lines;
+}
+
+/** Whether an error is the browser's storage being full (IndexedDB or localStorage, in any browser's words). */
+export function isQuotaError(e: unknown): boolean {
+  const name = typeof e === 'object' && e !== null ? (e as { name?: unknown }).name : undefined;
+  if (name === 'QuotaExceededError' || name === 'NS_ERROR_DOM_QUOTA_REACHED') return true;
+  return typeof e === 'string' && /QuotaExceededError|quota/i.test(e);
+}
+
+/**
+ * The message when the work could not be saved in the browser: why (the storage full, with what the browser says
+ * it uses and allows when it tells), and that the work is still in the page, to be downloaded.
+ */
+export function saveFailureLines(e: unknown, storage?: { usage?: number; quota?: number }): string[] {
+  const detail = errorLines(e).join(' ');
+  const named = e instanceof Error && e.name && e.name !== 'Error' ? `${e.name}: ${detail}` : detail;
+  const lines = isQuotaError(e)
+    ? [
+        `Your work could not be saved in this browser: its storage for this site is full (${named}).`,
+        ...(storage?.usage !== undefined && storage.quota
+          ? [
+              `This site uses ${formatBytes(storage.usage)} of the ${formatBytes(storage.quota)} the browser allows it (the terrain tiles kept for the next visit included).`,
+            ]
+          : []),
+      ]
+    : [`Your work could not be saved in this browser (${named}).`];
+  lines.push(
+    'Nothing is lost while this page stays open: download the scenario (and the results) to keep them; the scenario file opens again in the Files panel.',
+  );
+  return lines;
 }
 
 /** One line per problem of an error (a ScenarioError lists several). */

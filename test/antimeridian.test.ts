@@ -204,3 +204,95 @@ describe('near the poles', () => {
     expect(r.err).toMatch(/polar stereographic/);
   });
 });
+
+describe('volumes across the antimeridian', () => {
+  it('a volume across 180° (one ring, or parts split at ±180°) or east of it gives the statistics of its copy at 0°', async () => {
+    // The rectangle 179.8…180.2° E given as one ring through −179.8°, as two RFC 7946 parts split at ±180°, and a
+    // block wholly east of 180° given as −179.9…−179.6°; in the copy moved 180° west the same rectangles straddle
+    // or lie east of 0° and involve no wrap. A longitude shift changes no cell area or sight line (see the header),
+    // so every statistic must agree exactly.
+    const volumesAt = (shift: number) => {
+      const east = (lon: number) => (shift === 0 ? lon - 360 : lon + shift);
+      const band = { flMin: 50, flMax: 100, requiredFold: { any: 1 } };
+      return [
+        {
+          id: 'across-ring',
+          name: 'Dateline block',
+          polygon: {
+            type: 'Polygon' as const,
+            coordinates: [
+              [
+                [179.8 + shift, 40.15],
+                [east(180.2), 40.15],
+                [east(180.2), 40.35],
+                [179.8 + shift, 40.35],
+                [179.8 + shift, 40.15],
+              ],
+            ],
+          },
+          ...band,
+        },
+        {
+          id: 'across-split',
+          name: 'Dateline block in two parts',
+          // Two parts touching at 0° would be refused as crossing polygons: the copy is the one rectangle.
+          polygon:
+            shift === 0
+              ? {
+                  type: 'MultiPolygon' as const,
+                  coordinates: [[ring(179.8, 40.15, 180, 40.35)], [ring(-180, 40.15, -179.8, 40.35)]],
+                }
+              : { type: 'Polygon' as const, coordinates: [ring(-0.2, 40.15, 0.2, 40.35)] },
+          ...band,
+        },
+        {
+          id: 'east-of-180',
+          name: 'Far east block',
+          polygon: { type: 'Polygon' as const, coordinates: [ring(east(180.1), 40.1, east(180.4), 40.4)] },
+          ...band,
+        },
+      ];
+    };
+    const stats: { volumeId: string; areaKm2: number; coveredKm2: number }[][] = [];
+    for (let k = 0; k < 2; k++) {
+      const shift = k === 0 ? 0 : -180;
+      const f = writeScenarioFixture({
+        sites: [
+          { id: 'wa', name: 'Wavecrest', lon: 179.8 + shift, lat: 40.3, mastHeightM: 30 },
+          { id: 'eb', name: 'Eastbank', lon: shift === 0 ? -179.8 : 0.2, lat: 40.2, mastHeightM: 30 },
+        ],
+        volumes: volumesAt(shift),
+        layouts: [],
+        cellArcSec: 30,
+        flightLevels: [50, 100],
+      });
+      fixtures.push(f);
+      copyFileSync(tiles[k].west, join(f.dir, 'west.tif'));
+      copyFileSync(tiles[k].east, join(f.dir, 'east.tif'));
+      writeFileSync(
+        f.scenarioPath,
+        JSON.stringify({ ...f.scenario, terrain: { files: ['west.tif', 'east.tif'] } }, null, 2),
+      );
+      const out = join(dir, `coverage-volumes-${k}`);
+      const r = await runCli('coverage', f.scenarioPath, '--out', out, '--threads', '0', '--quiet');
+      expect(r.err).toBe('');
+      expect(r.code).toBe(0);
+      stats.push(
+        (JSON.parse(readFileSync(join(out, 'summary.json'), 'utf8')) as { volumes: (typeof stats)[0] })
+          .volumes,
+      );
+    }
+    expect(stats[0]).toEqual(stats[1]);
+    const at = (id: string, fl = 100) =>
+      stats[0].find(
+        (v) => v.volumeId === id && (v as unknown as { flightLevel: number }).flightLevel === fl,
+      )!;
+    // 0.4° × 0.2° at 40.25° N: about 34 km × 22 km ≈ 750 km² (spherical cell areas; coarse check, common practice).
+    expect(at('across-ring').areaKm2).toBeGreaterThan(650);
+    expect(at('across-ring').areaKm2).toBeLessThan(850);
+    // The two ways of writing the same rectangle hold the same cells.
+    expect(at('across-split').areaKm2).toBeCloseTo(at('across-ring').areaKm2, 9);
+    expect(at('across-split').coveredKm2).toBeCloseTo(at('across-ring').coveredKm2, 9);
+    expect(at('east-of-180').areaKm2).toBeGreaterThan(0);
+  });
+});

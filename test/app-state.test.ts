@@ -1352,3 +1352,60 @@ describe('numbers in the user’s units (app/units.ts)', () => {
     expect(u.fmtDemandWeight(753)).toBe('753');
   });
 });
+
+describe('work kept in the browser: its age, its data, a full storage (issue 13, item 7)', () => {
+  const now = new Date('2026-03-10T12:00:00Z');
+  const saved = (savedAt?: string): import('../app/state.ts').SavedWork => ({
+    state: stateFromScenario(demo, 'demo-scenario.json'),
+    tiles: ['demo-tile_a.tif', 'demo-tile_b.tif'],
+    savedAt,
+  });
+
+  it('says how old restored work is, from when and which data it used, and marks work older than a day', async () => {
+    const s = await import('../app/state.ts');
+    expect(s.ageText(new Date('2026-03-10T11:59:30Z'), now)).toBe('less than a minute ago');
+    expect(s.ageText(new Date('2026-03-10T11:55:00Z'), now)).toBe('5 minutes ago');
+    expect(s.ageText(new Date('2026-03-10T09:00:00Z'), now)).toBe('3 hours ago');
+    expect(s.ageText(new Date('2026-03-09T11:00:00Z'), now)).toBe('yesterday');
+    expect(s.ageText(new Date('2026-03-07T12:00:00Z'), now)).toBe('3 days ago');
+    expect(s.ageText(new Date('2025-12-01T12:00:00Z'), now)).toBe('3 months ago');
+    expect(s.ageText(new Date('2026-03-11T12:00:00Z'), now)).toContain('in the future');
+
+    const fresh = s.restoredLines(saved('2026-03-10T11:55:00Z'), now);
+    expect(fresh).toEqual([
+      `Restored your work from the last visit (${demo.name}).`,
+      'Saved 5 minutes ago (2026-03-10 11:55 UTC); scenario from demo-scenario.json, on 2 terrain tiles: demo-tile_a.tif, demo-tile_b.tif.',
+    ]);
+    const old = s.restoredLines(saved('2026-03-07T12:00:00Z'), now, 'again');
+    expect(old[0]).toMatch(
+      /^Restored your work from the last visit \(.*\); its coverage is being computed again/,
+    );
+    expect(old[1]).toMatch(/^Saved 3 days ago \(2026-03-07 12:00 UTC\)/);
+    expect(old[2]).toMatch(/more than a day old: check that its scenario and terrain/);
+    // Work saved before the date was recorded: said so, and marked.
+    const undated = s.restoredLines(saved(undefined), now, 'done');
+    expect(undated[0]).toContain('and its coverage, computed again.');
+    expect(undated[1]).toMatch(/^Saved at a time not recorded;/);
+    expect(undated[2]).toMatch(/may be old/);
+  });
+
+  it('tells a full storage from other failures, says why, and that nothing is lost', async () => {
+    const s = await import('../app/state.ts');
+    const quota = new DOMException('The quota has been exceeded.', 'QuotaExceededError');
+    expect(s.isQuotaError(quota)).toBe(true);
+    expect(s.isQuotaError({ name: 'NS_ERROR_DOM_QUOTA_REACHED' })).toBe(true);
+    expect(s.isQuotaError('QuotaExceededError: The quota has been exceeded.')).toBe(true);
+    expect(s.isQuotaError(new Error('disk on fire'))).toBe(false);
+    const lines = s.saveFailureLines(quota, { usage: 3 * 2 ** 30, quota: 3 * 2 ** 30 });
+    expect(lines[0]).toBe(
+      'Your work could not be saved in this browser: its storage for this site is full (QuotaExceededError: The quota has been exceeded.).',
+    );
+    expect(lines[1]).toMatch(/^This site uses 3\.0 GiB of the 3\.0 GiB the browser allows it/);
+    expect(lines.at(-1)).toMatch(/Nothing is lost while this page stays open: download the scenario/);
+    // Without the browser's figures, or another failure: still the reason, still the way out.
+    expect(s.saveFailureLines(quota)).toHaveLength(2);
+    const other = s.saveFailureLines(new TypeError('x is not a function'));
+    expect(other[0]).toBe('Your work could not be saved in this browser (TypeError: x is not a function).');
+    expect(other[1]).toMatch(/^Nothing is lost/);
+  });
+});

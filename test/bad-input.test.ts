@@ -12,6 +12,8 @@ import {
   closeSync,
   openSync,
   ftruncateSync,
+  readdirSync,
+  utimesSync,
 } from 'node:fs';
 import { join } from 'node:path';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
@@ -20,6 +22,13 @@ import { writeScenarioFixture, type Fixture } from './support/scenario-fixture.t
 import { encodeTiff } from './support/tiff-encoder.ts';
 import { estimateRun, horizonSamples, memoryLimitArg, type RunShape } from '../worker/cli/budget-check.ts';
 import { parseArgs } from '../worker/cli/args.ts';
+import {
+  checkWork,
+  DEFAULT_MAX_WORK_MIN,
+  estimateWork,
+  workLimitArg,
+  type WorkShape,
+} from '../worker/cli/work-check.ts';
 
 let fx: Fixture;
 const SITE = '-30.35,-40.8'; // alder, on the fixture's terrain
@@ -341,5 +350,115 @@ describe('JSON limits and file contents', () => {
       ...floor('--dem', path, '--out', join(fx.dir, 'n.tif')).filter((_, i) => i !== 1 && i !== 2),
     );
     expect(msg).not.toContain('PRIVATE');
+  });
+});
+
+describe('refuse what would run for hours (worker/cli/work-check.ts)', () => {
+  it('a run estimated past --max-work-min is refused at once, naming the input and the knob', async () => {
+    const cov = await refused(
+      /(sites\.geojson|grid\.cellArcSec).*estimated at about .*--max-work-min/,
+      'coverage',
+      fx.scenarioPath,
+      '--out',
+      join(fx.dir, 'work-out'),
+      '--max-work-min',
+      '0.00001',
+    );
+    expect(cov).toMatch(/found a run estimated at about \d+ ms .*expected at most 1 ms \(--max-work-min/);
+    await refused(
+      /^airshade floor: --dem.*estimated at about/,
+      ...floor('--out', join(fx.dir, 'w.tif'), '--max-work-min', '0.00001'),
+    );
+    await refused(
+      /--max-work-min: found "soon"; expected a number of minutes/,
+      ...floor('--out', join(fx.dir, 'w.tif'), '--max-work-min', 'soon'),
+    );
+  });
+
+  it('the estimate tells a careless study (hours) from the demo (seconds)', () => {
+    // The demo's shape: 33 sites × 400 km on 3″ terrain (~70 m east–west at 41° S), 60″ cells (~1.4 km), 300 × 300
+    // cells, 165 pairs, 9 levels, 5° × 5° of terrain; measured at 11.7–22.9 s (work-check.ts).
+    const demoSweep = { reachM: 400_000, rangeStepM: 70, arcStepM: 0.75 * 1400 };
+    const demo: WorkShape = {
+      sweeps: Array.from({ length: 33 }, () => demoSweep),
+      terrainAreaM2: 420e3 * 555e3,
+      cells: 300 * 300,
+      sites: 33,
+      pairs: 165,
+      targets: 1,
+      levels: 9,
+      threads: 0,
+    };
+    const d = estimateWork(demo);
+    expect(d.seconds).toBeGreaterThan(3);
+    expect(d.seconds).toBeLessThan(60);
+    // 40 000 candidate sites of a 250 NM secondary on 1″ terrain (~23 m) 1.5° square, 90″ cells: hours.
+    const careless: WorkShape = {
+      ...demo,
+      sweeps: Array.from({ length: 40_000 }, () => ({
+        reachM: 463_000,
+        rangeStepM: 23,
+        arcStepM: 0.75 * 2100,
+      })),
+      terrainAreaM2: 126e3 * 167e3,
+      cells: 60 * 60,
+      sites: 40_000,
+      pairs: 40_000,
+      levels: 1,
+      threads: 2,
+    };
+    expect(estimateWork(careless).seconds).toBeGreaterThan(3600);
+    expect(() =>
+      checkWork(estimateWork(careless), DEFAULT_MAX_WORK_MIN, { sweeps: 'sites.geojson', cells: 'grid' }),
+    ).toThrow(
+      /^sites\.geojson: found a run estimated at about \d+ min .*expected at most 60 min \(--max-work-min/,
+    );
+    // On terrain wider than the reach, sweeps grow with range² and shrink with the pool; the cell part grows
+    // with levels.
+    const one = (reachM: number, threads = 0) =>
+      estimateWork({ ...demo, terrainAreaM2: 1e13, sweeps: [{ ...demoSweep, reachM }], threads });
+    expect(one(200_000).parts.sweeps).toBeLessThan(one(400_000).parts.sweeps / 3);
+    expect(one(400_000, 2).parts.sweeps).toBeCloseTo(one(400_000).parts.sweeps / 2, 12);
+    expect(estimateWork({ ...demo, levels: 18 }).parts.cells).toBeGreaterThan(1.8 * d.parts.cells);
+    // --max-work-min: minutes, more than 0 and at most a week.
+    const p = (v: string) => parseArgs(['--max-work-min', v], { 'max-work-min': { value: true } }, 'floor');
+    expect(workLimitArg(p('90'))).toBe(90);
+    expect(workLimitArg(p('0.5'))).toBe(0.5);
+    expect(workLimitArg(parseArgs([], {}, 'floor'))).toBe(DEFAULT_MAX_WORK_MIN);
+    for (const bad of ['0', '-5', 'soon', '1e9', '20000'])
+      expect(() => workLimitArg(p(bad)), bad).toThrow(/--max-work-min/);
+  });
+});
+
+describe('leftovers of a killed run', () => {
+  it("the next run of a single-file output removes a killed run's temporary files beside it, and nothing else", async () => {
+    const out = join(fx.dir, 'left');
+    mkdirSync(out, { recursive: true });
+    const hourAgo = new Date(Date.now() - 3600_000);
+    const put = (name: string, old: boolean) => {
+      writeFileSync(join(out, name), 'partial');
+      if (old) utimesSync(join(out, name), hourAgo, hourAgo);
+    };
+    put('.floor.tif.0123456789ab.tmp', true); // a floor killed mid-write an hour ago: removed
+    put('.floor.tif.abcdef012345.tmp', false); // a floor writing now (newer than this process): left alone
+    put('.floor.tif.tmp', true); // not our pattern
+    put('.floor.tif.0123456789AB.tmp', true); // not our pattern (upper case)
+    put('.other.tif.0123456789ab.tmp', true); // another output's
+    put('floor.tif.0123456789ab.tmp', true); // no leading dot
+    mkdirSync(join(out, '.floor.tif.aaaaaaaaaaaa.tmp')); // a folder
+    utimesSync(join(out, '.floor.tif.aaaaaaaaaaaa.tmp'), hourAgo, hourAgo);
+    const r = await runCli(...floor('--out', join(out, 'floor.tif')));
+    expect(r.code, r.err).toBe(0);
+    expect(readdirSync(out).sort()).toEqual(
+      [
+        '.floor.tif.0123456789AB.tmp',
+        '.floor.tif.aaaaaaaaaaaa.tmp',
+        '.floor.tif.abcdef012345.tmp',
+        '.floor.tif.tmp',
+        '.other.tif.0123456789ab.tmp',
+        'floor.tif',
+        'floor.tif.0123456789ab.tmp',
+      ].sort(),
+    );
   });
 });

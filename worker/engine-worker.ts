@@ -59,7 +59,10 @@ let store: UseStore | null = null;
 const tileStore = () => (store ??= createStore('airshade-terrain', 'tiles'));
 
 async function readSource(src: TileSource): Promise<{ name: string; buffer: ArrayBuffer }> {
-  if ('file' in src) return { name: src.name, buffer: await src.file.arrayBuffer() };
+  if ('file' in src) {
+    engine.checkTileFile(src.name, src.file.size); // refused before it is read when it could not fit
+    return { name: src.name, buffer: await src.file.arrayBuffer() };
+  }
   const res = await fetch(src.url);
   if (!res.ok) throw new InputError(src.url, `HTTP ${res.status}`, 'a GeoTIFF tile served with the app');
   return { name: src.name, buffer: await res.arrayBuffer() };
@@ -80,7 +83,8 @@ function keepTiles(files: { name: string; buffer: ArrayBuffer }[]): Promise<stri
       for (const k of await keys(tileStore())) if (!names.includes(String(k))) await del(k, tileStore());
       return null;
     } catch (e) {
-      return e instanceof Error ? e.message : String(e);
+      // With the error's name: a full storage says so (QuotaExceededError), and the app can tell it apart.
+      return e instanceof Error ? `${e.name}: ${e.message}` : String(e);
     }
   });
   return keeping;

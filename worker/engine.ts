@@ -29,6 +29,16 @@ import {
   type PlanOptions,
   type PlanResult,
 } from './core/plan.ts';
+import {
+  cellArcSecThatFits,
+  estimateRefusal,
+  estimateRun,
+  GiB,
+  studyBlame,
+  studyRun,
+  tileFileRefusal,
+  tileRefusal,
+} from './core/memory-estimate.ts';
 import { Terrain, type DemTile } from './core/terrain.ts';
 import { cellsAtLevel, volumeStats, type VolumeLevelStats } from './core/volumes.ts';
 import { renderDiagramSvg } from './io/diagram-svg.ts';
@@ -52,6 +62,7 @@ import {
   type RasterImage,
 } from './render.ts';
 import {
+  analysisGrid,
   buildDemand,
   candidate,
   coveredPoints,
@@ -62,6 +73,7 @@ import {
   studyConventions,
   studyDay,
   studyNetwork,
+  studyTargets,
   terrainBounds,
   type Study,
   type StudyConventions,
@@ -248,6 +260,21 @@ interface Current {
 
 const FOOTPRINT_CACHE_LIMIT = 600;
 
+/**
+ * The memory the app's engine may plan for (refuse before allocating, as the CLI's --max-memory): the smaller of
+ * 2 GiB and half this device's memory where the browser tells it (navigator.deviceMemory, in GiB, rounded by the
+ * browser and at most 8).
+ */
+export function appMemoryLimitBytes(): number {
+  const nav = (globalThis as { navigator?: { deviceMemory?: unknown } }).navigator;
+  const device =
+    typeof nav?.deviceMemory === 'number' && nav.deviceMemory > 0 ? nav.deviceMemory * GiB : Infinity;
+  return Math.min(2 * GiB, device / 2);
+}
+
+/** How the app's limit is set, in its refusals. */
+const APP_MEMORY_KNOB = "the app's memory limit: the smaller of 2 GiB and half this device's memory";
+
 /** A sensor as a cache key: everything its footprint depends on. */
 function footprintKey(c: Candidate, study: Study, weather: boolean): string {
   const s = study.loaded.scenario;
@@ -290,6 +317,8 @@ export class Engine {
       highs?: PlanOptions['highs'];
       /** Runs the planner elsewhere (a pool worker); default: here. */
       solve?: (inst: PlanInstance, opts: PlanOptions) => Promise<PlanResult>;
+      /** The memory a study may need (default appMemoryLimitBytes()); past it, a scenario or tile is refused. */
+      maxMemoryBytes?: number;
     } = {},
   ) {}
 
@@ -312,9 +341,20 @@ export class Engine {
     if (files.length === 0)
       throw new InputError('terrain files', 'no files', 'one or more GeoTIFF DEM tiles');
     const decoded: DemTile[] = [];
+    const limit = this.memoryLimitBytes();
     for (const [i, f] of files.entries()) {
       progress?.((0.9 * i) / files.length, `decoding tile ${i + 1} of ${files.length} (${f.name})`);
-      decoded.push(await readDemTile(f.buffer, f.name));
+      // Refused at its header, before its pixels are decoded, when it would not fit.
+      decoded.push(
+        await readDemTile(f.buffer, f.name, (h) => {
+          const refusal = tileRefusal(
+            { name: f.name, fileBytes: f.buffer.byteLength, ...h },
+            limit,
+            APP_MEMORY_KNOB,
+          );
+          if (refusal) throw refusal;
+        }),
+      );
     }
     progress?.(0.9, scenario ? 'joining the tiles, placing the study' : 'joining the tiles');
     const names = new Set(decoded.map((t) => t.name));
@@ -332,6 +372,17 @@ export class Engine {
     this.footprints.clear();
     this.terrainSummary = summariseTerrain(terrain, tiles, this.options.shared ?? false);
     return { terrain: this.terrainSummary, study: study ? this.adopt(study) : null };
+  }
+
+  /** The memory a study may need, bytes (refuse before allocating). */
+  memoryLimitBytes(): number {
+    return this.options.maxMemoryBytes ?? appMemoryLimitBytes();
+  }
+
+  /** Throws when a tile file of `bytes` could not even be read within the limit (before it is read). */
+  checkTileFile(name: string, bytes: number): void {
+    const refusal = tileFileRefusal(name, bytes, this.memoryLimitBytes(), APP_MEMORY_KNOB);
+    if (refusal) throw refusal;
   }
 
   /** Names of the tiles the terrain is made of. */
@@ -374,7 +425,34 @@ export class Engine {
   private makeStudy(input: unknown, display: string, terrain: Terrain): Study {
     const scenario: Scenario = parseScenario(input, display);
     const loaded: StudyScenario = { file: display, scenario, locate: fileLocator(display) };
+    this.checkStudyMemory(loaded, terrain);
     return openStudy(loaded, terrain, 0);
+  }
+
+  /**
+   * Refuse before allocating (worker/core/memory-estimate.ts, the CLI's estimate): the study's grid, every allowed
+   * (site, type) footprint and two horizons against the limit, before the grid's ground exists. The message names
+   * the input that drives the size and, for the grid, the finest cell size that would fit.
+   */
+  private checkStudyMemory(loaded: StudyScenario, terrain: Terrain): void {
+    const s = loaded.scenario;
+    const limit = this.memoryLimitBytes();
+    const targets = studyTargets(s).targets.length;
+    const grid = analysisGrid(loaded, terrain);
+    const run = studyRun(s, grid, terrain, targets);
+    const est = estimateRun(run.shape);
+    if (est.bytes <= limit) return;
+    const fits = cellArcSecThatFits(s.grid.cellArcSec, limit, (c) => {
+      const at = { ...s, grid: { ...s.grid, cellArcSec: c } };
+      return studyRun(at, analysisGrid({ scenario: at }, terrain), terrain, targets).shape;
+    });
+    const knob =
+      `${APP_MEMORY_KNOB}; ` +
+      (fits !== null
+        ? `grid.cellArcSec of ${fits}″ or coarser would fit`
+        : 'no cell size would fit: fewer or smaller terrain tiles, a shorter maxRangeKm');
+    const blame = studyBlame(loaded.locate, s, grid, run, 'the terrain tiles (Ground panel)');
+    throw estimateRefusal(est, limit, blame, knob)!;
   }
 
   private adopt(study: Study): StudySummary {

@@ -222,6 +222,13 @@ export interface Demand {
   target: Uint8Array;
   cell: Uint32Array;
   level: Uint8Array;
+  /**
+   * The points in blocks of one volume at one level, cells ascending within a block: block b is points
+   * [blockStart[b], blockStart[b + 1]) at level blockLevel[b] for target blockTarget[b].
+   */
+  blockStart: Uint32Array;
+  blockLevel: Uint8Array;
+  blockTarget: Uint8Array;
 }
 
 /** Demand points of every volume at the scenario's levels in its band. */
@@ -229,56 +236,124 @@ export function buildDemand(session: Study, fls: readonly number[]): Demand {
   const s = session.loaded.scenario;
   const rows = rowAreasKm2(session.grid);
   const W = session.grid.width;
-  const vol: number[] = [];
-  const cell: number[] = [];
-  const level: number[] = [];
   const altitudes = levelAltitudesM(s, fls);
+  // Two passes: the level masks first (to size the arrays), then the points.
+  const blocks: { vi: number; f: number; mask: Uint8Array; count: number }[] = [];
   s.volumes.forEach((v, vi) => {
     fls.forEach((fl, f) => {
       const m = cellsAtLevel(v, session.volumeMasks[vi], fl, altitudes[f], session.ground);
       if (m === null) return;
-      for (let c = 0; c < m.length; c++) {
-        if (!m[c]) continue;
-        vol.push(vi);
-        cell.push(c);
-        level.push(f);
-      }
+      let count = 0;
+      for (let c = 0; c < m.length; c++) if (m[c]) count++;
+      if (count > 0) blocks.push({ vi, f, mask: m, count });
     });
   });
-  const n = vol.length;
+  const n = blocks.reduce((a, b) => a + b.count, 0);
+  const volume = new Uint16Array(n);
+  const cell = new Uint32Array(n);
+  const level = new Uint8Array(n);
+  const target = new Uint8Array(n);
   const weight = new Float64Array(n);
   const reqAny = new Uint8Array(n);
   const reqPrimary = new Uint8Array(n);
   const reqSecondary = new Uint8Array(n);
-  for (let p = 0; p < n; p++) {
-    const v = s.volumes[vol[p]];
-    weight[p] = rows[(cell[p] / W) | 0] * (v.weight ?? 1);
-    reqAny[p] = v.requiredFold.any ?? 0;
-    reqPrimary[p] = v.requiredFold.primary ?? 0;
-    reqSecondary[p] = v.requiredFold.secondary ?? 0;
-    if (reqAny[p] + reqPrimary[p] + reqSecondary[p] === 0) reqAny[p] = 1;
-  }
+  const blockStart = new Uint32Array(blocks.length + 1);
+  const blockLevel = new Uint8Array(blocks.length);
+  const blockTarget = new Uint8Array(blocks.length);
+  let p = 0;
+  blocks.forEach(({ vi, f, mask }, b) => {
+    const v = s.volumes[vi];
+    const w = v.weight ?? 1;
+    let any = v.requiredFold.any ?? 0;
+    const primary = v.requiredFold.primary ?? 0;
+    const secondary = v.requiredFold.secondary ?? 0;
+    if (any + primary + secondary === 0) any = 1;
+    const t = session.volumeTargets[vi] ?? 0;
+    blockStart[b] = p;
+    blockLevel[b] = f;
+    blockTarget[b] = t;
+    for (let c = 0; c < mask.length; c++) {
+      if (!mask[c]) continue;
+      volume[p] = vi;
+      cell[p] = c;
+      level[p] = f;
+      target[p] = t;
+      weight[p] = rows[(c / W) | 0] * w;
+      reqAny[p] = any;
+      reqPrimary[p] = primary;
+      reqSecondary[p] = secondary;
+      p++;
+    }
+  });
+  blockStart[blocks.length] = p;
   return {
     instancePoints: { count: n, weight, reqAny, reqPrimary, reqSecondary },
-    volume: Uint16Array.from(vol),
-    target: Uint8Array.from(vol, (v) => session.volumeTargets[v] ?? 0),
-    cell: Uint32Array.from(cell),
-    level: Uint8Array.from(level),
+    volume,
+    target,
+    cell,
+    level,
+    blockStart,
+    blockLevel,
+    blockTarget,
   };
 }
 
-/** The demand points a footprint covers (each with its volume's target), in increasing order. */
+/** Grown as needed and reused: the cover list of one footprint before it is copied out. */
+let coverScratch = new Uint32Array(0);
+
+/**
+ * The demand points a footprint covers (each with its volume's target), in increasing order. Per block of points
+ * (one volume at one level) only the points in the rows of the footprint's window are looked at.
+ */
 export function coveredPoints(fp: Footprint, d: Demand, altitudesM: readonly number[]): Uint32Array {
-  const out: number[] = [];
-  const { cell, level, target } = d;
+  const { cell, blockStart, blockLevel, blockTarget } = d;
   const byTarget = [fp, ...(fp.byTarget ?? [])];
-  for (let p = 0; p < cell.length; p++) {
-    const c = cell[p];
-    const h = altitudesM[level[p]];
-    const f = byTarget[target[p]];
-    if (f.lo[c] <= h && h <= f.hi[c]) out.push(p);
+  if (coverScratch.length < cell.length) coverScratch = new Uint32Array(cell.length);
+  const out = coverScratch;
+  let n = 0;
+  for (let b = 0; b < blockLevel.length; b++) {
+    const f = byTarget[blockTarget[b]];
+    let p0 = blockStart[b];
+    let p1 = blockStart[b + 1];
+    const w = f.window;
+    if (w !== undefined) {
+      if (w.row1 <= w.row0 || w.col1 <= w.col0) continue;
+      p0 = lowerBound(cell, p0, p1, w.row0 * w.width + w.col0);
+      p1 = lowerBound(cell, p0, p1, (w.row1 - 1) * w.width + w.col1);
+    }
+    n = coverRun(f.lo, f.hi, cell, altitudesM[blockLevel[b]], p0, p1, out, n);
   }
-  return Uint32Array.from(out);
+  return out.slice(0, n);
+}
+
+/** The first index in [from, to) whose cell is ≥ c (cells ascending there); `to` if none. */
+function lowerBound(cell: Uint32Array, from: number, to: number, c: number): number {
+  let a = from;
+  let b = to;
+  while (a < b) {
+    const m = (a + b) >>> 1;
+    if (cell[m] < c) a = m + 1;
+    else b = m;
+  }
+  return a;
+}
+
+/** Appends to `out` from `n` the points of [p0, p1) whose cell's interval holds h; returns the new count. */
+function coverRun(
+  lo: Uint16Array,
+  hi: Uint16Array,
+  cell: Uint32Array,
+  h: number,
+  p0: number,
+  p1: number,
+  out: Uint32Array,
+  n: number,
+): number {
+  for (let p = p0; p < p1; p++) {
+    const c = cell[p];
+    if (lo[c] <= h && h <= hi[c]) out[n++] = p;
+  }
+  return n;
 }
 
 /**

@@ -165,17 +165,27 @@ export function weatherHelp(column: number, width = 112): string {
   return lines.join('\n');
 }
 
-/** Help of `--cold-day`, the same in every command that takes it; `column` is where option texts start. */
+/** Help of `--cold-day`, the same in every command that takes it; `column` as for helpOption. */
 export function coldDayHelp(column: number): string {
-  const pad = ' '.repeat(column - 1);
-  return (
-    `  --cold-day`.padEnd(column - 1) +
-    `the cold, low-pressure worst case: QNH ${COLD_DAY.qnhHpa} hPa, ISA ${COLD_DAY.isaDeviationC} °C, in place of the\n` +
-    `${pad}scenario's day (flight levels are pressure altitudes; on such a day they sit lowest)`
-  );
+  return helpOption('--cold-day', column, [
+    `the cold, low-pressure worst case: QNH ${COLD_DAY.qnhHpa} hPa, ISA ${COLD_DAY.isaDeviationC} °C, in place of the`,
+    "scenario's day (flight levels are pressure altitudes; on such a day they sit lowest)",
+  ]);
 }
 
 /** With `--cold-day`, the scenario's day becomes the cold, low-pressure worst case (the caller's scenario). */
 export function applyColdDay(p: Parsed, scenario: { day?: { qnhHpa: number; isaDeviationC: number } }): void {
   if (p.flags.has('cold-day')) scenario.day = { ...COLD_DAY };
+}
+
+/**
+ * One option of a command's help: the label, then its text from `column` (the 0-based position where the command's
+ * option texts start, as for weatherHelp); a label too long for the column gets its text on the next lines.
+ */
+export function helpOption(label: string, column: number, lines: readonly string[]): string {
+  const pad = ' '.repeat(column);
+  const head = `  ${label}`;
+  const fits = head.length < column;
+  const body = lines.map((l, i) => (i === 0 && fits ? l : pad + l));
+  return fits ? head.padEnd(column) + body.join('\n') : [head, ...body].join('\n');
 }

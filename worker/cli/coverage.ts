@@ -72,7 +72,7 @@ ${coldDayHelp(19)}
                    scenario's k. A k outside 0.2–20 is refused (near −157 N/km the ray follows the earth: ducting)
   --out DIR        output folder
   --threads N      worker threads (default: one per core; 0 runs on the main thread)
-${sessionHelp(20)}
+${sessionHelp(19)}
 
 ${runFolderHelp()}`;
 

@@ -7,10 +7,11 @@ import { buildSensorModel } from '../core/sensor.ts';
 import { Terrain } from '../core/terrain.ts';
 import { renderDiagramSvg } from '../io/diagram-svg.ts';
 import { applyColdDay, coldDayHelp, numberArg, one, parseArgs, required, weatherHelp } from './args.ts';
-import { writeFileAtomic } from './files.ts';
+import { writeOutputFile } from './files.ts';
 import { memoryLimitArg, readTilesWithin } from './budget-check.ts';
 import { checkOutput } from './out-check.ts';
 import { SESSION_OPTIONS, sessionHelp } from './session.ts';
+import { workLimitArg } from './work-check.ts';
 import { scenarioProvenance } from './provenance.ts';
 import { loadScenario } from './scenario.ts';
 
@@ -77,6 +78,8 @@ export async function diagramCommand(argv: readonly string[], log: (s: string) =
       ? undefined
       : numberArg('max-range-km', rangeText, 1, 2000, 'a range in km from 1 to 2000') * 1000;
   const memoryLimit = memoryLimitArg(p);
+  // One radial: far below any time limit, but a bad --max-work-min is still named.
+  workLimitArg(p);
   const loaded = await loadScenario(p.positional[0], {
     allowOutsidePaths: p.flags.has('allow-outside-paths'),
   });
@@ -128,7 +131,7 @@ export async function diagramCommand(argv: readonly string[], log: (s: string) =
     loaded,
     studyConventions({ loaded, models: new Map([[model.spec.id, model]]) }, s.flightLevels),
   );
-  writeFileAtomic(outPath, renderDiagramSvg(data, { title, units: unitsText, provenance }));
+  writeOutputFile(outPath, renderDiagramSvg(data, { title, units: unitsText, provenance }));
   const shadowKm = data.shadow.reduce((a, r) => a + (r.toM - r.fromM), 0) / 1000;
   log(
     [

@@ -8,12 +8,14 @@ import {
   closeSync,
   constants as fsConstants,
   existsSync,
+  fstatSync,
   fsyncSync,
   lstatSync,
   mkdirSync,
   openSync,
   readdirSync,
   readFileSync,
+  readSync,
   renameSync,
   rmSync,
   statSync,
@@ -22,7 +24,7 @@ import {
 import { basename, dirname, join, resolve } from 'node:path';
 import { CAUTION } from '../../shared/caution.ts';
 import { InputError } from '../../shared/errors.ts';
-import { readDemTile } from '../io/geotiff-read.ts';
+import { readDemTile, type TileBytes } from '../io/geotiff-read.ts';
 import type { DemTile } from '../core/terrain.ts';
 
 /** SHA-256 (hex) of the bytes last read through `readFileChecked`, by absolute path. */
@@ -58,6 +60,81 @@ export function readFileChecked(path: string, what: string): ArrayBuffer {
     : (buf.buffer.slice(buf.byteOffset, buf.byteOffset + buf.byteLength) as ArrayBuffer);
 }
 
+/**
+ * A file opened for random reads (`TileBytes`), as `readFileChecked` would read it: same checks, same messages. The
+ * SHA-256 is taken from the very bytes read, as long as they run front to back from byte 0 (the sequential pixel
+ * pass of worker/io/geotiff-read.ts reads every byte that way); `close` finishes the hash if the reads stopped short
+ * and records it for `digestOfRead`.
+ */
+export interface CheckedFile extends TileBytes {
+  /** Closes the file; with `finishHash` (the default) first reads what the hash still lacks and records it. */
+  close(finishHash?: boolean): void;
+}
+
+export function openFileChecked(path: string, what: string): CheckedFile {
+  let st;
+  try {
+    st = statSync(path);
+  } catch {
+    throw new InputError(path, 'no such file', what);
+  }
+  if (st.isDirectory()) throw new InputError(path, 'a directory', what);
+  const cannot = (e: unknown) =>
+    new InputError(
+      path,
+      `a file that cannot be read (${(e as NodeJS.ErrnoException).code ?? 'error'})`,
+      what,
+    );
+  let fd: number;
+  try {
+    fd = openSync(path, 'r');
+  } catch (e) {
+    throw cannot(e);
+  }
+  const byteLength = fstatSync(fd).size;
+  const hash = createHash('sha256');
+  let hashed = 0;
+  let open = true;
+  const read = (offset: number, into: Uint8Array): number => {
+    const want = Math.max(0, Math.min(into.length, byteLength - offset));
+    let got = 0;
+    try {
+      while (got < want) {
+        const n = readSync(fd, into, got, want - got, offset + got);
+        if (n === 0) break;
+        got += n;
+      }
+    } catch (e) {
+      throw cannot(e);
+    }
+    // The part of this read that extends the hashed prefix [0, hashed).
+    if (offset <= hashed && offset + got > hashed) {
+      hash.update(into.subarray(hashed - offset, got));
+      hashed = offset + got;
+    }
+    return got;
+  };
+  return {
+    byteLength,
+    sequential: true,
+    read,
+    close(finishHash = true): void {
+      if (!open) return;
+      try {
+        if (!finishHash) return;
+        const rest = new Uint8Array(Math.min(WRITE_CHUNK_BYTES, Math.max(1, byteLength - hashed)));
+        while (hashed < byteLength) {
+          if (read(hashed, rest.subarray(0, Math.min(rest.length, byteLength - hashed))) === 0) break;
+        }
+        readDigests.set(resolve(path), hash.digest('hex'));
+      } finally {
+        open = false;
+        closeSync(fd);
+      }
+    },
+  };
+}
+
 export async function readTiles(paths: readonly string[]): Promise<DemTile[]> {
   const tiles: DemTile[] = [];
   for (const p of paths) {
@@ -66,22 +143,39 @@ export async function readTiles(paths: readonly string[]): Promise<DemTile[]> {
   return tiles;
 }
 
+/** Bytes per write call: well under the 2 GiB a single write may take. */
+const WRITE_CHUNK_BYTES = 256 * 1024 * 1024;
+
 /**
  * Writes a file whole or not at all: the bytes go to a temporary file beside it (`.NAME.<12 hex>.tmp`), are flushed
  * to the disk (fsync), and the temporary file is renamed into place (a rename within one folder replaces the old
  * file in one step), then the folder itself is flushed so that the rename survives a power cut. A reader — or a
  * process killed at any moment — never sees half a file under the final name.
  */
-export function writeFileAtomic(path: string, data: ArrayBuffer | string, what = path): void {
+export function writeFileAtomic(
+  path: string,
+  data: ArrayBuffer | string | readonly Uint8Array[],
+  what = path,
+): void {
   const dir = dirname(resolve(path));
   const tmp = join(dir, `.${basename(path)}.${randomBytes(6).toString('hex')}.tmp`);
   try {
     mkdirSync(dir, { recursive: true });
-    const bytes = typeof data === 'string' ? Buffer.from(data, 'utf8') : new Uint8Array(data);
+    // Parts (e.g. a GeoTIFF's header and its pixel buffer) are written one after the other, never concatenated.
+    const parts =
+      typeof data === 'string'
+        ? [Buffer.from(data, 'utf8')]
+        : data instanceof ArrayBuffer
+          ? [new Uint8Array(data)]
+          : data;
     const fd = openSync(tmp, 'w');
     try {
-      let at = 0;
-      while (at < bytes.byteLength) at += writeSync(fd, bytes, at, bytes.byteLength - at);
+      for (const bytes of parts) {
+        let at = 0;
+        while (at < bytes.byteLength) {
+          at += writeSync(fd, bytes, at, Math.min(bytes.byteLength - at, WRITE_CHUNK_BYTES));
+        }
+      }
       fsyncSync(fd);
     } finally {
       closeSync(fd);
@@ -125,6 +219,42 @@ export function isTempOf(entry: string, name: string): boolean {
     entry.startsWith(`.${name}.`) &&
     /^\.[0-9a-f]{12}\.tmp$/.test(entry.slice(name.length + 1))
   );
+}
+
+/**
+ * Writes a single-file output (`writeFileAtomic`), then removes the temporary files an earlier run killed mid-write
+ * left beside it: only names of `writeFileAtomic`'s own pattern for this very output (`isTempOf`), only plain files,
+ * and only those last written before this process started — a run writing the same output at this moment has a
+ * newer one, which is left alone. Returns the names removed.
+ */
+export function writeOutputFile(
+  path: string,
+  data: ArrayBuffer | string | readonly Uint8Array[],
+  what = path,
+): string[] {
+  writeFileAtomic(path, data, what);
+  const dir = dirname(resolve(path));
+  const name = basename(path);
+  const removed: string[] = [];
+  let entries: string[];
+  try {
+    entries = readdirSync(dir);
+  } catch {
+    return removed;
+  }
+  for (const entry of entries) {
+    if (!isTempOf(entry, name)) continue;
+    const tmp = join(dir, entry);
+    try {
+      const st = lstatSync(tmp);
+      if (!st.isFile() || st.mtimeMs >= performance.timeOrigin) continue;
+      rmSync(tmp, { force: true });
+      removed.push(entry);
+    } catch {
+      // gone meanwhile, or not ours to remove
+    }
+  }
+  return removed;
 }
 
 // ---- run folders -------------------------------------------------------------------------------------------------

@@ -4,30 +4,26 @@ import { CAUTION } from '../../shared/caution.ts';
 import { InputError } from '../../shared/errors.ts';
 import { DEFAULT_K_FACTOR, EARTH_RADIUS_M } from '../../shared/units.ts';
 import { computeFloor, inlineExecutor, type FloorResult } from '../core/floor.ts';
-import { Terrain } from '../core/terrain.ts';
+import type { Terrain } from '../core/terrain.ts';
 import type { GridGeo } from '../core/grid.ts';
-import { encodeGeoTiff, geoTiffCrsProblem } from '../io/geotiff-write.ts';
+import { encodeGeoTiffParts, geoTiffCrsProblem } from '../io/geotiff-write.ts';
 import { undated } from '../io/provenance.ts';
 import { NodePool } from '../node-pool.ts';
 import { lonLatArg, numberArg, one, parseArgs, required, threadsArg } from './args.ts';
-import { writeFileAtomic } from './files.ts';
+import { writeOutputFile } from './files.ts';
 import { checkOutput } from './out-check.ts';
-import {
-  checkEstimate,
-  estimateRun,
-  MEMORY_OPTION,
-  memoryHelp,
-  memoryLimitArg,
-  readTilesWithin,
-} from './budget-check.ts';
+import { checkEstimate, estimateRun, MEMORY_OPTION, memoryHelp, memoryLimitArg } from './budget-check.ts';
+import { readTerrainWithin } from './dem-open.ts';
 import { ProgressLine } from './progress.ts';
 import { floorProvenance } from './provenance.ts';
+import { checkWork, estimateWork, WORK_OPTION, workHelp, workLimitArg } from './work-check.ts';
 
 export const FLOOR_HELP = `airshade floor — lowest line-of-sight altitude above every cell of a DEM
 
 Usage:
   airshade floor --dem A.tif [--dem B.tif …] --site LON,LAT --mast-m H [--k 1.3333]
-                 [--max-range-km R] --out floor.tif [--threads N] [--max-memory SIZE] [--quiet] [--debug]
+                 [--max-range-km R] --out floor.tif [--threads N] [--max-memory SIZE] [--max-work-min M]
+                 [--quiet] [--debug]
 
 Writes a Float32 GeoTIFF on the first DEM's grid and CRS: per cell, the lowest altitude above mean sea level
 (metres) at which a target above that cell is in line of sight of the antenna — never below the ground there.
@@ -44,7 +40,8 @@ Options:
                       the first DEM, at most 2000 km)
   --out FILE          output GeoTIFF
   --threads N         worker threads, 0 to the machine's cores (default: one per core; 0 = the main thread)
-${memoryHelp(21)}
+${memoryHelp(22)}
+${workHelp(22)}
   --quiet             no progress line
   --debug             show stack traces on errors
 `;
@@ -58,6 +55,7 @@ const SPEC = {
   out: { value: true },
   threads: { value: true },
   ...MEMORY_OPTION,
+  ...WORK_OPTION,
   quiet: {},
   debug: {},
   help: {},
@@ -104,16 +102,22 @@ export async function floorCommand(argv: readonly string[], log: (s: string) => 
   const outPath = required(p, 'out', 'the output GeoTIFF path');
   const threads = threadsArg(p, NodePool.defaultSize());
   const memoryLimit = memoryLimitArg(p);
+  const workLimitMin = workLimitArg(p);
   checkOutput(outPath, 'file', dems);
 
   const started = performance.now();
   const progress = new ProgressLine('floor', p.flags.has('quiet'));
   progress.update(0, 'reading terrain');
-  const { tiles, largest } = await readTilesWithin(dems, memoryLimit);
+  // Fused read: headers first, then each tile decoded straight into the mosaic's one (shared) buffer.
+  const {
+    terrain,
+    largest,
+    firstGeo: outGeo,
+  } = await readTerrainWithin(dems, memoryLimit, {
+    shared: threads > 0,
+  });
   const tRead = performance.now();
-  const terrain = Terrain.fromTiles(tiles, { shared: threads > 0 });
-  const outGeo = tiles[0].geo;
-  checkFloorRun(terrain, outGeo, site, maxRangeM, largest, memoryLimit);
+  checkFloorRun(terrain, outGeo, site, maxRangeM, largest, memoryLimit, { threads, limitMin: workLimitMin });
   // The output is written on the first DEM's CRS: make sure it can be, before the long work.
   const crsProblem = geoTiffCrsProblem(outGeo.crs);
   if (crsProblem !== undefined) {
@@ -141,9 +145,10 @@ export async function floorCommand(argv: readonly string[], log: (s: string) => 
   const provenance = undated(
     floorProvenance(p, SPEC, dems, { antenna: { lon: site.lon, lat: site.lat, mastM }, kFactor, maxRangeKm }),
   );
-  writeFileAtomic(
+  // Header + the floor's own buffer, written one after the other (no copy of the raster).
+  writeOutputFile(
     outPath,
-    encodeGeoTiff({ geo: outGeo, data: result.floor, nodata: NaN, description: CAUTION, provenance }),
+    encodeGeoTiffParts({ geo: outGeo, data: result.floor, nodata: NaN, description: CAUTION, provenance }),
   );
   const tWritten = performance.now();
   progress.done();
@@ -159,7 +164,7 @@ export async function floorCommand(argv: readonly string[], log: (s: string) => 
       `  sampling     ${s.radials} radials at the outer range, step ${L.rangeStepM.toFixed(1)} m, out to ${(L.maxRangeM / 1000).toFixed(1)} km`,
       `  cells        ${pct(s.valued)} with a floor, ${pct(s.beyondRange)} beyond range, ${pct(s.unknown)} behind or on unknown terrain`,
       ...terrain.warnings.map((w) => `  warning      ${w}`),
-      `  stages       read ${sec(tRead - started)}, mosaic + workers ${sec(tReady - tRead)}, sweep ${sec(s.sweepMs)}, resample ${sec(s.resampleMs)}, write ${sec(tWritten - tComputed)}`,
+      `  stages       read into the mosaic ${sec(tRead - started)}, workers ${sec(tReady - tRead)}, sweep ${sec(s.sweepMs)}, resample ${sec(s.resampleMs)}, write ${sec(tWritten - tComputed)}`,
       `  time         ${((performance.now() - started) / 1000).toFixed(2)} s, peak memory ${(process.resourceUsage().maxRSS / 1024).toFixed(0)} MiB`,
     ].join('\n'),
   );
@@ -178,6 +183,7 @@ function checkFloorRun(
   maxRangeM: number | undefined,
   largest: Parameters<typeof estimateRun>[0]['largestTile'],
   memoryLimit: number,
+  work: { threads: number; limitMin: number },
 ): void {
   if (!Number.isFinite(terrain.sampleLonLat(site.lon, site.lat))) {
     const b = terrain.geo;
@@ -206,15 +212,28 @@ function checkFloorRun(
     arcStepM: 1.5 * pixelM,
     horizonsInFlight: 1,
   });
+  const rangeBlame =
+    maxRangeM === undefined
+      ? '--dem (the range reaches its farthest cell; see --max-range-km)'
+      : '--max-range-km';
   checkEstimate(est, memoryLimit, {
     terrain: '--dem',
     grid: '--dem',
     footprints: '--dem',
-    horizons:
-      maxRangeM === undefined
-        ? '--dem (the range reaches its farthest cell; see --max-range-km)'
-        : '--max-range-km',
+    horizons: rangeBlame,
   });
+  // The same layout in time: one sweep (the bound of budget-check.ts) and the resample onto the DEM's cells.
+  const workEst = estimateWork({
+    sweeps: [{ reachM, rangeStepM: 0.75 * pixelM, arcStepM: 1.5 * pixelM }],
+    terrainAreaM2: terrain.geo.width * terrain.geo.height * px.x * px.y,
+    cells: outGeo.width * outGeo.height,
+    sites: 1,
+    pairs: 0,
+    targets: 1,
+    levels: 0,
+    threads: work.threads,
+  });
+  checkWork(workEst, work.limitMin, { sweeps: rangeBlame, cells: '--dem' });
 }
 
 /** The terrain heights under `geo`'s cells when `geo` lies on the terrain lattice (it does for the first tile). */

@@ -23,7 +23,7 @@ import {
   type StudyTile,
 } from '../io/new-study.ts';
 import { one, parseArgs, required } from './args.ts';
-import { readFileChecked, writeFileAtomic } from './files.ts';
+import { readFileChecked, writeOutputFile } from './files.ts';
 import { ProgressLine } from './progress.ts';
 import { MEMORY_OPTION, memoryHelp, memoryLimitArg, readTilesWithin } from './budget-check.ts';
 import { checkOutput } from './out-check.ts';
@@ -49,7 +49,7 @@ low-power transponder; ISA standard day; sea lobing where the reflection lies ov
 Sites and sensor types are copied into the study; the DEM tiles are referenced, relative to the study's folder.
 
 Options:
-  --dem FILE       a GeoTIFF elevation tile (metres AMSL; any CRS proj4 knows by EPSG code); repeat it, give a
+  --dem FILE       a GeoTIFF elevation tile (metres AMSL; any CRS geotiff.js and proj4 can read); repeat it, give a
                    folder (its .tif/.tiff files), or list several files after one --dem (--dem tiles/*.tif)
   --sites FILE     the sites: CSV (header row: lon, lat, id, name, mastHeightM, siteCost; optional existing,
                    allowedTypes as ids separated by ";", tiltDeg) or a GeoJSON FeatureCollection of Points with
@@ -62,7 +62,7 @@ Options:
   --name TEXT      the study's name (default: from the sites file and the tiles)
   --out FILE       the study file to write (.json)
   --force          replace an existing study file
-${memoryHelp(18)}
+${memoryHelp(19)}
 `;
 
 const SPEC = {
@@ -233,7 +233,7 @@ export async function initCommand(argv: readonly string[], log: (s: string) => v
     terrain: dems.map(readDigest),
     kFactor: study.scenario.earth.kFactor,
   };
-  writeFileAtomic(out, JSON.stringify({ ...study.doc, provenance }, null, 2) + '\n', `--out ${out}`);
+  writeOutputFile(out, JSON.stringify({ ...study.doc, provenance }, null, 2) + '\n', `--out ${out}`);
   progress.done();
 
   for (const w of [...tileWarnings, ...study.choices.warnings]) log(`warning: ${w}`);

@@ -27,7 +27,7 @@ import {
   threadsArg,
   weatherHelp,
 } from './args.ts';
-import { readFileChecked, writeFileAtomic } from './files.ts';
+import { readFileChecked, writeOutputFile } from './files.ts';
 import type { Candidate } from '../core/coverage.ts';
 import { planCandidates } from './outage.ts';
 import { ProgressLine } from './progress.ts';
@@ -68,7 +68,7 @@ ${coldDayHelp(19)}
   --out FILE|DIR   the HTML file to write (a path ending in .html), or a folder to write report.html into; the
                    file is written whole or not at all
   --threads N      worker threads (default: one per core; 0 runs on the main thread)
-${sessionHelp(20)}
+${sessionHelp(19)}
 `;
 
 const SPEC = {
@@ -281,7 +281,7 @@ export async function reportCommand(argv: readonly string[], log: (s: string) =>
   const { volumeStats: stats, outage: losses, maps, conventions } = model;
   progress.update(0.95, 'writing');
   const html = buildReportHtml(model);
-  writeFileAtomic(outPath, html);
+  writeOutputFile(outPath, html);
   progress.done();
   const worst = losses[0];
   const levelMaps = maps.filter((m) => m.flightLevel !== undefined).length;

@@ -10,6 +10,7 @@ import { ScenarioError, showValue, type Locator, type Scenario } from '../../sha
 import type { FileDigest } from '../io/provenance.ts';
 import { assembleScenario, parseJsonText } from '../io/scenario-text.ts';
 import { digestOfRead, readFileChecked } from './files.ts';
+import { helpOption } from './args.ts';
 
 export { checkAgainstTerrain, parseJsonText, readSitesCsv } from '../io/scenario-text.ts';
 
@@ -47,9 +48,10 @@ export interface LoadScenarioOptions {
 /** The switch that lets a scenario name files outside its folder, as every scenario command spells it. */
 export const OUTSIDE_PATHS_OPTION = { 'allow-outside-paths': {} } as const;
 export const OUTSIDE_PATHS_HELP = (column: number): string =>
-  '  --allow-outside-paths'.padEnd(column - 1) +
-  'read files the scenario names outside its own folder (absolute paths, ../); by default refused\n' +
-  `${' '.repeat(column - 1)}(a study made by airshade init with its tiles elsewhere needs it)`;
+  helpOption('--allow-outside-paths', column, [
+    'read files the scenario names outside its own folder (absolute paths, ../); by default refused (a study',
+    'made by airshade init with its tiles elsewhere needs it)',
+  ]);
 
 function realOr(path: string): string {
   try {

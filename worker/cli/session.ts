@@ -13,6 +13,7 @@ import {
   layoutCandidates,
   openStudy,
   studyTargets,
+  terrainBounds,
   type Study,
 } from '../study.ts';
 import type { GridGeo } from '../core/grid.ts';
@@ -29,6 +30,14 @@ import {
 } from './budget-check.ts';
 import { checkOutput } from './out-check.ts';
 import type { ProgressLine } from './progress.ts';
+import {
+  checkWork,
+  estimateWork,
+  WORK_OPTION,
+  workHelp,
+  workLimitArg,
+  type WorkEstimate,
+} from './work-check.ts';
 import { loadScenario, OUTSIDE_PATHS_HELP, OUTSIDE_PATHS_OPTION, type LoadedScenario } from './scenario.ts';
 
 export type Session = Study<LoadedScenario>;
@@ -53,17 +62,19 @@ export function networkChoice(
   return { candidates, label };
 }
 
-/** The options every scenario command takes for its inputs: --max-memory and --allow-outside-paths. */
-export const SESSION_OPTIONS = { ...MEMORY_OPTION, ...OUTSIDE_PATHS_OPTION } as const;
+/** The options every scenario command takes for its inputs: --max-memory, --max-work-min, --allow-outside-paths. */
+export const SESSION_OPTIONS = { ...MEMORY_OPTION, ...WORK_OPTION, ...OUTSIDE_PATHS_OPTION } as const;
 
 /** Their help lines, with option texts starting at `column`. */
 export function sessionHelp(column: number): string {
-  return `${memoryHelp(column)}\n${OUTSIDE_PATHS_HELP(column)}`;
+  return `${memoryHelp(column)}\n${workHelp(column)}\n${OUTSIDE_PATHS_HELP(column)}`;
 }
 
 export interface SessionOptions {
   /** The memory limit (--max-memory, default budget-check.ts's). */
   maxMemoryBytes?: number;
+  /** The time limit in minutes (--max-work-min, default work-check.ts's). */
+  maxWorkMin?: number;
   /** Let the scenario name files outside its own folder (--allow-outside-paths). */
   allowOutsidePaths?: boolean;
   /** The output (checked once the inputs are known, before the terrain is read): a folder or a file. */
@@ -72,7 +83,12 @@ export interface SessionOptions {
 
 /** The session options as the command line gives them (`out` from the command itself). */
 export function sessionOptions(p: Parsed, out?: SessionOptions['out']): SessionOptions {
-  return { maxMemoryBytes: memoryLimitArg(p), allowOutsidePaths: p.flags.has('allow-outside-paths'), out };
+  return {
+    maxMemoryBytes: memoryLimitArg(p),
+    maxWorkMin: workLimitArg(p),
+    allowOutsidePaths: p.flags.has('allow-outside-paths'),
+    out,
+  };
 }
 
 export async function openSession(
@@ -105,6 +121,12 @@ export async function openSession(
   );
   const terrain = Terrain.fromTiles(tiles, { shared: threads > 0 });
   checkStudyMemory(loaded, terrain, largest, limit);
+  checkStudyWork(
+    loaded,
+    terrain,
+    threads,
+    opts.maxWorkMin ?? workLimitArg({ positional: [], values: new Map(), flags: new Set() }),
+  );
   return openStudy(loaded, terrain, threads);
 }
 
@@ -152,6 +174,54 @@ export function checkStudyMemory(
     footprints: `${cell} with ${pairs} (site, type) pairs`,
     horizons: `${cell} out to ${(reachM / 1000).toFixed(0)} km (maxRangeKm, the types' instrumented range)`,
   });
+}
+
+/**
+ * The study's work against the time limit, before its grid exists (work-check.ts): every allowed (site, type)
+ * pair, each site's sweep out to the farthest of its types (as worker/core/coverage.ts sweeps it: a terrain
+ * pixel along, ¾ of a cell across), the scenario's levels and targets.
+ */
+export function checkStudyWork(
+  loaded: LoadedScenario,
+  terrain: Terrain,
+  threads: number,
+  limitMin: number,
+): WorkEstimate {
+  const s = loaded.scenario;
+  const grid: GridGeo = analysisGrid(loaded, terrain);
+  const lat = grid.originY + (grid.height / 2) * grid.pixelY;
+  const cellM = Math.min(grid.pixelX * Math.cos((lat * Math.PI) / 180), -grid.pixelY) * 111_320;
+  const rangeOf = new Map(s.sensorTypes.map((t) => [t.id, t.instrumentedRangeNm * NM_M]));
+  let pairs = 0;
+  const sweeps = s.sites.map((f) => {
+    const types = f.properties.allowedTypes ?? s.sensorTypes.map((t) => t.id);
+    pairs += types.length;
+    const [lon, siteLat] = f.geometry.coordinates;
+    const px = terrain.metresPerPixel(lon, siteLat);
+    return {
+      reachM: Math.min(s.maxRangeKm * 1000, Math.max(0, ...types.map((id) => rangeOf.get(id) ?? 0))),
+      rangeStepM: Math.min(px.x, px.y) || cellM,
+      arcStepM: 0.75 * cellM,
+    };
+  });
+  const tb = terrainBounds(terrain);
+  const midLat = ((tb.north + tb.south) / 2) * (Math.PI / 180);
+  const est = estimateWork({
+    sweeps,
+    terrainAreaM2: (tb.east - tb.west) * Math.cos(midLat) * (tb.north - tb.south) * 111_320 ** 2,
+    cells: grid.width * grid.height,
+    sites: s.sites.length,
+    pairs,
+    targets: studyTargets(s).targets.length,
+    levels: s.flightLevels.length,
+    threads,
+  });
+  const cell = `${loaded.locate(['grid', 'cellArcSec'])} (${s.grid.cellArcSec}″: ${grid.width} × ${grid.height} cells)`;
+  checkWork(est, limitMin, {
+    sweeps: `${loaded.locate(['sites'])} (${s.sites.length} sites, each swept out to ${(Math.max(0, ...sweeps.map((w) => w.reachM)) / 1000).toFixed(0)} km: maxRangeKm and the types' instrumented range)`,
+    cells: `${cell} with ${pairs} (site, type) pairs and ${s.flightLevels.length} flight levels`,
+  });
+  return est;
 }
 
 /** Footprints of the candidates (the floors in a pool of `session.threads` workers, 0 = inline). */

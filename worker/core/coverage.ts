@@ -1,14 +1,27 @@
 /**
  * The coverage job: line-of-sight floors per site, footprints per (site, type), and the network they form.
  *
- *   per site:  computeFloor on the analysis grid (pooled: sweep + resample)  → floor, distance
+ *   per site:  computeFloor's job on the analysis grid (pooled: sweep + resample)  → floor, distance
  *   per type:  sensorBand (sensor limits vs distance)  ×  floor              → footprint (lo, hi per cell)
+ *
+ * Work follows the area a site sees, not the study: the site's rows within its range box are resampled, and each
+ * footprint is computed in the box of its band's reach (`Footprint.window`; no cover outside it).
  *   network:   distinct sites per cell and flight level, per kind           → folds, network floor, stats
  *
  * Sensor types on one site share its floor (the horizon cache makes a second run with the same sites free).
  */
-import { computeFloor, type Executor, type Progress } from './floor.ts';
-import { buildFootprint, seaBand, sensorBand, type Footprint, type SeaChoice } from './footprint.ts';
+import type { Executor, FloorRequest, Progress } from './floor.ts';
+import { VectorMap } from './geodesy.ts';
+import { gridMapper } from './grid.ts';
+import { planHorizon, type HorizonSpec } from './horizon.ts';
+import {
+  buildFootprint,
+  seaBand,
+  sensorBand,
+  type Footprint,
+  type FootprintWindow,
+  type SeaChoice,
+} from './footprint.ts';
 import { firstLobeFactor, reflectionDistanceM, type Polarization } from './multipath.ts';
 import type { GridGeo } from './grid.ts';
 import type { HorizonCache } from './horizon-cache.ts';
@@ -89,9 +102,12 @@ export async function computeFootprints(
   const groups = [...bySite.values()];
   const reachOf = (cands: Candidate[]) =>
     Math.min(req.maxRangeM, Math.max(...cands.map((c) => c.model.instrumentedRangeM)));
+  // One polar buffer serves every site in turn (a site's sweep starts only once the previous site's resampling is
+  // done): fresh memory costs a page fault per 4 KiB here, about a fifth of the time with a buffer per site.
+  const spare: { buffer: ArrayBuffer | SharedArrayBuffer | null } = { buffer: null };
   const floorOf = (cands: Candidate[]) => {
     const site = cands[0].site;
-    return computeFloor(
+    return siteFloor(
       terrain,
       {
         lon: site.lon,
@@ -108,22 +124,19 @@ export async function computeFootprints(
       req.grid,
       req.ground,
       exec,
-      {
-        withDistance: true,
-        cache: opts.cache,
-        onProgress: (f, stage) => opts.onProgress?.((done + f) / groups.length, `${site.name}: ${stage}`),
-      },
+      opts.cache ?? null,
+      spare,
+      (f, stage) => opts.onProgress?.((done + f) / groups.length, `${site.name}: ${stage}`),
     );
   };
   const footprintFor = (
     c: Candidate,
     target: Target,
-    floor: Float32Array,
-    distance: Float32Array,
-    antennaAltM: number,
+    res: SiteRun,
     maxRangeM: number,
     sea: SeaMask | null,
   ): Footprint => {
+    const { antennaAltM } = res;
     const profile = c.model.profile({
       target,
       antennaAltM,
@@ -132,6 +145,9 @@ export async function computeFootprints(
       atmosphere: req.atmosphere,
     });
     const band = sensorBand(profile, { antennaAltM, reM, maxRangeM });
+    // Cells beyond the band's last detected row are never covered: the footprint is computed in the box within
+    // that reach (and within the site's own box); every cell outside it has no cover.
+    const window = intersectWindows(res.window, rangeWindow(req.grid, c.site, bandReachM(band)));
     let choice: SeaChoice | undefined;
     if (sea !== null) {
       const tiltRad = ((c.site.tiltDeg ?? 0) * Math.PI) / 180;
@@ -149,50 +165,32 @@ export async function computeFootprints(
       }
       choice = { band: over, d1M, ...sea };
     }
-    return buildFootprint(c.site.id, c.model, floor, distance, band, choice);
+    return buildFootprint(c.site.id, c.model, res.floor, res.distance, band, choice, window);
   };
   let next = groups.length > 0 ? floorOf(groups[0]) : null;
   for (let g = 0; g < groups.length; g++) {
     const cands = groups[g];
     const site = cands[0].site;
     const res = await next!;
+    // The polar buffer is free again (the resampling is done): the next site's sweep takes it.
+    if (!opts.cache) spare.buffer = res.tan.buffer;
     next = g + 1 < groups.length ? floorOf(groups[g + 1]) : null;
-    const distance = res.distance!;
+    const { distance, maxRangeM } = res;
     siteFloors.push({
       site,
       floor: res.floor,
       distance,
-      antennaAltM: res.stats.antennaAltM,
-      groundM: res.stats.groundM,
+      antennaAltM: res.antennaAltM,
+      groundM: res.groundM,
     });
-    const sea = req.multipath
-      ? seaMask(terrain, req.grid, site, distance, res.horizon.layout.maxRangeM)
-      : null;
+    const sea = req.multipath ? seaMask(terrain, req.grid, site, distance, maxRangeM) : null;
     for (const c of cands) {
-      const fp = footprintFor(
-        c,
-        c.target,
-        res.floor,
-        distance,
-        res.stats.antennaAltM,
-        res.horizon.layout.maxRangeM,
-        sea,
-      );
+      const fp = footprintFor(c, c.target, res, maxRangeM, sea);
       if (req.extraTargets?.length) {
         // Targets that differ only in what this type does not depend on share its footprint.
         const key0 = c.model.targetKey(c.target);
         fp.byTarget = req.extraTargets.map((t) =>
-          c.model.targetKey(t) === key0
-            ? fp
-            : footprintFor(
-                c,
-                t,
-                res.floor,
-                distance,
-                res.stats.antennaAltM,
-                res.horizon.layout.maxRangeM,
-                sea,
-              ),
+          c.model.targetKey(t) === key0 ? fp : footprintFor(c, t, res, maxRangeM, sea),
         );
       }
       footprints.push(fp);
@@ -201,6 +199,170 @@ export async function computeFootprints(
     opts.onProgress?.(done / groups.length, `${site.name}: done`);
   }
   return { footprints, siteFloors };
+}
+
+/** One site's floor as `siteFloor` computes it. */
+interface SiteRun {
+  /** NaN outside `window` (the cells within the horizon's range). */
+  floor: Float32Array;
+  distance: Float32Array;
+  /** The polar buffer of screening tans (lent: free again once the footprints no longer need it). */
+  tan: Float32Array;
+  antennaAltM: number;
+  groundM: number;
+  /** The horizon's range (m). */
+  maxRangeM: number;
+  window: FootprintWindow;
+}
+
+/**
+ * A site's line-of-sight floor and distance on the analysis grid: `computeFloor`'s job (floor.ts: the same
+ * layout, sweep pieces and resampling, so the same values to the bit), with two savings — the polar buffer is
+ * reused from the previous site (`spare`, when no horizon cache keeps it), and only the rows of the site's range
+ * box are resampled (the rest stay NaN: beyond range).
+ */
+async function siteFloor(
+  terrain: TerrainRaster,
+  req: FloorRequest & { maxRangeM: number },
+  grid: GridGeo,
+  ground: Float32Array,
+  exec: Executor,
+  cache: HorizonCache | null,
+  spare: { buffer: ArrayBuffer | SharedArrayBuffer | null },
+  onProgress: Progress,
+): Promise<SiteRun> {
+  onProgress(0, 'geodesics');
+  const vmap = VectorMap.build(req.lon, req.lat, grid.width, grid.height, gridMapper(grid));
+  // As computeFloor: never farther than the grid's farthest cell.
+  const p = terrain.metresPerPixel(req.lon, req.lat);
+  const gridReach = vmap.maxDistanceM() + 2 * vmap.block * Math.max(1, Math.max(p.x, p.y));
+  const spec: HorizonSpec = { ...req, maxRangeM: Math.min(req.maxRangeM, gridReach) };
+  const n = Math.max(1, exec.size);
+  const pieces = n === 1 ? 1 : n * 4;
+  let done = 0;
+  const tick = (stage: string) => () => onProgress(++done / (pieces * 2), stage);
+  let horizon = cache?.get(terrain, spec);
+  if (horizon) {
+    done = pieces;
+  } else {
+    const layout = planHorizon(terrain, spec);
+    const bytes = layout.totalSamples * 4;
+    const reuse = cache === null && spare.buffer !== null && spare.buffer.byteLength >= bytes;
+    const buffer = reuse
+      ? spare.buffer!
+      : exec.shared
+        ? new SharedArrayBuffer(bytes)
+        : new ArrayBuffer(bytes);
+    if (reuse) spare.buffer = null;
+    // Every sample is written by the sweep: a reused buffer needs no clearing.
+    const tan = new Float32Array(buffer, 0, layout.totalSamples);
+    const swept = tick('terrain sweep');
+    await Promise.all(
+      Array.from({ length: pieces }, (_, i) =>
+        exec.sweep(layout, tan, i / pieces, (i + 1) / pieces).then(swept),
+      ),
+    );
+    horizon = { layout, tan };
+    cache?.set(terrain, spec, horizon);
+  }
+  const { layout, tan } = horizon;
+  const window = rangeWindow(grid, req, layout.maxRangeM);
+  const cells = grid.width * grid.height;
+  const alloc = () =>
+    new Float32Array(exec.shared ? new SharedArrayBuffer(cells * 4) : new ArrayBuffer(cells * 4));
+  const floor = alloc();
+  const distance = alloc();
+  const W = grid.width;
+  for (const a of [floor, distance]) {
+    a.fill(NaN, 0, window.row0 * W);
+    a.fill(NaN, window.row1 * W);
+  }
+  const resampled = tick('resampling');
+  const rows = window.row1 - window.row0;
+  const rowsPer = Math.max(1, Math.ceil(rows / pieces));
+  const jobs: Promise<unknown>[] = [];
+  for (let r0 = window.row0; r0 < window.row1; r0 += rowsPer) {
+    const r1 = Math.min(window.row1, r0 + rowsPer);
+    jobs.push(exec.resample(layout, tan, vmap, floor, ground, r0, r1, distance).then(resampled));
+  }
+  await Promise.all(jobs);
+  return {
+    floor,
+    distance,
+    tan,
+    antennaAltM: layout.antennaAltM,
+    groundM: layout.groundM,
+    maxRangeM: layout.maxRangeM,
+    window,
+  };
+}
+
+function intersectWindows(a: FootprintWindow, b: FootprintWindow): FootprintWindow {
+  const row0 = Math.max(a.row0, b.row0);
+  const col0 = Math.max(a.col0, b.col0);
+  return {
+    width: a.width,
+    row0,
+    row1: Math.max(row0, Math.min(a.row1, b.row1)),
+    col0,
+    col1: Math.max(col0, Math.min(a.col1, b.col1)),
+  };
+}
+
+/** Ground distance (m) beyond which a band detects nothing: one row past its last row with a detected altitude. */
+function bandReachM(band: { stepM: number; lo: Float64Array; hi: Float64Array }): number {
+  for (let k = band.lo.length - 1; k >= 0; k--) {
+    if (band.lo[k] === band.lo[k] && band.hi[k] === band.hi[k]) return (k + 1) * band.stepM;
+  }
+  return -1;
+}
+
+/** Metres per degree, lower bounds on WGS84: along a meridian (110 574 m at the equator) and a parallel (a·cos φ). */
+const MERIDIAN_DEG_MIN_M = 110_000;
+const PARALLEL_DEG_MIN_M = 111_000;
+
+/**
+ * The cells whose centres may lie within `rangeM` of a point: a box from lower bounds on the ground distance
+ * (a latitude difference is at least its meridian arc; a longitude difference at least its parallel arc at the most
+ * poleward latitude reachable), widened by 2 % and two cells. The whole grid when the grid is projected, the range
+ * reaches near a pole, or the box would wrap round; an empty box for a negative range.
+ */
+export function rangeWindow(
+  grid: GridGeo,
+  at: { lon: number; lat: number },
+  rangeM: number,
+): FootprintWindow {
+  const width = grid.width;
+  const all: FootprintWindow = { row0: 0, row1: grid.height, col0: 0, col1: width, width };
+  if (!(rangeM >= 0)) return { row0: 0, row1: 0, col0: 0, col1: 0, width };
+  if (grid.crs.kind !== 'geographic') return all;
+  const px = Math.abs(grid.pixelX);
+  const py = Math.abs(grid.pixelY);
+  const r = rangeM * 1.02;
+  const dLat = r / MERIDIAN_DEG_MIN_M + 2 * py;
+  const polar = Math.max(Math.abs(at.lat - dLat), Math.abs(at.lat + dLat)) + r / MERIDIAN_DEG_MIN_M;
+  if (polar >= 89) return all;
+  const dLon = r / (PARALLEL_DEG_MIN_M * Math.cos((polar * Math.PI) / 180)) + 2 * px;
+  if (dLon >= 180) return all;
+  // Rows run from originY in steps of pixelY; the site's longitude taken within ±180° of the grid's centre.
+  const rowOf = (lat: number) => (lat - grid.originY) / grid.pixelY - 0.5;
+  const centre = grid.originX + (grid.width * grid.pixelX) / 2;
+  const lon = at.lon + 360 * Math.round((centre - at.lon) / 360);
+  const colOf = (x: number) => (x - grid.originX) / grid.pixelX - 0.5;
+  const ra = rowOf(at.lat + dLat);
+  const rb = rowOf(at.lat - dLat);
+  const ca = colOf(lon - dLon);
+  const cb = colOf(lon + dLon);
+  const clamp = (v: number, hi: number) => Math.max(0, Math.min(hi, v));
+  const row0 = clamp(Math.floor(Math.min(ra, rb)), grid.height);
+  const col0 = clamp(Math.floor(Math.min(ca, cb)), grid.width);
+  return {
+    width,
+    row0,
+    row1: Math.max(row0, clamp(Math.ceil(Math.max(ra, rb)) + 1, grid.height)),
+    col0,
+    col1: Math.max(col0, clamp(Math.ceil(Math.max(ca, cb)) + 1, grid.width)),
+  };
 }
 
 function terrainPixelM(terrain: TerrainRaster, site: CoverageSite): number {

@@ -213,13 +213,28 @@ export interface Footprint {
   /** Per analysis cell, whole metres AMSL: detected iff lo ≤ h ≤ hi. */
   readonly lo: Uint16Array;
   readonly hi: Uint16Array;
+  /**
+   * Where cover can be (rows [row0, row1) × columns [col0, col1) of the grid): every cell outside has none, so
+   * readers may skip it. Absent: anywhere.
+   */
+  readonly window?: FootprintWindow;
   /** The same sensor's footprints for the study's other targets (volumes with their own target), in order. */
   byTarget?: Footprint[];
 }
 
+export interface FootprintWindow {
+  readonly row0: number;
+  readonly row1: number;
+  readonly col0: number;
+  readonly col1: number;
+  /** The grid's width in cells (a cell's index is row · width + column). */
+  readonly width: number;
+}
+
 /**
  * Combines a site's line-of-sight floor (already ≥ ground, NaN = unknown/out of range) and distance per cell with a
- * sensor band into a footprint.
+ * sensor band into a footprint. With a `window`, only its cells are looked at (the caller knows the band detects
+ * nothing outside it): the rest have no cover.
  */
 export function buildFootprint(
   siteId: string,
@@ -228,14 +243,37 @@ export function buildFootprint(
   distance: Float32Array,
   land: SensorBand,
   sea?: SeaChoice,
+  window?: FootprintWindow,
 ): Footprint {
   const n = floor.length;
   const lo = new Uint16Array(n);
   const hi = new Uint16Array(n);
+  if (window === undefined) {
+    footprintRun(floor, distance, land, sea, lo, hi, 0, n);
+  } else {
+    lo.fill(NO_COVER_LO);
+    const W = window.width;
+    for (let r = window.row0; r < window.row1; r++)
+      footprintRun(floor, distance, land, sea, lo, hi, r * W + window.col0, r * W + window.col1);
+  }
+  return { siteId, typeId: model.spec.id, kind: model.kind, lo, hi, ...(window ? { window } : {}) };
+}
+
+/** Cells [from, to) of a footprint (`buildFootprint`'s hot loop). */
+function footprintRun(
+  floor: Float32Array,
+  distance: Float32Array,
+  land: SensorBand,
+  sea: SeaChoice | undefined,
+  lo: Uint16Array,
+  hi: Uint16Array,
+  from: number,
+  to: number,
+): void {
   const { stepM } = land;
   const last = land.lo.length - 2;
   const seaSteps = sea ? sea.steps : 0;
-  for (let i = 0; i < n; i++) {
+  for (let i = from; i < to; i++) {
     const f = floor[i];
     const u = distance[i] / stepM;
     let k = u | 0;
@@ -276,5 +314,4 @@ export function buildFootprint(
       hi[i] = cellHi > 65_534 ? 65_534 : cellHi;
     }
   }
-  return { siteId, typeId: model.spec.id, kind: model.kind, lo, hi };
 }

@@ -11,7 +11,7 @@
  * (target t, level f at t·levels + f) and `foldOf(kind, f, t)` reads them. Sites, switches and the floor are shared.
  */
 import { InputError } from '../../shared/errors.ts';
-import type { Footprint } from './footprint.ts';
+import type { Footprint, FootprintWindow } from './footprint.ts';
 
 export const KINDS = ['any', 'primary', 'secondary'] as const;
 export type FoldKind = (typeof KINDS)[number];
@@ -69,14 +69,18 @@ export class Network {
     this.anyAt = [];
     this.bits = footprints.map((fp) => {
       const b = make();
-      let seen = levelBits(fp, altitudesM, b, 0, -1);
+      const win = fp.window ?? null;
+      let seen = levelBits(fp, altitudesM, b, 0, -1, win);
       fp.byTarget?.forEach((other, t) => {
         const all = altitudesM.length >= 32 ? -1 : (1 << altitudesM.length) - 1;
         const mask = (targetLevels?.[t] ?? -1) & all;
         const shift = (t + 1) * altitudesM.length;
         if (mask === 0) return;
         // A target this sensor does not tell apart shares its footprint: its bits are the base bits, shifted.
-        seen |= other === fp ? shiftBits(b, shift, mask) : levelBits(other, altitudesM, b, shift, mask);
+        seen |=
+          other === fp
+            ? shiftBits(b, shift, mask, win)
+            : levelBits(other, altitudesM, b, shift, mask, other.window ?? null);
       });
       this.anyAt.push(seen);
       return b;
@@ -116,16 +120,11 @@ export class Network {
   /** Cells where any active sensor of the site covers some flight level (the only cells its outage can change). */
   siteCells(siteId: string): Int32Array {
     const list = (this.bySite.get(siteId) ?? []).filter((i) => this.active[i]);
-    const out: number[] = [];
-    for (let c = 0; c < this.cells; c++) {
-      for (const i of list) {
-        if (this.bits[i][c] !== 0) {
-          out.push(c);
-          break;
-        }
-      }
-    }
-    return Int32Array.from(out);
+    return cellsWithBits(
+      list.map((i) => this.bits[i]),
+      this.cells,
+      list.map((i) => this.footprints[i]),
+    );
   }
 
   /** Whether any sensor of the site is on. */
@@ -166,17 +165,12 @@ export class Network {
   private reach(siteId: string): Int32Array {
     let r = this.reachCache.get(siteId);
     if (!r) {
-      const bits = (this.bySite.get(siteId) ?? []).map((i) => this.bits[i]);
-      const out: number[] = [];
-      for (let c = 0; c < this.cells; c++) {
-        for (const b of bits) {
-          if (b[c] !== 0) {
-            out.push(c);
-            break;
-          }
-        }
-      }
-      r = Int32Array.from(out);
+      const list = this.bySite.get(siteId) ?? [];
+      r = cellsWithBits(
+        list.map((i) => this.bits[i]),
+        this.cells,
+        list.map((i) => this.footprints[i]),
+      );
       this.reachCache.set(siteId, r);
     }
     return r;
@@ -209,8 +203,21 @@ export class Network {
 }
 
 /**
+ * The cell spans [from, to) to visit for a footprint's window, as pairs (one per row, or one for full rows); the
+ * whole raster without a window.
+ */
+function windowSpans(win: FootprintWindow | null, cells: number): number[] {
+  if (win === null) return [0, cells];
+  const W = win.width;
+  if (win.col0 === 0 && win.col1 === W) return [win.row0 * W, win.row1 * W];
+  const out: number[] = [];
+  for (let r = win.row0; r < win.row1; r++) out.push(r * W + win.col0, r * W + win.col1);
+  return out;
+}
+
+/**
  * ORs the level bits of one footprint into `out`, level f at bit f + shift, for the levels in `mask` (bit f);
- * returns the bits set anywhere.
+ * returns the bits set anywhere. Only the footprint's window is read (no cover outside it).
  */
 function levelBits(
   fp: Footprint,
@@ -218,12 +225,28 @@ function levelBits(
   out: Bits,
   shift: number,
   mask: number,
+  win: FootprintWindow | null,
 ): number {
-  const lo = fp.lo;
-  const hi = fp.hi;
+  const spans = windowSpans(win, out.length);
+  let seen = 0;
+  for (let k = 0; k < spans.length; k += 2)
+    seen |= levelBitsRun(fp.lo, fp.hi, altitudesM, out, shift, mask, spans[k], spans[k + 1]);
+  return seen;
+}
+
+function levelBitsRun(
+  lo: Uint16Array,
+  hi: Uint16Array,
+  altitudesM: readonly number[],
+  out: Bits,
+  shift: number,
+  mask: number,
+  from: number,
+  to: number,
+): number {
   const n = altitudesM.length;
   let seen = 0;
-  for (let c = 0; c < out.length; c++) {
+  for (let c = from; c < to; c++) {
     const l = lo[c];
     const h = hi[c];
     if (l > h) continue;
@@ -238,16 +261,49 @@ function levelBits(
   return seen;
 }
 
-/** ORs each cell's base bits (those in `mask`) shifted by `shift` into the same cell; returns the bits set. */
-function shiftBits(out: Bits, shift: number, mask: number): number {
+/**
+ * ORs each cell's base bits (those in `mask`) shifted by `shift` into the same cell, within the window; returns
+ * the bits set.
+ */
+function shiftBits(out: Bits, shift: number, mask: number, win: FootprintWindow | null): number {
+  const spans = windowSpans(win, out.length);
   let seen = 0;
-  for (let c = 0; c < out.length; c++) {
-    const b = (out[c] & mask) << shift;
-    if (b === 0) continue;
-    out[c] |= b;
-    seen |= b;
+  for (let k = 0; k < spans.length; k += 2) {
+    for (let c = spans[k]; c < spans[k + 1]; c++) {
+      const b = (out[c] & mask) << shift;
+      if (b === 0) continue;
+      out[c] |= b;
+      seen |= b;
+    }
   }
   return seen;
+}
+
+/**
+ * Cells (ascending) where any of `bits` is set. When every footprint (and each of its other targets') carries a
+ * window, only the rows those windows span are read (no cell outside has a bit).
+ */
+function cellsWithBits(bits: Bits[], cells: number, fps: readonly Footprint[]): Int32Array {
+  let from = 0;
+  let to = cells;
+  // A footprint's bits hold its other targets' too: their windows count.
+  const all = fps.flatMap((f) => [f, ...(f.byTarget ?? [])]);
+  if (all.length > 0 && all.every((f) => f.window !== undefined)) {
+    const W = all[0].window!.width;
+    from = Math.min(...all.map((f) => f.window!.row0)) * W;
+    to = Math.max(from, Math.max(...all.map((f) => f.window!.row1)) * W);
+  }
+  const out: number[] = [];
+  const n = bits.length;
+  for (let c = from; c < to; c++) {
+    for (let m = 0; m < n; m++) {
+      if (bits[m][c] !== 0) {
+        out.push(c);
+        break;
+      }
+    }
+  }
+  return Int32Array.from(out);
 }
 
 /** For each cell of `cells`: the OR of the members' level bits, added (or removed) level by level. */
@@ -274,8 +330,11 @@ function addSiteBits(
 function lowerFloor(out: Float32Array, fp: Footprint): void {
   const lo = fp.lo;
   const hi = fp.hi;
-  for (let c = 0; c < out.length; c++) {
-    const l = lo[c];
-    if (l <= hi[c] && !(out[c] <= l)) out[c] = l;
+  const spans = windowSpans(fp.window ?? null, out.length);
+  for (let k = 0; k < spans.length; k += 2) {
+    for (let c = spans[k]; c < spans[k + 1]; c++) {
+      const l = lo[c];
+      if (l <= hi[c] && !(out[c] <= l)) out[c] = l;
+    }
   }
 }

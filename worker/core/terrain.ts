@@ -85,70 +85,42 @@ export class Terrain {
    * pool of workers can read one copy.
    */
   static fromTiles(tilesIn: DemTile[], opts: { shared?: boolean } = {}): Terrain {
-    let tiles = tilesIn;
-    if (tiles.length === 0) {
-      throw new InputError('terrain', 'no DEM tiles', 'at least one GeoTIFF elevation tile');
-    }
-    const g0 = tiles[0].geo;
-    const base = g0.crs;
-    checkPolar(tiles);
-    // Geographic tiles across the antimeridian: each is taken at the longitude (±360°) nearest the first tile, so
-    // that tiles either side of 180° form one continuous lattice (e.g. 179…181° E) instead of two ends of the world.
-    if (base.kind === 'geographic') tiles = tiles.map((t, i) => (i === 0 ? t : nearestCopy(t, g0)));
-    // Bounds of every tile in base-lattice pixel coordinates.
-    const bounds = tiles.map((t) => tileBoundsOnLattice(t.geo, g0));
-    let uMin = Infinity;
-    let uMax = -Infinity;
-    let vMin = Infinity;
-    let vMax = -Infinity;
-    bounds.forEach((b, i) => {
-      if (![b.uMin, b.uMax, b.vMin, b.vMax].every(Number.isFinite)) {
-        throw new InputError(
-          tiles[i].name,
-          `a tile that cannot be placed in the first tile's CRS (${base.label})`,
-          'tiles that overlap the area of the first tile',
-        );
-      }
-      uMin = Math.min(uMin, b.uMin);
-      uMax = Math.max(uMax, b.uMax);
-      vMin = Math.min(vMin, b.vMin);
-      vMax = Math.max(vMax, b.vMax);
-    });
-    const c0 = Math.floor(uMin + 1e-6);
-    const c1 = Math.ceil(uMax - 1e-6);
-    const r0 = Math.floor(vMin + 1e-6);
-    const r1 = Math.ceil(vMax - 1e-6);
-    const width = c1 - c0;
-    const height = r1 - r0;
-    if (width * height > MAX_CELLS) {
-      throw new InputError(
-        'terrain',
-        `tiles spread over ${width} x ${height} cells of ${tiles[0].name}'s grid`,
-        `tiles close enough together for one raster of at most ${MAX_CELLS} cells`,
-      );
-    }
-    const geo: GridGeo = {
-      width,
-      height,
-      originX: g0.originX + c0 * g0.pixelX,
-      originY: g0.originY + r0 * g0.pixelY,
-      pixelX: g0.pixelX,
-      pixelY: g0.pixelY,
-      crs: base,
-    };
-    const n = width * height;
-    const data = opts.shared ? new Float32Array(new SharedArrayBuffer(n * 4)) : new Float32Array(n);
+    const { geo, tiles } = planMosaic(tilesIn);
+    const data = newRaster(geo.width * geo.height, opts.shared);
     data.fill(NaN);
-
     const warnings: string[] = [];
-    for (const t of tiles) {
-      warnings.push(...t.warnings);
-      if (!copyAligned(t, geo, data, t === tiles[0])) {
-        resampleInto(t, geo, data);
-        if (t !== tiles[0]) {
-          warnings.push(`${t.name}: resampled (bilinear) onto the grid of ${tiles[0].name}`);
-        }
+    for (const t of tiles) placeTile(t, t === tiles[0], t.warnings, geo, data, warnings, tiles[0].name);
+    return new Terrain({ geo, data, warnings, sources: tiles.map((t) => t.name) });
+  }
+
+  /**
+   * The same mosaic as `fromTiles`, from tiles known so far by their headers: the layout is fixed (and refused)
+   * before any pixel is decoded, then the first tile decodes straight into the mosaic's one buffer (no copy of its
+   * own) and every other tile into one reused scratch buffer, from which it is copied or resampled as in `fromTiles`.
+   */
+  static async fromPendingTiles(tilesIn: PendingTile[], opts: { shared?: boolean } = {}): Promise<Terrain> {
+    const { geo, tiles } = planMosaic(tilesIn);
+    const data = newRaster(geo.width * geo.height, opts.shared);
+    const first = tiles[0];
+    const g0 = first.geo;
+    const dc = Math.round((g0.originX - geo.originX) / geo.pixelX);
+    const dr = Math.round((g0.originY - geo.originY) / geo.pixelY);
+    // Cells outside the first tile start unknown; the first tile's own cells are all written by its decoder.
+    if (g0.width !== geo.width || g0.height !== geo.height) data.fill(NaN);
+    const warnings: string[] = [];
+    warnings.push(...(await first.decodeInto(data, dr * geo.width + dc, geo.width)).warnings);
+    let scratch: Float32Array | null = null;
+    for (const t of tiles.slice(1)) {
+      const n = t.geo.width * t.geo.height;
+      if (scratch === null || scratch.length < n) {
+        let largest = n;
+        for (const u of tiles.slice(1)) largest = Math.max(largest, u.geo.width * u.geo.height);
+        scratch = new Float32Array(largest);
       }
+      const tileData = scratch.subarray(0, n);
+      const decoded = await t.decodeInto(tileData, 0, t.geo.width);
+      const tile: DemTile = { name: t.name, geo: t.geo, data: tileData, ...decoded };
+      placeTile(tile, false, decoded.warnings, geo, data, warnings, first.name);
     }
     return new Terrain({ geo, data, warnings, sources: tiles.map((t) => t.name) });
   }
@@ -237,6 +209,106 @@ export class Terrain {
     const c = this.proj.inverse([p[0], p[1] - hy]);
     const d = this.proj.inverse([p[0], p[1] + hy]);
     return { x: localDistanceM(a[0], a[1], b[0], b[1]), y: localDistanceM(c[0], c[1], d[0], d[1]) };
+  }
+}
+
+/**
+ * A DEM tile known by its header, whose pixels are decoded later straight into a raster (the CLI's fused read;
+ * worker/io/geotiff-read.ts `openDemTile` + `decodeDemTileInto`).
+ */
+export interface PendingTile {
+  name: string;
+  geo: GridGeo;
+  /**
+   * Decodes the elevations (metres, voids filled) into `dst`: pixel (c, r) to `dst[offset + r * stride + c]`.
+   * Returns the voids filled and the tile's warnings.
+   */
+  decodeInto(
+    dst: Float32Array,
+    offset: number,
+    stride: number,
+  ): Promise<{ voidsFilled: number; warnings: string[] }>;
+}
+
+/**
+ * The mosaic's grid: the first tile's lattice over the union of all tiles (geographic tiles moved by whole turns
+ * next to the first, across the antimeridian). Refuses, before any pixel is touched, tiles that cannot be placed
+ * and a mosaic too large for one raster.
+ */
+function planMosaic<T extends { name: string; geo: GridGeo }>(tilesIn: T[]): { geo: GridGeo; tiles: T[] } {
+  let tiles = tilesIn;
+  if (tiles.length === 0) {
+    throw new InputError('terrain', 'no DEM tiles', 'at least one GeoTIFF elevation tile');
+  }
+  const g0 = tiles[0].geo;
+  const base = g0.crs;
+  checkPolar(tiles);
+  // Geographic tiles across the antimeridian: each is taken at the longitude (±360°) nearest the first tile, so
+  // that tiles either side of 180° form one continuous lattice (e.g. 179…181° E) instead of two ends of the world.
+  if (base.kind === 'geographic') tiles = tiles.map((t, i) => (i === 0 ? t : nearestCopy(t, g0)));
+  // Bounds of every tile in base-lattice pixel coordinates.
+  const bounds = tiles.map((t) => tileBoundsOnLattice(t.geo, g0));
+  let uMin = Infinity;
+  let uMax = -Infinity;
+  let vMin = Infinity;
+  let vMax = -Infinity;
+  bounds.forEach((b, i) => {
+    if (![b.uMin, b.uMax, b.vMin, b.vMax].every(Number.isFinite)) {
+      throw new InputError(
+        tiles[i].name,
+        `a tile that cannot be placed in the first tile's CRS (${base.label})`,
+        'tiles that overlap the area of the first tile',
+      );
+    }
+    uMin = Math.min(uMin, b.uMin);
+    uMax = Math.max(uMax, b.uMax);
+    vMin = Math.min(vMin, b.vMin);
+    vMax = Math.max(vMax, b.vMax);
+  });
+  const c0 = Math.floor(uMin + 1e-6);
+  const c1 = Math.ceil(uMax - 1e-6);
+  const r0 = Math.floor(vMin + 1e-6);
+  const r1 = Math.ceil(vMax - 1e-6);
+  const width = c1 - c0;
+  const height = r1 - r0;
+  if (width * height > MAX_CELLS) {
+    throw new InputError(
+      'terrain',
+      `tiles spread over ${width} x ${height} cells of ${tiles[0].name}'s grid`,
+      `tiles close enough together for one raster of at most ${MAX_CELLS} cells`,
+    );
+  }
+  const geo: GridGeo = {
+    width,
+    height,
+    originX: g0.originX + c0 * g0.pixelX,
+    originY: g0.originY + r0 * g0.pixelY,
+    pixelX: g0.pixelX,
+    pixelY: g0.pixelY,
+    crs: base,
+  };
+  return { geo, tiles };
+}
+
+/** The mosaic's raster, in a SharedArrayBuffer when a pool of workers will read it. */
+function newRaster(n: number, shared = false): Float32Array {
+  return shared ? new Float32Array(new SharedArrayBuffer(n * 4)) : new Float32Array(n);
+}
+
+/** One decoded tile into the mosaic: copied cell for cell when on its lattice, else resampled; its warnings. */
+function placeTile(
+  t: DemTile,
+  first: boolean,
+  tileWarnings: readonly string[],
+  geo: GridGeo,
+  data: Float32Array,
+  warnings: string[],
+  firstName: string,
+): void {
+  warnings.push(...tileWarnings);
+  if (!copyAligned(t, geo, data, first)) {
+    resampleInto(t, geo, data);
+    if (!first) warnings.push(`${t.name}: resampled (bilinear) onto the grid of ${firstName}`);
   }
 }
 
@@ -442,7 +514,7 @@ export function nearLon(lon: number, centre: number): number {
 }
 
 /** A geographic tile at the longitude (±360°) whose centre is nearest the base tile's centre. */
-function nearestCopy(t: DemTile, base: GridGeo): DemTile {
+function nearestCopy<T extends { geo: GridGeo }>(t: T, base: GridGeo): T {
   if (t.geo.crs.kind !== 'geographic') return t;
   const centre = t.geo.originX + (t.geo.width * t.geo.pixelX) / 2;
   const baseCentre = base.originX + (base.width * base.pixelX) / 2;
@@ -458,7 +530,7 @@ function nearestCopy(t: DemTile, base: GridGeo): DemTile {
  */
 export const POLAR_LIMIT_DEG = 85;
 
-function checkPolar(tiles: readonly DemTile[]): void {
+function checkPolar(tiles: readonly { name: string; geo: GridGeo }[]): void {
   for (const t of tiles) {
     const g = t.geo;
     if (g.crs.kind !== 'geographic') continue;

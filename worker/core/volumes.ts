@@ -6,6 +6,7 @@
 import { FT_M } from '../../shared/units.ts';
 import type { GridGeo } from './grid.ts';
 import { KINDS, type FoldKind, type Network } from './network.ts';
+import { nearLon } from './terrain.ts';
 
 /** Mean earth radius used for areas (the same sphere @turf/area uses), metres. */
 const AREA_RADIUS_M = 6_371_008.8;
@@ -56,10 +57,19 @@ export function cellsAtLevel(
   return any ? out : null;
 }
 
-/** Cells of a geographic grid whose centres lie inside the polygon (even–odd rule, holes excluded). */
+/**
+ * Cells of a geographic grid whose centres lie inside the polygon (even–odd rule, holes excluded).
+ *
+ * Each vertex's longitude is taken within ±180° of the grid's middle (`nearLon`, as the terrain and the sites are):
+ * on a grid across the antimeridian (e.g. 179.5…180.5° E) a volume east of 180° may be given as −179.8°, as RFC
+ * 7946 parts split at ±180°, or as one ring that runs from 179.6° to −179.7°; all land on the grid's own
+ * continuous longitudes. A ring more than 180° wide cannot be told from one going the other way round and is not
+ * a volume a grid holds (the terrain check refuses it).
+ */
 export function rasterizeVolume(v: VolumeLike, grid: GridGeo): Uint8Array {
   const polys = v.polygon.type === 'Polygon' ? [v.polygon.coordinates] : v.polygon.coordinates;
-  const rings = polys.flat();
+  const midLon = grid.originX + (grid.width * grid.pixelX) / 2;
+  const rings = polys.flat().map((ring) => ring.map((p) => [nearLon(p[0], midLon), p[1]]));
   const { width: W, height: H } = grid;
   const mask = new Uint8Array(W * H);
   const xs: number[] = [];

@@ -8,7 +8,7 @@
  * Voids (the GDAL_NODATA value, NaN, ±Infinity, and the float "no value" sentinels of magnitude ≥ 1e30
  * that some producers write without a nodata tag) are filled by `fillVoids` below and counted.
  */
-import { fromArrayBuffer, type GeoTIFF, type GeoTIFFImage } from 'geotiff';
+import { fromArrayBuffer, GeoTIFF, type GeoTIFFImage } from 'geotiff';
 import geokeysToProj4 from 'geotiff-geokeys-to-proj4';
 import proj4 from 'proj4';
 import { InputError } from '../../shared/errors.ts';
@@ -51,6 +51,44 @@ export interface TileHeader {
 export const MAX_TILE_PIXELS = 2 ** 30;
 
 /**
+ * Random access to a tile file's bytes — an ArrayBuffer in memory, or a file the caller reads (the CLI reads a
+ * Node file descriptor and hashes what it reads). `sequential`: the reader wants every byte of the file read once,
+ * in order (to hash it); the pixel pass then also reads the bytes between blocks, front to back.
+ */
+export interface TileBytes {
+  readonly byteLength: number;
+  readonly sequential?: boolean;
+  /** Copies the bytes from `offset` into `into` (fewer at the end of the file); returns how many. */
+  read(offset: number, into: Uint8Array): number;
+}
+
+/**
+ * A tile known from its header: where it lies and what its samples are, before any pixel is decoded. Its pixels
+ * are decoded by `decodeDemTileInto`, straight into a window of the caller's raster (the terrain mosaic).
+ */
+export interface OpenedDemTile {
+  name: string;
+  geo: GridGeo;
+  header: TileHeader;
+  /** @internal the parts `decodeDemTileInto` reads */
+  readonly pixels: TilePixels;
+}
+
+interface TilePixels {
+  src: TileBytes;
+  image: GeoTIFFImage;
+  kind: SampleKind;
+  littleEndian: boolean;
+  compression: number;
+  offsets: number[];
+  counts: number[];
+  nodata: number;
+  vertical: number;
+  /** Warnings of the header (CRS, nodata, vertical units), not yet named. */
+  warnings: string[];
+}
+
+/**
  * `checkHeader` (optional) sees the tile's dimensions before its pixels are decoded and may throw (the CLI refuses
  * a tile that would not fit its memory limit there).
  */
@@ -59,13 +97,60 @@ export async function readDemTile(
   name: string,
   checkHeader?: (h: TileHeader) => void,
 ): Promise<DemTile> {
+  const t = await openDemTile(buffer, name, checkHeader);
+  const data = new Float32Array(t.geo.width * t.geo.height);
+  const { voidsFilled, warnings } = await decodeDemTileInto(t, data);
+  return { name, geo: t.geo, data, voidsFilled, warnings };
+}
+
+/** An ArrayBuffer as TileBytes. */
+function bufferBytes(buffer: ArrayBuffer): TileBytes {
+  const all = new Uint8Array(buffer);
+  return {
+    byteLength: buffer.byteLength,
+    read(offset: number, into: Uint8Array): number {
+      const n = Math.max(0, Math.min(into.length, buffer.byteLength - offset));
+      into.set(all.subarray(offset, offset + n));
+      return n;
+    },
+  };
+}
+
+/** TileBytes as the byte source geotiff.js parses the header from (a fresh ArrayBuffer per slice, as its own). */
+function geotiffSource(src: TileBytes): Parameters<typeof GeoTIFF.fromSource>[0] {
+  const fetchSlice = (slice: { offset: number; length: number }) => {
+    const n = Math.max(0, Math.min(slice.length, src.byteLength - slice.offset));
+    const out = new Uint8Array(n);
+    const got = src.read(slice.offset, out);
+    return { data: got === n ? out.buffer : out.slice(0, got).buffer, offset: slice.offset, length: got };
+  };
+  return {
+    fetch: (slices: { offset: number; length: number }[]) =>
+      Promise.resolve(slices.map((s) => fetchSlice(s).data)),
+    fetchSlice: (slice: { offset: number; length: number }) => Promise.resolve(fetchSlice(slice)),
+    get fileSize() {
+      return src.byteLength;
+    },
+  } as unknown as Parameters<typeof GeoTIFF.fromSource>[0];
+}
+
+/**
+ * Reads a tile's header: sample layout, georeferencing, CRS, block table — every check of the file that needs no
+ * pixel. `checkHeader` as for `readDemTile`.
+ */
+export async function openDemTile(
+  input: ArrayBuffer | TileBytes,
+  name: string,
+  checkHeader?: (h: TileHeader) => void,
+): Promise<OpenedDemTile> {
   const bad = (found: string, expected: string): InputError => new InputError(name, found, expected);
-  checkSignature(buffer, bad);
+  const src = input instanceof ArrayBuffer ? bufferBytes(input) : input;
+  checkSignature(src, bad);
 
   let tiff: GeoTIFF;
   let image: GeoTIFFImage;
   try {
-    tiff = await fromArrayBuffer(buffer);
+    tiff = await GeoTIFF.fromSource(geotiffSource(src));
     image = await tiff.getImage(0);
   } catch (e) {
     throw bad(`a truncated or corrupt TIFF (${describe(e)})`, EXPECT_FILE);
@@ -104,7 +189,8 @@ export async function readDemTile(
       `at most ${MAX_TILE_PIXELS} pixels per tile (cut the DEM into smaller tiles)`,
     );
   }
-  checkHeader?.({ width, height, bytesPerSample: bits / 8 });
+  const header: TileHeader = { width, height, bytesPerSample: bits / 8 };
+  checkHeader?.(header);
 
   // ---- georeferencing ------------------------------------------------------------------------------
   const transform = readTransform(fd, bad);
@@ -131,38 +217,242 @@ export async function readDemTile(
   const geo: GridGeo = { width, height, originX, originY, pixelX, pixelY, crs };
   if (crsInfo.crs.kind === 'projected') checkProjection(geo, bad);
 
-  // ---- pixel data ----------------------------------------------------------------------------------
-  await checkBlocksInside(image, buffer.byteLength, bad);
-  let raw: ArrayLike<number>;
-  try {
-    raw =
-      (await uncompressedStrips(image, buffer, kind, width, height)) ??
-      ((await image.readRasters({ interleave: true })) as unknown as ArrayLike<number>);
-  } catch (e) {
-    const compression = Number(fd.getValue('Compression') ?? 1);
-    throw bad(`pixel data that cannot be decoded (compression ${compression}: ${describe(e)})`, EXPECT_FILE);
-  }
-  if (raw.length !== width * height) {
-    throw bad(`${raw.length} decoded pixels for a ${width} x ${height} image`, EXPECT_FILE);
-  }
-
+  // ---- block table ---------------------------------------------------------------------------------
+  const { offsets, counts } = await checkBlocksInside(image, src.byteLength, bad);
   const nodata = readNodata(image, warnings);
   const vertical = verticalScale(keys, warnings);
-  const data = new Float32Array(width * height);
-  const voidCount = toMetres(raw, data, kind === 'float32' ? Math.fround(nodata) : nodata, vertical);
-  if (voidCount === data.length) {
+  const compression = Number(fd.getValue('Compression') ?? 1);
+  return {
+    name,
+    geo,
+    header,
+    pixels: {
+      src,
+      image,
+      kind,
+      littleEndian: image.littleEndian,
+      compression,
+      offsets,
+      counts,
+      nodata: kind === 'float32' ? Math.fround(nodata) : nodata,
+      vertical,
+      warnings,
+    },
+  };
+}
+
+/**
+ * Decodes a tile's elevations (metres, voids filled) into `dst`: pixel (c, r) goes to `dst[offset + r * stride + c]`
+ * — a window of a larger raster, so that tiles are decoded straight into the mosaic with no copy of their own.
+ * Returns the voids filled and every warning of the tile, named.
+ *
+ * Uncompressed tiles (striped or tiled, either byte order) are read block by block in file order through a small
+ * reused buffer and converted into place. Compressed tiles go through geotiff.js's `readRasters` (whole file in
+ * memory), then are converted into place the same way.
+ */
+export async function decodeDemTileInto(
+  t: OpenedDemTile,
+  dst: Float32Array,
+  offset = 0,
+  stride = t.geo.width,
+): Promise<{ voidsFilled: number; warnings: string[] }> {
+  const { name } = t;
+  const { width, height } = t.geo;
+  const p = t.pixels;
+  const bad = (found: string, expected: string): InputError => new InputError(name, found, expected);
+  if (stride < width || offset < 0 || offset + (height - 1) * stride + width > dst.length) {
+    throw new Error(`decodeDemTileInto: a ${width} x ${height} window at ${offset} (rows ${stride} apart) `);
+  }
+  const warnings = [...p.warnings];
+  let voidCount: number;
+  try {
+    voidCount =
+      p.compression === 1
+        ? decodeUncompressed(p, width, height, dst, offset, stride, bad)
+        : await decodeWithGeotiff(p, width, height, dst, offset, stride, bad);
+  } catch (e) {
+    if (e instanceof InputError) throw e;
     throw bad(
-      `only nodata values (${width} x ${height} pixels, nodata = ${Number.isNaN(nodata) ? 'NaN' : nodata})`,
+      `pixel data that cannot be decoded (compression ${p.compression}: ${describe(e)})`,
+      EXPECT_FILE,
+    );
+  }
+  if (voidCount === width * height) {
+    throw bad(
+      `only nodata values (${width} x ${height} pixels, nodata = ${Number.isNaN(p.nodata) ? 'NaN' : p.nodata})`,
       'a tile with at least one valid elevation',
     );
   }
-  const voidsFilled = voidCount > 0 ? fillVoids(data, width, height) : 0;
+  const voidsFilled = voidCount > 0 ? fillVoids(dst, width, height, offset, stride) : 0;
   if (voidsFilled > 0) {
-    const pct = ((100 * voidsFilled) / data.length).toFixed(voidsFilled * 1000 < data.length ? 3 : 1);
+    const n = width * height;
+    const pct = ((100 * voidsFilled) / n).toFixed(voidsFilled * 1000 < n ? 3 : 1);
     warnings.push(`filled ${voidsFilled} void cell(s) (${pct} %) from surrounding terrain`);
   }
   // Every warning names the tile: they end up in one list for the whole mosaic.
-  return { name, geo, data, voidsFilled, warnings: warnings.map((w) => `${name}: ${w}`) };
+  return { voidsFilled, warnings: warnings.map((w) => `${name}: ${w}`) };
+}
+
+/** Bytes read at a time from an uncompressed block (a few MiB: stays in cache, allocated once per tile). */
+const CHUNK_BYTES = 4 * 1024 * 1024;
+
+/**
+ * Uncompressed blocks in file order: each run of rows is read into one reused buffer, byte-swapped when the file is
+ * big-endian, and converted into the window. With a sequential reader the bytes between blocks are read too, so
+ * that every byte of the file passes through it once, in order. Returns the number of voids.
+ */
+function decodeUncompressed(
+  p: TilePixels,
+  width: number,
+  height: number,
+  dst: Float32Array,
+  offset: number,
+  stride: number,
+  bad: (f: string, e: string) => InputError,
+): number {
+  const { image, src, kind } = p;
+  const Ctor = SAMPLE_ARRAYS[kind];
+  const bps = Ctor.BYTES_PER_ELEMENT;
+  const blockW = image.getTileWidth();
+  const blockH = image.getTileHeight();
+  if (!(blockW > 0) || !(blockH > 0)) throw bad('a TIFF with no block size', EXPECT_FILE);
+  const across = Math.ceil(width / blockW);
+  const down = Math.ceil(height / blockH);
+  if (p.offsets.length < across * down) {
+    throw bad(`${p.offsets.length} blocks for ${across * down} needed`, EXPECT_FILE);
+  }
+  const rowBytes = blockW * bps;
+  const chunkRows = Math.max(1, Math.min(blockH, Math.floor(CHUNK_BYTES / rowBytes)));
+  const scratch = new Uint8Array(chunkRows * rowBytes);
+  const gap = src.sequential ? new Uint8Array(Math.min(CHUNK_BYTES, Math.max(1, src.byteLength))) : null;
+  const order = Array.from({ length: across * down }, (_, i) => i).sort(
+    (a, b) => p.offsets[a] - p.offsets[b],
+  );
+  const fill = p.nodata || 0; // a sparse block (no bytes) reads as geotiff.js reads it: nodata, else 0
+  let cursor = 0;
+  let voids = 0;
+  const readGap = (to: number): void => {
+    while (gap && cursor < to) {
+      const n = src.read(cursor, gap.subarray(0, Math.min(gap.length, to - cursor)));
+      if (n <= 0) break;
+      cursor += n;
+    }
+  };
+  for (const i of order) {
+    const bx = i % across;
+    const by = (i / across) | 0;
+    const c0 = bx * blockW;
+    const r0 = by * blockH;
+    const cols = Math.min(blockW, width - c0);
+    const rows = Math.min(blockH, height - r0);
+    const at = offset + r0 * stride + c0;
+    if (p.counts[i] === 0) {
+      voids += fillBlock(dst, at, stride, rows, cols, fill, p.nodata, p.vertical);
+      continue;
+    }
+    const start = p.offsets[i];
+    if (p.counts[i] < rows * rowBytes - (blockW - cols) * bps) {
+      throw bad(
+        `${p.counts[i]} bytes in block ${i}, which holds ${rows} rows of ${blockW} samples`,
+        EXPECT_FILE,
+      );
+    }
+    readGap(start);
+    for (let r = 0; r < rows; r += chunkRows) {
+      const n = Math.min(chunkRows, rows - r);
+      // The last row of the block may stop at the image's edge (its padding is not needed).
+      const bytes = Math.min(n * rowBytes, p.counts[i] - r * rowBytes);
+      const from = start + r * rowBytes;
+      if (src.read(from, scratch.subarray(0, bytes)) !== bytes) {
+        throw bad(`a truncated file (block ${i} ends past byte ${src.byteLength})`, EXPECT_FILE);
+      }
+      if (from + bytes > cursor) cursor = from + bytes;
+      if (!p.littleEndian) swapBytes(scratch, bytes, bps);
+      const samples = new Ctor(scratch.buffer, 0, Math.floor(bytes / bps));
+      voids += convertRows(samples, blockW, n, cols, dst, at + r * stride, stride, p.nodata, p.vertical);
+    }
+  }
+  readGap(src.byteLength);
+  return voids;
+}
+
+/**
+ * Compressed tiles: the whole file in memory (read front to back, once), geotiff.js's readRasters, then converted
+ * into the window.
+ */
+async function decodeWithGeotiff(
+  p: TilePixels,
+  width: number,
+  height: number,
+  dst: Float32Array,
+  offset: number,
+  stride: number,
+  bad: (f: string, e: string) => InputError,
+): Promise<number> {
+  let image = p.image;
+  if (p.src.sequential) {
+    const all = new Uint8Array(p.src.byteLength);
+    if (p.src.read(0, all) !== all.length) throw bad('a file that changed while it was read', EXPECT_FILE);
+    image = await (await fromArrayBuffer(all.buffer)).getImage(0);
+  }
+  const raw = (await image.readRasters({ interleave: true })) as unknown as ArrayLike<number>;
+  if (raw.length !== width * height) {
+    throw bad(`${raw.length} decoded pixels for a ${width} x ${height} image`, EXPECT_FILE);
+  }
+  return convertRows(raw, width, height, width, dst, offset, stride, p.nodata, p.vertical);
+}
+
+/** Reverses the bytes of every `size`-byte sample in the first `bytes` bytes of `b` (big-endian files). */
+function swapBytes(b: Uint8Array, bytes: number, size: number): void {
+  if (size === 1) return;
+  for (let i = 0; i + size <= bytes; i += size) {
+    for (let a = i, z = i + size - 1; a < z; a++, z--) {
+      const x = b[a];
+      b[a] = b[z];
+      b[z] = x;
+    }
+  }
+}
+
+/**
+ * Converts `rows` × `cols` samples (rows `srcStride` apart) into metres in `out` (rows `dstStride` apart from `at`);
+ * voids become NaN. Returns the number of voids. `nodata` NaN means "no nodata value" (NaN samples are voids anyway).
+ */
+function convertRows(
+  src: ArrayLike<number>,
+  srcStride: number,
+  rows: number,
+  cols: number,
+  out: Float32Array,
+  at: number,
+  dstStride: number,
+  nodata: number,
+  scale: number,
+): number {
+  let voids = 0;
+  for (let r = 0; r < rows; r++) {
+    voids += toMetres(src, r * srcStride, out, at + r * dstStride, cols, nodata, scale);
+  }
+  return voids;
+}
+
+/** A block with no bytes in the file: every sample is `fill`. */
+function fillBlock(
+  out: Float32Array,
+  at: number,
+  stride: number,
+  rows: number,
+  cols: number,
+  fill: number,
+  nodata: number,
+  scale: number,
+): number {
+  const one = [fill];
+  let voids = 0;
+  for (let r = 0; r < rows; r++) {
+    for (let c = 0; c < cols; c++) voids += toMetres(one, 0, out, at + r * stride + c, 1, nodata, scale);
+  }
+  return voids;
 }
 
 // ---------------------------------------------------------------------------------------------------
@@ -172,16 +462,17 @@ function describe(e: unknown): string {
   return m.length > 160 ? m.slice(0, 157) + '...' : m;
 }
 
-function checkSignature(buffer: ArrayBuffer, bad: (f: string, e: string) => InputError): void {
-  if (buffer.byteLength < 8) {
-    throw bad(`${buffer.byteLength} bytes, too short to be a TIFF`, EXPECT_FILE);
+function checkSignature(src: TileBytes, bad: (f: string, e: string) => InputError): void {
+  if (src.byteLength < 8) {
+    throw bad(`${src.byteLength} bytes, too short to be a TIFF`, EXPECT_FILE);
   }
-  const b = new Uint8Array(buffer, 0, 4);
+  const b = new Uint8Array(8);
+  src.read(0, b);
   const le = b[0] === 0x49 && b[1] === 0x49 && (b[2] === 42 || b[2] === 43) && b[3] === 0;
   const be = b[0] === 0x4d && b[1] === 0x4d && b[2] === 0 && (b[3] === 42 || b[3] === 43);
   if (!le && !be) {
     // The file's own bytes are never echoed (a message may end up in a log); a few common kinds are named.
-    throw bad(`a file that is not a TIFF (${fileKind(new Uint8Array(buffer, 0, 8))})`, 'a GeoTIFF file');
+    throw bad(`a file that is not a TIFF (${fileKind(b)})`, 'a GeoTIFF file');
   }
 }
 
@@ -451,7 +742,7 @@ function checkProjection(geo: GridGeo, bad: (f: string, e: string) => InputError
   }
 }
 
-/** Every strip or tile must lie inside the file: a cut-off download fails here with a clear message. */
+/** The typed array of each sample kind. */
 const SAMPLE_ARRAYS = {
   int16: Int16Array,
   uint16: Uint16Array,
@@ -460,46 +751,12 @@ const SAMPLE_ARRAYS = {
   float64: Float64Array,
 } as const;
 
-/**
- * Fast path for the commonest large input — uncompressed, striped, one band, little-endian: the strips are copied
- * byte for byte into one typed array (geotiff.js's general decoder takes seconds on a 256 MB file, this takes
- * milliseconds). Anything else returns null and goes through geotiff.js's readRasters.
- */
-async function uncompressedStrips(
-  image: GeoTIFFImage,
-  buffer: ArrayBuffer,
-  kind: SampleKind,
-  width: number,
-  height: number,
-): Promise<ArrayLike<number> | null> {
-  const fd = image.getFileDirectory();
-  if (fd.hasTag('TileOffsets') || !image.littleEndian) return null;
-  if (Number(fd.getValue('Compression') ?? 1) !== 1) return null;
-  if (Number(fd.getValue('PlanarConfiguration') ?? 1) !== 1) return null;
-  const Ctor = SAMPLE_ARRAYS[kind];
-  const bytesPerRow = width * Ctor.BYTES_PER_ELEMENT;
-  const offsets = numbers(await fd.loadValue('StripOffsets'));
-  const counts = numbers(await fd.loadValue('StripByteCounts'));
-  const rowsPerStrip = Number(fd.getValue('RowsPerStrip') ?? height);
-  if (!offsets || !counts || !(rowsPerStrip > 0)) return null;
-  const out = new Ctor(width * height);
-  const dst = new Uint8Array(out.buffer);
-  const src = new Uint8Array(buffer);
-  for (let i = 0; i < offsets.length; i++) {
-    const row0 = i * rowsPerStrip;
-    if (row0 >= height) break;
-    const bytes = Math.min(rowsPerStrip, height - row0) * bytesPerRow;
-    if (counts[i] < bytes || offsets[i] + bytes > src.length) return null;
-    dst.set(src.subarray(offsets[i], offsets[i] + bytes), row0 * bytesPerRow);
-  }
-  return out;
-}
-
+/** Every strip or tile must lie inside the file: a cut-off download fails here with a clear message. */
 async function checkBlocksInside(
   image: GeoTIFFImage,
   fileBytes: number,
   bad: (f: string, e: string) => InputError,
-): Promise<void> {
+): Promise<{ offsets: number[]; counts: number[] }> {
   const fd = image.getFileDirectory();
   const tiled = fd.hasTag('TileOffsets');
   let offsets: number[] | undefined;
@@ -522,6 +779,7 @@ async function checkBlocksInside(
       );
     }
   }
+  return { offsets, counts };
 }
 
 function readNodata(image: GeoTIFFImage, warnings: string[]): number {
@@ -554,26 +812,34 @@ function verticalScale(keys: Keys | null, warnings: string[]): number {
 }
 
 /**
- * Copies samples into `out` in metres; voids become NaN. Returns the number of voids.
+ * Copies `n` samples from `src[from…]` into `out[at…]` in metres; voids become NaN. Returns the number of voids.
  * `nodata` NaN means "no nodata value" (NaN samples are voids anyway).
  */
-function toMetres(src: ArrayLike<number>, out: Float32Array, nodata: number, scale: number): number {
+function toMetres(
+  src: ArrayLike<number>,
+  from: number,
+  out: Float32Array,
+  at: number,
+  n: number,
+  nodata: number,
+  scale: number,
+): number {
   let voids = 0;
-  const n = out.length;
   for (let i = 0; i < n; i++) {
-    const v = src[i];
+    const v = src[from + i];
     if (v === nodata || v !== v || v >= FLOAT_SENTINEL || v <= -FLOAT_SENTINEL) {
-      out[i] = NaN;
+      out[at + i] = NaN;
       voids++;
     } else {
-      out[i] = v * scale;
+      out[at + i] = v * scale;
     }
   }
   return voids;
 }
 
 /**
- * Fills NaN cells in place and returns how many were filled.
+ * Fills NaN cells in place and returns how many were filled. The raster may be a window of a larger one: cell
+ * (c, r) of the `width` × `height` raster is `data[offset + r * stride + c]`; nothing outside the window is read.
  *
  * Method ("onion peeling"): the void cells that touch valid terrain form the first layer; every cell of a
  * layer takes the mean of its valid 8-neighbours (valid before the layer started, so the result does not
@@ -581,15 +847,25 @@ function toMetres(src: ArrayLike<number>, out: Float32Array, nodata: number, sca
  * Each cell is visited a bounded number of times, so the cost is linear in the raster size. A filled
  * value always lies between the smallest and largest valid value around the void.
  */
-export function fillVoids(data: Float32Array, width: number, height: number): number {
+export function fillVoids(
+  data: Float32Array,
+  width: number,
+  height: number,
+  offset = 0,
+  stride = width,
+): number {
   const n = width * height;
-  // state: 0 = valid (or filled), 1 = void not yet scheduled, 2 = void scheduled in the queue
+  // state (window indices r * width + c): 0 = valid (or filled), 1 = void not yet scheduled, 2 = void scheduled
   const state = new Uint8Array(n);
   let voids = 0;
-  for (let i = 0; i < n; i++) {
-    if (data[i] !== data[i]) {
-      state[i] = 1;
-      voids++;
+  for (let r = 0; r < height; r++) {
+    const row = offset + r * stride;
+    for (let c = 0; c < width; c++) {
+      const v = data[row + c];
+      if (v !== v) {
+        state[r * width + c] = 1;
+        voids++;
+      }
     }
   }
   if (voids === 0 || voids === n) return 0;
@@ -634,7 +910,7 @@ export function fillVoids(data: Float32Array, width: number, height: number): nu
         for (let dc = -1; dc <= 1; dc++) {
           const cc = c + dc;
           if (cc < 0 || cc >= width) continue;
-          const v = data[rr * width + cc];
+          const v = data[offset + rr * stride + cc];
           if (v === v) {
             sum += v;
             k++;
@@ -646,7 +922,8 @@ export function fillVoids(data: Float32Array, width: number, height: number): nu
     // 2. commit, and schedule the next layer
     for (let q = head; q < layerEnd; q++) {
       const i = queue[q];
-      data[i] = values[q];
+      const r = (i / width) | 0;
+      data[offset + r * stride + (i - r * width)] = values[q];
       state[i] = 0;
     }
     for (let q = head; q < layerEnd; q++) {

@@ -3,8 +3,8 @@
  *
  * Hand-written on purpose, for speed: geotiff.js's `writeArrayBuffer` converts every value through a
  * per-value JavaScript loop and puts the whole image in one strip; an 8192 x 8192 Float32 raster takes
- * seconds that way. Here the pixel block is one bulk `Uint8Array.set` of the typed array's bytes into a
- * pre-sized buffer, and the image is cut into ~256 KiB strips (readers can then fetch and decode strip by
+ * seconds that way. Here the pixel block is the typed array's own bytes, written after a small header
+ * (`encodeGeoTiffParts`; no copy of the raster), and the image is cut into ~256 KiB strips (readers can then fetch and decode strip by
  * strip). Output: little-endian classic TIFF, uncompressed, one band, chunky, with the GeoTIFF tags
  * (ModelPixelScale + ModelTiepoint, or ModelTransformation for a south-up raster), a GeoKeyDirectory
  * (model type, RasterPixelIsArea, and the CRS: WGS84 lon/lat, the source file's own geokeys, an EPSG code, or
@@ -59,7 +59,21 @@ function align(n: number, to: number): number {
   return Math.ceil(n / to) * to;
 }
 
+/** The whole GeoTIFF in one ArrayBuffer (the header of `encodeGeoTiffParts` followed by a copy of the pixels). */
 export function encodeGeoTiff(r: GeoTiffRaster): ArrayBuffer {
+  const [header, pixels] = encodeGeoTiffParts(r);
+  const out = new Uint8Array(header.byteLength + pixels.byteLength);
+  out.set(header);
+  out.set(pixels, header.byteLength);
+  return out.buffer;
+}
+
+/**
+ * The GeoTIFF as two parts to write one after the other: the header (TIFF header, IFD, tag values, padding up to
+ * the pixel block) and the pixel block — on a little-endian host a view of `r.data`'s own bytes, not a copy. Write
+ * them with worker/cli/files.ts `writeFileAtomic(path, parts)`.
+ */
+export function encodeGeoTiffParts(r: GeoTiffRaster): [header: Uint8Array, pixels: Uint8Array] {
   const { geo, data } = r;
   const { width, height } = geo;
   if (!Number.isInteger(width) || !Number.isInteger(height) || width <= 0 || height <= 0) {
@@ -193,7 +207,7 @@ export function encodeGeoTiff(r: GeoTiffRaster): ArrayBuffer {
     counts[s] = rows * rowBytes;
   }
 
-  const buffer = new ArrayBuffer(totalBytes);
+  const buffer = new ArrayBuffer(dataOffset);
   const view = new DataView(buffer);
   view.setUint8(0, 0x49); // 'I'
   view.setUint8(1, 0x49); // 'I'
@@ -217,19 +231,18 @@ export function encodeGeoTiff(r: GeoTiffRaster): ArrayBuffer {
   }
   view.setUint32(ifdOffset + 2 + entries.length * 12, 0, true); // no next IFD
 
-  const src = new Uint8Array(data.buffer, data.byteOffset, data.byteLength);
   if (HOST_IS_LITTLE_ENDIAN) {
-    new Uint8Array(buffer, dataOffset, imageBytes).set(src);
-  } else {
-    // Big-endian hosts are rare; byte-swap through a DataView there.
-    for (let i = 0; i < data.length; i++) {
-      const at = dataOffset + i * bytesPerSample;
-      if (data instanceof Float32Array) view.setFloat32(at, data[i], true);
-      else if (data instanceof Int16Array) view.setInt16(at, data[i], true);
-      else view.setInt32(at, data[i], true);
-    }
+    return [new Uint8Array(buffer), new Uint8Array(data.buffer, data.byteOffset, data.byteLength)];
   }
-  return buffer;
+  // Big-endian hosts are rare; byte-swap into a copy through a DataView there.
+  const swapped = new DataView(new ArrayBuffer(imageBytes));
+  for (let i = 0; i < data.length; i++) {
+    const at = i * bytesPerSample;
+    if (data instanceof Float32Array) swapped.setFloat32(at, data[i], true);
+    else if (data instanceof Int16Array) swapped.setInt16(at, data[i], true);
+    else swapped.setInt32(at, data[i], true);
+  }
+  return [new Uint8Array(buffer), new Uint8Array(swapped.buffer)];
 }
 
 function writeValues(view: DataView, at: number, e: Entry): void {

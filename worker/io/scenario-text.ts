@@ -479,9 +479,9 @@ export function checkAgainstTerrain(
     lon >= bounds.west && lon <= bounds.east && lat >= bounds.south && lat <= bounds.north;
   const extent = `${fmt(bounds.west)}…${fmt(bounds.east)}° E, ${fmt(bounds.south)}…${fmt(bounds.north)}° N`;
   const problems: InputError[] = [];
-  // A site's longitude is taken within ±180° of the terrain's middle: terrain across the antimeridian has
-  // continuous bounds (e.g. 179.5…180.5° E) and a site there may be given as −179.8°. (Volume vertices are not:
-  // the volume rasteriser works on the grid's own longitudes.)
+  // A site's or volume vertex's longitude is taken within ±180° of the terrain's middle: terrain across the
+  // antimeridian has continuous bounds (e.g. 179.5…180.5° E) and a point there may be given as −179.8° (the
+  // volume rasteriser, worker/core/volumes.ts, takes vertices the same way).
   const midLon = (bounds.west + bounds.east) / 2;
   s.sites.forEach((f, i) => {
     const [lon, lat] = f.geometry.coordinates;
@@ -499,7 +499,7 @@ export function checkAgainstTerrain(
     const polys = v.polygon.type === 'Polygon' ? [v.polygon.coordinates] : v.polygon.coordinates;
     for (const rings of polys) {
       for (const ring of rings) {
-        const out = ring.find((p) => !inside(p[0], p[1]));
+        const out = ring.find((p) => !inside(nearLon(p[0], midLon), p[1]));
         if (out) {
           problems.push(
             new InputError(

@@ -1,0 +1,226 @@
+/**
+ * The floor's fused I/O (issue 12): tiles decoded straight into a window of one buffer, the mosaic built that way,
+ * outputs written as header + buffer, the files hashed from the bytes read, and the huge-pages launcher. Every check
+ * compares the fused path with the plain one it replaces (readDemTile + Terrain.fromTiles, encodeGeoTiff, SHA-256
+ * of the whole file), bit for bit. Fixtures: invented terrain over the open South Atlantic.
+ */
+import { spawnSync } from 'node:child_process';
+import { createHash } from 'node:crypto';
+import { mkdtempSync, readFileSync, rmSync, writeFileSync } from 'node:fs';
+import { tmpdir } from 'node:os';
+import { join, resolve } from 'node:path';
+import { afterAll, describe, expect, it } from 'vitest';
+import { WGS84_GEOGRAPHIC, type GridGeo } from '../worker/core/grid.ts';
+import { Terrain, type PendingTile } from '../worker/core/terrain.ts';
+import { decodeDemTileInto, fillVoids, openDemTile, readDemTile } from '../worker/io/geotiff-read.ts';
+import { encodeGeoTiff, encodeGeoTiffParts } from '../worker/io/geotiff-write.ts';
+import { readTerrainWithin } from '../worker/cli/dem-open.ts';
+import { digestOfRead, writeFileAtomic } from '../worker/cli/files.ts';
+import { bumpyDem } from './support/bumps.ts';
+import { encodeTiff, type TiffSpec } from './support/tiff-encoder.ts';
+
+const dir = mkdtempSync(join(tmpdir(), 'airshade-fused-'));
+afterAll(() => rmSync(dir, { recursive: true, force: true }));
+
+function geographic(width: number, height: number, originX: number, originY: number, px: number): GridGeo {
+  return { width, height, originX, originY, pixelX: px, pixelY: -px, crs: WGS84_GEOGRAPHIC };
+}
+
+/** Bitwise equality of two Float32Arrays (NaN equal to NaN, 0 apart from -0). */
+function sameBits(a: Float32Array, b: Float32Array): boolean {
+  if (a.length !== b.length) return false;
+  const x = new Uint32Array(a.buffer, a.byteOffset, a.length);
+  const y = new Uint32Array(b.buffer, b.byteOffset, b.length);
+  for (let i = 0; i < x.length; i++) if (x[i] !== y[i]) return false;
+  return true;
+}
+
+/** A PendingTile over an in-memory file, as the CLI builds one over a file descriptor. */
+async function pendingOf(bytes: ArrayBuffer, name: string): Promise<PendingTile> {
+  const t = await openDemTile(bytes, name);
+  return { name, geo: t.geo, decodeInto: (dst, offset, stride) => decodeDemTileInto(t, dst, offset, stride) };
+}
+
+describe('decodeDemTileInto: a tile decoded into a window of a larger raster', () => {
+  const w = 37;
+  const h = 29;
+  const values = Array.from(bumpyDem(4, w, h), (v) => Math.round(v));
+  // A few voids (the nodata value) so that the window's void filling runs too.
+  for (const i of [0, 1, 40, 41, 42, 300, w * h - 1]) values[i] = -32768;
+  const georef = { x0: -28, y0: -40, dx: 0.01, dy: 0.01 };
+  const specs: [string, Partial<TiffSpec>][] = [
+    ['int16 strips', { sampleType: 'int16', layout: { kind: 'strips', rowsPerStrip: 5 } }],
+    ['int16 tiles', { sampleType: 'int16', layout: { kind: 'tiles', tileWidth: 16, tileHeight: 16 } }],
+    ['int16 big-endian', { sampleType: 'int16', bigEndian: true }],
+    ['float32 tiles deflate', { sampleType: 'float32', compression: 'deflate', predictor: 3 }],
+    ['int32 strips lzw', { sampleType: 'int32', compression: 'lzw', predictor: 2 }],
+  ];
+  it.each(specs)(
+    '%s: the same values as readDemTile, nothing outside the window touched',
+    async (_l, spec) => {
+      const buf = encodeTiff({
+        sampleType: 'int16',
+        ...spec,
+        width: w,
+        height: h,
+        values,
+        georef,
+        nodata: '-32768',
+      } as TiffSpec);
+      const plain = await readDemTile(buf, 'w.tif');
+      expect(plain.voidsFilled).toBe(7);
+      const stride = w + 11;
+      const offset = 3 * stride + 5;
+      const big = new Float32Array(stride * (h + 6)).fill(-1234.5);
+      const decoded = await decodeDemTileInto(await openDemTile(buf, 'w.tif'), big, offset, stride);
+      expect(decoded.voidsFilled).toBe(plain.voidsFilled);
+      expect(decoded.warnings).toEqual(plain.warnings);
+      const window = new Float32Array(w * h);
+      for (let r = 0; r < h; r++)
+        window.set(big.subarray(offset + r * stride, offset + r * stride + w), r * w);
+      expect(sameBits(window, plain.data)).toBe(true);
+      let outside = 0;
+      for (let i = 0; i < big.length; i++) {
+        const r = Math.floor((i - offset) / stride);
+        const c = i - offset - r * stride;
+        const inside = i >= offset && r < h && c >= 0 && c < w;
+        if (!inside && big[i] !== -1234.5) outside++;
+      }
+      expect(outside).toBe(0);
+    },
+  );
+
+  it('fillVoids on a window equals fillVoids on the tile alone', () => {
+    const tw = 23;
+    const th = 17;
+    const tile = bumpyDem(5, tw, th);
+    for (let i = 0; i < tile.length; i += 7) tile[i] = NaN;
+    for (let c = 3; c < 12; c++) tile[8 * tw + c] = NaN;
+    const stride = tw + 4;
+    const offset = 2 * stride + 3;
+    const big = new Float32Array(stride * (th + 4)).fill(NaN);
+    for (let r = 0; r < th; r++) big.set(tile.subarray(r * tw, (r + 1) * tw), offset + r * stride);
+    const alone = tile.slice();
+    expect(fillVoids(big, tw, th, offset, stride)).toBe(fillVoids(alone, tw, th));
+    const back = new Float32Array(tw * th);
+    for (let r = 0; r < th; r++)
+      back.set(big.subarray(offset + r * stride, offset + r * stride + tw), r * tw);
+    expect(sameBits(back, alone)).toBe(true);
+  });
+});
+
+describe('Terrain.fromPendingTiles: the same mosaic as Terrain.fromTiles', () => {
+  const px = 1 / 120;
+  const tif = (geo: GridGeo, seed: number, voids = false): ArrayBuffer => {
+    const data = bumpyDem(seed, geo.width, geo.height);
+    if (voids) for (let i = 5; i < data.length; i += 97) data[i] = NaN;
+    return encodeGeoTiff({ geo, data, nodata: NaN });
+  };
+  const cases: [string, ArrayBuffer[]][] = [
+    ['one tile with voids', [tif(geographic(60, 50, -30, -40, px), 1, true)]],
+    [
+      'two aligned tiles, the second overlapping and below-left',
+      [tif(geographic(60, 50, -30, -40, px), 2), tif(geographic(40, 40, -30.2, -40.3, px), 3, true)],
+    ],
+    [
+      'a second tile on another lattice (resampled)',
+      [tif(geographic(60, 50, -30, -40, px), 4), tif(geographic(30, 30, -29.6, -40.35, px * 1.37), 5)],
+    ],
+    [
+      'tiles either side of the antimeridian',
+      [tif(geographic(40, 40, 179.8, -40, px), 6), tif(geographic(40, 40, -180, -40, px), 7)],
+    ],
+  ];
+  it.each(cases)('%s', async (_l, files) => {
+    for (const shared of [false, true]) {
+      const plain = Terrain.fromTiles(await Promise.all(files.map((b, i) => readDemTile(b, `t${i}.tif`))), {
+        shared,
+      });
+      const fused = await Terrain.fromPendingTiles(
+        await Promise.all(files.map((b, i) => pendingOf(b, `t${i}.tif`))),
+        { shared },
+      );
+      expect(fused.geo).toEqual(plain.geo);
+      expect(fused.warnings).toEqual(plain.warnings);
+      expect(fused.sources).toEqual(plain.sources);
+      expect(sameBits(fused.data, plain.data)).toBe(true);
+      expect(fused.data.buffer instanceof SharedArrayBuffer).toBe(shared);
+    }
+  });
+});
+
+describe('outputs as header + buffer; inputs hashed from the bytes read', () => {
+  const geo = geographic(300, 200, -25, -41, 1 / 240);
+  const data = bumpyDem(9, geo.width, geo.height);
+  data[17] = NaN;
+
+  it('encodeGeoTiffParts: header + the raster’s own bytes, the same file as encodeGeoTiff', () => {
+    const r = { geo, data, nodata: NaN, description: 'test raster' };
+    const [header, pixels] = encodeGeoTiffParts(r);
+    expect(pixels.buffer).toBe(data.buffer); // a view, not a copy
+    const whole = new Uint8Array(encodeGeoTiff(r));
+    expect(Buffer.compare(Buffer.concat([header, pixels]), whole)).toBe(0);
+    const path = join(dir, 'parts.tif');
+    writeFileAtomic(path, [header, pixels]);
+    expect(Buffer.compare(readFileSync(path), whole)).toBe(0);
+  });
+
+  it('a raster on a SharedArrayBuffer is written from that buffer', () => {
+    const shared = new Float32Array(new SharedArrayBuffer(data.byteLength));
+    shared.set(data);
+    const path = join(dir, 'shared.tif');
+    writeFileAtomic(path, encodeGeoTiffParts({ geo, data: shared, nodata: NaN }));
+    expect(
+      Buffer.compare(readFileSync(path), new Uint8Array(encodeGeoTiff({ geo, data, nodata: NaN }))),
+    ).toBe(0);
+  });
+
+  it.each([
+    ['uncompressed (read block by block)', { compression: 'none' as const }],
+    ['deflate (read whole)', { compression: 'deflate' as const, predictor: 2 as const }],
+  ])('the terrain file is hashed from the very bytes read: %s', async (_l, spec) => {
+    const values = Array.from(bumpyDem(11, 90, 70), (v) => Math.round(v));
+    const bytes = encodeTiff({
+      width: 90,
+      height: 70,
+      values,
+      sampleType: 'int16',
+      layout: { kind: 'strips', rowsPerStrip: 3 },
+      georef: { x0: -26, y0: -39, dx: 0.01, dy: 0.01 },
+      ...spec,
+    });
+    const path = join(dir, `hash-${spec.compression}.tif`);
+    writeFileSync(path, new Uint8Array(bytes));
+    const { terrain } = await readTerrainWithin([path], 2 ** 30);
+    expect(digestOfRead(path)).toBe(createHash('sha256').update(new Uint8Array(bytes)).digest('hex'));
+    expect(Array.from(terrain.data)).toEqual(values);
+  });
+});
+
+describe('bin/airshade.mjs with and without the huge-pages relaunch', () => {
+  const bin = resolve('bin/airshade.mjs');
+  const run = (env: Record<string, string>, ...args: string[]) =>
+    spawnSync(process.execPath, [bin, ...args], {
+      encoding: 'utf8',
+      env: { ...process.env, AIRSHADE_HUGE_PAGES_CHILD: '', ...env },
+      input: 'not read\n',
+    });
+  it('the same exit status, stdout and stderr, negative coordinates in argv included', () => {
+    const args = ['floor', '--dem', join(dir, 'missing.tif'), '--site=-27.5,-40.25', '--mast-m', '20'];
+    const relaunched = run(
+      { GLIBC_TUNABLES: '', AIRSHADE_HUGE_PAGES: '1' },
+      ...args,
+      '--out',
+      join(dir, 'o.tif'),
+    );
+    const direct = run({ AIRSHADE_HUGE_PAGES: '0' }, ...args, '--out', join(dir, 'o.tif'));
+    expect(relaunched.status).toBe(2);
+    expect(relaunched.status).toBe(direct.status);
+    expect(relaunched.stdout).toBe(direct.stdout);
+    expect(relaunched.stderr).toBe(direct.stderr);
+    expect(relaunched.stderr).toMatch(/missing\.tif: found no such file/);
+    const ok = run({ GLIBC_TUNABLES: '', AIRSHADE_HUGE_PAGES: '1' }, 'floor', '--help');
+    expect(ok.status).toBe(0);
+    expect(ok.stdout).toMatch(/^airshade floor/);
+  });
+});

@@ -1,0 +1,81 @@
+/**
+ * DEM tiles for the fused read (issue 12): every tile's file is opened and its header read and checked first
+ * (file size and dimensions against `--max-memory`, CRS, block table); the pixels are decoded later, straight
+ * into the terrain mosaic's one buffer (`Terrain.fromPendingTiles`), reading each file front to back once — its
+ * SHA-256 is taken from those very bytes (files.ts `openFileChecked`, `digestOfRead`).
+ */
+import { InputError } from '../../shared/errors.ts';
+import { tileFileRefusal, type TileShape } from '../core/memory-estimate.ts';
+import { Terrain, type PendingTile } from '../core/terrain.ts';
+import { decodeDemTileInto, openDemTile, type OpenedDemTile } from '../io/geotiff-read.ts';
+import { checkTileShape } from './budget-check.ts';
+import { openFileChecked, type CheckedFile } from './files.ts';
+
+const WHAT = 'a GeoTIFF elevation tile (DEM)';
+
+export interface OpenedTiles {
+  /** Per tile: its header's grid, and its decoder. */
+  tiles: PendingTile[];
+  /** The largest tile's shape (for `estimateRun`). */
+  largest: TileShape | undefined;
+}
+
+/**
+ * Opens DEM tiles within the memory limit and reads their headers (see the file note); `use` gets them, and the
+ * files are closed after it, whatever happens (their digests recorded when `use` succeeded).
+ */
+export async function withTilesWithin<T>(
+  paths: readonly string[],
+  limit: number,
+  use: (opened: OpenedTiles) => Promise<T>,
+  names: readonly string[] = paths,
+): Promise<T> {
+  const files: CheckedFile[] = [];
+  let ok = false;
+  try {
+    const tiles: PendingTile[] = [];
+    let largest: TileShape | undefined;
+    for (let i = 0; i < paths.length; i++) {
+      const name = names[i];
+      const file = openFileChecked(paths[i], WHAT);
+      files.push(file);
+      const tooBig = tileFileRefusal(name, file.byteLength, limit, '--max-memory');
+      if (tooBig) throw tooBig;
+      let shape: TileShape | undefined;
+      const opened = await openDemTile(file, name, (h) => {
+        shape = { name, fileBytes: file.byteLength, ...h };
+        checkTileShape(shape, limit);
+      });
+      if (shape && (!largest || shape.width * shape.height > largest.width * largest.height)) largest = shape;
+      tiles.push(pending(opened));
+    }
+    const result = await use({ tiles, largest });
+    ok = true;
+    return result;
+  } finally {
+    for (const f of files) f.close(ok);
+  }
+}
+
+/** The terrain mosaic of DEM files, decoded straight into its one buffer (see `withTilesWithin`). */
+export async function readTerrainWithin(
+  paths: readonly string[],
+  limit: number,
+  opts: { shared?: boolean } = {},
+): Promise<{ terrain: Terrain; largest: TileShape | undefined; firstGeo: PendingTile['geo'] }> {
+  if (paths.length === 0) throw new InputError('--dem', 'no DEM given', 'at least one --dem FILE.tif');
+  return withTilesWithin(paths, limit, async ({ tiles, largest }) => ({
+    terrain: await Terrain.fromPendingTiles(tiles, opts),
+    largest,
+    firstGeo: tiles[0].geo,
+  }));
+}
+
+/** A plain object (Terrain may copy it with a moved origin): the header's grid and a decoder into any window. */
+function pending(t: OpenedDemTile): PendingTile {
+  return {
+    name: t.name,
+    geo: t.geo,
+    decodeInto: (dst, offset, stride) => decodeDemTileInto(t, dst, offset, stride),
+  };
+}

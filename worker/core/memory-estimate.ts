@@ -1,0 +1,257 @@
+/**
+ * Refuse before allocating — the pure part, shared by the CLI (worker/cli/budget-check.ts, `--max-memory`) and the
+ * web app's engine (worker/engine.ts): the memory a run will need, estimated from its inputs before any large
+ * array exists, and the one message that refuses it. No Node and no DOM here: each side brings its own limit
+ * and the words for its knob.
+ *
+ * The estimate counts the arrays the code allocates, from their layouts:
+ * - terrain: the mosaic, Float32 per terrain pixel (worker/core/terrain.ts), and while a tile is read its file
+ *   bytes, its decoded samples and its Float32 copy (worker/io/geotiff-read.ts);
+ * - per analysis cell: ground (Float32), one byte per volume mask, per site the network's level bits (1, 2 or
+ *   4 bytes: worker/core/network.ts), 3 kinds × levels × targets Uint16 folds, and per (site, type) pair and
+ *   target a footprint of two Uint16 (worker/core/footprint.ts); per site in flight a floor and a distance
+ *   (Float32 each);
+ * - per site in flight (two: the pipeline of worker/core/coverage.ts): the horizon's screening tans, Float32 per
+ *   sample; the layout (worker/core/horizon.ts planHorizon) keeps arcs between neighbouring radials within
+ *   0.75…1.5 arc steps, so the samples out to range R number at most π·R² / (0.75 · rangeStep · arcStep).
+ * These counts are exact bounds of the layouts; what they leave out (the JavaScript heap, the contour rings,
+ * the GeoJSON text, the pool's workers) is the `RUNTIME_BYTES` floor and the `OVERHEAD` factor, both measured
+ * with the CLI (DEVELOPERS.md: the figures and the command that reproduces them).
+ */
+import { InputError } from '../../shared/errors.ts';
+import type { Locator, Scenario } from '../../shared/scenario.ts';
+import { NM_M } from '../../shared/units.ts';
+import type { GridGeo } from './grid.ts';
+import type { Terrain } from './terrain.ts';
+
+export const MiB = 1 << 20;
+export const GiB = 1 << 30;
+
+/** Node, tsx, zod, turf, geotiff.js and the rest before any data: 170–195 MiB measured on refused runs. */
+export const RUNTIME_BYTES = 200 * MiB;
+/**
+ * Heap and transient copies beyond the counted arrays, as a factor on them: measured on the demo (coverage,
+ * 165 sensors, 600 × 600 cells, 6000 × 6000 terrain pixels: counted ≈ 0.55 GiB, peak RSS 839 MiB).
+ */
+export const OVERHEAD = 1.25;
+
+export function formatBytes(b: number): string {
+  return b >= GiB ? `${(b / GiB).toFixed(1)} GiB` : `${Math.max(1, Math.round(b / MiB))} MiB`;
+}
+
+export interface TileShape {
+  /** The file as the user named it. */
+  name: string;
+  fileBytes: number;
+  width: number;
+  height: number;
+  bytesPerSample: number;
+}
+
+export interface RunShape {
+  /** Pixels of the terrain mosaic. */
+  terrainPixels: number;
+  /** The largest tile read (it and its copies are alive at once). */
+  largestTile?: TileShape;
+  /** Analysis cells (grid width × height). */
+  cells: number;
+  /** Sites and (site, type) pairs of the network. */
+  sites: number;
+  pairs: number;
+  /** Flight levels, targets (1 + volumes' own), volumes. */
+  levels: number;
+  targets: number;
+  volumes: number;
+  /** Farthest range of a site's horizon, m; range step (a terrain pixel) and arc step (¾ of a cell), m. */
+  reachM: number;
+  rangeStepM: number;
+  arcStepM: number;
+  /** Horizons alive at once (a floor run: 1; coverage's pipeline: 2). */
+  horizonsInFlight: number;
+}
+
+export type EstimatePart = 'terrain' | 'grid' | 'footprints' | 'horizons';
+
+export interface Estimate {
+  bytes: number;
+  parts: Record<EstimatePart, number>;
+}
+
+/** Screening-tan samples of one horizon, an upper bound from the layout rules (see the module comment). */
+export function horizonSamples(reachM: number, rangeStepM: number, arcStepM: number): number {
+  return (Math.PI * reachM * reachM) / (0.75 * rangeStepM * arcStepM) + (2 * Math.PI * reachM) / arcStepM;
+}
+
+export function estimateRun(s: RunShape): Estimate {
+  const tile = s.largestTile;
+  const terrain =
+    s.terrainPixels * 4 + (tile ? tile.fileBytes + tile.width * tile.height * (tile.bytesPerSample + 4) : 0);
+  const levelBits = s.levels * s.targets;
+  const bitBytes = levelBits <= 8 ? 1 : levelBits <= 16 ? 2 : 4;
+  const perCell = 4 + s.volumes + s.sites * bitBytes + 3 * levelBits * 2 + 4 /* network floor */ + 2 * 8;
+  const grid = s.cells * perCell;
+  const footprints = s.cells * s.pairs * s.targets * 4;
+  const horizons = horizonSamples(s.reachM, s.rangeStepM, s.arcStepM) * 4 * s.horizonsInFlight;
+  const bytes = RUNTIME_BYTES + OVERHEAD * (terrain + grid + footprints + horizons);
+  return { bytes, parts: { terrain, grid, footprints, horizons } };
+}
+
+/** What each part of the estimate is, in the refusal's words. */
+export const PART_WORDS: Record<EstimatePart, string> = {
+  terrain: 'the terrain',
+  grid: 'the analysis grid',
+  footprints: 'the footprints (cells × sensors)',
+  horizons: "each site's horizon (range² over terrain pixel × cell)",
+};
+
+/** The part that weighs most. */
+export function largestPart(est: Estimate): EstimatePart {
+  return (Object.entries(est.parts) as [EstimatePart, number][]).sort((a, b) => b[1] - a[1])[0][0];
+}
+
+/**
+ * The refusal of an estimate past `limit` (null when it fits): `where` is the input that drives the largest part
+ * (from `blame`), `expected` the limit with `knob` (how the limit is set, and what to make smaller).
+ */
+export function estimateRefusal(
+  est: Estimate,
+  limit: number,
+  blame: Record<EstimatePart, string>,
+  knob: string,
+): InputError | null {
+  if (est.bytes <= limit) return null;
+  const part = largestPart(est);
+  return new InputError(
+    blame[part],
+    `a run that needs about ${formatBytes(est.bytes)} (mostly ${PART_WORDS[part]}: ${formatBytes(est.parts[part])})`,
+    `at most ${formatBytes(limit)} (${knob})`,
+  );
+}
+
+/** Bytes alive while one tile is read and decoded (its file, its samples, its Float32 copy and the runtime). */
+export function tileReadBytes(t: TileShape): number {
+  return RUNTIME_BYTES + t.fileBytes + t.width * t.height * (t.bytesPerSample + 8);
+}
+
+/**
+ * The refusal of a DEM tile's header past the limit, before its pixels are decoded (null when it fits): absurd
+ * dimensions, or a file whose pixels would not fit. `knob` says how the limit is set.
+ */
+export function tileRefusal(t: TileShape, limit: number, knob: string): InputError | null {
+  const bytes = tileReadBytes(t);
+  if (bytes <= limit) return null;
+  return new InputError(
+    t.name,
+    `a tile of ${t.width} × ${t.height} pixels (about ${formatBytes(bytes)} to read)`,
+    `a tile that fits in ${formatBytes(limit)} (${knob}), or the tile cut into smaller ones`,
+  );
+}
+
+/** The refusal of a tile file too large to read at all (null when it fits). */
+export function tileFileRefusal(
+  name: string,
+  fileBytes: number,
+  limit: number,
+  knob: string,
+): InputError | null {
+  if (RUNTIME_BYTES + fileBytes <= limit) return null;
+  return new InputError(
+    name,
+    `a file of ${formatBytes(fileBytes)}`,
+    `a tile that fits in ${formatBytes(limit)} (${knob}), or the tile cut into smaller ones`,
+  );
+}
+
+// ---------------------------------------------------------------------------------------------------
+// A scenario's run
+
+/** A study's run as the estimate sees it, with the figures its refusal names. */
+export interface StudyRun {
+  shape: RunShape;
+  /** Every allowed (site, type) pair: the most a network of this scenario can hold. */
+  pairs: number;
+  /** The farthest reach of any type, m (maxRangeKm and the instrumented ranges). */
+  reachM: number;
+}
+
+/**
+ * The run of a scenario on its terrain over `grid` (its analysis grid): every allowed (site, type) pair, the
+ * scenario's levels and `targets` targets (the scenario's and the volumes' own), the farthest reach of any type,
+ * two horizons in flight (coverage's pipeline).
+ */
+export function studyRun(
+  s: Scenario,
+  grid: GridGeo,
+  terrain: Terrain,
+  targets: number,
+  largestTile?: TileShape,
+): StudyRun {
+  const typeCount = s.sensorTypes.length;
+  const pairs = s.sites.reduce((n, f) => n + (f.properties.allowedTypes?.length ?? typeCount), 0);
+  const reachM = Math.min(
+    s.maxRangeKm * 1000,
+    Math.max(0, ...s.sensorTypes.map((t) => t.instrumentedRangeNm * NM_M)),
+  );
+  const lat = grid.originY + (grid.height / 2) * grid.pixelY;
+  const lon = grid.originX + (grid.width / 2) * grid.pixelX;
+  const px = terrain.metresPerPixel(lon, lat);
+  const cellM = Math.min(grid.pixelX * Math.cos((lat * Math.PI) / 180), -grid.pixelY) * 111_320;
+  const shape: RunShape = {
+    terrainPixels: terrain.geo.width * terrain.geo.height,
+    largestTile,
+    cells: grid.width * grid.height,
+    sites: s.sites.length,
+    pairs,
+    levels: s.flightLevels.length,
+    targets,
+    volumes: s.volumes.length,
+    reachM,
+    rangeStepM: Math.min(px.x, px.y) || cellM,
+    arcStepM: 0.75 * cellM,
+    horizonsInFlight: 2,
+  };
+  return { shape, pairs, reachM };
+}
+
+/**
+ * The inputs a study's refusal names, per part of the estimate: the terrain (`terrainWhere`, default the
+ * scenario's terrain.files), and the analysis grid's cell size with its size in cells for the others.
+ */
+export function studyBlame(
+  locate: Locator,
+  s: Scenario,
+  grid: GridGeo,
+  run: Pick<StudyRun, 'pairs' | 'reachM'>,
+  terrainWhere = locate(['terrain', 'files']),
+): Record<EstimatePart, string> {
+  const cell = `${locate(['grid', 'cellArcSec'])} (${s.grid.cellArcSec}″: ${grid.width} × ${grid.height} cells)`;
+  return {
+    terrain: terrainWhere,
+    grid: cell,
+    footprints: `${cell} with ${run.pairs} (site, type) pairs`,
+    horizons: `${cell} out to ${(run.reachM / 1000).toFixed(0)} km (maxRangeKm, the types' instrumented range)`,
+  };
+}
+
+/** Cell sizes (arc seconds) offered when a finer one does not fit: whole divisors of a degree, then coarser. */
+const NICE_CELLS_ARCSEC = [
+  1, 2, 3, 4, 5, 6, 8, 9, 10, 12, 15, 16, 18, 20, 24, 30, 36, 40, 45, 48, 60, 72, 80, 90, 120, 150, 180, 225,
+  240, 300, 360, 450, 600, 720, 900, 1200, 1800, 3600,
+];
+
+/**
+ * The finest cell size (arc seconds, from a list of round values coarser than `cellArcSec`) whose run fits in
+ * `limit`, or null when none does (then the terrain or the sites' reach, not the grid, is what does not fit).
+ * `runAt` gives the run at a cell size (its grid computed as the study would).
+ */
+export function cellArcSecThatFits(
+  cellArcSec: number,
+  limit: number,
+  runAt: (cellArcSec: number) => RunShape,
+): number | null {
+  for (const c of NICE_CELLS_ARCSEC) {
+    if (c <= cellArcSec) continue;
+    if (estimateRun(runAt(c)).bytes <= limit) return c;
+  }
+  return null;
+}
