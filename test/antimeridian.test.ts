@@ -296,3 +296,85 @@ describe('volumes across the antimeridian', () => {
     expect(at('east-of-180').areaKm2).toBeGreaterThan(0);
   });
 });
+
+describe('report maps across the antimeridian', () => {
+  it('draw volume outlines, sites and coast as the copy at 0° does, none at the wrong edge of the map', async () => {
+    // A volume or site given as −179.x lies just east of 180°: on the map of the study across 180° it must sit
+    // beside its neighbours, where the copy moved 180° west draws it. The map's x is relative to its west edge,
+    // so the shared vector layers (outlines, sites, coast) of the two reports must be the same text.
+    const layers: Record<string, string>[] = [];
+    const html: string[] = [];
+    for (let k = 0; k < 2; k++) {
+      const shift = k === 0 ? 0 : -180;
+      const east = (lon: number) => (shift === 0 ? lon - 360 : lon + shift);
+      const f = writeScenarioFixture({
+        sites: [
+          { id: 'wa', name: 'Wavecrest', lon: 179.8 + shift, lat: 40.3, mastHeightM: 30 },
+          { id: 'eb', name: 'Eastbank', lon: east(180.2), lat: 40.2, mastHeightM: 30 },
+        ],
+        volumes: [
+          {
+            id: 'across-ring',
+            name: 'Dateline block',
+            polygon: {
+              type: 'Polygon',
+              coordinates: [
+                [
+                  [179.8 + shift, 40.15],
+                  [east(180.2), 40.15],
+                  [east(180.2), 40.35],
+                  [179.8 + shift, 40.35],
+                  [179.8 + shift, 40.15],
+                ],
+              ],
+            },
+            flMin: 50,
+            flMax: 100,
+            requiredFold: { any: 2 },
+          },
+          {
+            id: 'east-of-180',
+            name: 'Far east block',
+            polygon: { type: 'Polygon', coordinates: [ring(east(180.1), 40.1, east(180.4), 40.4)] },
+            flMin: 50,
+            flMax: 100,
+            requiredFold: { any: 1 },
+          },
+        ],
+        layouts: [],
+        cellArcSec: 30,
+        flightLevels: [50, 100],
+      });
+      fixtures.push(f);
+      copyFileSync(tiles[k].west, join(f.dir, 'west.tif'));
+      copyFileSync(tiles[k].east, join(f.dir, 'east.tif'));
+      writeFileSync(
+        f.scenarioPath,
+        JSON.stringify({ ...f.scenario, terrain: { files: ['west.tif', 'east.tif'] } }, null, 2),
+      );
+      const out = join(dir, `report-${k}.html`);
+      const r = await runCli('report', f.scenarioPath, '--out', out, '--threads', '0', '--quiet');
+      expect(r.err).toBe('');
+      expect(r.code).toBe(0);
+      html.push(readFileSync(out, 'utf8'));
+      const group = (id: string) => new RegExp(`<g id="${id}">(.*?)</g>\\n`, 's').exec(html[k])?.[1] ?? '';
+      layers.push({ volumes: group('as-volumes'), sites: group('as-sites'), coast: group('as-coast') });
+    }
+    expect(layers[0].volumes).toContain('east-of-180');
+    expect(layers[0].sites).toContain('eb');
+    expect(layers[0]).toEqual(layers[1]);
+    // Every outline vertex and site mark lies inside the map frame (x from 0 to its width), not 360° away.
+    const width = Number(
+      /<clipPath id="as-frame"[^>]*><rect x="0" y="0" width="([\d.]+)"/.exec(html[0])?.[1],
+    );
+    expect(width).toBeGreaterThan(0);
+    const xs = [
+      ...layers[0].volumes.matchAll(/[ML](-?[\d.]+) /g),
+      ...layers[0].sites.matchAll(/cx="(-?[\d.]+)"/g),
+    ].map((m) => Number(m[1]));
+    expect(xs.length).toBeGreaterThanOrEqual(10);
+    for (const x of xs) expect(x >= 0 && x <= width, `x ${x} within 0…${width}`).toBe(true);
+    // The longitude labels past 180° read as west longitudes.
+    expect(html[0]).toMatch(/class="tick">179\.\d+° W</);
+  });
+});

@@ -21,7 +21,7 @@ import {
   tileReadBytes,
   type RunShape,
 } from '../worker/core/memory-estimate.ts';
-import { appMemoryLimitBytes, Engine } from '../worker/engine.ts';
+import { appMemoryLimitBytes, Engine, FOOTPRINT_CACHE_MARGIN } from '../worker/engine.ts';
 import { writeE2eData, type E2eData } from './e2e/fixture.ts';
 import { runCli } from './support/run-cli.ts';
 
@@ -177,5 +177,65 @@ describe("the app's engine refuses before allocating", () => {
     expect(() => e.checkTileFile('huge.tif', 4 * GiB)).toThrow(
       /^huge\.tif: found a file of 4\.0 GiB; expected a tile that fits/,
     );
+  });
+});
+
+describe("the app engine's footprint cache stays within the estimate plus its margin", () => {
+  it('many site moves: bytes bounded, least recently used out first, the network of the moment kept', async () => {
+    // The estimate (memory-estimate.ts) counts every allowed (site, type) pair once, each footprint lo + hi Uint16
+    // per cell and target: the fixture has 6 pairs (2 + 1 + 1 + 2) and one target on its 90 × 60 grid.
+    const e = new Engine();
+    const first = await e.loadTiles(copies(), true, { input: doc, display: 'fixture' });
+    const cells = first.study!.grid.width * first.study!.grid.height;
+    const pairs = doc.sites.features.reduce(
+      (n, f) => n + (f.properties.allowedTypes?.length ?? doc.sensorTypes.length),
+      0,
+    );
+    expect(pairs).toBe(6);
+    const perFootprint = cells * 1 * 4;
+    expect(e.footprintCacheInfo().limitBytes).toBe((1 + FOOTPRINT_CACHE_MARGIN) * pairs * perFootprint);
+    // One sensor moved east step by step, 12 times: one new footprint per position, twice what the bound holds.
+    const ref = { siteId: 'ridge-east', typeId: 'ssr-compact' };
+    const at = (step: number): ScenarioDoc => ({
+      ...doc,
+      sites: {
+        ...doc.sites,
+        features: doc.sites.features.map((f) =>
+          f.properties.id === ref.siteId
+            ? { ...f, geometry: { ...f.geometry, coordinates: [-29.55 + 0.02 * step, -40.95] } }
+            : f,
+        ),
+      },
+    });
+    const moves = 12;
+    for (let step = 0; step < moves; step++) {
+      e.setScenario(at(step), 'fixture');
+      const r = await e.coverage([ref], undefined);
+      expect(r.computed).toBe(1);
+      const info = e.footprintCacheInfo();
+      expect(info.bytes).toBe(info.entries * perFootprint);
+      expect(info.bytes).toBeLessThanOrEqual(info.limitBytes);
+    }
+    // Without the bound the cache would hold all 12; with it, floor(1.25 × 6) = 7.
+    expect(e.footprintCacheInfo().entries).toBe(Math.floor((1 + FOOTPRINT_CACHE_MARGIN) * pairs));
+    // Least recently used out first: the position before last is still there, the first one is gone.
+    e.setScenario(at(moves - 2), 'fixture');
+    expect((await e.coverage([ref], undefined)).computed).toBe(0);
+    e.setScenario(at(0), 'fixture');
+    expect((await e.coverage([ref], undefined)).computed).toBe(1);
+    // A network of every allowed pair (the most one study needs at once) computes and fits, moved site included.
+    const all = doc.sites.features.flatMap((f) =>
+      (f.properties.allowedTypes ?? doc.sensorTypes.map((t) => t.id)).map((typeId) => ({
+        siteId: f.properties.id,
+        typeId,
+      })),
+    );
+    const full = await e.coverage(all, undefined);
+    expect(full.computed + full.cached).toBe(pairs);
+    expect(full.cached).toBe(1);
+    const info = e.footprintCacheInfo();
+    expect(info.bytes).toBeLessThanOrEqual(info.limitBytes);
+    // The network of the moment stays whole: its outage figures read its footprints.
+    expect(() => e.outageTally()).not.toThrow();
   });
 });

@@ -5,7 +5,7 @@
  * Bad inputs are written to a temp dir.
  */
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
-import { mkdirSync, mkdtempSync, readFileSync, rmSync, writeFileSync } from 'node:fs';
+import { existsSync, mkdirSync, mkdtempSync, readFileSync, rmSync, writeFileSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join, relative } from 'node:path';
 import { fileURLToPath } from 'node:url';
@@ -15,6 +15,11 @@ import { checkAgainstTerrain, loadScenario, parseJsonText, readSitesCsv } from '
 import { demoTileNames } from '../worker/cli/demo.ts';
 import { DEMO_REGION } from '../worker/core/synth-terrain.ts';
 import { buildSensorModel, type SensorTypeSpec } from '../worker/core/sensor.ts';
+import { docOf, type ScenarioDoc } from '../app/state.ts';
+import { Engine } from '../worker/engine.ts';
+import { checkNetworkLevels } from '../worker/study.ts';
+import { E2E_SENSOR_TYPES, E2E_SITES, E2E_VOLUMES, writeE2eData, type E2eData } from './e2e/fixture.ts';
+import { runCli } from './support/run-cli.ts';
 
 const DATA = fileURLToPath(new URL('../data/', import.meta.url));
 const DEMO_SCENARIO = join(DATA, 'demo-scenario.json');
@@ -743,5 +748,98 @@ describe('bad input: one message per problem, naming file, field, what was found
     })();
     expect(e?.where).toBe('x.json: sensorTypes');
     expect(e?.expected).toContain('the path of a JSON file');
+  });
+});
+
+describe('flight levels × targets beyond what one network holds: refused when the study opens, before any footprint', () => {
+  // One network keeps one bit per flight level and target (worker/core/network.ts MAX_NETWORK_LEVELS = 32); the
+  // check (worker/study.ts checkNetworkLevels) runs in openStudy, which the CLI session and the app engine share.
+  let e2e: E2eData;
+  let e2eTiles: { name: string; buffer: ArrayBuffer }[];
+  const levels = (n: number) => Array.from({ length: n }, (_, i) => 10 + 10 * i);
+  /** The fixture's two volumes, each with its own target (two targets besides the scenario's). */
+  const ownTargets = () => E2E_VOLUMES.map((v, i) => ({ ...v, flMin: 10, flMax: 600, targetRcsM2: 0.5 + i }));
+  const engineWith = async (change: Partial<ScenarioDoc>): Promise<Engine> => {
+    const eng = new Engine();
+    await eng.loadTiles(
+      e2eTiles.map((t) => ({ name: t.name, buffer: t.buffer.slice(0) })),
+      true,
+      { input: { ...docOf((await loadScenario(e2e.scenarioPath)).scenario), ...change }, display: 'fx.json' },
+    );
+    return eng;
+  };
+  const cliOn = async (name: string, change: Record<string, unknown>) => {
+    const path = join(e2e.dir, `${name}.json`);
+    write(path, { ...e2e.scenario, ...change });
+    const out = join(e2e.dir, `${name}-out`);
+    const cli = await runCli('coverage', path, '--out', out, '--threads', '0', '--quiet');
+    return { ...cli, path, out };
+  };
+
+  beforeAll(() => {
+    e2e = writeE2eData(folder());
+    e2eTiles = e2e.tiles.map((t) => {
+      const b = readFileSync(t.path);
+      return {
+        name: t.file.split('/').pop()!,
+        buffer: b.buffer.slice(b.byteOffset, b.byteOffset + b.byteLength),
+      };
+    });
+  });
+
+  it('33 flight levels: the CLI names flightLevels, what it found and what fits, and writes nothing', async () => {
+    const cli = await cliOn('fl33', { flightLevels: levels(33) });
+    expect(cli.code).toBe(2);
+    // The load check's words (the file named, "flight levels in"), not the network's own late refusal.
+    expect(cli.err).toContain(
+      `${cli.path}: flightLevels: found 33 flight levels; expected at most 32 flight levels in one network`,
+    );
+    expect(existsSync(join(cli.out, 'summary.json'))).toBe(false);
+  });
+
+  it('the app engine refuses the same scenario with the same words, and keeps the study it had', async () => {
+    const eng = await engineWith({});
+    const base = docOf((await loadScenario(e2e.scenarioPath)).scenario);
+    expect(() => eng.setScenario({ ...base, flightLevels: levels(33) }, 'fx.json')).toThrow(
+      /^fx\.json: flightLevels: found 33 flight levels; expected at most 32 flight levels in one network$/,
+    );
+    expect(eng.conventions().levels.length).toBe(3);
+  });
+
+  it('11 levels × 3 targets = 33: the message names the volumes whose own targets add levels', async () => {
+    const cli = await cliOn('own33', { flightLevels: levels(11), volumes: ownTargets() });
+    expect(cli.code).toBe(2);
+    expect(cli.err).toContain(
+      `${cli.path}: volumes: found 11 flight levels × 3 targets = 33: the scenario's target and 2 own of volumes "halvoran-terminal", "upper-block"; expected at most 32 flight levels × targets in one network: with 11 flight levels at most 2 targets`,
+    );
+    expect(cli.err).toContain('or with 3 targets at most 10 flight levels');
+    // One volume with its own target: that volume is named by its place in the file.
+    const one = await cliOn('own-one', {
+      flightLevels: levels(17),
+      volumes: [ownTargets()[0], E2E_VOLUMES[1]],
+    });
+    expect(one.err).toContain(`${one.path}: volumes[0]: found 17 flight levels × 2 targets = 34`);
+  });
+
+  it('what fits still loads: 32 × 1, 16 × 2 and 10 × 3 (no footprint needed to tell)', async () => {
+    const eng = await engineWith({});
+    const base = docOf((await loadScenario(e2e.scenarioPath)).scenario);
+    expect(eng.setScenario({ ...base, flightLevels: levels(32) }, 'fx.json').grid.width).toBeGreaterThan(0);
+    const own = ownTargets() as unknown as ScenarioDoc['volumes'];
+    expect(() =>
+      eng.setScenario({ ...base, flightLevels: levels(16), volumes: [own[0], base.volumes[1]] }, 'fx.json'),
+    ).not.toThrow();
+    expect(() =>
+      eng.setScenario({ ...base, flightLevels: levels(10), volumes: own }, 'fx.json'),
+    ).not.toThrow();
+    // And the engine's own choice of levels for a run is checked before its footprints: 11 × 3 is refused.
+    await expect(
+      eng.coverage([{ siteId: E2E_SITES[0].id, typeId: E2E_SENSOR_TYPES[0].id }], levels(11)),
+    ).rejects.toThrow(/^flight levels: found 11 flight levels × 3 targets = 33/);
+  });
+
+  it('the demo scenario passes the check', async () => {
+    const { scenario, locate } = await loadScenario(DEMO_SCENARIO);
+    expect(() => checkNetworkLevels(scenario, scenario.flightLevels, locate)).not.toThrow();
   });
 });

@@ -33,6 +33,7 @@ import {
   cellArcSecThatFits,
   estimateRefusal,
   estimateRun,
+  footprintBytes,
   GiB,
   studyBlame,
   studyRun,
@@ -65,6 +66,7 @@ import {
   analysisGrid,
   buildDemand,
   candidate,
+  checkNetworkLevels,
   coveredPoints,
   layerMeta,
   levelAltitudesM,
@@ -258,7 +260,15 @@ interface Current {
   floor: Float32Array | null;
 }
 
-const FOOTPRINT_CACHE_LIMIT = 600;
+/**
+ * The footprint cache's margin over the memory estimate's footprints (every allowed (site, type) pair once,
+ * worker/core/memory-estimate.ts): the cache holds at most (1 + margin) × that part, least recently used out first,
+ * so moving a site back is often a cache hit while the app stays within the estimate plus this margin.
+ */
+export const FOOTPRINT_CACHE_MARGIN = 0.25;
+
+/** A footprint's bytes as the estimate counts them (its cells and targets). */
+const bytesOf = (fp: Footprint) => footprintBytes(fp.lo.length, 1 + (fp.byTarget?.length ?? 0));
 
 /**
  * The memory the app's engine may plan for (refuse before allocating, as the CLI's --max-memory): the smaller of
@@ -301,7 +311,9 @@ export class Engine {
   private terrain: Terrain | null = null;
   private terrainSummary: TerrainSummary | null = null;
   private study: Study | null = null;
+  /** Footprints by key, least recently used first (Map order); their bytes as the estimate counts them. */
   private readonly footprints = new Map<string, Footprint>();
+  private footprintCacheBytes = 0;
   private current: Current | null = null;
   private compared: { gained: Map<string, Uint8Array>; lost: Map<string, Uint8Array> } | null = null;
   private cancelFlag = 0;
@@ -370,6 +382,7 @@ export class Engine {
     this.compared = null;
     this.lastPlan = null;
     this.footprints.clear();
+    this.footprintCacheBytes = 0;
     this.terrainSummary = summariseTerrain(terrain, tiles, this.options.shared ?? false);
     return { terrain: this.terrainSummary, study: study ? this.adopt(study) : null };
   }
@@ -458,6 +471,7 @@ export class Engine {
   private adopt(study: Study): StudySummary {
     const scenario = study.loaded.scenario;
     this.study = study;
+    this.trimFootprints(new Set());
     // The network stays only if every sensor of it still exists with the same footprint inputs: otherwise the
     // app runs coverage again (and only what changed is computed).
     if (this.current && !this.current.sensors.every((r) => this.cachedFootprint(r) !== null))
@@ -543,8 +557,13 @@ export class Engine {
     const cands = refs.map((r, i) => this.candidateOf(r, `sensors[${i}]`));
     const keys = cands.map((c) => footprintKey(c, study, false));
     const missing = new Map<string, { cand: Candidate; key: string }[]>();
+    const mine = new Set(keys);
     cands.forEach((c, i) => {
-      if (this.footprints.has(keys[i])) return;
+      const hit = this.footprints.get(keys[i]);
+      if (hit) {
+        this.remember(keys[i], hit, mine); // now the most recently used
+        return;
+      }
       const list = missing.get(c.site.id) ?? [];
       if (!list.some((x) => x.key === keys[i])) list.push({ cand: c, key: keys[i] });
       missing.set(c.site.id, list);
@@ -574,7 +593,7 @@ export class Engine {
         },
       );
       // Finished work is kept even when the job was cancelled meanwhile.
-      r.footprints.forEach((fp, i) => this.remember(group[i].key, fp));
+      r.footprints.forEach((fp, i) => this.remember(group[i].key, fp, mine));
       check();
       done++;
       progress?.(from + (span * done) / groups.length, `${group[0].cand.site.name}: done`);
@@ -583,12 +602,50 @@ export class Engine {
     return { footprints, computed: groups.reduce((a, g) => a + g.length, 0) };
   }
 
-  private remember(key: string, fp: Footprint): void {
-    this.footprints.delete(key);
+  /** Puts a footprint last (most recently used), then trims the cache, never dropping the running job's `keep`. */
+  private remember(key: string, fp: Footprint, keep: ReadonlySet<string>): void {
+    const old = this.footprints.get(key);
+    if (old) {
+      this.footprints.delete(key);
+      this.footprintCacheBytes -= bytesOf(old);
+    }
     this.footprints.set(key, fp);
-    while (this.footprints.size > FOOTPRINT_CACHE_LIMIT) {
-      const oldest = this.footprints.keys().next().value!;
-      this.footprints.delete(oldest);
+    this.footprintCacheBytes += bytesOf(fp);
+    this.trimFootprints(keep);
+  }
+
+  /**
+   * The cache's bound, bytes: (1 + FOOTPRINT_CACHE_MARGIN) × the estimate's footprints of the study (every
+   * allowed (site, type) pair, each with every target: worker/core/memory-estimate.ts studyRun, footprintBytes).
+   * A job needs at most one footprint per pair (a site has one position at a time), so its own always fit.
+   */
+  footprintCacheLimitBytes(): number {
+    const study = this.study;
+    if (!study) return 0;
+    const s = study.loaded.scenario;
+    const pairs = studyRun(s, study.grid, study.terrain, study.targets.length).pairs;
+    const per = footprintBytes(study.grid.width * study.grid.height, study.targets.length);
+    return (1 + FOOTPRINT_CACHE_MARGIN) * pairs * per;
+  }
+
+  /** What the footprint cache holds: entries and bytes (as the estimate counts them), and its bound. */
+  footprintCacheInfo(): { entries: number; bytes: number; limitBytes: number } {
+    return {
+      entries: this.footprints.size,
+      bytes: this.footprintCacheBytes,
+      limitBytes: this.footprintCacheLimitBytes(),
+    };
+  }
+
+  /** Drops the least recently used footprints, except `keep`, until the cache is within its bound. */
+  private trimFootprints(keep: ReadonlySet<string>): void {
+    const limit = this.footprintCacheLimitBytes();
+    if (this.footprintCacheBytes <= limit) return;
+    for (const [key, fp] of this.footprints) {
+      if (this.footprintCacheBytes <= limit) break;
+      if (keep.has(key)) continue;
+      this.footprints.delete(key);
+      this.footprintCacheBytes -= bytesOf(fp);
     }
   }
 
@@ -599,6 +656,7 @@ export class Engine {
       if (!Number.isInteger(fl) || fl < 0 || fl > 600)
         throw new InputError('flight levels', String(fl), 'whole flight levels from 0 to 600');
     }
+    checkNetworkLevels(s, list, this.needStudy().loaded.locate, 'flight levels');
     return list;
   }
 

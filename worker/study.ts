@@ -8,7 +8,7 @@ import { InputError } from '../shared/errors.ts';
 import type { Locator, Scenario, Volume } from '../shared/scenario.ts';
 import type { Candidate, CoverageSite } from './core/coverage.ts';
 import type { Footprint } from './core/footprint.ts';
-import { Network } from './core/network.ts';
+import { MAX_NETWORK_LEVELS, Network } from './core/network.ts';
 import { WGS84_GEOGRAPHIC, type GridGeo } from './core/grid.ts';
 import type { PlanInstance } from './core/plan.ts';
 import { buildSensorModel, describeTarget, type SensorModel, type Target } from './core/sensor.ts';
@@ -43,6 +43,7 @@ export interface Study<L extends StudyScenario = StudyScenario> {
 /** Checks the scenario against the terrain and builds the grid, ground, sensor models and volume masks. */
 export function openStudy<L extends StudyScenario>(loaded: L, terrain: Terrain, threads: number): Study<L> {
   const s = loaded.scenario;
+  checkNetworkLevels(s, s.flightLevels, loaded.locate);
   checkAgainstTerrain(s, terrainBounds(terrain), loaded.file, loaded.locate);
   const grid = analysisGrid(loaded, terrain);
   const ground = groundOnGrid(terrain, grid);
@@ -162,6 +163,46 @@ export function studyTargets(s: Scenario): { targets: Target[]; volumeTargets: n
     return i;
   });
   return { targets, volumeTargets };
+}
+
+/**
+ * Refuses, before any footprint, a study whose network could not hold its levels: one bit per flight level and
+ * target (worker/core/network.ts MAX_NETWORK_LEVELS), the targets being the scenario's and each distinct one that
+ * volumes give for themselves (`studyTargets`). `fls` are the levels to compute; `levelsWhere` names where they
+ * come from when they are not the scenario's flightLevels. The message blames the levels when they alone are too
+ * many (or were chosen for this run), else the volumes whose own targets add levels.
+ */
+export function checkNetworkLevels(
+  s: Scenario,
+  fls: readonly number[],
+  locate: Locator,
+  levelsWhere?: string,
+): void {
+  const n = new Set(fls).size;
+  const { targets, volumeTargets } = studyTargets(s);
+  const nT = targets.length;
+  const max = MAX_NETWORK_LEVELS;
+  if (n * nT <= max) return;
+  const own = s.volumes.map((v, i) => ({ id: v.id, i, t: volumeTargets[i] })).filter((v) => v.t > 0);
+  const found =
+    nT === 1
+      ? `${n} flight levels`
+      : `${n} flight levels × ${nT} targets = ${n * nT}: the scenario's target and ${nT - 1} own of volume${own.length > 1 ? 's' : ''} ${own.map((v) => JSON.stringify(v.id)).join(', ')}`;
+  const room = `at most ${max} flight levels × targets in one network`;
+  if (nT === 1 || n > max || levelsWhere !== undefined) {
+    throw new InputError(
+      levelsWhere ?? locate(['flightLevels']),
+      found,
+      nT === 1
+        ? `at most ${max} flight levels in one network`
+        : `${room}: at most ${Math.floor(max / nT)} flight levels with ${nT} targets`,
+    );
+  }
+  throw new InputError(
+    own.length === 1 ? locate(['volumes', own[0].i]) : locate(['volumes']),
+    found,
+    `${room}: with ${n} flight levels at most ${Math.floor(max / n)} targets (let volumes share the scenario's target or one own target), or with ${nT} targets at most ${Math.floor(max / nT)} flight levels`,
+  );
 }
 
 /** The day of the study (the ISA standard day when the scenario gives none). */

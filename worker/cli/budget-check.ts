@@ -3,9 +3,8 @@
  * array exists (worker/core/memory-estimate.ts, shared with the web app's engine), against a limit
  * (`--max-memory`, default the smaller of half this machine's memory and 2 GiB). A run past the limit stops at
  * once with one message naming the input that drives the size and the knob. This file adds what needs Node: the
- * machine's memory, the option, and the tiles' file sizes.
+ * machine's memory and the option (DEM tiles are read within the limit by dem-open.ts).
  */
-import { statSync } from 'node:fs';
 import { totalmem } from 'node:os';
 import { InputError } from '../../shared/errors.ts';
 import {
@@ -13,16 +12,12 @@ import {
   formatBytes,
   GiB,
   MiB,
-  tileFileRefusal,
   tileRefusal,
   type Estimate,
   type EstimatePart,
   type TileShape,
 } from '../core/memory-estimate.ts';
-import type { DemTile } from '../core/terrain.ts';
-import { readDemTile } from '../io/geotiff-read.ts';
 import { helpOption, type Parsed } from './args.ts';
-import { readFileChecked } from './files.ts';
 
 export {
   estimateRun,
@@ -94,37 +89,4 @@ export function checkEstimate(est: Estimate, limit: number, blame: Record<Estima
 export function checkTileShape(t: TileShape, limit: number): void {
   const refusal = tileRefusal(t, limit, '--max-memory');
   if (refusal) throw refusal;
-}
-
-/**
- * Reads DEM tiles within the memory limit: each file's size before it is read, each tile's dimensions at its
- * header before its pixels are decoded. Returns the tiles and the largest one's shape (for `estimateRun`).
- */
-export async function readTilesWithin(
-  paths: readonly string[],
-  limit: number,
-  names: readonly string[] = paths,
-): Promise<{ tiles: DemTile[]; largest: TileShape | undefined }> {
-  const tiles: DemTile[] = [];
-  let largest: TileShape | undefined;
-  const what = 'a GeoTIFF elevation tile (DEM)';
-  for (let i = 0; i < paths.length; i++) {
-    const name = names[i];
-    let fileBytes = 0;
-    try {
-      fileBytes = statSync(paths[i]).size;
-    } catch {
-      throw new InputError(name, 'no such file', what);
-    }
-    const tooBig = tileFileRefusal(name, fileBytes, limit, '--max-memory');
-    if (tooBig) throw tooBig;
-    let shape: TileShape | undefined;
-    const tile = await readDemTile(readFileChecked(paths[i], what), name, (h) => {
-      shape = { name, fileBytes, ...h };
-      checkTileShape(shape, limit);
-    });
-    if (shape && (!largest || shape.width * shape.height > largest.width * largest.height)) largest = shape;
-    tiles.push(tile);
-  }
-  return { tiles, largest };
 }

@@ -12,27 +12,17 @@ import { volumeStats } from '../core/volumes.ts';
 import { featureCollection, stringifyGeoJson } from '../io/geojson.ts';
 import { undated } from '../io/provenance.ts';
 import { NodePool } from '../node-pool.ts';
-import {
-  applyColdDay,
-  coldDayHelp,
-  parseArgs,
-  required,
-  scenarioArg,
-  threadsArg,
-  weatherHelp,
-} from './args.ts';
+import { coldDayHelp, parseArgs, required, scenarioArg, threadsArg, weatherHelp } from './args.ts';
 import { maskLayer } from '../io/layers.ts';
 import { finishRun, RunFolder, runFolderHelp } from './files.ts';
-import { ProgressLine } from './progress.ts';
 import { scenarioProvenance } from './provenance.ts';
 import {
   footprintsFor,
   layoutCandidates,
-  openSession,
+  openCommandSession,
   type Session,
   SESSION_OPTIONS,
   sessionHelp,
-  sessionOptions,
 } from './session.ts';
 
 export const COMPARE_HELP = `airshade compare — two layouts side by side
@@ -92,14 +82,10 @@ export async function compareCommand(argv: readonly string[], log: (s: string) =
   const outDir = required(p, 'out', 'the output folder');
   const run = RunFolder.open(outDir, 'compare');
   const threads = threadsArg(p, NodePool.defaultSize());
-  const progress = new ProgressLine('compare', p.flags.has('quiet'));
-  const session = await openSession(
-    scenarioPath,
-    threads,
-    progress,
-    sessionOptions(p, { path: outDir, kind: 'folder' }),
-  );
-  applyColdDay(p, session.loaded.scenario);
+  const { session, progress } = await openCommandSession(p, 'compare', scenarioPath, threads, {
+    path: outDir,
+    kind: 'folder',
+  });
   const s = session.loaded.scenario;
   const a = layoutCandidates(session, nameA, '--a');
   const b = layoutCandidates(session, nameB, '--b');

@@ -20,29 +20,11 @@ import { stringifyGeoJson } from '../io/geojson.ts';
 import { encodeGeoTiff } from '../io/geotiff-write.ts';
 import { undated } from '../io/provenance.ts';
 import { NodePool } from '../node-pool.ts';
-import {
-  applyColdDay,
-  coldDayHelp,
-  one,
-  parseArgs,
-  required,
-  scenarioArg,
-  threadsArg,
-  weatherHelp,
-} from './args.ts';
+import { coldDayHelp, one, parseArgs, required, scenarioArg, threadsArg, weatherHelp } from './args.ts';
 import { finishRun, RunFolder, runFolderHelp } from './files.ts';
-import { ProgressLine } from './progress.ts';
 import { scenarioProvenance } from './provenance.ts';
 import type { LoadedScenario } from './scenario.ts';
-import {
-  allCandidates,
-  footprintsFor,
-  layoutCandidates,
-  openSession,
-  SESSION_OPTIONS,
-  sessionHelp,
-  sessionOptions,
-} from './session.ts';
+import { footprintsFor, networkChoice, openCommandSession, SESSION_OPTIONS, sessionHelp } from './session.ts';
 import { levelLayers } from '../io/layers.ts';
 
 export { analysisGrid, groundOnGrid, terrainBounds } from '../study.ts';
@@ -109,27 +91,16 @@ export async function coverageCommand(
   const run = RunFolder.open(outDir, 'coverage');
   const threads = threadsArg(p, NodePool.defaultSize());
   const started = performance.now();
-  const progress = new ProgressLine('coverage', p.flags.has('quiet'));
-  const session = await openSession(
-    scenarioPath,
-    threads,
-    progress,
-    sessionOptions(p, { path: outDir, kind: 'folder' }),
-  );
-  applyColdDay(p, session.loaded.scenario);
+  const { session, progress } = await openCommandSession(p, 'coverage', scenarioPath, threads, {
+    path: outDir,
+    kind: 'folder',
+  });
   const s = session.loaded.scenario;
   const grid = session.grid;
   const fls = parseFlightLevels(one(p, 'fl')) ?? s.flightLevels;
   const layoutName = one(p, 'layout');
-  const candidates =
-    layoutName === undefined ? allCandidates(session) : layoutCandidates(session, layoutName, '--layout');
-  const choice = {
-    candidates,
-    label:
-      layoutName === undefined
-        ? `every allowed site and type (${candidates.length} sensors on ${s.sites.length} sites)`
-        : `layout "${layoutName}" (${candidates.length} sensors)`,
-  };
+  const choice = networkChoice(session, layoutName, '--layout');
+  const { candidates } = choice;
   const weather = p.flags.has('weather');
   const sweep = parseKSweep(one(p, 'k-sweep'));
   for (const w of modelWarnings(session)) log(`warning: ${w}`);

@@ -57,18 +57,34 @@ export async function withTilesWithin<T>(
   }
 }
 
-/** The terrain mosaic of DEM files, decoded straight into its one buffer (see `withTilesWithin`). */
+/**
+ * The terrain mosaic of DEM files, decoded straight into its one buffer (see `withTilesWithin`); `names` are the
+ * files as messages name them (default the paths), `shared` puts the mosaic on a SharedArrayBuffer, and
+ * `beforeDecode` sees the headers before any pixel is decoded (to refuse a run early).
+ */
 export async function readTerrainWithin(
   paths: readonly string[],
   limit: number,
-  opts: { shared?: boolean } = {},
+  opts: {
+    shared?: boolean;
+    names?: readonly string[];
+    beforeDecode?: (opened: OpenedTiles) => void;
+  } = {},
 ): Promise<{ terrain: Terrain; largest: TileShape | undefined; firstGeo: PendingTile['geo'] }> {
   if (paths.length === 0) throw new InputError('--dem', 'no DEM given', 'at least one --dem FILE.tif');
-  return withTilesWithin(paths, limit, async ({ tiles, largest }) => ({
-    terrain: await Terrain.fromPendingTiles(tiles, opts),
-    largest,
-    firstGeo: tiles[0].geo,
-  }));
+  return withTilesWithin(
+    paths,
+    limit,
+    async (opened) => {
+      opts.beforeDecode?.(opened);
+      return {
+        terrain: await Terrain.fromPendingTiles(opened.tiles, { shared: opts.shared }),
+        largest: opened.largest,
+        firstGeo: opened.tiles[0].geo,
+      };
+    },
+    opts.names,
+  );
 }
 
 /** A plain object (Terrain may copy it with a moved origin): the header's grid and a decoder into any window. */

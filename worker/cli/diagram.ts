@@ -4,11 +4,11 @@ import { InputError } from '../../shared/errors.ts';
 import { diagramData } from '../core/diagram.ts';
 import { dayText, studyConventions, studyDay, studyTarget } from '../study.ts';
 import { buildSensorModel } from '../core/sensor.ts';
-import { Terrain } from '../core/terrain.ts';
 import { renderDiagramSvg } from '../io/diagram-svg.ts';
 import { applyColdDay, coldDayHelp, numberArg, one, parseArgs, required, weatherHelp } from './args.ts';
 import { writeOutputFile } from './files.ts';
-import { memoryLimitArg, readTilesWithin } from './budget-check.ts';
+import { memoryLimitArg } from './budget-check.ts';
+import { readTerrainWithin } from './dem-open.ts';
 import { checkOutput } from './out-check.ts';
 import { SESSION_OPTIONS, sessionHelp } from './session.ts';
 import { workLimitArg } from './work-check.ts';
@@ -105,7 +105,7 @@ export async function diagramCommand(argv: readonly string[], log: (s: string) =
       `the id of a sensor type in ${loaded.file} (${s.sensorTypes.map((t) => t.id).join(', ')})`,
     );
   const model = buildSensorModel(s.sensorTypes[ti], loaded.locate(['sensorTypes', ti]));
-  const terrain = Terrain.fromTiles((await readTilesWithin(loaded.terrainPaths, memoryLimit)).tiles);
+  const { terrain } = await readTerrainWithin(loaded.terrainPaths, memoryLimit);
   const [lon, lat] = site.geometry.coordinates;
   for (const w of model.warnings) log(`warning: ${w}`);
   const data = diagramData(

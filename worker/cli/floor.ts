@@ -4,7 +4,7 @@ import { CAUTION } from '../../shared/caution.ts';
 import { InputError } from '../../shared/errors.ts';
 import { DEFAULT_K_FACTOR, EARTH_RADIUS_M } from '../../shared/units.ts';
 import { computeFloor, inlineExecutor, type FloorResult } from '../core/floor.ts';
-import type { Terrain } from '../core/terrain.ts';
+import { Terrain } from '../core/terrain.ts';
 import type { GridGeo } from '../core/grid.ts';
 import { encodeGeoTiffParts, geoTiffCrsProblem } from '../io/geotiff-write.ts';
 import { undated } from '../io/provenance.ts';
@@ -115,6 +115,27 @@ export async function floorCommand(argv: readonly string[], log: (s: string) => 
     firstGeo: outGeo,
   } = await readTerrainWithin(dems, memoryLimit, {
     shared: threads > 0,
+    // One tile is the whole mosaic: its header alone gives the memory estimate, so a run too large is refused
+    // before its pixels are decoded (with more tiles the mosaic's extent is known once it is planned: after).
+    beforeDecode: ({ tiles, largest }) => {
+      if (tiles.length !== 1) return;
+      const g = tiles[0].geo;
+      const { px, sitePixel } = siteOnGrid(g, site);
+      // An antenna off the tile is refused after the read, by the site check, naming --site.
+      const onTile =
+        sitePixel.col >= 0 && sitePixel.col <= g.width && sitePixel.row >= 0 && sitePixel.row <= g.height;
+      if (onTile && [px.x, px.y].every(Number.isFinite)) {
+        checkFloorMemory({
+          terrainPixels: g.width * g.height,
+          outGeo: g,
+          px,
+          sitePixel,
+          maxRangeM,
+          largest,
+          memoryLimit,
+        });
+      }
+    },
   });
   const tRead = performance.now();
   checkFloorRun(terrain, outGeo, site, maxRangeM, largest, memoryLimit, { threads, limitMin: workLimitMin });
@@ -194,12 +215,54 @@ function checkFloorRun(
     );
   }
   const px = terrain.metresPerPixel(site.lon, site.lat);
+  const terrainPixels = terrain.geo.width * terrain.geo.height;
+  const { reachM, pixelM, rangeBlame } = checkFloorMemory({
+    terrainPixels,
+    outGeo,
+    px,
+    sitePixel: siteOnGrid(outGeo, site).sitePixel,
+    maxRangeM,
+    largest,
+    memoryLimit,
+  });
+  // The same layout in time: one sweep (the bound of budget-check.ts) and the resample onto the DEM's cells.
+  const workEst = estimateWork({
+    sweeps: [{ reachM, rangeStepM: 0.75 * pixelM, arcStepM: 1.5 * pixelM }],
+    terrainAreaM2: terrainPixels * px.x * px.y,
+    cells: outGeo.width * outGeo.height,
+    sites: 1,
+    pairs: 0,
+    targets: 1,
+    levels: 0,
+    threads: work.threads,
+  });
+  checkWork(workEst, work.limitMin, { sweeps: rangeBlame, cells: '--dem' });
+}
+
+/**
+ * The run's memory against the limit, from the mosaic's size in pixels, the first DEM's grid (`outGeo`) and the
+ * ground size of a pixel at the antenna (`px`): the horizon grows with the range squared over the pixel squared.
+ */
+function checkFloorMemory(run: {
+  terrainPixels: number;
+  outGeo: GridGeo;
+  px: { x: number; y: number };
+  maxRangeM: number | undefined;
+  largest: Parameters<typeof estimateRun>[0]['largestTile'];
+  memoryLimit: number;
+  /** The antenna in (continuous) pixel coordinates of `outGeo`. */
+  sitePixel: { col: number; row: number };
+}): { reachM: number; pixelM: number; rangeBlame: string } {
+  const { terrainPixels, outGeo, px, maxRangeM, largest, memoryLimit, sitePixel } = run;
   const pixelM = Math.min(px.x, px.y);
-  // The default range reaches the farthest cell of the first DEM: its diagonal bounds it.
-  const diagonalM = Math.hypot(outGeo.width * px.x, outGeo.height * px.y);
-  const reachM = Math.min(maxRangeM ?? diagonalM, 2_000_000);
+  // The default range reaches the farthest cell of the first DEM: the farthest of its corners from the antenna.
+  let farthestM = 0;
+  for (const cx of [0, outGeo.width])
+    for (const cy of [0, outGeo.height])
+      farthestM = Math.max(farthestM, Math.hypot((cx - sitePixel.col) * px.x, (cy - sitePixel.row) * px.y));
+  const reachM = Math.min(maxRangeM ?? farthestM, 2_000_000);
   const est = estimateRun({
-    terrainPixels: terrain.geo.width * terrain.geo.height,
+    terrainPixels,
     largestTile: largest,
     cells: outGeo.width * outGeo.height,
     sites: 1,
@@ -211,6 +274,10 @@ function checkFloorRun(
     rangeStepM: 0.75 * pixelM,
     arcStepM: 1.5 * pixelM,
     horizonsInFlight: 1,
+    // A floor run keeps the floor and the ground under it (Float32 each) per output cell, and reads its tiles
+    // through the fused path.
+    gridBytesPerCell: 8,
+    streamedTiles: true,
   });
   const rangeBlame =
     maxRangeM === undefined
@@ -222,18 +289,23 @@ function checkFloorRun(
     footprints: '--dem',
     horizons: rangeBlame,
   });
-  // The same layout in time: one sweep (the bound of budget-check.ts) and the resample onto the DEM's cells.
-  const workEst = estimateWork({
-    sweeps: [{ reachM, rangeStepM: 0.75 * pixelM, arcStepM: 1.5 * pixelM }],
-    terrainAreaM2: terrain.geo.width * terrain.geo.height * px.x * px.y,
-    cells: outGeo.width * outGeo.height,
-    sites: 1,
-    pairs: 0,
-    targets: 1,
-    levels: 0,
-    threads: work.threads,
-  });
-  checkWork(workEst, work.limitMin, { sweeps: rangeBlame, cells: '--dem' });
+  return { reachM, pixelM, rangeBlame };
+}
+
+/**
+ * The ground size (m) of a pixel of `geo` at `at` and `at`'s pixel coordinates, before the mosaic exists:
+ * `Terrain.metresPerPixel` and `lonLatToPixel` read only the grid's origin, pixel size and CRS, so a one-pixel
+ * terrain on that grid gives the mosaic's own figures.
+ */
+function siteOnGrid(
+  geo: GridGeo,
+  at: { lon: number; lat: number },
+): { px: { x: number; y: number }; sitePixel: { col: number; row: number } } {
+  const one = { ...geo, width: 1, height: 1 };
+  const stub = Terrain.fromParts({ geo: one, data: new Float32Array(1), warnings: [], sources: [] });
+  const xy = [0, 0];
+  stub.lonLatToPixel(at.lon, at.lat, xy);
+  return { px: stub.metresPerPixel(at.lon, at.lat), sitePixel: { col: xy[0], row: xy[1] } };
 }
 
 /** The terrain heights under `geo`'s cells when `geo` lies on the terrain lattice (it does for the first tile). */

@@ -25,7 +25,8 @@ import {
 import { one, parseArgs, required } from './args.ts';
 import { readFileChecked, writeOutputFile } from './files.ts';
 import { ProgressLine } from './progress.ts';
-import { MEMORY_OPTION, memoryHelp, memoryLimitArg, readTilesWithin } from './budget-check.ts';
+import { MEMORY_OPTION, memoryHelp, memoryLimitArg } from './budget-check.ts';
+import { readTerrainWithin } from './dem-open.ts';
 import { checkOutput } from './out-check.ts';
 import { commandOptions, readDigest, toolVersion } from './provenance.ts';
 
@@ -208,9 +209,9 @@ export async function initCommand(argv: readonly string[], log: (s: string) => v
   for (let i = 0; i < dems.length; i++) {
     progress.update(i / dems.length, `reading ${dems[i]}`);
     // Only the georeferencing is kept: one tile's samples in memory at a time.
-    const t = (await readTilesWithin([dems[i]], memoryLimit)).tiles[0];
-    tiles.push({ ref: refFrom(studyDir, dems[i]), name: dems[i], geo: t.geo });
-    tileWarnings.push(...t.warnings);
+    const t = await readTerrainWithin([dems[i]], memoryLimit);
+    tiles.push({ ref: refFrom(studyDir, dems[i]), name: dems[i], geo: t.firstGeo });
+    tileWarnings.push(...t.terrain.warnings);
   }
   progress.update(1, 'building the study');
   const study = buildNewStudy({

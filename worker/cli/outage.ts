@@ -12,31 +12,19 @@ import { outageTable } from '../core/outage.ts';
 import { featureCollection, stringifyGeoJson } from '../io/geojson.ts';
 import { undated } from '../io/provenance.ts';
 import { NodePool } from '../node-pool.ts';
-import {
-  applyColdDay,
-  coldDayHelp,
-  one,
-  parseArgs,
-  required,
-  scenarioArg,
-  threadsArg,
-  weatherHelp,
-} from './args.ts';
+import { coldDayHelp, one, parseArgs, required, scenarioArg, threadsArg, weatherHelp } from './args.ts';
 import { maskLayer } from '../io/layers.ts';
 import { finishRun, RunFolder, runFolderHelp } from './files.ts';
-import { ProgressLine } from './progress.ts';
 import { scenarioProvenance } from './provenance.ts';
 import {
-  allCandidates,
   candidate,
   footprintsFor,
-  layoutCandidates,
-  openSession,
+  networkChoice,
+  openCommandSession,
   siteOf,
   type Session,
   SESSION_OPTIONS,
   sessionHelp,
-  sessionOptions,
 } from './session.ts';
 
 export const OUTAGE_HELP = `airshade outage — what is lost when a site goes down
@@ -120,21 +108,15 @@ export async function outageCommand(argv: readonly string[], log: (s: string) =>
     throw new InputError('--layout', 'both --plan and --layout', 'one of them');
   const threads = threadsArg(p, NodePool.defaultSize());
   const started = performance.now();
-  const progress = new ProgressLine('outage', p.flags.has('quiet'));
-  const session = await openSession(
-    scenarioPath,
-    threads,
-    progress,
-    sessionOptions(p, { path: outDir, kind: 'folder' }),
-  );
-  applyColdDay(p, session.loaded.scenario);
+  const { session, progress } = await openCommandSession(p, 'outage', scenarioPath, threads, {
+    path: outDir,
+    kind: 'folder',
+  });
   const s = session.loaded.scenario;
   const sensors =
     planPath !== undefined
       ? planCandidates(session, planPath)
-      : layoutName !== undefined
-        ? layoutCandidates(session, layoutName, '--layout')
-        : allCandidates(session);
+      : networkChoice(session, layoutName, '--layout').candidates;
   const label =
     planPath ?? (layoutName !== undefined ? `layout "${layoutName}"` : 'every allowed site and type');
   const siteIds = p.values.get('site');

@@ -21,7 +21,6 @@ import { stringifyGeoJson } from '../io/geojson.ts';
 import { undated } from '../io/provenance.ts';
 import { NodePool } from '../node-pool.ts';
 import {
-  applyColdDay,
   coldDayHelp,
   numberArg,
   one,
@@ -34,18 +33,16 @@ import {
 import { levelLayers } from '../io/layers.ts';
 import { buildDemand, coveredPoints, type Demand } from '../study.ts';
 import { finishRun, RunFolder, runFolderHelp } from './files.ts';
-import { ProgressLine } from './progress.ts';
 import { scenarioProvenance } from './provenance.ts';
 import {
   allCandidates,
   footprintsFor,
   layoutCandidates,
-  openSession,
+  openCommandSession,
   siteOf,
   type Session,
   SESSION_OPTIONS,
   sessionHelp,
-  sessionOptions,
 } from './session.ts';
 
 export const PLAN_HELP = `airshade plan — the cheapest sites and sensor types that meet the airspace's requirements
@@ -112,14 +109,10 @@ export async function planCommand(argv: readonly string[], log: (s: string) => v
       : numberArg('time-limit-s', limitText, 0.1, 3600, 'a time limit in seconds from 0.1 to 3600') * 1000;
   const solverNodes = solverNodesArg(one(p, 'solver-nodes'));
   const started = performance.now();
-  const progress = new ProgressLine('plan', p.flags.has('quiet'));
-  const session = await openSession(
-    scenarioPath,
-    threads,
-    progress,
-    sessionOptions(p, { path: outDir, kind: 'folder' }),
-  );
-  applyColdDay(p, session.loaded.scenario);
+  const { session, progress } = await openCommandSession(p, 'plan', scenarioPath, threads, {
+    path: outDir,
+    kind: 'folder',
+  });
   const s = session.loaded.scenario;
   const budgetText = one(p, 'budget');
   const budget =

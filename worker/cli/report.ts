@@ -17,29 +17,18 @@ import type { Provenance } from '../io/provenance.ts';
 import { buildReportHtml, type ReportPlan } from '../io/report-html.ts';
 import { buildReportModel } from '../io/report-model.ts';
 import { NodePool } from '../node-pool.ts';
-import {
-  applyColdDay,
-  coldDayHelp,
-  one,
-  parseArgs,
-  required,
-  scenarioArg,
-  threadsArg,
-  weatherHelp,
-} from './args.ts';
+import { coldDayHelp, one, parseArgs, required, scenarioArg, threadsArg, weatherHelp } from './args.ts';
 import { readFileChecked, writeOutputFile } from './files.ts';
 import type { Candidate } from '../core/coverage.ts';
 import { planCandidates } from './outage.ts';
-import { ProgressLine } from './progress.ts';
 import { scenarioProvenance } from './provenance.ts';
 import {
   footprintsFor,
   networkChoice,
-  openSession,
+  openCommandSession,
   type Session,
   SESSION_OPTIONS,
   sessionHelp,
-  sessionOptions,
 } from './session.ts';
 
 export const REPORT_HELP = `airshade report — one self-contained HTML report of a network, for a safety case
@@ -232,14 +221,10 @@ export async function reportCommand(argv: readonly string[], log: (s: string) =>
   const threads = threadsArg(p, NodePool.defaultSize());
   const weather = p.flags.has('weather');
   const started = performance.now();
-  const progress = new ProgressLine('report', p.flags.has('quiet'));
-  const session = await openSession(
-    scenarioPath,
-    threads,
-    progress,
-    sessionOptions(p, { path: outPath, kind: 'file' }),
-  );
-  applyColdDay(p, session.loaded.scenario);
+  const { session, progress } = await openCommandSession(p, 'report', scenarioPath, threads, {
+    path: outPath,
+    kind: 'file',
+  });
   const s = session.loaded.scenario;
   const planPath = one(p, 'plan');
   const planRead =

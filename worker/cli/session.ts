@@ -5,7 +5,8 @@
 import { computeFootprints, type Candidate } from '../core/coverage.ts';
 import { inlineExecutor } from '../core/floor.ts';
 import type { Footprint } from '../core/footprint.ts';
-import { Terrain } from '../core/terrain.ts';
+import { studyBlame, studyRun } from '../core/memory-estimate.ts';
+import type { Terrain } from '../core/terrain.ts';
 import { NodePool } from '../node-pool.ts';
 import {
   allCandidates,
@@ -18,18 +19,18 @@ import {
 } from '../study.ts';
 import type { GridGeo } from '../core/grid.ts';
 import { NM_M } from '../../shared/units.ts';
-import type { Parsed } from './args.ts';
+import { applyColdDay, type Parsed } from './args.ts';
 import {
   checkEstimate,
   estimateRun,
   MEMORY_OPTION,
   memoryHelp,
   memoryLimitArg,
-  readTilesWithin,
   type TileShape,
 } from './budget-check.ts';
+import { readTerrainWithin } from './dem-open.ts';
 import { checkOutput } from './out-check.ts';
-import type { ProgressLine } from './progress.ts';
+import { ProgressLine } from './progress.ts';
 import {
   checkWork,
   estimateWork,
@@ -91,6 +92,23 @@ export function sessionOptions(p: Parsed, out?: SessionOptions['out']): SessionO
   };
 }
 
+/**
+ * How a scenario command opens its study: its progress line (named `command`, silent with --quiet), the session
+ * with the command line's options and the output `out` checked, and the cold day (--cold-day) applied.
+ */
+export async function openCommandSession(
+  p: Parsed,
+  command: string,
+  scenarioPath: string,
+  threads: number,
+  out: NonNullable<SessionOptions['out']>,
+): Promise<{ session: Session; progress: ProgressLine }> {
+  const progress = new ProgressLine(command, p.flags.has('quiet'));
+  const session = await openSession(scenarioPath, threads, progress, sessionOptions(p, out));
+  applyColdDay(p, session.loaded.scenario);
+  return { session, progress };
+}
+
 export async function openSession(
   path: string,
   threads: number,
@@ -114,12 +132,10 @@ export async function openSession(
   const limit =
     opts.maxMemoryBytes ?? memoryLimitArg({ positional: [], values: new Map(), flags: new Set() });
   progress.update(0, 'reading terrain');
-  const { tiles, largest } = await readTilesWithin(
-    loaded.terrainPaths,
-    limit,
-    loaded.scenario.terrain.files.map((_, i) => loaded.locate(['terrain', 'files', i])),
-  );
-  const terrain = Terrain.fromTiles(tiles, { shared: threads > 0 });
+  const { terrain, largest } = await readTerrainWithin(loaded.terrainPaths, limit, {
+    shared: threads > 0,
+    names: loaded.scenario.terrain.files.map((_, i) => loaded.locate(['terrain', 'files', i])),
+  });
   checkStudyMemory(loaded, terrain, largest, limit);
   checkStudyWork(
     loaded,
@@ -142,38 +158,8 @@ export function checkStudyMemory(
 ): void {
   const s = loaded.scenario;
   const grid: GridGeo = analysisGrid(loaded, terrain);
-  const cells = grid.width * grid.height;
-  const typeCount = s.sensorTypes.length;
-  const pairs = s.sites.reduce((n, f) => n + (f.properties.allowedTypes?.length ?? typeCount), 0);
-  const reachM = Math.min(
-    s.maxRangeKm * 1000,
-    Math.max(0, ...s.sensorTypes.map((t) => t.instrumentedRangeNm * NM_M)),
-  );
-  const lat = grid.originY + (grid.height / 2) * grid.pixelY;
-  const lon = grid.originX + (grid.width / 2) * grid.pixelX;
-  const px = terrain.metresPerPixel(lon, lat);
-  const cellM = Math.min(grid.pixelX * Math.cos((lat * Math.PI) / 180), -grid.pixelY) * 111_320;
-  const est = estimateRun({
-    terrainPixels: terrain.geo.width * terrain.geo.height,
-    largestTile: largest,
-    cells,
-    sites: s.sites.length,
-    pairs,
-    levels: s.flightLevels.length,
-    targets: studyTargets(s).targets.length,
-    volumes: s.volumes.length,
-    reachM,
-    rangeStepM: Math.min(px.x, px.y) || cellM,
-    arcStepM: 0.75 * cellM,
-    horizonsInFlight: 2,
-  });
-  const cell = `${loaded.locate(['grid', 'cellArcSec'])} (${s.grid.cellArcSec}″: ${grid.width} × ${grid.height} cells)`;
-  checkEstimate(est, limit, {
-    terrain: loaded.locate(['terrain', 'files']),
-    grid: cell,
-    footprints: `${cell} with ${pairs} (site, type) pairs`,
-    horizons: `${cell} out to ${(reachM / 1000).toFixed(0)} km (maxRangeKm, the types' instrumented range)`,
-  });
+  const run = studyRun(s, grid, terrain, studyTargets(s).targets.length, largest);
+  checkEstimate(estimateRun(run.shape), limit, studyBlame(loaded.locate, s, grid, run));
 }
 
 /**

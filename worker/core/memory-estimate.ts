@@ -68,6 +68,16 @@ export interface RunShape {
   arcStepM: number;
   /** Horizons alive at once (a floor run: 1; coverage's pipeline: 2). */
   horizonsInFlight: number;
+  /**
+   * Bytes per analysis cell when the run keeps fewer arrays than a study's network (a floor run: its floor and the
+   * ground under it, two Float32 per cell); default the study's layout below.
+   */
+  gridBytesPerCell?: number;
+  /**
+   * The tiles are read through the CLI's fused path (worker/cli/dem-open.ts): an uncompressed tile is decoded
+   * straight into the mosaic through one buffer of at most 4 MiB, so it adds no copy of itself.
+   */
+  streamedTiles?: boolean;
 }
 
 export type EstimatePart = 'terrain' | 'grid' | 'footprints' | 'horizons';
@@ -82,15 +92,29 @@ export function horizonSamples(reachM: number, rangeStepM: number, arcStepM: num
   return (Math.PI * reachM * reachM) / (0.75 * rangeStepM * arcStepM) + (2 * Math.PI * reachM) / arcStepM;
 }
 
+/**
+ * One (site, type) footprint with its other targets' (worker/core/footprint.ts: lo and hi, Uint16 per cell and
+ * target; a target the type cannot tell apart shares the arrays, so this is an upper bound). The estimate counts
+ * every allowed pair once; the app's footprint cache (worker/engine.ts) is bounded with the same figure.
+ */
+export function footprintBytes(cells: number, targets: number): number {
+  return cells * targets * 4;
+}
+
 export function estimateRun(s: RunShape): Estimate {
   const tile = s.largestTile;
-  const terrain =
-    s.terrainPixels * 4 + (tile ? tile.fileBytes + tile.width * tile.height * (tile.bytesPerSample + 4) : 0);
+  const uncompressed = tile !== undefined && tile.fileBytes >= tile.width * tile.height * tile.bytesPerSample;
+  const tileBytes = !tile
+    ? 0
+    : s.streamedTiles && uncompressed
+      ? 4 * MiB
+      : tile.fileBytes + tile.width * tile.height * (tile.bytesPerSample + 4);
+  const terrain = s.terrainPixels * 4 + tileBytes;
   const levelBits = s.levels * s.targets;
   const bitBytes = levelBits <= 8 ? 1 : levelBits <= 16 ? 2 : 4;
   const perCell = 4 + s.volumes + s.sites * bitBytes + 3 * levelBits * 2 + 4 /* network floor */ + 2 * 8;
-  const grid = s.cells * perCell;
-  const footprints = s.cells * s.pairs * s.targets * 4;
+  const grid = s.cells * (s.gridBytesPerCell ?? perCell);
+  const footprints = s.pairs * footprintBytes(s.cells, s.targets);
   const horizons = horizonSamples(s.reachM, s.rangeStepM, s.arcStepM) * 4 * s.horizonsInFlight;
   const bytes = RUNTIME_BYTES + OVERHEAD * (terrain + grid + footprints + horizons);
   return { bytes, parts: { terrain, grid, footprints, horizons } };

@@ -18,6 +18,12 @@ export type FoldKind = (typeof KINDS)[number];
 
 type Bits = Uint8Array | Uint16Array | Uint32Array;
 
+/**
+ * Flight levels × targets one network keeps: one bit each in a cell's 32-bit word. worker/study.ts
+ * `checkNetworkLevels` refuses a study beyond it when the scenario loads, before any footprint.
+ */
+export const MAX_NETWORK_LEVELS = 32;
+
 export class Network {
   /** fold[kindIndex·L + target·flCount + flIndex][cell] (L = targets·flCount) = distinct sites (exact to 65 535). */
   readonly fold: Uint16Array[];
@@ -54,11 +60,11 @@ export class Network {
       throw new Error('Network: every footprint must carry the same targets');
     }
     const levels = nT * altitudesM.length;
-    if (levels > 32) {
+    if (levels > MAX_NETWORK_LEVELS) {
       throw new InputError(
         'flightLevels',
         `${altitudesM.length} levels${nT > 1 ? ` × ${nT} targets (the scenario's and the volumes' own)` : ''}`,
-        'at most 32 flight levels (times targets) in one network',
+        `at most ${MAX_NETWORK_LEVELS} flight levels (times targets) in one network`,
       );
     }
     this.targetCount = nT;

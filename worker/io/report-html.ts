@@ -15,7 +15,9 @@
  * every vector (outlines, coast, sites, graticule) is placed with the spherical Mercator of EPSG:3857:
  * x = R(λ − λ0), y = R ln tan(π/4 + φ/2); its scale factor is sec φ in every direction (Snyder, Map Projections —
  * A Working Manual, USGS Professional Paper 1395, 1987, §7), so the scale bar is drawn true at its own latitude and
- * says which.
+ * says which. Longitudes are placed within ±180° of the map's middle (worker/core/terrain.ts `nearLon`, the rule
+ * the terrain, the sites and the volumes' cells follow), so on a study across 180° a vertex or site given as
+ * −179.8° is drawn east of 180°, beside its neighbours, not at the map's other edge.
  */
 import type { MultiPolygonCoords } from '../core/contour.ts';
 import type { SiteLoss } from '../core/outage.ts';
@@ -23,6 +25,7 @@ import type { VolumeLevelStats } from '../core/volumes.ts';
 import type { StudyConventions } from '../study.ts';
 import type { Bounds } from '../render.ts';
 import { NM_M } from '../../shared/units.ts';
+import { nearLon } from '../core/terrain.ts';
 import { escapeXml } from './diagram-svg.ts';
 import type { Provenance } from './provenance.ts';
 import type { ReportImage, ReportLegendEntry, ReportMap } from './report-maps.ts';
@@ -196,11 +199,12 @@ export function mapFrame(bounds: Bounds): MapFrame {
   const ys = mercY(south);
   const width = MAP_WIDTH;
   const height = (width * (yn - ys)) / ((east - west) * DEG);
+  const mid = (west + east) / 2;
   return {
     bounds,
     width,
     height,
-    x: (lon) => ((lon - west) / (east - west)) * width,
+    x: (lon) => ((nearLon(lon, mid) - west) / (east - west)) * width,
     y: (lat) => ((yn - mercY(lat)) / (yn - ys)) * height,
     lat: (y) => invMercY(yn - (y / height) * (yn - ys)),
   };
@@ -258,8 +262,15 @@ function degText(v: number, pos: string, neg: string): string {
   return `${t}°${v === 0 ? '' : ' ' + (v > 0 ? pos : neg)}`;
 }
 
+/** A longitude as a label, within ±180° (a study across 180° runs on past it: 180.5 is 179.5° W). */
+function lonText(lon: number): string {
+  const l = +nearLon(lon, 0).toFixed(6);
+  return Math.abs(l) === 180 ? '180°' : degText(l, 'E', 'W');
+}
+
 /** What every map shares, drawn once (a hidden SVG) and used by reference: patterns, coast, volumes, sites. */
 function sharedDefs(m: ReportModel, f: MapFrame): string {
+  const mid = (f.bounds.west + f.bounds.east) / 2;
   const coast = m.coast && m.coast.length > 0 ? ringsPath(m.coast, f) : '';
   const volumes = m.volumes
     .map((v, i) => {
@@ -273,8 +284,9 @@ function sharedDefs(m: ReportModel, f: MapFrame): string {
       for (const p of coords)
         for (const r of p)
           for (const c of r) {
-            w = Math.min(w, c[0]);
-            e = Math.max(e, c[0]);
+            const lon = nearLon(c[0], mid);
+            w = Math.min(w, lon);
+            e = Math.max(e, lon);
             so = Math.min(so, c[1]);
             no = Math.max(no, c[1]);
           }
@@ -315,7 +327,7 @@ function graticule(f: MapFrame): { lines: string; labels: string } {
     const x = r1(f.x(lon));
     lines.push(`<line x1="${x}" y1="0" x2="${x}" y2="${r1(f.height)}" class="grat"/>`);
     labels.push(
-      `<text x="${x}" y="${r1(f.height + 27)}" text-anchor="middle" class="tick">${degText(+lon.toFixed(6), 'E', 'W')}</text>`,
+      `<text x="${x}" y="${r1(f.height + 27)}" text-anchor="middle" class="tick">${lonText(lon)}</text>`,
     );
   }
   const sy = graticuleStep(north - south);

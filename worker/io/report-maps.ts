@@ -107,11 +107,19 @@ function over(base: RasterImage, top: RasterImage): RasterImage {
   return { ...base, rgba: out };
 }
 
-/** The coastline: the cells with ground above 0 m as lon/lat polygons (cell edges). */
+/**
+ * The coastline: the cells with ground above 0 m as lon/lat polygons (cell edges), for drawing. The rings are
+ * traced on the grid moved to be centred on 0° and moved back, so a grid across 180° is not cut there (a cut, right
+ * for GeoJSON layers, would draw a false coast along the meridian): longitudes run on past 180° with the grid's own.
+ */
 export function coastPolygons(grid: GridGeo, ground: Float32Array): MultiPolygonCoords {
   const land = new Uint8Array(ground.length);
   for (let i = 0; i < ground.length; i++) land[i] = ground[i] > 0 ? 1 : 0;
-  return maskToPolygons(land, grid.width, grid.height, grid);
+  const geographic = grid.crs.kind === 'geographic';
+  const mid = geographic ? grid.originX + (grid.width * grid.pixelX) / 2 : 0;
+  if (mid === 0) return maskToPolygons(land, grid.width, grid.height, grid);
+  const polys = maskToPolygons(land, grid.width, grid.height, { ...grid, originX: grid.originX - mid });
+  return polys.map((poly) => poly.map((ring) => ring.map(([lon, lat]) => [lon + mid, lat])));
 }
 
 export interface ReportMapsInput {
