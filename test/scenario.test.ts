@@ -797,6 +797,24 @@ describe('flight levels × targets beyond what one network holds: refused when t
     expect(existsSync(join(cli.out, 'summary.json'))).toBe(false);
   });
 
+  it('33 flight levels with --fl picking fewer: the run checks the levels it computes, and runs', async () => {
+    const path = join(e2e.dir, 'fl33-pick.json');
+    write(path, { ...e2e.scenario, flightLevels: levels(33) });
+    const out = join(e2e.dir, 'fl33-pick-out');
+    const picked = levels(33).slice(0, 2).join(',');
+    const ok = await runCli('coverage', path, '--fl', picked, '--out', out, '--threads', '0', '--quiet');
+    expect(ok.err).toBe('');
+    expect(ok.code).toBe(0);
+    expect(existsSync(join(out, 'summary.json'))).toBe(true);
+    // Too many picked: the refusal names --fl.
+    const all = levels(33).join(',');
+    const bad = await runCli('coverage', path, '--fl', all, '--out', out + '2', '--threads', '0', '--quiet');
+    expect(bad.code).toBe(2);
+    expect(bad.err).toContain(
+      '--fl: found 33 flight levels; expected at most 32 flight levels in one network',
+    );
+  });
+
   it('the app engine refuses the same scenario with the same words, and keeps the study it had', async () => {
     const eng = await engineWith({});
     const base = docOf((await loadScenario(e2e.scenarioPath)).scenario);

@@ -41,9 +41,16 @@ export interface Study<L extends StudyScenario = StudyScenario> {
 }
 
 /** Checks the scenario against the terrain and builds the grid, ground, sensor models and volume masks. */
-export function openStudy<L extends StudyScenario>(loaded: L, terrain: Terrain, threads: number): Study<L> {
+export function openStudy<L extends StudyScenario>(
+  loaded: L,
+  terrain: Terrain,
+  threads: number,
+  /** The levels this run computes when not the scenario's (`coverage --fl`), and where they were given. */
+  runLevels?: { list: readonly number[]; where: string },
+): Study<L> {
   const s = loaded.scenario;
-  checkNetworkLevels(s, s.flightLevels, loaded.locate);
+  if (runLevels) checkNetworkLevels(s, runLevels.list, loaded.locate, runLevels.where);
+  else checkNetworkLevels(s, s.flightLevels, loaded.locate);
   checkAgainstTerrain(s, terrainBounds(terrain), loaded.file, loaded.locate);
   const grid = analysisGrid(loaded, terrain);
   const ground = groundOnGrid(terrain, grid);

@@ -91,13 +91,18 @@ export async function coverageCommand(
   const run = RunFolder.open(outDir, 'coverage');
   const threads = threadsArg(p, NodePool.defaultSize());
   const started = performance.now();
-  const { session, progress } = await openCommandSession(p, 'coverage', scenarioPath, threads, {
-    path: outDir,
-    kind: 'folder',
-  });
+  const flArg = parseFlightLevels(one(p, 'fl'));
+  const { session, progress } = await openCommandSession(
+    p,
+    'coverage',
+    scenarioPath,
+    threads,
+    { path: outDir, kind: 'folder' },
+    flArg && { list: flArg, where: '--fl' },
+  );
   const s = session.loaded.scenario;
   const grid = session.grid;
-  const fls = parseFlightLevels(one(p, 'fl')) ?? s.flightLevels;
+  const fls = flArg ?? s.flightLevels;
   const layoutName = one(p, 'layout');
   const choice = networkChoice(session, layoutName, '--layout');
   const { candidates } = choice;

@@ -80,6 +80,8 @@ export interface SessionOptions {
   allowOutsidePaths?: boolean;
   /** The output (checked once the inputs are known, before the terrain is read): a folder or a file. */
   out?: { path: string; kind: 'file' | 'folder' };
+  /** The levels the run computes when not the scenario's (`coverage --fl`), and the argument that gave them. */
+  runLevels?: { list: readonly number[]; where: string };
 }
 
 /** The session options as the command line gives them (`out` from the command itself). */
@@ -102,9 +104,13 @@ export async function openCommandSession(
   scenarioPath: string,
   threads: number,
   out: NonNullable<SessionOptions['out']>,
+  runLevels?: SessionOptions['runLevels'],
 ): Promise<{ session: Session; progress: ProgressLine }> {
   const progress = new ProgressLine(command, p.flags.has('quiet'));
-  const session = await openSession(scenarioPath, threads, progress, sessionOptions(p, out));
+  const session = await openSession(scenarioPath, threads, progress, {
+    ...sessionOptions(p, out),
+    runLevels,
+  });
   applyColdDay(p, session.loaded.scenario);
   return { session, progress };
 }
@@ -143,7 +149,7 @@ export async function openSession(
     threads,
     opts.maxWorkMin ?? workLimitArg({ positional: [], values: new Map(), flags: new Set() }),
   );
-  return openStudy(loaded, terrain, threads);
+  return openStudy(loaded, terrain, threads, opts.runLevels);
 }
 
 /**
