@@ -26,7 +26,13 @@ export default tseslint.config(
   },
   {
     // The compute core is pure: no DOM, no Node file system, no network.
-    files: ['worker/core/**/*.ts', 'worker/io/**/*.ts', 'worker/api.ts', 'shared/**/*.ts'],
+    files: [
+      'worker/core/**/*.ts',
+      'worker/io/**/*.ts',
+      'worker/demo/**/*.ts',
+      'worker/runtime/api.ts',
+      'shared/**/*.ts',
+    ],
     rules: {
       'no-restricted-imports': [
         'error',
@@ -36,7 +42,7 @@ export default tseslint.config(
     },
   },
   {
-    files: ['**/*.mjs', 'bench/**', 'scripts/**', 'worker/cli.ts', 'worker/node*.ts', 'test/**'],
+    files: ['**/*.mjs', 'bench/**', 'scripts/**', 'worker/cli/main.ts', 'worker/runtime/node*.ts', 'test/**'],
     languageOptions: { globals: { ...globals.node } },
   },
   { files: ['app/**/*.ts'], languageOptions: { globals: { ...globals.browser } } },

@@ -10,7 +10,7 @@ export default defineConfig({
     minify: false,
     sourcemap: true,
     rollupOptions: {
-      input: { cli: 'worker/cli.ts', node: 'worker/node.ts' },
+      input: { cli: 'worker/cli/main.ts', node: 'worker/runtime/node.ts' },
       output: { format: 'es', entryFileNames: '[name].js' },
     },
   },

@@ -15,8 +15,8 @@ import type {
   PlanSummary,
   StudySummary,
   TerrainSummary,
-} from '../worker/engine.ts';
-import type { TileSource } from '../worker/engine-worker.ts';
+} from '../worker/runtime/engine.ts';
+import type { TileSource } from '../worker/runtime/engine-worker.ts';
 import { clear, download, h } from './dom.ts';
 import { progressProxy, startEngine, type Engine } from './engine-client.ts';
 import { allLevelsZip, savedScenarioText, scenarioFileName } from './exports.ts';

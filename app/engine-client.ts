@@ -4,7 +4,7 @@
  * when the page is cross-origin isolated (the app's server sends the headers), shared by every worker.
  */
 import { proxy, transfer, wrap, type Remote } from 'comlink';
-import type { EngineApi } from '../worker/engine-worker.ts';
+import type { EngineApi } from '../worker/runtime/engine-worker.ts';
 
 export type Engine = Remote<EngineApi>;
 
@@ -15,7 +15,7 @@ export interface EngineHandle {
 }
 
 export async function startEngine(): Promise<EngineHandle> {
-  const worker = new Worker(new URL('../worker/engine-worker.ts', import.meta.url), {
+  const worker = new Worker(new URL('../worker/runtime/engine-worker.ts', import.meta.url), {
     type: 'module',
     name: 'airshade-engine',
   });
@@ -23,7 +23,7 @@ export async function startEngine(): Promise<EngineHandle> {
   const size = Math.max(1, Math.min(navigator.hardwareConcurrency || 2, 8));
   const ports: MessagePort[] = [];
   for (let i = 0; i < size; i++) {
-    const w = new Worker(new URL('../worker/browser.ts', import.meta.url), {
+    const w = new Worker(new URL('../worker/runtime/browser.ts', import.meta.url), {
       type: 'module',
       name: `airshade-floor-${i + 1}`,
     });

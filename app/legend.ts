@@ -1,7 +1,7 @@
 /**
  * The map's legend: one block per layer on show — the sites' symbols, sites seeing each cell (with gaps and outage
  * losses), the network floor's steps, the layout differences, the relief — in a box at the map's lower right that
- * folds away to its title bar. Colours come from worker/render.ts, the module that paints the rasters, so the
+ * folds away to its title bar. Colours come from worker/io/render.ts, the module that paints the rasters, so the
  * legend cannot drift from the map.
  */
 import {
@@ -11,7 +11,7 @@ import {
   LOSS_COLOR,
   cssColor,
   type LegendStop,
-} from '../worker/render.ts';
+} from '../worker/io/render.ts';
 import { clear, h } from './dom.ts';
 import type { LayerId, LayerSetting, Units } from './state.ts';
 import { fmtAltitude } from './units.ts';

@@ -7,7 +7,7 @@
 import catalog from '../data/catalog/sensor-types.json';
 import { formatFl } from '../shared/units.ts';
 import { WGS84_GEOGRAPHIC } from '../worker/core/grid.ts';
-import type { TerrainSummary } from '../worker/engine.ts';
+import type { TerrainSummary } from '../worker/runtime/engine.ts';
 import {
   buildNewStudy,
   MAX_GRID_CELLS,

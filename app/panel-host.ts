@@ -15,7 +15,7 @@ import type {
   PlanSummary,
   StudySummary,
   TerrainSummary,
-} from '../worker/engine.ts';
+} from '../worker/runtime/engine.ts';
 import type { Engine } from './engine-client.ts';
 import type { ImageLayerId } from './map-view.ts';
 import type { WorkState } from './state.ts';

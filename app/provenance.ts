@@ -10,7 +10,7 @@ import { version } from '../package.json';
 import type { Geometry } from 'geojson';
 import { stringifyGeoJson, type LayerCollection } from '../worker/io/geojson.ts';
 import type { CommandOptions, FileDigest, Provenance } from '../worker/io/provenance.ts';
-import type { StudyConventions } from '../worker/study.ts';
+import type { StudyConventions } from '../worker/io/study.ts';
 
 /** package.json's version, read when the app is built. */
 export const APP_VERSION: string = version;

@@ -1,5 +1,5 @@
 /**
- * The safety-case report from the app: the engine builds it (worker/engine.ts `report`, the model of
+ * The safety-case report from the app: the engine builds it (worker/runtime/engine.ts `report`, the model of
  * worker/io/report-model.ts and the document of worker/io/report-html.ts, as `airshade report` does) from the
  * current network, its statistics, the N−1 table and the last plan, with the app's provenance (app/exports.ts
  * exportProvenance: the saved scenario's SHA-256, the tiles', the conventions, the date). The page offers it as a

@@ -111,7 +111,7 @@ export function fmtDemandWeight(w: number, totalW?: number): string {
 export const DEMAND_WEIGHT_TEXT =
   'Demand weight: each volume cell at each flight level of its band counts its area in km² times the volume’s weight.';
 
-/** The cursor read-out's figures: what the engine's probe gives under the cursor (worker/engine.ts ProbeResult). */
+/** The cursor read-out's figures: what the engine's probe gives under the cursor (worker/runtime/engine.ts ProbeResult). */
 export interface ReadoutFigures {
   lon: number;
   lat: number;

@@ -17,7 +17,7 @@ import { fileURLToPath } from 'node:url';
 import { fromArrayBuffer } from 'geotiff';
 import proj4 from 'proj4';
 import type { GridGeo } from '../worker/core/grid.ts';
-import { DEMO_WORLD, fillProjected } from '../worker/core/synth-terrain.ts';
+import { DEMO_WORLD, fillProjected } from '../worker/demo/synth-terrain.ts';
 import { encodeGeoTiff } from '../worker/io/geotiff-write.ts';
 import { rayWalkFloor, type RayWalkInput } from '../test/reference/raywalk.ts';
 import { sphereRayWalkFloor, type SphereRayWalkInput } from './raywalk-sphere.ts';

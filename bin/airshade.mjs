@@ -103,6 +103,6 @@ if (
   ({ main } = await import(built));
 } else {
   const { tsImport } = await import('tsx/esm/api');
-  ({ main } = await tsImport('../worker/cli.ts', import.meta.url));
+  ({ main } = await tsImport('../worker/cli/main.ts', import.meta.url));
 }
 process.exitCode = await main(process.argv.slice(2));

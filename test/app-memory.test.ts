@@ -1,5 +1,5 @@
 /**
- * Refuse before allocating, in the web app's engine (worker/engine.ts) as in the CLI (worker/cli/budget-check.ts):
+ * Refuse before allocating, in the web app's engine (worker/runtime/engine.ts) as in the CLI (worker/cli/budget-check.ts):
  * both take the estimate of worker/core/memory-estimate.ts. A scenario whose grid would not fit is refused with
  * one message naming grid.cellArcSec, what it would need and the finest cell size that fits — and that cell size
  * is then accepted; a tile whose header announces more than fits is refused before its pixels are decoded; the
@@ -21,7 +21,7 @@ import {
   tileReadBytes,
   type RunShape,
 } from '../worker/core/memory-estimate.ts';
-import { appMemoryLimitBytes, Engine, FOOTPRINT_CACHE_MARGIN } from '../worker/engine.ts';
+import { appMemoryLimitBytes, Engine, FOOTPRINT_CACHE_MARGIN } from '../worker/runtime/engine.ts';
 import { writeE2eData, type E2eData } from './e2e/fixture.ts';
 import { runCli } from './support/run-cli.ts';
 

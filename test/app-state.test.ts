@@ -19,7 +19,7 @@ import { csvLocator, readSitesCsv } from '../worker/io/scenario-text.ts';
 import { readSitesFile } from '../app/files.ts';
 import proj4 from 'proj4';
 import { checkFilesAlone, newStudyDefaultText, studyOnTerrain } from '../app/new-study.ts';
-import type { TerrainSummary } from '../worker/engine.ts';
+import type { TerrainSummary } from '../worker/runtime/engine.ts';
 import { NEW_STUDY_DEFAULTS } from '../worker/io/new-study.ts';
 import { APP_VERSION, appProvenance, geoJsonWithProvenance, sha256Hex } from '../app/provenance.ts';
 import {

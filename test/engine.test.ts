@@ -1,5 +1,5 @@
 /**
- * The web app's engine (worker/engine.ts) driven directly in Node with the inline executor, on the invented
+ * The web app's engine (worker/runtime/engine.ts) driven directly in Node with the inline executor, on the invented
  * scenario of test/e2e/fixture.ts: it must give the same figures as the CLI on the same scenario (the two share
  * the core; this checks the engine's own wiring — footprint cache, network, outages, plan), recompute only what a
  * moved site changes, stop on cancel without losing the state, and refuse bad input without losing the state.
@@ -12,9 +12,9 @@ import { flToMetres } from '../shared/units.ts';
 import { docOf, type ScenarioDoc } from '../app/state.ts';
 import { Network } from '../worker/core/network.ts';
 import { outageTable } from '../worker/core/outage.ts';
-import { Cancelled, Engine, type SensorRef } from '../worker/engine.ts';
-import type { StudyConventions } from '../worker/study.ts';
-import { mercatorRowLatitudes } from '../worker/render.ts';
+import { Cancelled, Engine, type SensorRef } from '../worker/runtime/engine.ts';
+import type { StudyConventions } from '../worker/io/study.ts';
+import { mercatorRowLatitudes } from '../worker/io/render.ts';
 import { loadScenario } from '../worker/cli/scenario.ts';
 import { writeE2eData, E2E_LAYOUT_NAME, type E2eData } from './e2e/fixture.ts';
 import { runCli } from './support/run-cli.ts';

@@ -1,7 +1,7 @@
 /**
  * Footprints kept to the area a site can see: the range box (`rangeWindow`, worker/core/coverage.ts) and what
  * reads footprints through their window — the network (worker/core/network.ts) and the planner's cover lists
- * (`coveredPoints`, worker/study.ts).
+ * (`coveredPoints`, worker/io/study.ts).
  *
  * Outside yardsticks, each named beside its check:
  * - Exact WGS84 ground distances: geographiclib-geodesic, the reference implementation of C. F. F. Karney,
@@ -18,7 +18,7 @@ import { rangeWindow } from '../worker/core/coverage.ts';
 import { NO_COVER_LO, type Footprint, type FootprintWindow } from '../worker/core/footprint.ts';
 import { WGS84_GEOGRAPHIC, type GridGeo } from '../worker/core/grid.ts';
 import { Network } from '../worker/core/network.ts';
-import { coveredPoints, type Demand } from '../worker/study.ts';
+import { coveredPoints, type Demand } from '../worker/io/study.ts';
 
 const WGS84 = geodesic.Geodesic.WGS84;
 

@@ -6,7 +6,7 @@
  */
 import { describe, expect, it } from 'vitest';
 import { computeFloor, inlineExecutor } from '../worker/core/floor.ts';
-import { fillProjected, testWorld } from '../worker/core/synth-terrain.ts';
+import { fillProjected, testWorld } from '../worker/demo/synth-terrain.ts';
 import { rayWalkFloorGrid } from './reference/raywalk.ts';
 import { cellLonLat, metricGeo, metricTerrain } from './support/dem.ts';
 

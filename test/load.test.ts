@@ -1,7 +1,7 @@
 /**
  * Load (issue 13): the static server of the built app (bin/serve.mjs) under a crowd of concurrent clients asking
- * for valid and invalid paths, and the app's engine (worker/engine.ts, run in Node as test/engine.test.ts does)
- * under storms of start / cancel / restart, inline and over the worker_threads pool (worker/node-pool.ts). After
+ * for valid and invalid paths, and the app's engine (worker/runtime/engine.ts, run in Node as test/engine.test.ts does)
+ * under storms of start / cancel / restart, inline and over the worker_threads pool (worker/runtime/node-pool.ts). After
  * each storm a full run must give exactly the figures of a clean run on a fresh engine, and the pool's workers
  * must all be gone once it is closed. Inputs are invented (test/e2e/fixture.ts: terrain over the open ocean).
  */
@@ -20,8 +20,8 @@ import { join } from 'node:path';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { startServer, SECURITY_HEADERS, type RunningServer } from '../bin/serve.mjs';
 import { docOf, type ScenarioDoc } from '../app/state.ts';
-import { Cancelled, Engine, type CoverageSummary, type SensorRef } from '../worker/engine.ts';
-import { NodePool } from '../worker/node-pool.ts';
+import { Cancelled, Engine, type CoverageSummary, type SensorRef } from '../worker/runtime/engine.ts';
+import { NodePool } from '../worker/runtime/node-pool.ts';
 import { loadScenario } from '../worker/cli/scenario.ts';
 import { E2E_BOUNDS, writeE2eData, type E2eData } from './e2e/fixture.ts';
 

@@ -25,7 +25,7 @@ import { computeFootprints, type Candidate } from '../worker/core/coverage.ts';
 import { inlineExecutor } from '../worker/core/floor.ts';
 import { sensorBand, slantGeometry, type Footprint } from '../worker/core/footprint.ts';
 import { buildSensorModel, DEFAULT_TARGET, type SensorTypeSpec, type Target } from '../worker/core/sensor.ts';
-import { levelAltitudesM } from '../worker/study.ts';
+import { levelAltitudesM } from '../worker/io/study.ts';
 import { WGS84_GEOGRAPHIC } from '../worker/core/grid.ts';
 import { Terrain } from '../worker/core/terrain.ts';
 import { firstLobeFactor } from '../worker/core/multipath.ts';

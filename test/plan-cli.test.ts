@@ -8,10 +8,10 @@
 import { readFileSync } from 'node:fs';
 import { join } from 'node:path';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
-import { levelAltitudesM } from '../worker/study.ts';
+import { levelAltitudesM } from '../worker/io/study.ts';
 import { allCandidates, footprintsFor, openSession } from '../worker/cli/session.ts';
 import { ProgressLine } from '../worker/cli/progress.ts';
-import { buildDemand, coveredPoints } from '../worker/study.ts';
+import { buildDemand, coveredPoints } from '../worker/io/study.ts';
 import type { PlanInstance } from '../worker/core/plan.ts';
 import { cappedRequirements, shortfalls } from './support/plan-check.ts';
 import { runCli } from './support/run-cli.ts';

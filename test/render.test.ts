@@ -1,5 +1,5 @@
 /**
- * Map rasters of the web app (worker/render.ts): each image row, spaced evenly in Web Mercator y, shows the grid
+ * Map rasters of the web app (worker/io/render.ts): each image row, spaced evenly in Web Mercator y, shows the grid
  * row holding its centre latitude (y = ln tan(π/4 + φ/2), the spherical Mercator of EPSG:3857); fold counts in the
  * fold colours, the network floor on viridis with its legend ends at the ramp's ends, the relief opaque where the
  * terrain is known.
@@ -20,7 +20,7 @@ import {
   mercatorRowLatitudes,
   reliefImage,
   rgbOf,
-} from '../worker/render.ts';
+} from '../worker/io/render.ts';
 
 // 4 columns × 50 rows of 0.1° from 60° S: far enough south for Mercator rows to differ from lon/lat rows. At 35° W:
 // open Southern Ocean, some 400 km from the nearest island.

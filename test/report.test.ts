@@ -15,7 +15,7 @@ import { decode } from 'fast-png';
 import { XMLValidator } from 'fast-xml-parser';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { CAUTION } from '../shared/caution.ts';
-import { FOLD_COLORS } from '../worker/render.ts';
+import { FOLD_COLORS } from '../worker/io/render.ts';
 import { escapeXml } from '../worker/io/diagram-svg.ts';
 import { base64, mapFrame, niceBelow, scaleBar, unitsPerKm } from '../worker/io/report-html.ts';
 import { runCli } from './support/run-cli.ts';

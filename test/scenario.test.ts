@@ -13,11 +13,11 @@ import { isInputError, type InputError } from '../shared/errors.ts';
 import { parseScenario, SCENARIO_DEFAULTS, ScenarioError, type SensorType } from '../shared/scenario.ts';
 import { checkAgainstTerrain, loadScenario, parseJsonText, readSitesCsv } from '../worker/cli/scenario.ts';
 import { demoTileNames } from '../worker/cli/demo.ts';
-import { DEMO_REGION } from '../worker/core/synth-terrain.ts';
+import { DEMO_REGION } from '../worker/demo/synth-terrain.ts';
 import { buildSensorModel, type SensorTypeSpec } from '../worker/core/sensor.ts';
 import { docOf, type ScenarioDoc } from '../app/state.ts';
-import { Engine } from '../worker/engine.ts';
-import { checkNetworkLevels } from '../worker/study.ts';
+import { Engine } from '../worker/runtime/engine.ts';
+import { checkNetworkLevels } from '../worker/io/study.ts';
 import { E2E_SENSOR_TYPES, E2E_SITES, E2E_VOLUMES, writeE2eData, type E2eData } from './e2e/fixture.ts';
 import { runCli } from './support/run-cli.ts';
 
@@ -753,7 +753,7 @@ describe('bad input: one message per problem, naming file, field, what was found
 
 describe('flight levels × targets beyond what one network holds: refused when the study opens, before any footprint', () => {
   // One network keeps one bit per flight level and target (worker/core/network.ts MAX_NETWORK_LEVELS = 32); the
-  // check (worker/study.ts checkNetworkLevels) runs in openStudy, which the CLI session and the app engine share.
+  // check (worker/io/study.ts checkNetworkLevels) runs in openStudy, which the CLI session and the app engine share.
   let e2e: E2eData;
   let e2eTiles: { name: string; buffer: ArrayBuffer }[];
   const levels = (n: number) => Array.from({ length: n }, (_, i) => 10 + 10 * i);

@@ -21,7 +21,7 @@ import {
   synthHeightM,
   testWorld,
   type SynthWorld,
-} from '../worker/core/synth-terrain.ts';
+} from '../worker/demo/synth-terrain.ts';
 import { isInputError } from '../shared/errors.ts';
 
 const DEMO_INPUTS = new URL('../data/demo-inputs/', import.meta.url);

@@ -10,7 +10,7 @@ import { flToMetres } from '../shared/units.ts';
 import { ProgressLine } from '../worker/cli/progress.ts';
 import { allCandidates, footprintsFor, openSession, type Session } from '../worker/cli/session.ts';
 import { cellsAtLevel, rowAreasKm2, volumeStats } from '../worker/core/volumes.ts';
-import { buildDemand, coveredPoints, studyNetwork } from '../worker/study.ts';
+import { buildDemand, coveredPoints, studyNetwork } from '../worker/io/study.ts';
 import { DEFAULT_VOLUMES, writeScenarioFixture, type Fixture } from './support/scenario-fixture.ts';
 
 const box = DEFAULT_VOLUMES[0].polygon;
@@ -156,7 +156,7 @@ describe('volume bands in feet AMSL and AGL', () => {
 describe('levels a band needs but the run does not compute are said, not passed over', () => {
   const v = (id: string, flMin: number, flMax: number) => ({ id, name: id, flMin, flMax });
   it('a band starting below the lowest computed level is named, with the level to add', async () => {
-    const { unevaluatedBands } = await import('../worker/study.ts');
+    const { unevaluatedBands } = await import('../worker/io/study.ts');
     const w = unevaluatedBands(
       [v('t', 30, 245), v('u', 245, 460), v('x', 500, 550)],
       [50, 100, 245, 300, 460],

@@ -4,7 +4,7 @@
  * shows (level, count, layers).
  */
 import { formatFl } from '../../shared/units.ts';
-import type { StudyConventions } from '../../worker/study.ts';
+import type { StudyConventions } from '../../worker/io/study.ts';
 import { h, table } from '../dom.ts';
 import type { PanelHost } from '../panel-host.ts';
 import {

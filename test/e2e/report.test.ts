@@ -1,6 +1,6 @@
 /// <reference lib="dom" />
 /**
- * The app's safety-case report (app/report.ts → worker/engine.ts `report` → io/report-model.ts, io/report-html.ts)
+ * The app's safety-case report (app/report.ts → worker/runtime/engine.ts `report` → io/report-model.ts, io/report-html.ts)
  * against the CLI on the same scenario file (test/e2e/fixture.ts, invented, over the open South Atlantic): coverage
  * and a plan made in the app, its report's per-volume figures equal `airshade coverage`'s summary.json and
  * `airshade report`'s, its N−1 rows `airshade outage`'s outage.json, its plan figures `airshade plan`'s plan.json

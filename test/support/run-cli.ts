@@ -1,6 +1,6 @@
 /** Runs the `airshade` command in-process (as a user would, minus the process), capturing what it prints. */
 import { vi } from 'vitest';
-import { main } from '../../worker/cli.ts';
+import { main } from '../../worker/cli/main.ts';
 
 export async function runCli(...argv: string[]): Promise<{ code: number; out: string; err: string }> {
   let out = '';

@@ -4,14 +4,14 @@
  */
 import { CAUTION } from '../../shared/caution.ts';
 import { formatFl } from '../../shared/units.ts';
-import { conventionsText, layerMeta, levelAltitudesM, studyConventions, studyNetwork } from '../study.ts';
+import { conventionsText, layerMeta, levelAltitudesM, studyConventions, studyNetwork } from '../io/study.ts';
 import type { Candidate } from '../core/coverage.ts';
 import { Network } from '../core/network.ts';
 import { difference, servedMasks, tally } from '../core/outage.ts';
 import { volumeStats } from '../core/volumes.ts';
 import { featureCollection, stringifyGeoJson } from '../io/geojson.ts';
 import { undated } from '../io/provenance.ts';
-import { NodePool } from '../node-pool.ts';
+import { NodePool } from '../runtime/node-pool.ts';
 import { coldDayHelp, parseArgs, required, scenarioArg, threadsArg, weatherHelp } from './args.ts';
 import { maskLayer } from '../io/layers.ts';
 import { finishRun, RunFolder, runFolderHelp } from './files.ts';

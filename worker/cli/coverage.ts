@@ -14,12 +14,12 @@ import {
   studyNetwork,
   modelWarnings,
   studyConventions,
-} from '../study.ts';
+} from '../io/study.ts';
 import { volumeStats, type VolumeLevelStats } from '../core/volumes.ts';
 import { stringifyGeoJson } from '../io/geojson.ts';
 import { encodeGeoTiff } from '../io/geotiff-write.ts';
 import { undated } from '../io/provenance.ts';
-import { NodePool } from '../node-pool.ts';
+import { NodePool } from '../runtime/node-pool.ts';
 import { coldDayHelp, one, parseArgs, required, scenarioArg, threadsArg, weatherHelp } from './args.ts';
 import { finishRun, RunFolder, runFolderHelp } from './files.ts';
 import { scenarioProvenance } from './provenance.ts';
@@ -27,7 +27,7 @@ import type { LoadedScenario } from './scenario.ts';
 import { footprintsFor, networkChoice, openCommandSession, SESSION_OPTIONS, sessionHelp } from './session.ts';
 import { levelLayers } from '../io/layers.ts';
 
-export { analysisGrid, groundOnGrid, terrainBounds } from '../study.ts';
+export { analysisGrid, groundOnGrid, terrainBounds } from '../io/study.ts';
 export { levelLayers, maskLayer } from '../io/layers.ts';
 
 export const COVERAGE_HELP = `airshade coverage — what the network detects at each flight level

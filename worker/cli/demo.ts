@@ -5,9 +5,8 @@
 import { mkdirSync, readdirSync, readFileSync, rmSync } from 'node:fs';
 import { fileURLToPath } from 'node:url';
 import { CAUTION } from '../../shared/caution.ts';
-import { WGS84_GEOGRAPHIC, type GridGeo } from '../core/grid.ts';
-import { DEMO_REGION, DEMO_WORLD, fillGeographic } from '../core/synth-terrain.ts';
-import { encodeGeoTiff } from '../io/geotiff-write.ts';
+import { DEMO_REGION, DEMO_WORLD, fillGeographic } from '../demo/synth-terrain.ts';
+import { demoTile, TILE_ARCSEC, TILE_SAMPLES } from '../demo/tiles.ts';
 import { one, parseArgs } from './args.ts';
 import { coverageCommand } from './coverage.ts';
 import { isTempOf, sha256, writeFileAtomic, type RunFile } from './files.ts';
@@ -19,9 +18,6 @@ export const DEMO_TERRAIN_DIR = process.env.AIRSHADE_DEMO_TERRAIN_DIR
   ? process.env.AIRSHADE_DEMO_TERRAIN_DIR.replace(/\/?$/, '/')
   : `${DATA_DIR}demo/terrain/`;
 export const DEMO_INPUTS_DIR = `${DATA_DIR}demo-inputs/`;
-/** 3 arc-seconds; 1201 × 1201 samples per 1° tile, neighbours sharing their edge row and column. */
-const TILE_ARCSEC = 3;
-const TILE_SAMPLES = 3600 / TILE_ARCSEC + 1;
 
 /** The manifest beside the demo tiles: each tile's size and SHA-256, and the generator they came from. */
 export const DEMO_MANIFEST = 'demo-tiles.json';
@@ -55,29 +51,6 @@ export function demoTileNames(): { path: string; lon: number; lat: number }[] {
     }
   }
   return out;
-}
-
-/** Generates one demo tile (south-west corner lon, lat) as an Int16 GeoTIFF. */
-export function demoTile(lon: number, lat: number): ArrayBuffer {
-  const px = TILE_ARCSEC / 3600;
-  const n = TILE_SAMPLES;
-  // Pixel-is-area: the outer corner lies half a pixel beyond the edge sample centres.
-  const originLon = lon - px / 2;
-  const originLat = lat + 1 + px / 2;
-  const heights = new Float32Array(n * n);
-  fillGeographic(heights, originLon, originLat, px, n, n, DEMO_WORLD);
-  const ints = new Int16Array(n * n);
-  for (let i = 0; i < ints.length; i++) ints[i] = Math.round(heights[i]);
-  const geo: GridGeo = {
-    width: n,
-    height: n,
-    originX: originLon,
-    originY: originLat,
-    pixelX: px,
-    pixelY: -px,
-    crs: WGS84_GEOGRAPHIC,
-  };
-  return encodeGeoTiff({ geo, data: ints, nodata: -32768 });
 }
 
 interface DemoManifest {

@@ -2,7 +2,7 @@
 import { CAUTION } from '../../shared/caution.ts';
 import { InputError } from '../../shared/errors.ts';
 import { diagramData } from '../core/diagram.ts';
-import { dayText, studyConventions, studyDay, studyTarget } from '../study.ts';
+import { dayText, studyConventions, studyDay, studyTarget } from '../io/study.ts';
 import { buildSensorModel } from '../core/sensor.ts';
 import { renderDiagramSvg } from '../io/diagram-svg.ts';
 import { applyColdDay, coldDayHelp, numberArg, one, parseArgs, required, weatherHelp } from './args.ts';

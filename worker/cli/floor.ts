@@ -8,7 +8,7 @@ import { Terrain } from '../core/terrain.ts';
 import type { GridGeo } from '../core/grid.ts';
 import { encodeGeoTiffParts, geoTiffCrsProblem } from '../io/geotiff-write.ts';
 import { undated } from '../io/provenance.ts';
-import { NodePool } from '../node-pool.ts';
+import { NodePool } from '../runtime/node-pool.ts';
 import { lonLatArg, numberArg, one, parseArgs, required, threadsArg } from './args.ts';
 import { writeOutputFile } from './files.ts';
 import { checkOutput } from './out-check.ts';

@@ -5,7 +5,7 @@
 import { CAUTION } from '../../shared/caution.ts';
 import { InputError } from '../../shared/errors.ts';
 import { formatFl } from '../../shared/units.ts';
-import { conventionsText, layerMeta, levelAltitudesM, studyConventions, studyNetwork } from '../study.ts';
+import { conventionsText, layerMeta, levelAltitudesM, studyConventions, studyNetwork } from '../io/study.ts';
 import type { Candidate } from '../core/coverage.ts';
 import { Network } from '../core/network.ts';
 import {
@@ -19,7 +19,7 @@ import {
 import { volumeStats } from '../core/volumes.ts';
 import { stringifyGeoJson } from '../io/geojson.ts';
 import { undated } from '../io/provenance.ts';
-import { NodePool } from '../node-pool.ts';
+import { NodePool } from '../runtime/node-pool.ts';
 import {
   coldDayHelp,
   numberArg,
@@ -31,7 +31,7 @@ import {
   weatherHelp,
 } from './args.ts';
 import { levelLayers } from '../io/layers.ts';
-import { buildDemand, coveredPoints, type Demand } from '../study.ts';
+import { buildDemand, coveredPoints, type Demand } from '../io/study.ts';
 import { finishRun, RunFolder, runFolderHelp } from './files.ts';
 import { scenarioProvenance } from './provenance.ts';
 import {

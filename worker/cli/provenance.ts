@@ -7,7 +7,7 @@
 import { existsSync, readFileSync, statSync } from 'node:fs';
 import { dirname, join, resolve } from 'node:path';
 import { fileURLToPath } from 'node:url';
-import type { StudyConventions } from '../study.ts';
+import type { StudyConventions } from '../io/study.ts';
 import type { CommandOptions, FileDigest, Provenance } from '../io/provenance.ts';
 import type { OptionSpec, Parsed } from './args.ts';
 import { digestOfRead } from './files.ts';

@@ -1,13 +1,13 @@
 /**
  * What the scenario commands (coverage, plan, outage, compare) share: the scenario and terrain read from disk
- * into a study (`worker/study.ts`, shared with the web app), and footprints computed in a worker pool.
+ * into a study (`worker/io/study.ts`, shared with the web app), and footprints computed in a worker pool.
  */
 import { computeFootprints, type Candidate } from '../core/coverage.ts';
 import { inlineExecutor } from '../core/floor.ts';
 import type { Footprint } from '../core/footprint.ts';
 import { studyBlame, studyRun } from '../core/memory-estimate.ts';
 import type { Terrain } from '../core/terrain.ts';
-import { NodePool } from '../node-pool.ts';
+import { NodePool } from '../runtime/node-pool.ts';
 import {
   allCandidates,
   analysisGrid,
@@ -16,7 +16,7 @@ import {
   studyTargets,
   terrainBounds,
   type Study,
-} from '../study.ts';
+} from '../io/study.ts';
 import type { GridGeo } from '../core/grid.ts';
 import { NM_M } from '../../shared/units.ts';
 import { applyColdDay, type Parsed } from './args.ts';
@@ -43,7 +43,7 @@ import { loadScenario, OUTSIDE_PATHS_HELP, OUTSIDE_PATHS_OPTION, type LoadedScen
 
 export type Session = Study<LoadedScenario>;
 
-export { allCandidates, candidate, layoutCandidates, siteOf } from '../study.ts';
+export { allCandidates, candidate, layoutCandidates, siteOf } from '../io/study.ts';
 
 /**
  * The network a scenario command computes when it is not given a plan: the layout named by `where` (e.g.

@@ -1,6 +1,6 @@
 /**
  * Refuse before allocating — the pure part, shared by the CLI (worker/cli/budget-check.ts, `--max-memory`) and the
- * web app's engine (worker/engine.ts): the memory a run will need, estimated from its inputs before any large
+ * web app's engine (worker/runtime/engine.ts): the memory a run will need, estimated from its inputs before any large
  * array exists, and the one message that refuses it. No Node and no DOM here: each side brings its own limit
  * and the words for its knob.
  *
@@ -95,7 +95,7 @@ export function horizonSamples(reachM: number, rangeStepM: number, arcStepM: num
 /**
  * One (site, type) footprint with its other targets' (worker/core/footprint.ts: lo and hi, Uint16 per cell and
  * target; a target the type cannot tell apart shares the arrays, so this is an upper bound). The estimate counts
- * every allowed pair once; the app's footprint cache (worker/engine.ts) is bounded with the same figure.
+ * every allowed pair once; the app's footprint cache (worker/runtime/engine.ts) is bounded with the same figure.
  */
 export function footprintBytes(cells: number, targets: number): number {
   return cells * targets * 4;

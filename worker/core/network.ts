@@ -19,7 +19,7 @@ export type FoldKind = (typeof KINDS)[number];
 type Bits = Uint8Array | Uint16Array | Uint32Array;
 
 /**
- * Flight levels × targets one network keeps: one bit each in a cell's 32-bit word. worker/study.ts
+ * Flight levels × targets one network keeps: one bit each in a cell's 32-bit word. worker/io/study.ts
  * `checkNetworkLevels` refuses a study beyond it when the scenario loads, before any footprint.
  */
 export const MAX_NETWORK_LEVELS = 32;

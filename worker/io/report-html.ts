@@ -11,7 +11,7 @@
  * closed, only XML's named entities), so a plain XML parser can check it. Print: A4 portrait by default (A3 on
  * request), table rows never split, a page per map, table heads repeated.
  *
- * Maps: the images are on Web Mercator rows (worker/render.ts), so they stretch linearly between the bounds, and
+ * Maps: the images are on Web Mercator rows (worker/io/render.ts), so they stretch linearly between the bounds, and
  * every vector (outlines, coast, sites, graticule) is placed with the spherical Mercator of EPSG:3857:
  * x = R(λ − λ0), y = R ln tan(π/4 + φ/2); its scale factor is sec φ in every direction (Snyder, Map Projections —
  * A Working Manual, USGS Professional Paper 1395, 1987, §7), so the scale bar is drawn true at its own latitude and
@@ -22,8 +22,8 @@
 import type { MultiPolygonCoords } from '../core/contour.ts';
 import type { SiteLoss } from '../core/outage.ts';
 import type { VolumeLevelStats } from '../core/volumes.ts';
-import type { StudyConventions } from '../study.ts';
-import type { Bounds } from '../render.ts';
+import type { StudyConventions } from './study.ts';
+import type { Bounds } from './render.ts';
 import { NM_M } from '../../shared/units.ts';
 import { nearLon } from '../core/terrain.ts';
 import { escapeXml } from './diagram-svg.ts';

@@ -3,7 +3,7 @@
  * level the fold (distinct sites of any kind seeing each cell, as the coverage layers count it) with the cells of
  * each volume whose requirement is not met there, and once the network floor in steps of the study's levels — on a
  * plain base (land and sea not seen), with the coastline (ground above 0 m) as lines. The rasters come from
- * worker/render.ts (foldImage, maskImage, floorLevelImage on Web Mercator rows) and are encoded as PNG with
+ * worker/io/render.ts (foldImage, maskImage, floorLevelImage on Web Mercator rows) and are encoded as PNG with
  * fast-png. Pure: typed arrays in, bytes out; the CLI and the app's engine can both call it.
  */
 import { encode } from 'fast-png';
@@ -22,7 +22,7 @@ import {
   rgbOf,
   type Bounds,
   type RasterImage,
-} from '../render.ts';
+} from './render.ts';
 
 /** A PNG picture on Web Mercator rows spanning the report's bounds (row 0 north). */
 export interface ReportImage {

@@ -2,7 +2,7 @@
  * The one way to build a report's model (io/report-html.ts ReportModel) from a computed network: the statistics per
  * volume and level (core/volumes.ts volumeStats), the single-site outage table (core/outage.ts outageTable, each
  * site switched off in turn), the map pictures (io/report-maps.ts), the coastline, the study's conventions and the
- * network's sites. `airshade report` (worker/cli/report.ts) and the app's engine (worker/engine.ts `report`) both
+ * network's sites. `airshade report` (worker/cli/report.ts) and the app's engine (worker/runtime/engine.ts `report`) both
  * call it, so the app's report and the CLI's hold the same figures for the same scenario and network.
  *
  * Pure: no DOM, no file access. The network must have every site up (outageTable switches each one off and on
@@ -12,7 +12,7 @@ import type { Candidate } from '../core/coverage.ts';
 import type { Network } from '../core/network.ts';
 import { outageTable } from '../core/outage.ts';
 import { volumeStats } from '../core/volumes.ts';
-import { studyConventions, type Study, type StudyConventions } from '../study.ts';
+import { studyConventions, type Study, type StudyConventions } from './study.ts';
 import type { Provenance } from './provenance.ts';
 import type { ReportModel, ReportPlan, ReportSite } from './report-html.ts';
 import { coastPolygons, reportMaps } from './report-maps.ts';

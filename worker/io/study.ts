@@ -4,19 +4,19 @@
  * it (candidates, layouts, the planner's demand points). No file access: the CLI and the app's engine worker
  * each read the files their own way and call `openStudy`.
  */
-import { InputError } from '../shared/errors.ts';
-import type { Locator, Scenario, Volume } from '../shared/scenario.ts';
-import type { Candidate, CoverageSite } from './core/coverage.ts';
-import type { Footprint } from './core/footprint.ts';
-import { MAX_NETWORK_LEVELS, Network } from './core/network.ts';
-import { WGS84_GEOGRAPHIC, type GridGeo } from './core/grid.ts';
-import type { PlanInstance } from './core/plan.ts';
-import { buildSensorModel, describeTarget, type SensorModel, type Target } from './core/sensor.ts';
-import { trueAltitudeM, STANDARD_DAY, type Day } from './core/altimetry.ts';
-import { flToMetres } from '../shared/units.ts';
-import type { Terrain } from './core/terrain.ts';
-import { cellsAtLevel, rasterizeVolume, rowAreasKm2 } from './core/volumes.ts';
-import { checkAgainstTerrain } from './io/scenario-text.ts';
+import { InputError } from '../../shared/errors.ts';
+import type { Locator, Scenario, Volume } from '../../shared/scenario.ts';
+import type { Candidate, CoverageSite } from '../core/coverage.ts';
+import type { Footprint } from '../core/footprint.ts';
+import { MAX_NETWORK_LEVELS, Network } from '../core/network.ts';
+import { WGS84_GEOGRAPHIC, type GridGeo } from '../core/grid.ts';
+import type { PlanInstance } from '../core/plan.ts';
+import { buildSensorModel, describeTarget, type SensorModel, type Target } from '../core/sensor.ts';
+import { trueAltitudeM, STANDARD_DAY, type Day } from '../core/altimetry.ts';
+import { flToMetres } from '../../shared/units.ts';
+import type { Terrain } from '../core/terrain.ts';
+import { cellsAtLevel, rasterizeVolume, rowAreasKm2 } from '../core/volumes.ts';
+import { checkAgainstTerrain } from './scenario-text.ts';
 
 /** The scenario as a study needs it: where it came from (for messages), its content and its field locator. */
 export interface StudyScenario {

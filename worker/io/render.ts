@@ -11,8 +11,8 @@ import {
   interpolateViridis,
   schemeSet1,
 } from 'd3-scale-chromatic';
-import type { GridGeo } from './core/grid.ts';
-import type { Terrain } from './core/terrain.ts';
+import type { GridGeo } from '../core/grid.ts';
+import type { Terrain } from '../core/terrain.ts';
 
 export interface RasterImage {
   width: number;

@@ -1,5 +1,5 @@
 /**
- * A pool of worker_threads running worker/node.ts, driven through comlink. Size 0 means "run inline": the
+ * A pool of worker_threads running worker/runtime/node.ts, driven through comlink. Size 0 means "run inline": the
  * executor then calls the core directly (what tests do).
  */
 import { existsSync } from 'node:fs';
@@ -9,8 +9,8 @@ import { Worker } from 'node:worker_threads';
 import { wrap, type Remote } from 'comlink';
 import nodeEndpoint from 'comlink/dist/esm/node-adapter.mjs';
 import type { WorkerApi } from './api.ts';
-import type { Executor } from './core/floor.ts';
-import type { TerrainParts } from './core/terrain.ts';
+import type { Executor } from '../core/floor.ts';
+import type { TerrainParts } from '../core/terrain.ts';
 import { RemotePool } from './pool.ts';
 
 function workerEntry(): URL {

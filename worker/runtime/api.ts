@@ -3,10 +3,10 @@
  * the protocol: callers hold `Remote<WorkerApi>`. It keeps heavy data where it is computed: the terrain is set
  * once per worker (shared memory, never cloned per call) and jobs write into shared output buffers.
  */
-import { Terrain, type TerrainParts } from './core/terrain.ts';
-import { resampleFloor, sweepSector, type HorizonLayout, type ResampleCounts } from './core/horizon.ts';
-import { VectorMap, type VectorMapParts } from './core/geodesy.ts';
-import { solvePlan, type PlanInstance, type PlanOptions, type PlanResult } from './core/plan.ts';
+import { Terrain, type TerrainParts } from '../core/terrain.ts';
+import { resampleFloor, sweepSector, type HorizonLayout, type ResampleCounts } from '../core/horizon.ts';
+import { VectorMap, type VectorMapParts } from '../core/geodesy.ts';
+import { solvePlan, type PlanInstance, type PlanOptions, type PlanResult } from '../core/plan.ts';
 
 let terrain: Terrain | null = null;
 

@@ -3,16 +3,16 @@
  * Bad input ends with one message (file/field/argument, found, expected) and a non-zero exit status; a stack
  * trace only with --debug.
  */
-import { isInputError } from '../shared/errors.ts';
-import { floorCommand, FLOOR_HELP } from './cli/floor.ts';
-import { demoCommand, demoDataCommand, DEMO_HELP, DEMO_DATA_HELP } from './cli/demo.ts';
-import { coverageCommand, COVERAGE_HELP } from './cli/coverage.ts';
-import { diagramCommand, DIAGRAM_HELP } from './cli/diagram.ts';
-import { outageCommand, OUTAGE_HELP } from './cli/outage.ts';
-import { compareCommand, COMPARE_HELP } from './cli/compare.ts';
-import { planCommand, PLAN_HELP } from './cli/plan.ts';
-import { reportCommand, REPORT_HELP } from './cli/report.ts';
-import { initCommand, INIT_HELP } from './cli/init.ts';
+import { isInputError } from '../../shared/errors.ts';
+import { floorCommand, FLOOR_HELP } from './floor.ts';
+import { demoCommand, demoDataCommand, DEMO_HELP, DEMO_DATA_HELP } from './demo.ts';
+import { coverageCommand, COVERAGE_HELP } from './coverage.ts';
+import { diagramCommand, DIAGRAM_HELP } from './diagram.ts';
+import { outageCommand, OUTAGE_HELP } from './outage.ts';
+import { compareCommand, COMPARE_HELP } from './compare.ts';
+import { planCommand, PLAN_HELP } from './plan.ts';
+import { reportCommand, REPORT_HELP } from './report.ts';
+import { initCommand, INIT_HELP } from './init.ts';
 
 const HELP = `airshade — radar network coverage planner (planning aid; see the cautions in README.md)
 

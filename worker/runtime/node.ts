@@ -4,5 +4,5 @@ import { expose } from 'comlink';
 import nodeEndpoint from 'comlink/dist/esm/node-adapter.mjs';
 import { api } from './api.ts';
 
-if (!parentPort) throw new Error('worker/node.ts must run inside a worker thread');
+if (!parentPort) throw new Error('worker/runtime/node.ts must run inside a worker thread');
 expose(api, nodeEndpoint(parentPort));

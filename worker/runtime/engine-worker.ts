@@ -1,20 +1,20 @@
 /**
- * Web Worker entry of the app's engine (worker/engine.ts): exposes it through comlink, connects it to the pool
+ * Web Worker entry of the app's engine (worker/runtime/engine.ts): exposes it through comlink, connects it to the pool
  * of floor workers over MessagePorts, and turns raster images into ImageBitmaps transferred to the page, which
  * shows them without decoding or copying.
  */
 import { expose, proxy, transfer, wrap, type Remote } from 'comlink';
 import { createStore, del, get, keys, set, type UseStore } from 'idb-keyval';
-import { InputError } from '../shared/errors.ts';
+import { InputError } from '../../shared/errors.ts';
 import highsWasmUrl from 'highs/runtime?url';
 import type { WorkerApi } from './api.ts';
-import { inlineExecutor } from './core/floor.ts';
-import { solvePlan } from './core/plan.ts';
+import { inlineExecutor } from '../core/floor.ts';
+import { solvePlan } from '../core/plan.ts';
 import { Engine, type ImageLayer, type ProgressFn, type SensorRef, type PlanRequest } from './engine.ts';
-import type { FoldKind } from './core/network.ts';
-import type { Provenance } from './io/provenance.ts';
+import type { FoldKind } from '../core/network.ts';
+import type { Provenance } from '../io/provenance.ts';
 import { RemotePool } from './pool.ts';
-import type { RasterImage } from './render.ts';
+import type { RasterImage } from '../io/render.ts';
 
 const shared = typeof SharedArrayBuffer !== 'undefined' && globalThis.crossOriginIsolated === true;
 const wasmUrl = new URL(highsWasmUrl, self.location.href).href;

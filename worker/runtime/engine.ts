@@ -11,16 +11,23 @@
  * No DOM and no file access: the worker entry (engine-worker.ts) adds PNG encoding and the pool's transport, and
  * the tests drive this class directly in Node with an inline executor.
  */
-import { InputError } from '../shared/errors.ts';
-import { fileLocator, parseScenario, type Scenario } from '../shared/scenario.ts';
-import { formatFl } from '../shared/units.ts';
-import { computeFootprints, type Candidate } from './core/coverage.ts';
-import { diagramData } from './core/diagram.ts';
-import { inlineExecutor, type Executor } from './core/floor.ts';
-import type { Footprint } from './core/footprint.ts';
-import type { GridGeo } from './core/grid.ts';
-import { KINDS, Network, type FoldKind } from './core/network.ts';
-import { difference, outageTable, servedMasks, tally, type LevelLoss, type SiteLoss } from './core/outage.ts';
+import { InputError } from '../../shared/errors.ts';
+import { fileLocator, parseScenario, type Scenario } from '../../shared/scenario.ts';
+import { formatFl } from '../../shared/units.ts';
+import { computeFootprints, type Candidate } from '../core/coverage.ts';
+import { diagramData } from '../core/diagram.ts';
+import { inlineExecutor, type Executor } from '../core/floor.ts';
+import type { Footprint } from '../core/footprint.ts';
+import type { GridGeo } from '../core/grid.ts';
+import { KINDS, Network, type FoldKind } from '../core/network.ts';
+import {
+  difference,
+  outageTable,
+  servedMasks,
+  tally,
+  type LevelLoss,
+  type SiteLoss,
+} from '../core/outage.ts';
 import {
   DEFAULT_SAFETY_TIME_LIMIT_MS,
   DEFAULT_SOLVER_NODES,
@@ -28,7 +35,7 @@ import {
   type PlanInstance,
   type PlanOptions,
   type PlanResult,
-} from './core/plan.ts';
+} from '../core/plan.ts';
 import {
   cellArcSecThatFits,
   estimateRefusal,
@@ -39,16 +46,16 @@ import {
   studyRun,
   tileFileRefusal,
   tileRefusal,
-} from './core/memory-estimate.ts';
-import { Terrain, type DemTile } from './core/terrain.ts';
-import { cellsAtLevel, volumeStats, type VolumeLevelStats } from './core/volumes.ts';
-import { renderDiagramSvg } from './io/diagram-svg.ts';
-import type { Provenance } from './io/provenance.ts';
-import { buildReportHtml, type ReportPlan } from './io/report-html.ts';
-import { buildReportModel } from './io/report-model.ts';
-import { featureCollection, stringifyGeoJson } from './io/geojson.ts';
-import { readDemTile } from './io/geotiff-read.ts';
-import { levelLayers, maskLayer } from './io/layers.ts';
+} from '../core/memory-estimate.ts';
+import { Terrain, type DemTile } from '../core/terrain.ts';
+import { cellsAtLevel, volumeStats, type VolumeLevelStats } from '../core/volumes.ts';
+import { renderDiagramSvg } from '../io/diagram-svg.ts';
+import type { Provenance } from '../io/provenance.ts';
+import { buildReportHtml, type ReportPlan } from '../io/report-html.ts';
+import { buildReportModel } from '../io/report-model.ts';
+import { featureCollection, stringifyGeoJson } from '../io/geojson.ts';
+import { readDemTile } from '../io/geotiff-read.ts';
+import { levelLayers, maskLayer } from '../io/layers.ts';
 import {
   foldImage,
   foldLegend,
@@ -61,7 +68,7 @@ import {
   reliefImage,
   type LegendStop,
   type RasterImage,
-} from './render.ts';
+} from '../io/render.ts';
 import {
   analysisGrid,
   buildDemand,
@@ -80,7 +87,7 @@ import {
   type Study,
   type StudyConventions,
   type StudyScenario,
-} from './study.ts';
+} from '../io/study.ts';
 
 export interface SensorRef {
   siteId: string;
@@ -133,7 +140,7 @@ export interface StudySummary {
   /** Whether the network computed before still stands (no sensor of it changed). */
   hasCoverage: boolean;
   /**
-   * What results of this scenario mean (worker/study.ts studyConventions) at the scenario's flight levels: the
+   * What results of this scenario mean (worker/io/study.ts studyConventions) at the scenario's flight levels: the
    * target, the day and each level's true altitude on it, k, what "seen" means, the types' spec conventions.
    */
   conventions: StudyConventions;
@@ -500,7 +507,7 @@ export class Engine {
   }
 
   /**
-   * The conventions (worker/study.ts studyConventions) at flight levels `fls`: by default the levels of the
+   * The conventions (worker/io/study.ts studyConventions) at flight levels `fls`: by default the levels of the
    * network computed last, or the scenario's.
    */
   conventions(fls?: number[]): StudyConventions {

@@ -5,7 +5,7 @@
  */
 import type { Remote } from 'comlink';
 import type { WorkerApi } from './api.ts';
-import type { Executor } from './core/floor.ts';
+import type { Executor } from '../core/floor.ts';
 
 export class RemotePool {
   private readonly idle: Remote<WorkerApi>[];
