@@ -3,7 +3,14 @@ import { KFactorSchema, parseWith } from '../../shared/scenario.ts';
 import { CAUTION } from '../../shared/caution.ts';
 import { InputError } from '../../shared/errors.ts';
 import { DEFAULT_K_FACTOR, EARTH_RADIUS_M } from '../../shared/units.ts';
-import { computeFloor, inlineExecutor, type FloorResult } from '../core/floor.ts';
+import {
+  computeFloor,
+  computeGridFloor,
+  inlineExecutor,
+  type FloorResult,
+  type GridFloorResult,
+} from '../core/floor.ts';
+import { gridSweepFits, NEAR_CELLS } from '../core/grid-sweep.ts';
 import { Terrain } from '../core/terrain.ts';
 import type { GridGeo } from '../core/grid.ts';
 import { encodeGeoTiffParts, geoTiffCrsProblem } from '../io/geotiff-write.ts';
@@ -22,8 +29,8 @@ export const FLOOR_HELP = `airshade floor — lowest line-of-sight altitude abov
 
 Usage:
   airshade floor --dem A.tif [--dem B.tif …] --site LON,LAT --mast-m H [--k 1.3333]
-                 [--max-range-km R] --out floor.tif [--threads N] [--max-memory SIZE] [--max-work-min M]
-                 [--quiet] [--debug]
+                 [--max-range-km R] --out floor.tif [--sweep auto|cells|radials] [--threads N]
+                 [--max-memory SIZE] [--max-work-min M] [--quiet] [--debug]
 
 Writes a Float32 GeoTIFF on the first DEM's grid and CRS: per cell, the lowest altitude above mean sea level
 (metres) at which a target above that cell is in line of sight of the antenna — never below the ground there.
@@ -39,6 +46,11 @@ Options:
   --max-range-km R    farthest range computed, more than 0 and at most 2000 km (default: the farthest cell of
                       the first DEM, at most 2000 km)
   --out FILE          output GeoTIFF
+  --sweep S           how the terrain is sampled: "cells" sweeps the DEM's own cells outward from the antenna
+                      (which stands at the centre of its cell), walking every row and column crossing within
+                      ${NEAR_CELLS} cells and carrying the screening beyond; "radials" walks geodesic radials from the
+                      exact site and resamples them onto the cells; "auto" (default) takes cells where straight
+                      lines on the DEM's grid follow geodesics (projected DEMs; geographic ones over a short reach)
   --threads N         worker threads, 0 to the machine's cores (default: one per core; 0 = the main thread)
 ${memoryHelp(22)}
 ${workHelp(22)}
@@ -53,6 +65,7 @@ const SPEC = {
   k: { value: true },
   'max-range-km': { value: true },
   out: { value: true },
+  sweep: { value: true },
   threads: { value: true },
   ...MEMORY_OPTION,
   ...WORK_OPTION,
@@ -100,6 +113,9 @@ export async function floorCommand(argv: readonly string[], log: (s: string) => 
       : numberArg('max-range-km', rangeText, 0, 2000, 'a range in km, more than 0 and at most 2000', true);
   const maxRangeM = maxRangeKm === undefined ? undefined : maxRangeKm * 1000;
   const outPath = required(p, 'out', 'the output GeoTIFF path');
+  const sweepText = one(p, 'sweep') ?? 'auto';
+  if (sweepText !== 'auto' && sweepText !== 'cells' && sweepText !== 'radials')
+    throw new InputError('--sweep', JSON.stringify(sweepText), '"auto", "cells" or "radials"');
   const threads = threadsArg(p, NodePool.defaultSize());
   const memoryLimit = memoryLimitArg(p);
   const workLimitMin = workLimitArg(p);
@@ -125,7 +141,9 @@ export async function floorCommand(argv: readonly string[], log: (s: string) => 
       const onTile =
         sitePixel.col >= 0 && sitePixel.col <= g.width && sitePixel.row >= 0 && sitePixel.row <= g.height;
       if (onTile && [px.x, px.y].every(Number.isFinite)) {
+        const method = chooseSweep(sweepText, g, site, px, sitePixel, maxRangeM, true);
         checkFloorMemory({
+          method,
           terrainPixels: g.width * g.height,
           outGeo: g,
           px,
@@ -138,25 +156,50 @@ export async function floorCommand(argv: readonly string[], log: (s: string) => 
     },
   });
   const tRead = performance.now();
-  checkFloorRun(terrain, outGeo, site, maxRangeM, largest, memoryLimit, { threads, limitMin: workLimitMin });
+  const window = latticeWindow(terrain, outGeo);
+  const wholeTerrain =
+    window.col0 === 0 &&
+    window.row0 === 0 &&
+    window.width === terrain.geo.width &&
+    window.height === terrain.geo.height;
+  const method = chooseSweep(
+    sweepText,
+    terrain.geo,
+    site,
+    terrain.metresPerPixel(site.lon, site.lat),
+    siteOnGrid(terrain.geo, site).sitePixel,
+    maxRangeM,
+    wholeTerrain,
+  );
+  checkFloorRun(terrain, outGeo, site, maxRangeM, largest, memoryLimit, method, {
+    threads,
+    limitMin: workLimitMin,
+  });
   // The output is written on the first DEM's CRS: make sure it can be, before the long work.
   const crsProblem = geoTiffCrsProblem(outGeo.crs);
   if (crsProblem !== undefined) {
     throw new InputError(dems[0], crsProblem, 'a DEM whose CRS can be written back as GeoTIFF keys');
   }
-  const ground = windowOf(terrain, outGeo);
   const pool = threads > 0 ? await NodePool.start(threads, terrain.toParts()) : null;
   const tReady = performance.now();
-  let result: FloorResult;
+  let result: { kind: 'radials'; r: FloorResult } | { kind: 'cells'; r: GridFloorResult };
   try {
-    result = await computeFloor(
-      terrain,
-      { lon: site.lon, lat: site.lat, mastM, kFactor, maxRangeM },
-      outGeo,
-      ground,
-      pool ? pool.executor() : inlineExecutor(terrain),
-      { onProgress: progress.update },
-    );
+    const exec = pool ? pool.executor() : inlineExecutor(terrain);
+    const req = { lon: site.lon, lat: site.lat, mastM, kFactor, maxRangeM };
+    result =
+      method.sweep === 'cells'
+        ? {
+            kind: 'cells',
+            r: await computeGridFloor(terrain, req, { ...window, inPlace: method.inPlace }, exec, {
+              onProgress: progress.update,
+            }),
+          }
+        : {
+            kind: 'radials',
+            r: await computeFloor(terrain, req, outGeo, windowOf(terrain, outGeo), exec, {
+              onProgress: progress.update,
+            }),
+          };
   } finally {
     await pool?.close();
   }
@@ -169,23 +212,34 @@ export async function floorCommand(argv: readonly string[], log: (s: string) => 
   // Header + the floor's own buffer, written one after the other (no copy of the raster).
   writeOutputFile(
     outPath,
-    encodeGeoTiffParts({ geo: outGeo, data: result.floor, nodata: NaN, description: CAUTION, provenance }),
+    encodeGeoTiffParts({ geo: outGeo, data: result.r.floor, nodata: NaN, description: CAUTION, provenance }),
   );
   const tWritten = performance.now();
   progress.done();
-  const s = result.stats;
-  const L = result.horizon.layout;
+  const s = result.r.stats;
   const sec = (ms: number) => `${(ms / 1000).toFixed(2)} s`;
   const pct = (n: number) => `${((100 * n) / s.cells).toFixed(1)} %`;
+  let sampling: string;
+  let stages: string;
+  if (result.kind === 'cells') {
+    const g = result.r.stats;
+    const reach = `out to ${(g.maxRangeM / 1000).toFixed(1)} km${maxRangeM === undefined ? ' (the farthest cell)' : ''}`;
+    sampling = `the DEM's own cells, ${reach}: every row and column crossing within ${NEAR_CELLS} cells of the antenna, the screening carried beyond; antenna at the centre of cell (column ${g.col}, row ${g.row})${method.inPlace ? '; floor written over the terrain buffer' : ''}`;
+    stages = `sweep ${sec(g.sweepMs)}`;
+  } else {
+    const L = result.r.horizon.layout;
+    sampling = `${result.r.stats.radials} geodesic radials at the outer range, step ${L.rangeStepM.toFixed(1)} m, out to ${(L.maxRangeM / 1000).toFixed(1)} km, resampled onto the cells`;
+    stages = `sweep ${sec(result.r.stats.sweepMs)}, resample ${sec(result.r.stats.resampleMs)}`;
+  }
   log(
     [
       `floor written to ${outPath} (${outGeo.width} × ${outGeo.height} cells, ${outGeo.crs.label})`,
       `  antenna      ${site.lon.toFixed(5)}, ${site.lat.toFixed(5)}: ground ${s.groundM.toFixed(1)} m + mast ${mastM} m = ${s.antennaAltM.toFixed(1)} m AMSL`,
       `  earth        k = ${kFactor.toFixed(4)}, effective radius ${((kFactor * EARTH_RADIUS_M) / 1000).toFixed(1)} km (R = 6371 km)`,
-      `  sampling     ${s.radials} radials at the outer range, step ${L.rangeStepM.toFixed(1)} m, out to ${(L.maxRangeM / 1000).toFixed(1)} km`,
+      `  sampling     ${sampling}${method.why ? ` (${method.why})` : ''}`,
       `  cells        ${pct(s.valued)} with a floor, ${pct(s.beyondRange)} beyond range, ${pct(s.unknown)} behind or on unknown terrain`,
       ...terrain.warnings.map((w) => `  warning      ${w}`),
-      `  stages       read into the mosaic ${sec(tRead - started)}, workers ${sec(tReady - tRead)}, sweep ${sec(s.sweepMs)}, resample ${sec(s.resampleMs)}, write ${sec(tWritten - tComputed)}`,
+      `  stages       read into the mosaic ${sec(tRead - started)}, workers ${sec(tReady - tRead)}, ${stages}, write ${sec(tWritten - tComputed)}`,
       `  time         ${((performance.now() - started) / 1000).toFixed(2)} s, peak memory ${(process.resourceUsage().maxRSS / 1024).toFixed(0)} MiB`,
     ].join('\n'),
   );
@@ -204,6 +258,7 @@ function checkFloorRun(
   maxRangeM: number | undefined,
   largest: Parameters<typeof estimateRun>[0]['largestTile'],
   memoryLimit: number,
+  method: SweepChoice,
   work: { threads: number; limitMin: number },
 ): void {
   if (!Number.isFinite(terrain.sampleLonLat(site.lon, site.lat))) {
@@ -217,6 +272,7 @@ function checkFloorRun(
   const px = terrain.metresPerPixel(site.lon, site.lat);
   const terrainPixels = terrain.geo.width * terrain.geo.height;
   const { reachM, pixelM, rangeBlame } = checkFloorMemory({
+    method,
     terrainPixels,
     outGeo,
     px,
@@ -225,7 +281,8 @@ function checkFloorRun(
     largest,
     memoryLimit,
   });
-  // The same layout in time: one sweep (the bound of budget-check.ts) and the resample onto the DEM's cells.
+  // In time, the radial sweep's bound (budget-check.ts) and the resample onto the DEM's cells: the sweep over the
+  // cells does less per cell than both, so the bound holds for it too.
   const workEst = estimateWork({
     sweeps: [{ reachM, rangeStepM: 0.75 * pixelM, arcStepM: 1.5 * pixelM }],
     terrainAreaM2: terrainPixels * px.x * px.y,
@@ -244,6 +301,7 @@ function checkFloorRun(
  * ground size of a pixel at the antenna (`px`): the horizon grows with the range squared over the pixel squared.
  */
 function checkFloorMemory(run: {
+  method: SweepChoice;
   terrainPixels: number;
   outGeo: GridGeo;
   px: { x: number; y: number };
@@ -253,7 +311,7 @@ function checkFloorMemory(run: {
   /** The antenna in (continuous) pixel coordinates of `outGeo`. */
   sitePixel: { col: number; row: number };
 }): { reachM: number; pixelM: number; rangeBlame: string } {
-  const { terrainPixels, outGeo, px, maxRangeM, largest, memoryLimit, sitePixel } = run;
+  const { method, terrainPixels, outGeo, px, maxRangeM, largest, memoryLimit, sitePixel } = run;
   const pixelM = Math.min(px.x, px.y);
   // The default range reaches the farthest cell of the first DEM: the farthest of its corners from the antenna.
   let farthestM = 0;
@@ -273,10 +331,10 @@ function checkFloorMemory(run: {
     reachM,
     rangeStepM: 0.75 * pixelM,
     arcStepM: 1.5 * pixelM,
-    horizonsInFlight: 1,
-    // A floor run keeps the floor and the ground under it (Float32 each) per output cell, and reads its tiles
-    // through the fused path.
-    gridBytesPerCell: 8,
+    // The radial sweep keeps a horizon, the floor and the ground under it (Float32 each) per output cell; the
+    // sweep over the cells keeps only small per-line buffers, and the floor (none when it is written in place).
+    horizonsInFlight: method.sweep === 'radials' ? 1 : 0,
+    gridBytesPerCell: method.sweep === 'radials' ? 8 : method.inPlace ? 0 : 4,
     streamedTiles: true,
   });
   const rangeBlame =
@@ -306,6 +364,56 @@ function siteOnGrid(
   const xy = [0, 0];
   stub.lonLatToPixel(at.lon, at.lat, xy);
   return { px: stub.metresPerPixel(at.lon, at.lat), sitePixel: { col: xy[0], row: xy[1] } };
+}
+
+interface SweepChoice {
+  sweep: 'cells' | 'radials';
+  /** The floor goes over the terrain's own buffer (one DEM: the output grid is the whole terrain). */
+  inPlace: boolean;
+  /** Why auto chose radials, when it did. */
+  why?: string;
+}
+
+/**
+ * Which sweep runs: the one asked for, or under "auto" the sweep over the cells where straight lines on the
+ * DEM's grid follow geodesics to within a quarter of a cell over the reach (grid-sweep.ts `gridSweepFits`).
+ */
+function chooseSweep(
+  asked: 'auto' | 'cells' | 'radials',
+  geo: GridGeo,
+  site: { lon: number; lat: number },
+  px: { x: number; y: number },
+  sitePixel: { col: number; row: number },
+  maxRangeM: number | undefined,
+  wholeTerrain: boolean,
+): SweepChoice {
+  if (asked === 'radials') return { sweep: 'radials', inPlace: false };
+  let farthestM = 0;
+  for (const cx of [0, geo.width])
+    for (const cy of [0, geo.height])
+      farthestM = Math.max(farthestM, Math.hypot((cx - sitePixel.col) * px.x, (cy - sitePixel.row) * px.y));
+  const reachM = Math.min(maxRangeM ?? farthestM, farthestM);
+  const fits = gridSweepFits(geo.crs.kind === 'geographic', reachM, site.lat, Math.min(px.x, px.y));
+  if (asked === 'cells' || fits) return { sweep: 'cells', inPlace: wholeTerrain };
+  return {
+    sweep: 'radials',
+    inPlace: false,
+    why: 'a geographic DEM whose straight grid lines part from geodesics by more than a quarter cell over this reach',
+  };
+}
+
+/** Where `geo` (the first DEM) sits on the terrain lattice. */
+function latticeWindow(
+  terrain: Terrain,
+  geo: GridGeo,
+): { col0: number; row0: number; width: number; height: number } {
+  const t = terrain.geo;
+  return {
+    col0: Math.round((geo.originX - t.originX) / t.pixelX),
+    row0: Math.round((geo.originY - t.originY) / t.pixelY),
+    width: geo.width,
+    height: geo.height,
+  };
 }
 
 /** The terrain heights under `geo`'s cells when `geo` lies on the terrain lattice (it does for the first tile). */

@@ -7,6 +7,8 @@
  * them here (tests); the Node CLI and the browser pass executors over worker pools with the same interface.
  */
 import { nowMs } from './clock.ts';
+import { EARTH_RADIUS_M } from '../../shared/units.ts';
+import { InputError } from '../../shared/errors.ts';
 import type { GridGeo } from './grid.ts';
 import type { HorizonCache } from './horizon-cache.ts';
 import { gridMapper } from './grid.ts';
@@ -22,6 +24,14 @@ import {
   type ResampleCounts,
   type TerrainRaster,
 } from './horizon.ts';
+import {
+  copyPristine,
+  gridSweepTasks,
+  sweepGridOctant,
+  type GridPristine,
+  type GridSweepCounts,
+  type GridSweepTask,
+} from './grid-sweep.ts';
 
 export type Progress = (fraction: number, stage: string) => void;
 
@@ -41,6 +51,8 @@ export interface Executor {
     rowEnd: number,
     distance: Float32Array | null,
   ): Promise<ResampleCounts>;
+  /** One octant of the grid-native sweep (grid-sweep.ts) over the executor's terrain, into `out`. */
+  gridSweep(task: GridSweepTask, pristine: GridPristine, out: Float32Array): Promise<GridSweepCounts>;
 }
 
 /** Runs every piece on this thread against the given terrain. */
@@ -53,6 +65,9 @@ export function inlineExecutor(terrain: TerrainRaster): Executor {
     },
     async resample(layout, tan, vmap, out, ground, r0, r1, distance) {
       return resampleFloor({ layout, tan }, new VectorMap(vmap), out, ground, r0, r1, distance);
+    },
+    async gridSweep(task, pristine, out) {
+      return sweepGridOctant(task, terrain.data, pristine, out);
     },
   };
 }
@@ -190,4 +205,125 @@ export async function computeFloor(
 function pixelSizeM(terrain: TerrainRaster, req: FloorRequest): number {
   const p = terrain.metresPerPixel(req.lon, req.lat);
   return Math.max(p.x, p.y);
+}
+
+/** Where the grid-native floor goes: a window of the terrain lattice, or the terrain's own buffer (in place). */
+export interface GridFloorWindow {
+  col0: number;
+  row0: number;
+  width: number;
+  height: number;
+  /**
+   * Write the floor over the terrain itself (the window must then be the whole lattice): no second raster. The
+   * terrain is unusable afterwards.
+   */
+  inPlace: boolean;
+}
+
+export interface GridFloorResult {
+  /** The floor on the window (NaN = no value); the terrain's own buffer when in place. */
+  floor: Float32Array;
+  stats: Omit<FloorStats, 'radials' | 'samples' | 'resampleMs'> & {
+    /** The antenna's cell on the terrain lattice (the antenna stands at its centre). */
+    col: number;
+    row: number;
+    maxRangeM: number;
+  };
+}
+
+/**
+ * The floor straight on the terrain's own cells (grid-sweep.ts): eight octants, in parallel over the executor.
+ * The antenna stands at the centre of the terrain cell holding (lon, lat); its ground is that cell's height.
+ */
+export async function computeGridFloor(
+  terrain: TerrainRaster,
+  req: FloorRequest,
+  window: GridFloorWindow,
+  exec: Executor,
+  options: { onProgress?: Progress } = {},
+): Promise<GridFloorResult> {
+  const g = terrain.geo;
+  const W = g.width;
+  const H = g.height;
+  if (window.inPlace && (window.col0 !== 0 || window.row0 !== 0 || window.width !== W || window.height !== H))
+    throw new Error('computeGridFloor: in place needs the whole terrain as the window');
+  const p = [0, 0];
+  terrain.lonLatToPixel(req.lon, req.lat, p);
+  const col = Math.floor(p[0]);
+  const row = Math.floor(p[1]);
+  const groundM = col >= 0 && row >= 0 && col < W && row < H ? terrain.data[row * W + col] : NaN;
+  if (!Number.isFinite(groundM)) {
+    throw new InputError(
+      '--site',
+      `${req.lon},${req.lat}`,
+      'a site on a known cell of the loaded terrain tiles (lon,lat in degrees)',
+    );
+  }
+  const kFactor = req.kFactor ?? 4 / 3;
+  const reM = kFactor * (req.earthRadiusM ?? EARTH_RADIUS_M);
+  const t0 = nowMs();
+  options.onProgress?.(0, 'geodesics');
+  // Distances from where the sweep puts the antenna: the centre of its cell.
+  const centre = [0, 0];
+  terrain.pixelToLonLat(col + 0.5, row + 0.5, centre);
+  const vmap = VectorMap.build(centre[0], centre[1], W, H, terrain);
+  // Never farther than the farthest cell (nor than 2000 km): what lies beyond is not asked for.
+  const maxRangeM = Math.min(req.maxRangeM ?? Infinity, 2_000_000, vmap.maxDistanceM() + 1);
+  const antennaAltM = groundM + req.mastM;
+  const pristine = copyPristine(terrain.data, W, H, col, row);
+  const out = window.inPlace
+    ? terrain.data
+    : new Float32Array(
+        exec.shared
+          ? new SharedArrayBuffer(window.width * window.height * 4)
+          : new ArrayBuffer(window.width * window.height * 4),
+      );
+  const tasks = gridSweepTasks({
+    width: W,
+    height: H,
+    col,
+    row,
+    antennaAltM,
+    reM,
+    maxRangeM,
+    outCol0: window.col0,
+    outRow0: window.row0,
+    outWidth: window.width,
+    outHeight: window.height,
+    vmap,
+  });
+  // Largest octants first, so the last ones to finish are short.
+  const size = (t: GridSweepTask): number => {
+    const lines = t.lines === 'rows' ? (t.sy > 0 ? H - 1 - row : row) : t.sx > 0 ? W - 1 - col : col;
+    const along = t.lines === 'rows' ? (t.sx > 0 ? W - 1 - col : col) : t.sy > 0 ? H - 1 - row : row;
+    return Math.min(lines, along) * Math.max(lines, along);
+  };
+  tasks.sort((a, b) => size(b) - size(a));
+  let done = 0;
+  const counts = await Promise.all(
+    tasks.map((t) =>
+      exec.gridSweep(t, pristine, out).then((c) => {
+        options.onProgress?.(++done / tasks.length, 'terrain sweep');
+        return c;
+      }),
+    ),
+  );
+  const beyondRange = counts.reduce((a, c) => a + c.beyondRange, 0);
+  const unknown = counts.reduce((a, c) => a + c.unknown, 0);
+  const cells = window.width * window.height;
+  return {
+    floor: out,
+    stats: {
+      cells,
+      valued: cells - beyondRange - unknown,
+      beyondRange,
+      unknown,
+      groundM,
+      antennaAltM,
+      col,
+      row,
+      maxRangeM,
+      sweepMs: nowMs() - t0,
+    },
+  };
 }

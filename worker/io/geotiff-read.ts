@@ -358,6 +358,27 @@ function decodeUncompressed(
       );
     }
     readGap(start);
+    // Little-endian Float32 metres in whole rows that lie end to end in the destination: read straight into it
+    // and clean the voids in place (no scratch copy, no conversion).
+    if (
+      Ctor === Float32Array &&
+      p.littleEndian &&
+      p.vertical === 1 &&
+      cols === blockW &&
+      stride === blockW &&
+      (dst.byteOffset + at * 4) % 4 === 0
+    ) {
+      const bytes = rows * rowBytes;
+      if (
+        p.counts[i] < bytes ||
+        src.read(start, new Uint8Array(dst.buffer, dst.byteOffset + at * 4, bytes)) !== bytes
+      ) {
+        throw bad(`a truncated file (block ${i} ends past byte ${src.byteLength})`, EXPECT_FILE);
+      }
+      if (start + bytes > cursor) cursor = start + bytes;
+      voids += voidsInPlace(dst, at, rows * cols, p.nodata);
+      continue;
+    }
     for (let r = 0; r < rows; r += chunkRows) {
       const n = Math.min(chunkRows, rows - r);
       // The last row of the block may stop at the image's edge (its padding is not needed).
@@ -815,6 +836,19 @@ function verticalScale(keys: Keys | null, warnings: string[]): number {
  * Copies `n` samples from `src[from…]` into `out[at…]` in metres; voids become NaN. Returns the number of voids.
  * `nodata` NaN means "no nodata value" (NaN samples are voids anyway).
  */
+/** `toMetres` for Float32 metres already in place: the voids (nodata, NaN, float sentinels) become NaN. */
+function voidsInPlace(a: Float32Array, from: number, n: number, nodata: number): number {
+  let voids = 0;
+  for (let i = from; i < from + n; i++) {
+    const v = a[i];
+    if (v === nodata || v !== v || v >= FLOAT_SENTINEL || v <= -FLOAT_SENTINEL) {
+      a[i] = NaN;
+      voids++;
+    }
+  }
+  return voids;
+}
+
 function toMetres(
   src: ArrayLike<number>,
   from: number,

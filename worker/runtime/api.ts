@@ -6,6 +6,12 @@
 import { Terrain, type TerrainParts } from '../core/terrain.ts';
 import { resampleFloor, sweepSector, type HorizonLayout, type ResampleCounts } from '../core/horizon.ts';
 import { VectorMap, type VectorMapParts } from '../core/geodesy.ts';
+import {
+  sweepGridOctant,
+  type GridPristine,
+  type GridSweepCounts,
+  type GridSweepTask,
+} from '../core/grid-sweep.ts';
 import { solvePlan, type PlanInstance, type PlanOptions, type PlanResult } from '../core/plan.ts';
 
 let terrain: Terrain | null = null;
@@ -34,6 +40,10 @@ export const api = {
     distance: Float32Array | null,
   ): ResampleCounts {
     return resampleFloor({ layout, tan }, new VectorMap(vmap), out, ground, rowStart, rowEnd, distance);
+  },
+  /** One octant of the grid-native floor sweep; `out` may be the terrain's own (shared) buffer. */
+  gridSweep(task: GridSweepTask, pristine: GridPristine, out: Float32Array): GridSweepCounts {
+    return sweepGridOctant(task, need().data, pristine, out);
   },
   /**
    * The planner, off the caller's thread (the app's engine stays free for quick calls while HiGHS works).

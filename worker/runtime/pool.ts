@@ -38,6 +38,7 @@ export class RemotePool {
       sweep: (layout, tan, a, b) => this.run((w) => w.sweep(layout, tan, a, b)),
       resample: (layout, tan, vmap, out, ground, r0, r1, distance) =>
         this.run((w) => w.resample(layout, tan, vmap, out, ground, r0, r1, distance)),
+      gridSweep: (task, pristine, out) => this.run((w) => w.gridSweep(task, pristine, out)),
     };
   }
 }
