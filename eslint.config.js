@@ -10,6 +10,7 @@ export default tseslint.config(
       'data/demo/',
       'test-output/',
       'bench/out/',
+      '.scratch/',
       'coverage/',
       'out/',
       'test/scratch/',

@@ -23,6 +23,8 @@ import {
   type Session,
   SESSION_OPTIONS,
   sessionHelp,
+  cacheHelp,
+  CACHE_OPTION,
 } from './session.ts';
 
 export const COMPARE_HELP = `airshade compare — two layouts side by side
@@ -38,6 +40,7 @@ DIR/compare-FL050.geojson … with the gained and lost areas per volume.
 Options:
 ${weatherHelp(19)}
 ${coldDayHelp(19)}
+${cacheHelp(19)}
 ${sessionHelp(19)}
 
 ${runFolderHelp()}`;
@@ -49,6 +52,7 @@ const SPEC = {
   weather: {},
   'cold-day': {},
   threads: { value: true },
+  ...CACHE_OPTION,
   ...SESSION_OPTIONS,
   quiet: {},
   debug: {},

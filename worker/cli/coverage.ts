@@ -24,7 +24,15 @@ import { coldDayHelp, one, parseArgs, required, scenarioArg, threadsArg, weather
 import { finishRun, RunFolder, runFolderHelp } from './files.ts';
 import { scenarioProvenance } from './provenance.ts';
 import type { LoadedScenario } from './scenario.ts';
-import { footprintsFor, networkChoice, openCommandSession, SESSION_OPTIONS, sessionHelp } from './session.ts';
+import {
+  cacheHelp,
+  CACHE_OPTION,
+  footprintsFor,
+  networkChoice,
+  openCommandSession,
+  SESSION_OPTIONS,
+  sessionHelp,
+} from './session.ts';
 import { levelLayers } from '../io/layers.ts';
 
 export { analysisGrid, groundOnGrid, terrainBounds } from '../io/study.ts';
@@ -54,6 +62,7 @@ ${coldDayHelp(19)}
                    scenario's k. A k outside 0.2–20 is refused (near −157 N/km the ray follows the earth: ducting)
   --out DIR        output folder
   --threads N      worker threads (default: one per core; 0 runs on the main thread)
+${cacheHelp(19)}
 ${sessionHelp(19)}
 
 ${runFolderHelp()}`;
@@ -66,6 +75,7 @@ const SPEC = {
   'k-sweep': { value: true },
   out: { value: true },
   threads: { value: true },
+  ...CACHE_OPTION,
   ...SESSION_OPTIONS,
   quiet: {},
   debug: {},

@@ -13,6 +13,7 @@ import { compareCommand, COMPARE_HELP } from './compare.ts';
 import { planCommand, PLAN_HELP } from './plan.ts';
 import { reportCommand, REPORT_HELP } from './report.ts';
 import { initCommand, INIT_HELP } from './init.ts';
+import { footprintsCommand, FOOTPRINTS_HELP } from './footprints.ts';
 
 const HELP = `airshade — radar network coverage planner (planning aid; see the cautions in README.md)
 
@@ -29,6 +30,7 @@ Commands:
   outage        what is lost, per volume and flight level, when each site of a plan or layout goes down
   compare       two layouts side by side: cost, coverage per volume and level, gained and lost areas
   report        one self-contained HTML report of a network for a safety case: maps, tables, provenance
+  footprints    the footprints of a range of sites into a cache folder, to run a study in shards (docs/BATCH.md)
 `;
 
 type Command = (argv: readonly string[], log: (s: string) => void) => Promise<number>;
@@ -41,6 +43,7 @@ const COMMANDS: Record<string, { run: Command; help: string }> = {
   outage: { run: outageCommand, help: OUTAGE_HELP },
   compare: { run: compareCommand, help: COMPARE_HELP },
   report: { run: reportCommand, help: REPORT_HELP },
+  footprints: { run: footprintsCommand, help: FOOTPRINTS_HELP },
   demo: { run: demoCommand, help: DEMO_HELP },
   'demo-data': { run: demoDataCommand, help: DEMO_DATA_HELP },
 };

@@ -25,6 +25,8 @@ import {
   type Session,
   SESSION_OPTIONS,
   sessionHelp,
+  cacheHelp,
+  CACHE_OPTION,
 } from './session.ts';
 
 export const OUTAGE_HELP = `airshade outage — what is lost when a site goes down
@@ -42,6 +44,7 @@ Writes DIR/outage.json and DIR/outage-<site>-FL050.geojson … (the lost coverag
 Options:
 ${weatherHelp(19)}
 ${coldDayHelp(19)}
+${cacheHelp(19)}
 ${sessionHelp(19)}
 
 ${runFolderHelp()}`;
@@ -54,6 +57,7 @@ const SPEC = {
   weather: {},
   'cold-day': {},
   threads: { value: true },
+  ...CACHE_OPTION,
   ...SESSION_OPTIONS,
   quiet: {},
   debug: {},

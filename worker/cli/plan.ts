@@ -43,6 +43,8 @@ import {
   type Session,
   SESSION_OPTIONS,
   sessionHelp,
+  cacheHelp,
+  CACHE_OPTION,
 } from './session.ts';
 
 export const PLAN_HELP = `airshade plan — the cheapest sites and sensor types that meet the airspace's requirements
@@ -72,6 +74,7 @@ Options:
                     another machine
 ${weatherHelp(20)}
 ${coldDayHelp(20)}
+${cacheHelp(20)}
 ${sessionHelp(20)}
 
 ${runFolderHelp()}`;
@@ -86,6 +89,7 @@ const SPEC = {
   'solver-nodes': { value: true },
   'time-limit-s': { value: true },
   threads: { value: true },
+  ...CACHE_OPTION,
   ...SESSION_OPTIONS,
   quiet: {},
   debug: {},

@@ -13,8 +13,11 @@ import type { OptionSpec, Parsed } from './args.ts';
 import { digestOfRead } from './files.ts';
 import type { LoadedScenario } from './scenario.ts';
 
-/** Options that never change a result: where it goes, how many threads compute it, what is printed. */
-const NOT_RESULT = new Set(['out', 'threads', 'quiet', 'debug', 'help']);
+/**
+ * Options that never change a result: where it goes, how many threads compute it, what is printed, where the
+ * footprints are cached (a cached footprint is the same bytes as a computed one).
+ */
+const NOT_RESULT = new Set(['out', 'threads', 'quiet', 'debug', 'help', 'cache']);
 
 /**
  * The options of a parsed command line that can change its result, by name in alphabetical order: switches as

@@ -19,7 +19,7 @@ import {
 } from '../io/study.ts';
 import type { GridGeo } from '../core/grid.ts';
 import { NM_M } from '../../shared/units.ts';
-import { applyColdDay, type Parsed } from './args.ts';
+import { applyColdDay, helpOption, one, type Parsed } from './args.ts';
 import {
   checkEstimate,
   estimateRun,
@@ -40,8 +40,25 @@ import {
   type WorkEstimate,
 } from './work-check.ts';
 import { loadScenario, OUTSIDE_PATHS_HELP, OUTSIDE_PATHS_OPTION, type LoadedScenario } from './scenario.ts';
+import { join } from 'node:path';
+import {
+  cacheFileName,
+  footprintInputs,
+  footprintKey,
+  openCacheDir,
+  readCachedSite,
+  siteGroups,
+  writeCachedSite,
+} from './footprint-cache.ts';
 
-export type Session = Study<LoadedScenario>;
+/**
+ * A study opened by the CLI. `cacheDir`: the footprint cache folder (--cache), when one is used; `workCheck`: the
+ * time estimate, left until the cache says which sites need a sweep (then taken by `footprintsFor`).
+ */
+export type Session = Study<LoadedScenario> & {
+  cacheDir?: string;
+  workCheck?: { loaded: LoadedScenario; limitMin: number };
+};
 
 export { allCandidates, candidate, layoutCandidates, siteOf } from '../io/study.ts';
 
@@ -66,6 +83,17 @@ export function networkChoice(
 /** The options every scenario command takes for its inputs: --max-memory, --max-work-min, --allow-outside-paths. */
 export const SESSION_OPTIONS = { ...MEMORY_OPTION, ...WORK_OPTION, ...OUTSIDE_PATHS_OPTION } as const;
 
+/** The footprint cache option of the commands that compute footprints (worker/cli/footprint-cache.ts). */
+export const CACHE_OPTION = { cache: { value: true } } as const;
+
+/** Its help lines, with option texts starting at `column`. */
+export function cacheHelp(column: number): string {
+  return helpOption('--cache DIR', column, [
+    'footprint cache folder (created if missing): the footprints found there are read, the',
+    'missing ones computed and stored there; the same results, byte for byte (docs/BATCH.md)',
+  ]);
+}
+
 /** Their help lines, with option texts starting at `column`. */
 export function sessionHelp(column: number): string {
   return `${memoryHelp(column)}\n${workHelp(column)}\n${OUTSIDE_PATHS_HELP(column)}`;
@@ -82,6 +110,16 @@ export interface SessionOptions {
   out?: { path: string; kind: 'file' | 'folder' };
   /** The levels the run computes when not the scenario's (`coverage --fl`), and the argument that gave them. */
   runLevels?: { list: readonly number[]; where: string };
+  /**
+   * The sites the run computes when not all (`footprints --sites`): checked against the scenario's sites as soon
+   * as it is read, and the memory and time estimates taken for these sites only. Returns [first, last], 1-based.
+   */
+  siteRange?: (siteCount: number) => [number, number];
+  /**
+   * Leave the time estimate to `footprintsFor` (with a footprint cache: only the sites not in it are swept); it is
+   * still taken before any footprint is computed.
+   */
+  deferWorkCheck?: boolean;
 }
 
 /** The session options as the command line gives them (`out` from the command itself). */
@@ -105,13 +143,19 @@ export async function openCommandSession(
   threads: number,
   out: NonNullable<SessionOptions['out']>,
   runLevels?: SessionOptions['runLevels'],
+  siteRange?: SessionOptions['siteRange'],
 ): Promise<{ session: Session; progress: ProgressLine }> {
   const progress = new ProgressLine(command, p.flags.has('quiet'));
-  const session = await openSession(scenarioPath, threads, progress, {
+  const cacheText = one(p, 'cache');
+  const cacheDir = cacheText === undefined ? undefined : openCacheDir(cacheText);
+  const session: Session = await openSession(scenarioPath, threads, progress, {
     ...sessionOptions(p, out),
     runLevels,
+    siteRange,
+    deferWorkCheck: cacheDir !== undefined,
   });
   applyColdDay(p, session.loaded.scenario);
+  if (cacheDir !== undefined) session.cacheDir = cacheDir;
   return { session, progress };
 }
 
@@ -123,6 +167,14 @@ export async function openSession(
 ): Promise<Session> {
   progress.update(0, 'reading the scenario');
   const loaded = await loadScenario(path, { allowOutsidePaths: opts.allowOutsidePaths });
+  // The estimates below for the sites this run computes (all, or those of `footprints --sites`).
+  const range = opts.siteRange?.(loaded.scenario.sites.length);
+  const checked = range
+    ? {
+        ...loaded,
+        scenario: { ...loaded.scenario, sites: loaded.scenario.sites.slice(range[0] - 1, range[1]) },
+      }
+    : loaded;
   if (opts.out) {
     const inputs = [
       loaded.file,
@@ -142,14 +194,12 @@ export async function openSession(
     shared: threads > 0,
     names: loaded.scenario.terrain.files.map((_, i) => loaded.locate(['terrain', 'files', i])),
   });
-  checkStudyMemory(loaded, terrain, largest, limit);
-  checkStudyWork(
-    loaded,
-    terrain,
-    threads,
-    opts.maxWorkMin ?? workLimitArg({ positional: [], values: new Map(), flags: new Set() }),
-  );
-  return openStudy(loaded, terrain, threads, opts.runLevels);
+  checkStudyMemory(checked, terrain, largest, limit);
+  const limitMin = opts.maxWorkMin ?? workLimitArg({ positional: [], values: new Map(), flags: new Set() });
+  if (!opts.deferWorkCheck) checkStudyWork(checked, terrain, threads, limitMin);
+  const study: Session = openStudy(loaded, terrain, threads, opts.runLevels);
+  if (opts.deferWorkCheck) study.workCheck = { loaded: checked, limitMin };
+  return study;
 }
 
 /**
@@ -171,13 +221,15 @@ export function checkStudyMemory(
 /**
  * The study's work against the time limit, before its grid exists (work-check.ts): every allowed (site, type)
  * pair, each site's sweep out to the farthest of its types (as worker/core/coverage.ts sweeps it: a terrain
- * pixel along, ¾ of a cell across), the scenario's levels and targets.
+ * pixel along, ¾ of a cell across), the scenario's levels and targets. With `sweptSites`, only those sites are
+ * swept (the others' footprints are in the cache).
  */
 export function checkStudyWork(
   loaded: LoadedScenario,
   terrain: Terrain,
   threads: number,
   limitMin: number,
+  sweptSites?: ReadonlySet<string>,
 ): WorkEstimate {
   const s = loaded.scenario;
   const grid: GridGeo = analysisGrid(loaded, terrain);
@@ -185,9 +237,10 @@ export function checkStudyWork(
   const cellM = Math.min(grid.pixelX * Math.cos((lat * Math.PI) / 180), -grid.pixelY) * 111_320;
   const rangeOf = new Map(s.sensorTypes.map((t) => [t.id, t.instrumentedRangeNm * NM_M]));
   let pairs = 0;
-  const sweeps = s.sites.map((f) => {
+  for (const f of s.sites) pairs += (f.properties.allowedTypes ?? s.sensorTypes).length;
+  const swept = sweptSites ? s.sites.filter((f) => sweptSites.has(f.properties.id)) : s.sites;
+  const sweeps = swept.map((f) => {
     const types = f.properties.allowedTypes ?? s.sensorTypes.map((t) => t.id);
-    pairs += types.length;
     const [lon, siteLat] = f.geometry.coordinates;
     const px = terrain.metresPerPixel(lon, siteLat);
     return {
@@ -202,7 +255,7 @@ export function checkStudyWork(
     sweeps,
     terrainAreaM2: (tb.east - tb.west) * Math.cos(midLat) * (tb.north - tb.south) * 111_320 ** 2,
     cells: grid.width * grid.height,
-    sites: s.sites.length,
+    sites: swept.length,
     pairs,
     targets: studyTargets(s).targets.length,
     levels: s.flightLevels.length,
@@ -210,20 +263,93 @@ export function checkStudyWork(
   });
   const cell = `${loaded.locate(['grid', 'cellArcSec'])} (${s.grid.cellArcSec}″: ${grid.width} × ${grid.height} cells)`;
   checkWork(est, limitMin, {
-    sweeps: `${loaded.locate(['sites'])} (${s.sites.length} sites, each swept out to ${(Math.max(0, ...sweeps.map((w) => w.reachM)) / 1000).toFixed(0)} km: maxRangeKm and the types' instrumented range)`,
+    sweeps: `${loaded.locate(['sites'])} (${swept.length} sites${sweptSites ? ` of ${s.sites.length} not in the footprint cache` : ''}, each swept out to ${(Math.max(0, ...sweeps.map((w) => w.reachM)) / 1000).toFixed(0)} km: maxRangeKm and the types' instrumented range)`,
     cells: `${cell} with ${pairs} (site, type) pairs and ${s.flightLevels.length} flight levels`,
   });
   return est;
 }
 
-/** Footprints of the candidates (the floors in a pool of `session.threads` workers, 0 = inline). */
+export interface FootprintsOptions {
+  weather?: boolean;
+  progress?: ProgressLine;
+  share?: [number, number];
+  /** With a cache: told of each site read from it or written to it (e.g. `airshade footprints`' report). */
+  onCache?: (event: { siteId: string; file: string; read: boolean }) => void;
+}
+
+/**
+ * Footprints of the candidates (the floors in a pool of `session.threads` workers, 0 = inline), in the order
+ * `computeFootprints` gives them. With `session.cacheDir` (--cache): each site's footprints are read from the
+ * cache when there, the others computed and stored there as each site is done (worker/cli/footprint-cache.ts).
+ */
 export async function footprintsFor(
   session: Session,
   candidates: readonly Candidate[],
-  opts: { weather?: boolean; progress?: ProgressLine; share?: [number, number] } = {},
+  opts: FootprintsOptions = {},
 ): Promise<Footprint[]> {
-  const { terrain, grid, ground, loaded, threads } = session;
-  const s = loaded.scenario;
+  const s = session.loaded.scenario;
+  const job = {
+    kFactor: s.earth.kFactor,
+    maxRangeM: (s.maxRangeKm ?? 400) * 1000,
+    weather: opts.weather ?? false,
+    multipath: s.multipath === 'auto',
+  };
+  const dir = session.cacheDir;
+  if (dir === undefined) return computeFor(session, candidates, job, opts);
+  const grid = session.grid;
+  const groups = siteGroups(candidates).map((group) => {
+    const inputs = footprintInputs(session, group, job);
+    const key = footprintKey(inputs);
+    const warn = (line: string) => process.stderr.write(`${line}\n`);
+    const found = readCachedSite(dir, key, grid, warn);
+    // A file whose footprints do not match the group (a hand-edited header with the right key) is not used.
+    const fits =
+      found !== null &&
+      found.length === group.length &&
+      found.every((fp, i) => fp.siteId === group[i].site.id && fp.typeId === group[i].model.spec.id);
+    if (found !== null && !fits) {
+      warn(
+        `footprint cache: ${join(dir, cacheFileName(key))}: found footprints of ${found.map((f) => `${f.siteId}/${f.typeId}`).join(', ')}; expected ${group.map((c) => `${c.site.id}/${c.model.spec.id}`).join(', ')}; computing this site again`,
+      );
+    }
+    return { group, inputs, key, footprints: fits ? found : null };
+  });
+  for (const g of groups) {
+    if (g.footprints) opts.onCache?.({ siteId: g.group[0].site.id, file: g.key, read: true });
+  }
+  const missing = groups.filter((g) => g.footprints === null);
+  if (session.workCheck) {
+    // The time estimate for the sites still to sweep, before any is computed.
+    const { loaded, limitMin } = session.workCheck;
+    const swept = new Set(missing.map((g) => g.group[0].site.id));
+    checkStudyWork(loaded, session.terrain, session.threads, limitMin, swept);
+  }
+  if (missing.length > 0) {
+    const bySite = new Map(missing.map((g) => [g.group[0].site.id, g]));
+    await computeFor(
+      session,
+      missing.flatMap((g) => g.group),
+      job,
+      opts,
+      (site, fps) => {
+        const g = bySite.get(site.id)!;
+        g.footprints = fps;
+        const file = writeCachedSite(dir, g.key, g.inputs, fps, grid);
+        opts.onCache?.({ siteId: site.id, file, read: false });
+      },
+    );
+  }
+  return groups.flatMap((g) => g.footprints!);
+}
+
+async function computeFor(
+  session: Session,
+  candidates: readonly Candidate[],
+  job: { kFactor: number; maxRangeM: number; weather: boolean; multipath: boolean },
+  opts: FootprintsOptions,
+  onSiteDone?: (site: Candidate['site'], footprints: Footprint[]) => void,
+): Promise<Footprint[]> {
+  const { terrain, grid, ground, threads } = session;
   const [from, span] = opts.share ?? [0, 0.85];
   const pool = threads > 0 ? await NodePool.start(threads, terrain.toParts()) : null;
   try {
@@ -233,14 +359,14 @@ export async function footprintsFor(
         grid,
         ground,
         candidates,
-        kFactor: s.earth.kFactor,
-        maxRangeM: (s.maxRangeKm ?? 400) * 1000,
-        weather: opts.weather,
+        kFactor: job.kFactor,
+        maxRangeM: job.maxRangeM,
+        weather: job.weather,
         extraTargets: session.targets.slice(1),
-        multipath: s.multipath === 'auto',
+        multipath: job.multipath,
       },
       pool ? pool.executor() : inlineExecutor(terrain),
-      { onProgress: (f, stage) => opts.progress?.update(from + span * f, stage) },
+      { onProgress: (f, stage) => opts.progress?.update(from + span * f, stage), onSiteDone },
     );
     return r.footprints;
   } finally {

@@ -85,7 +85,12 @@ export async function computeFootprints(
   terrain: TerrainRaster,
   req: CoverageRequest,
   exec: Executor,
-  opts: { onProgress?: Progress; cache?: HorizonCache } = {},
+  opts: {
+    onProgress?: Progress;
+    cache?: HorizonCache;
+    /** Called as each site is done, with its candidates' footprints in order (e.g. to store them at once). */
+    onSiteDone?: (site: CoverageSite, footprints: Footprint[]) => void | Promise<void>;
+  } = {},
 ): Promise<{ footprints: Footprint[]; siteFloors: SiteFloor[] }> {
   const bySite = new Map<string, Candidate[]>();
   for (const c of req.candidates) {
@@ -184,6 +189,7 @@ export async function computeFootprints(
       groundM: res.groundM,
     });
     const sea = req.multipath ? seaMask(terrain, req.grid, site, distance, maxRangeM) : null;
+    const first = footprints.length;
     for (const c of cands) {
       const fp = footprintFor(c, c.target, res, maxRangeM, sea);
       if (req.extraTargets?.length) {
@@ -195,6 +201,7 @@ export async function computeFootprints(
       }
       footprints.push(fp);
     }
+    await opts.onSiteDone?.(site, footprints.slice(first));
     done++;
     opts.onProgress?.(done / groups.length, `${site.name}: done`);
   }

@@ -402,12 +402,16 @@ function floorOf(tan: number, s: number, g: number, re: number, rha: number): nu
     cs = Math.cos(x);
     sn = Math.sin(x);
   }
-  const den = cs - tan * sn;
-  // den ≤ 0: the screening ray never comes back down to this range; NaN: unknown terrain on the way.
-  let v = den > 1e-9 ? rha / den - re : den === den ? FLOOR_CAP_M : NaN;
-  if (v > FLOOR_CAP_M) v = FLOOR_CAP_M;
   if (g !== g) return NaN;
-  return v < g ? g : v;
+  const den = cs - tan * sn;
+  if (den > 1e-9) {
+    // The ground itself in sight (h ≤ g ⟺ Re + ha ≤ (Re + g)·den): no division.
+    if (rha <= (re + g) * den) return g;
+    const v = rha / den - re;
+    return v > FLOOR_CAP_M ? FLOOR_CAP_M : v;
+  }
+  // den ≤ 0: the screening ray never comes back down to this range; NaN: unknown terrain on the way.
+  return den === den ? (g > FLOOR_CAP_M ? g : FLOOR_CAP_M) : NaN;
 }
 
 /** Line d ≤ NEAR_CELLS: the exact walk to every cell (the antenna's own cell, d = 0, sees its ground). */
@@ -499,19 +503,12 @@ function farLine(sw: Sweep, d: number, len: number, s: Float64Array, h: Float32A
 export function monotoneCubic(ym: number, y0: number, y1: number, y2: number, w: number): number {
   const d0 = y1 - y0;
   if (d0 !== d0) return NaN;
-  if (d0 === 0) return y0;
-  let m0 = ym === ym ? 0.5 * (y1 - ym) : d0;
-  let m1 = y2 === y2 ? 0.5 * (y2 - y0) : d0;
-  if (m0 * d0 <= 0) m0 = 0;
-  if (m1 * d0 <= 0) m1 = 0;
-  const a = m0 / d0;
-  const b = m1 / d0;
-  const q = a * a + b * b;
-  if (q > 9) {
-    const k = 3 / Math.sqrt(q);
-    m0 = k * a * d0;
-    m1 = k * b * d0;
-  }
+  // Tangents by central differences (the secant where a neighbour is unknown), each held between 0 and three
+  // times the secant: inside that square the cubic is monotone (Fritsch & Carlson 1980). Min/max, no branches.
+  const lo = Math.min(0, 3 * d0);
+  const hi = Math.max(0, 3 * d0);
+  const m0 = Math.min(Math.max(ym === ym ? 0.5 * (y1 - ym) : d0, lo), hi);
+  const m1 = Math.min(Math.max(y2 === y2 ? 0.5 * (y2 - y0) : d0, lo), hi);
   const w2 = w * w;
   const w3 = w2 * w;
   return (2 * w3 - 3 * w2 + 1) * y0 + (w3 - 2 * w2 + w) * m0 + (3 * w2 - 2 * w3) * y1 + (w3 - w2) * m1;
