@@ -165,9 +165,12 @@ describe('refuse before allocating', () => {
       horizonsInFlight: 2,
     };
     const e = estimateRun(base);
-    // Footprints: two Uint16 per cell per pair (worker/core/footprint.ts).
-    expect(e.parts.footprints).toBe(1e5 * 20 * 4);
+    // Footprints: per pair and cell of its window (here every pair over the whole grid) two Uint16
+    // (worker/core/footprint.ts) and the network's level bits, one byte for 5 levels (worker/core/network.ts).
+    expect(e.parts.footprints).toBe(1e5 * 20 * (4 + 1));
     expect(estimateRun({ ...base, pairs: 40 }).parts.footprints).toBe(2 * e.parts.footprints);
+    // Windows: the pairs' window cells, not the grid, set the footprints' part.
+    expect(estimateRun({ ...base, pairWindowCells: 1e5 * 5 }).parts.footprints).toBe(e.parts.footprints / 4);
     // π R² / (0.75 step · arc) samples, plus the rim: at least the disc's area in step × arc pieces.
     expect(horizonSamples(100_000, 90, 700)).toBeGreaterThan((Math.PI * 1e10) / (90 * 700));
     expect(estimateRun({ ...base, arcStepM: 70 }).parts.horizons).toBeGreaterThan(9 * e.parts.horizons);

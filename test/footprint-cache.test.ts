@@ -27,6 +27,7 @@ import {
 import { allCandidates, checkStudyWork, footprintsFor, openSession } from '../worker/cli/session.ts';
 import { ProgressLine } from '../worker/cli/progress.ts';
 import { runCli } from './support/run-cli.ts';
+import { gridFootprint } from './support/footprints.ts';
 import {
   DEFAULT_SITES,
   DEFAULT_VOLUMES,
@@ -74,7 +75,7 @@ function fp(
       hi[i] = lo[i] + ((i * 11) % 9000);
     }
   }
-  return { siteId, typeId, kind: 'primary', lo, hi, ...(window ? { window } : {}) };
+  return gridFootprint({ siteId, typeId, kind: 'primary' }, lo, hi, width, cells / width, window);
 }
 
 describe('footprint file', () => {

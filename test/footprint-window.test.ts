@@ -15,7 +15,16 @@ import fc from 'fast-check';
 import geodesic from 'geographiclib-geodesic';
 import { describe, expect, it } from 'vitest';
 import { rangeWindow } from '../worker/core/coverage.ts';
-import { NO_COVER_LO, type Footprint, type FootprintWindow } from '../worker/core/footprint.ts';
+import {
+  coversAt,
+  hiAt,
+  loAt,
+  NO_COVER_LO,
+  wholeWindow,
+  type Footprint,
+  type FootprintWindow,
+} from '../worker/core/footprint.ts';
+import { gridFootprint } from './support/footprints.ts';
 import { WGS84_GEOGRAPHIC, type GridGeo } from '../worker/core/grid.ts';
 import { Network } from '../worker/core/network.ts';
 import { coveredPoints, type Demand } from '../worker/io/study.ts';
@@ -121,19 +130,30 @@ function footprintArb(W: number, H: number, siteIds: string[]) {
         lo[c] = x.lo[c];
         hi[c] = x.lo[c] + x.span[c];
       }
-      return {
-        siteId: x.site,
-        typeId: x.kind,
-        kind: x.kind,
+      return gridFootprint(
+        { siteId: x.site, typeId: x.kind, kind: x.kind },
         lo,
         hi,
-        ...(x.windowed ? { window } : {}),
-      };
+        W,
+        H,
+        x.windowed ? window : undefined,
+      );
     });
 }
 
-/** The same footprint without its window (the whole raster is read). */
-const unwindowed = (fp: Footprint): Footprint => ({ ...fp, window: undefined });
+/** The same footprint over the whole raster (its window's cells, no cover elsewhere). */
+const unwindowed =
+  (height: number) =>
+  (fp: Footprint): Footprint => {
+    const n = fp.window.width * height;
+    const lo = new Uint16Array(n);
+    const hi = new Uint16Array(n);
+    for (let c = 0; c < n; c++) {
+      lo[c] = loAt(fp, c);
+      hi[c] = hiAt(fp, c);
+    }
+    return { ...fp, lo, hi, window: wholeWindow(fp.window.width, height) };
+  };
 
 describe('reading footprints through their windows', () => {
   const W = 9;
@@ -144,7 +164,7 @@ describe('reading footprints through their windows', () => {
     fc.assert(
       fc.property(fc.array(footprintArb(W, H, ['a', 'b', 'c']), { minLength: 1, maxLength: 5 }), (fps) => {
         const a = new Network(W * H, altitudes, fps);
-        const b = new Network(W * H, altitudes, fps.map(unwindowed));
+        const b = new Network(W * H, altitudes, fps.map(unwindowed(H)));
         expect(a.fold).toEqual(b.fold);
         expect(a.networkFloor()).toEqual(b.networkFloor());
         for (const id of a.siteIds()) {
@@ -202,7 +222,7 @@ describe('reading footprints through their windows', () => {
           const expected: number[] = [];
           for (let p = 0; p < n; p++) {
             const h = altitudes[level[p]];
-            if (fp.lo[cell[p]] <= h && h <= fp.hi[cell[p]]) expected.push(p);
+            if (coversAt(fp, cell[p], h)) expected.push(p);
           }
           expect([...coveredPoints(fp, d, altitudes)]).toEqual(expected);
         },

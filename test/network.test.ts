@@ -14,7 +14,7 @@ import { area as turfArea, booleanPointInPolygon } from '@turf/turf';
 import fc from 'fast-check';
 import { describe, expect, it } from 'vitest';
 import { isInputError } from '../shared/errors.ts';
-import { NO_COVER_LO, type Footprint } from '../worker/core/footprint.ts';
+import { NO_COVER_LO, wholeWindow, type Footprint } from '../worker/core/footprint.ts';
 import { WGS84_GEOGRAPHIC, type GridGeo } from '../worker/core/grid.ts';
 import { KINDS, Network, type FoldKind } from '../worker/core/network.ts';
 import {
@@ -54,6 +54,7 @@ function footprintArb(cells: number) {
       kind,
       lo: Uint16Array.from(intervals.map((x) => x[0])),
       hi: Uint16Array.from(intervals.map((x) => x[1])),
+      window: wholeWindow(cells, 1),
     }));
 }
 
@@ -155,6 +156,7 @@ describe('Network: folds count distinct sites', () => {
       kind,
       lo: Uint16Array.from([0, 0, NO_COVER_LO]),
       hi: Uint16Array.from([5000, 5000, 0]),
+      window: wholeWindow(3, 1),
     });
     const one = new Network(3, [1524, 3048], [full('a', 'primary'), full('a', 'secondary')]);
     const two = new Network(3, [1524, 3048], [full('a', 'primary'), full('b', 'secondary')]);
@@ -314,6 +316,7 @@ describe('Network: floor and limits', () => {
       kind: 'secondary',
       lo: Uint16Array.from([0]),
       hi: Uint16Array.from([5000]),
+      window: wholeWindow(1, 1),
     }));
     let n: Network;
     try {

@@ -14,7 +14,7 @@
  * Before, the panel's per-level table also counted cell 2 (3 cells at each level) while its headline said 2.
  */
 import { describe, expect, it } from 'vitest';
-import { NO_COVER_LO, type Footprint } from '../worker/core/footprint.ts';
+import { NO_COVER_LO, wholeWindow, type Footprint } from '../worker/core/footprint.ts';
 import { WGS84_GEOGRAPHIC, type GridGeo } from '../worker/core/grid.ts';
 import { Network } from '../worker/core/network.ts';
 import { difference, outageTable, servedMasks, tally } from '../worker/core/outage.ts';
@@ -69,6 +69,7 @@ const fp = (siteId: string, cover: number[]): Footprint => ({
   kind: 'secondary',
   lo: Uint16Array.from(cover.map((c) => (c ? 0 : NO_COVER_LO))),
   hi: Uint16Array.from(cover.map((c) => (c ? 20_000 : 0))),
+  window: wholeWindow(GRID.width, GRID.height),
 });
 const network = () => new Network(4, ALTS, [fp('a', [1, 1, 1, 1]), fp('b', [0, 1, 0, 0])]);
 

@@ -7,7 +7,7 @@ import { readFileSync, existsSync } from 'node:fs';
 import { join } from 'node:path';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { runCli } from './support/run-cli.ts';
-import { NO_COVER_LO, type Footprint } from '../worker/core/footprint.ts';
+import { hiAt, loAt, NO_COVER_LO, wholeWindow, type Footprint } from '../worker/core/footprint.ts';
 import { WGS84_GEOGRAPHIC, type GridGeo } from '../worker/core/grid.ts';
 import { Network } from '../worker/core/network.ts';
 import { outageTable } from '../worker/core/outage.ts';
@@ -64,6 +64,7 @@ const toFootprints = (
     kind: f.kind,
     lo: Uint16Array.from(f.cover.map((c) => (c ? 0 : NO_COVER_LO))),
     hi: Uint16Array.from(f.cover.map((c) => (c ? 20_000 : 0))),
+    window: wholeWindow(W, H),
   }));
 
 describe('outage table', () => {
@@ -102,7 +103,7 @@ function singleSiteArea(fps: Footprint[], fold: Uint16Array, site: string): numb
   });
   let area = 0;
   for (let c = 0; c < W * H; c++) {
-    const mine = fps.some((f) => f.siteId === site && f.lo[c] <= f.hi[c]);
+    const mine = fps.some((f) => f.siteId === site && loAt(f, c) <= hiAt(f, c));
     if (mine && fold[c] === 1) area += rows[(c / W) | 0];
   }
   return area;

@@ -23,7 +23,7 @@ import { describe, expect, it } from 'vitest';
 import { flToMetres } from '../shared/units.ts';
 import { computeFootprints, type Candidate } from '../worker/core/coverage.ts';
 import { inlineExecutor } from '../worker/core/floor.ts';
-import { sensorBand, slantGeometry, type Footprint } from '../worker/core/footprint.ts';
+import { coversAt, hiAt, loAt, sensorBand, slantGeometry, type Footprint } from '../worker/core/footprint.ts';
 import { buildSensorModel, DEFAULT_TARGET, type SensorTypeSpec, type Target } from '../worker/core/sensor.ts';
 import { levelAltitudesM } from '../worker/io/study.ts';
 import { WGS84_GEOGRAPHIC } from '../worker/core/grid.ts';
@@ -79,7 +79,7 @@ function outerEdgeM(st: Strip, fp: Footprint, h: number): number {
   let edge = 0;
   for (let c = Math.ceil(st.c0) + 1; c < st.cells; c++) {
     const i = 2 * st.cells + c;
-    if (fp.lo[i] <= h && h <= fp.hi[i]) edge = (c - st.c0) * st.pixelM;
+    if (coversAt(fp, i, h)) edge = (c - st.c0) * st.pixelM;
   }
   return edge;
 }
@@ -88,7 +88,7 @@ function outerEdgeM(st: Strip, fp: Footprint, h: number): number {
 function innerEdgeM(st: Strip, fp: Footprint, h: number): number {
   for (let c = Math.ceil(st.c0) + 1; c < st.cells; c++) {
     const i = 2 * st.cells + c;
-    if (fp.lo[i] <= h && h <= fp.hi[i]) return (c - st.c0) * st.pixelM;
+    if (coversAt(fp, i, h)) return (c - st.c0) * st.pixelM;
   }
   return NaN;
 }
@@ -342,11 +342,11 @@ describe('over-sea lobing: the first lobe’s lower edge (Blake 1980 / Barton 20
     const i = 2 * W + c;
     const lambda = 299_792_458 / 1.03e9;
     const expected = (lambda * d * Math.asin(0.25)) / (2 * Math.PI * 10);
-    expect(out.false.lo[i]).toBe(0); // free space down to the sea surface
-    expect(out.true.lo[i]).toBeGreaterThan(0.75 * expected);
-    expect(out.true.lo[i]).toBeLessThan(1.25 * expected);
+    expect(loAt(out.false, i)).toBe(0); // free space down to the sea surface
+    expect(loAt(out.true, i)).toBeGreaterThan(0.75 * expected);
+    expect(loAt(out.true, i)).toBeLessThan(1.25 * expected);
     // Above the edge nothing changes.
-    expect(out.true.hi[i]).toBe(out.false.hi[i]);
+    expect(hiAt(out.true, i)).toBe(hiAt(out.false, i));
     // The first-lobe factor is capped at free space and is exactly free space above the first lobe's peak
     // (2πΔ/λ ≥ arg Γ, i.e. above h2 ≈ λ·d/(4·h1) on the flat earth [calc]): lobe maxima are not counted.
     const reFlat = 1000 * 6_371_000;
@@ -356,7 +356,7 @@ describe('over-sea lobing: the first lobe’s lower edge (Blake 1980 / Barton 20
       if (h2 > (1.05 * lambda * d) / (4 * 10)) expect(f).toBe(1);
     }
     // With land under the specular points (about 8–9 km out here) the reflection is not the sea's: not applied.
-    expect(out.island.lo[i]).toBeLessThan(0.25 * expected);
+    expect(loAt(out.island, i)).toBeLessThan(0.25 * expected);
   });
 });
 

@@ -5,8 +5,8 @@
 import { computeFootprints, type Candidate } from '../core/coverage.ts';
 import { inlineExecutor } from '../core/floor.ts';
 import type { Footprint } from '../core/footprint.ts';
-import { studyBlame, studyRun } from '../core/memory-estimate.ts';
-import type { Terrain } from '../core/terrain.ts';
+import { pairWindowCells, studyBlame, studyRun } from '../core/memory-estimate.ts';
+import { Terrain } from '../core/terrain.ts';
 import { NodePool } from '../runtime/node-pool.ts';
 import {
   allCandidates,
@@ -193,6 +193,24 @@ export async function openSession(
   const { terrain, largest } = await readTerrainWithin(loaded.terrainPaths, limit, {
     shared: threads > 0,
     names: loaded.scenario.terrain.files.map((_, i) => loaded.locate(['terrain', 'files', i])),
+    // With the grid's bounds in the scenario the study's memory is known from the tiles' headers: a run too
+    // large is refused before any pixel is decoded.
+    beforeDecode: ({ tiles, largest }) => {
+      if (checked.scenario.grid.bounds === undefined || tiles.length === 0) return;
+      const first = Terrain.fromParts({
+        geo: { ...tiles[0].geo, width: 1, height: 1 },
+        data: new Float32Array(1),
+        warnings: [],
+        sources: [],
+      });
+      const pixels = tiles.reduce((n, t) => n + t.geo.width * t.geo.height, 0);
+      checkStudyMemory(
+        checked,
+        { geo: { width: pixels, height: 1 }, metresPerPixel: (lon, lat) => first.metresPerPixel(lon, lat) },
+        largest,
+        limit,
+      );
+    },
   });
   checkStudyMemory(checked, terrain, largest, limit);
   const limitMin = opts.maxWorkMin ?? workLimitArg({ positional: [], values: new Map(), flags: new Set() });
@@ -208,12 +226,12 @@ export async function openSession(
  */
 export function checkStudyMemory(
   loaded: LoadedScenario,
-  terrain: Terrain,
+  terrain: Terrain | Parameters<typeof studyRun>[2],
   largest: TileShape | undefined,
   limit: number,
 ): void {
   const s = loaded.scenario;
-  const grid: GridGeo = analysisGrid(loaded, terrain);
+  const grid: GridGeo = analysisGrid(loaded, terrain instanceof Terrain ? terrain : null);
   const run = studyRun(s, grid, terrain, studyTargets(s).targets.length, largest);
   checkEstimate(estimateRun(run.shape), limit, studyBlame(loaded.locate, s, grid, run));
 }
@@ -257,6 +275,7 @@ export function checkStudyWork(
     cells: grid.width * grid.height,
     sites: swept.length,
     pairs,
+    pairCells: pairWindowCells(s, grid),
     targets: studyTargets(s).targets.length,
     levels: s.flightLevels.length,
     threads,

@@ -82,6 +82,8 @@ export interface WorkShape {
   sites: number;
   /** (site, type) pairs, targets (1 + volumes' own) and flight levels; 0, 1, 0 for a floor run. */
   pairs: number;
+  /** Cells of every pair's window added up (footprints are built in their windows); default pairs × cells. */
+  pairCells?: number;
   targets: number;
   levels: number;
   /** Worker threads (0 = the main thread alone). */
@@ -101,7 +103,8 @@ export function estimateWork(s: WorkShape): WorkEstimate {
     seconds += on * SECONDS_PER_SAMPLE + (all - on) * SECONDS_PER_SAMPLE_OFF_TERRAIN;
   }
   const sweeps = seconds / Math.max(1, s.threads);
-  const cells = s.cells * (s.sites + s.pairs * s.targets * (1 + s.levels)) * SECONDS_PER_CELL_UNIT;
+  const pairCells = s.pairCells ?? s.pairs * s.cells;
+  const cells = (s.cells * s.sites + pairCells * s.targets * (1 + s.levels)) * SECONDS_PER_CELL_UNIT;
   return { seconds: sweeps + cells, parts: { sweeps, cells } };
 }
 

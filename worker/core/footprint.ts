@@ -10,8 +10,9 @@
  * contiguous run of detected altitudes above the ground (a pattern null splitting coverage in two is not
  * represented; the upper part is dropped).
  *
- * Intervals are stored as whole metres in Uint16 (lo rounded up, hi rounded down; 65 535 = none) to keep a
- * scenario's hundreds of footprints small; an empty cell has lo > hi.
+ * Intervals are stored as whole metres in Uint16 (lo rounded up, hi rounded down; 65 535 = none), and only for
+ * the cells of the footprint's window (the box its band can reach), to keep a scenario's hundreds of footprints
+ * small: memory follows the area a sensor sees, not the study's. An empty cell has lo > hi.
  */
 import type { DetectionProfile, SensorModel } from './sensor.ts';
 
@@ -210,14 +211,15 @@ export interface Footprint {
   readonly siteId: string;
   readonly typeId: string;
   readonly kind: 'primary' | 'secondary';
-  /** Per analysis cell, whole metres AMSL: detected iff lo ≤ h ≤ hi. */
+  /**
+   * Per cell of `window`, row by row (local index (r − row0)·(col1 − col0) + (c − col0)), whole metres AMSL:
+   * detected iff lo ≤ h ≤ hi. Cells outside the window have no cover and take no memory: a footprint costs its
+   * window, not the study (`loAt` / `hiAt` read by grid cell).
+   */
   readonly lo: Uint16Array;
   readonly hi: Uint16Array;
-  /**
-   * Where cover can be (rows [row0, row1) × columns [col0, col1) of the grid): every cell outside has none, so
-   * readers may skip it. Absent: anywhere.
-   */
-  readonly window?: FootprintWindow;
+  /** Where cover can be: rows [row0, row1) × columns [col0, col1) of the grid; every cell outside has none. */
+  readonly window: FootprintWindow;
   /** The same sensor's footprints for the study's other targets (volumes with their own target), in order. */
   byTarget?: Footprint[];
 }
@@ -231,10 +233,45 @@ export interface FootprintWindow {
   readonly width: number;
 }
 
+/** The whole grid as a window. */
+export function wholeWindow(width: number, height: number): FootprintWindow {
+  return { row0: 0, row1: height, col0: 0, col1: width, width };
+}
+
+/** Cells in a window (0 when it is empty). */
+export function windowCellCount(w: FootprintWindow): number {
+  return Math.max(0, w.row1 - w.row0) * Math.max(0, w.col1 - w.col0);
+}
+
+/** The window-local index of grid cell `cell`, or −1 when it lies outside the window. */
+export function localIndex(w: FootprintWindow, cell: number): number {
+  const r = Math.floor(cell / w.width);
+  const c = cell - r * w.width;
+  if (r < w.row0 || r >= w.row1 || c < w.col0 || c >= w.col1) return -1;
+  return (r - w.row0) * (w.col1 - w.col0) + (c - w.col0);
+}
+
+/** Lowest detected altitude (m) of grid cell `cell`; NO_COVER_LO outside the window or where nothing is detected. */
+export function loAt(fp: Footprint, cell: number): number {
+  const i = localIndex(fp.window, cell);
+  return i < 0 ? NO_COVER_LO : fp.lo[i];
+}
+
+/** Highest detected altitude (m) of grid cell `cell`; 0 outside the window. */
+export function hiAt(fp: Footprint, cell: number): number {
+  const i = localIndex(fp.window, cell);
+  return i < 0 ? 0 : fp.hi[i];
+}
+
+/** Whether the footprint detects a target at altitude h (m) over grid cell `cell`. */
+export function coversAt(fp: Footprint, cell: number, h: number): boolean {
+  const i = localIndex(fp.window, cell);
+  return i >= 0 && fp.lo[i] <= h && h <= fp.hi[i];
+}
+
 /**
- * Combines a site's line-of-sight floor (already ≥ ground, NaN = unknown/out of range) and distance per cell with a
- * sensor band into a footprint. With a `window`, only its cells are looked at (the caller knows the band detects
- * nothing outside it): the rest have no cover.
+ * Combines a site's line-of-sight floor (already ≥ ground, NaN = unknown/out of range) and distance per grid cell
+ * with a sensor band into a footprint over `window` (the caller knows the band detects nothing outside it).
  */
 export function buildFootprint(
   siteId: string,
@@ -242,21 +279,21 @@ export function buildFootprint(
   floor: Float32Array,
   distance: Float32Array,
   land: SensorBand,
-  sea?: SeaChoice,
-  window?: FootprintWindow,
+  sea: SeaChoice | undefined,
+  window: FootprintWindow,
 ): Footprint {
-  const n = floor.length;
+  const n = windowCellCount(window);
   const lo = new Uint16Array(n);
   const hi = new Uint16Array(n);
-  if (window === undefined) {
-    footprintRun(floor, distance, land, sea, lo, hi, 0, n);
-  } else {
-    lo.fill(NO_COVER_LO);
-    const W = window.width;
-    for (let r = window.row0; r < window.row1; r++)
-      footprintRun(floor, distance, land, sea, lo, hi, r * W + window.col0, r * W + window.col1);
+  const W = window.width;
+  const ww = Math.max(0, window.col1 - window.col0);
+  if (n > 0) {
+    for (let r = window.row0; r < window.row1; r++) {
+      const from = r * W + window.col0;
+      footprintRun(floor, distance, land, sea, lo, hi, from, from + ww, (r - window.row0) * ww - from);
+    }
   }
-  return { siteId, typeId: model.spec.id, kind: model.kind, lo, hi, ...(window ? { window } : {}) };
+  return { siteId, typeId: model.spec.id, kind: model.kind, lo, hi, window };
 }
 
 /** Cells [from, to) of a footprint (`buildFootprint`'s hot loop). */
@@ -269,6 +306,8 @@ function footprintRun(
   hi: Uint16Array,
   from: number,
   to: number,
+  /** Grid cell i is footprint entry i + shift. */
+  shift: number,
 ): void {
   const { stepM } = land;
   const last = land.lo.length - 2;
@@ -278,8 +317,8 @@ function footprintRun(
     const u = distance[i] / stepM;
     let k = u | 0;
     if (!(f === f) || !(u === u) || k > last) {
-      lo[i] = NO_COVER_LO;
-      hi[i] = 0;
+      lo[i + shift] = NO_COVER_LO;
+      hi[i + shift] = 0;
       continue;
     }
     if (k < 0) k = 0;
@@ -307,11 +346,11 @@ function footprintRun(
     const cellLo = Math.ceil(f > bLo ? f : bLo);
     const cellHi = Math.floor(bHi);
     if (!(cellLo <= cellHi) || cellLo >= NO_COVER_LO) {
-      lo[i] = NO_COVER_LO;
-      hi[i] = 0;
+      lo[i + shift] = NO_COVER_LO;
+      hi[i + shift] = 0;
     } else {
-      lo[i] = cellLo < 0 ? 0 : cellLo;
-      hi[i] = cellHi > 65_534 ? 65_534 : cellHi;
+      lo[i + shift] = cellLo < 0 ? 0 : cellLo;
+      hi[i + shift] = cellHi > 65_534 ? 65_534 : cellHi;
     }
   }
 }

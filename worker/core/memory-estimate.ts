@@ -7,10 +7,11 @@
  * The estimate counts the arrays the code allocates, from their layouts:
  * - terrain: the mosaic, Float32 per terrain pixel (worker/core/terrain.ts), and while a tile is read its file
  *   bytes, its decoded samples and its Float32 copy (worker/io/geotiff-read.ts);
- * - per analysis cell: ground (Float32), one byte per volume mask, per site the network's level bits (1, 2 or
- *   4 bytes: worker/core/network.ts), 3 kinds × levels × targets Uint16 folds, and per (site, type) pair and
- *   target a footprint of two Uint16 (worker/core/footprint.ts); per site in flight a floor and a distance
- *   (Float32 each);
+ * - per analysis cell: ground (Float32), one byte per volume mask, 3 kinds × levels × targets Uint16 folds; per
+ *   site in flight a floor and a distance (Float32 each);
+ * - per (site, type) pair, per cell of its window (the box its type's reach spans around the site, clipped to
+ *   the grid: worker/core/coverage.ts rangeWindow): per target a footprint of two Uint16
+ *   (worker/core/footprint.ts) and the network's level bits (1, 2 or 4 bytes: worker/core/network.ts);
  * - per site in flight (two: the pipeline of worker/core/coverage.ts): the horizon's screening tans, Float32 per
  *   sample; the layout (worker/core/horizon.ts planHorizon) keeps arcs between neighbouring radials within
  *   0.75…1.5 arc steps, so the samples out to range R number at most π·R² / (0.75 · rangeStep · arcStep).
@@ -62,6 +63,11 @@ export interface RunShape {
   levels: number;
   targets: number;
   volumes: number;
+  /**
+   * Cells of every pair's window added up (each pair's footprint and level bits cover only its window); default
+   * every pair over the whole grid.
+   */
+  pairWindowCells?: number;
   /** Farthest range of a site's horizon, m; range step (a terrain pixel) and arc step (¾ of a cell), m. */
   reachM: number;
   rangeStepM: number;
@@ -112,9 +118,11 @@ export function estimateRun(s: RunShape): Estimate {
   const terrain = s.terrainPixels * 4 + tileBytes;
   const levelBits = s.levels * s.targets;
   const bitBytes = levelBits <= 8 ? 1 : levelBits <= 16 ? 2 : 4;
-  const perCell = 4 + s.volumes + s.sites * bitBytes + 3 * levelBits * 2 + 4 /* network floor */ + 2 * 8;
+  const perCell = 4 + s.volumes + 3 * levelBits * 2 + 4 /* network floor */ + 2 * 8;
   const grid = s.cells * (s.gridBytesPerCell ?? perCell);
-  const footprints = s.pairs * footprintBytes(s.cells, s.targets);
+  const pairCells = s.pairWindowCells ?? s.pairs * s.cells;
+  const footprints =
+    footprintBytes(pairCells, s.targets) + (s.gridBytesPerCell === undefined ? pairCells * bitBytes : 0);
   const horizons = horizonSamples(s.reachM, s.rangeStepM, s.arcStepM) * 4 * s.horizonsInFlight;
   const bytes = RUNTIME_BYTES + OVERHEAD * (terrain + grid + footprints + horizons);
   return { bytes, parts: { terrain, grid, footprints, horizons } };
@@ -124,7 +132,7 @@ export function estimateRun(s: RunShape): Estimate {
 export const PART_WORDS: Record<EstimatePart, string> = {
   terrain: 'the terrain',
   grid: 'the analysis grid',
-  footprints: 'the footprints (cells × sensors)',
+  footprints: "the footprints (each sensor's window of cells)",
   horizons: "each site's horizon (range² over terrain pixel × cell)",
 };
 
@@ -206,7 +214,8 @@ export interface StudyRun {
 export function studyRun(
   s: Scenario,
   grid: GridGeo,
-  terrain: Terrain,
+  /** The terrain, or what its tiles' headers say of it (its pixels, and the ground size of one). */
+  terrain: Pick<Terrain, 'metresPerPixel'> & { geo: { width: number; height: number } },
   targets: number,
   largestTile?: TileShape,
 ): StudyRun {
@@ -221,6 +230,7 @@ export function studyRun(
   const px = terrain.metresPerPixel(lon, lat);
   const cellM = Math.min(grid.pixelX * Math.cos((lat * Math.PI) / 180), -grid.pixelY) * 111_320;
   const shape: RunShape = {
+    pairWindowCells: pairWindowCells(s, grid),
     terrainPixels: terrain.geo.width * terrain.geo.height,
     largestTile,
     cells: grid.width * grid.height,
@@ -235,6 +245,35 @@ export function studyRun(
     horizonsInFlight: 2,
   };
   return { shape, pairs, reachM };
+}
+
+/**
+ * Cells of every allowed (site, type) pair's window added up: per pair, the box of its type's reach (maxRangeKm
+ * and its instrumented range) around the site, in cells no larger than the grid's smallest (its row farthest
+ * from the equator, a degree of meridian at its shortest), clipped to the grid's size — an upper bound of what
+ * worker/core/coverage.ts `rangeWindow` gives.
+ */
+export function pairWindowCells(s: Scenario, grid: GridGeo): number {
+  const lat0 = grid.originY;
+  const lat1 = grid.originY + grid.height * grid.pixelY;
+  const far = Math.min(89.9, Math.max(Math.abs(lat0), Math.abs(lat1)));
+  const cellW = Math.abs(grid.pixelX) * Math.cos((far * Math.PI) / 180) * 111_320;
+  const cellH = Math.abs(grid.pixelY) * 110_574;
+  const geographic = grid.crs.kind === 'geographic';
+  const w = geographic ? cellW : Math.abs(grid.pixelX);
+  const h = geographic ? cellH : Math.abs(grid.pixelY);
+  const byType = new Map(
+    s.sensorTypes.map((t) => {
+      const r = Math.min(s.maxRangeKm * 1000, t.instrumentedRangeNm * NM_M);
+      const cols = Math.min(grid.width, 2 * Math.ceil(r / w) + 2);
+      const rows = Math.min(grid.height, 2 * Math.ceil(r / h) + 2);
+      return [t.id, cols * rows];
+    }),
+  );
+  const all = s.sensorTypes.map((t) => t.id);
+  let n = 0;
+  for (const f of s.sites) for (const id of f.properties.allowedTypes ?? all) n += byType.get(id) ?? 0;
+  return n;
 }
 
 /**

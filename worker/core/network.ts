@@ -11,7 +11,7 @@
  * (target t, level f at t·levels + f) and `foldOf(kind, f, t)` reads them. Sites, switches and the floor are shared.
  */
 import { InputError } from '../../shared/errors.ts';
-import type { Footprint, FootprintWindow } from './footprint.ts';
+import { windowCellCount, type Footprint, type FootprintWindow } from './footprint.ts';
 
 export const KINDS = ['any', 'primary', 'secondary'] as const;
 export type FoldKind = (typeof KINDS)[number];
@@ -31,11 +31,16 @@ export class Network {
   readonly targetCount: number;
   readonly active: boolean[];
   private readonly bySite = new Map<string, number[]>();
-  /** Per footprint, per cell: bit f set iff the sensor covers the cell at altitudesM[f]. */
+  /**
+   * Per footprint, per cell of its bits window (`bitsWindow`: its window joined with its other targets'): bit f
+   * set iff the sensor covers the cell at level f. Windowed, so a network costs its sensors' areas, not the study.
+   */
   private readonly bits: Bits[];
+  private readonly bitsWindow: FootprintWindow[];
   /** Per footprint: bit f set iff it covers any cell at altitudesM[f]. */
   private readonly anyAt: number[];
-  private readonly reachCache = new Map<string, Int32Array>();
+  /** Scratch for one site's ORed bits over the join of its windows (grown as needed). */
+  private scratch = new Uint32Array(0);
 
   constructor(
     readonly cells: number,
@@ -68,25 +73,23 @@ export class Network {
       );
     }
     this.targetCount = nT;
-    const make = (): Bits =>
-      levels <= 8 ? new Uint8Array(cells) : levels <= 16 ? new Uint16Array(cells) : new Uint32Array(cells);
+    const make = (n: number): Bits =>
+      levels <= 8 ? new Uint8Array(n) : levels <= 16 ? new Uint16Array(n) : new Uint32Array(n);
     this.fold = Array.from({ length: KINDS.length * levels }, () => new Uint16Array(cells));
     this.active = footprints.map((_, i) => active?.[i] ?? true);
     this.anyAt = [];
-    this.bits = footprints.map((fp) => {
-      const b = make();
-      const win = fp.window ?? null;
-      let seen = levelBits(fp, altitudesM, b, 0, -1, win);
+    this.bitsWindow = footprints.map((fp) => joinWindows([fp, ...(fp.byTarget ?? [])].map((f) => f.window)));
+    this.bits = footprints.map((fp, i) => {
+      const win = this.bitsWindow[i];
+      const b = make(windowCellCount(win));
+      let seen = levelBits(fp, altitudesM, b, win, 0, -1);
       fp.byTarget?.forEach((other, t) => {
         const all = altitudesM.length >= 32 ? -1 : (1 << altitudesM.length) - 1;
         const mask = (targetLevels?.[t] ?? -1) & all;
         const shift = (t + 1) * altitudesM.length;
         if (mask === 0) return;
         // A target this sensor does not tell apart shares its footprint: its bits are the base bits, shifted.
-        seen |=
-          other === fp
-            ? shiftBits(b, shift, mask, win)
-            : levelBits(other, altitudesM, b, shift, mask, other.window ?? null);
+        seen |= other === fp ? shiftBits(b, shift, mask) : levelBits(other, altitudesM, b, win, shift, mask);
       });
       this.anyAt.push(seen);
       return b;
@@ -126,11 +129,11 @@ export class Network {
   /** Cells where any active sensor of the site covers some flight level (the only cells its outage can change). */
   siteCells(siteId: string): Int32Array {
     const list = (this.bySite.get(siteId) ?? []).filter((i) => this.active[i]);
-    return cellsWithBits(
-      list.map((i) => this.bits[i]),
-      this.cells,
-      list.map((i) => this.footprints[i]),
-    );
+    const out: number[] = [];
+    this.orSite(list, (cell) => {
+      out.push(cell);
+    });
+    return Int32Array.from(out);
   }
 
   /** Whether any sensor of the site is on. */
@@ -152,34 +155,55 @@ export class Network {
     const list = (this.bySite.get(siteId) ?? []).filter((i) => this.active[i]);
     if (list.length === 0) return;
     const nFl = this.altitudesM.length * this.targetCount;
-    const cells = this.reach(siteId);
     for (let k = 0; k < KINDS.length; k++) {
       const kind = KINDS[k];
       const members = kind === 'any' ? list : list.filter((i) => this.footprints[i].kind === kind);
       if (members.length === 0) continue;
-      addSiteBits(
-        this.fold,
-        k * nFl,
-        cells,
-        members.map((i) => this.bits[i]),
-        sign,
-      );
+      const fold = this.fold;
+      const base = k * nFl;
+      this.orSite(members, (cell, b) => {
+        while (b !== 0) {
+          const f = 31 - Math.clz32(b & -b);
+          fold[base + f][cell] += sign;
+          b &= b - 1;
+        }
+      });
     }
   }
 
-  /** Cells any sensor of the site (on or off) covers at some level: all its updates stay within them. */
-  private reach(siteId: string): Int32Array {
-    let r = this.reachCache.get(siteId);
-    if (!r) {
-      const list = this.bySite.get(siteId) ?? [];
-      r = cellsWithBits(
-        list.map((i) => this.bits[i]),
-        this.cells,
-        list.map((i) => this.footprints[i]),
-      );
-      this.reachCache.set(siteId, r);
+  /**
+   * ORs the level bits of the given footprints cell by cell over the join of their windows and calls `visit` for
+   * each grid cell (ascending) where some bit is set — a site's sensors counted once per cell.
+   */
+  private orSite(members: readonly number[], visit: (cell: number, bits: number) => void): void {
+    if (members.length === 0) return;
+    const join = joinWindows(members.map((i) => this.bitsWindow[i]));
+    const n = windowCellCount(join);
+    if (n === 0) return;
+    if (this.scratch.length < n) this.scratch = new Uint32Array(n);
+    const acc = this.scratch;
+    acc.fill(0, 0, n);
+    const jw = join.col1 - join.col0;
+    for (const i of members) {
+      const w = this.bitsWindow[i];
+      const b = this.bits[i];
+      const ww = w.col1 - w.col0;
+      if (ww <= 0) continue;
+      for (let r = w.row0; r < w.row1; r++) {
+        const src = (r - w.row0) * ww;
+        const dst = (r - join.row0) * jw + (w.col0 - join.col0);
+        for (let c = 0; c < ww; c++) acc[dst + c] |= b[src + c];
+      }
     }
-    return r;
+    const W = join.width;
+    for (let r = join.row0; r < join.row1; r++) {
+      const local = (r - join.row0) * jw;
+      const cell = r * W + join.col0;
+      for (let c = 0; c < jw; c++) {
+        const b = acc[local + c];
+        if (b !== 0) visit(cell + c, b);
+      }
+    }
   }
 
   /** Lowest covered altitude (m AMSL) per cell over the active sensors; NaN where none covers. */
@@ -208,35 +232,42 @@ export class Network {
   }
 }
 
-/**
- * The cell spans [from, to) to visit for a footprint's window, as pairs (one per row, or one for full rows); the
- * whole raster without a window.
- */
-function windowSpans(win: FootprintWindow | null, cells: number): number[] {
-  if (win === null) return [0, cells];
-  const W = win.width;
-  if (win.col0 === 0 && win.col1 === W) return [win.row0 * W, win.row1 * W];
-  const out: number[] = [];
-  for (let r = win.row0; r < win.row1; r++) out.push(r * W + win.col0, r * W + win.col1);
-  return out;
+/** The smallest window holding all of `ws` (an empty window when there is none or all are empty). */
+function joinWindows(ws: readonly FootprintWindow[]): FootprintWindow {
+  const full = ws.filter((w) => w.row1 > w.row0 && w.col1 > w.col0);
+  const width = ws[0]?.width ?? 0;
+  if (full.length === 0) return { row0: 0, row1: 0, col0: 0, col1: 0, width };
+  return {
+    row0: Math.min(...full.map((w) => w.row0)),
+    row1: Math.max(...full.map((w) => w.row1)),
+    col0: Math.min(...full.map((w) => w.col0)),
+    col1: Math.max(...full.map((w) => w.col1)),
+    width,
+  };
 }
 
 /**
- * ORs the level bits of one footprint into `out`, level f at bit f + shift, for the levels in `mask` (bit f);
- * returns the bits set anywhere. Only the footprint's window is read (no cover outside it).
+ * ORs the level bits of one footprint into `out` (cells of `outWin`, which holds the footprint's window), level f
+ * at bit f + shift, for the levels in `mask` (bit f); returns the bits set anywhere.
  */
 function levelBits(
   fp: Footprint,
   altitudesM: readonly number[],
   out: Bits,
+  outWin: FootprintWindow,
   shift: number,
   mask: number,
-  win: FootprintWindow | null,
 ): number {
-  const spans = windowSpans(win, out.length);
+  const w = fp.window;
+  const ww = w.col1 - w.col0;
+  const ow = outWin.col1 - outWin.col0;
   let seen = 0;
-  for (let k = 0; k < spans.length; k += 2)
-    seen |= levelBitsRun(fp.lo, fp.hi, altitudesM, out, shift, mask, spans[k], spans[k + 1]);
+  if (ww <= 0) return 0;
+  for (let r = w.row0; r < w.row1; r++) {
+    const src = (r - w.row0) * ww;
+    const dst = (r - outWin.row0) * ow + (w.col0 - outWin.col0);
+    seen |= levelBitsRun(fp.lo, fp.hi, altitudesM, out, shift, mask, src, dst, ww);
+  }
   return seen;
 }
 
@@ -247,100 +278,49 @@ function levelBitsRun(
   out: Bits,
   shift: number,
   mask: number,
-  from: number,
-  to: number,
+  src: number,
+  dst: number,
+  count: number,
 ): number {
   const n = altitudesM.length;
   let seen = 0;
-  for (let c = from; c < to; c++) {
-    const l = lo[c];
-    const h = hi[c];
+  for (let k = 0; k < count; k++) {
+    const l = lo[src + k];
+    const h = hi[src + k];
     if (l > h) continue;
     let b = 0;
     for (let f = 0; f < n; f++) {
       const a = altitudesM[f];
       if (l <= a && a <= h && (mask >>> f) & 1) b |= 1 << (f + shift);
     }
+    out[dst + k] |= b;
+    seen |= b;
+  }
+  return seen;
+}
+
+/** ORs each cell's base bits (those in `mask`) shifted by `shift` into the same cell; returns the bits set. */
+function shiftBits(out: Bits, shift: number, mask: number): number {
+  let seen = 0;
+  for (let c = 0; c < out.length; c++) {
+    const b = (out[c] & mask) << shift;
+    if (b === 0) continue;
     out[c] |= b;
     seen |= b;
   }
   return seen;
 }
 
-/**
- * ORs each cell's base bits (those in `mask`) shifted by `shift` into the same cell, within the window; returns
- * the bits set.
- */
-function shiftBits(out: Bits, shift: number, mask: number, win: FootprintWindow | null): number {
-  const spans = windowSpans(win, out.length);
-  let seen = 0;
-  for (let k = 0; k < spans.length; k += 2) {
-    for (let c = spans[k]; c < spans[k + 1]; c++) {
-      const b = (out[c] & mask) << shift;
-      if (b === 0) continue;
-      out[c] |= b;
-      seen |= b;
-    }
-  }
-  return seen;
-}
-
-/**
- * Cells (ascending) where any of `bits` is set. When every footprint (and each of its other targets') carries a
- * window, only the rows those windows span are read (no cell outside has a bit).
- */
-function cellsWithBits(bits: Bits[], cells: number, fps: readonly Footprint[]): Int32Array {
-  let from = 0;
-  let to = cells;
-  // A footprint's bits hold its other targets' too: their windows count.
-  const all = fps.flatMap((f) => [f, ...(f.byTarget ?? [])]);
-  if (all.length > 0 && all.every((f) => f.window !== undefined)) {
-    const W = all[0].window!.width;
-    from = Math.min(...all.map((f) => f.window!.row0)) * W;
-    to = Math.max(from, Math.max(...all.map((f) => f.window!.row1)) * W);
-  }
-  const out: number[] = [];
-  const n = bits.length;
-  for (let c = from; c < to; c++) {
-    for (let m = 0; m < n; m++) {
-      if (bits[m][c] !== 0) {
-        out.push(c);
-        break;
-      }
-    }
-  }
-  return Int32Array.from(out);
-}
-
-/** For each cell of `cells`: the OR of the members' level bits, added (or removed) level by level. */
-function addSiteBits(
-  fold: Uint16Array[],
-  base: number,
-  cells: Int32Array,
-  members: Bits[],
-  sign: 1 | -1,
-): void {
-  const n = members.length;
-  for (let k = 0; k < cells.length; k++) {
-    const c = cells[k];
-    let b = 0;
-    for (let m = 0; m < n; m++) b |= members[m][c];
-    while (b !== 0) {
-      const f = 31 - Math.clz32(b & -b);
-      fold[base + f][c] += sign;
-      b &= b - 1;
-    }
-  }
-}
-
 function lowerFloor(out: Float32Array, fp: Footprint): void {
-  const lo = fp.lo;
-  const hi = fp.hi;
-  const spans = windowSpans(fp.window ?? null, out.length);
-  for (let k = 0; k < spans.length; k += 2) {
-    for (let c = spans[k]; c < spans[k + 1]; c++) {
-      const l = lo[c];
-      if (l <= hi[c] && !(out[c] <= l)) out[c] = l;
+  const { lo, hi, window: w } = fp;
+  const ww = w.col1 - w.col0;
+  if (ww <= 0) return;
+  for (let r = w.row0; r < w.row1; r++) {
+    const src = (r - w.row0) * ww;
+    const dst = r * w.width + w.col0;
+    for (let k = 0; k < ww; k++) {
+      const l = lo[src + k];
+      if (l <= hi[src + k] && !(out[dst + k] <= l)) out[dst + k] = l;
     }
   }
 }

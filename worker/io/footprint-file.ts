@@ -12,12 +12,13 @@
  *                payload's size and SHA-256
  *   0–7 zeros    to a multiple of 8 bytes
  *   payload      per stored footprint: lo then hi (uint16, little-endian) of the cells of its window, row by row
- *                (every cell when it has none); cells outside the window have no cover (lo 65 535, hi 0)
+ *                (every cell when it has none, in files of this format written before footprints kept only
+ *                their window); cells outside the window have no cover
  *
  * Decoding checks the magic, the format, the key, the grid's cell count and width, every window, the payload's
  * size and (through the caller's digest) its SHA-256, and throws `FootprintFileError` saying what was wrong.
  */
-import { NO_COVER_LO, type Footprint, type FootprintWindow } from '../core/footprint.ts';
+import { wholeWindow, windowCellCount, type Footprint, type FootprintWindow } from '../core/footprint.ts';
 
 /** Bumped whenever the bytes a footprint file holds, or what they mean, change. */
 export const FOOTPRINT_FORMAT = 1;
@@ -86,16 +87,9 @@ function windowCells(w: FootprintWindow | null, cells: number): number {
   return w === null ? cells : (w.row1 - w.row0) * (w.col1 - w.col0);
 }
 
-/** The window's cells of `a` (every cell without a window) as little-endian bytes. */
-function packCells(a: Uint16Array, w: FootprintWindow | null): Uint8Array {
-  const n = windowCells(w, a.length);
-  const out = new Uint16Array(n);
-  if (w === null) out.set(a);
-  else {
-    const cols = w.col1 - w.col0;
-    for (let r = w.row0, at = 0; r < w.row1; r++, at += cols)
-      out.set(a.subarray(r * w.width + w.col0, r * w.width + w.col1), at);
-  }
+/** A footprint's array (its window's cells, row by row) as little-endian bytes. */
+function packCells(a: Uint16Array): Uint8Array {
+  const out = a.slice();
   if (!LITTLE_ENDIAN) swapBytes(out);
   return new Uint8Array(out.buffer, 0, out.byteLength);
 }
@@ -123,14 +117,14 @@ export function encodeFootprintFile(
   const store = (fp: Footprint): number => {
     const known = index.get(fp);
     if (known !== undefined) return known;
-    if (fp.lo.length !== cells || fp.hi.length !== cells) {
+    const n = windowCellCount(fp.window);
+    if (fp.lo.length !== n || fp.hi.length !== n || fp.window.width !== grid.width) {
       throw new Error(
-        `footprint file: ${fp.siteId}/${fp.typeId} has ${fp.lo.length} cells, the grid ${cells}`,
+        `footprint file: ${fp.siteId}/${fp.typeId} has ${fp.lo.length} cells, its window ${n} on a grid ${grid.width} wide`,
       );
     }
-    const window = fp.window ?? null;
-    stored.push({ siteId: fp.siteId, typeId: fp.typeId, kind: fp.kind, window });
-    payload.push(packCells(fp.lo, window), packCells(fp.hi, window));
+    stored.push({ siteId: fp.siteId, typeId: fp.typeId, kind: fp.kind, window: fp.window });
+    payload.push(packCells(fp.lo), packCells(fp.hi));
     index.set(fp, stored.length - 1);
     return stored.length - 1;
   };
@@ -229,18 +223,13 @@ export function decodeFootprintFile(
   const arrays: Footprint[] = [];
   let at = 0;
   for (const s of header.stored) {
-    const lo = unpackCells(payload, at, s.window, cells, NO_COVER_LO);
-    at += 2 * windowCells(s.window, cells);
-    const hi = unpackCells(payload, at, s.window, cells, 0);
-    at += 2 * windowCells(s.window, cells);
-    arrays.push({
-      siteId: s.siteId,
-      typeId: s.typeId,
-      kind: s.kind,
-      lo,
-      hi,
-      ...(s.window ? { window: s.window } : {}),
-    });
+    const window = s.window ?? wholeWindow(expected.width, expected.height);
+    const n = windowCellCount(window);
+    const lo = unpackCells(payload, at, n);
+    at += 2 * n;
+    const hi = unpackCells(payload, at, n);
+    at += 2 * n;
+    arrays.push({ siteId: s.siteId, typeId: s.typeId, kind: s.kind, lo, hi, window });
   }
   const pick = (i: unknown): Footprint => {
     if (typeof i !== 'number' || !(i >= 0 && i < arrays.length) || !Number.isInteger(i)) {
@@ -271,23 +260,10 @@ function validWindow(w: FootprintWindow, width: number, height: number): boolean
   );
 }
 
-/** A whole-grid array from a window's cells at `payload[at…]`; cells outside the window take `outside`. */
-function unpackCells(
-  payload: Uint8Array,
-  at: number,
-  w: FootprintWindow | null,
-  cells: number,
-  outside: number,
-): Uint16Array {
-  const n = windowCells(w, cells);
-  const src = new Uint16Array(n);
-  new Uint8Array(src.buffer).set(payload.subarray(at, at + 2 * n));
-  if (!LITTLE_ENDIAN) swapBytes(src);
-  if (w === null) return src;
-  const out = new Uint16Array(cells);
-  out.fill(outside);
-  const cols = w.col1 - w.col0;
-  for (let r = w.row0, k = 0; r < w.row1; r++, k += cols)
-    out.set(src.subarray(k, k + cols), r * w.width + w.col0);
+/** `n` cells (a footprint's window, row by row) from `payload[at…]`. */
+function unpackCells(payload: Uint8Array, at: number, n: number): Uint16Array {
+  const out = new Uint16Array(n);
+  new Uint8Array(out.buffer).set(payload.subarray(at, at + 2 * n));
+  if (!LITTLE_ENDIAN) swapBytes(out);
   return out;
 }

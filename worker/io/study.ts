@@ -62,11 +62,15 @@ export function openStudy<L extends StudyScenario>(
   return { loaded, terrain, grid, ground, models, volumeMasks, targets, volumeTargets, threads };
 }
 
-/** The analysis grid: the scenario's bounds (or the terrain's extent) in whole cells of cellArcSec. */
-export function analysisGrid(loaded: Pick<StudyScenario, 'scenario'>, terrain: Terrain): GridGeo {
+/**
+ * The analysis grid: the scenario's bounds (or the terrain's extent) in whole cells of cellArcSec. `terrain` may
+ * be null when the scenario gives its bounds (the grid is then known before the terrain is decoded).
+ */
+export function analysisGrid(loaded: Pick<StudyScenario, 'scenario'>, terrain: Terrain | null): GridGeo {
   const s = loaded.scenario;
   const cell = s.grid.cellArcSec / 3600;
-  const b = s.grid.bounds ?? terrainBounds(terrain);
+  const b = s.grid.bounds ?? (terrain ? terrainBounds(terrain) : null);
+  if (b === null) throw new Error('analysisGrid: no bounds in the scenario and no terrain to take them from');
   const west = Math.floor(b.west / cell + 1e-9) * cell;
   const north = Math.ceil(b.north / cell - 1e-9) * cell;
   const width = Math.max(1, Math.round((b.east - west) / cell));
@@ -364,12 +368,10 @@ export function coveredPoints(fp: Footprint, d: Demand, altitudesM: readonly num
     let p0 = blockStart[b];
     let p1 = blockStart[b + 1];
     const w = f.window;
-    if (w !== undefined) {
-      if (w.row1 <= w.row0 || w.col1 <= w.col0) continue;
-      p0 = lowerBound(cell, p0, p1, w.row0 * w.width + w.col0);
-      p1 = lowerBound(cell, p0, p1, (w.row1 - 1) * w.width + w.col1);
-    }
-    n = coverRun(f.lo, f.hi, cell, altitudesM[blockLevel[b]], p0, p1, out, n);
+    if (w.row1 <= w.row0 || w.col1 <= w.col0) continue;
+    p0 = lowerBound(cell, p0, p1, w.row0 * w.width + w.col0);
+    p1 = lowerBound(cell, p0, p1, (w.row1 - 1) * w.width + w.col1);
+    n = coverRun(f, cell, altitudesM[blockLevel[b]], p0, p1, out, n);
   }
   return out.slice(0, n);
 }
@@ -386,10 +388,12 @@ function lowerBound(cell: Uint32Array, from: number, to: number, c: number): num
   return a;
 }
 
-/** Appends to `out` from `n` the points of [p0, p1) whose cell's interval holds h; returns the new count. */
+/**
+ * Appends to `out` from `n` the points of [p0, p1) whose cell's interval holds h; returns the new count. The points'
+ * cells ascend, so the footprint's window row is tracked without a division per point.
+ */
 function coverRun(
-  lo: Uint16Array,
-  hi: Uint16Array,
+  fp: Footprint,
   cell: Uint32Array,
   h: number,
   p0: number,
@@ -397,9 +401,23 @@ function coverRun(
   out: Uint32Array,
   n: number,
 ): number {
+  const { lo, hi, window: w } = fp;
+  const W = w.width;
+  const ww = w.col1 - w.col0;
+  let r = -1;
+  let rowStart = 0;
+  let rowEnd = -1;
   for (let p = p0; p < p1; p++) {
     const c = cell[p];
-    if (lo[c] <= h && h <= hi[c]) out[n++] = p;
+    if (c >= rowEnd) {
+      r = Math.floor(c / W);
+      rowStart = r * W;
+      rowEnd = rowStart + W;
+    }
+    const col = c - rowStart;
+    if (r < w.row0 || r >= w.row1 || col < w.col0 || col >= w.col1) continue;
+    const i = (r - w.row0) * ww + (col - w.col0);
+    if (lo[i] <= h && h <= hi[i]) out[n++] = p;
   }
   return n;
 }
