@@ -150,24 +150,50 @@ export class Network {
     this.applySite(siteId, +1);
   }
 
-  /** Adds (+1) or removes (−1) one site's contribution with its sensors' current active flags. */
+  /**
+   * Adds (+1) or removes (−1) one site's contribution with its sensors' current active flags: the OR of its
+   * sensors' level bits per kind, over the join of their windows, in one pass (a site counts once per cell).
+   */
   private applySite(siteId: string, sign: 1 | -1): void {
     const list = (this.bySite.get(siteId) ?? []).filter((i) => this.active[i]);
     if (list.length === 0) return;
+    const join = joinWindows(list.map((i) => this.bitsWindow[i]));
+    const n = windowCellCount(join);
+    if (n === 0) return;
+    // Per kind (primary, secondary) an accumulator over the join; 'any' is their OR.
+    if (this.scratch.length < 2 * n) this.scratch = new Uint32Array(2 * n);
+    const acc = this.scratch;
+    acc.fill(0, 0, 2 * n);
+    const jw = join.col1 - join.col0;
+    for (const i of list) {
+      const w = this.bitsWindow[i];
+      const b = this.bits[i];
+      const ww = w.col1 - w.col0;
+      const off = this.footprints[i].kind === 'primary' ? 0 : n;
+      for (let r = w.row0; r < w.row1; r++) {
+        const src = (r - w.row0) * ww;
+        const dst = off + (r - join.row0) * jw + (w.col0 - join.col0);
+        for (let c = 0; c < ww; c++) acc[dst + c] |= b[src + c];
+      }
+    }
     const nFl = this.altitudesM.length * this.targetCount;
-    for (let k = 0; k < KINDS.length; k++) {
-      const kind = KINDS[k];
-      const members = kind === 'any' ? list : list.filter((i) => this.footprints[i].kind === kind);
-      if (members.length === 0) continue;
-      const fold = this.fold;
-      const base = k * nFl;
-      this.orSite(members, (cell, b) => {
-        while (b !== 0) {
-          const f = 31 - Math.clz32(b & -b);
-          fold[base + f][cell] += sign;
-          b &= b - 1;
-        }
-      });
+    const fold = this.fold;
+    const anyBase = KINDS.indexOf('any') * nFl;
+    const primaryBase = KINDS.indexOf('primary') * nFl;
+    const secondaryBase = KINDS.indexOf('secondary') * nFl;
+    const W = join.width;
+    for (let r = join.row0; r < join.row1; r++) {
+      const local = (r - join.row0) * jw;
+      const cell0 = r * W + join.col0;
+      for (let c = 0; c < jw; c++) {
+        const bp = acc[local + c];
+        const bs = acc[n + local + c];
+        if ((bp | bs) === 0) continue;
+        const cell = cell0 + c;
+        addBits(fold, anyBase, cell, bp | bs, sign);
+        if (bp !== 0) addBits(fold, primaryBase, cell, bp, sign);
+        if (bs !== 0) addBits(fold, secondaryBase, cell, bs, sign);
+      }
     }
   }
 
@@ -229,6 +255,15 @@ export class Network {
       if (ok) out.push(site);
     }
     return out;
+  }
+}
+
+/** Adds `sign` to the folds at `base + f` of `cell` for every level bit f of `b`. */
+function addBits(fold: Uint16Array[], base: number, cell: number, b: number, sign: 1 | -1): void {
+  while (b !== 0) {
+    const f = 31 - Math.clz32(b & -b);
+    fold[base + f][cell] += sign;
+    b &= b - 1;
   }
 }
 
