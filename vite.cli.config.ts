@@ -11,7 +11,8 @@ export default defineConfig({
     sourcemap: true,
     rollupOptions: {
       input: { cli: 'worker/cli/main.ts', node: 'worker/runtime/node.ts' },
-      output: { format: 'es', entryFileNames: '[name].js' },
+      // Chunks beside the entries: the pool finds the worker entry as ./node.js next to whichever chunk holds it.
+      output: { format: 'es', entryFileNames: '[name].js', chunkFileNames: '[name]-[hash].js' },
     },
   },
   ssr: { noExternal: [] },

@@ -264,8 +264,7 @@ async function runAirshade(n: number, demPath: string, site: string, runs: numbe
         note: 'failed',
       };
     }
-    const lines = r.stdout.trim().split('\n');
-    const peak = /peak memory (\d+) MiB/.exec(lines[lines.length - 1] ?? '');
+    const peak = /peak memory (\d+) MiB/.exec(r.stdout);
     const ground = /ground (-?[\d.]+) m \+ mast/.exec(r.stdout);
     walls.push(r.wallS);
     progress(

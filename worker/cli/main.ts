@@ -4,17 +4,6 @@
  * trace only with --debug.
  */
 import { isInputError } from '../../shared/errors.ts';
-import { floorCommand, FLOOR_HELP } from './floor.ts';
-import { demoCommand, demoDataCommand, DEMO_HELP, DEMO_DATA_HELP } from './demo.ts';
-import { coverageCommand, COVERAGE_HELP } from './coverage.ts';
-import { diagramCommand, DIAGRAM_HELP } from './diagram.ts';
-import { outageCommand, OUTAGE_HELP } from './outage.ts';
-import { compareCommand, COMPARE_HELP } from './compare.ts';
-import { planCommand, PLAN_HELP } from './plan.ts';
-import { reportCommand, REPORT_HELP } from './report.ts';
-import { initCommand, INIT_HELP } from './init.ts';
-import { footprintsCommand, FOOTPRINTS_HELP } from './footprints.ts';
-
 const HELP = `airshade — radar network coverage planner (planning aid; see the cautions in README.md)
 
 Usage: airshade <command> [options]     airshade <command> --help
@@ -34,18 +23,22 @@ Commands:
 `;
 
 type Command = (argv: readonly string[], log: (s: string) => void) => Promise<number>;
-const COMMANDS: Record<string, { run: Command; help: string }> = {
-  init: { run: initCommand, help: INIT_HELP },
-  floor: { run: floorCommand, help: FLOOR_HELP },
-  coverage: { run: coverageCommand, help: COVERAGE_HELP },
-  diagram: { run: diagramCommand, help: DIAGRAM_HELP },
-  plan: { run: planCommand, help: PLAN_HELP },
-  outage: { run: outageCommand, help: OUTAGE_HELP },
-  compare: { run: compareCommand, help: COMPARE_HELP },
-  report: { run: reportCommand, help: REPORT_HELP },
-  footprints: { run: footprintsCommand, help: FOOTPRINTS_HELP },
-  demo: { run: demoCommand, help: DEMO_HELP },
-  'demo-data': { run: demoDataCommand, help: DEMO_DATA_HELP },
+/**
+ * Each command's module is loaded when the command runs: a command pays only for its own libraries at start-up
+ * (`airshade floor` needs no planner, no schema of the scenario file, no contouring).
+ */
+const COMMANDS: Record<string, () => Promise<Command>> = {
+  init: async () => (await import('./init.ts')).initCommand,
+  floor: async () => (await import('./floor.ts')).floorCommand,
+  coverage: async () => (await import('./coverage.ts')).coverageCommand,
+  diagram: async () => (await import('./diagram.ts')).diagramCommand,
+  plan: async () => (await import('./plan.ts')).planCommand,
+  outage: async () => (await import('./outage.ts')).outageCommand,
+  compare: async () => (await import('./compare.ts')).compareCommand,
+  report: async () => (await import('./report.ts')).reportCommand,
+  footprints: async () => (await import('./footprints.ts')).footprintsCommand,
+  demo: async () => (await import('./demo.ts')).demoCommand,
+  'demo-data': async () => (await import('./demo.ts')).demoDataCommand,
 };
 
 export async function main(argv: readonly string[]): Promise<number> {
@@ -56,15 +49,15 @@ export async function main(argv: readonly string[]): Promise<number> {
     log(HELP);
     return name === undefined ? 1 : 0;
   }
-  const cmd = COMMANDS[name];
-  if (!cmd) {
+  const load = COMMANDS[name];
+  if (!load) {
     process.stderr.write(
       `airshade: found the command "${name}"; expected one of ${Object.keys(COMMANDS).join(', ')} (airshade --help)\n`,
     );
     return 2;
   }
   try {
-    return await cmd.run(rest, log);
+    return await (await load())(rest, log);
   } catch (e) {
     if (process.stderr.isTTY) process.stderr.write('\r\x1b[K');
     if (isInputError(e)) {

@@ -12,7 +12,7 @@ import {
   type GridSweepCounts,
   type GridSweepTask,
 } from '../core/grid-sweep.ts';
-import { solvePlan, type PlanInstance, type PlanOptions, type PlanResult } from '../core/plan.ts';
+import type { PlanInstance, PlanOptions, PlanResult } from '../core/plan.ts';
 
 let terrain: Terrain | null = null;
 
@@ -49,12 +49,14 @@ export const api = {
    * The planner, off the caller's thread (the app's engine stays free for quick calls while HiGHS works).
    * `wasmUrl`: where HiGHS's WebAssembly is served (a browser needs it; null lets the package find it).
    */
-  solve(
+  async solve(
     inst: PlanInstance,
     opts: Omit<PlanOptions, 'highs' | 'onProgress'>,
     wasmUrl: string | null,
     onProgress?: (fraction: number, stage: string) => void,
   ): Promise<PlanResult> {
+    // Loaded on first use: a worker that only sweeps terrain starts without the planner and its solver.
+    const { solvePlan } = await import('../core/plan.ts');
     return solvePlan(inst, {
       ...opts,
       onProgress,
