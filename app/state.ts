@@ -21,9 +21,10 @@ import {
   type SiteProperties,
   type Volume,
 } from '../shared/scenario.ts';
+import { FOLD_KINDS, type FoldKind as SharedFoldKind } from '../shared/sensor-kinds.ts';
 
 export type Units = 'aviation' | 'metric';
-export type FoldKind = 'any' | 'primary' | 'secondary';
+export type FoldKind = SharedFoldKind;
 export type LayerId = 'relief' | 'floor' | 'fold' | 'gap' | 'loss' | 'compare' | 'volumes' | 'sites';
 
 export interface SensorRef {
@@ -565,7 +566,7 @@ export function restoreState(saved: unknown): WorkState {
       layers[id] = { on: x.on, opacity: x.opacity };
   }
   const fl = s.flightLevels.includes(w.view?.fl) ? w.view.fl : s.flightLevels[0];
-  const kind: FoldKind = ['any', 'primary', 'secondary'].includes(w.view?.kind) ? w.view.kind : 'any';
+  const kind: FoldKind = (FOLD_KINDS as readonly string[]).includes(w.view?.kind) ? w.view.kind : 'any';
   return prune({
     ...base,
     network: Array.isArray(w.network) ? w.network.filter((r) => typeof r?.siteId === 'string') : base.network,

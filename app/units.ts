@@ -119,7 +119,7 @@ export interface ReadoutFigures {
   /** The exact network floor of the cell (null: no sensor sees it), and the floor map's step it is drawn in. */
   floorM: number | null;
   floorStep?: string | null;
-  fold: { any: number; primary: number; secondary: number } | null;
+  fold: { any: number; primary: number; secondary: number; adsb?: number; mlat?: number } | null;
 }
 
 /**
@@ -137,10 +137,17 @@ export function fmtReadout(r: ReadoutFigures, u: Units, coverage: { level: strin
         ? 'network floor: not seen'
         : `network floor ${fmtAltitude(r.floorM, u)}${r.floorStep ? ` (map step ${r.floorStep})` : ''}`,
     );
-    if (r.fold)
+    if (r.fold) {
       parts.push(
         `sites at ${coverage.level}: ${r.fold.any} (PSR ${r.fold.primary}, SSR ${r.fold.secondary})`,
       );
+      // Receivers only where some are seen, so radar-only studies read as before.
+      const rx = [
+        r.fold.adsb ? `ADS-B ${r.fold.adsb}` : '',
+        r.fold.mlat ? `MLAT receivers ${r.fold.mlat}` : '',
+      ].filter(Boolean);
+      if (rx.length) parts.push(`receivers: ${rx.join(', ')}`);
+    }
   }
   return parts.join(' · ');
 }

@@ -36,7 +36,6 @@ import { seaBand, sensorBand, TOP_M, type Footprint, type SensorBand } from '../
 import { WGS84_GEOGRAPHIC, type GridGeo } from '../worker/core/grid.ts';
 import { firstLobeFactor } from '../worker/core/multipath.ts';
 import {
-  buildSensorModel,
   describeTarget,
   linkRangeM,
   SSR_REPLY_MHZ,
@@ -44,13 +43,14 @@ import {
   wattsToDbm,
   type SecondaryLinkSpec,
   type SensorModel,
-  type SensorTypeSpec,
+  type RadarTypeSpec,
   type Target,
 } from '../worker/core/sensor.ts';
+import { buildSensorModel } from '../worker/core/sensor-model.ts';
 import { Terrain } from '../worker/core/terrain.ts';
 
 const root = join(import.meta.dirname, '..');
-const catalog: SensorTypeSpec[] = JSON.parse(
+const catalog: RadarTypeSpec[] = JSON.parse(
   readFileSync(join(root, 'data/catalog/sensor-types.json'), 'utf8'),
 );
 
@@ -73,12 +73,12 @@ const km = (m: number) => (m / 1000).toFixed(1);
 const nm = (m: number) => (m / 1852).toFixed(1);
 const both = (m: number) => (m > 0 ? `${km(m)} km (${nm(m)} NM)` : 'not seen');
 
-function hasLinks(spec: SensorTypeSpec): boolean {
+function hasLinks(spec: RadarTypeSpec): boolean {
   return 'interrogatorPowerW' in (spec.detection as unknown as Record<string, unknown>);
 }
 
 /** The targets a type's range depends on. */
-function targetsOf(spec: SensorTypeSpec): { label: string; target: Target }[] {
+function targetsOf(spec: RadarTypeSpec): { label: string; target: Target }[] {
   if (spec.kind === 'primary') {
     return [
       { label: 'default', target: DEFAULT },
@@ -95,7 +95,7 @@ function targetsOf(spec: SensorTypeSpec): { label: string; target: Target }[] {
 }
 
 /** The same type with no practical instrumented range: what the physics gives before the cap. */
-function uncapped(spec: SensorTypeSpec): SensorModel {
+function uncapped(spec: RadarTypeSpec): SensorModel {
   return buildSensorModel({ ...spec, instrumentedRangeNm: 10_000 }, `${spec.id} (uncapped)`);
 }
 
@@ -114,7 +114,7 @@ function bandOf(model: SensorModel, target: Target, lobing: boolean, maxRangeM: 
   const land = sensorBand(profile, { ...req, maxRangeM, stepM: STEP_M });
   if (!lobing) return land;
   const voltage = (e: number) => Math.sqrt(model.patternGain(e, 0));
-  const fMHz = model.spec.frequencyMHz;
+  const fMHz = model.frequencyMHz;
   return seaBand(profile, land, req, (s, h) =>
     firstLobeFactor(MAST_M, Math.max(0, h), s, RE, fMHz, POLARIZATION, voltage),
   );
@@ -215,7 +215,7 @@ async function main(): Promise<void> {
   );
   push();
 
-  const items: { spec: SensorTypeSpec; model: SensorModel; label: string; target: Target }[] = [];
+  const items: { spec: RadarTypeSpec; model: SensorModel; label: string; target: Target }[] = [];
   for (const spec of catalog) {
     const model = buildSensorModel(spec, spec.id);
     for (const { label, target } of targetsOf(spec)) items.push({ spec, model, label, target });

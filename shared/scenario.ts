@@ -28,6 +28,9 @@
  *   and `hitsIntegrated` (sensor.ts: SPEC_POINT_DEFAULTS).
  * - Site `existing` defaults to false; a site without `allowedTypes` may take every sensor type.
  * - Volume `weight` defaults to 1.
+ * - Receivers (issue 14): sensor types of kind `adsb` / `mlat` (receive-only fields, see `receiverFields`;
+ *   `mlat` adds `timingErrorNs`); volume `requiredFold.adsb` / `.mlat` and `requiredMlatAccuracyM`; scenario
+ *   `mlatAltitudeAided` (default true). `requiredFold.any` keeps counting radars only.
  *
  * Unknown fields are refused in the scenario's own objects (a misspelt optional field would otherwise be
  * ignored without a word) but ignored in the GeoJSON parts (GIS exports carry extra attributes).
@@ -38,6 +41,7 @@
 import { booleanPointInPolygon, kinks } from '@turf/turf';
 import { z } from 'zod';
 import { InputError } from './errors.ts';
+import { RADAR_KINDS } from './sensor-kinds.ts';
 import { DETECTION_LIMITS, ECHO_SPEC_FIELDS, FLUCTUATION_IDS, TRANSPONDER_IDS } from './target-terms.ts';
 
 // zod compiles object schemas with `new Function` unless told not to, and probes for it with `Function('')` when
@@ -56,6 +60,7 @@ export const SCENARIO_DEFAULTS = {
   maxRangeKm: 400,
   volumeWeight: 1,
   existing: false,
+  mlatAltitudeAided: true,
 } as const;
 
 /**
@@ -204,11 +209,18 @@ function isRecord(v: unknown): v is Record<string, unknown> {
   return typeof v === 'object' && v !== null && !Array.isArray(v);
 }
 
-/** Issues missing a required field count most against a union branch: the user meant the other form. */
+/**
+ * Against a union branch, a top-level field of the wrong fixed value (a sensor type's `kind`) counts most — the
+ * user named the other form —, then issues missing a required field: the user meant the other form.
+ */
 function branchScore(issues: readonly z.core.$ZodIssue[]): number {
   let missing = 0;
-  for (const i of issues) if (i.code === 'invalid_type' && i.input === undefined) missing++;
-  return missing * 1000 + issues.length;
+  let tag = 0;
+  for (const i of issues) {
+    if (i.code === 'invalid_type' && i.input === undefined) missing++;
+    if (i.code === 'invalid_value' && i.path.length === 1) tag++;
+  }
+  return tag * 1_000_000 + missing * 1000 + issues.length;
 }
 
 function collectProblems(
@@ -529,7 +541,23 @@ export const VolumeSchema = strictObject({
   flMin: FlightLevelSchema.optional(),
   flMax: FlightLevelSchema.optional(),
   altitudeBand: AltitudeBandSchema.optional(),
-  requiredFold: strictObject({ primary: Fold.optional(), secondary: Fold.optional(), any: Fold.optional() }),
+  /**
+   * Distinct sites per kind that must see each cell. `any` counts radars (primary or secondary) only; `adsb` and
+   * `mlat` count receivers of that kind (shared/sensor-kinds.ts). An mlat fold counts the receivers that see the
+   * cell: a fix needs at least 4, or 3 when the scenario's `mlatAltitudeAided` holds.
+   */
+  requiredFold: strictObject({
+    primary: Fold.optional(),
+    secondary: Fold.optional(),
+    any: Fold.optional(),
+    adsb: Fold.optional(),
+    mlat: Fold.optional(),
+  }),
+  /**
+   * The 1σ horizontal DRMS (m) the multilateration fix must reach in this volume (checked against the accuracy
+   * map, worker/core/mlat.ts); absent: no accuracy requirement.
+   */
+  requiredMlatAccuracyM: positive('m, a 1σ horizontal DRMS').optional(),
   weight: positive('relative demand weight').default(SCENARIO_DEFAULTS.volumeWeight),
   /** This volume's own target (e.g. a terminal area studied for small aircraft); default the scenario's. */
   targetRcsM2: Rcs.optional(),
@@ -700,10 +728,14 @@ export const DetectionSchema = z.union([
 const FREQ_TEXT = 'a frequency in MHz from 1 to 300 000';
 const WEATHER_TEXT = 'a two-way weather loss in dB from 0 to below 40';
 
-export const SensorTypeSchema = strictObject({
+const KIND_TEXT =
+  'a sensor kind: "primary" or "secondary" (a radar, with frequencyMHz, maxElevationDeg and detection) or "adsb" or "mlat" (a receiver, with sensitivityDbm, cableLossDb and antennaGainDbi)';
+
+/** A radar (primary or secondary). */
+export const RadarTypeSchema = strictObject({
   id: Id,
   name: Name,
-  kind: z.enum(['primary', 'secondary']),
+  kind: z.enum(RADAR_KINDS, { error: KIND_TEXT }),
   frequencyMHz: inRange(1, 300_000, FREQ_TEXT),
   cost: nonNegative('M units'),
   /** Above this elevation lies the cone of silence. */
@@ -771,7 +803,75 @@ export const SensorTypeSchema = strictObject({
     );
   }
 }, always);
+
+const SENS_TEXT = 'a receiver sensitivity in dBm from −120 to −40';
+const CABLE_TEXT = 'a cable loss in dB from 0 to below 20';
+const RX_GAIN_TEXT = 'an antenna gain in dBi from −20 to 40';
+const RX_RANGE_TEXT = 'a range in NM above 0 and at most 1000';
+const AZ_TEXT = 'an azimuth in degrees from −360 to 360 (clockwise from true north)';
+const TIMING_TEXT = 'a 1σ arrival-time error in ns above 0 and at most 1000';
+
+/**
+ * A receiver's azimuth sector: it runs clockwise from fromDeg to toDeg (fromDeg 300, toDeg 60 is the 120° sector
+ * through north); absent: omnidirectional.
+ */
+const SectorSchema = strictObject({
+  fromDeg: inRange(-360, 360, AZ_TEXT),
+  toDeg: inRange(-360, 360, AZ_TEXT),
+}).superRefine((s, ctx) => {
+  if (num(s.fromDeg) && num(s.toDeg) && (((s.toDeg - s.fromDeg) % 360) + 360) % 360 === 0) {
+    problem(
+      ctx,
+      ['toDeg'],
+      `toDeg ${s.toDeg}, the same direction as fromDeg ${s.fromDeg}`,
+      'a sector of some width (leave sector out for an omnidirectional antenna)',
+    );
+  }
+}, always);
+
+/**
+ * A 1090 MHz ground receiver's fields (receive only; the limits match worker/core/receiver.ts): its sensitivity,
+ * cable loss and antenna gain, the elevation pattern (the same spec as the radars'), its instrumented range and
+ * an optional azimuth sector. No frequency (1090 MHz), no cone of silence beyond the pattern, no minimum range.
+ */
+const receiverFields = {
+  id: Id,
+  name: Name,
+  cost: nonNegative('M units'),
+  sensitivityDbm: inRange(-120, -40, SENS_TEXT),
+  cableLossDb: z.number({ error: CABLE_TEXT }).min(0, { error: CABLE_TEXT }).lt(20, { error: CABLE_TEXT }),
+  antennaGainDbi: inRange(-20, 40, RX_GAIN_TEXT),
+  elevationPattern: ElevationPatternSchema,
+  instrumentedRangeNm: z
+    .number({ error: RX_RANGE_TEXT })
+    .gt(0, { error: RX_RANGE_TEXT })
+    .max(1000, { error: RX_RANGE_TEXT }),
+  sector: SectorSchema.optional(),
+};
+
+/** An ADS-B ground station. */
+export const AdsbTypeSchema = strictObject({
+  ...receiverFields,
+  kind: z.literal('adsb', { error: KIND_TEXT }),
+});
+/** A multilateration receiver: an ADS-B radio plus its 1σ time-of-arrival error (ns), synchronisation included. */
+export const MlatTypeSchema = strictObject({
+  ...receiverFields,
+  kind: z.literal('mlat', { error: KIND_TEXT }),
+  timingErrorNs: z
+    .number({ error: TIMING_TEXT })
+    .gt(0, { error: TIMING_TEXT })
+    .max(1000, { error: TIMING_TEXT }),
+});
+
+/**
+ * Any sensor type, told apart by `kind`. A plain union, not a discriminated one: with a kind that is none of them
+ * every other problem of the object is still reported, from the form it is nearest to (parseWith's branchScore).
+ */
+export const SensorTypeSchema = z.union([RadarTypeSchema, AdsbTypeSchema, MlatTypeSchema]);
 export type SensorType = z.output<typeof SensorTypeSchema>;
+export type RadarType = z.output<typeof RadarTypeSchema>;
+export type ReceiverType = z.output<typeof AdsbTypeSchema> | z.output<typeof MlatTypeSchema>;
 export type ElevationPattern = z.output<typeof ElevationPatternSchema>;
 export type Detection = z.output<typeof DetectionSchema>;
 export type ReferenceDetection = z.output<typeof ReferenceDetectionSchema>;
@@ -958,6 +1058,13 @@ const ScenarioObjectSchema = strictObject({
   /** Over-sea two-ray lobing where the reflection point lies over sea ("auto", default) or never ("off"). */
   multipath: z.enum(['auto', 'off']).default('auto'),
   maxRangeKm: positive('km').default(SCENARIO_DEFAULTS.maxRangeKm),
+  /**
+   * Whether targets report their pressure altitude to the multilateration fix (Mode S and ADS-B replies carry
+   * it): then a fix needs 3 receivers instead of 4 (shared/sensor-kinds.ts mlatMinReceivers). Default true:
+   * every transponder class the study models reports it (from memory: altitude reporting is required with the
+   * transponder in controlled airspace); set false to plan for the unaided 4-receiver fix.
+   */
+  mlatAltitudeAided: z.boolean().default(SCENARIO_DEFAULTS.mlatAltitudeAided),
   /**
    * The record of the tool that wrote the file (worker/io/provenance.ts: version, terrain digests, conventions),
    * as the web app saves it: accepted and set aside on load, so a saved scenario opens again.

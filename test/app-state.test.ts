@@ -12,6 +12,7 @@ import {
   type Scenario,
   type SensorType,
   type Volume,
+  type RadarType,
 } from '../shared/scenario.ts';
 import { loadScenario } from '../worker/cli/scenario.ts';
 import { readFileSync } from 'node:fs';
@@ -436,7 +437,7 @@ describe('sensor types', () => {
   it('addSensorType adds a valid type and refuses an invalid one naming the field', () => {
     const s = fresh();
     const base = {
-      ...structuredClone(typeOf(s, 'ssr-short')),
+      ...structuredClone(typeOf(s, 'ssr-short') as RadarType),
       id: 'ssr-invented',
       name: 'Invented secondary',
     };

@@ -17,7 +17,8 @@ import { diagramData, rayGroundRangeM } from '../worker/core/diagram.ts';
 import { renderDiagramSvg, escapeXml } from '../worker/io/diagram-svg.ts';
 import { computeHorizon, floorAt, planHorizon, traceRadial } from '../worker/core/horizon.ts';
 import { pseudoToAzimuthRad } from '../worker/core/geodesy.ts';
-import { buildSensorModel, DEFAULT_TARGET, type SensorModel } from '../worker/core/sensor.ts';
+import { DEFAULT_TARGET, type SensorModel } from '../worker/core/sensor.ts';
+import { buildSensorModel } from '../worker/core/sensor-model.ts';
 
 const TARGET = DEFAULT_TARGET;
 import { isInputError } from '../shared/errors.ts';

@@ -24,7 +24,8 @@ import { flToMetres } from '../shared/units.ts';
 import { computeFootprints, type Candidate } from '../worker/core/coverage.ts';
 import { inlineExecutor } from '../worker/core/floor.ts';
 import { coversAt, hiAt, loAt, sensorBand, slantGeometry, type Footprint } from '../worker/core/footprint.ts';
-import { buildSensorModel, DEFAULT_TARGET, type SensorTypeSpec, type Target } from '../worker/core/sensor.ts';
+import { DEFAULT_TARGET, type RadarTypeSpec, type Target } from '../worker/core/sensor.ts';
+import { buildSensorModel } from '../worker/core/sensor-model.ts';
 import { levelAltitudesM } from '../worker/io/study.ts';
 import { WGS84_GEOGRAPHIC } from '../worker/core/grid.ts';
 import { Terrain } from '../worker/core/terrain.ts';
@@ -51,7 +52,7 @@ type Strip = ReturnType<typeof strip>;
 
 async function footprints(
   st: Strip,
-  list: { spec: SensorTypeSpec; target: Target }[],
+  list: { spec: RadarTypeSpec; target: Target }[],
   o: { atmosphere?: boolean; maxRangeM?: number } = {},
 ): Promise<Footprint[]> {
   const candidates: Candidate[] = list.map((x) => ({
@@ -94,7 +95,7 @@ function innerEdgeM(st: Strip, fp: Footprint, h: number): number {
 }
 
 /** A primary with physical parameters, a flat elevation pattern (0 dB everywhere) and no range cap. */
-function flatPrimary(over: Partial<SensorTypeSpec> = {}): SensorTypeSpec {
+function flatPrimary(over: Partial<RadarTypeSpec> = {}): RadarTypeSpec {
   return {
     id: 'flat-psr',
     name: 'Test primary with a flat pattern',
@@ -178,7 +179,7 @@ describe('flat sea: true altitudes on the day', () => {
     expect(cold).toBeLessThan(2600);
     // A secondary with margin to spare: the horizon sets the edge.
     const st = strip(1201, 500);
-    const spec: SensorTypeSpec = {
+    const spec: RadarTypeSpec = {
       id: 'ssr-x',
       name: 'Test secondary',
       kind: 'secondary',
@@ -202,7 +203,7 @@ describe('flat sea: true altitudes on the day', () => {
 });
 
 describe('flat sea: the default catalog', () => {
-  const catalog: SensorTypeSpec[] = JSON.parse(
+  const catalog: RadarTypeSpec[] = JSON.parse(
     readFileSync(new URL('../data/catalog/sensor-types.json', import.meta.url), 'utf8'),
   );
   const lva = catalog.find((t) => t.id === 'ssr-mono-lva')!;
@@ -225,7 +226,7 @@ describe('flat sea: the default catalog', () => {
 describe('flat sea: an edge set by the sensor’s own limits, not the horizon', () => {
   it('the cone of silence at FL100 for a 40° maximum elevation: inner edge at h / tan 40° ≈ 3.6 km (geometry [calc])', async () => {
     const st = strip(401, 50);
-    const spec: SensorTypeSpec = {
+    const spec: RadarTypeSpec = {
       id: 'cone',
       name: 'Test primary with a 40° cone',
       kind: 'primary',
@@ -299,7 +300,7 @@ describe('over-sea lobing: the first lobe’s lower edge (Blake 1980 / Barton 20
     const terrain = Terrain.fromParts({ geo, data, warnings: [], sources: ['generated'] });
     return { data, geo, terrain, multipath };
   }
-  const spec = (): SensorTypeSpec => ({
+  const spec = (): RadarTypeSpec => ({
     id: 'ssr-l',
     name: 'Test secondary at 1030 MHz',
     kind: 'secondary',
@@ -362,7 +363,7 @@ describe('over-sea lobing: the first lobe’s lower edge (Blake 1980 / Barton 20
 
 describe('sensorBand directly (footprint.ts)', () => {
   it('on a flat earth a range-limited, pattern-flat sensor’s band top is √(R² − s²) above a sea-level antenna (geometry [calc])', () => {
-    const spec: SensorTypeSpec = {
+    const spec: RadarTypeSpec = {
       id: 'r',
       name: 'Test range-limited secondary',
       kind: 'secondary',

@@ -14,7 +14,8 @@ import { parseScenario, SCENARIO_DEFAULTS, ScenarioError, type SensorType } from
 import { checkAgainstTerrain, loadScenario, parseJsonText, readSitesCsv } from '../worker/cli/scenario.ts';
 import { demoTileNames } from '../worker/cli/demo.ts';
 import { DEMO_REGION } from '../worker/demo/synth-terrain.ts';
-import { buildSensorModel, type SensorTypeSpec } from '../worker/core/sensor.ts';
+import { type SensorTypeSpec } from '../worker/core/sensor.ts';
+import { buildSensorModel } from '../worker/core/sensor-model.ts';
 import { docOf, type ScenarioDoc } from '../app/state.ts';
 import { Engine } from '../worker/runtime/engine.ts';
 import { checkNetworkLevels } from '../worker/io/study.ts';

@@ -14,7 +14,6 @@ import { flToMetres, nmToM } from '../shared/units.ts';
 import { oneWayPathLossDb } from '../worker/core/atmosphere.ts';
 import { requiredSnrDb } from '../worker/core/detection.ts';
 import {
-  buildSensorModel,
   DEFAULT_TARGET,
   gainFromAperture,
   linkRangeM,
@@ -23,9 +22,10 @@ import {
   TRANSPONDER_CLASSES,
   wavelengthM,
   weatherRangeFactor,
-  type SensorTypeSpec,
+  type RadarTypeSpec,
   type Target,
 } from '../worker/core/sensor.ts';
+import { buildSensorModel } from '../worker/core/sensor-model.ts';
 
 const DEG = Math.PI / 180;
 const db = (x: number) => 10 * Math.log10(x);
@@ -34,7 +34,7 @@ const T = (o: Partial<Target> = {}): Target => ({ ...DEFAULT_TARGET, ...o });
 const rangeAt = (m: ReturnType<typeof buildSensorModel>, e: number, t: Target = T(), o = {}) =>
   m.profile({ target: t, antennaAltM: 0, atmosphere: false, ...o }).rangeM(e);
 
-function primaryRef(over: Partial<SensorTypeSpec> = {}): SensorTypeSpec {
+function primaryRef(over: Partial<RadarTypeSpec> = {}): RadarTypeSpec {
   return {
     id: 'p',
     name: 'test primary',
@@ -49,7 +49,7 @@ function primaryRef(over: Partial<SensorTypeSpec> = {}): SensorTypeSpec {
   };
 }
 
-function secondaryRef(over: Partial<SensorTypeSpec> = {}): SensorTypeSpec {
+function secondaryRef(over: Partial<RadarTypeSpec> = {}): RadarTypeSpec {
   return {
     id: 's',
     name: 'test secondary',
@@ -405,7 +405,7 @@ describe('elevation patterns, tilt and the cone of silence', () => {
     const catalog = JSON.parse(
       readFileSync(new URL('../data/catalog/sensor-types.json', import.meta.url), 'utf8'),
     );
-    const specs: SensorTypeSpec[] = [
+    const specs: RadarTypeSpec[] = [
       ...catalog,
       primaryRef({ elevationPattern: { type: 'cosec2', startDeg: 0.5, endDeg: 30, beamwidthDeg: 1 } }),
       primaryRef({ elevationPattern: { type: 'table', deg: [-1, 0, 1, 2], gainDb: [-20, -2, 0, -12] } }),
@@ -464,7 +464,7 @@ describe('elevation patterns, tilt and the cone of silence', () => {
 });
 
 describe('default catalog data/catalog/sensor-types.json', () => {
-  const catalog: SensorTypeSpec[] = JSON.parse(
+  const catalog: RadarTypeSpec[] = JSON.parse(
     readFileSync(new URL('../data/catalog/sensor-types.json', import.meta.url), 'utf8'),
   );
   const readme = readFileSync(new URL('../data/catalog/README.md', import.meta.url), 'utf8');
@@ -498,7 +498,7 @@ describe('default catalog data/catalog/sensor-types.json', () => {
 });
 
 describe('bad input: one clear InputError each', () => {
-  type Case = [string, SensorTypeSpec, string, RegExp];
+  type Case = [string, RadarTypeSpec, string, RegExp];
   const P = primaryRef();
   const S = secondaryRef();
   const physical = {
@@ -591,7 +591,12 @@ describe('bad input: one clear InputError each', () => {
       /found 0; expected an angle in degrees above 0 and at most 90/,
     ],
     ['maxElevation above 90', { ...P, maxElevationDeg: 95 }, 'W.maxElevationDeg', /found 95/],
-    ['kind unknown', { ...P, kind: 'tertiary' as never }, 'W.kind', /'primary' or 'secondary'/],
+    [
+      'kind unknown',
+      { ...P, kind: 'tertiary' as never },
+      'W.kind',
+      /'primary', 'secondary', 'adsb' or 'mlat'/,
+    ],
     ['frequency ≤ 0', { ...P, frequencyMHz: -3 }, 'W.frequencyMHz', /found -3/],
     ['instrumented range ≤ 0', { ...P, instrumentedRangeNm: 0 }, 'W.instrumentedRangeNm', /positive range/],
     [

@@ -65,6 +65,8 @@ function viewControls(host: Host): HTMLElement {
     h('option', { value: 'any' }, 'any kind'),
     h('option', { value: 'primary' }, 'PSR only'),
     h('option', { value: 'secondary' }, 'SSR only'),
+    h('option', { value: 'adsb' }, 'ADS-B receivers'),
+    h('option', { value: 'mlat' }, 'multilateration receivers'),
   );
   kind.value = s.view.kind;
   const layerRows = LAYER_NAMES.map(([id, label]) => {

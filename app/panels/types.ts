@@ -3,6 +3,7 @@
  * file's form, checked by the schema before it is applied.
  */
 import type { SensorType } from '../../shared/scenario.ts';
+import { KIND_LABELS } from '../../shared/sensor-kinds.ts';
 import { h, table } from '../dom.ts';
 import type { PanelHost } from '../panel-host.ts';
 import { addSensorType, removeSensorType, replaceSensorType } from '../state.ts';
@@ -32,8 +33,8 @@ export function typesPanel(host: Host): HTMLElement {
       name.addEventListener('change', () => patch(t, name, { name: name.value }));
       return h('span', {}, name, h('div', { className: 'sub' }, t.id));
     })(),
-    t.kind === 'primary' ? 'PSR' : 'SSR',
-    `${t.frequencyMHz} MHz`,
+    KIND_LABELS[t.kind],
+    t.kind === 'primary' || t.kind === 'secondary' ? `${t.frequencyMHz} MHz` : '1090 MHz',
     numberIn(
       rangeToUser(t.instrumentedRangeNm),
       { className: 'short', min: 0, 'aria-label': `range of ${t.id}` },
@@ -45,16 +46,19 @@ export function typesPanel(host: Host): HTMLElement {
               v,
               u,
               `instrumented range of ${t.id} (instrumentedRangeNm)`,
-              t.minRangeNm ?? 0,
+              t.kind === 'primary' || t.kind === 'secondary' ? (t.minRangeNm ?? 0) : 0,
             ),
           }),
         ),
     ),
-    numberIn(
-      t.maxElevationDeg,
-      { className: 'tiny', min: 0, max: 90, 'aria-label': `max elevation of ${t.id}` },
-      (v, el) => patch(t, el, { maxElevationDeg: v }),
-    ),
+    // A receiver has no cone of silence beyond its pattern: nothing to edit here (its JSON holds the rest).
+    t.kind === 'primary' || t.kind === 'secondary'
+      ? numberIn(
+          t.maxElevationDeg,
+          { className: 'tiny', min: 0, max: 90, 'aria-label': `max elevation of ${t.id}` },
+          (v, el) => patch(t, el, { maxElevationDeg: v }),
+        )
+      : '—',
     numberIn(t.cost, { className: 'short', min: 0, 'aria-label': `cost of ${t.id}` }, (v, el) =>
       patch(t, el, { cost: v }),
     ),

@@ -5,7 +5,7 @@
 import { h, table } from '../dom.ts';
 import { readPolygonFile } from '../files.ts';
 import type { PanelHost } from '../panel-host.ts';
-import { addVolume, editVolume, removeVolume } from '../state.ts';
+import { addVolume, editVolume, removeVolume, type FoldKind } from '../state.ts';
 import { fmtLevel } from '../units.ts';
 import { filePicker, numberIn, section, tryEdit, type EditHost } from './kit.ts';
 import { targetSection, volumeTargets } from './target.ts';
@@ -28,7 +28,7 @@ export function volumesPanel(host: Host): HTMLElement {
         { className: 'short', 'aria-label': `${key} of ${v.id}` },
         (x, el) => void tryEdit(host, el, () => editVolume(host.state, v.id, { [key]: x })),
       );
-    const fold = (k: 'any' | 'primary' | 'secondary') =>
+    const fold = (k: FoldKind) =>
       numberIn(
         v.requiredFold[k] ?? 0,
         { className: 'tiny', min: 0, 'aria-label': `${k} sites required in ${v.id}` },
@@ -51,6 +51,10 @@ export function volumesPanel(host: Host): HTMLElement {
         fold('primary'),
         ' SSR ',
         fold('secondary'),
+        ' ADS-B ',
+        fold('adsb'),
+        ' MLAT ',
+        fold('mlat'),
       ),
       num('weight', v.weight ?? 1),
       h(

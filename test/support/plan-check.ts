@@ -1,7 +1,8 @@
 /**
  * Checks of a plan against its instance, written from the definitions (worker/core/plan/model.ts, "Covered
  * value" and "Cost") and sharing no code with the planner: a point's fold of a kind is the number of distinct
- * sites with a chosen sensor of that kind covering it ('any': of either kind); a requirement above what every
+ * sites with a chosen sensor of that kind covering it ('any': of either radar kind, primary or secondary; the
+ * receiver kinds adsb and mlat never count toward it); a requirement above what every
  * allowed sensor together reaches is capped there (and is what the plan lists as unmeetable); the cost is each
  * opened site once (0 when existing) plus each sensor's type cost (0 when already standing).
  *
@@ -11,29 +12,32 @@
 import type { Kind, PlanInstance } from '../../worker/core/plan.ts';
 import { mulberry32 } from './bumps.ts';
 
+const KINDS = ['any', 'primary', 'secondary', 'adsb', 'mlat'] as const;
+/** Kind slots per point. */
+const NK = KINDS.length;
+
 export interface Shortfall {
   point: number;
-  kind: 'any' | 'primary' | 'secondary';
+  kind: (typeof KINDS)[number];
   required: number;
   found: number;
 }
 
-const KINDS = ['any', 'primary', 'secondary'] as const;
-
-/** Folds (any, primary, secondary) at every point for a set of candidates: distinct sites per kind. */
+/** Folds (any, primary, secondary, adsb, mlat) at every point for a set of candidates: distinct sites per kind. */
 export function foldsOf(inst: PlanInstance, set: readonly number[]): Int32Array {
   const n = inst.points.count;
-  const out = new Int32Array(3 * n);
+  const out = new Int32Array(NK * n);
   const seen = new Map<string, true>();
   for (const c of set) {
     const cand = inst.candidates[c];
-    const k = cand.kind === 'primary' ? 1 : 2;
+    const k = KINDS.indexOf(cand.kind);
+    const radar = cand.kind === 'primary' || cand.kind === 'secondary';
     for (const p of cand.covers) {
-      for (const slot of [0, k]) {
+      for (const slot of radar ? [0, k] : [k]) {
         const key = `${p}/${slot}/${cand.siteIndex}`;
         if (seen.has(key)) continue;
         seen.set(key, true);
-        out[3 * p + slot]++;
+        out[NK * p + slot]++;
       }
     }
   }
@@ -46,18 +50,18 @@ export function allowedOf(inst: PlanInstance): number[] {
   return inst.candidates.map((_, c) => c).filter((c) => !ex.has(inst.candidates[c].siteIndex));
 }
 
-/** Requirement per point and kind (3 per point), capped at what every allowed candidate together reaches. */
+/** Requirement per point and kind (NK per point), capped at what every allowed candidate together reaches. */
 export function cappedRequirements(inst: PlanInstance): { capped: Int32Array; uncapped: Int32Array } {
   const P = inst.points;
   const reach = foldsOf(inst, allowedOf(inst));
-  const capped = new Int32Array(3 * P.count);
-  const uncapped = new Int32Array(3 * P.count);
+  const capped = new Int32Array(NK * P.count);
+  const uncapped = new Int32Array(NK * P.count);
   for (let p = 0; p < P.count; p++) {
-    const req = [P.reqAny[p], P.reqPrimary[p], P.reqSecondary[p]];
-    for (let k = 0; k < 3; k++) {
+    const req = [P.reqAny[p], P.reqPrimary[p], P.reqSecondary[p], P.reqAdsb?.[p] ?? 0, P.reqMlat?.[p] ?? 0];
+    for (let k = 0; k < NK; k++) {
       const r = P.weight[p] > 0 ? req[k] : 0;
-      uncapped[3 * p + k] = r;
-      capped[3 * p + k] = Math.min(r, reach[3 * p + k]);
+      uncapped[NK * p + k] = r;
+      capped[NK * p + k] = Math.min(r, reach[NK * p + k]);
     }
   }
   return { capped, uncapped };
@@ -69,9 +73,9 @@ export function shortfalls(inst: PlanInstance, chosen: readonly number[]): Short
   const { capped } = cappedRequirements(inst);
   const out: Shortfall[] = [];
   for (let p = 0; p < inst.points.count; p++) {
-    for (let k = 0; k < 3; k++) {
-      if (f[3 * p + k] < capped[3 * p + k]) {
-        out.push({ point: p, kind: KINDS[k], required: capped[3 * p + k], found: f[3 * p + k] });
+    for (let k = 0; k < NK; k++) {
+      if (f[NK * p + k] < capped[NK * p + k]) {
+        out.push({ point: p, kind: KINDS[k], required: capped[NK * p + k], found: f[NK * p + k] });
       }
     }
   }
@@ -95,7 +99,7 @@ export function coveredWeight(inst: PlanInstance, set: readonly number[]): numbe
   const { capped } = cappedRequirements(inst);
   let w = 0;
   for (let p = 0; p < inst.points.count; p++) {
-    for (let k = 0; k < 3; k++) w += inst.points.weight[p] * Math.min(f[3 * p + k], capped[3 * p + k]);
+    for (let k = 0; k < NK; k++) w += inst.points.weight[p] * Math.min(f[NK * p + k], capped[NK * p + k]);
   }
   return w;
 }
@@ -157,4 +161,44 @@ export function siteCostInstance(seed: number): PlanInstance {
     if (sites[candidates[c].siteIndex].existing) inst.standing = [c];
   }
   return inst;
+}
+
+/**
+ * A small seeded instance mixing radars and receivers: as `siteCostInstance`, with each candidate one of the four
+ * kinds and requirements per point for any (radars), primary, secondary, adsb and mlat (folds 1–2; mlat up to 3).
+ */
+export function mixedKindInstance(seed: number): PlanInstance {
+  const r = mulberry32(seed);
+  const ri = (a: number, b: number): number => a + Math.floor(r() * (b - a + 1));
+  const nS = ri(4, 6);
+  const nC = ri(8, 13);
+  const n = ri(12, 30);
+  const kinds: Kind[] = ['primary', 'secondary', 'adsb', 'mlat'];
+  const sites = Array.from({ length: nS }, (_, i) => ({ id: `s${i}`, cost: ri(1, 8), existing: r() < 0.15 }));
+  const candidates = Array.from({ length: nC }, (_, j) => {
+    const covers: number[] = [];
+    const density = 0.3 + 0.4 * r();
+    for (let p = 0; p < n; p++) if (r() < density) covers.push(p);
+    return {
+      siteIndex: j < nS ? j : ri(0, nS - 1),
+      typeId: `t${j}`,
+      kind: kinds[ri(0, 3)],
+      cost: ri(1, 6),
+      covers: Uint32Array.from(covers),
+    };
+  });
+  const req = (p: number, top: number) => new Uint8Array(n).map(() => (r() < p ? ri(1, top) : 0));
+  return {
+    sites,
+    candidates,
+    points: {
+      count: n,
+      weight: new Float64Array(n).map(() => ri(1, 4)),
+      reqAny: req(0.25, 2),
+      reqPrimary: req(0.2, 1),
+      reqSecondary: req(0.2, 1),
+      reqAdsb: req(0.3, 2),
+      reqMlat: req(0.3, 3),
+    },
+  };
 }

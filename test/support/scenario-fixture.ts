@@ -38,7 +38,10 @@ export interface FixtureDem {
   data?: Float32Array;
 }
 
-export type FixtureSensorType = Record<string, unknown> & { id: string; kind: 'primary' | 'secondary' };
+export type FixtureSensorType = Record<string, unknown> & {
+  id: string;
+  kind: 'primary' | 'secondary' | 'adsb' | 'mlat';
+};
 
 export interface FixtureVolume {
   id: string;
@@ -48,7 +51,8 @@ export interface FixtureVolume {
   flMin?: number;
   flMax?: number;
   altitudeBand?: { reference: 'amsl' | 'agl'; minFt: number; maxFt: number };
-  requiredFold: { primary?: number; secondary?: number; any?: number };
+  requiredFold: { primary?: number; secondary?: number; any?: number; adsb?: number; mlat?: number };
+  requiredMlatAccuracyM?: number;
   weight?: number;
   targetRcsM2?: number;
   targetFluctuation?: string;
@@ -75,6 +79,8 @@ export interface FixtureOptions {
   kFactor?: number;
   maxRangeKm?: number;
   targetRcsM2?: number;
+  /** Further top-level scenario fields as given (e.g. multipath, mlatAltitudeAided, targetTransponder). */
+  extra?: Record<string, unknown>;
 }
 
 export interface Fixture {
@@ -285,6 +291,7 @@ export function writeScenarioFixture(opts: FixtureOptions = {}): Fixture {
     layouts: opts.layouts ?? DEFAULT_LAYOUTS,
     ...(opts.maxRangeKm !== undefined ? { maxRangeKm: opts.maxRangeKm } : {}),
     ...(opts.targetRcsM2 !== undefined ? { targetRcsM2: opts.targetRcsM2 } : {}),
+    ...(opts.extra ?? {}),
   };
   const scenarioPath = join(dir, 'scenario.json');
   writeFileSync(scenarioPath, JSON.stringify(scenario, null, 2));

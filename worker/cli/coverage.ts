@@ -23,6 +23,7 @@ import { NodePool } from '../runtime/node-pool.ts';
 import { coldDayHelp, one, parseArgs, required, scenarioArg, threadsArg, weatherHelp } from './args.ts';
 import { finishRun, RunFolder, runFolderHelp } from './files.ts';
 import { scenarioProvenance } from './provenance.ts';
+import { writeMlatOutputs, type MlatOutputs } from './mlat-outputs.ts';
 import type { LoadedScenario } from './scenario.ts';
 import {
   cacheHelp,
@@ -47,9 +48,9 @@ Usage:
 Computes, on the scenario's analysis grid, every sensor's footprint (terrain-masked line of sight on the
 effective earth, limited by the sensor's detection range per elevation, cone of silence, instrumented and
 minimum range), and from them how many distinct sites see each cell at each flight level, per kind.
-Writes DIR/coverage-FL050.geojson … (features per fold ≥1, ≥2, … for any kind, primary and secondary, and
-the gaps inside each volume), DIR/summary.json (statistics per volume and flight level) and
-DIR/network-floor.tif (lowest covered altitude, m AMSL).
+Writes DIR/coverage-FL050.geojson … (features per fold ≥1, ≥2, … for any radar, primary and secondary, for
+the adsb and mlat receivers when the network has them, and the gaps inside each volume), DIR/summary.json
+(statistics per volume and flight level) and DIR/network-floor.tif (lowest altitude a radar covers, m AMSL).
 
 Options:
   --fl LIST        flight levels, comma-separated (default: the scenario's flightLevels)
@@ -167,6 +168,19 @@ export async function coverageCommand(
       provenance: undated(provenance),
     }),
   );
+  // Multilateration accuracy per level, when the network has mlat receivers (issue 14).
+  const mlat = writeMlatOutputs(
+    session,
+    candidates,
+    result.footprints,
+    fls,
+    altitudes,
+    (n, d) => run.write(n, d),
+    {
+      provenance: undated(provenance),
+      meta: layerMeta(conventions),
+    },
+  );
   const tLayers = performance.now();
   const summary = {
     scenario: s.name,
@@ -189,6 +203,18 @@ export async function coverageCommand(
       sensors: result.footprints.map((fp) => ({ siteId: fp.siteId, typeId: fp.typeId, kind: fp.kind })),
     },
     volumes: stats,
+    ...(mlat
+      ? {
+          mlatAccuracy: {
+            quantity: '1-sigma horizontal DRMS of the multilateration fix, metres',
+            altitudeKnown: mlat.altitudeKnown,
+            minReceivers: mlat.minReceivers,
+            receiverSites: mlat.receiverSites,
+            files: mlat.files,
+            volumes: mlat.volumes,
+          },
+        }
+      : {}),
     timingsMs: {
       setup: Math.round(tSetup - started),
       footprints: Math.round(tFootprints - tSetup),
@@ -234,6 +260,7 @@ export async function coverageCommand(
   }
   for (const line of finishRun(run, 'coverage', outDir)) log(line);
   log(summaryText(s.name, choice.label, stats, fls, outDir, summary.timingsMs, s.volumes));
+  if (mlat) log(mlatText(mlat, s.volumes, outDir));
   log(conventionsText(summary.conventions));
   if (opts.caution !== false) log(CAUTION);
   return 0;
@@ -282,6 +309,26 @@ function summaryText(
   lines.push(
     `time: ${(t.total / 1000).toFixed(1)} s (footprints ${(t.footprints / 1000).toFixed(1)} s); one site switched off and on: ${t.siteToggle} ms; peak memory ${(process.resourceUsage().maxRSS / 1024).toFixed(0)} MiB`,
   );
+  return lines.join('\n');
+}
+
+/** The multilateration accuracy per volume that asks for one, and where the maps are. */
+function mlatText(m: MlatOutputs, volumes: readonly Vol[], outDir: string): string {
+  const lines = [
+    '',
+    `multilateration: ${m.receiverSites.length} receivers; a fix needs ${m.minReceivers} (${m.altitudeKnown ? 'the altitude reported' : 'the altitude not used'}); 1σ horizontal DRMS in ${outDir}/mlat-accuracy-FL….tif and .geojson`,
+  ];
+  if (m.volumes.length > 0) {
+    lines.push(
+      `  ${'volume'.padEnd(28)} ${'level'.padEnd(6)} ${'bound m'.padStart(8)} ${'a fix'.padStart(8)} ${'median m'.padStart(9)} ${'meets'.padStart(8)}`,
+    );
+    for (const a of m.volumes) {
+      const name = volumes.find((v) => v.id === a.volumeId)?.name ?? a.volumeId;
+      lines.push(
+        `  ${name.slice(0, 28).padEnd(28)} ${formatFl(a.flightLevel).padEnd(6)} ${a.requiredM.toFixed(0).padStart(8)} ${(a.fixPct.toFixed(1) + ' %').padStart(8)} ${(a.medianM === null ? '—' : a.medianM.toFixed(0)).padStart(9)} ${(a.metPct.toFixed(1) + ' %').padStart(8)}`,
+      );
+    }
+  }
   return lines.join('\n');
 }
 

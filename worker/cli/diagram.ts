@@ -3,7 +3,7 @@ import { CAUTION } from '../../shared/caution.ts';
 import { InputError } from '../../shared/errors.ts';
 import { diagramData } from '../core/diagram.ts';
 import { dayText, studyConventions, studyDay, studyTarget } from '../io/study.ts';
-import { buildSensorModel } from '../core/sensor.ts';
+import { buildSensorModel } from '../core/sensor-model.ts';
 import { renderDiagramSvg } from '../io/diagram-svg.ts';
 import { applyColdDay, coldDayHelp, numberArg, one, parseArgs, required, weatherHelp } from './args.ts';
 import { writeOutputFile } from './files.ts';
@@ -140,7 +140,7 @@ export async function diagramCommand(argv: readonly string[], log: (s: string) =
       `  antenna ${data.antennaAltM.toFixed(0)} m AMSL, tilt ${data.sensor.tiltDeg}°; ${shadowKm.toFixed(1)} km of the ${(data.maxRangeM / 1000).toFixed(0)} km radial lie in terrain shadow at ground level`,
       `  target: ${data.sensor.target}; day: ${dayText(data.day)}; k = ${+data.kFactor.toFixed(4)}`,
       `  sensor: ${data.sensor.convention}`,
-      `  cone of silence from ${data.cone.maxElevationDeg.toFixed(1)}°${data.seaLobingRows > 0 ? '; over sea the lower edge is the first lobe’s' : ''}`,
+      `  ${data.cone.maxElevationDeg >= 90 ? 'no cone of silence: overhead, the elevation pattern alone limits the range' : `cone of silence from ${data.cone.maxElevationDeg.toFixed(1)}°`}${data.seaLobingRows > 0 ? '; over sea the lower edge is the first lobe’s' : ''}`,
     ].join('\n'),
   );
   log(CAUTION);

@@ -56,9 +56,10 @@ Options:
                    allowedTypes as ids separated by ";", tiltDeg) or a GeoJSON FeatureCollection of Points with
                    those properties
   --volumes FILE   airspace volumes: GeoJSON polygons; each feature's properties may give id, name, flMin,
-                   flMax, altitudeBand, requiredFold (or primaryFold, secondaryFold, anyFold), weight. Without
-                   it: one volume over the study area, from the lowest to the highest level, needing one sensor
-                   of each kind the sites may carry
+                   flMax, altitudeBand, requiredFold (or primaryFold, secondaryFold, anyFold, adsbFold,
+                   mlatFold), weight. Without it: one volume over the study area, from the lowest to the highest
+                   level, needing one sensor of each radar kind the sites may carry (of each receiver kind when
+                   they carry receivers only)
   --types FILE     sensor types (a JSON list, as data/catalog/sensor-types.json); default: that catalog
   --name TEXT      the study's name (default: from the sites file and the tiles)
   --out FILE       the study file to write (.json)

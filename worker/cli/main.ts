@@ -57,7 +57,9 @@ export async function main(argv: readonly string[]): Promise<number> {
     return 2;
   }
   try {
-    return await (await load())(rest, log);
+    return await (
+      await load()
+    )(rest, log);
   } catch (e) {
     if (process.stderr.isTTY) process.stderr.write('\r\x1b[K');
     if (isInputError(e)) {

@@ -16,6 +16,7 @@ import { gridMapper } from './grid.ts';
 import { planHorizon, type HorizonSpec } from './horizon.ts';
 import {
   buildFootprint,
+  NO_COVER_LO,
   seaBand,
   sensorBand,
   type Footprint,
@@ -157,7 +158,7 @@ export async function computeFootprints(
     if (sea !== null) {
       const tiltRad = ((c.site.tiltDeg ?? 0) * Math.PI) / 180;
       const model = c.model;
-      const fMHz = model.spec.frequencyMHz;
+      const fMHz = model.frequencyMHz;
       const voltage = (e: number) => Math.sqrt(model.patternGain(e, tiltRad));
       const h1 = Math.max(0, antennaAltM);
       const lobing = (s: number, h: number) =>
@@ -170,7 +171,9 @@ export async function computeFootprints(
       }
       choice = { band: over, d1M, ...sea };
     }
-    return buildFootprint(c.site.id, c.model, res.floor, res.distance, band, choice, window);
+    const fp = buildFootprint(c.site.id, c.model, res.floor, res.distance, band, choice, window);
+    if (c.model.sector) dropOutsideSector(fp, req.grid, c.site, c.model.sector);
+    return fp;
   };
   let next = groups.length > 0 ? floorOf(groups[0]) : null;
   for (let g = 0; g < groups.length; g++) {
@@ -206,6 +209,40 @@ export async function computeFootprints(
     opts.onProgress?.(done / groups.length, `${site.name}: done`);
   }
   return { footprints, siteFloors };
+}
+
+/**
+ * A sector receiver (receiver.ts) hears nothing outside its azimuth sector: the footprint's cells whose centre lies
+ * outside it lose their cover. Azimuths are the WGS84 geodesic's from the antenna (geodesy.ts VectorMap, exact on
+ * its lattice and bilinear between, the same vectors the horizon engine uses).
+ */
+export function dropOutsideSector(
+  fp: Footprint,
+  grid: GridGeo,
+  site: CoverageSite,
+  sector: { readonly fromDeg: number; readonly toDeg: number },
+): void {
+  const w = fp.window;
+  const ww = w.col1 - w.col0;
+  if (ww <= 0 || w.row1 <= w.row0) return;
+  const vmap = VectorMap.build(site.lon, site.lat, grid.width, grid.height, gridMapper(grid));
+  const from = (((sector.fromDeg % 360) + 360) % 360) * (Math.PI / 180);
+  const width = ((((sector.toDeg - sector.fromDeg) % 360) + 360) % 360) * (Math.PI / 180);
+  const v = [0, 0];
+  const two = 2 * Math.PI;
+  for (let r = w.row0; r < w.row1; r++) {
+    for (let c = w.col0; c < w.col1; c++) {
+      const i = (r - w.row0) * ww + (c - w.col0);
+      if (fp.lo[i] > fp.hi[i]) continue;
+      vmap.at(c + 0.5, r + 0.5, v);
+      let a = (Math.atan2(v[0], v[1]) - from) % two;
+      if (a < 0) a += two;
+      if (a > width) {
+        fp.lo[i] = NO_COVER_LO;
+        fp.hi[i] = 0;
+      }
+    }
+  }
 }
 
 /** One site's floor as `siteFloor` computes it. */

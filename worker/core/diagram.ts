@@ -24,6 +24,7 @@ import { seaBand, sensorBand, TOP_M } from './footprint.ts';
 import { firstLobeFactor, reflectionDistanceM } from './multipath.ts';
 import { SEA_LEVEL_TOLERANCE_M } from './coverage.ts';
 import { describeTarget, type SensorModel, type Target } from './sensor.ts';
+import type { SensorKind } from '../../shared/sensor-kinds.ts';
 
 /** The engine's marker for "nothing screens yet" (next to the antenna). */
 const NOTHING = -1e9;
@@ -131,7 +132,7 @@ export interface DiagramData {
   readonly flightLevels: DiagramFlightLevel[];
   readonly sensor: {
     readonly id: string;
-    readonly kind: 'primary' | 'secondary';
+    readonly kind: SensorKind;
     readonly rcsM2: number;
     /** The target in one line (RCS, fluctuation, transponder class). */
     readonly target: string;
@@ -148,6 +149,13 @@ export interface DiagramData {
   readonly day: Day;
   /** Envelope rows whose lower edge is the first lobe's over sea (0 when lobing is off or no sea is in view). */
   readonly seaLobingRows: number;
+}
+
+/** Whether an azimuth (degrees from north) lies in a sector, clockwise from fromDeg to toDeg; true without one. */
+function inSector(sector: SensorModel['sector'], azimuthDeg: number): boolean {
+  if (!sector) return true;
+  const wrap = (a: number) => ((a % 360) + 360) % 360;
+  return wrap(azimuthDeg - sector.fromDeg) <= wrap(sector.toDeg - sector.fromDeg);
 }
 
 /**
@@ -256,13 +264,15 @@ export function diagramData(
   const envStepM = Math.max(stepM, maxRangeM / MAX_ENVELOPE_ROWS);
   const weather = opts.weather ?? false;
   const tiltDeg = site.tiltDeg ?? 0;
-  const profile = model.profile({
+  const own = model.profile({
     target: opts.target,
     antennaAltM: ha,
     tiltDeg,
     weather,
     atmosphere: opts.atmosphere,
   });
+  // A sector receiver along an azimuth outside its sector hears nothing there (as its footprint, coverage.ts).
+  const profile = inSector(model.sector, opts.azimuthDeg) ? own : { ...own, rangeM: () => 0 };
   const band = sensorBand(profile, {
     antennaAltM: ha,
     reM: re,
@@ -275,7 +285,7 @@ export function diagramData(
   let seaRows = 0;
   if (opts.multipath) {
     const h1 = Math.max(0, ha);
-    const fMHz = model.spec.frequencyMHz;
+    const fMHz = model.frequencyMHz;
     const tiltRad = tiltDeg * DEG_TO_RAD;
     const voltage = (e: number) => Math.sqrt(model.patternGain(e, tiltRad));
     const over = seaBand(profile, band, { antennaAltM: ha, reM: re }, (s, h) =>

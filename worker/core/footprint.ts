@@ -15,6 +15,7 @@
  * small: memory follows the area a sensor sees, not the study's. An empty cell has lo > hi.
  */
 import type { DetectionProfile, SensorModel } from './sensor.ts';
+import type { SensorKind } from '../../shared/sensor-kinds.ts';
 
 export const NO_COVER_LO = 65_535;
 /** Highest altitude searched: above FL600 with room to spare. */
@@ -210,7 +211,7 @@ function runsThrough(det: (s: number, h: number) => boolean, s: number, a: numbe
 export interface Footprint {
   readonly siteId: string;
   readonly typeId: string;
-  readonly kind: 'primary' | 'secondary';
+  readonly kind: SensorKind;
   /**
    * Per cell of `window`, row by row (local index (r − row0)·(col1 − col0) + (c − col0)), whole metres AMSL:
    * detected iff lo ≤ h ≤ hi. Cells outside the window have no cover and take no memory: a footprint costs its

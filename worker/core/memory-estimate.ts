@@ -7,7 +7,8 @@
  * The estimate counts the arrays the code allocates, from their layouts:
  * - terrain: the mosaic, Float32 per terrain pixel (worker/core/terrain.ts), and while a tile is read its file
  *   bytes, its decoded samples and its Float32 copy (worker/io/geotiff-read.ts);
- * - per analysis cell: ground (Float32), one byte per volume mask, 3 kinds × levels × targets Uint16 folds; per
+ * - per analysis cell: ground (Float32), one byte per volume mask, 3 kinds (any, primary, secondary; plus one per
+ *   receiver kind the study has: worker/core/network.ts) × levels × targets Uint16 folds; per
  *   site in flight a floor and a distance (Float32 each);
  * - per (site, type) pair, per cell of its window (the box its type's reach spans around the site, clipped to
  *   the grid: worker/core/coverage.ts rangeWindow): per target a footprint of two Uint16
@@ -63,6 +64,8 @@ export interface RunShape {
   levels: number;
   targets: number;
   volumes: number;
+  /** Fold kinds the network keeps arrays for (default 3: any, primary, secondary; receivers add theirs). */
+  foldKinds?: number;
   /**
    * Cells of every pair's window added up (each pair's footprint and level bits cover only its window); default
    * every pair over the whole grid.
@@ -118,7 +121,7 @@ export function estimateRun(s: RunShape): Estimate {
   const terrain = s.terrainPixels * 4 + tileBytes;
   const levelBits = s.levels * s.targets;
   const bitBytes = levelBits <= 8 ? 1 : levelBits <= 16 ? 2 : 4;
-  const perCell = 4 + s.volumes + 3 * levelBits * 2 + 4 /* network floor */ + 2 * 8;
+  const perCell = 4 + s.volumes + (s.foldKinds ?? 3) * levelBits * 2 + 4 /* network floor */ + 2 * 8;
   const grid = s.cells * (s.gridBytesPerCell ?? perCell);
   const pairCells = s.pairWindowCells ?? s.pairs * s.cells;
   const footprints =
@@ -239,6 +242,7 @@ export function studyRun(
     levels: s.flightLevels.length,
     targets,
     volumes: s.volumes.length,
+    foldKinds: 3 + new Set(s.sensorTypes.map((t) => t.kind).filter((k) => k === 'adsb' || k === 'mlat')).size,
     reachM,
     rangeStepM: Math.min(px.x, px.y) || cellM,
     arcStepM: 0.75 * cellM,

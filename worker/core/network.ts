@@ -1,7 +1,10 @@
 /**
  * The network: for a set of active sensors (footprints), per flight level and analysis cell, how many distinct
- * sites see the cell — for any kind, primary only and secondary only — and the network floor (lowest covered
- * altitude). Sensors on one site fail together, so a fold counts sites, not sensors.
+ * sites see the cell — per kind (primary, secondary, adsb, mlat) and for `any`, which counts RADARS only (a site
+ * with a primary or a secondary seeing the cell: shared/sensor-kinds.ts) so that studies written before the
+ * receivers keep their numbers — and the network floor (lowest altitude a radar covers). Sensors on one site fail
+ * together, so a fold counts sites, not sensors. A receiver kind no sensor of the network has keeps no fold
+ * arrays of its own: its folds read as zero.
  *
  * Switching a site on or off updates the counts incrementally from the cached footprints: only that site's
  * sensors are read (a map what-if).
@@ -11,10 +14,13 @@
  * (target t, level f at t·levels + f) and `foldOf(kind, f, t)` reads them. Sites, switches and the floor are shared.
  */
 import { InputError } from '../../shared/errors.ts';
+import { FOLD_KINDS, isRadarKind, type FoldKind } from '../../shared/sensor-kinds.ts';
 import { windowCellCount, type Footprint, type FootprintWindow } from './footprint.ts';
 
-export const KINDS = ['any', 'primary', 'secondary'] as const;
-export type FoldKind = (typeof KINDS)[number];
+export const KINDS = FOLD_KINDS;
+export type { FoldKind } from '../../shared/sensor-kinds.ts';
+/** The per-kind accumulators of `applySite`: every kind but 'any', in KINDS order (KINDS[s + 1]). */
+const SENSOR_SLOTS = KINDS.length - 1;
 
 type Bits = Uint8Array | Uint16Array | Uint32Array;
 
@@ -29,6 +35,8 @@ export class Network {
   readonly fold: Uint16Array[];
   /** Targets the folds are kept for (1 + the length of each footprint's byTarget). */
   readonly targetCount: number;
+  /** The kinds of sensor among the footprints (on or off). */
+  readonly kindsPresent: ReadonlySet<string>;
   readonly active: boolean[];
   private readonly bySite = new Map<string, number[]>();
   /**
@@ -75,7 +83,14 @@ export class Network {
     this.targetCount = nT;
     const make = (n: number): Bits =>
       levels <= 8 ? new Uint8Array(n) : levels <= 16 ? new Uint16Array(n) : new Uint32Array(n);
-    this.fold = Array.from({ length: KINDS.length * levels }, () => new Uint16Array(cells));
+    this.kindsPresent = new Set(footprints.map((f) => f.kind));
+    // Kinds without a sensor share one array of zeros (never written: applySite adds only where a sensor is).
+    const zeros = new Uint16Array(cells);
+    const radars = footprints.some((f) => isRadarKind(f.kind));
+    this.fold = KINDS.flatMap((k) => {
+      const kept = k === 'any' ? radars || footprints.length === 0 : this.kindsPresent.has(k);
+      return Array.from({ length: levels }, () => (kept ? new Uint16Array(cells) : zeros));
+    });
     this.active = footprints.map((_, i) => active?.[i] ?? true);
     this.anyAt = [];
     this.bitsWindow = footprints.map((fp) => joinWindows([fp, ...(fp.byTarget ?? [])].map((f) => f.window)));
@@ -160,16 +175,22 @@ export class Network {
     const join = joinWindows(list.map((i) => this.bitsWindow[i]));
     const n = windowCellCount(join);
     if (n === 0) return;
-    // Per kind (primary, secondary) an accumulator over the join; 'any' is their OR.
-    if (this.scratch.length < 2 * n) this.scratch = new Uint32Array(2 * n);
+    // Per sensor kind (KINDS but 'any') an accumulator over the join; 'any' is the OR of the radar kinds'.
+    const NS = SENSOR_SLOTS;
+    if (this.scratch.length < NS * n) this.scratch = new Uint32Array(NS * n);
     const acc = this.scratch;
-    acc.fill(0, 0, 2 * n);
+    let used = 0;
+    for (const i of list) used |= 1 << (KINDS.indexOf(this.footprints[i].kind) - 1);
+    // The radar pass below reads both radar accumulators: clear both when either is used.
+    const radarBits = (1 << (KINDS.indexOf('primary') - 1)) | (1 << (KINDS.indexOf('secondary') - 1));
+    if (used & radarBits) used |= radarBits;
+    for (let slot = 0; slot < NS; slot++) if ((used >>> slot) & 1) acc.fill(0, slot * n, (slot + 1) * n);
     const jw = join.col1 - join.col0;
     for (const i of list) {
       const w = this.bitsWindow[i];
       const b = this.bits[i];
       const ww = w.col1 - w.col0;
-      const off = this.footprints[i].kind === 'primary' ? 0 : n;
+      const off = (KINDS.indexOf(this.footprints[i].kind) - 1) * n;
       for (let r = w.row0; r < w.row1; r++) {
         const src = (r - w.row0) * ww;
         const dst = off + (r - join.row0) * jw + (w.col0 - join.col0);
@@ -179,20 +200,40 @@ export class Network {
     const nFl = this.altitudesM.length * this.targetCount;
     const fold = this.fold;
     const anyBase = KINDS.indexOf('any') * nFl;
-    const primaryBase = KINDS.indexOf('primary') * nFl;
-    const secondaryBase = KINDS.indexOf('secondary') * nFl;
+    const pSlot = KINDS.indexOf('primary') - 1;
+    const sSlot = KINDS.indexOf('secondary') - 1;
+    const primaryBase = (pSlot + 1) * nFl;
+    const secondaryBase = (sSlot + 1) * nFl;
     const W = join.width;
-    for (let r = join.row0; r < join.row1; r++) {
-      const local = (r - join.row0) * jw;
-      const cell0 = r * W + join.col0;
-      for (let c = 0; c < jw; c++) {
-        const bp = acc[local + c];
-        const bs = acc[n + local + c];
-        if ((bp | bs) === 0) continue;
-        const cell = cell0 + c;
-        addBits(fold, anyBase, cell, bp | bs, sign);
-        if (bp !== 0) addBits(fold, primaryBase, cell, bp, sign);
-        if (bs !== 0) addBits(fold, secondaryBase, cell, bs, sign);
+    // The radars in one pass ('any' is their OR), as before the receivers; then each receiver kind present.
+    if ((used & ((1 << pSlot) | (1 << sSlot))) !== 0) {
+      const pOff = pSlot * n;
+      const sOff = sSlot * n;
+      for (let r = join.row0; r < join.row1; r++) {
+        const local = (r - join.row0) * jw;
+        const cell0 = r * W + join.col0;
+        for (let c = 0; c < jw; c++) {
+          const bp = acc[pOff + local + c];
+          const bs = acc[sOff + local + c];
+          if ((bp | bs) === 0) continue;
+          const cell = cell0 + c;
+          addBits(fold, anyBase, cell, bp | bs, sign);
+          if (bp !== 0) addBits(fold, primaryBase, cell, bp, sign);
+          if (bs !== 0) addBits(fold, secondaryBase, cell, bs, sign);
+        }
+      }
+    }
+    for (let slot = 0; slot < NS; slot++) {
+      if (slot === pSlot || slot === sSlot || ((used >>> slot) & 1) === 0) continue;
+      const base = (slot + 1) * nFl;
+      const off = slot * n;
+      for (let r = join.row0; r < join.row1; r++) {
+        const local = off + (r - join.row0) * jw;
+        const cell0 = r * W + join.col0;
+        for (let c = 0; c < jw; c++) {
+          const b = acc[local + c];
+          if (b !== 0) addBits(fold, base, cell0 + c, b, sign);
+        }
       }
     }
   }
@@ -232,11 +273,14 @@ export class Network {
     }
   }
 
-  /** Lowest covered altitude (m AMSL) per cell over the active sensors; NaN where none covers. */
+  /**
+   * Lowest altitude (m AMSL) per cell a active radar covers; NaN where none covers. Radars only, as 'any': the
+   * floor of studies without receivers does not move, and a receiver's reception is not radar cover.
+   */
   networkFloor(): Float32Array {
     const out = new Float32Array(this.cells).fill(NaN);
     this.footprints.forEach((fp, i) => {
-      if (!this.active[i]) return;
+      if (!this.active[i] || !isRadarKind(fp.kind)) return;
       lowerFloor(out, fp);
     });
     return out;
@@ -249,7 +293,7 @@ export class Network {
       const ok = list.some(
         (i) =>
           this.active[i] &&
-          (kind === 'any' || this.footprints[i].kind === kind) &&
+          (kind === 'any' ? isRadarKind(this.footprints[i].kind) : this.footprints[i].kind === kind) &&
           (this.anyAt[i] >>> flIndex) & 1,
       );
       if (ok) out.push(site);

@@ -8,7 +8,7 @@
  */
 import type { GridGeo } from './grid.ts';
 import type { Network } from './network.ts';
-import { cellsAtLevel, meets, rowAreasKm2, type VolumeLike } from './volumes.ts';
+import { cellsAtLevel, meets, requiresNothing, rowAreasKm2, type VolumeLike } from './volumes.ts';
 
 export interface LevelLoss {
   volumeId: string;
@@ -45,9 +45,11 @@ export function servedMasks(
       const any = network.foldOf('any', f, t);
       const pri = network.foldOf('primary', f, t);
       const sec = network.foldOf('secondary', f, t);
+      const adsb = network.foldOf('adsb', f, t);
+      const mlat = network.foldOf('mlat', f, t);
       const m = new Uint8Array(vm.length);
       for (let i = 0; i < vm.length; i++)
-        if (vm[i] && meets(v.requiredFold, any[i], pri[i], sec[i])) m[i] = 1;
+        if (vm[i] && meets(v.requiredFold, any[i], pri[i], sec[i], adsb[i], mlat[i])) m[i] = 1;
       out.set(`${v.id}|${fl}`, m);
     });
   });
@@ -176,15 +178,24 @@ export function outageTable(
       const any = network.foldOf('any', k.f, t);
       const pri = network.foldOf('primary', k.f, t);
       const sec = network.foldOf('secondary', k.f, t);
+      const adsb = network.foldOf('adsb', k.f, t);
+      const mlat = network.foldOf('mlat', k.f, t);
       const was = base.get(k.key)!;
       // meets() inlined: the same rule, with the volume's numbers pulled out of the loop.
-      const rAny = Math.max(1, k.v.requiredFold.any ?? 0);
-      const rPri = k.v.requiredFold.primary ?? 0;
-      const rSec = k.v.requiredFold.secondary ?? 0;
+      const req = k.v.requiredFold;
+      const rAny = requiresNothing(req) ? Math.max(1, req.any ?? 0) : (req.any ?? 0);
+      const rPri = req.primary ?? 0;
+      const rSec = req.secondary ?? 0;
+      const rAdsb = req.adsb ?? 0;
+      const rMlat = req.mlat ?? 0;
       let lost: Uint8Array | null = null;
       for (let n = 0; n < cells.length; n++) {
         const i = cells[n];
-        if (!was[i] || (any[i] >= rAny && pri[i] >= rPri && sec[i] >= rSec)) continue;
+        if (
+          !was[i] ||
+          (any[i] >= rAny && pri[i] >= rPri && sec[i] >= rSec && adsb[i] >= rAdsb && mlat[i] >= rMlat)
+        )
+          continue;
         lost ??= new Uint8Array(was.length);
         lost[i] = 1;
       }

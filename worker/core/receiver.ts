@@ -19,8 +19,9 @@
  * and with it d = d0(ε)·10^(−Lgas(ε, d)/20), solved by fixed-point iteration (Lgas grows slowly with d), capped at
  * the receiver's instrumented range. A sector receiver (azimuth limits) receives nothing outside its sector.
  *
- * The result is shaped like sensor.ts's DetectionProfile (rangeM(ε), minRangeM, coneOfSilenceRad …) so that the
- * footprint machinery can take it later: R(ε) tabulated every PATTERN_TABLE_STEP_DEG with a node at the pattern's
+ * The result is shaped like sensor.ts's DetectionProfile (rangeM(ε), minRangeM, coneOfSilenceRad …), and
+ * `buildReceiverSensorModel` wraps a receiver catalog entry (kind `adsb` / `mlat`) as a SensorModel, so that the
+ * footprints, folds and plans take receivers as they take radars: R(ε) tabulated every PATTERN_TABLE_STEP_DEG with a node at the pattern's
  * peak, linear between nodes, nothing allocated per call. Line of sight over the terrain is decided separately
  * (the horizon engine), as for the radars.
  *
@@ -29,10 +30,10 @@
  * every azimuth inside the sector.
  */
 import { InputError } from '../../shared/errors.ts';
-import { DEG_TO_RAD } from '../../shared/units.ts';
+import { DEG_TO_RAD, nmToM } from '../../shared/units.ts';
 import type { PathLossTable } from './atmosphere.ts';
 import {
-  buildSensorModel,
+  buildPattern,
   linkRangeM,
   PATTERN_TABLE_STEP_DEG,
   pathLossTable,
@@ -41,6 +42,9 @@ import {
   wattsToDbm,
   type DetectionProfile,
   type ElevationPatternSpec,
+  type Pattern,
+  type ProfileRequest,
+  type ReceiverTypeSpec,
   type SensorModel,
   type Target,
   type TransponderClass,
@@ -72,6 +76,8 @@ export interface ReceptionRequest {
   antennaAltM: number;
   /** Gaseous attenuation on (default true). */
   atmosphere?: boolean;
+  /** The site's antenna tilt, degrees (default 0): raises the whole elevation pattern, as for the radars. */
+  tiltDeg?: number;
 }
 
 /** The reception range of one receiver for one target, per elevation (and azimuth, for a sector). */
@@ -102,8 +108,8 @@ export function downlinkBudgetDb(
 export interface ReceiverModel {
   readonly spec: ReceiverSpec;
   readonly instrumentedRangeM: number;
-  /** Normalised one-way power gain g(ε), 0…1. */
-  patternGain(elevationRad: number): number;
+  /** Normalised one-way power gain g(ε − tilt), 0…1. */
+  patternGain(elevationRad: number, tiltRad?: number): number;
   /** Free-space range at the pattern's peak for the target, m (no atmosphere, no instrumented range). */
   peakRangeM(target: Target): number;
   profile(req: ReceptionRequest): ReceptionProfile;
@@ -150,24 +156,9 @@ export function buildReceiverModel(spec: ReceiverSpec, where: string): ReceiverM
     }
     sector = { from: wrapRad(from * DEG_TO_RAD), width: width * DEG_TO_RAD };
   }
-  // The pattern: validated and evaluated by sensor.ts's own code, reached through a sensor model that carries
-  // only this pattern (its link figures are placeholders that nothing here reads).
-  const carrier = buildSensorModel(
-    {
-      id: 'receiver',
-      name: 'receiver',
-      kind: 'secondary',
-      frequencyMHz: SSR_REPLY_MHZ,
-      cost: 0,
-      maxElevationDeg: 90,
-      instrumentedRangeNm: instr / 1852,
-      minRangeNm: 0,
-      elevationPattern: spec.elevationPattern,
-      detection: { interrogatorPowerW: 1, antennaGainDbi: 1, cableLossDb: 0, receiverSensitivityDbm: -90 },
-    },
-    where,
-  );
-  return new Receiver(spec, instr, carrier, patternPeakRad(spec.elevationPattern), sector);
+  // The pattern: validated and evaluated by sensor.ts's own code, the same as a radar's.
+  const pattern = buildPattern(spec.elevationPattern, `${where}.elevationPattern`);
+  return new Receiver(spec, instr, pattern, sector);
 }
 
 /** Reception range per elevation for a receiver spec and a target (validates the spec; see buildReceiverModel). */
@@ -179,13 +170,12 @@ class Receiver implements ReceiverModel {
   constructor(
     readonly spec: ReceiverSpec,
     readonly instrumentedRangeM: number,
-    private readonly carrier: SensorModel,
-    private readonly peakRad: number,
+    private readonly pattern: Pattern,
     private readonly sector: { from: number; width: number } | null,
   ) {}
 
-  patternGain(elevationRad: number): number {
-    return this.carrier.patternGain(elevationRad);
+  patternGain(elevationRad: number, tiltRad = 0): number {
+    return this.pattern.gain(elevationRad - tiltRad);
   }
 
   peakRangeM(target: Target): number {
@@ -197,7 +187,8 @@ class Receiver implements ReceiverModel {
     const instr = this.instrumentedRangeM;
     const table = (req.atmosphere ?? true) ? pathLossTable(SSR_REPLY_MHZ, req.antennaAltM, instr) : null;
     const step = PATTERN_TABLE_STEP_DEG * DEG_TO_RAD;
-    const peak = this.peakRad;
+    const tilt = (req.tiltDeg ?? 0) * DEG_TO_RAD;
+    const peak = this.pattern.peakRad + tilt;
     const below = Math.ceil((peak + Math.PI / 2) / step - 1e-9);
     const lo = peak - below * step;
     const n = Math.ceil((Math.PI / 2 - lo) / step - 1e-9) + 2;
@@ -205,7 +196,7 @@ class Receiver implements ReceiverModel {
     let factor = 1;
     for (let i = 0; i < n; i++) {
       const e = Math.min(lo + i * step, Math.PI / 2);
-      const r0 = peakM * Math.sqrt(this.patternGain(e));
+      const r0 = peakM * Math.sqrt(this.patternGain(e, tilt));
       if (table !== null && r0 > 0) factor = lossFactor(r0, factor, e, table, instr);
       const r = r0 * (table === null ? 1 : factor);
       t[i] = r > instr ? instr : r;
@@ -260,12 +251,114 @@ class Profile implements ReceptionProfile {
   }
 }
 
-/** The elevation (rad) of a pattern spec's peak: cosec²'s startDeg, a table's largest gain (its first, on ties). */
-function patternPeakRad(p: ElevationPatternSpec): number {
-  if (p.type === 'cosec2') return p.startDeg * DEG_TO_RAD;
-  let best = 0;
-  for (let i = 1; i < p.gainDb.length; i++) if (p.gainDb[i] > p.gainDb[best]) best = i;
-  return p.deg[best] * DEG_TO_RAD;
+/**
+ * A receiver catalog entry (kind `adsb` or `mlat`) as a SensorModel, so that footprints, folds, plans and diagrams
+ * take it like a radar: its profile is the reception profile above (no minimum range, no cone of silence beyond
+ * the pattern: `maxElevationRad` is 90°), its range depends on the target's transponder class only, and weather
+ * does not change it. The sector is applied by the footprint (coverage.ts), per cell azimuth.
+ */
+export function buildReceiverSensorModel(spec: ReceiverTypeSpec, where: string): SensorModel {
+  const o = spec as unknown as Record<string, unknown>;
+  if (typeof o.id !== 'string' || o.id.trim() === '') {
+    throw new InputError(`${where}.id`, show(o.id), 'a non-empty identifier string');
+  }
+  if (typeof o.name !== 'string' || o.name.trim() === '') {
+    throw new InputError(`${where}.name`, show(o.name), 'a non-empty name');
+  }
+  num(o, 'cost', where, (v) => v >= 0, 'a cost of zero or more');
+  const instrNm = num(
+    o,
+    'instrumentedRangeNm',
+    where,
+    (v) => v > 0 && v <= 1000,
+    'a range in NM above 0 and at most 1000',
+  );
+  if (spec.kind === 'mlat') {
+    num(
+      o,
+      'timingErrorNs',
+      where,
+      (v) => v > 0 && v <= 1000,
+      'a 1σ arrival-time error in ns above 0 and at most 1000',
+    );
+  } else if (o.timingErrorNs !== undefined) {
+    throw new InputError(
+      `${where}.timingErrorNs`,
+      show(o.timingErrorNs),
+      "nothing: an ADS-B station takes positions from the aircraft's own reports (kind 'mlat' for a multilateration receiver)",
+    );
+  }
+  const rx = buildReceiverModel(
+    {
+      sensitivityDbm: spec.sensitivityDbm,
+      cableLossDb: spec.cableLossDb,
+      antennaGainDbi: spec.antennaGainDbi,
+      elevationPattern: spec.elevationPattern,
+      instrumentedRangeM: nmToM(instrNm),
+      ...(spec.sector ? { sector: spec.sector } : {}),
+    },
+    where,
+  );
+  return new ReceiverSensor(spec, rx);
+}
+
+class ReceiverSensor implements SensorModel {
+  readonly kind: 'adsb' | 'mlat';
+  readonly frequencyMHz = SSR_REPLY_MHZ;
+  readonly maxElevationRad = Math.PI / 2;
+  readonly instrumentedRangeM: number;
+  readonly minRangeM = 0;
+  readonly weatherFactor = 1;
+  readonly warnings: readonly string[] = [];
+  readonly convention: string;
+  readonly sector?: { fromDeg: number; toDeg: number };
+  private readonly profiles = new Map<string, ReceptionProfile>();
+
+  constructor(
+    readonly spec: ReceiverTypeSpec,
+    private readonly rx: ReceiverModel,
+  ) {
+    this.kind = spec.kind;
+    this.instrumentedRangeM = rx.instrumentedRangeM;
+    if (spec.sector) this.sector = { fromDeg: spec.sector.fromDeg, toDeg: spec.sector.toDeg };
+    const sector = spec.sector ? `, sector ${spec.sector.fromDeg}° to ${spec.sector.toDeg}° clockwise` : '';
+    const timing = spec.kind === 'mlat' ? `; arrival-time error ${spec.timingErrorNs} ns (1σ)` : '';
+    this.convention = `receives ${SSR_REPLY_MHZ} MHz: sensitivity ${spec.sensitivityDbm} dBm, ${spec.antennaGainDbi} dBi, ${spec.cableLossDb} dB cable${sector}${timing}`;
+  }
+
+  peakRangeM(target: Target): number {
+    return this.rx.peakRangeM(target);
+  }
+
+  patternGain(elevationRad: number, tiltRad = 0): number {
+    return this.rx.patternGain(elevationRad, tiltRad);
+  }
+
+  /** Reception profiles by transponder class, tilt and loss table (weather does not enter). */
+  profile(req: ProfileRequest): ReceptionProfile {
+    const atmOn = req.atmosphere ?? true;
+    const key = [
+      this.targetKey(req.target),
+      req.tiltDeg ?? 0,
+      atmOn ? Math.max(0, Math.round(req.antennaAltM / 250)) : 'free space',
+    ].join('|');
+    let p = this.profiles.get(key);
+    if (p === undefined) {
+      if (this.profiles.size >= 256) this.profiles.clear();
+      p = this.rx.profile({
+        target: req.target,
+        antennaAltM: req.antennaAltM,
+        atmosphere: atmOn,
+        tiltDeg: req.tiltDeg,
+      });
+      this.profiles.set(key, p);
+    }
+    return p;
+  }
+
+  targetKey(target: Target): string {
+    return target.transponder;
+  }
 }
 
 /** An angle wrapped into [0, 2π). */

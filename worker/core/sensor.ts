@@ -51,6 +51,10 @@
  * - `table { deg, gainDb }`: degrees → dB, normalised so that the largest value is 0 dB, linearly interpolated in
  *   dB; below the first and above the last angle the end values hold.
  *
+ * Receivers (kinds `adsb` and `mlat`, receive only at 1090 MHz) are built by receiver.ts
+ * (`buildReceiverSensorModel`), whose model has the same interface, a reception profile (one-way downlink, Friis)
+ * and the pattern builder below; sensor-model.ts's `buildSensorModel` picks the builder by kind.
+ *
  * Hot path: a `DetectionProfile` (one per site, type, target and mode) holds R(ε) tabulated every
  * PATTERN_TABLE_STEP_DEG = 0.01° from −90° to just past the cone of silence, with a node at the tilted peak,
  * linearly interpolated; `rangeM(ε)` allocates nothing (about 10 ns a call). Interpolation error of the table
@@ -64,6 +68,7 @@ import { DEG_TO_RAD, nmToM } from '../../shared/units.ts';
 import { PathLossTable } from './atmosphere.ts';
 import { DETECTION_LIMITS, FLUCTUATIONS, requiredSnrDb, type Fluctuation } from './detection.ts';
 import { ECHO_SPEC_FIELDS, TRANSPONDER_IDS, type TransponderClass } from '../../shared/target-terms.ts';
+import { type RadarKind, type SensorKind } from '../../shared/sensor-kinds.ts';
 
 export type { Fluctuation } from './detection.ts';
 
@@ -147,11 +152,14 @@ export interface Target {
  */
 export const DEFAULT_TARGET: Target = { rcsM2: 2, fluctuation: 'swerling1', transponder: 'low-power' };
 
-/** One line naming the target, for outputs; for one kind of sensor, only what that kind sees of it. */
-export function describeTarget(t: Target, kind?: 'primary' | 'secondary'): string {
+/**
+ * One line naming the target, for outputs; for one kind of sensor, only what that kind sees of it (a primary its
+ * echo; a secondary and the 1090 MHz receivers its transponder).
+ */
+export function describeTarget(t: Target, kind?: SensorKind): string {
   const echo = `${t.rcsM2} m² ${t.fluctuation.replace('swerling', 'Swerling ')}`;
   const transponder = TRANSPONDER_CLASSES[t.transponder].label;
-  return kind === 'primary' ? echo : kind === 'secondary' ? transponder : `${echo}, ${transponder}`;
+  return kind === 'primary' ? echo : kind === undefined ? `${echo}, ${transponder}` : transponder;
 }
 
 // ---------------------------------------------------------------------------------------------------------------
@@ -211,10 +219,11 @@ export interface SecondaryLinkSpec {
   receiverSensitivityDbm: number;
 }
 
-export interface SensorTypeSpec {
+/** A radar's catalog entry (primary or secondary). */
+export interface RadarTypeSpec {
   id: string;
   name: string;
-  kind: 'primary' | 'secondary';
+  kind: RadarKind;
   frequencyMHz: number;
   cost: number;
   maxElevationDeg: number;
@@ -228,6 +237,28 @@ export interface SensorTypeSpec {
   /** Leftover of earlier files: ignored with a warning (the study's target governs). */
   targetRcsM2?: number;
 }
+
+/** A 1090 MHz ground receiver's catalog entry (ADS-B ground station or multilateration receiver), receive only. */
+export interface ReceiverTypeSpec {
+  id: string;
+  name: string;
+  kind: 'adsb' | 'mlat';
+  cost: number;
+  /** Minimum decoded signal level at the receiver input, dBm. */
+  sensitivityDbm: number;
+  /** Loss between the antenna and the receiver input, dB. */
+  cableLossDb: number;
+  /** Antenna gain at the elevation pattern's peak, dBi. */
+  antennaGainDbi: number;
+  elevationPattern: ElevationPatternSpec;
+  instrumentedRangeNm: number;
+  /** Azimuth sector, clockwise from fromDeg to toDeg (degrees from true north); absent: omnidirectional. */
+  sector?: { fromDeg: number; toDeg: number };
+  /** mlat: the 1σ time-of-arrival error, ns (synchronisation included). */
+  timingErrorNs?: number;
+}
+
+export type SensorTypeSpec = RadarTypeSpec | ReceiverTypeSpec;
 
 /** What a profile is built for. */
 export interface ProfileRequest {
@@ -257,7 +288,14 @@ export interface DetectionProfile {
 
 export interface SensorModel {
   readonly spec: SensorTypeSpec;
-  readonly kind: 'primary' | 'secondary';
+  readonly kind: SensorKind;
+  /** The frequency the sensor receives on (over-sea lobing): a radar's own, 1090 MHz for a receiver. */
+  readonly frequencyMHz: number;
+  /**
+   * A receiver's azimuth sector (degrees clockwise from north, from fromDeg clockwise to toDeg); undefined for an
+   * omnidirectional receiver and for every radar. The footprint drops the cells outside it.
+   */
+  readonly sector?: { readonly fromDeg: number; readonly toDeg: number };
   /** The type's maximum elevation in antenna coordinates (a site's tilt raises it). */
   readonly maxElevationRad: number;
   readonly instrumentedRangeM: number;
@@ -377,7 +415,7 @@ const nonNegative = (v: number) => v >= 0;
 // ---------------------------------------------------------------------------------------------------------------
 // Patterns (exact)
 
-interface Pattern {
+export interface Pattern {
   /** Normalised power gain at ε (radians). */
   gain(elevationRad: number): number;
   /** Elevation (radians) of the peak: the lookup table puts a node there. */
@@ -446,7 +484,11 @@ function tablePattern(deg: readonly number[], gainDb: readonly number[]): Patter
   };
 }
 
-function buildPattern(p: unknown, path: string): Pattern {
+/**
+ * Validates an elevation pattern spec and builds its exact pattern (the shapes of the module comment); bad fields
+ * throw InputError naming `path` and the field. Radars and receivers share it.
+ */
+export function buildPattern(p: unknown, path: string): Pattern {
   if (!isObject(p)) {
     throw new InputError(path, show(p), `an elevation pattern { type: 'cosec2', … } or { type: 'table', … }`);
   }
@@ -608,7 +650,7 @@ function freeSpaceOf(
 
 function rangeBasis(
   s: Record<string, unknown>,
-  kind: 'primary' | 'secondary',
+  kind: RadarKind,
   frequencyMHz: number,
   pattern: Pattern,
   path: string,
@@ -842,9 +884,10 @@ class Profile implements DetectionProfile {
 
 class Model implements SensorModel {
   readonly maxElevationRad: number;
+  readonly frequencyMHz: number;
   constructor(
-    readonly spec: SensorTypeSpec,
-    readonly kind: 'primary' | 'secondary',
+    readonly spec: RadarTypeSpec,
+    readonly kind: RadarKind,
     maxElevationDeg: number,
     readonly instrumentedRangeM: number,
     readonly minRangeM: number,
@@ -855,6 +898,7 @@ class Model implements SensorModel {
     private readonly pattern: Pattern,
   ) {
     this.maxElevationRad = maxElevationDeg * DEG_TO_RAD;
+    this.frequencyMHz = spec.frequencyMHz;
   }
 
   /** Free-space peak range per link (a primary has one). */
@@ -1024,7 +1068,7 @@ function factorAt(k: Float64Array | null, i: number): number {
  * `scenario.json: sensorTypes[2]`; field paths are appended (`….detection.pd`). Impossible or contradictory
  * values throw InputError(where + field path, found, expected); a leftover `targetRcsM2` is a warning.
  */
-export function buildSensorModel(spec: SensorTypeSpec, where: string): SensorModel {
+export function buildRadarSensorModel(spec: SensorTypeSpec, where: string): SensorModel {
   const s: unknown = spec;
   if (!isObject(s)) throw new InputError(where, show(s), 'a sensor type object');
   if (typeof s.id !== 'string' || s.id.trim() === '') {
@@ -1034,7 +1078,7 @@ export function buildSensorModel(spec: SensorTypeSpec, where: string): SensorMod
     throw new InputError(`${where}.name`, show(s.name), 'a non-empty name');
   }
   if (s.kind !== 'primary' && s.kind !== 'secondary') {
-    throw new InputError(`${where}.kind`, show(s.kind), `'primary' or 'secondary'`);
+    throw new InputError(`${where}.kind`, show(s.kind), `'primary', 'secondary', 'adsb' or 'mlat'`);
   }
   const kind = s.kind;
   const frequencyMHz = num(
@@ -1086,7 +1130,7 @@ export function buildSensorModel(spec: SensorTypeSpec, where: string): SensorMod
   const pattern = buildPattern(s.elevationPattern, `${where}.elevationPattern`);
   const { basis, convention } = rangeBasis(s, kind, frequencyMHz, pattern, where);
   return new Model(
-    spec,
+    spec as RadarTypeSpec,
     kind,
     maxElevationDeg,
     instrumentedRangeM,

@@ -5,7 +5,14 @@
  */
 import { FT_M } from '../../shared/units.ts';
 import type { GridGeo } from './grid.ts';
-import { KINDS, type FoldKind, type Network } from './network.ts';
+import {
+  FOLD_KINDS,
+  isRadarKind,
+  type RadarKind,
+  type ReceiverKind,
+  type RequiredFold,
+} from '../../shared/sensor-kinds.ts';
+import { KINDS, type Network } from './network.ts';
 import { nearLon } from './terrain.ts';
 
 /** Mean earth radius used for areas (the same sphere @turf/area uses), metres. */
@@ -21,7 +28,7 @@ export interface VolumeLike {
   flMax: number;
   /** The band as altitudes (feet AMSL or above the cell's ground) instead of flight levels (shared/scenario.ts). */
   altitudeBand?: { reference: 'amsl' | 'agl'; minFt: number; maxFt: number };
-  requiredFold: { primary?: number; secondary?: number; any?: number };
+  requiredFold: RequiredFold;
   weight?: number;
 }
 
@@ -110,28 +117,51 @@ export interface VolumeLevelStats {
   volumeId: string;
   flightLevel: number;
   areaKm2: number;
-  /** Covered by at least one site of any kind. */
+  /**
+   * Covered by at least one radar site (any kind of radar), or by a receiver of a kind the volume requires
+   * (`requiredFold.adsb` / `.mlat`).
+   */
   coveredKm2: number;
   coveredPct: number;
   /** Meeting the volume's required folds (all of its kinds at once). */
   meetsRequirementKm2: number;
   meetsRequirementPct: number;
-  /** Area (km²) by fold 0, 1, 2, 3, ≥4, per kind. */
-  foldHistogramKm2: Record<FoldKind, number[]>;
+  /** Area (km²) by fold 0, 1, 2, 3, ≥4, per kind (adsb and mlat only when the network has such receivers). */
+  foldHistogramKm2: Record<'any' | RadarKind, number[]> & Partial<Record<ReceiverKind, number[]>>;
 }
 
 export const HISTOGRAM_BINS = 5;
 
-/** Whether a cell meets a required-fold record given its folds per kind. */
+/**
+ * Whether a cell meets a required-fold record given its folds per kind. A record that requires nothing asks for
+ * one radar (any ≥ 1, as it always has); one that requires a receiver kind only does not ask for a radar.
+ */
 export function meets(
   req: VolumeLike['requiredFold'],
   any: number,
   primary: number,
   secondary: number,
+  adsb = 0,
+  mlat = 0,
 ): boolean {
   return (
-    any >= (req.any ?? 0) && primary >= (req.primary ?? 0) && secondary >= (req.secondary ?? 0) && any >= 1
+    any >= (req.any ?? 0) &&
+    primary >= (req.primary ?? 0) &&
+    secondary >= (req.secondary ?? 0) &&
+    adsb >= (req.adsb ?? 0) &&
+    mlat >= (req.mlat ?? 0) &&
+    (any >= 1 || !requiresNothing(req))
   );
+}
+
+/** Whether a required-fold record asks for nothing (then one radar is asked for). */
+export function requiresNothing(req: VolumeLike['requiredFold']): boolean {
+  return !FOLD_KINDS.some((k) => (req[k] ?? 0) > 0);
+}
+
+/** Whether a cell is covered for a volume: seen by a radar, or by a receiver of a kind the volume requires. */
+function coveredFor(req: VolumeLike['requiredFold'], any: number, adsb: number, mlat: number): boolean {
+  return any > 0 || ((req.adsb ?? 0) > 0 && adsb > 0) || ((req.mlat ?? 0) > 0 && mlat > 0);
 }
 
 export function volumeStats(
@@ -156,9 +186,15 @@ export function volumeStats(
       const any = network.foldOf('any', f, t);
       const pri = network.foldOf('primary', f, t);
       const sec = network.foldOf('secondary', f, t);
+      const adsb = network.foldOf('adsb', f, t);
+      const mlat = network.foldOf('mlat', f, t);
+      // Receiver kinds appear in the histogram only when the network has them (older summaries stay as they were).
+      const kinds = KINDS.filter((k) => isRadarKind(k) || k === 'any' || network.kindsPresent.has(k));
       const hist = Object.fromEntries(
-        KINDS.map((k) => [k, new Array<number>(HISTOGRAM_BINS).fill(0)]),
-      ) as Record<FoldKind, number[]>;
+        kinds.map((k) => [k, new Array<number>(HISTOGRAM_BINS).fill(0)]),
+      ) as VolumeLevelStats['foldHistogramKm2'];
+      const hAdsb = hist.adsb;
+      const hMlat = hist.mlat;
       let area = 0;
       let covered = 0;
       let ok = 0;
@@ -166,11 +202,13 @@ export function volumeStats(
         if (!mask[i]) continue;
         const a = rowArea[(i / W) | 0];
         area += a;
-        if (any[i] > 0) covered += a;
-        if (meets(v.requiredFold, any[i], pri[i], sec[i])) ok += a;
+        if (coveredFor(v.requiredFold, any[i], adsb[i], mlat[i])) covered += a;
+        if (meets(v.requiredFold, any[i], pri[i], sec[i], adsb[i], mlat[i])) ok += a;
         hist.any[Math.min(any[i], HISTOGRAM_BINS - 1)] += a;
         hist.primary[Math.min(pri[i], HISTOGRAM_BINS - 1)] += a;
         hist.secondary[Math.min(sec[i], HISTOGRAM_BINS - 1)] += a;
+        if (hAdsb) hAdsb[Math.min(adsb[i], HISTOGRAM_BINS - 1)] += a;
+        if (hMlat) hMlat[Math.min(mlat[i], HISTOGRAM_BINS - 1)] += a;
       }
       out.push({
         volumeId: v.id,

@@ -19,6 +19,7 @@
  * size and (through the caller's digest) its SHA-256, and throws `FootprintFileError` saying what was wrong.
  */
 import { wholeWindow, windowCellCount, type Footprint, type FootprintWindow } from '../core/footprint.ts';
+import type { SensorKind } from '../../shared/sensor-kinds.ts';
 
 /** Bumped whenever the bytes a footprint file holds, or what they mean, change. */
 export const FOOTPRINT_FORMAT = 1;
@@ -30,7 +31,7 @@ const PREFIX_BYTES = 12;
 export interface StoredFootprint {
   siteId: string;
   typeId: string;
-  kind: 'primary' | 'secondary';
+  kind: SensorKind;
   window: FootprintWindow | null;
 }
 

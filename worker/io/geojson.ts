@@ -9,9 +9,14 @@ import type { Feature, FeatureCollection, GeoJSON, Geometry, MultiPolygon } from
 import { CAUTION } from '../../shared/caution.ts';
 import { InputError } from '../../shared/errors.ts';
 import { round6, type MultiPolygonCoords } from '../core/contour.ts';
+import { FOLD_KINDS, type FoldKind } from '../../shared/sensor-kinds.ts';
 import type { Provenance } from './provenance.ts';
 
-export type LayerKind = 'any' | 'primary' | 'secondary';
+/**
+ * A layer's sensor kind: `primary`, `secondary`, the receivers `adsb` and `mlat` (issue 14; written only when the
+ * network has sensors of that kind), and `any`, which counts radars only (a site with a primary or a secondary).
+ */
+export type LayerKind = FoldKind;
 export type LayerName = 'coverage' | 'gap' | 'lost' | 'gained';
 
 export interface LayerFeatureProps {
@@ -42,7 +47,7 @@ export type LayerCollection<G extends Geometry = MultiPolygon, P = LayerFeatureP
   P
 > & { caution: string; metadata?: Record<string, unknown>; provenance?: Provenance };
 
-const KINDS: readonly LayerKind[] = ['any', 'primary', 'secondary'];
+const KINDS: readonly LayerKind[] = FOLD_KINDS;
 const LAYERS: readonly LayerName[] = ['coverage', 'gap', 'lost', 'gained'];
 
 /** One layer feature: MultiPolygon geometry (coordinates as given) and checked properties (site ids sorted). */

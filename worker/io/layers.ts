@@ -25,11 +25,14 @@ export function maskLayer(
   });
 }
 
-/** Fold layers written per kind: ≥1 … ≥4, or up to the highest fold a volume requires if that is more. */
+/**
+ * Fold layers written per kind: ≥1 … ≥4, or up to the highest fold a volume requires if that is more. A kind
+ * whose folds are all zero (no sensor of it, e.g. receivers in a radar-only study) writes none: the receivers'
+ * `adsb` / `mlat` layers appear only in studies that have them, shaped as the radars' (`any` counts radars only).
+ */
 export function maxFoldLayers(volumes: readonly Vol[]): number {
   let m = 4;
-  for (const v of volumes)
-    m = Math.max(m, v.requiredFold.any ?? 0, v.requiredFold.primary ?? 0, v.requiredFold.secondary ?? 0);
+  for (const v of volumes) for (const k of KINDS) m = Math.max(m, v.requiredFold[k] ?? 0);
   return m;
 }
 
@@ -78,9 +81,11 @@ export function levelLayers(
     const any = network.foldOf('any', f, t);
     const pri = network.foldOf('primary', f, t);
     const sec = network.foldOf('secondary', f, t);
+    const adsb = network.foldOf('adsb', f, t);
+    const mlat = network.foldOf('mlat', f, t);
     let n = 0;
     for (let i = 0; i < cells; i++) {
-      mask[i] = vm[i] && !meets(v.requiredFold, any[i], pri[i], sec[i]) ? 1 : 0;
+      mask[i] = vm[i] && !meets(v.requiredFold, any[i], pri[i], sec[i], adsb[i], mlat[i]) ? 1 : 0;
       n += mask[i];
     }
     if (n === 0) return;

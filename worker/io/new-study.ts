@@ -31,6 +31,7 @@
  * feature and property (`volumes.geojson: features[2].properties.flMin`), a site off the terrain with its id,
  * position and the DEM's extent.
  */
+import { isRadarKind, SENSOR_KINDS, type SensorKind } from '../../shared/sensor-kinds.ts';
 import { area, featureCollection, intersect, polygon as turfPolygon, union } from '@turf/turf';
 import type { MultiPolygon, Polygon } from 'geojson';
 import { CAUTION } from '../../shared/caution.ts';
@@ -422,8 +423,8 @@ function defaultName(input: NewStudyInput): string {
   return `Study of the sites in ${baseName(input.sites.display)} on ${terrain}`;
 }
 
-type Kind = 'primary' | 'secondary';
-const KINDS: readonly Kind[] = ['primary', 'secondary'];
+type Kind = SensorKind;
+const KINDS: readonly Kind[] = SENSOR_KINDS;
 
 /** The kinds of sensor the sites may carry (their allowed types, or every type), in the order of KINDS. */
 function kindsPresent(types: readonly unknown[], sites: unknown): Kind[] {
@@ -439,8 +440,13 @@ function kindsPresent(types: readonly unknown[], sites: unknown): Kind[] {
   return KINDS.filter((k) => seen.has(k));
 }
 
-/** Fold 1 of each kind present (any one sensor when no kind is known). */
-function defaultFold(kinds: readonly Kind[]): Record<string, number> {
+/**
+ * Fold 1 of each radar kind present; of each receiver kind when the sites carry receivers only (any one radar
+ * when no kind is known).
+ */
+function defaultFold(present: readonly Kind[]): Record<string, number> {
+  const radars = present.filter(isRadarKind);
+  const kinds = radars.length > 0 ? radars : present;
   if (kinds.length === 0) return { any: 1 };
   return Object.fromEntries(kinds.map((k) => [k, 1]));
 }
@@ -519,12 +525,20 @@ const VOLUME_PROPERTIES = [
   'primaryFold',
   'secondaryFold',
   'anyFold',
+  'adsbFold',
+  'mlatFold',
   'weight',
   'targetRcsM2',
   'targetFluctuation',
   'targetTransponder',
 ] as const;
-const FLAT_FOLDS = { primaryFold: 'primary', secondaryFold: 'secondary', anyFold: 'any' } as const;
+const FLAT_FOLDS = {
+  primaryFold: 'primary',
+  secondaryFold: 'secondary',
+  anyFold: 'any',
+  adsbFold: 'adsb',
+  mlatFold: 'mlat',
+} as const;
 const VOLUMES_WHAT =
   'GeoJSON with one or more Polygon or MultiPolygon features (a FeatureCollection, a Feature or a geometry)';
 

@@ -40,7 +40,7 @@ export interface ReportVolume {
   flMin: number;
   flMax: number;
   altitudeBand?: { reference: 'amsl' | 'agl'; minFt: number; maxFt: number };
-  requiredFold: { primary?: number; secondary?: number; any?: number };
+  requiredFold: { primary?: number; secondary?: number; any?: number; adsb?: number; mlat?: number };
   weight?: number;
 }
 
@@ -82,6 +82,21 @@ export interface ReportPlan {
   }[];
 }
 
+/** The multilateration fix's accuracy per volume that bounds it, at each level of its band. */
+export interface ReportMlat {
+  receivers: number;
+  minReceivers: number;
+  altitudeKnown: boolean;
+  rows: {
+    volumeId: string;
+    flightLevel: number;
+    requiredM: number;
+    fixPct: number;
+    medianM: number | null;
+    metPct: number;
+  }[];
+}
+
 export interface ReportModel {
   scenarioName: string;
   provenance: Provenance;
@@ -100,6 +115,8 @@ export interface ReportModel {
   /** Each site's outage, worst first (core/outage.ts outageTable). */
   outage: SiteLoss[];
   plan?: ReportPlan;
+  /** Multilateration accuracy, when the network has mlat receivers (worker/cli/mlat-outputs.ts figures). */
+  mlat?: ReportMlat;
   caution: string;
   /** Page size of the print (default A4). */
   paper?: 'A4' | 'A3';
@@ -462,6 +479,8 @@ function requirementText(r: ReportVolume['requiredFold']): string {
   if (r.primary) parts.push(`${r.primary} primary`);
   if (r.secondary) parts.push(`${r.secondary} secondary`);
   if (r.any) parts.push(`${r.any} of any kind`);
+  if (r.adsb) parts.push(`${r.adsb} ADS-B receiver${r.adsb > 1 ? 's' : ''}`);
+  if (r.mlat) parts.push(`${r.mlat} multilateration receiver${r.mlat > 1 ? 's' : ''}`);
   return parts.length ? parts.join(' and ') + ' (distinct sites)' : '1 of any kind (distinct sites)';
 }
 
@@ -645,6 +664,34 @@ weight, summed over levels; area = the cells that lose service at one level or m
 </section>`;
 }
 
+function mlatSection(m: ReportModel, n: number): string {
+  const a = m.mlat;
+  if (!a) return '';
+  const vname = new Map(m.volumes.map((v) => [v.id, v.name]));
+  const rows = a.rows
+    .map(
+      (r) =>
+        `<tr data-volume="${esc(r.volumeId)}" data-level="${r.flightLevel}"><td>${esc(vname.get(r.volumeId) ?? r.volumeId)}</td><td>${r.metPct < 100 - 1e-9 ? '▸ ' : ''}${flText(r.flightLevel)}</td>` +
+        num(r.requiredM, 0) +
+        num(r.fixPct, 1) +
+        (r.medianM === null ? '<td class="n">—</td>' : num(r.medianM, 1)) +
+        num(r.metPct, 1) +
+        '</tr>',
+    )
+    .join('\n');
+  return `<section class="text" id="mlat">
+<h2>${n} Multilateration accuracy</h2>
+<p>The 1σ horizontal DRMS of the multilateration fix (time-of-arrival least squares with the emission time unknown;
+Torrieri 1984), per cell, from the ${a.receivers} receivers of the network that see it: a fix needs ${a.minReceivers}
+(${a.altitudeKnown ? 'the target reports its pressure altitude' : 'the altitude is not used'}). Per volume that bounds the
+accuracy, at each level of its band: the share of its cells with a fix, their median DRMS and the share meeting the
+bound (a cell without a fix does not meet it). Rows short of the bound are marked ▸. The maps are written by
+<code>airshade coverage</code> as <code>mlat-accuracy-FL….tif</code> and <code>.geojson</code>.</p>
+<table class="grid" data-table="mlat"><thead><tr><th>Volume</th><th>Level</th><th class="n">Bound m</th><th class="n">A fix %</th><th class="n">Median DRMS m</th><th class="n">Meets the bound %</th></tr></thead>
+<tbody>${rows || '<tr><td colspan="6">No volume bounds the accuracy.</td></tr>'}</tbody></table>
+</section>`;
+}
+
 function planSection(m: ReportModel, n: number): string {
   const p = m.plan;
   if (!p) return '';
@@ -787,6 +834,7 @@ export function buildReportHtml(m: ReportModel): string {
   const volumesN = sec++;
   const outageN = sec++;
   const planN = m.plan ? sec++ : 0;
+  const mlatN = m.mlat ? sec++ : 0;
   const cautionN = sec++;
   const maps = [...levelMaps, ...otherMaps]
     .map((x, i) => mapSection(x, f, `${mapsN}.${i + 1}`, m.volumes))
@@ -798,6 +846,7 @@ export function buildReportHtml(m: ReportModel): string {
     `${volumesN} Coverage per volume and level`,
     `${outageN} Single-site outages (N−1)`,
     ...(m.plan ? [`${planN} The plan`] : []),
+    ...(m.mlat ? [`${mlatN} Multilateration accuracy`] : []),
     `${cautionN} Cautions`,
     'Appendices: terrain tiles, provenance record',
   ];
@@ -842,6 +891,7 @@ ${maps}
 ${volumesSection(m, volumesN)}
 ${outageSection(m, outageN)}
 ${planSection(m, planN)}
+${mlatSection(m, mlatN)}
 <section class="text" id="cautions">
 <h2>${cautionN} Cautions</h2>
 <div class="caution"><strong>Caution</strong>${esc(m.caution)}</div>

@@ -14,7 +14,7 @@ import { outageTable } from '../core/outage.ts';
 import { volumeStats } from '../core/volumes.ts';
 import { studyConventions, type Study, type StudyConventions } from './study.ts';
 import type { Provenance } from './provenance.ts';
-import type { ReportModel, ReportPlan, ReportSite } from './report-html.ts';
+import type { ReportMlat, ReportModel, ReportPlan, ReportSite } from './report-html.ts';
 import { coastPolygons, reportMaps } from './report-maps.ts';
 
 export interface ReportModelInput {
@@ -32,6 +32,8 @@ export interface ReportModelInput {
   /** The provenance, or how to make it from the conventions (the CLI's records them in its options). */
   provenance: Provenance | ((conventions: StudyConventions) => Provenance);
   plan?: ReportPlan;
+  /** The multilateration accuracy figures, when the caller computed them (the CLI does). */
+  mlat?: ReportMlat;
   paper?: 'A4' | 'A3';
   caution: string;
   /** Stages within the model (fraction 0…1 of this step). */
@@ -122,6 +124,7 @@ export function buildReportModel(input: ReportModelInput): ReportModelBuilt {
     volumeStats: stats,
     outage: losses,
     ...(input.plan ? { plan: input.plan } : {}),
+    ...(input.mlat ? { mlat: input.mlat } : {}),
     caution: input.caution,
     paper: input.paper ?? 'A4',
   };

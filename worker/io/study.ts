@@ -11,7 +11,8 @@ import type { Footprint } from '../core/footprint.ts';
 import { MAX_NETWORK_LEVELS, Network } from '../core/network.ts';
 import { WGS84_GEOGRAPHIC, type GridGeo } from '../core/grid.ts';
 import type { PlanInstance } from '../core/plan.ts';
-import { buildSensorModel, describeTarget, type SensorModel, type Target } from '../core/sensor.ts';
+import { describeTarget, type SensorModel, type Target } from '../core/sensor.ts';
+import { buildSensorModel } from '../core/sensor-model.ts';
 import { trueAltitudeM, STANDARD_DAY, type Day } from '../core/altimetry.ts';
 import { flToMetres } from '../../shared/units.ts';
 import type { Terrain } from '../core/terrain.ts';
@@ -309,6 +310,8 @@ export function buildDemand(session: Study, fls: readonly number[]): Demand {
   const reqAny = new Uint8Array(n);
   const reqPrimary = new Uint8Array(n);
   const reqSecondary = new Uint8Array(n);
+  const reqAdsb = new Uint8Array(n);
+  const reqMlat = new Uint8Array(n);
   const blockStart = new Uint32Array(blocks.length + 1);
   const blockLevel = new Uint8Array(blocks.length);
   const blockTarget = new Uint8Array(blocks.length);
@@ -319,7 +322,10 @@ export function buildDemand(session: Study, fls: readonly number[]): Demand {
     let any = v.requiredFold.any ?? 0;
     const primary = v.requiredFold.primary ?? 0;
     const secondary = v.requiredFold.secondary ?? 0;
-    if (any + primary + secondary === 0) any = 1;
+    const adsb = v.requiredFold.adsb ?? 0;
+    const mlat = v.requiredFold.mlat ?? 0;
+    // A volume that requires nothing asks for one radar (volumes.ts meets: the same rule).
+    if (any + primary + secondary + adsb + mlat === 0) any = 1;
     const t = session.volumeTargets[vi] ?? 0;
     blockStart[b] = p;
     blockLevel[b] = f;
@@ -334,12 +340,14 @@ export function buildDemand(session: Study, fls: readonly number[]): Demand {
       reqAny[p] = any;
       reqPrimary[p] = primary;
       reqSecondary[p] = secondary;
+      reqAdsb[p] = adsb;
+      reqMlat[p] = mlat;
       p++;
     }
   });
   blockStart[blocks.length] = p;
   return {
-    instancePoints: { count: n, weight, reqAny, reqPrimary, reqSecondary },
+    instancePoints: { count: n, weight, reqAny, reqPrimary, reqSecondary, reqAdsb, reqMlat },
     volume,
     target,
     cell,

@@ -41,6 +41,7 @@ const engine = new Engine(
         inst.points.reqAny.buffer as ArrayBuffer,
         inst.points.reqPrimary.buffer as ArrayBuffer,
         inst.points.reqSecondary.buffer as ArrayBuffer,
+        ...[inst.points.reqAdsb, inst.points.reqMlat].flatMap((a) => (a ? [a.buffer as ArrayBuffer] : [])),
       ];
       return remote.solve(
         transfer(inst, [...new Set(buffers)]),

@@ -48,7 +48,7 @@ import {
   tileRefusal,
 } from '../core/memory-estimate.ts';
 import { Terrain, type DemTile } from '../core/terrain.ts';
-import { cellsAtLevel, volumeStats, type VolumeLevelStats } from '../core/volumes.ts';
+import { cellsAtLevel, meets, volumeStats, type VolumeLevelStats } from '../core/volumes.ts';
 import { renderDiagramSvg } from '../io/diagram-svg.ts';
 import type { Provenance } from '../io/provenance.ts';
 import { buildReportHtml, type ReportPlan } from '../io/report-html.ts';
@@ -1149,14 +1149,10 @@ export class Engine {
       const vm = cellsAtLevel(v, study.volumeMasks[vi], fl, cur.network.altitudesM[f], study.ground);
       if (vm === null) return;
       const t = study.volumeTargets[vi] ?? 0;
-      const rAny = Math.max(1, v.requiredFold.any ?? 0);
-      const rPri = v.requiredFold.primary ?? 0;
-      const rSec = v.requiredFold.secondary ?? 0;
-      const any = cur.network.foldOf('any', f, t);
-      const pri = cur.network.foldOf('primary', f, t);
-      const sec = cur.network.foldOf('secondary', f, t);
+      const fold = (k: FoldKind) => cur.network.foldOf(k, f, t);
+      const [any, pri, sec, adsb, mlat] = KINDS.map(fold);
       for (let i = 0; i < cells; i++)
-        if (vm[i] && !(any[i] >= rAny && pri[i] >= rPri && sec[i] >= rSec)) m[i] = 1;
+        if (vm[i] && !meets(v.requiredFold, any[i], pri[i], sec[i], adsb[i], mlat[i])) m[i] = 1;
     });
     return m;
   }

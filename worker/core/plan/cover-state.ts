@@ -3,11 +3,12 @@
  * opened site the counts that make a removal exact, the unmet requirement units, and the set's cost. Shared by
  * the greedy, the local search and the final check of the solver's plan.
  */
-import { canonicalCost, type PlanModel } from './model.ts';
+import { canonicalCost, isRadarSlot, NK, NS, otherRadarSlot, type PlanModel } from './model.ts';
 
 /**
- * Counts for a chosen set: per group and kind the distinct sites covering it, and per opened site and kind the
- * number of its chosen candidates covering each group (so removing a sensor is exact). `deficit` is the number
+ * Counts for a chosen set: per group and kind the distinct sites covering it (NK kind slots, 'any' counting sites
+ * with a radar), and per opened site and sensor kind (NS slots) the number of its chosen candidates covering each
+ * group (so removing a sensor is exact). `deficit` is the number
  * of unmet capped requirement units (unweighted, an exact integer).
  */
 export class CoverState {
@@ -21,13 +22,13 @@ export class CoverState {
   private cachedCost: number | null = null;
 
   constructor(readonly m: PlanModel) {
-    this.cnt = new Uint16Array(m.nGroups * 3);
+    this.cnt = new Uint16Array(m.nGroups * NK);
     this.siteCnt = new Array<Uint16Array | null>(m.nSites).fill(null);
     this.chosen = new Uint8Array(m.nCand);
     this.siteChosen = new Int32Array(m.nSites);
-    this.zeros = new Uint16Array(m.nGroups * 2);
+    this.zeros = new Uint16Array(m.nGroups * NS);
     let d = 0;
-    for (let g = 0; g < m.nGroups; g++) d += m.gReq[g * 3] + m.gReq[g * 3 + 1] + m.gReq[g * 3 + 2];
+    for (let i = 0; i < m.nGroups * NK; i++) d += m.gReq[i];
     this.deficit = d;
   }
 
@@ -100,15 +101,17 @@ export class CoverState {
     const w = m.gWeight;
     const cov = m.covGroup;
     const ownOff = k - 1;
-    const otherOff = 2 - k;
+    // A radar also counts toward 'any' where the site's other radar does not already; a receiver never does.
+    const radar = isRadarSlot(k);
+    const otherOff = radar ? otherRadarSlot(k) : 0;
     let gain = 0;
     const end = m.covStart[c + 1];
     for (let i = m.covStart[c]; i < end; i++) {
       const g = cov[i];
-      if (sc[2 * g + ownOff] !== 0) continue;
+      if (sc[NS * g + ownOff] !== 0) continue;
       let u = 0;
-      if (cnt[3 * g + k] < req[3 * g + k]) u++;
-      if (sc[2 * g + otherOff] === 0 && cnt[3 * g] < req[3 * g]) u++;
+      if (cnt[NK * g + k] < req[NK * g + k]) u++;
+      if (radar && sc[NS * g + otherOff] === 0 && cnt[NK * g] < req[NK * g]) u++;
       gain += u * w[g];
     }
     this.work += end - m.covStart[c];
@@ -120,19 +123,21 @@ export class CoverState {
     const s = m.candSite[c];
     const k = m.candKind[c];
     let sc = this.siteCnt[s];
-    if (!sc) sc = this.siteCnt[s] = new Uint16Array(m.nGroups * 2);
+    if (!sc) sc = this.siteCnt[s] = new Uint16Array(m.nGroups * NS);
     const cnt = this.cnt;
     const req = m.gReq;
     const cov = m.covGroup;
     const ownOff = k - 1;
-    const otherOff = 2 - k;
+    // A radar also counts toward 'any' where the site's other radar does not already; a receiver never does.
+    const radar = isRadarSlot(k);
+    const otherOff = radar ? otherRadarSlot(k) : 0;
     let d = this.deficit;
     const end = m.covStart[c + 1];
     for (let i = m.covStart[c]; i < end; i++) {
       const g = cov[i];
-      if (sc[2 * g + ownOff]++ !== 0) continue;
-      if (cnt[3 * g + k]++ < req[3 * g + k]) d--;
-      if (sc[2 * g + otherOff] === 0 && cnt[3 * g]++ < req[3 * g]) d--;
+      if (sc[NS * g + ownOff]++ !== 0) continue;
+      if (cnt[NK * g + k]++ < req[NK * g + k]) d--;
+      if (radar && sc[NS * g + otherOff] === 0 && cnt[NK * g]++ < req[NK * g]) d--;
     }
     this.deficit = d;
     this.cachedCost = null;
@@ -150,14 +155,16 @@ export class CoverState {
     const req = m.gReq;
     const cov = m.covGroup;
     const ownOff = k - 1;
-    const otherOff = 2 - k;
+    // A radar also counts toward 'any' where the site's other radar does not already; a receiver never does.
+    const radar = isRadarSlot(k);
+    const otherOff = radar ? otherRadarSlot(k) : 0;
     let d = this.deficit;
     const end = m.covStart[c + 1];
     for (let i = m.covStart[c]; i < end; i++) {
       const g = cov[i];
-      if (--sc[2 * g + ownOff] !== 0) continue;
-      if (--cnt[3 * g + k] < req[3 * g + k]) d++;
-      if (sc[2 * g + otherOff] === 0 && --cnt[3 * g] < req[3 * g]) d++;
+      if (--sc[NS * g + ownOff] !== 0) continue;
+      if (--cnt[NK * g + k] < req[NK * g + k]) d++;
+      if (radar && sc[NS * g + otherOff] === 0 && --cnt[NK * g] < req[NK * g]) d++;
     }
     this.deficit = d;
     this.cachedCost = null;
@@ -172,7 +179,7 @@ export class CoverState {
     let total = 0;
     for (let g = 0; g < m.nGroups; g++) {
       let u = 0;
-      for (let k = 0; k < 3; k++) u += Math.min(this.cnt[3 * g + k], m.gReq[3 * g + k]);
+      for (let k = 0; k < NK; k++) u += Math.min(this.cnt[NK * g + k], m.gReq[NK * g + k]);
       total += u * m.gWeight[g];
     }
     return total;

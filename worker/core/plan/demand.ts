@@ -8,10 +8,10 @@
 import { InputError } from '../../../shared/errors.ts';
 import {
   canonicalCost,
+  isRadarSlot,
   K_ANY,
-  K_PRIMARY,
-  K_SECONDARY,
   KIND_NAMES,
+  NK,
   type DemandKind,
   type PlanInstance,
   type PlanModel,
@@ -56,11 +56,16 @@ export function preparePlan(inst: PlanInstance): PlanModel {
   const pts = inst.points;
   const n = pts?.count;
   if (!Number.isInteger(n) || n < 0) throw new InputError('plan: points.count', String(n), 'an integer ≥ 0');
+  // Receiver requirements are optional in an instance (absent: none).
+  const reqAdsb = pts.reqAdsb ?? new Uint8Array(n);
+  const reqMlat = pts.reqMlat ?? new Uint8Array(n);
   for (const [name, arr, Ctor] of [
     ['weight', pts.weight, Float64Array],
     ['reqAny', pts.reqAny, Uint8Array],
     ['reqPrimary', pts.reqPrimary, Uint8Array],
     ['reqSecondary', pts.reqSecondary, Uint8Array],
+    ['reqAdsb', reqAdsb, Uint8Array],
+    ['reqMlat', reqMlat, Uint8Array],
   ] as const) {
     if (!(arr instanceof Ctor) || arr.length !== n) {
       throw new InputError(
@@ -89,8 +94,15 @@ export function preparePlan(inst: PlanInstance): PlanModel {
         nSites > 0 ? `a known site index 0…${nSites - 1}` : 'a site (there are none)',
       );
     }
-    if (c.kind !== 'primary' && c.kind !== 'secondary') {
-      throw new InputError(`plan: candidates[${j}].kind`, JSON.stringify(c.kind), "'primary' or 'secondary'");
+    const kindSlot = KIND_NAMES.indexOf(c.kind);
+    if (kindSlot <= K_ANY) {
+      throw new InputError(
+        `plan: candidates[${j}].kind`,
+        JSON.stringify(c.kind),
+        KIND_NAMES.slice(1)
+          .map((k) => `'${k}'`)
+          .join(', '),
+      );
     }
     checkCost(`plan: candidates[${j}].cost (${describeCand(inst, j)})`, c.cost);
     if (!(c.covers instanceof Uint32Array)) {
@@ -111,7 +123,7 @@ export function preparePlan(inst: PlanInstance): PlanModel {
       }
     }
     candSite[j] = c.siteIndex;
-    candKind[j] = c.kind === 'primary' ? K_PRIMARY : K_SECONDARY;
+    candKind[j] = kindSlot;
     candCost[j] = c.cost;
   });
   for (let p = 0; p < n; p++) {
@@ -191,8 +203,11 @@ export function preparePlan(inst: PlanInstance): PlanModel {
     const a = pts.reqAny[p];
     const pr = pts.reqPrimary[p];
     const se = pts.reqSecondary[p];
-    if (pts.weight[p] > 0 && (a | pr | se) !== 0) {
-      const key = (a << 16) | (pr << 8) | se;
+    const ad = reqAdsb[p];
+    const ml = reqMlat[p];
+    if (pts.weight[p] > 0 && (a | pr | se | ad | ml) !== 0) {
+      // Five bytes: beyond 32 bits, so the key is a float (exact below 2^53).
+      const key = ((a << 24) | (pr << 16) | (se << 8) | ad) * 256 + ml;
       let id = reqKey.get(key);
       if (id === undefined) {
         id = nCls++;
@@ -298,34 +313,39 @@ export function preparePlan(inst: PlanInstance): PlanModel {
     }
   }
   // Achievable fold per kind = distinct sites in the signature; cap, summarise what cannot be met.
-  const siteSeen = new Int32Array(nSites * 3).fill(-1);
+  const siteSeen = new Int32Array(nSites * NK).fill(-1);
   const unmet = new Map<string, Unmeetable>();
-  const allReq = new Uint8Array(nAll * 3);
+  const allReq = new Uint8Array(nAll * NK);
   let totalWeight = 0;
   let achievableWeight = 0;
   let demandUnits = 0;
   let live = 0;
   const liveOf = new Int32Array(nAll).fill(-1);
-  const ach = [0, 0, 0];
+  const ach = new Array<number>(NK).fill(0);
+  const req = new Array<number>(NK).fill(0);
   for (let g = 0; g < nAll; g++) {
-    ach[0] = ach[1] = ach[2] = 0;
+    ach.fill(0);
     for (let i = allSigStart[g]; i < allSigStart[g + 1]; i++) {
       const c = allSig[i];
       const s = candSite[c];
       const k = candKind[c];
-      if (siteSeen[s * 3 + K_ANY] !== g) {
-        siteSeen[s * 3 + K_ANY] = g;
+      if (isRadarSlot(k) && siteSeen[s * NK + K_ANY] !== g) {
+        siteSeen[s * NK + K_ANY] = g;
         ach[K_ANY]++;
       }
-      if (siteSeen[s * 3 + k] !== g) {
-        siteSeen[s * 3 + k] = g;
+      if (siteSeen[s * NK + k] !== g) {
+        siteSeen[s * NK + k] = g;
         ach[k]++;
       }
     }
     const rep = allRep[g];
-    const req = [pts.reqAny[rep], pts.reqPrimary[rep], pts.reqSecondary[rep]];
+    req[0] = pts.reqAny[rep];
+    req[1] = pts.reqPrimary[rep];
+    req[2] = pts.reqSecondary[rep];
+    req[3] = reqAdsb[rep];
+    req[4] = reqMlat[rep];
     let any = false;
-    for (let k = 0; k < 3; k++) {
+    for (let k = 0; k < NK; k++) {
       totalWeight += allWeight[g] * req[k];
       const r = Math.min(req[k], ach[k]);
       if (r < req[k]) {
@@ -346,7 +366,7 @@ export function preparePlan(inst: PlanInstance): PlanModel {
           });
         }
       }
-      allReq[g * 3 + k] = r;
+      allReq[g * NK + k] = r;
       achievableWeight += allWeight[g] * r;
       demandUnits += r * allPoints[g];
       if (r > 0) any = true;
@@ -357,7 +377,7 @@ export function preparePlan(inst: PlanInstance): PlanModel {
   const gWeight = new Float64Array(live);
   const gPoints = new Uint32Array(live);
   const gRep = new Uint32Array(live);
-  const gReq = new Uint8Array(live * 3);
+  const gReq = new Uint8Array(live * NK);
   const sigStart = new Uint32Array(live + 1);
   for (let g = 0; g < nAll; g++) {
     const l = liveOf[g];
@@ -365,7 +385,7 @@ export function preparePlan(inst: PlanInstance): PlanModel {
     gWeight[l] = allWeight[g];
     gPoints[l] = allPoints[g];
     gRep[l] = allRep[g];
-    gReq.set(allReq.subarray(g * 3, g * 3 + 3), l * 3);
+    gReq.set(allReq.subarray(g * NK, g * NK + NK), l * NK);
     sigStart[l + 1] = sigStart[l] + (allSigStart[g + 1] - allSigStart[g]);
   }
   const sigCand = new Uint32Array(sigStart[live]);
@@ -383,7 +403,7 @@ export function preparePlan(inst: PlanInstance): PlanModel {
       for (let i = sigStart[g]; i < sigStart[g + 1]; i++) covGroup[fill[sigCand[i]]++] = g;
     }
   }
-  const order: DemandKind[] = ['any', 'primary', 'secondary'];
+  const order: DemandKind[] = KIND_NAMES;
   const unmeetable = [...unmet.values()].sort(
     (a, b) =>
       order.indexOf(a.kind) - order.indexOf(b.kind) || a.required - b.required || a.achievable - b.achievable,

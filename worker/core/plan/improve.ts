@@ -8,7 +8,7 @@
  */
 import type { CoverState } from './cover-state.ts';
 import { greedyLazyOn } from './greedy.ts';
-import { relLess } from './model.ts';
+import { isRadarSlot, K_ANY, NK, NS, otherRadarSlot, relLess } from './model.ts';
 
 /** Deficient groups after a removal: the group and a bit per deficient kind; `hopeless` when a unit is short 2+. */
 class Deficits {
@@ -34,8 +34,8 @@ class Deficits {
         if (mark[g] === id) continue;
         mark[g] = id;
         let f = 0;
-        for (let k = 0; k < 3; k++) {
-          const short = m.gReq[3 * g + k] - st.cnt[3 * g + k];
+        for (let k = 0; k < NK; k++) {
+          const short = m.gReq[NK * g + k] - st.cnt[NK * g + k];
           if (short > 0) {
             f |= 1 << k;
             if (short > 1) this.hopeless = true;
@@ -66,7 +66,7 @@ class Deficits {
     for (let i = 0; i < from.n; i++) {
       const g = from.groups[i];
       let f = 0;
-      for (let k = 0; k < 3; k++) if (m.gReq[3 * g + k] > st.cnt[3 * g + k]) f |= 1 << k;
+      for (let k = 0; k < NK; k++) if (m.gReq[NK * g + k] > st.cnt[NK * g + k]) f |= 1 << k;
       if (f) {
         this.groups[this.n] = g;
         this.flags[this.n++] = f;
@@ -92,10 +92,13 @@ function restores(st: CoverState, d: number, D: Deficits, exact = true): boolean
   const cov = m.covGroup;
   let lo = m.covStart[d];
   const hi = m.covStart[d + 1];
-  const otherBit = 1 << (3 - k);
+  // d can meet deficits of its own kind, and of 'any' when it is a radar: any other flag rules it out.
+  const radar = isRadarSlot(k);
+  const otherSlot = radar ? otherRadarSlot(k) : 0;
+  const foreign = ~((1 << k) | (radar ? 1 << K_ANY : 0));
   for (let i = 0; i < D.n; i++) {
     const f = D.flags[i];
-    if (f & otherBit) {
+    if (f & foreign) {
       st.work += i + 1;
       return false;
     }
@@ -113,8 +116,8 @@ function restores(st: CoverState, d: number, D: Deficits, exact = true): boolean
     }
     lo = a + 1;
     if (sc) {
-      const own = sc[2 * g + k - 1];
-      const other = sc[2 * g + 2 - k];
+      const own = sc[NS * g + k - 1];
+      const other = radar ? sc[NS * g + otherSlot] : 0;
       if ((f & (1 << k) && own !== 0) || (f & 1 && (own !== 0 || other !== 0))) {
         st.work += i + 1;
         return false;

@@ -34,7 +34,7 @@
 import loadHighs, { type Highs, type InitOptions, type ModelData } from 'highs';
 import { nowMs } from '../clock.ts';
 import type { Progress } from '../floor.ts';
-import { K_ANY, planCost, type PlanModel } from './model.ts';
+import { countsToward, NK, planCost, type PlanModel } from './model.ts';
 
 export type HighsInit = InitOptions;
 
@@ -105,13 +105,13 @@ export function singleRowBound(m: PlanModel): number {
   const prices: number[] = [];
   let best = 0;
   for (let g = 0; g < m.nGroups; g++) {
-    for (let k = 0; k < 3; k++) {
-      const r = m.gReq[3 * g + k];
+    for (let k = 0; k < NK; k++) {
+      const r = m.gReq[NK * g + k];
       if (r === 0) continue;
       touched.length = 0;
       for (let i = m.sigStart[g]; i < m.sigStart[g + 1]; i++) {
         const c = m.sigCand[i];
-        if (k !== K_ANY && m.candKind[c] !== k) continue;
+        if (!countsToward(m.candKind[c], k)) continue;
         const s = m.candSite[c];
         if (price[s] === Infinity && !counted[s]) touched.push(s);
         if (m.forced[c]) counted[s] = 1;
@@ -212,14 +212,14 @@ export function buildModel(m: PlanModel, inf: number, lpMaxNonzeros: number): Bu
   const rowTerms: number[] = [];
   let totalTerms = 0;
   for (let g = 0; g < m.nGroups; g++) {
-    for (let k = 0; k < 3; k++) {
-      const r = m.gReq[3 * g + k];
+    for (let k = 0; k < NK; k++) {
+      const r = m.gReq[NK * g + k];
       if (r === 0) continue;
       const id = rowG.length;
       let t = 0;
       for (let i = m.sigStart[g]; i < m.sigStart[g + 1]; i++) {
         const c = m.sigCand[i];
-        if (k !== K_ANY && m.candKind[c] !== k) continue;
+        if (!countsToward(m.candKind[c], k)) continue;
         const s = m.candSite[c];
         if (siteMark[s] !== id) {
           siteMark[s] = id;
@@ -239,15 +239,15 @@ export function buildModel(m: PlanModel, inf: number, lpMaxNonzeros: number): Bu
       // tightest first: fewest spare sites, then fewest terms
       selected.sort(
         (a, b) =>
-          rowTerms[a] - m.gReq[3 * rowG[a] + rowK[a]] - (rowTerms[b] - m.gReq[3 * rowG[b] + rowK[b]]) ||
+          rowTerms[a] - m.gReq[NK * rowG[a] + rowK[a]] - (rowTerms[b] - m.gReq[NK * rowG[b] + rowK[b]]) ||
           rowTerms[a] - rowTerms[b] ||
           a - b,
       );
     } else {
       selected.sort(
         (a, b) =>
-          m.gWeight[rowG[b]] * m.gReq[3 * rowG[b] + rowK[b]] -
-            m.gWeight[rowG[a]] * m.gReq[3 * rowG[a] + rowK[a]] || a - b,
+          m.gWeight[rowG[b]] * m.gReq[NK * rowG[b] + rowK[b]] -
+            m.gWeight[rowG[a]] * m.gReq[NK * rowG[a] + rowK[a]] || a - b,
       );
     }
     let used = 0;
@@ -269,7 +269,7 @@ export function buildModel(m: PlanModel, inf: number, lpMaxNonzeros: number): Bu
   for (let id = 0; id < rowsTotal; id++) {
     const g = rowG[id];
     const k = rowK[id];
-    const r = m.gReq[3 * g + k];
+    const r = m.gReq[NK * g + k];
     if (!keep[id]) {
       if (budgetMode) offset -= m.gWeight[g] * r;
       continue;
@@ -277,7 +277,7 @@ export function buildModel(m: PlanModel, inf: number, lpMaxNonzeros: number): Bu
     siteList.length = 0;
     for (let i = m.sigStart[g]; i < m.sigStart[g + 1]; i++) {
       const c = m.sigCand[i];
-      if (k !== K_ANY && m.candKind[c] !== k) continue;
+      if (!countsToward(m.candKind[c], k)) continue;
       const s = m.candSite[c];
       if (siteSlot[s] < 0) {
         siteSlot[s] = siteList.length;

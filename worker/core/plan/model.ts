@@ -2,9 +2,10 @@
  * The plan's model: the instance a caller hands in, the prepared (aggregated) model every stage works on, and the
  * cost of a set of candidates. Every other planner module imports this one; it imports none of them.
  *
- * Covered value. For a chosen set X, point p and kind k ∈ {any, primary, secondary}: n_k(p) = number of distinct
- * sites with a chosen candidate of kind k (of either kind for 'any') covering p — sensors on one site fail
- * together, so a fold counts sites. The covered value is f(X) = Σ_p w_p Σ_k min(n_k(p), r_k(p)): requirement units
+ * Covered value. For a chosen set X, point p and kind k ∈ {any, primary, secondary, adsb, mlat}: n_k(p) = number
+ * of distinct sites with a chosen candidate of kind k (a radar, primary or secondary, for 'any': receivers never
+ * count toward it) covering p — sensors on one site fail together, so a fold counts sites. The receiver kinds
+ * (adsb, mlat) are folds of distinct sites per kind exactly as the radar kinds are. The covered value is f(X) = Σ_p w_p Σ_k min(n_k(p), r_k(p)): requirement units
  * met, weighted. f is monotone submodular (a truncated coverage count per point and kind). A requirement above
  * what all allowed candidates together reach is capped at that maximum and reported (`unmeetable`); the demand is
  * met when every capped unit is met. A point of zero weight carries no demand.
@@ -12,8 +13,10 @@
  * Cost. Each distinct site of the set once (0 for a site marked existing), plus each candidate's type cost (0 for
  * a sensor already standing, see `PlanInstance.standing`): what the plan spends anew, the objective.
  */
-export type Kind = 'primary' | 'secondary';
-export type DemandKind = Kind | 'any';
+import { FOLD_KINDS, type FoldKind, type SensorKind } from '../../../shared/sensor-kinds.ts';
+
+export type Kind = SensorKind;
+export type DemandKind = FoldKind;
 
 export interface PlanInstance {
   /** `existing` → the site costs 0 in the plan. */
@@ -33,6 +36,9 @@ export interface PlanInstance {
     reqAny: Uint8Array;
     reqPrimary: Uint8Array;
     reqSecondary: Uint8Array;
+    /** Receiver requirements (absent: none). */
+    reqAdsb?: Uint8Array;
+    reqMlat?: Uint8Array;
   };
   /** Candidate indices that must be in the plan (existing sensors kept by force). */
   forced?: number[];
@@ -70,11 +76,32 @@ export interface Unmeetable {
   firstPoint: number;
 }
 
-/** Kind slots: requirement and count arrays hold 3 entries per group in this order. */
+/** Kind slots: requirement and count arrays hold NK entries per group in this order (shared FOLD_KINDS). */
 export const K_ANY = 0;
 export const K_PRIMARY = 1;
 export const K_SECONDARY = 2;
-export const KIND_NAMES: DemandKind[] = ['any', 'primary', 'secondary'];
+export const K_ADSB = 3;
+export const K_MLAT = 4;
+export const KIND_NAMES: DemandKind[] = [...FOLD_KINDS];
+/** Kind slots per group (any + the sensor kinds). */
+export const NK = KIND_NAMES.length;
+/** Per-site slots per group in CoverState (the sensor kinds: slot k − 1 for kind slot k). */
+export const NS = NK - 1;
+
+/** Whether a kind slot is a radar's (counts toward 'any'). */
+export function isRadarSlot(k: number): boolean {
+  return k === K_PRIMARY || k === K_SECONDARY;
+}
+
+/** Whether a candidate of kind slot `cand` counts toward a requirement of kind slot `k` ('any': radars only). */
+export function countsToward(cand: number, k: number): boolean {
+  return k === K_ANY ? isRadarSlot(cand) : cand === k;
+}
+
+/** The other radar's per-site slot (see NS) for a radar kind slot; −1 for a receiver (it has no 'any' share). */
+export function otherRadarSlot(k: number): number {
+  return k === K_PRIMARY ? K_SECONDARY - 1 : k === K_SECONDARY ? K_PRIMARY - 1 : -1;
+}
 
 export interface PlanModel {
   nSites: number;
@@ -82,7 +109,7 @@ export interface PlanModel {
   siteCost: Float64Array;
   nCand: number;
   candSite: Int32Array;
-  /** K_PRIMARY or K_SECONDARY. */
+  /** K_PRIMARY, K_SECONDARY, K_ADSB or K_MLAT. */
   candKind: Uint8Array;
   /** Type cost as the plan pays it: 0 for a standing sensor. */
   candCost: Float64Array;
@@ -98,7 +125,7 @@ export interface PlanModel {
   gWeight: Float64Array;
   gPoints: Uint32Array;
   gRep: Uint32Array;
-  /** 3 per group (any, primary, secondary), capped at what the allowed candidates reach. */
+  /** NK per group (any, primary, secondary, adsb, mlat), capped at what the allowed candidates reach. */
   gReq: Uint8Array;
   /** Group → covering allowed candidates (CSR, ascending). */
   sigStart: Uint32Array;

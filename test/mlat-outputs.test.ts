@@ -1,0 +1,154 @@
+/**
+ * The multilateration accuracy through the commands (issue 14): `airshade coverage` writes the accuracy raster and
+ * bands per level and the per-volume accuracy in summary.json; `airshade report` shows it. On a flat sea with four
+ * receivers at the corners of a 40 km square, altitude reported (3 receivers make a fix), the accuracy at the
+ * square's centre at FL100 matches the closed-form least-squares value (issue 14's done-when: within 10 %).
+ *
+ * Closed form [calc] (test/REFERENCES.md, multilateration on a circle): N receivers evenly spaced round the target at
+ * one elevation angle α give a horizontal DRMS of 2·c·σ/(√N·cos α); four corners of a square, target above the
+ * centre: c·σ/cos α. Here the corners lie √2 · 20 km from the centre and 20 m up, the target at 3048 m (FL100 on the
+ * standard day, ICAO Doc 7488), σ the catalog receiver's timingErrorNs.
+ */
+import { readFileSync, writeFileSync } from 'node:fs';
+import { join } from 'node:path';
+import { fromArrayBuffer } from 'geotiff';
+import { afterAll, beforeAll, describe, expect, it } from 'vitest';
+import { runCli } from './support/run-cli.ts';
+import {
+  ring,
+  writeScenarioFixture,
+  type Fixture,
+  type FixtureSensorType,
+} from './support/scenario-fixture.ts';
+
+const C = 299_792_458;
+const LAT0 = -41;
+const LON0 = -30;
+/** Half a side of the 40 km square in degrees (sphere of 6 371 km, [calc]). */
+const HALF_LAT = 20_000 / ((6_371_000 * Math.PI) / 180);
+const HALF_LON = HALF_LAT / Math.cos((LAT0 * Math.PI) / 180);
+
+const catalog = JSON.parse(
+  readFileSync(join(import.meta.dirname, '..', 'data', 'catalog', 'receiver-types.json'), 'utf8'),
+) as FixtureSensorType[];
+const MLAT = catalog.find((t) => t.kind === 'mlat')!;
+
+describe('multilateration accuracy from the commands, four receivers on a square over a flat sea', () => {
+  let fx: Fixture;
+  const out = () => join(fx.dir, 'out');
+  beforeAll(async () => {
+    fx = writeScenarioFixture({
+      dem: {
+        west: -31.25,
+        north: -40,
+        widthCells: 300,
+        heightCells: 240,
+        pixelDeg: 30 / 3600,
+        data: new Float32Array(300 * 240),
+      },
+      cellArcSec: 30,
+      flightLevels: [100],
+      sensorTypes: [MLAT],
+      sites: [
+        ['ne', LON0 + HALF_LON, LAT0 + HALF_LAT],
+        ['nw', LON0 - HALF_LON, LAT0 + HALF_LAT],
+        ['sw', LON0 - HALF_LON, LAT0 - HALF_LAT],
+        ['se', LON0 + HALF_LON, LAT0 - HALF_LAT],
+      ].map(([id, lon, lat]) => ({
+        id: `buoy-${id}`,
+        name: `Buoy ${String(id).toUpperCase()}`,
+        lon: lon as number,
+        lat: lat as number,
+        mastHeightM: 20,
+        siteCost: 1,
+        allowedTypes: [MLAT.id],
+      })),
+      volumes: [
+        {
+          id: 'square',
+          name: 'The square',
+          polygon: {
+            type: 'Polygon',
+            coordinates: [ring(LON0 - HALF_LON, LAT0 - HALF_LAT, LON0 + HALF_LON, LAT0 + HALF_LAT)],
+          },
+          flMin: 100,
+          flMax: 100,
+          requiredFold: { mlat: 3 },
+          requiredMlatAccuracyM: 10,
+        },
+      ],
+      layouts: [],
+      extra: { multipath: 'off', mlatAltitudeAided: true },
+    });
+    const r = await runCli('coverage', fx.scenarioPath, '--out', out(), '--threads', '0', '--quiet');
+    expect(r.code, r.err).toBe(0);
+  });
+  afterAll(() => fx.cleanup());
+
+  it('writes the accuracy raster; at the centre it matches c·σ/cos α within 10 %', async () => {
+    const buf = readFileSync(join(out(), 'mlat-accuracy-FL100.tif'));
+    const tiff = await fromArrayBuffer(buf.buffer.slice(buf.byteOffset, buf.byteOffset + buf.byteLength));
+    const img = await tiff.getImage();
+    const [ox, oy] = img.getOrigin();
+    const [px, py] = img.getResolution();
+    const [data] = (await img.readRasters()) as unknown as Float32Array[];
+    const col = Math.floor((LON0 - ox) / px);
+    const row = Math.floor((LAT0 - oy) / py);
+    const centre = data[row * img.getWidth() + col];
+    const sigma = (MLAT.timingErrorNs as number) * 1e-9;
+    const horizontal = Math.SQRT2 * 20_000;
+    const cosA = horizontal / Math.hypot(horizontal, 3048 - 20);
+    const closed = (C * sigma) / cosA;
+    console.log(`centre DRMS ${centre.toFixed(3)} m, closed form ${closed.toFixed(3)} m`);
+    expect(Math.abs(centre - closed) / closed).toBeLessThan(0.1);
+    // Cells without a fix are nodata (NaN).
+    expect(img.getGDALNoData()).toBeNaN();
+  });
+
+  it('writes nested bands and the per-volume accuracy in summary.json, and the text summary says it', () => {
+    const bands = JSON.parse(readFileSync(join(out(), 'mlat-accuracy-FL100.geojson'), 'utf8'));
+    expect(bands.type).toBe('FeatureCollection');
+    expect(bands.features.length).toBeGreaterThan(0);
+    expect(bands.features.every((f: { properties: { kind: string } }) => f.properties.kind === 'mlat')).toBe(
+      true,
+    );
+    const summary = JSON.parse(readFileSync(join(out(), 'summary.json'), 'utf8'));
+    const a = summary.mlatAccuracy;
+    expect(a.minReceivers).toBe(3);
+    expect(a.altitudeKnown).toBe(true);
+    expect(a.receiverSites).toHaveLength(4);
+    expect(a.files).toEqual(['mlat-accuracy-FL100.tif', 'mlat-accuracy-FL100.geojson']);
+    const row = a.volumes.find((v: { volumeId: string }) => v.volumeId === 'square');
+    expect(row.flightLevel).toBe(100);
+    expect(row.requiredM).toBe(10);
+    expect(row.fixPct).toBe(100);
+    // Inside the square the DRMS stays within a few metres of its centre value (c·σ/cos α ≈ 4.5 m for 15 ns).
+    expect(row.metPct).toBe(100);
+    expect(row.medianM).toBeGreaterThan(3);
+    expect(row.medianM).toBeLessThan(10);
+  });
+
+  it('a bound tighter than the geometry allows is reported short, not met', async () => {
+    const text = readFileSync(fx.scenarioPath, 'utf8').replace(
+      '"requiredMlatAccuracyM": 10',
+      '"requiredMlatAccuracyM": 1',
+    );
+    const path = join(fx.dir, 'tight.json');
+    writeFileSync(path, text);
+    const r = await runCli('coverage', path, '--out', join(fx.dir, 'tight'), '--threads', '0', '--quiet');
+    expect(r.code, r.err).toBe(0);
+    const summary = JSON.parse(readFileSync(join(fx.dir, 'tight', 'summary.json'), 'utf8'));
+    expect(summary.mlatAccuracy.volumes[0].metPct).toBe(0);
+    expect(r.out).toMatch(/multilateration: 4 receivers; a fix needs 3/);
+  });
+
+  it('the report has a multilateration accuracy section with the volume’s row', async () => {
+    const html = join(fx.dir, 'report.html');
+    const r = await runCli('report', fx.scenarioPath, '--out', html, '--threads', '0', '--quiet');
+    expect(r.code, r.err).toBe(0);
+    const text = readFileSync(html, 'utf8');
+    expect(text).toMatch(/<section class="text" id="mlat">/);
+    expect(text).toMatch(/<tr data-volume="square" data-level="100">/);
+    expect(text).toMatch(/Multilateration accuracy/);
+  });
+});
