@@ -60,7 +60,7 @@ describe('the demo with receivers', () => {
         requiredFold,
         requiredMlatAccuracyM: _a,
         ...rest
-      } = v as { requiredFold: Record<string, number> };
+      } = v as { requiredFold: Record<string, number>; requiredMlatAccuracyM?: number };
       const { requiredFold: demoFold, ...demoRest } = v1[i];
       expect(rest).toEqual(demoRest);
       const { mlat: _m, ...radarFold } = requiredFold;
