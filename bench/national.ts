@@ -32,7 +32,6 @@ import { cpus, loadavg, tmpdir, totalmem } from 'node:os';
 import { basename, dirname, join, relative, resolve } from 'node:path';
 import { parseArgs } from 'node:util';
 import { InputError, isInputError } from '../shared/errors.ts';
-import { WGS84_GEOGRAPHIC, type GridGeo } from '../worker/core/grid.ts';
 import {
   createSynthWorld,
   fillGeographic,
@@ -40,7 +39,7 @@ import {
   type SynthLayout,
   type SynthWorld,
 } from '../worker/demo/synth-terrain.ts';
-import { encodeGeoTiff } from '../worker/io/geotiff-write.ts';
+import { TILE_ARCSEC, TILE_SAMPLES, worldTile } from '../worker/demo/tiles.ts';
 import { sha256, writeFileAtomic, type RunFile } from '../worker/cli/files.ts';
 
 const root = join(import.meta.dirname, '..');
@@ -54,9 +53,6 @@ const CATALOG = join(root, 'data/catalog/sensor-types.json');
 const FULL = { west: -140, south: -50, east: -125, north: -35 } as const;
 const FULL_SIDE_DEG = FULL.east - FULL.west;
 const FULL_SITES = 500;
-/** 3 arc-seconds, 1201 samples a side: neighbouring tiles share their edge row and column (as the demo's). */
-const TILE_ARCSEC = 3;
-const TILE_SAMPLES = 3600 / TILE_ARCSEC + 1;
 const CELL_ARCSEC = 15;
 const FLIGHT_LEVELS = [30, 50, 100, 150, 200, 245, 300, 350, 400, 460];
 /** The goal of issue 12. */
@@ -316,31 +312,6 @@ function tileName(lon: number, lat: number): string {
   return `nat-tile_lat${lat}_lon${lon}.tif`;
 }
 
-/**
- * One tile (south-west corner lon, lat) as an Int16 GeoTIFF: the same lattice, pixel-is-area origin and writer as
- * the demo's tiles (worker/cli/demo.ts demoTile), on this benchmark's own invented world.
- */
-function nationalTile(lon: number, lat: number, world: SynthWorld): ArrayBuffer {
-  const px = TILE_ARCSEC / 3600;
-  const n = TILE_SAMPLES;
-  const originLon = lon - px / 2;
-  const originLat = lat + 1 + px / 2;
-  const heights = new Float32Array(n * n);
-  fillGeographic(heights, originLon, originLat, px, n, n, world);
-  const ints = new Int16Array(n * n);
-  for (let i = 0; i < ints.length; i++) ints[i] = Math.round(heights[i]);
-  const geo: GridGeo = {
-    width: n,
-    height: n,
-    originX: originLon,
-    originY: originLat,
-    pixelX: px,
-    pixelY: -px,
-    crs: WGS84_GEOGRAPHIC,
-  };
-  return encodeGeoTiff({ geo, data: ints, nodata: -32768 });
-}
-
 interface TileManifest {
   about: string;
   /** Fingerprint of the layout, the tile format and a patch of the generator's output. */
@@ -397,7 +368,7 @@ function ensureTiles(box: Box, world: SynthWorld): { paths: string[]; generated:
         const bytes = readFileSync(path);
         if (bytes.byteLength === want.bytes && sha256(bytes) === want.sha256) continue;
       }
-      const data = nationalTile(lon, lat, world);
+      const data = worldTile(lon, lat, world);
       writeFileAtomic(path, data);
       known.set(name, { name, bytes: data.byteLength, sha256: sha256(data) });
       save();

@@ -18,6 +18,7 @@ import { computeGridFloor, inlineExecutor } from '../worker/core/floor.ts';
 import { monotoneCubic, NEAR_CELLS } from '../worker/core/grid-sweep.ts';
 import { rayWalkFloor, rayWalkFloorGrid, type RayWalkInput } from './reference/raywalk.ts';
 import { cellLonLat, metricGeo, metricTerrain } from './support/dem.ts';
+import { scoreFloor } from './support/floor-accuracy.ts';
 
 const PIXEL_M = 30;
 const K = 4 / 3;
@@ -68,19 +69,7 @@ describe.each(['valley', 'summit', 'coast'] as const)('antenna %s', (scenario) =
     const r0 = N / 2;
     const res = await gridFloor(data, N, c0, r0, 15);
     const ref = rayWalkFloorGrid(walkInput(data, N, c0, r0, 15));
-    const errors: number[] = [];
-    for (let i = 0; i < N * N; i++) if (ref[i] > data[i] + 0.01) errors.push(Math.abs(res.floor[i] - ref[i]));
-    errors.sort((a, b) => a - b);
-    const median = errors[Math.floor(errors.length / 2)];
-    const agreement = [500, 1000, 1500, 3000].map((alt) => {
-      let agree = 0;
-      for (let i = 0; i < N * N; i++) {
-        const a = alt >= data[i] && alt >= res.floor[i];
-        const b = alt >= data[i] && alt >= ref[i];
-        if (a === b) agree++;
-      }
-      return agree / (N * N);
-    });
+    const { errors, median, agreement } = scoreFloor(data, res.floor, ref, [500, 1000, 1500, 3000]);
     console.log(
       `${scenario}: shadowed ${errors.length} cells, median |floor error| ${median.toFixed(3)} m; agreement ${agreement.map((a) => (100 * a).toFixed(3) + '%').join(' ')}`,
     );

@@ -9,6 +9,7 @@ import { computeFloor, inlineExecutor } from '../worker/core/floor.ts';
 import { fillProjected, testWorld } from '../worker/demo/synth-terrain.ts';
 import { rayWalkFloorGrid } from './reference/raywalk.ts';
 import { cellLonLat, metricGeo, metricTerrain } from './support/dem.ts';
+import { scoreFloor } from './support/floor-accuracy.ts';
 
 const N = 360;
 const PIXEL_M = 30;
@@ -44,21 +45,9 @@ describe.each(['valley', 'summit', 'coast'] as const)('antenna %s', (scenario) =
       antennaAltM: data[r0 * N + c0] + mastM,
       reM: K * R,
     });
-    const errors: number[] = [];
-    for (let i = 0; i < N * N; i++) if (ref[i] > data[i] + 0.01) errors.push(Math.abs(res.floor[i] - ref[i]));
-    errors.sort((a, b) => a - b);
-    const median = errors[Math.floor(errors.length / 2)];
-    const agreement = [500, 1000, 1500, 3000].map((alt) => {
-      let agree = 0;
-      for (let i = 0; i < N * N; i++) {
-        const a = alt >= data[i] && alt >= res.floor[i];
-        const b = alt >= data[i] && alt >= ref[i];
-        if (a === b) agree++;
-      }
-      return agree / (N * N);
-    });
+    const { errors, median, p95, agreement } = scoreFloor(data, res.floor, ref, [500, 1000, 1500, 3000]);
     console.log(
-      `${scenario}: shadowed ${errors.length} cells, median |floor error| ${median.toFixed(2)} m, p95 ${errors[Math.floor(errors.length * 0.95)].toFixed(1)} m; agreement ${agreement.map((a) => (100 * a).toFixed(3) + '%').join(' ')}`,
+      `${scenario}: shadowed ${errors.length} cells, median |floor error| ${median.toFixed(2)} m, p95 ${p95.toFixed(1)} m; agreement ${agreement.map((a) => (100 * a).toFixed(3) + '%').join(' ')}`,
     );
     expect(errors.length).toBeGreaterThan(N * N * 0.05); // the scene really has shadows to get right
     expect(median).toBeLessThanOrEqual(5);

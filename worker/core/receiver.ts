@@ -35,7 +35,9 @@ import type { PathLossTable } from './atmosphere.ts';
 import {
   buildPattern,
   linkRangeM,
+  num,
   PATTERN_TABLE_STEP_DEG,
+  show,
   pathLossTable,
   SSR_REPLY_MHZ,
   TRANSPONDER_CLASSES,
@@ -366,26 +368,4 @@ function wrapRad(a: number): number {
   const two = 2 * Math.PI;
   const r = a % two;
   return r < 0 ? r + two : r;
-}
-
-function show(v: unknown): string {
-  if (typeof v === 'string') return JSON.stringify(v);
-  if (v === undefined) return 'nothing';
-  if (typeof v === 'number' || typeof v === 'boolean' || v === null) return String(v);
-  const s = JSON.stringify(v) ?? String(v);
-  return s.length > 80 ? s.slice(0, 77) + '…' : s;
-}
-
-function num(
-  obj: Record<string, unknown>,
-  key: string,
-  path: string,
-  ok: (v: number) => boolean,
-  expected: string,
-): number {
-  const v = obj[key];
-  if (typeof v !== 'number' || !Number.isFinite(v) || !ok(v)) {
-    throw new InputError(`${path}.${key}`, show(v), expected);
-  }
-  return v;
 }

@@ -363,7 +363,8 @@ export function weatherRangeFactor(lossDb: number): number {
 // ---------------------------------------------------------------------------------------------------------------
 // Validation helpers
 
-function show(v: unknown): string {
+/** A value as a message shows it (at most 80 characters). */
+export function show(v: unknown): string {
   if (typeof v === 'string') return JSON.stringify(v);
   if (v === undefined) return 'nothing';
   if (typeof v === 'number' || typeof v === 'boolean' || v === null) return String(v);
@@ -381,7 +382,7 @@ function isObject(v: unknown): v is Record<string, unknown> {
 }
 
 /** A finite number satisfying `ok`, else InputError at `path`. */
-function num(
+export function num(
   obj: Record<string, unknown>,
   key: string,
   path: string,
