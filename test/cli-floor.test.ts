@@ -115,6 +115,58 @@ describe('airshade floor', () => {
     expect(r.out).toMatch(/Usage:\n {2}airshade floor --dem/);
   });
 
+  it('--sweep: cells and radials both run and say which ran; anything else is refused naming --sweep', async () => {
+    const cells = await run(
+      'floor',
+      '--dem',
+      dem,
+      '--site',
+      SITE,
+      '--mast-m',
+      '20',
+      '--out',
+      join(dir, 'c.tif'),
+      '--threads',
+      '0',
+      '--sweep',
+      'cells',
+    );
+    const radials = await run(
+      'floor',
+      '--dem',
+      dem,
+      '--site',
+      SITE,
+      '--mast-m',
+      '20',
+      '--out',
+      join(dir, 'r.tif'),
+      '--threads',
+      '0',
+      '--sweep',
+      'radials',
+    );
+    expect(cells.code).toBe(0);
+    expect(radials.code).toBe(0);
+    expect(cells.out).toMatch(/sampling {5}the DEM's own cells/);
+    expect(radials.out).toMatch(/sampling {5}\d+ geodesic radials/);
+    const bad = await run(
+      'floor',
+      '--dem',
+      dem,
+      '--site',
+      SITE,
+      '--mast-m',
+      '20',
+      '--out',
+      join(dir, 'b.tif'),
+      '--sweep',
+      'fast',
+    );
+    expect(bad.code).toBe(2);
+    expect(bad.err).toMatch(/--sweep: found "fast"; expected "auto", "cells" or "radials"/);
+  });
+
   it('a bad input in a real process prints one line and no stack trace', () => {
     const bin = join(import.meta.dirname, '..', 'bin', 'airshade.mjs');
     const r = spawnSync(
