@@ -116,53 +116,28 @@ describe('airshade floor', () => {
   });
 
   it('--sweep: cells and radials both run and say which ran; anything else is refused naming --sweep', async () => {
-    const cells = await run(
-      'floor',
-      '--dem',
-      dem,
-      '--site',
-      SITE,
-      '--mast-m',
-      '20',
-      '--out',
-      join(dir, 'c.tif'),
-      '--threads',
-      '0',
-      '--sweep',
-      'cells',
-    );
-    const radials = await run(
-      'floor',
-      '--dem',
-      dem,
-      '--site',
-      SITE,
-      '--mast-m',
-      '20',
-      '--out',
-      join(dir, 'r.tif'),
-      '--threads',
-      '0',
-      '--sweep',
-      'radials',
-    );
+    const floorWith = (sweep: string, threads: string[] = ['--threads', '0']) =>
+      run(
+        'floor',
+        '--dem',
+        dem,
+        '--site',
+        SITE,
+        '--mast-m',
+        '20',
+        '--out',
+        join(dir, `${sweep}.tif`),
+        ...threads,
+        '--sweep',
+        sweep,
+      );
+    const cells = await floorWith('cells');
+    const radials = await floorWith('radials');
     expect(cells.code).toBe(0);
     expect(radials.code).toBe(0);
     expect(cells.out).toMatch(/sampling {5}the DEM's own cells/);
     expect(radials.out).toMatch(/sampling {5}\d+ geodesic radials/);
-    const bad = await run(
-      'floor',
-      '--dem',
-      dem,
-      '--site',
-      SITE,
-      '--mast-m',
-      '20',
-      '--out',
-      join(dir, 'b.tif'),
-      '--sweep',
-      'fast',
-    );
+    const bad = await floorWith('fast', []);
     expect(bad.code).toBe(2);
     expect(bad.err).toMatch(/--sweep: found "fast"; expected "auto", "cells" or "radials"/);
   });
