@@ -14,6 +14,7 @@ import {
   SAFETY_LIMIT_NOTE,
   solvePlan,
   type PlanInstance,
+  type AccuracyResult,
   type PlanResult,
 } from '../core/plan.ts';
 import { volumeStats } from '../core/volumes.ts';
@@ -31,7 +32,7 @@ import {
   weatherHelp,
 } from './args.ts';
 import { levelLayers } from '../io/layers.ts';
-import { buildDemand, coveredPoints, type Demand } from '../io/study.ts';
+import { accuracyDemand, buildDemand, coveredPoints, type Demand } from '../io/study.ts';
 import { finishRun, RunFolder, runFolderHelp } from './files.ts';
 import { scenarioProvenance } from './provenance.ts';
 import {
@@ -158,6 +159,7 @@ export async function planCommand(argv: readonly string[], log: (s: string) => v
       covers: coveredPoints(footprints[i], demand, altitudes),
     })),
     points: demand.instancePoints,
+    accuracy: accuracyDemand(session, demand, candidates, altitudes),
     forced,
     // The kept sensors on sites marked existing stand already: nothing new is spent on them.
     standing: forced.filter((c) => s.sites[siteIndex.get(candidates[c].site.id)!].properties.existing),
@@ -283,9 +285,26 @@ function planDocument(
       session.ground,
     ),
     unmeetable,
+    ...(r.accuracy ? { mlatAccuracy: accuracyDoc(r.accuracy, candidates) } : {}),
     log: r.log,
     conventions: studyConventions(session, fls),
     caution: CAUTION,
+  };
+}
+
+/** The plan's accuracy figures as plan.json gives them (weights in km²-weighted units, as the folds'). */
+function accuracyDoc(a: AccuracyResult, candidates: Candidate[]) {
+  const sensor = (i: number) => ({ siteId: candidates[i].site.id, typeId: candidates[i].model.spec.id });
+  return {
+    boundedPoints: a.points,
+    metPoints: a.metPoints,
+    shortPoints: a.shortPoints,
+    unmeetablePoints: a.unmeetablePoints,
+    boundedWeight: a.weight,
+    metWeight: a.metWeight,
+    unmeetableWeight: a.unmeetableWeight,
+    addedForAccuracy: a.added.map(sensor),
+    droppedAfter: a.dropped.map(sensor),
   };
 }
 
@@ -316,6 +335,17 @@ function planSummary(
       `  ${name.slice(0, 24).padEnd(24)} ${e.typeId.padEnd(18)} ${e.cost.toFixed(2).padStart(7)}${standing}`,
     );
   });
+  if (r.accuracy) {
+    const a = r.accuracy;
+    const pct = (x: number) => (a.weight > 0 ? ((100 * x) / a.weight).toFixed(1) : '0.0');
+    lines.push(
+      `  multilateration accuracy: ${pct(a.metWeight)} % of the bounded volume-levels meet their bound` +
+        (a.unmeetablePoints > 0
+          ? `; ${pct(a.unmeetableWeight)} % lie beyond what every allowed receiver together reaches`
+          : '') +
+        (a.added.length > 0 ? `; ${a.added.length} receiver(s) added for accuracy` : ''),
+    );
+  }
   for (const u of doc.unmeetable) {
     lines.push(
       `  note: ${u.volumeName} needs ${u.kind} fold ${u.required} where at most ${u.achievable} is possible (${u.points} points): planned to ${u.achievable}`,

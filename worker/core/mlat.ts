@@ -239,6 +239,12 @@ const GEOCENTRIC = proj4(
   '+proj=geocent +datum=WGS84 +units=m +no_defs',
 );
 
+/** WGS84 earth-centred coordinates (m) of a longitude, latitude (degrees) and height (m); no checks. */
+export function toEcef(lonDeg: number, latDeg: number, hM: number): [x: number, y: number, z: number] {
+  const [x, y, z] = GEOCENTRIC.forward([lonDeg, latDeg, hM]);
+  return [x, y, z];
+}
+
 /**
  * A local east-north-up frame at (lon0, lat0, h0) on WGS84 (degrees, metres above the ellipsoid). Heights above
  * mean sea level may be passed instead when the geoid separation is the same for every point of one problem (it

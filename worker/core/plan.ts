@@ -32,6 +32,9 @@
  *    Budget mode: one-for-one exchanges that raise the covered weight within the budget, each followed by a
  *    greedy refill, then dropping picks that no longer cover anything.
  * 4. lp-bound.ts, bound: LP relaxation with HiGHS over the aggregated rows, a MILP when the instance is small.
+ * 5. accuracy.ts, when volumes bound the multilateration accuracy: the fold a fix implies is added to the demand
+ *    before stage 1 (exact, so the bound stays valid), and after stage 4 receivers are added greedily until every
+ *    bound that the allowed receivers can meet is met, then the ones no longer needed are dropped.
  * solve.ts runs them in order (cover-state.ts holds the exact counts they share).
  *
  * Determinism: ties are broken by index, there is no randomness, the local search stops on a count of
@@ -42,7 +45,8 @@
  * on the machine's speed (never its validity: every MILP plan is re-checked with exact counts before it is used).
  */
 export { DEFAULT_SAFETY_TIME_LIMIT_MS, DEFAULT_SOLVER_NODES } from '../../shared/plan-limits.ts';
-export type { Kind, DemandKind, PlanInstance, Unmeetable } from './plan/model.ts';
+export type { AccuracyDemand, Kind, DemandKind, PlanInstance, Unmeetable } from './plan/model.ts';
+export type { AccuracyResult } from './plan/accuracy.ts';
 export { preparePlan } from './plan/demand.ts';
 export { greedyLazy, greedyPlain } from './plan/greedy.ts';
 export { SAFETY_LIMIT_NOTE, type HighsInit } from './plan/lp-bound.ts';

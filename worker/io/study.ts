@@ -10,7 +10,7 @@ import type { Candidate, CoverageSite } from '../core/coverage.ts';
 import type { Footprint } from '../core/footprint.ts';
 import { MAX_NETWORK_LEVELS, Network } from '../core/network.ts';
 import { WGS84_GEOGRAPHIC, type GridGeo } from '../core/grid.ts';
-import type { PlanInstance } from '../core/plan.ts';
+import type { AccuracyDemand, PlanInstance } from '../core/plan.ts';
 import { describeTarget, type SensorModel, type Target } from '../core/sensor.ts';
 import { buildSensorModel } from '../core/sensor-model.ts';
 import { trueAltitudeM, STANDARD_DAY, type Day } from '../core/altimetry.ts';
@@ -355,6 +355,54 @@ export function buildDemand(session: Study, fls: readonly number[]): Demand {
     blockStart,
     blockLevel,
     blockTarget,
+  };
+}
+
+/**
+ * The plan's multilateration accuracy demand (plan/accuracy.ts): the demand points of volumes with a bound
+ * (`requiredMlatAccuracyM`), the target over each point's cell centre at its level's altitude, and every
+ * candidate's antenna (ground under the site + mast) and arrival-time error. Undefined when no volume has a bound.
+ */
+export function accuracyDemand(
+  study: Study,
+  demand: Demand,
+  candidates: readonly { site: CoverageSite; model: SensorModel }[],
+  altitudesM: readonly number[],
+): AccuracyDemand | undefined {
+  const s = study.loaded.scenario;
+  if (!s.volumes.some((v) => v.requiredMlatAccuracyM !== undefined)) return undefined;
+  const list: number[] = [];
+  const bounds: number[] = [];
+  for (let p = 0; p < demand.cell.length; p++) {
+    const b = s.volumes[demand.volume[p]].requiredMlatAccuracyM;
+    if (b === undefined) continue;
+    list.push(p);
+    bounds.push(b);
+  }
+  const g = study.grid;
+  const target = new Float64Array(3 * list.length);
+  list.forEach((p, i) => {
+    const c = demand.cell[p];
+    target[3 * i] = g.originX + ((c % g.width) + 0.5) * g.pixelX;
+    target[3 * i + 1] = g.originY + (Math.floor(c / g.width) + 0.5) * g.pixelY;
+    target[3 * i + 2] = altitudesM[demand.level[p]];
+  });
+  const antenna = new Float64Array(3 * candidates.length);
+  const timingErrorNs = new Float64Array(candidates.length).fill(NaN);
+  candidates.forEach((c, j) => {
+    antenna[3 * j] = c.site.lon;
+    antenna[3 * j + 1] = c.site.lat;
+    antenna[3 * j + 2] = study.terrain.sampleLonLat(c.site.lon, c.site.lat) + c.site.mastHeightM;
+    const t = (c.model.spec as { timingErrorNs?: number }).timingErrorNs;
+    if (c.model.kind === 'mlat' && t !== undefined) timingErrorNs[j] = t;
+  });
+  return {
+    points: Uint32Array.from(list),
+    boundM: Float64Array.from(bounds),
+    target,
+    antenna,
+    timingErrorNs,
+    altitudeKnown: s.mlatAltitudeAided,
   };
 }
 

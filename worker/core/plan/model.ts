@@ -40,6 +40,11 @@ export interface PlanInstance {
     reqAdsb?: Uint8Array;
     reqMlat?: Uint8Array;
   };
+  /**
+   * Points whose multilateration fix must meet a 1σ horizontal DRMS bound (volumes' `requiredMlatAccuracyM`), with
+   * where the targets and the antennas are: accuracy.ts. Absent: no bound.
+   */
+  accuracy?: AccuracyDemand;
   /** Candidate indices that must be in the plan (existing sensors kept by force). */
   forced?: number[];
   /**
@@ -63,6 +68,23 @@ export interface PlanInstance {
    * reached: when it is, the result may differ on another machine, and `solverStop` and the log say so.
    */
   timeLimitMs?: number;
+}
+
+/** What the plan needs to check a multilateration accuracy bound (accuracy.ts): the bounded points, where the
+ * targets and antennas are. */
+export interface AccuracyDemand {
+  /** Demand point indices with a bound, strictly increasing. */
+  points: Uint32Array;
+  /** Per listed point: its bound, the 1σ horizontal DRMS in metres (> 0). */
+  boundM: Float64Array;
+  /** Per listed point: the target's longitude, latitude (degrees) and altitude (m AMSL): 3 numbers. */
+  target: Float64Array;
+  /** Per candidate: its antenna's longitude, latitude (degrees) and altitude (m AMSL): 3 numbers. */
+  antenna: Float64Array;
+  /** Per candidate: its 1σ arrival-time error (ns) when it is an `mlat` receiver; ignored for other kinds. */
+  timingErrorNs: Float64Array;
+  /** The target reports its pressure altitude (3 receivers make a fix, not 4). */
+  altitudeKnown: boolean;
 }
 
 /** Requirement units that no set of allowed candidates can meet, summarised per (kind, required, achievable). */

@@ -6,6 +6,13 @@
 import { DEFAULT_SAFETY_TIME_LIMIT_MS, DEFAULT_SOLVER_NODES } from '../../../shared/plan-limits.ts';
 import { nowMs } from '../clock.ts';
 import type { Progress } from '../floor.ts';
+import {
+  checkAccuracy,
+  prepareAccuracy,
+  repairAccuracy,
+  withImpliedMlatFolds,
+  type AccuracyResult,
+} from './accuracy.ts';
 import { CoverState } from './cover-state.ts';
 import { preparePlan } from './demand.ts';
 import { greedyLazyOn, stateWithForced } from './greedy.ts';
@@ -63,8 +70,10 @@ export interface PlanResult {
   totalWeight: number;
   /** The same with requirements capped at what the allowed candidates can reach. */
   achievableWeight: number;
-  /** Whether every capped requirement unit is met. */
+  /** Whether every capped requirement unit is met, and every meetable accuracy bound. */
   demandMet: boolean;
+  /** The multilateration accuracy bounds, when the instance has any (accuracy.ts). */
+  accuracy?: AccuracyResult;
   method: string;
   unmeetable: Unmeetable[];
   /** Groups of points with identical requirements and covering candidates (the size the solvers worked on). */
@@ -94,7 +103,9 @@ export async function solvePlan(inst: PlanInstance, opts: PlanOptions = {}): Pro
     t = now;
   };
   progress(0, 'prepare');
-  const m = preparePlan(inst);
+  checkAccuracy(inst);
+  const m = preparePlan(withImpliedMlatFolds(inst));
+  const acc = prepareAccuracy(inst, m);
   const mode = m.budget === undefined ? 'cover' : 'budget';
   log.push(
     `prepare: ${m.pointCount} points → ${m.nGroups} groups with demand; ${m.allowedList.length} of ${m.nCand} ` +
@@ -195,6 +206,21 @@ export async function solvePlan(inst: PlanInstance, opts: PlanOptions = {}): Pro
   method += bound.method ? `, ${bound.method}` : '';
   const final = new CoverState(m);
   for (const c of chosen) final.add(c);
+  let accuracy: AccuracyResult | undefined;
+  if (acc) {
+    const before = final.cost();
+    accuracy = repairAccuracy(acc, final, m.budget, log);
+    chosen = final.chosenList();
+    if (accuracy.added.length > 0 || accuracy.dropped.length > 0) {
+      method += ', accuracy repair';
+      log.push(`accuracy: cost ${before} → ${final.cost()}`);
+    }
+    log.push(
+      `accuracy: ${accuracy.metPoints} of ${accuracy.points} bounded points met; ` +
+        `${accuracy.unmeetablePoints} beyond what the allowed receivers can reach`,
+    );
+  }
+  const accuracyMet = accuracy === undefined || accuracy.shortPoints === 0;
   const cost = final.cost();
   const { chosenCost, chosenStanding, existingValue } = shares(inst, m, chosen);
   const coveredWeight = final.coveredWeight();
@@ -230,7 +256,7 @@ export async function solvePlan(inst: PlanInstance, opts: PlanOptions = {}): Pro
     `result: cost ${cost}, lower bound ${lowerBound}, gap ${gapPct.toFixed(3)} %` +
       (bound.stoppedBy === 'safety time limit' ? `; ${SAFETY_LIMIT_NOTE}` : ''),
   );
-  if (m.budget !== undefined && final.deficit === 0) {
+  if (m.budget !== undefined && final.deficit === 0 && accuracyMet) {
     // The budget is not binding: every requirement is met within it. Spending the rest of the budget buys nothing,
     // so plan for least cost instead (with its lower bound), and keep the budget plan only if that costs more.
     log.push(`budget: every requirement met at cost ${cost} ≤ budget ${m.budget}; planning for least cost`);
@@ -262,7 +288,8 @@ export async function solvePlan(inst: PlanInstance, opts: PlanOptions = {}): Pro
     coveredWeight,
     totalWeight: m.totalWeight,
     achievableWeight: m.achievableWeight,
-    demandMet: final.deficit === 0,
+    demandMet: final.deficit === 0 && accuracyMet,
+    ...(accuracy ? { accuracy } : {}),
     method,
     unmeetable: m.unmeetable,
     groups: m.nGroups,
