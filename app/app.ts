@@ -15,6 +15,7 @@ import type {
   PlanSummary,
   StudySummary,
   TerrainSummary,
+  ProbeResult,
 } from '../worker/runtime/engine.ts';
 import type { TileSource } from '../worker/runtime/engine-worker.ts';
 import { clear, download, h } from './dom.ts';
@@ -40,7 +41,7 @@ import {
   type WorkState,
 } from './state.ts';
 import { LEGEND_WIDTH_PX, renderLegend } from './legend.ts';
-import { fmtAltitude, fmtLevel, fmtLonLat, fmtReadout, type ReadoutFigures } from './units.ts';
+import { fmtAltitude, fmtLevel, fmtLonLat, fmtReadout } from './units.ts';
 
 const DEMO_URL = 'data/demo-scenario.json';
 const SAVE_KEY = 'airshade-work';
@@ -700,8 +701,10 @@ export class App implements PanelHost {
     const { fl, kind, layers } = this.state.view;
     if (!this.coverage.flightLevels.includes(fl)) return;
     void this.engine.setProbeLevel(fl);
-    const want: [ImageLayerId, 'fold' | 'gap' | 'loss' | 'floor', boolean][] = [
+    const want: [ImageLayerId, 'fold' | 'gap' | 'loss' | 'floor' | 'accuracy', boolean][] = [
       ['fold', 'fold', layers.fold.on],
+      // Offered only when the network has multilateration receivers (the Coverage panel hides the toggle else).
+      ['accuracy', 'accuracy', layers.accuracy.on && this.coverage.mlat !== null],
       ['gap', 'gap', layers.gap.on],
       ['loss', 'loss', layers.loss.on && this.state.failed.length > 0],
       ['floor', 'floor', layers.floor.on],
@@ -712,6 +715,7 @@ export class App implements PanelHost {
         if (!on) return this.map.setImage(id, null);
         const img = await this.engine.layerImage(layer, fl, kind);
         if (id === 'floor') this.floorLegend = img.legend;
+        if (id === 'accuracy') this.accuracyLegend = img.legend;
         return this.map.setImage(id, img);
       });
     await Promise.all(jobs);
@@ -725,6 +729,8 @@ export class App implements PanelHost {
   }
 
   floorLegend: { value: number; color: string; label?: string }[] = [];
+  /** The accuracy layer's metre bands, as the engine drew them. */
+  accuracyLegend: { value: number; color: string; label?: string }[] = [];
   reliefLegend: { value: number; color: string }[] = [];
 
   private renderLegend(): void {
@@ -734,11 +740,13 @@ export class App implements PanelHost {
     renderLegend(this.el.legend, {
       units: u,
       layers,
+      levelTitle: this.coverage ? fmtLevel(fl, this.levelAltitudeM(fl), u) : null,
       foldTitle: this.coverage
         ? `${fmtLevel(fl, this.levelAltitudeM(fl), u)}, ${kind === 'any' ? 'any kind' : kind}`
         : null,
       anyFailed: this.state.failed.length > 0,
       floor: this.coverage ? this.floorLegend : [],
+      accuracy: this.coverage?.mlat ? this.accuracyLegend : [],
       relief: this.reliefLegend,
       compared: this.compare ? this.compare.names : null,
       planned: this.plan !== null,
@@ -899,7 +907,7 @@ export class App implements PanelHost {
   /** Where the cursor was last over the map: the read-out is taken again there when the results change. */
   private probeAt: [number, number] | null = null;
   /** What the engine gave there: written again in the new units when the units change. */
-  private probeLast: ReadoutFigures | null = null;
+  private probeLast: ProbeResult | null = null;
 
   /** Writes the read-out from the last probe, in the units now chosen. */
   showReadout(): void {
@@ -907,11 +915,13 @@ export class App implements PanelHost {
     if (!r || !this.state) return;
     const { fl } = this.state.view;
     const u = this.state.units;
-    this.el.readout.textContent = this.el.readout.title = fmtReadout(
-      r,
-      u,
-      this.coverage ? { level: fmtLevel(fl, this.levelAltitudeM(fl), u) } : null,
-    );
+    // The multilateration DRMS under the cursor where the accuracy layer of the level is drawn (metres always).
+    const drms = r.mlatDrmsM;
+    this.el.readout.textContent = this.el.readout.title =
+      fmtReadout(r, u, this.coverage ? { level: fmtLevel(fl, this.levelAltitudeM(fl), u) } : null) +
+      (this.coverage && drms !== undefined
+        ? ` · multilateration accuracy ${fmtDrms(drms)} (1σ horizontal)`
+        : '');
   }
 
   private probe(lon: number, lat: number): void {
@@ -958,6 +968,11 @@ export class App implements PanelHost {
       })),
     });
   }
+}
+
+/** A DRMS in metres for the read-out: whole metres, a decimal below 10 m. */
+function fmtDrms(m: number): string {
+  return `${m < 10 ? m.toFixed(1) : Math.round(m).toLocaleString('en')} m`;
 }
 
 /**

@@ -1,6 +1,7 @@
 /**
  * The map's legend: one block per layer on show — the sites' symbols, sites seeing each cell (with gaps and outage
- * losses), the network floor's steps, the layout differences, the relief — in a box at the map's lower right that
+ * losses), the network floor's steps, the multilateration accuracy's metre bands, the layout differences, the
+ * relief — in a box at the map's lower right that
  * folds away to its title bar. Colours come from worker/io/render.ts, the module that paints the rasters, so the
  * legend cannot drift from the map.
  */
@@ -24,8 +25,12 @@ export interface LegendInput {
   layers: Record<LayerId, LayerSetting>;
   /** The level shown and the count, as text ("FL030 (3,000 ft), any kind"); null before coverage. */
   foldTitle: string | null;
+  /** The level shown alone ("FL030 (3,000 ft)"); null before coverage. */
+  levelTitle?: string | null;
   anyFailed: boolean;
   floor: LegendStop[];
+  /** The multilateration accuracy's bands (worker/io/mlat-image.ts, through the engine); empty without receivers. */
+  accuracy: LegendStop[];
   relief: { value: number; color: string }[];
   /** Names of the compared layouts [A, B], when a comparison is on show. */
   compared: [string, string] | null;
@@ -103,6 +108,27 @@ export function renderLegend(el: HTMLElement, x: LegendInput): void {
               s.color,
               s.label ?? fmtAltitude(s.value, u),
               Number.isFinite(s.value) ? `floor at or below ${fmtAltitude(s.value, u)}` : undefined,
+            ),
+          ),
+        ),
+      ),
+    );
+  }
+  if (x.levelTitle && layers.accuracy.on && x.accuracy.length) {
+    blocks.push(
+      h(
+        'div',
+        { className: 'legend-block', id: 'legend-accuracy' },
+        h('strong', {}, `Multilateration accuracy at ${x.levelTitle}`),
+        h('div', { className: 'legend-note' }, '1σ horizontal error of the fix, m; no colour: no fix'),
+        h(
+          'div',
+          { className: 'swatches' },
+          ...x.accuracy.map((s) =>
+            swatch(
+              s.color,
+              s.label ?? `≤ ${s.value} m`,
+              Number.isFinite(s.value) ? `fix within ${s.value} m (1σ horizontal)` : undefined,
             ),
           ),
         ),

@@ -1,10 +1,11 @@
 /**
  * The map: MapLibre with a style of our own that loads nothing from outside (no tiles, glyphs, sprites or fonts):
- * raster images made by the engine worker (relief, network floor, folds, gaps, losses, layout differences) laid
- * under the map's transparent canvas, the airspace volumes, an azimuth line for the vertical coverage diagram, a drawing
- * preview, and the sites as markers whose labels are text nodes. Each marker is its symbol alone, centred on the site;
- * its label sits beside it, on whichever side is free of other labels and symbols (a label with no free side hides
- * until the pointer rests on its site). A "Move sites" switch on the map lets sites be dragged from any panel.
+ * raster images made by the engine worker (relief, network floor, folds, multilateration accuracy, gaps, losses,
+ * layout differences) laid under the map's transparent canvas, the airspace volumes, an azimuth line for the
+ * vertical coverage diagram, a drawing preview, and the sites as markers whose labels are text nodes. Each marker
+ * is its symbol alone, centred on the site; its label sits beside it, on whichever side is free of other labels and
+ * symbols (a label with no free side hides until the pointer rests on its site). A "Move sites" switch on the map
+ * lets sites be dragged from any panel.
  */
 import * as maplibregl from 'maplibre-gl';
 import type { GeoJSONSource, StyleSpecification } from 'maplibre-gl';
@@ -21,12 +22,14 @@ export interface MapImage {
   corners: [number, number][];
 }
 
-export type ImageLayerId = 'relief' | 'floor' | 'fold' | 'gap' | 'compare' | 'compare-lost' | 'loss';
+export type ImageLayerId =
+  'relief' | 'floor' | 'fold' | 'accuracy' | 'gap' | 'compare' | 'compare-lost' | 'loss';
 /** The raster canvases, bottom to top (MapLibre's canvas, with the vector layers, lies above them all). */
 const IMAGE_ORDER: readonly ImageLayerId[] = [
   'relief',
   'floor',
   'fold',
+  'accuracy',
   'gap',
   'compare',
   'compare-lost',
@@ -223,7 +226,7 @@ export class MapView {
       el.style.display = set.on ? '' : 'none';
       el.style.opacity = String(set.opacity);
     };
-    for (const id of ['relief', 'floor', 'fold', 'gap', 'loss'] as const) img(id, settings[id]);
+    for (const id of ['relief', 'floor', 'fold', 'accuracy', 'gap', 'loss'] as const) img(id, settings[id]);
     img('compare', settings.compare);
     img('compare-lost', settings.compare);
     vis('volumes-line', settings.volumes, 'line-opacity');

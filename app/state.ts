@@ -25,7 +25,8 @@ import { FOLD_KINDS, type FoldKind as SharedFoldKind } from '../shared/sensor-ki
 
 export type Units = 'aviation' | 'metric';
 export type FoldKind = SharedFoldKind;
-export type LayerId = 'relief' | 'floor' | 'fold' | 'gap' | 'loss' | 'compare' | 'volumes' | 'sites';
+export type LayerId =
+  'relief' | 'floor' | 'fold' | 'accuracy' | 'gap' | 'loss' | 'compare' | 'volumes' | 'sites';
 
 export interface SensorRef {
   siteId: string;
@@ -58,6 +59,8 @@ export const DEFAULT_LAYERS: Record<LayerId, LayerSetting> = {
   relief: { on: true, opacity: 1 },
   floor: { on: false, opacity: 0.75 },
   fold: { on: true, opacity: 0.6 },
+  /** The multilateration accuracy (offered only when the network has mlat receivers). */
+  accuracy: { on: false, opacity: 0.75 },
   gap: { on: true, opacity: 0.75 },
   loss: { on: true, opacity: 0.9 },
   compare: { on: true, opacity: 0.8 },

@@ -150,5 +150,11 @@ describe('multilateration accuracy from the commands, four receivers on a square
     expect(text).toMatch(/<section class="text" id="mlat">/);
     expect(text).toMatch(/<tr data-volume="square" data-level="100">/);
     expect(text).toMatch(/Multilateration accuracy/);
+    // The fold split names radars as radars, and gives the receivers their own column.
+    expect(text).toMatch(/Radar sites seeing: 0 \/ 1 \/ 2 \/ 3 \/ ≥4/);
+    expect(text).toMatch(/Multilateration receivers hearing: 0 \/ 1 \/ 2 \/ 3 \/ ≥4/);
+    expect(text).not.toMatch(/ADS-B stations hearing/);
+    // In the square all four receivers hear: the column's last bin (≥ 4) holds the whole area.
+    expect(text).toMatch(/<td class="n hist">100 \/ 0 \/ 0 \/ 0 \/ 0<\/td><td class="n hist">0 \/ 0 \/ 0 \/ 0 \/ 100<\/td>/);
   });
 });

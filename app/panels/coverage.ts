@@ -31,6 +31,7 @@ const LAYER_NAMES: [LayerId, string][] = [
   ['relief', 'Shaded relief'],
   ['floor', 'Network floor'],
   ['fold', 'Sites seeing each cell'],
+  ['accuracy', 'Multilateration accuracy (1σ horizontal, m)'],
   ['gap', 'Gaps in volumes'],
   ['loss', 'Outage losses'],
   ['compare', 'Layout differences'],
@@ -69,7 +70,9 @@ function viewControls(host: Host): HTMLElement {
     h('option', { value: 'mlat' }, 'multilateration receivers'),
   );
   kind.value = s.view.kind;
-  const layerRows = LAYER_NAMES.map(([id, label]) => {
+  // The accuracy layer only when the network computed has multilateration receivers.
+  const offered = LAYER_NAMES.filter(([id]) => id !== 'accuracy' || (host.coverage?.mlat ?? null) !== null);
+  const layerRows = offered.map(([id, label]) => {
     const set = s.view.layers[id];
     const on = h('input', { type: 'checkbox', checked: set.on, id: `layer-${id}` });
     const op = h('input', {

@@ -589,14 +589,17 @@ function statsTable(
   altitudeOf: (fl: number) => number | undefined,
   table: string,
 ): string {
+  // The radar histogram always; one per receiver kind the network has (its stats carry it only then).
+  const receiverKinds = (['adsb', 'mlat'] as const).filter((k) => stats.some((s) => s.foldHistogramKm2[k]));
+  const pctOf = (s: VolumeLevelStats, bins: readonly number[]) =>
+    bins.map((a) => (s.areaKm2 > 0 ? (100 * a) / s.areaKm2 : 0).toFixed(0)).join(' / ');
   const groups = volumes
     .map((v) => {
       const mine = stats.filter((s) => s.volumeId === v.id);
       if (mine.length === 0) return '';
-      const head = `<tr class="group"><th colspan="10">${esc(v.name)} <code>${esc(v.id)}</code> — ${esc(bandText(v))}; requires ${esc(requirementText(v.requiredFold))}</th></tr>`;
+      const head = `<tr class="group"><th colspan="${8 + receiverKinds.length}">${esc(v.name)} <code>${esc(v.id)}</code> — ${esc(bandText(v))}; requires ${esc(requirementText(v.requiredFold))}</th></tr>`;
       const body = mine
         .map((s) => {
-          const hist = s.foldHistogramKm2.any.map((a) => (s.areaKm2 > 0 ? (100 * a) / s.areaKm2 : 0));
           const short = s.areaKm2 - s.meetsRequirementKm2;
           const alt = altitudeOf(s.flightLevel);
           return (
@@ -607,14 +610,18 @@ function statsTable(
             num(s.meetsRequirementPct, 1) +
             num(s.meetsRequirementKm2, 0) +
             num(short, 0) +
-            `<td class="n hist">${hist.map((h) => h.toFixed(0)).join(' / ')}</td></tr>`
+            `<td class="n hist">${pctOf(s, s.foldHistogramKm2.any)}</td>` +
+            receiverKinds
+              .map((k) => `<td class="n hist">${pctOf(s, s.foldHistogramKm2[k] ?? [])}</td>`)
+              .join('') +
+            '</tr>'
           );
         })
         .join('\n');
       return `<tbody>${head}\n${body}</tbody>`;
     })
     .join('\n');
-  return `<table class="grid stats" data-table="${table}"><thead><tr><th>Level</th><th class="n">True alt. m</th><th class="n">Area km²</th><th class="n">Seen %</th><th class="n">Meets req. %</th><th class="n">Meets req. km²</th><th class="n">Short km²</th><th class="n">Sites seeing (any kind): 0 / 1 / 2 / 3 / ≥4, % of area</th></tr></thead>
+  return `<table class="grid stats" data-table="${table}"><thead><tr><th>Level</th><th class="n">True alt. m</th><th class="n">Area km²</th><th class="n">Seen %</th><th class="n">Meets req. %</th><th class="n">Meets req. km²</th><th class="n">Short km²</th><th class="n">Radar sites seeing: 0 / 1 / 2 / 3 / ≥4, % of area</th>${receiverKinds.map((k) => `<th class="n">${k === 'adsb' ? 'ADS-B stations' : 'Multilateration receivers'} hearing: 0 / 1 / 2 / 3 / ≥4, % of area</th>`).join('')}</tr></thead>
 ${groups}</table>`;
 }
 
@@ -624,7 +631,8 @@ function volumesSection(m: ReportModel, n: number): string {
 <h2>${n} Coverage per volume and level</h2>
 <p>For every volume at every computed level inside its band: its area, the share seen by at least one site of the
 network, the share and area meeting its required folds (all of its kinds at once), the area short of them, and
-how the area splits by the number of sites seeing it. Rows short of the requirement are marked ▸ before the level.</p>
+how the area splits by the number of radar sites seeing it (and, where the network has receivers, by the number
+of each kind's receiver sites hearing it). Rows short of the requirement are marked ▸ before the level.</p>
 ${statsTable(m.volumeStats, m.volumes, (fl) => alt.get(fl), 'volumes')}
 </section>`;
 }

@@ -263,6 +263,8 @@ export const engineApi = {
       return transfer({ ...m, legend: r.legend }, [m.bitmap]);
     }),
   probe: (lon: number, lat: number) => engine.probe(lon, lat),
+  /** The current network's multilateration receivers (the accuracy layer is offered only then), or null. */
+  mlatInfo: () => engine.mlatInfo(),
   setProbeLevel: (fl: number) => engine.setProbeLevel(fl),
   levelGeoJson: (fl: number) => guard(() => engine.levelGeoJson(fl)),
   compareGeoJson: (fl: number) => guard(() => engine.compareGeoJson(fl)),

@@ -57,6 +57,14 @@ import { featureCollection, stringifyGeoJson } from '../io/geojson.ts';
 import { readDemTile } from '../io/geotiff-read.ts';
 import { levelLayers, maskLayer } from '../io/layers.ts';
 import {
+  mlatFigures,
+  mlatLevelMap,
+  mlatNetwork,
+  type MlatNetwork,
+  type MlatStudy,
+} from '../io/mlat-figures.ts';
+import { mlatAccuracyImage, mlatLegend } from '../io/mlat-image.ts';
+import {
   foldImage,
   foldLegend,
   floorLevelImage,
@@ -70,6 +78,7 @@ import {
   type RasterImage,
 } from '../io/render.ts';
 import {
+  accuracyDemand,
   analysisGrid,
   buildDemand,
   candidate,
@@ -160,6 +169,17 @@ export interface CoverageSummary {
   /** Warnings of the sensor models, as the CLI prints them. */
   warnings: string[];
   timingsMs: { footprints: number; network: number; total: number };
+  /** The network's multilateration receivers (the accuracy layer is offered only then); null without any. */
+  mlat: MlatInfo | null;
+}
+
+/** What the network's multilateration fix rests on (worker/io/mlat-figures.ts). */
+export interface MlatInfo {
+  /** Receivers of kind `mlat` in the network (failed ones included). */
+  receivers: number;
+  /** Receivers a fix needs (3 with the altitude reported, else 4). */
+  minReceivers: number;
+  altitudeKnown: boolean;
 }
 
 export interface OutageView {
@@ -215,6 +235,11 @@ export interface PlanSummary {
     achievable: number;
     points: number;
   }[];
+  /**
+   * When volumes bound the multilateration accuracy: the share of the bounded volume-levels (by area weight) the
+   * plan meets, the share no allowed receivers can meet, and the receivers the plan added for accuracy alone.
+   */
+  mlatAccuracy?: { metPct: number; unmeetablePct: number; addedForAccuracy: SensorRef[] };
   log: string[];
   stageMs: Record<string, number>;
 }
@@ -241,9 +266,14 @@ export interface ProbeResult {
   /** The floor map's step it is drawn in: the lowest computed level at or above it ("FL050"), or "above FL460". */
   floorStep?: string | null;
   fold: Record<FoldKind, number> | null;
+  /**
+   * The 1σ horizontal DRMS of the multilateration fix at the level shown (m), where the accuracy map of that level
+   * has been drawn (the layer on) and gives a fix; absent otherwise.
+   */
+  mlatDrmsM?: number;
 }
 
-export type ImageLayer = 'fold' | 'gap' | 'loss' | 'floor' | 'gained' | 'lost';
+export type ImageLayer = 'fold' | 'gap' | 'loss' | 'floor' | 'accuracy' | 'gained' | 'lost';
 
 export interface LayerImage {
   image: RasterImage;
@@ -265,6 +295,10 @@ interface Current {
   lostServed: Map<string, Uint8Array> | null;
   /** The network floor (m AMSL per cell, NaN where unseen) of the sites up now, once computed. */
   floor: Float32Array | null;
+  /** The multilateration receivers of the network (every site up); null without any. */
+  mlat: MlatNetwork | null;
+  /** Per level, the accuracy map (1σ horizontal DRMS, m) of the receivers up now, once computed. */
+  accuracy: (Float32Array | null)[];
 }
 
 /**
@@ -705,6 +739,7 @@ export class Engine {
       volumes,
       conventions: studyConventions(study, fls, this.current!.altitudes),
       warnings: modelWarnings(study),
+      mlat: this.mlatInfo(),
       timingsMs: {
         footprints: Math.round(t1 - t0),
         network: Math.round(t2 - t1),
@@ -739,9 +774,23 @@ export class Engine {
       lost: fls.map(() => new Uint8Array(0)),
       lostServed: null,
       floor: null,
+      mlat: mlatNetwork(
+        mlatStudyOf(study),
+        sensors.map((r, i) => this.candidateOf(r, `sensors[${i}]`)),
+        fps,
+      ),
+      accuracy: fls.map(() => null),
     };
     const keep = [...(failed ?? [])].filter((id) => network.siteIds().includes(id));
     if (keep.length > 0) this.setFailed(keep);
+  }
+
+  /** The current network's multilateration receivers (null without a network or without any). */
+  mlatInfo(): MlatInfo | null {
+    const m = this.current?.mlat;
+    return m
+      ? { receivers: m.receivers.length, minReceivers: m.minReceivers, altitudeKnown: m.altitudeKnown }
+      : null;
   }
 
   private needCurrent(): Current {
@@ -767,6 +816,7 @@ export class Engine {
     cur.lost = cur.flightLevels.map(() => new Uint8Array(0));
     cur.lostServed = null;
     cur.floor = null;
+    cur.accuracy = cur.flightLevels.map(() => null);
     return { failed: [...want], ms: performance.now() - t0 };
   }
 
@@ -910,6 +960,12 @@ export class Engine {
         };
       }),
       points: demand.instancePoints,
+      accuracy: accuracyDemand(
+        study,
+        demand,
+        all.map((r) => candidate(study, r.siteId, r.typeId, 'plan')),
+        altitudes,
+      ),
       forced,
       // The kept sensors on sites marked existing stand already: nothing new is spent on them.
       standing: forced.filter((c) => s.sites[siteIndex.get(all[c].siteId)!].properties.existing),
@@ -954,6 +1010,15 @@ export class Engine {
         cost: result.chosenCost[j],
         existingSensor: result.chosenStanding[j],
       })),
+      ...(result.accuracy
+        ? {
+            mlatAccuracy: {
+              metPct: pctOf(result.accuracy.metWeight, result.accuracy.weight),
+              unmeetablePct: pctOf(result.accuracy.unmeetableWeight, result.accuracy.weight),
+              addedForAccuracy: result.accuracy.added.map((i) => all[i]),
+            },
+          }
+        : {}),
       volumes: volumeStats(
         network,
         s.volumes,
@@ -1013,6 +1078,14 @@ export class Engine {
       );
     const current = plan && plan.scenarioKey === key ? plan : null;
     const siteCount = new Set(cur.sensors.map((r) => r.siteId)).size;
+    // The accuracy section, with every site up, as `airshade report` computes it (worker/io/mlat-figures.ts).
+    const accuracy = mlatFigures(
+      mlatStudyOf(study),
+      candidates,
+      footprints as Footprint[],
+      cur.flightLevels,
+      levelAltitudesM(s, cur.flightLevels),
+    );
     const { model } = buildReportModel({
       study,
       network,
@@ -1023,6 +1096,16 @@ export class Engine {
       warnings,
       provenance: options.provenance,
       ...(current ? { plan: reportPlan(current.summary, current.budget) } : {}),
+      ...(accuracy
+        ? {
+            mlat: {
+              receivers: accuracy.receiverSites.length,
+              minReceivers: accuracy.minReceivers,
+              altitudeKnown: accuracy.altitudeKnown,
+              rows: accuracy.volumes,
+            },
+          }
+        : {}),
       caution: options.caution,
       paper: options.paper ?? 'A4',
       onStage: (f, stage) => progress?.(0.1 + 0.8 * f, stage),
@@ -1123,6 +1206,16 @@ export class Engine {
       return { image: foldImage(grid, cur.network.foldOf(kind, f)), legend: foldLegend() };
     if (layer === 'loss') return { image: maskImage(grid, this.lostAt(f), LOSS_COLOR), legend: [] };
     if (layer === 'gap') return { image: maskImage(grid, this.gapMask(f), GAP_COLOR), legend: [] };
+    if (layer === 'accuracy') {
+      // Without receivers (the network changed under the app's request) nothing is drawn and nothing explained.
+      const drms = this.accuracyOf(cur, f);
+      return drms
+        ? { image: mlatAccuracyImage(grid, drms), legend: mlatLegend() }
+        : {
+            image: mlatAccuracyImage(grid, new Float32Array(grid.width * grid.height).fill(NaN)),
+            legend: [],
+          };
+    }
     // The network floor in steps of the computed levels (the lowest level at or above each cell's floor).
     const alts = cur.network.altitudesM;
     const r = floorLevelImage(
@@ -1136,6 +1229,25 @@ export class Engine {
   /** The network floor of the sites up now (kept until the network or its failures change). */
   private floorOf(cur: Current): Float32Array {
     return (cur.floor ??= cur.network.networkFloor());
+  }
+
+  /**
+   * The accuracy map of level index `f` from the receivers up now (failed sites' receivers left out), kept until
+   * the network or its failures change; null when the network has no multilateration receiver.
+   */
+  private accuracyOf(cur: Current, f: number): Float32Array | null {
+    const net = cur.mlat;
+    if (!net) return null;
+    const cached = cur.accuracy[f];
+    if (cached) return cached;
+    const up = net.receivers.filter((_, i) => !cur.failed.has(net.receiverSites[i]));
+    const grid = this.needStudy().grid;
+    const drms =
+      up.length > 0
+        ? mlatLevelMap(grid, { ...net, receivers: up }, cur.altitudes[f])
+        : new Float32Array(grid.width * grid.height).fill(NaN);
+    cur.accuracy[f] = drms;
+    return drms;
   }
 
   private gapMask(f: number): Uint8Array {
@@ -1185,6 +1297,9 @@ export class Engine {
     out.fold = Object.fromEntries(
       KINDS.map((k) => [k, cur.flightLevels.length ? cur.network.foldOf(k, this.probeLevel(cur))[i] : 0]),
     ) as Record<FoldKind, number>;
+    // The DRMS only where the accuracy map of the level is drawn already: a read-out never starts a map.
+    const d = cur.accuracy[this.probeLevel(cur)]?.[i];
+    if (d !== undefined && d === d) out.mlatDrmsM = d;
     return out;
   }
 
@@ -1289,6 +1404,17 @@ export class Engine {
   }
 }
 
+/** The study as the multilateration figures take it (worker/io/mlat-figures.ts). */
+function mlatStudyOf(study: Study): MlatStudy {
+  return {
+    grid: study.grid,
+    scenario: study.loaded.scenario,
+    volumeMasks: study.volumeMasks,
+    ground: study.ground,
+    groundAt: (lon, lat) => study.terrain.sampleLonLat(lon, lat),
+  };
+}
+
 /**
  * A job's promise, or Cancelled as soon as its check throws (polled every 100 ms): a solver running elsewhere
  * is left to finish on its own and its answer dropped.
@@ -1314,6 +1440,11 @@ function untilCancelled<T>(work: Promise<T>, check: () => void): Promise<T> {
       },
     );
   });
+}
+
+/** 100·part/whole, 0 for an empty whole. */
+function pctOf(part: number, whole: number): number {
+  return whole > 0 ? (100 * part) / whole : 0;
 }
 
 /** A plan of the app's Plan panel as the report shows it (the fields of plan.json it names). */

@@ -1,0 +1,301 @@
+/**
+ * The multilateration accuracy in the app's engine (issue 14): the accuracy layer, its legend, the cursor
+ * read-out and the report's section, driven directly in Node on an invented fixture over the open South Atlantic
+ * (test/support/scenario-fixture.ts): four `mlat` receivers on buoys at the corners of a 40 km square on a flat
+ * sea, the altitude reported (3 receivers make a fix), each hearing out to 32 NM — so the far corners of the
+ * 2.5° × 2° study area get no fix at all.
+ *
+ * Check values:
+ * - at the square's centre the DRMS is c·σ/cos α (test/REFERENCES.md, "multilateration, receivers evenly spaced on
+ *   a circle": four corners of a square, target above its centre [calc] from Torrieri, IEEE Trans. AES-20(2), 1984
+ *   [memory]); within 10 %, issue 14's tolerance, as test/mlat-outputs.test.ts checks the CLI's raster;
+ * - with one receiver down the centre loses a quarter of its normal matrix, so its DRMS grows (the same model);
+ * - the report's section carries the very figures `airshade report` prints for the same study (the two share
+ *   worker/io/mlat-figures.ts; this checks the engine's wiring).
+ */
+import { readFileSync } from 'node:fs';
+import { join } from 'node:path';
+import { afterAll, beforeAll, describe, expect, it } from 'vitest';
+import { DEFAULT_LAYERS, docOf, restoreState, stateFromScenario, type ScenarioDoc } from '../app/state.ts';
+import type { Scenario } from '../shared/scenario.ts';
+import { loadScenario } from '../worker/cli/scenario.ts';
+import { MLAT_BAND_COLORS, mlatLegend } from '../worker/io/mlat-image.ts';
+import type { Provenance } from '../worker/io/provenance.ts';
+import { FOLD_COLORS, mercatorRowLatitudes } from '../worker/io/render.ts';
+import { Engine, type SensorRef } from '../worker/runtime/engine.ts';
+import { runCli } from './support/run-cli.ts';
+import {
+  ring,
+  writeScenarioFixture,
+  type Fixture,
+  type FixtureSensorType,
+} from './support/scenario-fixture.ts';
+
+const C = 299_792_458;
+const LAT0 = -41;
+const LON0 = -30;
+/** Half a side of the 40 km square in degrees (sphere of 6 371 km, [calc]). */
+const HALF_LAT = 20_000 / ((6_371_000 * Math.PI) / 180);
+const HALF_LON = HALF_LAT / Math.cos((LAT0 * Math.PI) / 180);
+
+const catalog = JSON.parse(
+  readFileSync(join(import.meta.dirname, '..', 'data', 'catalog', 'receiver-types.json'), 'utf8'),
+) as FixtureSensorType[];
+/** The catalog's receiver, hearing only out to 32 NM here (so that part of the study area has no fix). */
+const MLAT: FixtureSensorType = {
+  ...catalog.find((t) => t.kind === 'mlat')!,
+  id: 'rx-mlat-short',
+  instrumentedRangeNm: 32,
+};
+
+/** The catalog's ADS-B receiver: a receiver, but no multilateration. */
+const ADSB: FixtureSensorType = catalog.find((t) => t.kind === 'adsb')!;
+
+const PROVENANCE = {
+  tool: 'airshade',
+  version: 'test',
+  command: 'app report',
+  options: {},
+  terrain: [],
+  kFactor: 4 / 3,
+} as unknown as Provenance;
+
+/**
+ * CIELAB of an sRGB colour (D65 white): the sRGB transfer function and primaries of IEC 61966-2-1 [pub], then
+ * L*a*b* of CIE 15:2004 (Colorimetry) [pub] (as test/render.test.ts); ΔE*ab (CIE 1976) is the Euclidean distance.
+ */
+function lab(rgb: readonly number[]): [number, number, number] {
+  const lin = rgb.map((v) => {
+    const c = v / 255;
+    return c <= 0.04045 ? c / 12.92 : ((c + 0.055) / 1.055) ** 2.4;
+  });
+  const X = 0.4124 * lin[0] + 0.3576 * lin[1] + 0.1805 * lin[2];
+  const Y = 0.2126 * lin[0] + 0.7152 * lin[1] + 0.0722 * lin[2];
+  const Z = 0.0193 * lin[0] + 0.1192 * lin[1] + 0.9505 * lin[2];
+  const f = (t: number) => (t > (6 / 29) ** 3 ? Math.cbrt(t) : t / (3 * (6 / 29) ** 2) + 4 / 29);
+  const fx = f(X / 0.95047);
+  const fy = f(Y / 1.0);
+  const fz = f(Z / 1.08883);
+  return [116 * fy - 16, 500 * (fx - fy), 200 * (fy - fz)];
+}
+const deltaE = (a: readonly number[], b: readonly number[]) => {
+  const [l1, a1, b1] = lab(a);
+  const [l2, a2, b2] = lab(b);
+  return Math.hypot(l1 - l2, a1 - a2, b1 - b2);
+};
+
+const tableOf = (html: string, name: string) => {
+  const m = html.match(new RegExp(`<table class="grid" data-table="${name}">[\\s\\S]*?</table>`));
+  return m ? m[0] : null;
+};
+
+describe('multilateration accuracy in the engine, four receivers on a square over a flat sea', () => {
+  let fx: Fixture;
+  let doc: ScenarioDoc;
+  let scenario: Scenario;
+  let engine: Engine;
+  let sensors: SensorRef[];
+
+  beforeAll(async () => {
+    fx = writeScenarioFixture({
+      dem: {
+        west: -31.25,
+        north: -40,
+        widthCells: 300,
+        heightCells: 240,
+        pixelDeg: 30 / 3600,
+        data: new Float32Array(300 * 240),
+      },
+      cellArcSec: 60,
+      flightLevels: [50, 100],
+      sensorTypes: [MLAT, ADSB],
+      sites: [
+        ['ne', LON0 + HALF_LON, LAT0 + HALF_LAT],
+        ['nw', LON0 - HALF_LON, LAT0 + HALF_LAT],
+        ['sw', LON0 - HALF_LON, LAT0 - HALF_LAT],
+        ['se', LON0 + HALF_LON, LAT0 - HALF_LAT],
+      ].map(([id, lon, lat]) => ({
+        id: `buoy-${id}`,
+        name: `Buoy ${String(id).toUpperCase()}`,
+        lon: lon as number,
+        lat: lat as number,
+        mastHeightM: 20,
+        siteCost: 1,
+        allowedTypes: id === 'ne' ? [MLAT.id, ADSB.id] : [MLAT.id],
+      })),
+      volumes: [
+        {
+          id: 'square',
+          name: 'The square',
+          polygon: {
+            type: 'Polygon',
+            coordinates: [ring(LON0 - HALF_LON, LAT0 - HALF_LAT, LON0 + HALF_LON, LAT0 + HALF_LAT)],
+          },
+          flMin: 50,
+          flMax: 100,
+          requiredFold: { mlat: 3 },
+          requiredMlatAccuracyM: 10,
+        },
+        {
+          id: 'wide',
+          name: 'The wide box',
+          polygon: { type: 'Polygon', coordinates: [ring(-31, -41.8, -29, -40.2)] },
+          flMin: 100,
+          flMax: 100,
+          requiredFold: { mlat: 3 },
+          requiredMlatAccuracyM: 50,
+        },
+      ],
+      layouts: [],
+      extra: { multipath: 'off', mlatAltitudeAided: true },
+    });
+    scenario = (await loadScenario(fx.scenarioPath)).scenario;
+    doc = docOf(scenario);
+    sensors = scenario.sites.map((f) => ({ siteId: f.properties.id, typeId: MLAT.id }));
+    sensors.push({ siteId: 'buoy-ne', typeId: ADSB.id });
+    engine = new Engine();
+    const b = readFileSync(fx.demPath);
+    await engine.loadTiles(
+      [
+        {
+          name: 'terrain.tif',
+          buffer: b.buffer.slice(b.byteOffset, b.byteOffset + b.byteLength) as ArrayBuffer,
+        },
+      ],
+      true,
+      { input: doc, display: 'fixture' },
+    );
+  });
+  afterAll(() => fx?.cleanup());
+
+  it('says the network has multilateration receivers', async () => {
+    expect(engine.mlatInfo()).toBeNull(); // no network yet
+    const c = await engine.coverage(sensors, undefined);
+    expect(c.mlat).toEqual({ receivers: 4, minReceivers: 3, altitudeKnown: true });
+    expect(engine.mlatInfo()).toEqual(c.mlat);
+  });
+
+  it('draws the accuracy: coloured by band inside the square, transparent where no fix; legend in metre bands', () => {
+    // Before the layer is drawn the read-out names no DRMS (a read-out never starts a map).
+    expect(engine.probe(LON0, LAT0).mlatDrmsM).toBeUndefined();
+    engine.setProbeLevel(100);
+    const { image, legend } = engine.layerImage('accuracy', 100);
+    expect(legend).toEqual(mlatLegend());
+    expect(legend.map((s) => s.label)).toEqual([
+      '≤ 50 m',
+      '50–100 m',
+      '100–200 m',
+      '200–500 m',
+      '500–1,000 m',
+      '> 1,000 m',
+    ]);
+    const [west, north] = image.corners[0];
+    const [east, south] = image.corners[2];
+    const lats = mercatorRowLatitudes(north, south, image.height);
+    const px = (lon: number, lat: number) => {
+      const col = Math.floor(((lon - west) / (east - west)) * image.width);
+      let row = 0;
+      for (let r = 0; r < lats.length; r++) if (Math.abs(lats[r] - lat) < Math.abs(lats[row] - lat)) row = r;
+      return Array.from(
+        image.rgba.subarray((row * image.width + col) * 4, (row * image.width + col) * 4 + 4),
+      );
+    };
+    // The centre: c·σ/cos α (REFERENCES.md, four corners of a square) within 10 %, in the tightest band's colour.
+    const drms = engine.probe(LON0, LAT0).mlatDrmsM!;
+    const sigma = (MLAT.timingErrorNs as number) * 1e-9;
+    const horizontal = Math.SQRT2 * 20_000;
+    const cosA = horizontal / Math.hypot(horizontal, 3048 - 20);
+    expect(Math.abs(drms - (C * sigma) / cosA) / ((C * sigma) / cosA)).toBeLessThan(0.1);
+    expect(px(LON0, LAT0)).toEqual([...MLAT_BAND_COLORS[0], 255]);
+    // Every cell inside the square has a fix; the study area's corners, 120 km and more from every buoy, none.
+    for (const [dx, dy] of [
+      [-0.8, -0.8],
+      [0.8, 0.8],
+      [-0.8, 0.8],
+      [0.8, -0.8],
+      [0, 0.5],
+    ])
+      expect(px(LON0 + dx * HALF_LON, LAT0 + dy * HALF_LAT)[3], `${dx}, ${dy}`).toBe(255);
+    for (const [lon, lat] of [
+      [-31.2, -40.05],
+      [-28.8, -40.05],
+      [-31.2, -41.95],
+      [-28.8, -41.95],
+    ]) {
+      expect(px(lon, lat), `${lon}, ${lat}`).toEqual([0, 0, 0, 0]);
+      expect(engine.probe(lon, lat).mlatDrmsM).toBeUndefined();
+    }
+    // The level shown only: FL050's map is another (not drawn yet).
+    engine.setProbeLevel(50);
+    expect(engine.probe(LON0, LAT0).mlatDrmsM).toBeUndefined();
+    engine.setProbeLevel(100);
+  });
+
+  // Our own design thresholds (worker/io/mlat-image.ts): bands told apart from one another, and from the folds the
+  // layer is drawn over. For scale, a ΔE*ab of about 2.3 is just noticeable (Sharma & Trussell, IEEE TIP 6(7), 1997
+  // [memory], as test/render.test.ts cites it).
+  it('keeps the bands apart from one another and from the fold colours', () => {
+    const bands = MLAT_BAND_COLORS;
+    for (const [i, a] of bands.entries()) {
+      for (const c of bands.slice(i + 1)) expect(deltaE(a, c)).toBeGreaterThanOrEqual(15);
+      for (const c of FOLD_COLORS) expect(deltaE(a, c)).toBeGreaterThanOrEqual(25);
+    }
+    // Tightest first: each band darker (lower L*) than the next, so the ramp reads one way.
+    for (let i = 1; i < bands.length; i++) expect(lab(bands[i])[0]).toBeGreaterThan(lab(bands[i - 1])[0]);
+  });
+
+  it('leaves a failed receiver out until it comes back', () => {
+    engine.setProbeLevel(100);
+    engine.layerImage('accuracy', 100);
+    const all = engine.probe(LON0, LAT0).mlatDrmsM!;
+    engine.setFailed(['buoy-ne']);
+    expect(engine.probe(LON0, LAT0).mlatDrmsM).toBeUndefined(); // the map of four is dropped
+    engine.layerImage('accuracy', 100);
+    const three = engine.probe(LON0, LAT0).mlatDrmsM!;
+    expect(three).toBeGreaterThan(all * 1.05);
+    engine.setFailed([]);
+    engine.layerImage('accuracy', 100);
+    expect(engine.probe(LON0, LAT0).mlatDrmsM).toBe(all);
+  });
+
+  it('the report has the accuracy section with the figures `airshade report` gives for the study', async () => {
+    const html = engine.report({ provenance: PROVENANCE, caution: 'test caution' });
+    expect(html).toMatch(/<section class="text" id="mlat">/);
+    const mine = tableOf(html, 'mlat');
+    expect(mine).not.toBeNull();
+    expect(mine).toMatch(/<tr data-volume="square" data-level="50">/);
+    expect(mine).toMatch(/<tr data-volume="wide" data-level="100">/);
+    const out = join(fx.dir, 'report.html');
+    const r = await runCli('report', fx.scenarioPath, '--out', out, '--threads', '0', '--quiet');
+    expect(r.code, r.err).toBe(0);
+    const cli = readFileSync(out, 'utf8');
+    expect(mine).toBe(tableOf(cli, 'mlat'));
+    // The section's words (receivers, what a fix needs) too.
+    const section = (t: string) => t.match(/<section class="text" id="mlat">[\s\S]*?<\/section>/)![0];
+    expect(section(html)).toBe(section(cli));
+  });
+
+  it('offers nothing for a network without multilateration receivers', async () => {
+    const c = await engine.coverage([{ siteId: 'buoy-ne', typeId: ADSB.id }], undefined);
+    expect(c.mlat).toBeNull();
+    expect(engine.mlatInfo()).toBeNull();
+    const { image, legend } = engine.layerImage('accuracy', 100);
+    expect(legend).toEqual([]);
+    expect(image.rgba.every((v) => v === 0)).toBe(true);
+    expect(engine.probe(LON0, LAT0).mlatDrmsM).toBeUndefined();
+    expect(engine.report({ provenance: PROVENANCE, caution: 'test caution' })).not.toMatch(/id="mlat"/);
+  });
+
+  it('a workspace saved before the accuracy layer existed restores with it at its default', () => {
+    const state = stateFromScenario(scenario, 'fixture');
+    state.view.layers.floor = { on: true, opacity: 0.4 };
+    const saved = JSON.parse(JSON.stringify(state)) as { view: { layers: Record<string, unknown> } };
+    delete saved.view.layers.accuracy;
+    const back = restoreState(saved);
+    expect(back.view.layers.accuracy).toEqual(DEFAULT_LAYERS.accuracy);
+    expect(back.view.layers.floor).toEqual({ on: true, opacity: 0.4 });
+    // A saved accuracy setting is kept.
+    saved.view.layers.accuracy = { on: true, opacity: 0.5 };
+    expect(restoreState(saved).view.layers.accuracy).toEqual({ on: true, opacity: 0.5 });
+  });
+});
