@@ -286,6 +286,34 @@ describe('multilateration accuracy in the engine, four receivers on a square ove
     expect(engine.report({ provenance: PROVENANCE, caution: 'test caution' })).not.toMatch(/id="mlat"/);
   });
 
+  it('the app’s plan meets the accuracy bounds as `airshade plan` does, with the same figures', async () => {
+    const p = await engine.plan({ keep: [], excludedSites: [], budget: null, timeLimitMs: 8000 });
+    expect(p.mlatAccuracy).toBeDefined();
+    const a = p.mlatAccuracy!;
+    // Every bounded volume-level is met or beyond what all four buoys reach (the wide box's far parts).
+    expect(a.metPct + a.unmeetablePct).toBeCloseTo(100, 9);
+    expect(a.unmeetablePct).toBeGreaterThan(0);
+    expect(p.demandMet).toBe(true);
+    const out = join(fx.dir, 'plan');
+    const r = await runCli(
+      'plan',
+      fx.scenarioPath,
+      '--out',
+      out,
+      '--budget',
+      'none',
+      '--threads',
+      '0',
+      '--quiet',
+    );
+    expect(r.code, r.err).toBe(0);
+    const cli = JSON.parse(readFileSync(join(out, 'plan.json'), 'utf8'));
+    expect(a.metPct).toBeCloseTo((100 * cli.mlatAccuracy.metWeight) / cli.mlatAccuracy.boundedWeight, 9);
+    expect(p.entries.map((e) => `${e.siteId}/${e.typeId}`)).toEqual(
+      cli.entries.map((e: SensorRef) => `${e.siteId}/${e.typeId}`),
+    );
+  });
+
   it('a workspace saved before the accuracy layer existed restores with it at its default', () => {
     const state = stateFromScenario(scenario, 'fixture');
     state.view.layers.floor = { on: true, opacity: 0.4 };
