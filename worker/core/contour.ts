@@ -34,7 +34,8 @@
  * Orientation (RFC 7946 §3.1.6): outer rings counter-clockwise, holes clockwise in lon/lat.
  * Areas: on the sphere of turf's earthRadius (6 371 008.8 m, the IUGG mean radius), as @turf/area does.
  */
-import { area as turfArea, earthRadius } from '@turf/turf';
+import { area as turfArea } from '@turf/area';
+import { earthRadius } from '@turf/helpers';
 import { InputError } from '../../shared/errors.ts';
 import type { GridGeo } from './grid.ts';
 

@@ -32,7 +32,10 @@
  * position and the DEM's extent.
  */
 import { isRadarKind, SENSOR_KINDS, type SensorKind } from '../../shared/sensor-kinds.ts';
-import { area, featureCollection, intersect, polygon as turfPolygon, union } from '@turf/turf';
+import { area } from '@turf/area';
+import { featureCollection, polygon as turfPolygon } from '@turf/helpers';
+import { intersect } from '@turf/intersect';
+import { union } from '@turf/union';
 import type { MultiPolygon, Polygon } from 'geojson';
 import { CAUTION } from '../../shared/caution.ts';
 import { InputError } from '../../shared/errors.ts';
