@@ -44,6 +44,8 @@ import { LEGEND_WIDTH_PX, renderLegend } from './legend.ts';
 import { fmtAltitude, fmtLevel, fmtLonLat, fmtReadout } from './units.ts';
 
 const DEMO_URL = 'data/demo-scenario.json';
+/** The demo's variant with ADS-B and multilateration receivers round its two terminal areas (issue 14). */
+const DEMO_RECEIVERS_URL = 'data/demo-receivers-scenario.json';
 const SAVE_KEY = 'airshade-work';
 
 /** Figures the end-to-end test reads (and a curious user can, from the console). */
@@ -392,28 +394,32 @@ export class App implements PanelHost {
       this.say('info', restoredLines(restored, new Date(), 'done'));
   }
 
-  async loadDemo(): Promise<void> {
-    await this.job('Loading the demo', async (progress) => {
-      progress(0.05, 'reading the scenario');
-      const { scenario, tileUrls } = await fetchScenario(DEMO_URL);
-      progress(0.2, `reading ${tileUrls.length} terrain tiles`);
-      const state = stateFromScenario(scenario, 'demo-scenario.json', this.state?.units ?? 'aviation');
-      const sources: TileSource[] = tileUrls;
-      // Per tile read and decoded, from 20 % to 90 % of the bar.
-      const r = await this.engine.loadTiles(
-        sources,
-        true,
-        { input: state.doc, display: state.source },
-        undefined,
-        progressProxy((f, stage) => progress(0.2 + 0.7 * f, stage)),
-      );
-      this.adoptLoaded(state, r.terrain, r.study!);
-      this.save();
-      progress(0.92, 'drawing the relief');
-      const t = performance.now();
-      await this.afterTerrain();
-      this.metrics.demoMs = { ...r.timingsMs, relief: Math.round(performance.now() - t) };
-    });
+  async loadDemo(variant: 'radars' | 'receivers' = 'radars'): Promise<void> {
+    const url = variant === 'receivers' ? DEMO_RECEIVERS_URL : DEMO_URL;
+    await this.job(
+      variant === 'receivers' ? 'Loading the demo with receivers' : 'Loading the demo',
+      async (progress) => {
+        progress(0.05, 'reading the scenario');
+        const { scenario, tileUrls } = await fetchScenario(url);
+        progress(0.2, `reading ${tileUrls.length} terrain tiles`);
+        const state = stateFromScenario(scenario, url.split('/').pop()!, this.state?.units ?? 'aviation');
+        const sources: TileSource[] = tileUrls;
+        // Per tile read and decoded, from 20 % to 90 % of the bar.
+        const r = await this.engine.loadTiles(
+          sources,
+          true,
+          { input: state.doc, display: state.source },
+          undefined,
+          progressProxy((f, stage) => progress(0.2 + 0.7 * f, stage)),
+        );
+        this.adoptLoaded(state, r.terrain, r.study!);
+        this.save();
+        progress(0.92, 'drawing the relief');
+        const t = performance.now();
+        await this.afterTerrain();
+        this.metrics.demoMs = { ...r.timingsMs, relief: Math.round(performance.now() - t) };
+      },
+    );
   }
 
   adoptLoaded(state: WorkState, terrain: TerrainSummary, study: StudySummary): void {

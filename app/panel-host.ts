@@ -81,7 +81,8 @@ export interface PanelHost {
   adoptLoaded(state: WorkState, terrain: TerrainSummary, study: StudySummary): void;
   save(): void;
   afterTerrain(): Promise<void>;
-  loadDemo(): Promise<void>;
+  /** The demo (radars), or its variant with ADS-B and multilateration receivers. */
+  loadDemo(variant?: 'radars' | 'receivers'): Promise<void>;
 
   // ---- redraws
   /** Rebuilds the panel on show (and the legend, title and About). */

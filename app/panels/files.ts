@@ -137,6 +137,21 @@ export function filesPanel(host: Host): HTMLElement {
         },
         'Start again from the demo',
       ),
+      h(
+        'button',
+        {
+          id: 'load-demo-receivers',
+          onclick: () => {
+            if (
+              confirm(
+                'Replace your work with the demo with receivers? Save the scenario file first to keep it.',
+              )
+            )
+              void host.loadDemo('receivers');
+          },
+        },
+        'Start from the demo with receivers',
+      ),
     ),
     section(
       'Export',
