@@ -5,6 +5,7 @@
  * tile is read, and the study on the tiles the engine decoded. Unit-tested in test/app-state.test.ts.
  */
 import catalog from '../data/catalog/sensor-types.json';
+import { SCENARIO_DEFAULTS, type Scenario } from '../shared/scenario.ts';
 import { formatFl } from '../shared/units.ts';
 import { WGS84_GEOGRAPHIC } from '../worker/core/grid.ts';
 import type { TerrainSummary } from '../worker/runtime/engine.ts';
@@ -37,8 +38,10 @@ export function newStudyDefaultText(): string[] {
     `Target: ${d.targetRcsM2} m², Swerling 1, low-power transponder (change it in Coverage).`,
     `Analysis out to ${d.maxRangeKm} km from each site; sea lobing where the reflection point lies over sea.`,
     `Study area: the tiles’ extent; analysis cell: the finest of 1, 2, 3, 5 … 3600″ no finer than the DEM’s pixel that keeps the grid within ${MAX_GRID_CELLS.toLocaleString('en-US')} cells.`,
-    'Without a volumes file: one volume over the study area, from the lowest to the highest level, needing one sensor of each kind the sites may carry.',
-    `Without a sensor-types file: the default catalog (${(catalog as unknown[]).length} generic types).`,
+    'Without a volumes file: one volume over the study area, from the lowest to the highest level, needing one sensor of each radar kind the sites may carry (of each receiver kind, ADS-B or multilateration, when the sites carry receivers only).',
+    'A volumes file may ask for receivers per kind (requiredFold.adsb and .mlat, or the properties adsbFold and mlatFold); a multilateration accuracy bound is set afterwards in Airspace.',
+    `Multilateration: ${SCENARIO_DEFAULTS.mlatAltitudeAided ? 'the target reports its pressure altitude, so a fix needs 3 receivers' : 'a fix needs 4 receivers'} (the choice below; change it later in Airspace).`,
+    `Without a sensor-types file: the default catalog (${(catalog as unknown[]).length} generic radar types; for receivers give your own list, e.g. with data/catalog/receiver-types.json’s types).`,
   ];
 }
 
@@ -90,4 +93,17 @@ export function studyOnTerrain(terrain: Pick<TerrainSummary, 'tiles'>, f: NewStu
     sensorTypes: f.sensorTypes,
     catalog: DEFAULT_CATALOG,
   });
+}
+
+/**
+ * The new study with the planner's multilateration choice (the builder takes the schema's default): whether the
+ * target reports its pressure altitude, so that a fix needs 3 receivers instead of 4. Written into the document
+ * only when it differs from the default, so a study without receivers reads as the CLI's `init` writes it.
+ */
+export function withAltitudeAided(built: NewStudy, on: boolean): NewStudy {
+  const doc = { ...built.doc };
+  if (on === SCENARIO_DEFAULTS.mlatAltitudeAided) delete doc.mlatAltitudeAided;
+  else doc.mlatAltitudeAided = on;
+  const scenario: Scenario = { ...built.scenario, mlatAltitudeAided: on };
+  return { ...built, doc, scenario };
 }

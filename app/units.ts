@@ -79,16 +79,27 @@ export function heightInputM(v: number, u: Units, where: string): number {
 
 /**
  * A range the user typed (a sensor type's instrumented range), checked in the units it was typed in — above zero
- * and above the type's minimum range when it has one — and returned in NM (the scenario's unit for ranges).
+ * and above the type's minimum range when it has one, and at most `maxRangeNm` when the kind has a ceiling (a
+ * receiver's 1000 NM) — and returned in NM (the scenario's unit for ranges).
  */
-export function rangeInputNm(v: number, u: Units, where: string, minRangeNm = 0): number {
+export function rangeInputNm(
+  v: number,
+  u: Units,
+  where: string,
+  minRangeNm = 0,
+  maxRangeNm = Infinity,
+): number {
   const unit = rangeUnit(u);
   const nm = u === 'aviation' ? v : (v * 1000) / NM_M;
-  if (!(Number.isFinite(v) && v > 0 && nm > minRangeNm)) {
-    const floor =
-      minRangeNm > 0 ? `${fmtRange(minRangeNm * NM_M, u)} (the type's minimum range)` : `0 ${unit}`;
+  const floor = minRangeNm > 0 ? `${fmtRange(minRangeNm * NM_M, u)} (the type's minimum range)` : `0 ${unit}`;
+  if (!(Number.isFinite(v) && v > 0 && nm > minRangeNm))
     throw new InputError(where, typedValue(v, unit), `a range of more than ${floor}`);
-  }
+  if (nm > maxRangeNm)
+    throw new InputError(
+      where,
+      typedValue(v, unit),
+      `a range of more than ${floor} and at most ${fmtRange(maxRangeNm * NM_M, u)}`,
+    );
   return nm;
 }
 
@@ -138,14 +149,15 @@ export function fmtReadout(r: ReadoutFigures, u: Units, coverage: { level: strin
         : `network floor ${fmtAltitude(r.floorM, u)}${r.floorStep ? ` (map step ${r.floorStep})` : ''}`,
     );
     if (r.fold) {
-      parts.push(
-        `sites at ${coverage.level}: ${r.fold.any} (PSR ${r.fold.primary}, SSR ${r.fold.secondary})`,
-      );
-      // Receivers only where some are seen, so radar-only studies read as before.
+      // Receivers only where some are seen, so radar-only studies read as before; where they are, the first
+      // count says it is of radar sites (the `any` fold counts radars only, shared/sensor-kinds.ts).
       const rx = [
         r.fold.adsb ? `ADS-B ${r.fold.adsb}` : '',
-        r.fold.mlat ? `MLAT receivers ${r.fold.mlat}` : '',
+        r.fold.mlat ? `multilateration ${r.fold.mlat}` : '',
       ].filter(Boolean);
+      parts.push(
+        `${rx.length ? 'radar sites' : 'sites'} at ${coverage.level}: ${r.fold.any} (PSR ${r.fold.primary}, SSR ${r.fold.secondary})`,
+      );
       if (rx.length) parts.push(`receivers: ${rx.join(', ')}`);
     }
   }

@@ -1,12 +1,14 @@
 /**
  * Layouts: named sets of sensors — the network looked at saved under a name, looked at again, deleted — and two
- * of them compared (area and each volume's share gained and lost, the difference drawn on the map).
+ * of them compared (sensors per kind, area and each volume's share gained and lost, the difference drawn on the
+ * map).
  */
 import { formatFl } from '../../shared/units.ts';
 import { h, table } from '../dom.ts';
 import { progressProxy } from '../engine-client.ts';
 import type { PanelHost } from '../panel-host.ts';
 import { removeLayout, saveLayout, useLayout } from '../state.ts';
+import { compareKinds, kindCounts, kindCountText } from '../receivers.ts';
 import { fmtArea, fmtCost, fmtPct } from '../units.ts';
 import { section, tryEdit, type EditHost } from './kit.ts';
 
@@ -27,7 +29,12 @@ export function layoutsPanel(host: Host): HTMLElement {
   });
   const list = s.doc.layouts.map((l) => [
     l.name,
-    `${l.sensors.length} sensors`,
+    h(
+      'span',
+      {},
+      `${l.sensors.length} sensors`,
+      h('div', { className: 'sub' }, kindCountText(kindCounts(l.sensors, s.doc.sensorTypes))),
+    ),
     h(
       'span',
       {},
@@ -117,6 +124,11 @@ export function layoutsPanel(host: Host): HTMLElement {
               'p',
               {},
               `${cmp.names[1]} gains ${fmtArea(cmp.gained.areaKm2, u)} and loses ${fmtArea(cmp.lost.areaKm2, u)} of served volume area against ${cmp.names[0]}; cost ${fmtCost(cmp.a.cost)} → ${fmtCost(cmp.b.cost)}.`,
+            ),
+            table(
+              ['Kind', cmp.names[0], cmp.names[1]],
+              compareKinds(cmp.a.sensors, cmp.b.sensors, s.doc.sensorTypes),
+              { id: 'compare-kinds' },
             ),
             table(
               ['Volume', 'Level', `${cmp.names[0]}: meets`, `${cmp.names[1]}: meets`],

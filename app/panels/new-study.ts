@@ -6,6 +6,8 @@
  * extent. A refusal leaves the work, the terrain and what is stored in the browser as they were.
  */
 import { InputError } from '../../shared/errors.ts';
+import { SCENARIO_DEFAULTS } from '../../shared/scenario.ts';
+import { KIND_LABELS, mlatMinReceivers, type SensorKind } from '../../shared/sensor-kinds.ts';
 import { ask } from '../ask.ts';
 import { download, h } from '../dom.ts';
 import { savedScenarioText, scenarioFileName, type ExportHost } from '../exports.ts';
@@ -15,6 +17,7 @@ import {
   newStudyDefaultText,
   NEW_STUDY_DISPLAY,
   studyOnTerrain,
+  withAltitudeAided,
   type GivenFile,
   type NewStudy,
   type NewStudyFiles,
@@ -135,6 +138,12 @@ export function newStudySection(host: NewStudyHost): HTMLElement {
     'aria-label': 'Name of the new study',
   });
   const ready = picks.tiles.length > 0 && picks.sites !== null;
+  const aided = h('input', {
+    type: 'checkbox',
+    id: 'new-study-mlat-aided',
+    'data-keep': true,
+    checked: SCENARIO_DEFAULTS.mlatAltitudeAided,
+  });
   return h(
     'section',
     { className: 'block', id: 'new-study' },
@@ -194,6 +203,12 @@ export function newStudySection(host: NewStudyHost): HTMLElement {
       ),
     ),
     h(
+      'label',
+      { title: 'matters only for multilateration receivers' },
+      aided,
+      ' Multilateration: the target reports its pressure altitude (a fix from 3 receivers; off: 4)',
+    ),
+    h(
       'details',
       { id: 'new-study-defaults' },
       h('summary', {}, 'What a new study starts with'),
@@ -205,7 +220,7 @@ export function newStudySection(host: NewStudyHost): HTMLElement {
         id: 'new-study-create',
         className: 'primary',
         disabled: !ready || host.busy !== null,
-        onclick: () => void startNewStudy(host, name.value),
+        onclick: () => void startNewStudy(host, name.value, aided.checked),
       },
       'Create the study',
     ),
@@ -220,7 +235,11 @@ async function given(f: File | null, what: string): Promise<GivenFile | null> {
  * Builds and opens the new study from the picks. Nothing changes until every check has passed and the planner
  * has agreed to replace the present work.
  */
-export async function startNewStudy(host: NewStudyHost, name: string): Promise<void> {
+export async function startNewStudy(
+  host: NewStudyHost,
+  name: string,
+  altitudeAided: boolean = SCENARIO_DEFAULTS.mlatAltitudeAided,
+): Promise<void> {
   const refused = (e: unknown) =>
     host.say('error', ['The new study was not started; your work is unchanged.', ...errorLines(e)]);
   const tiles = picks.tiles;
@@ -291,7 +310,7 @@ export async function startNewStudy(host: NewStudyHost, name: string): Promise<v
     let built: NewStudy;
     let study;
     try {
-      built = studyOnTerrain(terrain, files);
+      built = withAltitudeAided(studyOnTerrain(terrain, files), altitudeAided);
       study = await host.engine.setScenario(built.doc, NEW_STUDY_DISPLAY);
     } catch (e) {
       // The tiles do not hold the sites (or volumes): the previous terrain and study come back.
@@ -318,8 +337,13 @@ export async function startNewStudy(host: NewStudyHost, name: string): Promise<v
     const c = built.choices;
     const b = c.area;
     host.say('info', [
-      `New study “${state.doc.name}”: ${c.siteCount} sites from ${c.sitesFrom}, ${c.sensorTypes.ids.length} sensor types from ${c.sensorTypes.from}, ${c.volumes.length} volume${c.volumes.length > 1 ? 's' : ''}${c.defaultVolume ? ' (the study area)' : ''}.`,
+      `New study “${state.doc.name}”: ${c.siteCount} sites from ${c.sitesFrom}, ${c.sensorTypes.ids.length} sensor types from ${c.sensorTypes.from} (${c.kinds.map((k) => KIND_LABELS[k as SensorKind] ?? k).join(', ')}), ${c.volumes.length} volume${c.volumes.length > 1 ? 's' : ''}${c.defaultVolume ? ' (the study area)' : ''}.`,
       `Study area ${b.west.toFixed(3)}…${b.east.toFixed(3)}° E, ${b.south.toFixed(3)}…${b.north.toFixed(3)}° N, in cells of ${c.cell.cellArcSec}″ (${c.cell.width} × ${c.cell.height}): ${c.cell.rule}.`,
+      ...(c.kinds.includes('mlat')
+        ? [
+            `Multilateration fixes from ${mlatMinReceivers(altitudeAided)} receivers (${altitudeAided ? 'the reported altitude taken as known' : 'no altitude taken'}); set accuracy bounds in Airspace.`,
+          ]
+        : []),
       ...c.warnings,
       state.network.length
         ? `The network: ${state.network.length} sensor${state.network.length > 1 ? 's' : ''} on the existing sites. Compute coverage in the Coverage panel.`

@@ -1,11 +1,13 @@
 /**
  * Outages: sites taken down (ticked here or clicked on the map) and what the network loses — volume area and
- * demand weight, per level and per volume — and the N−1 table (one site down at a time).
+ * demand weight, per level and per volume — and the N−1 table (one site down at a time, radar and receiver sites
+ * alike, with the kinds each site takes down with it).
  */
 import { formatFl } from '../../shared/units.ts';
 import { h, table } from '../dom.ts';
 import { progressProxy } from '../engine-client.ts';
 import type { PanelHost } from '../panel-host.ts';
+import { hasReceivers, siteKindsText } from '../receivers.ts';
 import { DEMAND_WEIGHT_TEXT, fmtArea, fmtDemandWeight } from '../units.ts';
 import { section } from './kit.ts';
 
@@ -37,7 +39,15 @@ export function outagesPanel(host: Host): HTMLElement {
   const boxes = sites.map((id) => {
     const c = h('input', { type: 'checkbox', checked: s.failed.includes(id), 'data-fail': id });
     c.addEventListener('change', () => void host.toggleFailure(id));
-    return h('label', { className: 'fail-row' }, c, ' ', name(id));
+    const kinds = siteKindsText(id, s.network, s.doc.sensorTypes);
+    return h(
+      'label',
+      { className: 'fail-row' },
+      c,
+      ' ',
+      name(id),
+      kinds ? h('span', { className: 'sub' }, ` (${kinds})`) : null,
+    );
   });
   const loss =
     o && o.failed.length
@@ -74,6 +84,15 @@ export function outagesPanel(host: Host): HTMLElement {
         )
       : h('p', { className: 'hint', id: 'outage-loss' }, 'No site failed.');
   const n1 = host.nMinus1;
+  // The N−1 table may be the plan's (Plan panel) rather than the network's: its sites' sensors come from the
+  // list whose sites it lists.
+  const sameSites = (refs: readonly { siteId: string }[]) =>
+    n1 !== null &&
+    new Set(refs.map((r) => r.siteId)).size === n1.length &&
+    n1.every((x) => refs.some((r) => r.siteId === x.siteId));
+  const n1Sensors =
+    host.plan && !sameSites(s.network) && sameSites(host.plan.entries) ? host.plan.entries : s.network;
+  const receiversIn = hasReceivers(s.doc.sensorTypes.filter((t) => s.network.some((r) => r.typeId === t.id)));
   return h(
     'div',
     {},
@@ -101,11 +120,12 @@ export function outagesPanel(host: Host): HTMLElement {
       ),
       n1
         ? table(
-            ['Site down', 'Volume area losing its requirement', 'Demand weight lost'],
+            ['Site down', 'Volume area losing its requirement', 'Demand weight lost', 'Sensors lost with it'],
             n1.map((x) => [
               name(x.siteId),
               fmtArea(x.areaKm2Lost, u),
               fmtDemandWeight(x.demandWeightLost, totalDemandWeight(host)),
+              siteKindsText(x.siteId, n1Sensors, s.doc.sensorTypes) || '—',
             ]),
             { id: 'n1-table', className: 'wide' },
           )
@@ -116,5 +136,12 @@ export function outagesPanel(host: Host): HTMLElement {
       { className: 'hint', id: 'demand-weight-hint' },
       `Areas count a cell once however many volumes and levels it loses. ${DEMAND_WEIGHT_TEXT} The share is of the whole study’s demand.`,
     ),
+    receiversIn
+      ? h(
+          'p',
+          { className: 'hint', id: 'outage-receivers-hint' },
+          'Receiver sites count here as radar sites do: a volume that requires ADS-B or multilateration loses every cell where the receivers left hearing it fall below its count, so one receiver down can take a whole area with it. The figures count receivers; how much worse the fixes left become is not in them: take the receiver down and look at the accuracy layer in Coverage.',
+        )
+      : null,
   );
 }

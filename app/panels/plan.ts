@@ -1,14 +1,18 @@
 /**
  * Plan: the sites and sensor types that give every volume its required sites at least cost (or, within a budget,
  * the most demand), by the engine's planner; its result (new spend, the kept sensors already standing apart, the
- * bound and gap, the entries, each volume's share met), and the way on to coverage and the N−1 table.
+ * bound and gap, the entries with their kinds, the sensors per kind, each volume's share met and its requirement per
+ * kind), and the way on to coverage and the N−1 table.
  */
 import { DEFAULT_SOLVER_NODES } from '../../shared/plan-limits.ts';
+import { KIND_LABELS, mlatMinReceivers, type FoldKind } from '../../shared/sensor-kinds.ts';
 import { formatFl } from '../../shared/units.ts';
 import { h, table } from '../dom.ts';
 import { progressProxy } from '../engine-client.ts';
 import type { PanelHost } from '../panel-host.ts';
+import type { PlanSummary } from '../../worker/runtime/engine.ts';
 import { setNetwork } from '../state.ts';
+import { altitudeAided, kindCounts, kindCountText, requirementText } from '../receivers.ts';
 import { DEMAND_WEIGHT_TEXT, fmtCost, fmtDemandWeight, fmtPct } from '../units.ts';
 import { section } from './kit.ts';
 
@@ -75,6 +79,8 @@ export function planPanel(host: Host): HTMLElement {
       host.refreshVectors();
     });
   const p = host.plan;
+  const needsMlat = s.doc.volumes.some((v) => (v.requiredFold.mlat ?? 0) > 0);
+  const acc = p?.mlatAccuracy;
   const result = p
     ? section(
         'Result',
@@ -110,24 +116,40 @@ export function planPanel(host: Host): HTMLElement {
             : null,
           h('dt', {}, 'Every requirement met'),
           h('dd', {}, p.demandMet ? 'yes' : 'no'),
+          h('dt', {}, 'Sensors by kind'),
+          h('dd', { id: 'plan-kinds' }, kindCountText(kindCounts(p.entries, s.doc.sensorTypes))),
+          needsMlat ? h('dt', {}, 'Multilateration fix') : null,
+          needsMlat
+            ? h(
+                'dd',
+                {},
+                `from ${mlatMinReceivers(altitudeAided(s))} receivers (${altitudeAided(s) ? 'the target’s reported altitude taken as known' : 'position and time solved, no altitude'})`,
+              )
+            : null,
+          acc ? h('dt', {}, 'Multilateration accuracy bounds') : null,
+          acc ? h('dd', { id: 'plan-accuracy' }, accuracyText(acc)) : null,
         ),
         p.unmeetable.length
           ? h(
               'p',
               { className: 'warn' },
-              `Some demand cannot be met by any allowed sensor: ${p.unmeetable.map((x) => `${x.points} points need ${x.required} ${x.kind}, best ${x.achievable}`).join('; ')}.`,
+              `Some demand cannot be met by any allowed sensor: ${p.unmeetable.map((x) => `${x.points} points${x.volumeName ? ` of ${x.volumeName}` : ''} need ${x.required} ${kindLabel(x.kind)}, best ${x.achievable}`).join('; ')}.`,
             )
           : null,
         table(
-          ['Site', 'Sensor type', 'Cost'],
+          ['Site', 'Sensor type', 'Kind', 'Cost'],
           p.entries.map((e) => [
             s.doc.sites.features.find((f) => f.properties.id === e.siteId)?.properties.name ?? e.siteId,
             s.doc.sensorTypes.find((t) => t.id === e.typeId)?.name ?? e.typeId,
+            kindLabel(s.doc.sensorTypes.find((t) => t.id === e.typeId)?.kind ?? ''),
             h(
               'span',
               {},
               fmtCost(e.cost),
               e.existingSensor ? h('div', { className: 'sub' }, 'already standing') : null,
+              acc?.addedForAccuracy.some((r) => r.siteId === e.siteId && r.typeId === e.typeId)
+                ? h('div', { className: 'sub' }, 'added for accuracy')
+                : null,
             ),
           ]),
           { id: 'plan-entries' },
@@ -140,6 +162,11 @@ export function planPanel(host: Host): HTMLElement {
             fmtPct(v.meetsRequirementPct),
           ]),
           { className: 'wide' },
+        ),
+        table(
+          ['Volume', 'Required at each level of its band'],
+          s.doc.volumes.map((v) => [v.name, requirementText(v)]),
+          { id: 'plan-requirements' },
         ),
         h(
           'button',
@@ -182,7 +209,7 @@ export function planPanel(host: Host): HTMLElement {
     h(
       'p',
       { className: 'hint' },
-      'Chooses sites and sensor types that give every volume its required number of sites at the levels of its band at least cost (or, within a budget, the most demand). Existing sites cost nothing to open.',
+      'Chooses sites and sensor types — radars and receivers together — that give every volume its required number of sites of each kind at the levels of its band at least cost (or, within a budget, the most demand). Existing sites cost nothing to open.',
     ),
     h('label', {}, 'Budget (M, empty = none) ', budget),
     h('label', {}, keep, ' keep the network’s sensors at existing sites'),
@@ -224,4 +251,20 @@ function countCandidates(host: Pick<PanelHost, 'state'>): number {
     (a, f) => a + (f.properties.allowedTypes?.length ?? s.sensorTypes.length),
     0,
   );
+}
+
+/** A kind's short label ("SSR", "ADS-B"); an unknown kind as it is. */
+function kindLabel(k: string): string {
+  return (KIND_LABELS as Record<string, string>)[k as FoldKind] ?? k;
+}
+
+/** The plan's multilateration accuracy figures in one line (engine PlanSummary.mlatAccuracy). */
+function accuracyText(a: NonNullable<PlanSummary['mlatAccuracy']>): string {
+  const parts = [`${fmtPct(a.metPct)} of the bounded volume levels met (by area weight)`];
+  if (a.unmeetablePct > 0) parts.push(`${fmtPct(a.unmeetablePct)} no allowed receivers can meet`);
+  if (a.addedForAccuracy.length)
+    parts.push(
+      `${a.addedForAccuracy.length} receiver${a.addedForAccuracy.length > 1 ? 's' : ''} added for accuracy alone`,
+    );
+  return parts.join('; ');
 }

@@ -5,6 +5,8 @@
 import { download, h } from '../dom.ts';
 import { exportProvenance, type ExportHost } from '../exports.ts';
 import type { PanelHost } from '../panel-host.ts';
+import { KIND_LABELS } from '../../shared/sensor-kinds.ts';
+import { profileText } from '../receivers.ts';
 
 type Host = ExportHost &
   Pick<
@@ -38,9 +40,10 @@ export function profilePanel(host: Host): HTMLElement {
     h('option', { value: '' }, '— sensor type —'),
     ...s.doc.sensorTypes
       .filter((t) => allowed.includes(t.id))
-      .map((t) => h('option', { value: t.id }, t.name)),
+      .map((t) => h('option', { value: t.id }, `${t.name} (${KIND_LABELS[t.kind]})`)),
   );
   type.value = pick?.typeId && allowed.includes(pick.typeId) ? pick.typeId : '';
+  const picked = s.doc.sensorTypes.find((t) => t.id === type.value);
   const onPick = () => {
     host.diagramPick = { siteId: site.value, typeId: type.value };
     host.render();
@@ -117,7 +120,7 @@ export function profilePanel(host: Host): HTMLElement {
     h(
       'p',
       { className: 'hint' },
-      'A vertical coverage diagram along one azimuth: terrain profile, screening, detection envelope, cone of silence and flight levels. The azimuth is drawn on the map; click the diagram to enlarge it.',
+      `${profileText(picked?.kind)} The azimuth is drawn on the map; click the diagram to enlarge it.`,
     ),
     h('label', {}, 'Site ', site),
     h('label', {}, ' Type ', type),

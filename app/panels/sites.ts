@@ -6,6 +6,8 @@ import { h } from '../dom.ts';
 import type { PanelHost } from '../panel-host.ts';
 import { replaceSitesFromFile, type SitesImportHost } from '../sites-import.ts';
 import { editSite, removeSite, toggleSensor } from '../state.ts';
+import { KIND_LABELS } from '../../shared/sensor-kinds.ts';
+import { kindCounts, kindCountText } from '../receivers.ts';
 import { heightInputM, heightToUser, heightUnit } from '../units.ts';
 import { filePicker, numberIn, tryEdit, type EditHost } from './kit.ts';
 
@@ -53,7 +55,7 @@ export function sitesPanel(host: Host): HTMLElement {
       const allow = h('input', {
         type: 'checkbox',
         checked: allowed.includes(t.id),
-        title: `allow ${t.name}`,
+        title: `allow ${t.name} (${KIND_LABELS[t.kind]})`,
       });
       allow.addEventListener('change', () => {
         const list = types
@@ -68,13 +70,19 @@ export function sitesPanel(host: Host): HTMLElement {
         checked: inNet(p.id, t.id),
         disabled: !allowed.includes(t.id),
         'data-sensor': `${p.id}|${t.id}`,
-        title: `in the network: ${t.name}`,
+        title: `in the network: ${t.name} (${KIND_LABELS[t.kind]})`,
       });
       use.addEventListener('change', () => {
         host.setView(toggleSensor(host.state, p.id, t.id, use.checked));
         host.refreshVectors();
       });
-      return h('span', { className: 'type-cell' }, h('span', { className: 'type-id' }, t.id), allow, use);
+      return h(
+        'span',
+        { className: 'type-cell', title: `${t.id}: ${KIND_LABELS[t.kind]}` },
+        h('span', { className: 'type-id' }, t.id),
+        allow,
+        use,
+      );
     });
     return h(
       'tr',
@@ -168,7 +176,7 @@ export function sitesPanel(host: Host): HTMLElement {
     h(
       'p',
       { className: 'hint' },
-      `Drag a marker to move its site, here or from any panel with the map’s “Move sites” switch on. Per sensor type: first box = allowed at the site, second = in the network being looked at (${s.network.length} sensors).`,
+      `Drag a marker to move its site, here or from any panel with the map’s “Move sites” switch on. Per sensor type (radar or receiver): first box = allowed at the site, second = in the network being looked at (${s.network.length} sensors: ${kindCountText(kindCounts(s.network, types))}).`,
     ),
     addBtn,
     importSites,

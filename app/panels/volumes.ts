@@ -1,11 +1,20 @@
 /**
  * Airspace: the study's target aircraft (target.ts), and the volumes to be seen — polygon, band of flight levels,
- * sites required per kind, weight, each volume's own target — drawn on the map or imported from GeoJSON.
+ * sites required per kind (radars and receivers), the multilateration accuracy bound, weight, each volume's own
+ * target — drawn on the map or imported from GeoJSON; and the study's altitude-aided multilateration choice.
  */
 import { h, table } from '../dom.ts';
 import { readPolygonFile } from '../files.ts';
 import type { PanelHost } from '../panel-host.ts';
 import { addVolume, editVolume, removeVolume, type FoldKind } from '../state.ts';
+import { mlatMinReceivers } from '../../shared/sensor-kinds.ts';
+import {
+  altitudeAided,
+  hasReceivers,
+  requirementNotes,
+  setAltitudeAided,
+  setMlatAccuracy,
+} from '../receivers.ts';
 import { fmtLevel } from '../units.ts';
 import { filePicker, numberIn, section, tryEdit, type EditHost } from './kit.ts';
 import { targetSection, volumeTargets } from './target.ts';
@@ -16,6 +25,21 @@ type Host = EditHost &
 export function volumesPanel(host: Host): HTMLElement {
   const s = host.state;
   const u = s.units;
+  // Metres in both unit sets: the trade states a multilateration accuracy in metres.
+  const accuracy = (id: string, m: number | undefined) =>
+    numberIn(
+      m ?? '',
+      {
+        className: 'tiny',
+        min: 0,
+        placeholder: '—',
+        'aria-label': `multilateration accuracy of ${id}`,
+        title: 'the 1σ horizontal accuracy (DRMS, m) a multilateration fix must reach; empty = none',
+      },
+      (x, el) =>
+        void tryEdit(host, el, () => setMlatAccuracy(host.state, id, el.value.trim() === '' ? null : x)),
+    );
+  const rx = hasReceivers(s.doc.sensorTypes);
   const rows = s.doc.volumes.map((v) => {
     const name = h('input', { type: 'text', value: v.name, 'aria-label': `name of ${v.id}` });
     name.addEventListener(
@@ -45,16 +69,24 @@ export function volumesPanel(host: Host): HTMLElement {
       h(
         'span',
         { className: 'folds' },
-        'any ',
-        fold('any'),
-        ' PSR ',
-        fold('primary'),
-        ' SSR ',
-        fold('secondary'),
-        ' ADS-B ',
-        fold('adsb'),
-        ' MLAT ',
-        fold('mlat'),
+        // One line per kind, its label before its field; the receiver kinds only in a study that has receiver
+        // types (or a volume that already asks for them).
+        h('div', { title: 'radar sites of either kind (PSR or SSR)' }, 'any ', fold('any')),
+        h('div', {}, 'PSR ', fold('primary')),
+        h('div', {}, 'SSR ', fold('secondary')),
+        rx || v.requiredFold.adsb ? h('div', {}, 'ADS-B ', fold('adsb')) : null,
+        rx || v.requiredFold.mlat || v.requiredMlatAccuracyM !== undefined
+          ? [
+              h('div', {}, 'MLAT ', fold('mlat')),
+              h(
+                'div',
+                { title: 'multilateration accuracy: the 1σ horizontal DRMS a fix must reach (empty = none)' },
+                '≤ ',
+                accuracy(v.id, v.requiredMlatAccuracyM),
+                ' m',
+              ),
+            ]
+          : null,
       ),
       num('weight', v.weight ?? 1),
       h(
@@ -64,6 +96,12 @@ export function volumesPanel(host: Host): HTMLElement {
       ),
     ];
   });
+  const notes = s.doc.volumes.flatMap((v) => requirementNotes(v, altitudeAided(s)));
+  const aided = h('input', { type: 'checkbox', id: 'mlat-altitude-aided', checked: altitudeAided(s) });
+  aided.addEventListener(
+    'change',
+    () => void tryEdit(host, aided, () => setAltitudeAided(host.state, aided.checked)),
+  );
   const drawing = host.mode === 'draw';
   const newName = h('input', {
     type: 'text',
@@ -108,10 +146,33 @@ export function volumesPanel(host: Host): HTMLElement {
       { className: 'hint' },
       `Volumes to be seen: a polygon, a band of flight levels (${fmtLevel(s.doc.flightLevels[0], host.levelAltitudeM(s.doc.flightLevels[0]), u)} …), the number of distinct sites required per kind, and a weight for the planner.`,
     ),
-    table(['Name / id', 'Band (FL)', 'Sites required', 'Weight', ''], rows, {
-      id: 'volume-table',
-      className: 'wide',
-    }),
+    table(
+      [
+        'Name / id',
+        'Band (FL)',
+        rx ? 'Sites required per kind (≤: MLAT accuracy, 1σ)' : 'Sites required',
+        'Weight',
+        '',
+      ],
+      rows,
+      {
+        id: 'volume-table',
+        className: 'wide',
+      },
+    ),
+    notes.length
+      ? h('ul', { className: 'hint', id: 'volume-notes' }, ...notes.map((n) => h('li', {}, n)))
+      : null,
+    rx &&
+      section(
+        'Multilateration fix',
+        h('label', {}, aided, ' the target reports its pressure altitude: a fix needs 3 receivers (off: 4)'),
+        h(
+          'p',
+          { className: 'hint' },
+          `The MLAT count of a volume is the number of multilateration receivers that must hear each cell; a fix needs ${mlatMinReceivers(altitudeAided(s))} here. The planner meets these counts and, where a volume bounds it, the accuracy (the 1σ horizontal DRMS of the fix, drawn level by level in the accuracy layer of Coverage).`,
+        ),
+      ),
     volumeTargets(host),
     section(
       'New volume',
