@@ -311,6 +311,31 @@ describe('four receivers at the corners of a square, target at FL100', () => {
       if (Number.isFinite(unaided[i])) expect(five[i]).toBeLessThanOrEqual(unaided[i] * (1 + 1e-6));
     }
   });
+
+  it('computing only a box of cells gives those cells bit for bit and leaves the rest NaN', () => {
+    const r0 = Math.floor(CENTRE / GRID.width);
+    const c0 = CENTRE % GRID.width;
+    const only = { row0: r0 - 7, row1: r0 + 3, col0: c0 - 20, col1: c0 + 11 };
+    const part = mlatAccuracyMap({
+      grid: GRID,
+      receivers: SQUARE,
+      altitudeM: FL100,
+      altitudeKnown: true,
+      only,
+    });
+    let inside = 0;
+    for (let i = 0; i < part.length; i++) {
+      const r = Math.floor(i / GRID.width);
+      const c = i % GRID.width;
+      if (r >= only.row0 && r < only.row1 && c >= only.col0 && c < only.col1) {
+        expect(Object.is(part[i], known3[i]) || (Number.isNaN(part[i]) && Number.isNaN(known3[i]))).toBe(
+          true,
+        );
+        if (Number.isFinite(part[i])) inside++;
+      } else expect(part[i]).toBeNaN();
+    }
+    expect(inside).toBeGreaterThan(0);
+  });
 });
 
 describe('layers', () => {

@@ -13,6 +13,7 @@ import { readFileSync, writeFileSync } from 'node:fs';
 import { join } from 'node:path';
 import { fromArrayBuffer } from 'geotiff';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
+import { EnuFrame, mlatHorizontalDrms } from '../worker/core/mlat.ts';
 import { runCli } from './support/run-cli.ts';
 import {
   ring,
@@ -142,6 +143,50 @@ describe('multilateration accuracy from the commands, four receivers on a square
     expect(r.out).toMatch(/multilateration: 4 receivers; a fix needs 3/);
   });
 
+  it('the N−1 table shows a corner lost: every fold still met, the accuracy bound lost at the centre', async () => {
+    // A bound between the centre's DRMS from all four corners and from three (EnuFrame + mlatHorizontalDrms,
+    // mlat.ts's own path): with any corner down the centre still has its fix (3 receivers) but misses the bound.
+    const corners: [number, number][] = [
+      [LON0 + HALF_LON, LAT0 + HALF_LAT],
+      [LON0 - HALF_LON, LAT0 + HALF_LAT],
+      [LON0 - HALF_LON, LAT0 - HALF_LAT],
+      [LON0 + HALF_LON, LAT0 - HALF_LAT],
+    ];
+    const frame = new EnuFrame(LON0, LAT0, 3048);
+    const drms = (list: [number, number][]) =>
+      mlatHorizontalDrms(
+        list.map(([lon, lat]) => frame.toEnu(lon, lat, 20)),
+        { e: 0, n: 0, u: 0 },
+        (MLAT.timingErrorNs as number) * 1e-9,
+        { altitudeKnown: true },
+      );
+    const all = drms(corners);
+    const three = drms(corners.slice(1));
+    expect(three).toBeGreaterThan(all * 1.1);
+    const bound = Math.sqrt(all * three);
+    const text = readFileSync(fx.scenarioPath, 'utf8').replace(
+      '"requiredMlatAccuracyM": 10',
+      `"requiredMlatAccuracyM": ${bound}`,
+    );
+    const path = join(fx.dir, 'n-1.json');
+    writeFileSync(path, text);
+    const dir = join(fx.dir, 'n-1');
+    const r = await runCli('outage', path, '--out', dir, '--threads', '0', '--quiet');
+    expect(r.code, r.err).toBe(0);
+    const doc = JSON.parse(readFileSync(join(dir, 'outage.json'), 'utf8'));
+    // The folds: three corners still hear the whole square, so nothing is lost.
+    expect(doc.losses.every((l: { demandWeightLost: number }) => l.demandWeightLost === 0)).toBe(true);
+    // The accuracy: every corner's loss costs area, and the centre's level is met less after than before.
+    expect(doc.mlatAccuracyLosses).toHaveLength(4);
+    for (const l of doc.mlatAccuracyLosses) {
+      expect(l.areaKm2Lost).toBeGreaterThan(0);
+      const row = l.byVolume[0];
+      expect(row).toMatchObject({ volumeId: 'square', flightLevel: 100 });
+      expect(row.metPctAfter).toBeLessThan(row.metPctBefore);
+    }
+    expect(r.out).toMatch(/multilateration accuracy bounds: area whose fix meets its bound/);
+  });
+
   it('the report has a multilateration accuracy section with the volume’s row', async () => {
     const html = join(fx.dir, 'report.html');
     const r = await runCli('report', fx.scenarioPath, '--out', html, '--threads', '0', '--quiet');
@@ -155,6 +200,8 @@ describe('multilateration accuracy from the commands, four receivers on a square
     expect(text).toMatch(/Multilateration receivers hearing: 0 \/ 1 \/ 2 \/ 3 \/ ≥4/);
     expect(text).not.toMatch(/ADS-B stations hearing/);
     // In the square all four receivers hear: the column's last bin (≥ 4) holds the whole area.
-    expect(text).toMatch(/<td class="n hist">100 \/ 0 \/ 0 \/ 0 \/ 0<\/td><td class="n hist">0 \/ 0 \/ 0 \/ 0 \/ 100<\/td>/);
+    expect(text).toMatch(
+      /<td class="n hist">100 \/ 0 \/ 0 \/ 0 \/ 0<\/td><td class="n hist">0 \/ 0 \/ 0 \/ 0 \/ 100<\/td>/,
+    );
   });
 });

@@ -14,6 +14,7 @@ import { undated } from '../io/provenance.ts';
 import { NodePool } from '../runtime/node-pool.ts';
 import { coldDayHelp, one, parseArgs, required, scenarioArg, threadsArg, weatherHelp } from './args.ts';
 import { maskLayer } from '../io/layers.ts';
+import { mlatOutage } from './mlat-outputs.ts';
 import { finishRun, RunFolder, runFolderHelp } from './files.ts';
 import { scenarioProvenance } from './provenance.ts';
 import {
@@ -39,7 +40,10 @@ For the sensors of a plan (plan.json from \`airshade plan\`), of a layout of the
 site and type, switches each site off in turn (or only the --site ones) and reports the demand weight and area
 that stop meeting their volume's required folds, per volume and flight level, worst first. A demand point is a
 volume cell at a flight level in the volume's band; its weight is the cell's area times the volume's weight.
-Writes DIR/outage.json and DIR/outage-<site>-FL050.geojson … (the lost coverage, per volume).
+Writes DIR/outage.json and DIR/outage-<site>-FL050.geojson … (the lost coverage, per volume). When volumes bound
+the multilateration accuracy (requiredMlatAccuracyM), a second table gives, per site with mlat receivers, the
+area whose fix meets its bound with every receiver up and not with the site down (outage.json
+mlatAccuracyLosses): a receiver lost can leave every fold met and still spoil the geometry.
 
 Options:
 ${weatherHelp(19)}
@@ -146,6 +150,15 @@ export async function outageCommand(argv: readonly string[], log: (s: string) =>
     session.volumeTargets,
     session.ground,
   );
+  // Accuracy bounds: a receiver lost can keep every fold and still spoil the fix's geometry (issue 14).
+  const accuracyLosses = mlatOutage(
+    session,
+    sensors,
+    footprints,
+    fls,
+    levelAltitudesM(s, fls),
+    siteIds ?? network.siteIds().filter((id) => network.isSiteActive(id)),
+  );
   const tableMs = performance.now() - tBuilt;
   progress.update(0.95, 'layers');
   // The run's date in outage.json only: the layers stay the same bytes for the same inputs.
@@ -194,6 +207,7 @@ export async function outageCommand(argv: readonly string[], log: (s: string) =>
       areaKm2Lost: worst.areaKm2Lost,
     },
     losses,
+    ...(accuracyLosses ? { mlatAccuracyLosses: accuracyLosses } : {}),
     timingsMs: { outageTable: Math.round(tableMs), total: Math.round(performance.now() - started) },
     caution: CAUTION,
     provenance,
@@ -212,6 +226,20 @@ export async function outageCommand(argv: readonly string[], log: (s: string) =>
     lines.push(
       `  ${name.slice(0, 24).padEnd(24)} ${l.demandWeightLost.toFixed(0).padStart(12)} ${l.areaKm2Lost.toFixed(0).padStart(14)}  ${top && top.demandWeightLost > 0 ? `${top.volumeId} ${formatFl(top.flightLevel)}` : '—'}`,
     );
+  }
+  if (accuracyLosses) {
+    lines.push(
+      '',
+      '  multilateration accuracy bounds: area whose fix meets its bound with every receiver up and not without the site',
+      `  ${'site down'.padEnd(24)} ${'area lost km²'.padStart(14)}  worst volume and level (share meeting the bound, before → after)`,
+    );
+    for (const l of accuracyLosses) {
+      const top = [...l.byVolume].sort((a, b) => b.areaKm2Lost - a.areaKm2Lost)[0];
+      const name = s.sites.find((f) => f.properties.id === l.siteId)?.properties.name ?? l.siteId;
+      lines.push(
+        `  ${name.slice(0, 24).padEnd(24)} ${l.areaKm2Lost.toFixed(0).padStart(14)}  ${top && top.areaKm2Lost > 0 ? `${top.volumeId} ${formatFl(top.flightLevel)} (${top.metPctBefore.toFixed(1)} % → ${top.metPctAfter.toFixed(1)} %)` : '—'}`,
+      );
+    }
   }
   lines.push('');
   lines.push(

@@ -77,6 +77,8 @@ export interface MlatMapInput {
    * altitude known); more may be asked for, never fewer.
    */
   readonly minReceivers?: number;
+  /** Only these cells are computed (rows [row0, row1) × columns [col0, col1)); the rest stay NaN. Default all. */
+  readonly only?: { row0: number; row1: number; col0: number; col1: number };
 }
 
 /** Lowest true altitude accepted for the target (m AMSL); the highest is footprint.ts's TOP_M. */
@@ -150,7 +152,12 @@ export function mlatAccuracyMap(input: MlatMapInput): Float32Array {
   const sig = new Float64Array(count);
   const active = new Int32Array(count);
   const xyz = [0, 0, 0];
-  for (let row = 0; row < height; row++) {
+  const only = input.only ?? { row0: 0, row1: height, col0: 0, col1: width };
+  const rowFrom = Math.max(0, only.row0);
+  const rowTo = Math.min(height, only.row1);
+  const colFrom = Math.max(0, only.col0);
+  const colTo = Math.min(width, only.col1);
+  for (let row = rowFrom; row < rowTo; row++) {
     let nActive = 0;
     for (let i = 0; i < count; i++) {
       const w = receivers[i].footprint.window;
@@ -167,8 +174,8 @@ export function mlatAccuracyMap(input: MlatMapInput): Float32Array {
     const sinLat = Math.sin(lat * DEG_TO_RAD);
     const cosLat = Math.cos(lat * DEG_TO_RAD);
     const outRow = row * width;
-    for (let c0 = 0; c0 < width; c0 += chunk) {
-      const c1 = Math.min(width, c0 + chunk);
+    for (let c0 = colFrom; c0 < colTo; c0 += chunk) {
+      const c1 = Math.min(colTo, c0 + chunk);
       inView.fill(0);
       for (let a = 0; a < nActive; a++) {
         const i = active[a];

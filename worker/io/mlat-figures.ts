@@ -12,7 +12,7 @@ import type { Candidate } from '../core/coverage.ts';
 import type { Footprint } from '../core/footprint.ts';
 import type { GridGeo } from '../core/grid.ts';
 import { mlatAccuracyMap, type MlatReceiver } from '../core/mlat-map.ts';
-import { cellsAtLevel } from '../core/volumes.ts';
+import { cellsAtLevel, rowAreasKm2 } from '../core/volumes.ts';
 
 export interface MlatVolumeAccuracy {
   volumeId: string;
@@ -174,4 +174,121 @@ export function mlatFigures(
     maps,
     volumes: sortVolumeRows(study.scenario.volumes, volumes),
   };
+}
+
+/** What one site's outage costs the accuracy bounds: cells meeting their bound with it and not without it. */
+export interface MlatSiteLoss {
+  siteId: string;
+  /** Area (km²) of the cells that lose their bound at one level or more, and their demand weight (area × weight). */
+  areaKm2Lost: number;
+  demandWeightLost: number;
+  /** Per accuracy-bound volume and level: the area lost and the share meeting the bound before and after. */
+  byVolume: {
+    volumeId: string;
+    flightLevel: number;
+    areaKm2Lost: number;
+    metPctBefore: number;
+    metPctAfter: number;
+  }[];
+}
+
+/**
+ * The N−1 table of the accuracy bounds: for each site of `siteIds` that carries `mlat` receivers, the cells of
+ * each accuracy-bound volume (at each level of its band) whose fix meets the bound with every receiver up and not
+ * with that site's receivers down — a receiver lost can leave every fold met and still spoil the geometry. Worst
+ * first (demand weight lost, then site id). Only the bounded volumes' cells are computed.
+ */
+export function mlatOutageLosses(
+  study: Pick<MlatStudy, 'grid' | 'scenario' | 'volumeMasks' | 'ground'>,
+  net: MlatNetwork,
+  fls: readonly number[],
+  altitudesM: readonly number[],
+  siteIds: readonly string[],
+): MlatSiteLoss[] {
+  const { grid } = study;
+  const W = grid.width;
+  const rowArea = rowAreasKm2(grid);
+  const bounded: { v: Volume; f: number; mask: Uint8Array; requiredM: number }[] = [];
+  const box = { row0: grid.height, row1: 0, col0: W, col1: 0 };
+  study.scenario.volumes.forEach((v, vi) => {
+    const requiredM = v.requiredMlatAccuracyM;
+    if (requiredM === undefined) return;
+    fls.forEach((fl, f) => {
+      const mask = cellsAtLevel(v, study.volumeMasks[vi], fl, altitudesM[f], study.ground);
+      if (mask === null) return;
+      let any = false;
+      for (let c = 0; c < mask.length; c++) {
+        if (!mask[c]) continue;
+        any = true;
+        const r = (c / W) | 0;
+        const col = c - r * W;
+        box.row0 = Math.min(box.row0, r);
+        box.row1 = Math.max(box.row1, r + 1);
+        box.col0 = Math.min(box.col0, col);
+        box.col1 = Math.max(box.col1, col + 1);
+      }
+      if (any) bounded.push({ v, f, mask, requiredM });
+    });
+  });
+  if (bounded.length === 0) return [];
+  const levels = [...new Set(bounded.map((b) => b.f))];
+  const mapsOf = (receivers: MlatReceiver[]) =>
+    new Map(
+      levels.map((f) => [
+        f,
+        mlatAccuracyMap({
+          grid,
+          receivers,
+          altitudeM: altitudesM[f],
+          altitudeKnown: net.altitudeKnown,
+          minReceivers: net.minReceivers,
+          only: box,
+        }),
+      ]),
+    );
+  const before = mapsOf(net.receivers);
+  const out: MlatSiteLoss[] = [];
+  for (const siteId of siteIds) {
+    if (!net.receiverSites.includes(siteId)) continue;
+    const after = mapsOf(net.receivers.filter((_, i) => net.receiverSites[i] !== siteId));
+    const lostAnywhere = new Uint8Array(grid.width * grid.height);
+    let demandWeightLost = 0;
+    const byVolume: MlatSiteLoss['byVolume'] = [];
+    for (const { v, f, mask, requiredM } of bounded) {
+      const d0 = before.get(f)!;
+      const d1 = after.get(f)!;
+      let cells = 0;
+      let met0 = 0;
+      let met1 = 0;
+      let area = 0;
+      for (let r = box.row0; r < box.row1; r++) {
+        for (let c = r * W + box.col0; c < r * W + box.col1; c++) {
+          if (!mask[c]) continue;
+          cells++;
+          const ok0 = d0[c] <= requiredM;
+          const ok1 = d1[c] <= requiredM;
+          if (ok0) met0++;
+          if (ok1) met1++;
+          if (ok0 && !ok1) {
+            area += rowArea[r];
+            lostAnywhere[c] = 1;
+          }
+        }
+      }
+      demandWeightLost += area * (v.weight ?? 1);
+      byVolume.push({
+        volumeId: v.id,
+        flightLevel: fls[f],
+        areaKm2Lost: area,
+        metPctBefore: (100 * met0) / cells,
+        metPctAfter: (100 * met1) / cells,
+      });
+    }
+    let areaKm2Lost = 0;
+    for (let r = box.row0; r < box.row1; r++)
+      for (let c = r * W + box.col0; c < r * W + box.col1; c++)
+        if (lostAnywhere[c]) areaKm2Lost += rowArea[r];
+    out.push({ siteId, areaKm2Lost, demandWeightLost, byVolume });
+  }
+  return out.sort((a, b) => b.demandWeightLost - a.demandWeightLost || (a.siteId < b.siteId ? -1 : 1));
 }
