@@ -11,13 +11,20 @@
  * - A cosecant-squared elevation pattern gives R·sin ε ≈ const, a constant-altitude envelope on a flat earth:
  *   test/REFERENCES.md (Skolnik, ibid. — recalled from memory).
  */
+import { readFileSync } from 'node:fs';
 import { describe, expect, it } from 'vitest';
 import { XMLParser, XMLValidator } from 'fast-xml-parser';
 import { diagramData, rayGroundRangeM } from '../worker/core/diagram.ts';
 import { renderDiagramSvg, escapeXml } from '../worker/io/diagram-svg.ts';
 import { computeHorizon, floorAt, planHorizon, traceRadial } from '../worker/core/horizon.ts';
 import { pseudoToAzimuthRad } from '../worker/core/geodesy.ts';
-import { DEFAULT_TARGET, type SensorModel } from '../worker/core/sensor.ts';
+import {
+  DEFAULT_TARGET,
+  describeTarget,
+  type RadarTypeSpec,
+  type ReceiverTypeSpec,
+  type SensorModel,
+} from '../worker/core/sensor.ts';
 import { buildSensorModel } from '../worker/core/sensor-model.ts';
 
 const TARGET = DEFAULT_TARGET;
@@ -374,6 +381,61 @@ describe('SVG', () => {
     const s = escapeXml(`a<b>&"c'\u0001\uD800`);
     expect(s).toBe('a&lt;b&gt;&amp;&quot;c&apos;\uFFFD');
     expect(XMLValidator.validate(`<t>${s}</t>`)).toBe(true);
+  });
+
+  // Issue 14: a 1090 MHz receiver hears the aircraft's own transmissions (worker/core/receiver.ts, Friis 1946):
+  // no echo, no SSR links, no cone of silence below 90°. Its legend says so; a radar's stays as it was.
+  /** The cone's dash pattern: its edge in the plot and its swatch in the legend. */
+  const CONE_DASH = 'stroke-dasharray="6 4"';
+  const receiverTypes: ReceiverTypeSpec[] = JSON.parse(
+    readFileSync(new URL('../data/catalog/receiver-types.json', import.meta.url), 'utf8'),
+  );
+  const primaryType = (
+    JSON.parse(
+      readFileSync(new URL('../data/catalog/sensor-types.json', import.meta.url), 'utf8'),
+    ) as RadarTypeSpec[]
+  ).find((t) => t.kind === 'primary')!;
+  const draw = (model: SensorModel) =>
+    diagramData(terrain, { ...site, mastM: 20 }, model, {
+      azimuthDeg: 90,
+      maxRangeM: 30_000,
+      target: TARGET,
+      flightLevels: [50, 100, 245],
+    });
+
+  it.each(receiverTypes.map((t) => [t.kind, t] as const))(
+    'a receiver (%s) names its reception envelope and has no cone of silence, in legend or plot',
+    (kind, type) => {
+      const rd = draw(buildSensorModel(type, `receiver-types.json: ${type.id}`));
+      expect(rd.sensor.kind).toBe(kind);
+      for (const units of ['metric', 'aviation'] as const) {
+        const svg = renderDiagramSvg(rd, { title: 'receiver', units });
+        expect(XMLValidator.validate(svg)).toBe(true);
+        const text = textOf(svg);
+        expect(text).toContain(escapeXml(`Reception envelope (1090 MHz, ${describeTarget(TARGET, kind)})`));
+        expect(text).toContain('Shadow (below line of sight)');
+        expect(text).not.toMatch(/Cone of silence|Radar shadow|Detection envelope|SSR links|RCS/);
+        expect(svg).not.toContain(CONE_DASH);
+        expect(svg).not.toMatch(/NaN|undefined|Infinity/);
+      }
+    },
+  );
+
+  it('a radar keeps its legend: radar shadow, its detection envelope and the cone of silence with its edge', () => {
+    const secondary = renderDiagramSvg(d, { title, units: 'metric' });
+    const text = textOf(secondary);
+    expect(text).toContain('Radar shadow (below line of sight)');
+    expect(text).toContain('Detection envelope (both SSR links)');
+    expect(text).toContain('Cone of silence (above 40°)');
+    expect(text).not.toContain('Reception envelope');
+    expect(secondary.split(CONE_DASH).length - 1).toBe(2); // the edge and the swatch
+    const primary = renderDiagramSvg(draw(buildSensorModel(primaryType, 'sensor-types.json')), {
+      title: 'primary',
+      units: 'metric',
+    });
+    expect(textOf(primary)).toContain(`Detection envelope (RCS ${TARGET.rcsM2} m²)`);
+    expect(textOf(primary)).toContain(`Cone of silence (above ${primaryType.maxElevationDeg}°)`);
+    expect(primary.split(CONE_DASH).length - 1).toBe(2);
   });
 });
 

@@ -444,6 +444,71 @@ describe('airshade init: bad input, one message each, nothing written', () => {
     );
   });
 
+  it('a volume’s multilateration accuracy bound reaches the study; a bad one names the feature and property', async () => {
+    // requiredMlatAccuracyM: the 1σ horizontal DRMS (m) the fix must reach (shared/scenario.ts). 150 m is an
+    // invented figure: the test checks that it is carried, not what it means.
+    const volumesWith = (bound: unknown) => ({
+      type: 'FeatureCollection',
+      features: [
+        {
+          type: 'Feature',
+          properties: { id: 'fix-block', secondaryFold: 1, mlatFold: 4, requiredMlatAccuracyM: bound },
+          geometry: {
+            type: 'Polygon',
+            coordinates: [
+              [
+                [-131.4, -35.9],
+                [-131.1, -35.9],
+                [-131.1, -35.6],
+                [-131.4, -35.9],
+              ],
+            ],
+          },
+        },
+      ],
+    });
+    const good = at('mlat-bound.geojson');
+    writeFileSync(good, JSON.stringify(volumesWith(150)));
+    const out = at('mlat-bound.json');
+    const r = await runCli(
+      'init',
+      '--dem',
+      at('west.tif'),
+      '--sites',
+      at('two.csv'),
+      '--volumes',
+      good,
+      '--out',
+      out,
+    );
+    expect(r.err).toBe('');
+    expect(r.code).toBe(0);
+    expect(r.out).not.toContain('not read');
+    const s = (await loadScenario(out)).scenario;
+    expect(s.volumes).toEqual([
+      expect.objectContaining({
+        id: 'fix-block',
+        requiredFold: { secondary: 1, mlat: 4 },
+        requiredMlatAccuracyM: 150,
+      }),
+    ]);
+    for (const [bound, found] of [
+      [-5, '-5'],
+      [0, '0'],
+      ['150 m', '"150 m" (text)'],
+    ] as const) {
+      const bad = at('mlat-bound-bad.geojson');
+      writeFileSync(bad, JSON.stringify(volumesWith(bound)));
+      const rb = await init('--dem', at('west.tif'), '--sites', at('sites.csv'), '--volumes', bad);
+      expect(rb.code).toBe(2);
+      expect(rb.err).toContain(
+        `${bad}: features[0].properties.requiredMlatAccuracyM: found ${found}; ` +
+          'expected a number > 0 (m, a 1σ horizontal DRMS)',
+      );
+      expect(existsSync(study())).toBe(false);
+    }
+  });
+
   it('an existing --out without --force is kept; with --force it is replaced', async () => {
     const out = at('kept.json');
     writeFileSync(out, '{"mine": true}\n');
@@ -520,6 +585,40 @@ describe('the new-study builder', () => {
       },
     });
     expect(st.choices.warnings).toEqual([]);
+  });
+
+  it('the builder (as the app’s New study uses it) keeps a volume’s accuracy bound and names a bad one', () => {
+    const sites = givenSites(SITES_CSV.split('\n').slice(0, 3).join('\n'), 'sites.csv');
+    const ring = [
+      [-131.4, -35.9],
+      [-131.1, -35.9],
+      [-131.1, -35.6],
+      [-131.4, -35.9],
+    ];
+    const volumes = (bound: unknown) =>
+      givenJson(
+        JSON.stringify({
+          type: 'Feature',
+          properties: { requiredMlatAccuracyM: bound },
+          geometry: { type: 'Polygon', coordinates: [ring] },
+        }),
+        'vols.geojson',
+        'volumes',
+      );
+    const build = (bound: unknown) =>
+      buildNewStudy({
+        display: 's.json',
+        tiles: [tile(WEST, 'w.tif')],
+        sites,
+        volumes: volumes(bound),
+        catalog,
+      });
+    const st = build(75.5);
+    expect(st.scenario.volumes[0].requiredMlatAccuracyM).toBe(75.5);
+    expect(st.choices.warnings).toEqual([]);
+    expect(() => build(-20)).toThrow(
+      'vols.geojson: properties.requiredMlatAccuracyM: found -20; expected a number > 0 (m, a 1σ horizontal DRMS)',
+    );
   });
 
   it('refuses a site CSV with no rows, and an empty sensor type list', () => {

@@ -39,7 +39,7 @@ const TRANSPONDER_SHORT: Record<TransponderId, string> = {
   'high-power': 'high power',
 };
 
-/** The study's target: what every primary must detect and every secondary must hear. */
+/** The study's target: what every primary must detect, and every secondary and receiver must hear. */
 export function targetSection(host: Host): HTMLElement {
   const d = host.state.doc;
   const rcs = numberIn(
@@ -66,7 +66,7 @@ export function targetSection(host: Host): HTMLElement {
     h(
       'p',
       { className: 'hint' },
-      'What every sensor must see. A primary radar sees the aircraft by its echo: its radar cross-section (RCS) and how that echo fluctuates. A secondary radar sees it by its transponder’s replies.',
+      'What every sensor must see. A primary radar sees the aircraft by its echo: its radar cross-section (RCS) and how that echo fluctuates. A secondary radar sees it by its transponder’s replies. ADS-B and multilateration receivers hear the aircraft’s own 1090 MHz transmissions, from the same transponder class (its power sets their range); no RCS applies to them.',
     ),
     h('div', { className: 'field' }, h('label', { for: 'target-rcs' }, 'Radar cross-section (m²)'), rcs),
     h('div', { className: 'field' }, h('label', { for: 'target-fluctuation' }, 'Echo fluctuation'), fluct),

@@ -3,8 +3,9 @@
  *
  * Layers, bottom to top: the sensor's detection envelope (its own limits, no terrain), the radar shadow (between
  * the terrain and the line-of-sight floor), the terrain, the line-of-sight floor, the cone of silence, flight
- * levels, the antenna. Scales and path strings come from d3-scale and d3-shape (both DOM-free); colours from
- * the open viridis and cividis ramps of d3-scale-chromatic. Every piece of user text is escaped.
+ * levels, the antenna. A receiver (ADS-B, multilateration) has a reception envelope instead, and no cone of
+ * silence. Scales and path strings come from d3-scale and d3-shape (both DOM-free); colours from the open
+ * viridis and cividis ramps of d3-scale-chromatic. Every piece of user text is escaped.
  */
 import { max, min } from 'd3-array';
 import { scaleLinear } from 'd3-scale';
@@ -12,6 +13,7 @@ import { interpolateCividis, interpolateViridis } from 'd3-scale-chromatic';
 import { area, line } from 'd3-shape';
 import { CAUTION } from '../../shared/caution.ts';
 import { InputError } from '../../shared/errors.ts';
+import { isReceiverKind } from '../../shared/sensor-kinds.ts';
 import { FT_M, NM_M } from '../../shared/units.ts';
 import type { DiagramData } from '../core/diagram.ts';
 import type { Provenance } from './provenance.ts';
@@ -111,19 +113,29 @@ export function renderDiagramSvg(data: DiagramData, opts: DiagramSvgOptions): st
 
   // --- Legend first: its rows decide how tall the plot can be. ---
   const k = data.kFactor;
+  // A receiver (ADS-B, multilateration) hears the aircraft's 1090 MHz transmissions: no echo, no RCS, no SSR
+  // links, and no cone of silence beyond its pattern (worker/core/receiver.ts: coneOfSilenceRad = 90°).
+  const receiver = isReceiverKind(data.sensor.kind);
   const legend: LegendItem[] = [
     { label: 'Terrain', swatch: 'terrain' },
-    { label: 'Radar shadow (below line of sight)', swatch: 'shadow' },
+    {
+      label: receiver ? 'Shadow (below line of sight)' : 'Radar shadow (below line of sight)',
+      swatch: 'shadow',
+    },
     {
       // A secondary's range comes from its link budget, not from the target's echo: no RCS to name.
       label:
         data.sensor.kind === 'primary'
           ? `Detection envelope (RCS ${fmtNumber(data.sensor.rcsM2)} m²)`
-          : 'Detection envelope (both SSR links)',
+          : receiver
+            ? `Reception envelope (1090 MHz, ${data.sensor.target})`
+            : 'Detection envelope (both SSR links)',
       swatch: 'envelope',
     },
     { label: 'Line-of-sight floor', swatch: 'floor' },
-    { label: `Cone of silence (above ${fmtNumber(data.cone.maxElevationDeg)}°)`, swatch: 'cone' },
+    ...(receiver
+      ? []
+      : [{ label: `Cone of silence (above ${fmtNumber(data.cone.maxElevationDeg)}°)`, swatch: 'cone' }]),
     { label: 'Flight level', swatch: 'fl' },
     { label: 'Antenna', swatch: 'antenna' },
   ];
@@ -318,7 +330,7 @@ export function renderDiagramSvg(data: DiagramData, opts: DiagramSvgOptions): st
   const coneLine = line<number>()
     .x((i) => X(cone.rangesM[i]))
     .y((i) => Y(cone.altitudesM[i]));
-  const coneEdge = coneLine(coneIdx);
+  const coneEdge = receiver ? null : coneLine(coneIdx);
   if (coneEdge) {
     const topY = Y(cone.altitudesM[cone.altitudesM.length - 1]);
     out.push(

@@ -24,8 +24,10 @@
  *   sensor kind that the sites may carry.
  * - A volumes file: GeoJSON polygons (a FeatureCollection, a Feature or a bare geometry); each feature's
  *   properties may give id, name, flMin, flMax, altitudeBand, requiredFold (or flat primaryFold, secondaryFold,
- *   anyFold), weight and a target (targetRcsM2, targetFluctuation, targetTransponder); the rest comes from the
- *   defaults above. Other properties are ignored and listed in a warning.
+ *   anyFold, adsbFold, mlatFold), requiredMlatAccuracyM (the multilateration fix's 1σ horizontal DRMS bound, m),
+ *   weight and a target (targetRcsM2, targetFluctuation, targetTransponder); the rest comes from the defaults
+ *   above. Other properties are ignored and listed in a warning. Each value is checked by the scenario schema,
+ *   and a bad one is named by its feature and property.
  *
  * Every problem names the file it comes from: a CSV row and column (`sites.csv: row 7, column "lat"`), a GeoJSON
  * feature and property (`volumes.geojson: features[2].properties.flMin`), a site off the terrain with its id,
@@ -530,6 +532,7 @@ const VOLUME_PROPERTIES = [
   'anyFold',
   'adsbFold',
   'mlatFold',
+  'requiredMlatAccuracyM',
   'weight',
   'targetRcsM2',
   'targetFluctuation',
@@ -614,7 +617,14 @@ function volumesOf(
       ...(props.flMax !== undefined || !band ? { flMax: props.flMax ?? levels[levels.length - 1] } : {}),
       requiredFold: props.requiredFold ?? (usesFlat ? flatFold : fold),
     };
-    for (const k of ['altitudeBand', 'weight', 'targetRcsM2', 'targetFluctuation', 'targetTransponder'])
+    for (const k of [
+      'altitudeBand',
+      'requiredMlatAccuracyM',
+      'weight',
+      'targetRcsM2',
+      'targetFluctuation',
+      'targetTransponder',
+    ])
       if (props[k] !== undefined) vol[k] = props[k];
     volumes.push(vol);
     where.push(at);
