@@ -199,6 +199,12 @@ describe('multilateration accuracy from the commands, four receivers on a square
     expect(text).toMatch(/Radar sites seeing: 0 \/ 1 \/ 2 \/ 3 \/ ≥4/);
     expect(text).toMatch(/Multilateration receivers hearing: 0 \/ 1 \/ 2 \/ 3 \/ ≥4/);
     expect(text).not.toMatch(/ADS-B stations hearing/);
+    // The accuracy bounds' N−1 table: one row per buoy (each with receivers).
+    expect(
+      text
+        .match(/<table class="grid" data-table="mlat-outage">[\s\S]*?<\/table>/)![0]
+        .match(/<tr data-site=/g),
+    ).toHaveLength(4);
     // In the square all four receivers hear: the column's last bin (≥ 4) holds the whole area.
     expect(text).toMatch(
       /<td class="n hist">100 \/ 0 \/ 0 \/ 0 \/ 0<\/td><td class="n hist">0 \/ 0 \/ 0 \/ 0 \/ 100<\/td>/,

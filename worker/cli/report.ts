@@ -12,7 +12,7 @@ import { CAUTION } from '../../shared/caution.ts';
 import { InputError } from '../../shared/errors.ts';
 import { formatFl } from '../../shared/units.ts';
 import { conventionsText, levelAltitudesM, modelWarnings, studyNetwork } from '../io/study.ts';
-import { mlatMaps } from './mlat-outputs.ts';
+import { mlatMaps, mlatOutage } from './mlat-outputs.ts';
 import type { VolumeLevelStats } from '../core/volumes.ts';
 import type { Provenance } from '../io/provenance.ts';
 import { buildReportHtml, type ReportPlan } from '../io/report-html.ts';
@@ -250,6 +250,11 @@ export async function reportCommand(argv: readonly string[], log: (s: string) =>
   const tFootprints = performance.now();
   const fls = s.flightLevels;
   const accuracy = mlatMaps(session, candidates, footprints, fls, levelAltitudesM(s, fls));
+  const accuracyOutage = accuracy
+    ? mlatOutage(session, candidates, footprints, fls, levelAltitudesM(s, fls), [
+        ...new Set(accuracy.receiverSites),
+      ])
+    : null;
   const { model, timingsMs } = buildReportModel({
     study: session,
     network: studyNetwork(session, fls, footprints),
@@ -267,6 +272,7 @@ export async function reportCommand(argv: readonly string[], log: (s: string) =>
             minReceivers: accuracy.minReceivers,
             altitudeKnown: accuracy.altitudeKnown,
             rows: accuracy.volumes,
+            ...(accuracyOutage ? { outage: accuracyOutage } : {}),
           },
         }
       : {}),

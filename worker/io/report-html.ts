@@ -95,6 +95,21 @@ export interface ReportMlat {
     medianM: number | null;
     metPct: number;
   }[];
+  /**
+   * One site with receivers down at a time (worker/io/mlat-figures.ts mlatOutageLosses): the area whose fix meets
+   * its bound with every receiver up and not without the site, worst first; absent when no volume bounds it.
+   */
+  outage?: {
+    siteId: string;
+    areaKm2Lost: number;
+    byVolume: {
+      volumeId: string;
+      flightLevel: number;
+      areaKm2Lost: number;
+      metPctBefore: number;
+      metPctAfter: number;
+    }[];
+  }[];
 }
 
 export interface ReportModel {
@@ -697,7 +712,32 @@ bound (a cell without a fix does not meet it). Rows short of the bound are marke
 <code>airshade coverage</code> as <code>mlat-accuracy-FL….tif</code> and <code>.geojson</code>.</p>
 <table class="grid" data-table="mlat"><thead><tr><th>Volume</th><th>Level</th><th class="n">Bound m</th><th class="n">A fix %</th><th class="n">Median DRMS m</th><th class="n">Meets the bound %</th></tr></thead>
 <tbody>${rows || '<tr><td colspan="6">No volume bounds the accuracy.</td></tr>'}</tbody></table>
+${mlatOutageTable(m)}
 </section>`;
+}
+
+/** The accuracy bounds' N−1 table: a receiver lost can leave every fold met and still spoil the fix. */
+function mlatOutageTable(m: ReportModel): string {
+  const list = m.mlat?.outage;
+  if (!list || list.length === 0) return '';
+  const vname = new Map(m.volumes.map((v) => [v.id, v.name]));
+  const sname = new Map(m.sites.map((s) => [s.id, s.name]));
+  const body = list
+    .map((l, i) => {
+      const top = [...l.byVolume].sort((a, b) => b.areaKm2Lost - a.areaKm2Lost)[0];
+      const worst =
+        top && top.areaKm2Lost > 0
+          ? `${esc(vname.get(top.volumeId) ?? top.volumeId)} ${flText(top.flightLevel)}: ${top.metPctBefore.toFixed(1)} % → ${top.metPctAfter.toFixed(1)} % meeting the bound`
+          : '—';
+      return `<tr data-site="${esc(l.siteId)}"><td class="n">${i + 1}</td><td><code>${esc(l.siteId)}</code>${sname.get(l.siteId) ? ' ' + esc(sname.get(l.siteId)!) : ''}</td>${num(l.areaKm2Lost, 0)}<td>${worst}</td></tr>`;
+    })
+    .join('\n');
+  return `<h3>One receiver site down at a time</h3>
+<p>Per site with multilateration receivers, taken out alone: the area of the bounded volumes (over the levels of
+their bands, a cell counted once) whose fix meets its bound with every receiver up and not without that site. A
+receiver lost can leave every fold met and still spoil the geometry; the fold losses are in the N−1 table.</p>
+<table class="grid" data-table="mlat-outage"><thead><tr><th class="n">#</th><th>Site down</th><th class="n">Area losing its bound km²</th><th>Worst volume and level</th></tr></thead>
+<tbody>${body}</tbody></table>`;
 }
 
 function planSection(m: ReportModel, n: number): string {

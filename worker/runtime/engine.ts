@@ -60,6 +60,7 @@ import {
   mlatFigures,
   mlatLevelMap,
   mlatNetwork,
+  mlatOutageLosses,
   type MlatNetwork,
   type MlatStudy,
 } from '../io/mlat-figures.ts';
@@ -1086,6 +1087,18 @@ export class Engine {
       cur.flightLevels,
       levelAltitudesM(s, cur.flightLevels),
     );
+    // Its N−1 table: each site with receivers taken out alone, as `airshade report` gives it.
+    const mlatNet = accuracy ? mlatNetwork(mlatStudyOf(study), candidates, footprints as Footprint[]) : null;
+    const accuracyOutage =
+      mlatNet && s.volumes.some((v) => v.requiredMlatAccuracyM !== undefined)
+        ? mlatOutageLosses(
+            mlatStudyOf(study),
+            mlatNet,
+            cur.flightLevels,
+            levelAltitudesM(s, cur.flightLevels),
+            [...new Set(mlatNet.receiverSites)],
+          )
+        : null;
     const { model } = buildReportModel({
       study,
       network,
@@ -1103,6 +1116,7 @@ export class Engine {
               minReceivers: accuracy.minReceivers,
               altitudeKnown: accuracy.altitudeKnown,
               rows: accuracy.volumes,
+              ...(accuracyOutage ? { outage: accuracyOutage } : {}),
             },
           }
         : {}),
