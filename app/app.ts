@@ -8,9 +8,9 @@ import { destination } from '@turf/turf';
 import { get as idbGet, set as idbSet } from 'idb-keyval';
 import { CAUTION, CAUTION_SHORT } from '../shared/caution.ts';
 import { formatFl } from '../shared/units.ts';
-import type { SiteLoss } from '../worker/core/outage.ts';
 import type {
   CoverageSummary,
+  OutageTable,
   OutageView,
   PlanSummary,
   StudySummary,
@@ -69,7 +69,7 @@ export class App implements PanelHost {
   coverage: CoverageSummary | null = null;
   outage: OutageView | null = null;
   plan: PlanSummary | null = null;
-  nMinus1: SiteLoss[] | null = null;
+  nMinus1: OutageTable | null = null;
   compare: ComparedLayouts | null = null;
   poolSize = 0;
   shared = false;

@@ -101,6 +101,8 @@ export async function summaryText(host: ExportHost): Promise<string> {
         }
       : null,
     nMinus1: host.nMinus1,
+    // The accuracy bounds' N−1 table, under the name outage.json gives it (it rides on the table's array).
+    ...(host.nMinus1?.accuracy ? { mlatAccuracyLosses: host.nMinus1.accuracy } : {}),
     compare: host.compare,
     provenance: await exportProvenance(host, 'app summary', networkOptions(host)),
   };

@@ -7,10 +7,10 @@
  * Each panel takes a `Pick` of it naming only what it uses, so a panel's dependencies can be read off its
  * signature.
  */
-import type { SiteLoss } from '../worker/core/outage.ts';
 import type {
   CompareSummary,
   CoverageSummary,
+  OutageTable,
   OutageView,
   PlanSummary,
   StudySummary,
@@ -57,7 +57,7 @@ export interface PanelHost {
   /** Set by the Plan panel when a plan is made. */
   plan: PlanSummary | null;
   /** Set by the Plan and Outages panels (the N−1 table). */
-  nMinus1: SiteLoss[] | null;
+  nMinus1: OutageTable | null;
   /** Set by the Layouts panel (Compare). */
   compare: ComparedLayouts | null;
   /** The true altitude (m AMSL) of a flight level on the study's day, as the engine computed it. */

@@ -275,6 +275,34 @@ describe('multilateration accuracy in the engine, four receivers on a square ove
     expect(section(html)).toBe(section(cli));
   });
 
+  it('the N−1 table carries the accuracy bounds lost per receiver site, as `airshade outage` gives them', async () => {
+    // The CLI's default network: every allowed site and type (the four receivers and buoy NE's ADS-B receiver).
+    const out = join(fx.dir, 'outage');
+    const r = await runCli('outage', fx.scenarioPath, '--out', out, '--threads', '0', '--quiet');
+    expect(r.code, r.err).toBe(0);
+    const cli = JSON.parse(readFileSync(join(out, 'outage.json'), 'utf8')) as {
+      sensors: SensorRef[];
+      mlatAccuracyLosses: unknown[];
+    };
+    expect(cli.sensors).toHaveLength(sensors.length);
+    // The same sensors in the CLI's order, so that both sum the receivers in the same order.
+    const table = await engine.outageTable(cli.sensors);
+    expect(table.accuracy).toBeDefined();
+    expect(table.accuracy!.map((l) => l.siteId).sort()).toEqual(
+      scenario.sites.map((f) => f.properties.id).sort(),
+    );
+    // Each buoy down leaves three receivers: a fix still (the altitude reported), but a worse one, so the 10 m
+    // bound over the square loses area (the model's own consequence, not a figure from outside).
+    expect(table.accuracy!.every((l) => l.areaKm2Lost > 0)).toBe(true);
+    expect(JSON.parse(JSON.stringify(table.accuracy))).toEqual(cli.mlatAccuracyLosses);
+    // The fold-based rows are the CLI's too.
+    expect(JSON.parse(JSON.stringify([...table]))).toEqual(JSON.parse(JSON.stringify(cli)).losses);
+    // A network without multilateration receivers: the fold-based table alone.
+    const adsbOnly = await engine.outageTable([{ siteId: 'buoy-ne', typeId: ADSB.id }]);
+    expect(adsbOnly).toHaveLength(1);
+    expect(adsbOnly.accuracy).toBeUndefined();
+  });
+
   it('offers nothing for a network without multilateration receivers', async () => {
     const c = await engine.coverage([{ siteId: 'buoy-ne', typeId: ADSB.id }], undefined);
     expect(c.mlat).toBeNull();

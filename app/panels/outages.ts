@@ -1,14 +1,17 @@
 /**
  * Outages: sites taken down (ticked here or clicked on the map) and what the network loses — volume area and
  * demand weight, per level and per volume — and the N−1 table (one site down at a time, radar and receiver sites
- * alike, with the kinds each site takes down with it).
+ * alike, with the kinds each site takes down with it) and, where volumes bound the multilateration accuracy, what
+ * each receiver site down costs those bounds.
  */
 import { formatFl } from '../../shared/units.ts';
 import { h, table } from '../dom.ts';
 import { progressProxy } from '../engine-client.ts';
 import type { PanelHost } from '../panel-host.ts';
+import type { MlatSiteLoss } from '../../worker/io/mlat-figures.ts';
+import type { OutageTable } from '../../worker/runtime/engine.ts';
 import { hasReceivers, siteKindsText } from '../receivers.ts';
-import { DEMAND_WEIGHT_TEXT, fmtArea, fmtDemandWeight } from '../units.ts';
+import { DEMAND_WEIGHT_TEXT, fmtArea, fmtDemandWeight, fmtPct } from '../units.ts';
 import { section } from './kit.ts';
 
 type Host = Pick<
@@ -27,6 +30,20 @@ function totalDemandWeight(host: Pick<PanelHost, 'state' | 'coverage' | 'plan'>)
     return c.volumes.reduce((a, v) => a + v.areaKm2 * (w.get(v.volumeId) ?? 1), 0);
   }
   return host.plan?.totalWeight;
+}
+
+/**
+ * The N−1 table's accuracy part (engine.ts OutageTable): per receiver site, the volume and level that lose the
+ * most area meeting their bound. Null when the table has none (no mlat receivers, or no volume bounds the accuracy).
+ */
+function accuracyRows(
+  n1: OutageTable | null,
+): { loss: MlatSiteLoss; worst: MlatSiteLoss['byVolume'][number] | null }[] | null {
+  if (!n1?.accuracy) return null;
+  return n1.accuracy.map((loss) => {
+    const worst = [...loss.byVolume].sort((a, b) => b.areaKm2Lost - a.areaKm2Lost)[0];
+    return { loss, worst: worst && worst.areaKm2Lost > 0 ? worst : null };
+  });
 }
 
 export function outagesPanel(host: Host): HTMLElement {
@@ -84,6 +101,8 @@ export function outagesPanel(host: Host): HTMLElement {
         )
       : h('p', { className: 'hint', id: 'outage-loss' }, 'No site failed.');
   const n1 = host.nMinus1;
+  const accuracy = accuracyRows(n1);
+  const volumeName = (id: string) => s.doc.volumes.find((v) => v.id === id)?.name ?? id;
   // The N−1 table may be the plan's (Plan panel) rather than the network's: its sites' sensors come from the
   // list whose sites it lists.
   const sameSites = (refs: readonly { siteId: string }[]) =>
@@ -131,6 +150,28 @@ export function outagesPanel(host: Host): HTMLElement {
           )
         : null,
     ),
+    accuracy
+      ? section(
+          'Accuracy bound lost with the site down',
+          h(
+            'p',
+            { className: 'hint' },
+            'Per site with multilateration receivers, one at a time, every other site up: the volume area whose fix meets its accuracy bound with every receiver up and not with that site down, at one level or more.',
+          ),
+          accuracy.length
+            ? table(
+                ['Site down', 'Area losing its bound', 'Worst volume and level', 'Share meeting the bound'],
+                accuracy.map(({ loss, worst }) => [
+                  name(loss.siteId),
+                  fmtArea(loss.areaKm2Lost, u),
+                  worst ? `${volumeName(worst.volumeId)} ${formatFl(worst.flightLevel)}` : '—',
+                  worst ? `${fmtPct(worst.metPctBefore)} → ${fmtPct(worst.metPctAfter)}` : '—',
+                ]),
+                { id: 'n1-accuracy', className: 'wide' },
+              )
+            : h('p', {}, 'No volume that bounds the accuracy has cells at the study’s levels.'),
+        )
+      : null,
     h(
       'p',
       { className: 'hint', id: 'demand-weight-hint' },
@@ -140,7 +181,7 @@ export function outagesPanel(host: Host): HTMLElement {
       ? h(
           'p',
           { className: 'hint', id: 'outage-receivers-hint' },
-          'Receiver sites count here as radar sites do: a volume that requires ADS-B or multilateration loses every cell where the receivers left hearing it fall below its count, so one receiver down can take a whole area with it. The figures count receivers; how much worse the fixes left become is not in them: take the receiver down and look at the accuracy layer in Coverage.',
+          `Receiver sites count here as radar sites do: a volume that requires ADS-B or multilateration loses every cell where the receivers left hearing it fall below its count, so one receiver down can take a whole area with it. These figures count receivers, not how much worse the fixes left become: ${accuracy ? 'that is in “Accuracy bound lost with the site down” above, for the volumes that bound the accuracy' : 'with multilateration receivers and volumes that bound the accuracy, the N−1 table adds “Accuracy bound lost with the site down” for that'}. On the map, take a site down and look at the accuracy layer in Coverage.`,
         )
       : null,
   );

@@ -62,6 +62,7 @@ import {
   mlatNetwork,
   mlatOutageLosses,
   type MlatNetwork,
+  type MlatSiteLoss,
   type MlatStudy,
 } from '../io/mlat-figures.ts';
 import { mlatAccuracyImage, mlatLegend } from '../io/mlat-image.ts';
@@ -182,6 +183,14 @@ export interface MlatInfo {
   minReceivers: number;
   altitudeKnown: boolean;
 }
+
+/**
+ * The N−1 table: one row per site, worst first (core/outage.ts). `accuracy`, only when the network has `mlat`
+ * receivers and a volume bounds the accuracy: per site with receivers, what its outage alone costs the bounds,
+ * worst first (io/mlat-figures.ts). A named property on the array, so that every holder of a `SiteLoss[]` takes
+ * the table as before; the worker's messages (structured clone) keep it, JSON.stringify does not.
+ */
+export type OutageTable = SiteLoss[] & { accuracy?: MlatSiteLoss[] };
 
 export interface OutageView {
   failed: string[];
@@ -891,8 +900,13 @@ export class Engine {
     };
   }
 
-  /** N−1: what each site's failure alone costs the given network (default: the current one). */
-  async outageTable(sensors?: SensorRef[], progress?: ProgressFn): Promise<SiteLoss[]> {
+  /**
+   * N−1: what each site's failure alone costs the given network (default: the current one), every other site up.
+   * With `mlat` receivers in the network and a volume bounding the accuracy, the table also carries `accuracy`:
+   * per site with receivers, the area whose fix meets its bound with every receiver up and not with that site
+   * down (io/mlat-figures.ts `mlatOutageLosses`, as `airshade outage` writes outage.json mlatAccuracyLosses).
+   */
+  async outageTable(sensors?: SensorRef[], progress?: ProgressFn): Promise<OutageTable> {
     const check = this.startJob();
     const study = this.needStudy();
     const s = study.loaded.scenario;
@@ -903,8 +917,8 @@ export class Engine {
     const { footprints } = await this.footprintsOf(refs, check, progress, [0, 0.9]);
     check();
     const network = studyNetwork(study, fls, footprints);
-    progress?.(0.95, 'outage table');
-    return outageTable(
+    progress?.(0.93, 'outage table');
+    const table: OutageTable = outageTable(
       network,
       s.volumes,
       study.volumeMasks,
@@ -915,6 +929,20 @@ export class Engine {
       study.volumeTargets,
       study.ground,
     );
+    if (!s.volumes.some((v) => v.requiredMlatAccuracyM !== undefined)) return table;
+    const mlat = mlatStudyOf(study);
+    const net = mlatNetwork(
+      mlat,
+      refs.map((r, i) => this.candidateOf(r, `sensors[${i}]`)),
+      footprints,
+    );
+    if (net === null) return table;
+    check();
+    progress?.(0.96, 'accuracy bounds, one receiver site down at a time');
+    table.accuracy = mlatOutageLosses(mlat, net, fls, levelAltitudesM(s, fls), [
+      ...new Set(net.receiverSites),
+    ]);
+    return table;
   }
 
   // -------------------------------------------------------------------------------------------------- plan
