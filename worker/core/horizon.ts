@@ -343,6 +343,12 @@ function sweepRadial(
         trace[j * 2] = x;
         trace[j * 2 + 1] = y;
       }
+      if (T !== T && trace === null) {
+        // Unknown stays unknown to the radial's end (most samples of a site near the terrain's edge): store the
+        // rest at once, without stepping positions no sample will read.
+        for (let q = j + 1; q < jEnd; q++) dst[base + q * stride] = NaN;
+        return T;
+      }
       if (j < jFirst || T !== T) continue; // the antenna's own cell; unknown stays unknown
       if (x < 0 || y < 0 || x > W || y > H) {
         T = NaN;
