@@ -224,7 +224,13 @@ interface ToolRun {
   groundM?: number;
 }
 
-async function runAirshade(n: number, demPath: string, site: string, runs: number): Promise<ToolRun> {
+async function runAirshade(
+  n: number,
+  demPath: string,
+  site: string,
+  runs: number,
+  haveTime: boolean,
+): Promise<ToolRun> {
   const outPath = join(OUT_DIR, `airshade-floor-${n}.tif`);
   const args = [
     CLI,
@@ -251,7 +257,12 @@ async function runAirshade(n: number, demPath: string, site: string, runs: numbe
     // Others may edit the sources while the bench runs: rebuild so bin/airshade.mjs runs the built CLI.
     ensureBuilt(`${n}²`);
     const viaTsx = !builtCliFresh();
-    const r = await runTimed(process.execPath, args);
+    // Under /usr/bin/time like gdal_viewshed: Linux keeps the peak resident set across fork and exec, so a child
+    // spawned straight from this script would report at least this script's own (references and all: 500–800 MiB
+    // here), whatever it used itself. /usr/bin/time is a small parent.
+    const r = haveTime
+      ? await runTimed('/usr/bin/time', ['-v', process.execPath, ...args])
+      : await runTimed(process.execPath, args);
     if (r.code !== 0) {
       progress(`${n}²: airshade floor failed (exit ${r.code}):\n${r.stderr}${r.stdout}`);
       return {
@@ -264,7 +275,9 @@ async function runAirshade(n: number, demPath: string, site: string, runs: numbe
         note: 'failed',
       };
     }
-    const peak = /peak memory (\d+) MiB/.exec(r.stdout);
+    const kb = /Maximum resident set size \(kbytes\): (\d+)/.exec(r.stderr);
+    const printed = /peak memory (\d+) MiB/.exec(r.stdout);
+    const peak = kb ? [kb[0], String(Math.round(Number(kb[1]) / 1024))] : printed;
     const ground = /ground (-?[\d.]+) m \+ mast/.exec(r.stdout);
     walls.push(r.wallS);
     progress(
@@ -525,7 +538,7 @@ async function main(): Promise<void> {
         `${pl.seconds.toFixed(1)} + ${sp.seconds.toFixed(1)} s`,
     );
 
-    const air = await runAirshade(n, demPath, site, runs);
+    const air = await runAirshade(n, demPath, site, runs, haveTime);
     if (air.ok && air.groundM !== undefined && Math.abs(air.groundM - groundC) > 0.05) {
       progress(
         `${n}²: WARNING Airshade reports antenna ground ${air.groundM} m, the centre cell holds ${groundC}`,
@@ -655,9 +668,10 @@ async function main(): Promise<void> {
     `- Wall time: whole process, from spawn to exit (start-up, reading the DEM and writing the output ` +
       `included); each tool run ${runs}×, the faster run is reported. All runs: ${allTimes.join('; ')}.` +
       (ratios.length > 0 ? ` Airshade / gdal_viewshed, ratio of medians: ${ratios.join(', ')}.` : ''),
-    '- Peak memory: Airshade prints its own peak resident set (process.resourceUsage().maxRSS, worker threads ' +
-      'included) on its last line; gdal_viewshed is run under `/usr/bin/time -v` (Debian package `time`) and its ' +
-      '"Maximum resident set size" is reported (— when /usr/bin/time is missing).',
+    '- Peak memory: both tools run under `/usr/bin/time -v` (Debian package `time`) and its "Maximum resident set ' +
+      'size" is reported (worker threads included). Not the figure a child spawned straight from this script would ' +
+      "print: Linux keeps the peak resident set across fork and exec, so it would include this script's own. " +
+      "Without /usr/bin/time, Airshade's printed figure is used (read it as an upper bound) and gdal_viewshed's is —.",
     '- Accuracy: against the exact R3 ray walk (Franklin & Ray 1994; test/reference/raywalk.ts) on a seeded ' +
       'uniform random sample of target cells (the observer cell excluded), antenna altitude = ground of the ' +
       `centre cell + ${MAST_M} m, reM = a / cc. All floors are clamped to the ground first (gdal's -om DEM value ` +
