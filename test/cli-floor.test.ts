@@ -109,6 +109,34 @@ describe('airshade floor', () => {
     expect(readFileSync(inline).equals(readFileSync(pooled))).toBe(true);
   });
 
+  it('the sweep over the cells with this thread as a lane (1 and 2 threads) writes what the inline path writes', () => {
+    const bin = join(import.meta.dirname, '..', 'bin', 'airshade.mjs');
+    const floorFile = (threads: string) => {
+      const out = join(dir, `cells-${threads}.tif`);
+      execFileSync(process.execPath, [
+        bin,
+        'floor',
+        '--dem',
+        dem,
+        '--site',
+        SITE,
+        '--mast-m',
+        '12',
+        '--sweep',
+        'cells',
+        '--out',
+        out,
+        '--threads',
+        threads,
+        '--quiet',
+      ]);
+      return readFileSync(out);
+    };
+    const inline = floorFile('0');
+    expect(inline.equals(floorFile('2'))).toBe(true);
+    expect(inline.equals(floorFile('1'))).toBe(true);
+  });
+
   it('--help prints the usage and exits 0', async () => {
     const r = await run('floor', '--help');
     expect(r.code).toBe(0);

@@ -180,11 +180,18 @@ export async function floorCommand(argv: readonly string[], log: (s: string) => 
   if (crsProblem !== undefined) {
     throw new InputError(dems[0], crsProblem, 'a DEM whose CRS can be written back as GeoTIFF keys');
   }
-  const pool = threads > 0 ? await NodePool.start(threads, terrain.toParts()) : null;
+  // The sweep over the cells takes this thread as one of its lanes: one worker thread less in memory for the same
+  // parallelism (RemotePool.sharingExecutor). The radial sweep keeps a worker per thread.
+  const sharing = method.sweep === 'cells' && threads > 1;
+  const pool = threads > 0 ? await NodePool.start(sharing ? threads - 1 : threads, terrain.toParts()) : null;
   const tReady = performance.now();
   let result: { kind: 'radials'; r: FloorResult } | { kind: 'cells'; r: GridFloorResult };
   try {
-    const exec = pool ? pool.executor() : inlineExecutor(terrain);
+    const exec = pool
+      ? sharing
+        ? pool.sharingExecutor(inlineExecutor(terrain))
+        : pool.executor()
+      : inlineExecutor(terrain);
     const req = { lon: site.lon, lat: site.lat, mastM, kFactor, maxRangeM };
     result =
       method.sweep === 'cells'

@@ -26,6 +26,7 @@ import {
 } from './horizon.ts';
 import {
   copyPristine,
+  gridSweepTaskCells,
   gridSweepTasks,
   sweepGridOctant,
   type GridPristine,
@@ -293,12 +294,7 @@ export async function computeGridFloor(
     vmap,
   });
   // Largest octants first, so the last ones to finish are short.
-  const size = (t: GridSweepTask): number => {
-    const lines = t.lines === 'rows' ? (t.sy > 0 ? H - 1 - row : row) : t.sx > 0 ? W - 1 - col : col;
-    const along = t.lines === 'rows' ? (t.sx > 0 ? W - 1 - col : col) : t.sy > 0 ? H - 1 - row : row;
-    return Math.min(lines, along) * Math.max(lines, along);
-  };
-  tasks.sort((a, b) => size(b) - size(a));
+  tasks.sort((a, b) => gridSweepTaskCells(b) - gridSweepTaskCells(a));
   let done = 0;
   const counts = await Promise.all(
     tasks.map((t) =>

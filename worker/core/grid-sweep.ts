@@ -70,6 +70,15 @@ export interface GridSweepTask {
   readonly vmap: VectorMapParts;
 }
 
+/** An octant's work, in cells (lines × cells along them): how the octants are ordered and shared out. */
+export function gridSweepTaskCells(t: GridSweepTask): number {
+  const lines =
+    t.lines === 'rows' ? (t.sy > 0 ? t.height - 1 - t.row : t.row) : t.sx > 0 ? t.width - 1 - t.col : t.col;
+  const along =
+    t.lines === 'rows' ? (t.sx > 0 ? t.width - 1 - t.col : t.col) : t.sy > 0 ? t.height - 1 - t.row : t.row;
+  return Math.max(0, lines) * Math.max(0, along);
+}
+
 export interface GridSweepCounts {
   /** Output cells beyond the range (a cell two octants share is counted by one). */
   beyondRange: number;

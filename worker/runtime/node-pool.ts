@@ -48,6 +48,11 @@ export class NodePool {
     return this.pool.executor();
   }
 
+  /** The workers and the calling thread as one more lane, for one grid sweep (RemotePool.sharingExecutor). */
+  sharingExecutor(inline: Executor): Executor {
+    return this.pool.sharingExecutor(inline);
+  }
+
   async close(): Promise<void> {
     await Promise.all(this.workers.map((w) => w.terminate()));
   }

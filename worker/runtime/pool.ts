@@ -6,6 +6,7 @@
 import type { Remote } from 'comlink';
 import type { WorkerApi } from './api.ts';
 import type { Executor } from '../core/floor.ts';
+import { gridSweepTaskCells } from '../core/grid-sweep.ts';
 
 export class RemotePool {
   private readonly idle: Remote<WorkerApi>[];
@@ -39,6 +40,37 @@ export class RemotePool {
       resample: (layout, tan, vmap, out, ground, r0, r1, distance) =>
         this.run((w) => w.resample(layout, tan, vmap, out, ground, r0, r1, distance)),
       gridSweep: (task, pristine, out) => this.run((w) => w.gridSweep(task, pristine, out)),
+    };
+  }
+
+  /**
+   * For one grid sweep (`computeGridFloor`): the calling thread works as one more lane beside the workers, so a
+   * pool of n − 1 workers keeps n lanes busy with one worker thread less in memory (`airshade floor`). Each octant
+   * goes, as it is handed in (largest first), to the lane with the least work so far (longest-processing-time
+   * order). A worker's octants are posted at once and queue in that worker; the calling thread's run back to back
+   * in `inline` once every octant has been handed out, so no worker waits for this thread to hand it the next.
+   * Sweeps over radials and resampling go to the workers as `executor()` sends them.
+   */
+  sharingExecutor(inline: Executor): Executor {
+    const base = this.executor();
+    const load = new Array<number>(this.remotes.length + 1).fill(0);
+    const mine: (() => void)[] = [];
+    return {
+      ...base,
+      size: this.remotes.length + 1,
+      gridSweep: (task, pristine, out) => {
+        let lane = 0;
+        for (let i = 1; i < load.length; i++) if (load[i] < load[lane]) lane = i;
+        load[lane] += gridSweepTaskCells(task);
+        if (lane < this.remotes.length) return this.remotes[lane].gridSweep(task, pristine, out);
+        return new Promise((resolve, reject) => {
+          if (mine.push(() => void inline.gridSweep(task, pristine, out).then(resolve, reject)) === 1) {
+            setTimeout(() => {
+              for (const run of mine.splice(0)) run();
+            }, 0);
+          }
+        });
+      },
     };
   }
 }
