@@ -36,7 +36,9 @@ import {
   saveFailureLines,
   setFailed as stateSetFailed,
   stateFromScenario,
+  useLayout,
   utcText,
+  type FoldKind,
   type SavedWork,
   type WorkState,
 } from './state.ts';
@@ -44,8 +46,17 @@ import { LEGEND_WIDTH_PX, renderLegend } from './legend.ts';
 import { fmtAltitude, fmtLevel, fmtLonLat, fmtReadout } from './units.ts';
 
 const DEMO_URL = 'data/demo-scenario.json';
+/** The legend's words for the count shown (the Coverage panel's choices). */
+const KIND_WORDS: Record<FoldKind, string> = {
+  any: 'any radar',
+  primary: 'PSR',
+  secondary: 'SSR',
+  adsb: 'ADS-B receivers',
+  mlat: 'multilateration receivers',
+};
 /** The demo's variant with ADS-B and multilateration receivers round its two terminal areas (issue 14). */
 const DEMO_RECEIVERS_URL = 'data/demo-receivers-scenario.json';
+const DEMO_RECEIVERS_LAYOUT = 'existing network with receivers';
 const SAVE_KEY = 'airshade-work';
 
 /** Figures the end-to-end test reads (and a curious user can, from the console). */
@@ -402,7 +413,10 @@ export class App implements PanelHost {
         progress(0.05, 'reading the scenario');
         const { scenario, tileUrls } = await fetchScenario(url);
         progress(0.2, `reading ${tileUrls.length} terrain tiles`);
-        const state = stateFromScenario(scenario, url.split('/').pop()!, this.state?.units ?? 'aviation');
+        let state = stateFromScenario(scenario, url.split('/').pop()!, this.state?.units ?? 'aviation');
+        // The variant opens on its receivers: the network with them, not the radars-only one it shares with the demo.
+        if (variant === 'receivers' && scenario.layouts.some((l) => l.name === DEMO_RECEIVERS_LAYOUT))
+          state = useLayout(state, DEMO_RECEIVERS_LAYOUT);
         const sources: TileSource[] = tileUrls;
         // Per tile read and decoded, from 20 % to 90 % of the bar.
         const r = await this.engine.loadTiles(
@@ -747,9 +761,7 @@ export class App implements PanelHost {
       units: u,
       layers,
       levelTitle: this.coverage ? fmtLevel(fl, this.levelAltitudeM(fl), u) : null,
-      foldTitle: this.coverage
-        ? `${fmtLevel(fl, this.levelAltitudeM(fl), u)}, ${kind === 'any' ? 'any kind' : kind}`
-        : null,
+      foldTitle: this.coverage ? `${fmtLevel(fl, this.levelAltitudeM(fl), u)}, ${KIND_WORDS[kind]}` : null,
       anyFailed: this.state.failed.length > 0,
       floor: this.coverage ? this.floorLegend : [],
       accuracy: this.coverage?.mlat ? this.accuracyLegend : [],

@@ -23,7 +23,7 @@ export const LEGEND_WIDTH_PX = 250;
 export interface LegendInput {
   units: Units;
   layers: Record<LayerId, LayerSetting>;
-  /** The level shown and the count, as text ("FL030 (3,000 ft), any kind"); null before coverage. */
+  /** The level shown and the count, as text ("FL030 (3,000 ft), any radar"); null before coverage. */
   foldTitle: string | null;
   /** The level shown alone ("FL030 (3,000 ft)"); null before coverage. */
   levelTitle?: string | null;

@@ -63,7 +63,7 @@ function viewControls(host: Host): HTMLElement {
         void host.refreshImages(['fold']);
       },
     },
-    h('option', { value: 'any' }, 'any kind'),
+    h('option', { value: 'any' }, 'any radar (PSR or SSR)'),
     h('option', { value: 'primary' }, 'PSR only'),
     h('option', { value: 'secondary' }, 'SSR only'),
     h('option', { value: 'adsb' }, 'ADS-B receivers'),

@@ -493,10 +493,10 @@ function requirementText(r: ReportVolume['requiredFold']): string {
   const parts: string[] = [];
   if (r.primary) parts.push(`${r.primary} primary`);
   if (r.secondary) parts.push(`${r.secondary} secondary`);
-  if (r.any) parts.push(`${r.any} of any kind`);
+  if (r.any) parts.push(`${r.any} radar${r.any > 1 ? 's' : ''} of either kind`);
   if (r.adsb) parts.push(`${r.adsb} ADS-B receiver${r.adsb > 1 ? 's' : ''}`);
   if (r.mlat) parts.push(`${r.mlat} multilateration receiver${r.mlat > 1 ? 's' : ''}`);
-  return parts.length ? parts.join(' and ') + ' (distinct sites)' : '1 of any kind (distinct sites)';
+  return parts.length ? parts.join(' and ') + ' (distinct sites)' : '1 radar of either kind (distinct sites)';
 }
 
 function bandText(v: ReportVolume): string {

@@ -1,6 +1,6 @@
 /**
  * The map pictures of the report (io/report-html.ts), from a network on the study's analysis grid: per flight
- * level the fold (distinct sites of any kind seeing each cell, as the coverage layers count it) with the cells of
+ * level the fold (distinct radar sites seeing each cell, as the coverage layers count it) with the cells of
  * each volume whose requirement is not met there, and once the network floor in steps of the study's levels — on a
  * plain base (land and sea not seen), with the coastline (ground above 0 m) as lines. The rasters come from
  * worker/io/render.ts (foldImage, maskImage, floorLevelImage on Web Mercator rows) and are encoded as PNG with
@@ -186,7 +186,7 @@ export function reportMaps(input: ReportMapsInput): { bounds: Bounds; maps: Repo
       flightLevel: fl,
       caption:
         `${label}, true altitude ${alt.toFixed(0)} m on the study's day (pressure altitude ${flToMetres(fl).toFixed(0)} m). ` +
-        'Colour: how many distinct sites of the network see the cell (sensors of any kind; a site counts once). ' +
+        'Colour: how many distinct radar sites of the network see the cell (primary or secondary; a site counts once). ' +
         (anyUnmet
           ? 'Hatched: cells inside a volume whose band holds this level where its required folds are not met.'
           : 'No cell of a volume whose band holds this level falls short of its required folds.'),
