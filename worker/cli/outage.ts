@@ -227,7 +227,7 @@ export async function outageCommand(argv: readonly string[], log: (s: string) =>
       `  ${name.slice(0, 24).padEnd(24)} ${l.demandWeightLost.toFixed(0).padStart(12)} ${l.areaKm2Lost.toFixed(0).padStart(14)}  ${top && top.demandWeightLost > 0 ? `${top.volumeId} ${formatFl(top.flightLevel)}` : '—'}`,
     );
   }
-  if (accuracyLosses) {
+  if (accuracyLosses && accuracyLosses.length > 0) {
     lines.push(
       '',
       '  multilateration accuracy bounds: area whose fix meets its bound with every receiver up and not without the site',
