@@ -267,5 +267,22 @@ describe('airshade plan with an accuracy bound, checked by airshade coverage on 
     expect(c.code, c.err).toBe(0);
     const summary = JSON.parse(readFileSync(join(cov, 'summary.json'), 'utf8'));
     expect(summary.mlatAccuracy.volumes[0]).toMatchObject({ volumeId: 'core', fixPct: 100, metPct: 100 });
+    // The report of the plan says so, naming the receivers added for accuracy alone.
+    const html = join(fx.dir, 'report.html');
+    const rep = await runCli(
+      'report',
+      fx.scenarioPath,
+      '--plan',
+      join(out, 'plan.json'),
+      '--out',
+      html,
+      '--quiet',
+    );
+    expect(rep.code, rep.err).toBe(0);
+    const text = readFileSync(html, 'utf8');
+    expect(text).toMatch(
+      /Multilateration accuracy<\/t[hd]><td>100\.0 % of the bounded demand meets its bound/,
+    );
+    for (const a of plan.mlatAccuracy.addedForAccuracy) expect(text).toContain(`<code>${a.siteId}</code>`);
   });
 });

@@ -78,6 +78,24 @@ const SPEC = {
 const PLAN_WHAT = 'a plan.json written by airshade plan';
 
 /** Reads a plan.json, checks that it was made for this scenario file, and keeps what the report shows. */
+/** plan.json's mlatAccuracy as the report shows it; nothing when the plan has none (or not in that shape). */
+function planAccuracy(a: unknown): Pick<ReportPlan, 'mlatAccuracy'> {
+  const r = a as Record<string, unknown> | null | undefined;
+  const n = (k: string) => (typeof r?.[k] === 'number' ? (r[k] as number) : NaN);
+  const bounded = n('boundedWeight');
+  if (!(bounded > 0) || !Number.isFinite(n('metWeight')) || !Array.isArray(r?.addedForAccuracy)) return {};
+  return {
+    mlatAccuracy: {
+      metPct: (100 * n('metWeight')) / bounded,
+      unmeetablePct: (100 * (Number.isFinite(n('unmeetableWeight')) ? n('unmeetableWeight') : 0)) / bounded,
+      addedForAccuracy: (r.addedForAccuracy as { siteId: string; typeId: string }[]).map((x) => ({
+        siteId: String(x.siteId),
+        typeId: String(x.typeId),
+      })),
+    },
+  };
+}
+
 export function readPlanForReport(
   session: Session,
   path: string,
@@ -169,6 +187,7 @@ export function readPlanForReport(
       })),
       volumes,
       unmeetable: Array.isArray(doc.unmeetable) ? (doc.unmeetable as ReportPlan['unmeetable']) : [],
+      ...planAccuracy(doc.mlatAccuracy),
     },
     warnings,
   };

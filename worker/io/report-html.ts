@@ -80,6 +80,15 @@ export interface ReportPlan {
     required: number;
     achievable: number;
   }[];
+  /**
+   * When volumes bound the multilateration accuracy: the share of the bounded volume-levels (by demand weight) the
+   * plan meets, the share no allowed receivers can meet, and the receivers it added for accuracy alone.
+   */
+  mlatAccuracy?: {
+    metPct: number;
+    unmeetablePct: number;
+    addedForAccuracy: { siteId: string; typeId: string }[];
+  };
 }
 
 /** The multilateration fix's accuracy per volume that bounds it, at each level of its band. */
@@ -772,6 +781,20 @@ ${rows([
   ['Gap', `<span data-value="${esc(String(p.gapPct))}">${fmt(p.gapPct, 2)} %</span>`],
   ['Method', esc(p.method ?? '—')],
   ['Demand', p.demandMet === undefined ? '—' : p.demandMet ? 'met' : 'not fully met'],
+  ...(p.mlatAccuracy
+    ? [
+        [
+          'Multilateration accuracy',
+          `${fmt(p.mlatAccuracy.metPct, 1)} % of the bounded demand meets its bound` +
+            (p.mlatAccuracy.unmeetablePct > 0
+              ? `; ${fmt(p.mlatAccuracy.unmeetablePct, 1)} % is beyond what every allowed receiver together reaches`
+              : '') +
+            (p.mlatAccuracy.addedForAccuracy.length > 0
+              ? `; receivers added for accuracy alone: ${p.mlatAccuracy.addedForAccuracy.map((a) => `<code>${esc(a.siteId)}</code>`).join(', ')}`
+              : ''),
+        ] as [string, string],
+      ]
+    : []),
   ...(p.solverStop ? [['Solver stop', esc(p.solverStop)] as [string, string]] : []),
 ])}
 </tbody></table>

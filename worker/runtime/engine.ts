@@ -1505,6 +1505,7 @@ function reportPlan(p: PlanSummary, budget: number | undefined): ReportPlan {
     ...(budget !== undefined ? { budget } : {}),
     entries: p.entries.map((e) => ({ siteId: e.siteId, typeId: e.typeId, cost: e.cost })),
     volumes: p.volumes,
+    ...(p.mlatAccuracy ? { mlatAccuracy: p.mlatAccuracy } : {}),
     unmeetable: p.unmeetable.map((u) => ({
       volumeId: u.volumeId ?? '',
       volumeName: u.volumeName,
