@@ -9,10 +9,9 @@ import type { Footprint } from '../core/footprint.ts';
 import { mlatAccuracyBands, mlatAccuracyGeoTiff } from '../io/mlat-layers.ts';
 import {
   mlatFigures,
-  mlatNetwork,
-  mlatOutageLosses,
+  mlatOutageOf,
+  mlatStudyOf,
   type MlatSiteLoss,
-  type MlatStudy,
   type MlatVolumeAccuracy,
 } from '../io/mlat-figures.ts';
 import { stringifyGeoJson } from '../io/geojson.ts';
@@ -85,17 +84,6 @@ export function writeMlatOutputs(
   };
 }
 
-/** The session as the accuracy figures take it. */
-function mlatStudy(session: Session): MlatStudy {
-  return {
-    grid: session.grid,
-    scenario: session.loaded.scenario,
-    volumeMasks: session.volumeMasks,
-    ground: session.ground,
-    groundAt: (lon, lat) => session.terrain.sampleLonLat(lon, lat),
-  };
-}
-
 /**
  * The N−1 table of the accuracy bounds for `siteIds` (mlat-figures.ts `mlatOutageLosses`); null when the network
  * has no `mlat` receiver or no volume bounds the accuracy.
@@ -108,10 +96,7 @@ export function mlatOutage(
   altitudesM: readonly number[],
   siteIds: readonly string[],
 ): MlatSiteLoss[] | null {
-  const study = mlatStudy(session);
-  if (!study.scenario.volumes.some((v) => v.requiredMlatAccuracyM !== undefined)) return null;
-  const net = mlatNetwork(study, candidates, footprints);
-  return net === null ? null : mlatOutageLosses(study, net, fls, altitudesM, siteIds);
+  return mlatOutageOf(mlatStudyOf(session), candidates, footprints, fls, altitudesM, siteIds);
 }
 
 /** The accuracy maps and per-volume figures without writing anything (the report uses them). */
@@ -122,6 +107,6 @@ export function mlatMaps(
   fls: readonly number[],
   altitudesM: readonly number[],
 ): MlatMaps | null {
-  const m = mlatFigures(mlatStudy(session), candidates, footprints, fls, altitudesM);
+  const m = mlatFigures(mlatStudyOf(session), candidates, footprints, fls, altitudesM);
   return m === null ? null : { ...m, files: [] };
 }

@@ -12,7 +12,7 @@ import { CAUTION } from '../../shared/caution.ts';
 import { InputError } from '../../shared/errors.ts';
 import { formatFl } from '../../shared/units.ts';
 import { conventionsText, levelAltitudesM, modelWarnings, studyNetwork } from '../io/study.ts';
-import { mlatMaps, mlatOutage } from './mlat-outputs.ts';
+import { mlatReport, mlatStudyOf } from '../io/mlat-figures.ts';
 import type { VolumeLevelStats } from '../core/volumes.ts';
 import type { Provenance } from '../io/provenance.ts';
 import { buildReportHtml, type ReportPlan } from '../io/report-html.ts';
@@ -268,12 +268,7 @@ export async function reportCommand(argv: readonly string[], log: (s: string) =>
   const footprints = await footprintsFor(session, candidates, { weather, progress, share: [0, 0.8] });
   const tFootprints = performance.now();
   const fls = s.flightLevels;
-  const accuracy = mlatMaps(session, candidates, footprints, fls, levelAltitudesM(s, fls));
-  const accuracyOutage = accuracy
-    ? mlatOutage(session, candidates, footprints, fls, levelAltitudesM(s, fls), [
-        ...new Set(accuracy.receiverSites),
-      ])
-    : null;
+  const mlat = mlatReport(mlatStudyOf(session), candidates, footprints, fls, levelAltitudesM(s, fls));
   const { model, timingsMs } = buildReportModel({
     study: session,
     network: studyNetwork(session, fls, footprints),
@@ -284,17 +279,7 @@ export async function reportCommand(argv: readonly string[], log: (s: string) =>
     warnings,
     provenance: (conventions) => scenarioProvenance('report', p, SPEC, session.loaded, conventions),
     ...(planRead ? { plan: planRead.plan } : {}),
-    ...(accuracy
-      ? {
-          mlat: {
-            receivers: accuracy.receiverSites.length,
-            minReceivers: accuracy.minReceivers,
-            altitudeKnown: accuracy.altitudeKnown,
-            rows: accuracy.volumes,
-            ...(accuracyOutage ? { outage: accuracyOutage } : {}),
-          },
-        }
-      : {}),
+    ...(mlat ? { mlat } : {}),
     caution: CAUTION,
     paper,
     onStage: (f, stage) => progress.update(0.8 + 0.15 * f, stage),

@@ -13,6 +13,7 @@ import type { Footprint } from '../core/footprint.ts';
 import type { GridGeo } from '../core/grid.ts';
 import { mlatAccuracyMap, type MlatReceiver } from '../core/mlat-map.ts';
 import { cellsAtLevel, rowAreasKm2 } from '../core/volumes.ts';
+import type { Study } from './study.ts';
 
 export interface MlatVolumeAccuracy {
   volumeId: string;
@@ -291,4 +292,63 @@ export function mlatOutageLosses(
     out.push({ siteId, areaKm2Lost, demandWeightLost, byVolume });
   }
   return out.sort((a, b) => b.demandWeightLost - a.demandWeightLost || (a.siteId < b.siteId ? -1 : 1));
+}
+
+/** A study as the figures take it. */
+export function mlatStudyOf(study: Study): MlatStudy {
+  return {
+    grid: study.grid,
+    scenario: study.loaded.scenario,
+    volumeMasks: study.volumeMasks,
+    ground: study.ground,
+    groundAt: (lon, lat) => study.terrain.sampleLonLat(lon, lat),
+  };
+}
+
+/**
+ * The accuracy bounds' N−1 table of a network (`mlatOutageLosses`) for `siteIds` (default: every site with `mlat`
+ * receivers); null when no volume bounds the accuracy or the network has no `mlat` receiver.
+ */
+export function mlatOutageOf(
+  study: MlatStudy,
+  candidates: readonly Candidate[],
+  footprints: readonly Footprint[],
+  fls: readonly number[],
+  altitudesM: readonly number[],
+  siteIds?: readonly string[],
+): MlatSiteLoss[] | null {
+  if (!study.scenario.volumes.some((v) => v.requiredMlatAccuracyM !== undefined)) return null;
+  const net = mlatNetwork(study, candidates, footprints);
+  if (net === null) return null;
+  return mlatOutageLosses(study, net, fls, altitudesM, siteIds ?? [...new Set(net.receiverSites)]);
+}
+
+/** The report's multilateration section: the network's receivers, the rows per bounded volume and level, its N−1. */
+export interface MlatReportSection {
+  receivers: number;
+  minReceivers: number;
+  altitudeKnown: boolean;
+  rows: MlatVolumeAccuracy[];
+  /** One site with receivers down at a time; absent when no volume bounds the accuracy. */
+  outage?: MlatSiteLoss[];
+}
+
+/** The report's section for a network with every site up (the CLI's and the app's alike); null without `mlat`. */
+export function mlatReport(
+  study: MlatStudy,
+  candidates: readonly Candidate[],
+  footprints: readonly Footprint[],
+  fls: readonly number[],
+  altitudesM: readonly number[],
+): MlatReportSection | null {
+  const f = mlatFigures(study, candidates, footprints, fls, altitudesM);
+  if (f === null) return null;
+  const outage = mlatOutageOf(study, candidates, footprints, fls, altitudesM);
+  return {
+    receivers: f.receiverSites.length,
+    minReceivers: f.minReceivers,
+    altitudeKnown: f.altitudeKnown,
+    rows: f.volumes,
+    ...(outage ? { outage } : {}),
+  };
 }

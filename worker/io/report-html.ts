@@ -22,6 +22,7 @@
 import type { MultiPolygonCoords } from '../core/contour.ts';
 import type { SiteLoss } from '../core/outage.ts';
 import type { VolumeLevelStats } from '../core/volumes.ts';
+import type { MlatReportSection } from './mlat-figures.ts';
 import type { StudyConventions } from './study.ts';
 import type { Bounds } from './render.ts';
 import { NM_M } from '../../shared/units.ts';
@@ -91,35 +92,8 @@ export interface ReportPlan {
   };
 }
 
-/** The multilateration fix's accuracy per volume that bounds it, at each level of its band. */
-export interface ReportMlat {
-  receivers: number;
-  minReceivers: number;
-  altitudeKnown: boolean;
-  rows: {
-    volumeId: string;
-    flightLevel: number;
-    requiredM: number;
-    fixPct: number;
-    medianM: number | null;
-    metPct: number;
-  }[];
-  /**
-   * One site with receivers down at a time (worker/io/mlat-figures.ts mlatOutageLosses): the area whose fix meets
-   * its bound with every receiver up and not without the site, worst first; absent when no volume bounds it.
-   */
-  outage?: {
-    siteId: string;
-    areaKm2Lost: number;
-    byVolume: {
-      volumeId: string;
-      flightLevel: number;
-      areaKm2Lost: number;
-      metPctBefore: number;
-      metPctAfter: number;
-    }[];
-  }[];
-}
+/** The multilateration fix's accuracy per volume that bounds it, at each level of its band, and its N−1 table. */
+export type ReportMlat = MlatReportSection;
 
 export interface ReportModel {
   scenarioName: string;

@@ -57,13 +57,13 @@ import { featureCollection, stringifyGeoJson } from '../io/geojson.ts';
 import { readDemTile } from '../io/geotiff-read.ts';
 import { levelLayers, maskLayer } from '../io/layers.ts';
 import {
-  mlatFigures,
   mlatLevelMap,
   mlatNetwork,
-  mlatOutageLosses,
+  mlatOutageOf,
+  mlatReport,
+  mlatStudyOf,
   type MlatNetwork,
   type MlatSiteLoss,
-  type MlatStudy,
 } from '../io/mlat-figures.ts';
 import { mlatAccuracyImage, mlatLegend } from '../io/mlat-image.ts';
 import {
@@ -930,18 +930,16 @@ export class Engine {
       study.ground,
     );
     if (!s.volumes.some((v) => v.requiredMlatAccuracyM !== undefined)) return table;
-    const mlat = mlatStudyOf(study);
-    const net = mlatNetwork(
-      mlat,
-      refs.map((r, i) => this.candidateOf(r, `sensors[${i}]`)),
-      footprints,
-    );
-    if (net === null) return table;
     check();
     progress?.(0.96, 'accuracy bounds, one receiver site down at a time');
-    table.accuracy = mlatOutageLosses(mlat, net, fls, levelAltitudesM(s, fls), [
-      ...new Set(net.receiverSites),
-    ]);
+    const accuracy = mlatOutageOf(
+      mlatStudyOf(study),
+      refs.map((r, i) => this.candidateOf(r, `sensors[${i}]`)),
+      footprints,
+      fls,
+      levelAltitudesM(s, fls),
+    );
+    if (accuracy) table.accuracy = accuracy;
     return table;
   }
 
@@ -1107,26 +1105,14 @@ export class Engine {
       );
     const current = plan && plan.scenarioKey === key ? plan : null;
     const siteCount = new Set(cur.sensors.map((r) => r.siteId)).size;
-    // The accuracy section, with every site up, as `airshade report` computes it (worker/io/mlat-figures.ts).
-    const accuracy = mlatFigures(
+    // The accuracy section and its N−1 table, with every site up, as `airshade report` computes them.
+    const mlat = mlatReport(
       mlatStudyOf(study),
       candidates,
       footprints as Footprint[],
       cur.flightLevels,
       levelAltitudesM(s, cur.flightLevels),
     );
-    // Its N−1 table: each site with receivers taken out alone, as `airshade report` gives it.
-    const mlatNet = accuracy ? mlatNetwork(mlatStudyOf(study), candidates, footprints as Footprint[]) : null;
-    const accuracyOutage =
-      mlatNet && s.volumes.some((v) => v.requiredMlatAccuracyM !== undefined)
-        ? mlatOutageLosses(
-            mlatStudyOf(study),
-            mlatNet,
-            cur.flightLevels,
-            levelAltitudesM(s, cur.flightLevels),
-            [...new Set(mlatNet.receiverSites)],
-          )
-        : null;
     const { model } = buildReportModel({
       study,
       network,
@@ -1137,17 +1123,7 @@ export class Engine {
       warnings,
       provenance: options.provenance,
       ...(current ? { plan: reportPlan(current.summary, current.budget) } : {}),
-      ...(accuracy
-        ? {
-            mlat: {
-              receivers: accuracy.receiverSites.length,
-              minReceivers: accuracy.minReceivers,
-              altitudeKnown: accuracy.altitudeKnown,
-              rows: accuracy.volumes,
-              ...(accuracyOutage ? { outage: accuracyOutage } : {}),
-            },
-          }
-        : {}),
+      ...(mlat ? { mlat } : {}),
       caution: options.caution,
       paper: options.paper ?? 'A4',
       onStage: (f, stage) => progress?.(0.1 + 0.8 * f, stage),
@@ -1444,17 +1420,6 @@ export class Engine {
     const title = `${c.site.name} — ${c.model.spec.name} — azimuth ${data.azimuthDeg.toFixed(1)}°`;
     return renderDiagramSvg(data, { title, units, ...size, provenance });
   }
-}
-
-/** The study as the multilateration figures take it (worker/io/mlat-figures.ts). */
-function mlatStudyOf(study: Study): MlatStudy {
-  return {
-    grid: study.grid,
-    scenario: study.loaded.scenario,
-    volumeMasks: study.volumeMasks,
-    ground: study.ground,
-    groundAt: (lon, lat) => study.terrain.sampleLonLat(lon, lat),
-  };
 }
 
 /**
