@@ -30,17 +30,9 @@ import {
   type Fixture,
   type FixtureSensorType,
 } from './support/scenario-fixture.ts';
+import { C, HALF_LAT, HALF_LON, LAT0, LON0, RECEIVER_CATALOG, flatSeaDem } from './support/mlat-sea.ts';
 
-const C = 299_792_458;
-const LAT0 = -41;
-const LON0 = -30;
-/** Half a side of the 40 km square in degrees (sphere of 6 371 km, [calc]). */
-const HALF_LAT = 20_000 / ((6_371_000 * Math.PI) / 180);
-const HALF_LON = HALF_LAT / Math.cos((LAT0 * Math.PI) / 180);
-
-const catalog = JSON.parse(
-  readFileSync(join(import.meta.dirname, '..', 'data', 'catalog', 'receiver-types.json'), 'utf8'),
-) as FixtureSensorType[];
+const catalog = RECEIVER_CATALOG;
 /** The catalog's receiver, hearing only out to 32 NM here (so that part of the study area has no fix). */
 const MLAT: FixtureSensorType = {
   ...catalog.find((t) => t.kind === 'mlat')!,
@@ -98,14 +90,7 @@ describe('multilateration accuracy in the engine, four receivers on a square ove
 
   beforeAll(async () => {
     fx = writeScenarioFixture({
-      dem: {
-        west: -31.25,
-        north: -40,
-        widthCells: 300,
-        heightCells: 240,
-        pixelDeg: 30 / 3600,
-        data: new Float32Array(300 * 240),
-      },
+      dem: flatSeaDem(),
       cellArcSec: 60,
       flightLevels: [50, 100],
       sensorTypes: [MLAT, ADSB],

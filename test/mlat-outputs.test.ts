@@ -15,23 +15,10 @@ import { fromArrayBuffer } from 'geotiff';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { EnuFrame, mlatHorizontalDrms } from '../worker/core/mlat.ts';
 import { runCli } from './support/run-cli.ts';
-import {
-  ring,
-  writeScenarioFixture,
-  type Fixture,
-  type FixtureSensorType,
-} from './support/scenario-fixture.ts';
+import { ring, writeScenarioFixture, type Fixture } from './support/scenario-fixture.ts';
+import { C, HALF_LAT, HALF_LON, LAT0, LON0, RECEIVER_CATALOG, flatSeaDem } from './support/mlat-sea.ts';
 
-const C = 299_792_458;
-const LAT0 = -41;
-const LON0 = -30;
-/** Half a side of the 40 km square in degrees (sphere of 6 371 km, [calc]). */
-const HALF_LAT = 20_000 / ((6_371_000 * Math.PI) / 180);
-const HALF_LON = HALF_LAT / Math.cos((LAT0 * Math.PI) / 180);
-
-const catalog = JSON.parse(
-  readFileSync(join(import.meta.dirname, '..', 'data', 'catalog', 'receiver-types.json'), 'utf8'),
-) as FixtureSensorType[];
+const catalog = RECEIVER_CATALOG;
 const MLAT = catalog.find((t) => t.kind === 'mlat')!;
 
 describe('multilateration accuracy from the commands, four receivers on a square over a flat sea', () => {
@@ -39,14 +26,7 @@ describe('multilateration accuracy from the commands, four receivers on a square
   const out = () => join(fx.dir, 'out');
   beforeAll(async () => {
     fx = writeScenarioFixture({
-      dem: {
-        west: -31.25,
-        north: -40,
-        widthCells: 300,
-        heightCells: 240,
-        pixelDeg: 30 / 3600,
-        data: new Float32Array(300 * 240),
-      },
+      dem: flatSeaDem(),
       cellArcSec: 30,
       flightLevels: [100],
       sensorTypes: [MLAT],

@@ -17,17 +17,9 @@ import { preparePlan, solvePlan, type PlanInstance } from '../worker/core/plan.t
 import { pointDrms, prepareAccuracy, withImpliedMlatFolds } from '../worker/core/plan/accuracy.ts';
 import { EnuFrame, mlatHorizontalDrms } from '../worker/core/mlat.ts';
 import { runCli } from './support/run-cli.ts';
-import {
-  ring,
-  writeScenarioFixture,
-  type Fixture,
-  type FixtureSensorType,
-} from './support/scenario-fixture.ts';
+import { ring, writeScenarioFixture, type Fixture } from './support/scenario-fixture.ts';
+import { C, LAT0, LON0, M_PER_DEG, RECEIVER_CATALOG, flatSeaDem } from './support/mlat-sea.ts';
 
-const C = 299_792_458;
-const LAT0 = -41;
-const LON0 = -30;
-const M_PER_DEG = (6_371_000 * Math.PI) / 180;
 const SIGMA_NS = 15;
 
 /** A point `r` metres from the centre at bearing `deg` (spherical small-offset, [calc]). */
@@ -172,9 +164,7 @@ describe('planning against the accuracy bound', () => {
   });
 });
 
-const catalog = JSON.parse(
-  readFileSync(join(import.meta.dirname, '..', 'data', 'catalog', 'receiver-types.json'), 'utf8'),
-) as FixtureSensorType[];
+const catalog = RECEIVER_CATALOG;
 const MLAT = catalog.find((t) => t.kind === 'mlat')!;
 
 describe('airshade plan with an accuracy bound, checked by airshade coverage on the planned network', () => {
@@ -182,14 +172,7 @@ describe('airshade plan with an accuracy bound, checked by airshade coverage on 
   const half = 4_000 / M_PER_DEG;
   beforeAll(() => {
     fx = writeScenarioFixture({
-      dem: {
-        west: -31.25,
-        north: -40,
-        widthCells: 300,
-        heightCells: 240,
-        pixelDeg: 30 / 3600,
-        data: new Float32Array(300 * 240),
-      },
+      dem: flatSeaDem(),
       cellArcSec: 30,
       flightLevels: [100],
       sensorTypes: [MLAT],
