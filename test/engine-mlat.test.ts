@@ -30,7 +30,17 @@ import {
   type Fixture,
   type FixtureSensorType,
 } from './support/scenario-fixture.ts';
-import { C, HALF_LAT, HALF_LON, LAT0, LON0, RECEIVER_CATALOG, flatSeaDem } from './support/mlat-sea.ts';
+import {
+  C,
+  HALF_LAT,
+  HALF_LON,
+  LAT0,
+  LON0,
+  RECEIVER_CATALOG,
+  flatSeaDem,
+  squareBuoys,
+} from './support/mlat-sea.ts';
+import { deltaE, lab } from './support/colour.ts';
 
 const catalog = RECEIVER_CATALOG;
 /** The catalog's receiver, hearing only out to 32 NM here (so that part of the study area has no fix). */
@@ -52,30 +62,6 @@ const PROVENANCE = {
   kFactor: 4 / 3,
 } as unknown as Provenance;
 
-/**
- * CIELAB of an sRGB colour (D65 white): the sRGB transfer function and primaries of IEC 61966-2-1 [pub], then
- * L*a*b* of CIE 15:2004 (Colorimetry) [pub] (as test/render.test.ts); ΔE*ab (CIE 1976) is the Euclidean distance.
- */
-function lab(rgb: readonly number[]): [number, number, number] {
-  const lin = rgb.map((v) => {
-    const c = v / 255;
-    return c <= 0.04045 ? c / 12.92 : ((c + 0.055) / 1.055) ** 2.4;
-  });
-  const X = 0.4124 * lin[0] + 0.3576 * lin[1] + 0.1805 * lin[2];
-  const Y = 0.2126 * lin[0] + 0.7152 * lin[1] + 0.0722 * lin[2];
-  const Z = 0.0193 * lin[0] + 0.1192 * lin[1] + 0.9505 * lin[2];
-  const f = (t: number) => (t > (6 / 29) ** 3 ? Math.cbrt(t) : t / (3 * (6 / 29) ** 2) + 4 / 29);
-  const fx = f(X / 0.95047);
-  const fy = f(Y / 1.0);
-  const fz = f(Z / 1.08883);
-  return [116 * fy - 16, 500 * (fx - fy), 200 * (fy - fz)];
-}
-const deltaE = (a: readonly number[], b: readonly number[]) => {
-  const [l1, a1, b1] = lab(a);
-  const [l2, a2, b2] = lab(b);
-  return Math.hypot(l1 - l2, a1 - a2, b1 - b2);
-};
-
 const tableOf = (html: string, name: string) => {
   const m = html.match(new RegExp(`<table class="grid" data-table="${name}">[\\s\\S]*?</table>`));
   return m ? m[0] : null;
@@ -94,20 +80,7 @@ describe('multilateration accuracy in the engine, four receivers on a square ove
       cellArcSec: 60,
       flightLevels: [50, 100],
       sensorTypes: [MLAT, ADSB],
-      sites: [
-        ['ne', LON0 + HALF_LON, LAT0 + HALF_LAT],
-        ['nw', LON0 - HALF_LON, LAT0 + HALF_LAT],
-        ['sw', LON0 - HALF_LON, LAT0 - HALF_LAT],
-        ['se', LON0 + HALF_LON, LAT0 - HALF_LAT],
-      ].map(([id, lon, lat]) => ({
-        id: `buoy-${id}`,
-        name: `Buoy ${String(id).toUpperCase()}`,
-        lon: lon as number,
-        lat: lat as number,
-        mastHeightM: 20,
-        siteCost: 1,
-        allowedTypes: id === 'ne' ? [MLAT.id, ADSB.id] : [MLAT.id],
-      })),
+      sites: squareBuoys((id) => (id === 'ne' ? [MLAT.id, ADSB.id] : [MLAT.id])),
       volumes: [
         {
           id: 'square',

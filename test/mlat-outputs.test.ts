@@ -16,7 +16,16 @@ import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { EnuFrame, mlatHorizontalDrms } from '../worker/core/mlat.ts';
 import { runCli } from './support/run-cli.ts';
 import { ring, writeScenarioFixture, type Fixture } from './support/scenario-fixture.ts';
-import { C, HALF_LAT, HALF_LON, LAT0, LON0, RECEIVER_CATALOG, flatSeaDem } from './support/mlat-sea.ts';
+import {
+  C,
+  HALF_LAT,
+  HALF_LON,
+  LAT0,
+  LON0,
+  RECEIVER_CATALOG,
+  flatSeaDem,
+  squareBuoys,
+} from './support/mlat-sea.ts';
 
 const catalog = RECEIVER_CATALOG;
 const MLAT = catalog.find((t) => t.kind === 'mlat')!;
@@ -30,20 +39,7 @@ describe('multilateration accuracy from the commands, four receivers on a square
       cellArcSec: 30,
       flightLevels: [100],
       sensorTypes: [MLAT],
-      sites: [
-        ['ne', LON0 + HALF_LON, LAT0 + HALF_LAT],
-        ['nw', LON0 - HALF_LON, LAT0 + HALF_LAT],
-        ['sw', LON0 - HALF_LON, LAT0 - HALF_LAT],
-        ['se', LON0 + HALF_LON, LAT0 - HALF_LAT],
-      ].map(([id, lon, lat]) => ({
-        id: `buoy-${id}`,
-        name: `Buoy ${String(id).toUpperCase()}`,
-        lon: lon as number,
-        lat: lat as number,
-        mastHeightM: 20,
-        siteCost: 1,
-        allowedTypes: [MLAT.id],
-      })),
+      sites: squareBuoys(() => [MLAT.id]),
       volumes: [
         {
           id: 'square',

@@ -33,3 +33,23 @@ export function flatSeaDem() {
     data: new Float32Array(300 * 240),
   };
 }
+
+/** The four buoys at the corners of the 40 km square round (LON0, LAT0), antennas 20 m up, site cost 1. */
+export function squareBuoys(allowedTypes: (corner: 'ne' | 'nw' | 'sw' | 'se') => string[]) {
+  return (
+    [
+      ['ne', LON0 + HALF_LON, LAT0 + HALF_LAT],
+      ['nw', LON0 - HALF_LON, LAT0 + HALF_LAT],
+      ['sw', LON0 - HALF_LON, LAT0 - HALF_LAT],
+      ['se', LON0 + HALF_LON, LAT0 - HALF_LAT],
+    ] as const
+  ).map(([id, lon, lat]) => ({
+    id: `buoy-${id}`,
+    name: `Buoy ${id.toUpperCase()}`,
+    lon,
+    lat,
+    mastHeightM: 20,
+    siteCost: 1,
+    allowedTypes: allowedTypes(id),
+  }));
+}
