@@ -13,7 +13,6 @@ import {
   DEFAULT_SOLVER_NODES,
   SAFETY_LIMIT_NOTE,
   solvePlan,
-  type PlanInstance,
   type AccuracyResult,
   type PlanResult,
 } from '../core/plan.ts';
@@ -32,7 +31,7 @@ import {
   weatherHelp,
 } from './args.ts';
 import { levelLayers } from '../io/layers.ts';
-import { accuracyDemand, buildDemand, coveredPoints, type Demand } from '../io/study.ts';
+import { buildDemand, planInstance, type Demand } from '../io/study.ts';
 import { finishRun, RunFolder, runFolderHelp } from './files.ts';
 import { scenarioProvenance } from './provenance.ts';
 import {
@@ -144,30 +143,13 @@ export async function planCommand(argv: readonly string[], log: (s: string) => v
   const fls = s.flightLevels;
   const altitudes = levelAltitudesM(s, fls);
   const demand = buildDemand(session, fls);
-  const siteIndex = new Map(s.sites.map((f, i) => [f.properties.id, i]));
-  const inst: PlanInstance = {
-    sites: s.sites.map((f) => ({
-      id: f.properties.id,
-      cost: f.properties.siteCost,
-      existing: f.properties.existing,
-    })),
-    candidates: candidates.map((c, i) => ({
-      siteIndex: siteIndex.get(c.site.id)!,
-      typeId: c.model.spec.id,
-      kind: c.model.kind,
-      cost: c.model.spec.cost,
-      covers: coveredPoints(footprints[i], demand, altitudes),
-    })),
-    points: demand.instancePoints,
-    accuracy: accuracyDemand(session, demand, candidates, altitudes),
+  const inst = planInstance(session, candidates, footprints, demand, altitudes, {
     forced,
-    // The kept sensors on sites marked existing stand already: nothing new is spent on them.
-    standing: forced.filter((c) => s.sites[siteIndex.get(candidates[c].site.id)!].properties.existing),
-    excludedSites: [...excluded].map((id) => siteIndex.get(id)!),
-    ...(budget !== undefined ? { budget } : {}),
+    excludedSiteIds: excluded,
+    budget,
     timeLimitMs,
     solverNodes,
-  };
+  });
   const tBuilt = performance.now();
   const result = await solvePlan(inst, {
     onProgress: (f, stage) => progress.update(0.65 + 0.3 * f, stage),

@@ -359,6 +359,53 @@ export function buildDemand(session: Study, fls: readonly number[]): Demand {
 }
 
 /**
+ * The plan's instance (core/plan.ts) for `candidates` with their `footprints` over `demand` — the CLI's
+ * `airshade plan` and the app's Plan panel build it alike: every site with its cost (0 when existing), each
+ * candidate's kind, type cost and the demand points it covers, the accuracy demand when volumes bound it, the
+ * `forced` candidates (those on sites marked existing stand already: nothing new is spent on them), the sites
+ * left out, and the solver's limits.
+ */
+export function planInstance(
+  study: Study,
+  candidates: readonly { site: CoverageSite; model: SensorModel }[],
+  footprints: readonly Footprint[],
+  demand: Demand,
+  altitudesM: readonly number[],
+  opts: {
+    forced: number[];
+    excludedSiteIds?: Iterable<string>;
+    budget?: number;
+    timeLimitMs: number;
+    solverNodes: number;
+  },
+): PlanInstance {
+  const s = study.loaded.scenario;
+  const siteIndex = new Map(s.sites.map((f, i) => [f.properties.id, i]));
+  return {
+    sites: s.sites.map((f) => ({
+      id: f.properties.id,
+      cost: f.properties.siteCost,
+      existing: f.properties.existing,
+    })),
+    candidates: candidates.map((c, i) => ({
+      siteIndex: siteIndex.get(c.site.id)!,
+      typeId: c.model.spec.id,
+      kind: c.model.kind,
+      cost: c.model.spec.cost,
+      covers: coveredPoints(footprints[i], demand, altitudesM),
+    })),
+    points: demand.instancePoints,
+    accuracy: accuracyDemand(study, demand, candidates, altitudesM),
+    forced: opts.forced,
+    standing: opts.forced.filter((c) => s.sites[siteIndex.get(candidates[c].site.id)!].properties.existing),
+    excludedSites: [...(opts.excludedSiteIds ?? [])].map((id) => siteIndex.get(id)!),
+    ...(opts.budget !== undefined ? { budget: opts.budget } : {}),
+    timeLimitMs: opts.timeLimitMs,
+    solverNodes: opts.solverNodes,
+  };
+}
+
+/**
  * The plan's multilateration accuracy demand (plan/accuracy.ts): the demand points of volumes with a bound
  * (`requiredMlatAccuracyM`), the target over each point's cell centre at its level's altitude, and every
  * candidate's antenna (ground under the site + mast) and arrival-time error. Undefined when no volume has a bound.

@@ -80,16 +80,15 @@ import {
   type RasterImage,
 } from '../io/render.ts';
 import {
-  accuracyDemand,
   analysisGrid,
   buildDemand,
   candidate,
   checkNetworkLevels,
-  coveredPoints,
   layerMeta,
   levelAltitudesM,
   modelWarnings,
   openStudy,
+  planInstance,
   studyConventions,
   studyDay,
   studyNetwork,
@@ -967,40 +966,21 @@ export class Engine {
     const fls = s.flightLevels;
     const altitudes = levelAltitudesM(study.loaded.scenario, fls);
     const demand = buildDemand(study, fls);
-    const siteIndex = new Map(s.sites.map((f, i) => [f.properties.id, i]));
     const budget = req.budget === undefined ? s.budget : (req.budget ?? undefined);
     const forced = req.keep.map((k) => all.findIndex((r) => r.siteId === k.siteId && r.typeId === k.typeId));
-    const inst: PlanInstance = {
-      sites: s.sites.map((f) => ({
-        id: f.properties.id,
-        cost: f.properties.siteCost,
-        existing: f.properties.existing,
-      })),
-      candidates: all.map((r, i) => {
-        const model = study.models.get(r.typeId)!;
-        return {
-          siteIndex: siteIndex.get(r.siteId)!,
-          typeId: r.typeId,
-          kind: model.kind,
-          cost: model.spec.cost,
-          covers: coveredPoints(footprints[i], demand, altitudes),
-        };
-      }),
-      points: demand.instancePoints,
-      accuracy: accuracyDemand(
-        study,
-        demand,
-        all.map((r) => candidate(study, r.siteId, r.typeId, 'plan')),
-        altitudes,
-      ),
-      forced,
-      // The kept sensors on sites marked existing stand already: nothing new is spent on them.
-      standing: forced.filter((c) => s.sites[siteIndex.get(all[c].siteId)!].properties.existing),
-      excludedSites: [],
-      ...(budget !== undefined ? { budget } : {}),
-      timeLimitMs: req.timeLimitMs ?? DEFAULT_SAFETY_TIME_LIMIT_MS,
-      solverNodes: req.solverNodes ?? DEFAULT_SOLVER_NODES,
-    };
+    const inst = planInstance(
+      study,
+      all.map((r) => candidate(study, r.siteId, r.typeId, 'plan')),
+      footprints,
+      demand,
+      altitudes,
+      {
+        forced,
+        budget,
+        timeLimitMs: req.timeLimitMs ?? DEFAULT_SAFETY_TIME_LIMIT_MS,
+        solverNodes: req.solverNodes ?? DEFAULT_SOLVER_NODES,
+      },
+    );
     check();
     const solve = this.options.solve ?? solvePlan;
     const result = await untilCancelled(
