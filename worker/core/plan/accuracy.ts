@@ -24,7 +24,8 @@
  * plan's gap is still measured against the covering LP's bound, which step 1 makes valid for the accuracy too.
  */
 import { InputError } from '../../../shared/errors.ts';
-import { mlatHorizontalDrmsFlat, MLAT_MIN_RECEIVERS, toEcef } from '../mlat.ts';
+import { mlatMinReceivers } from '../../../shared/sensor-kinds.ts';
+import { mlatHorizontalDrmsFlat, toEcef } from '../mlat.ts';
 import { DEG_TO_RAD } from '../../../shared/units.ts';
 import type { CoverState } from './cover-state.ts';
 import { K_MLAT, type PlanInstance, type PlanModel } from './model.ts';
@@ -61,18 +62,12 @@ export interface AccuracyModel {
   cand: Int32Array;
   enu: Float64Array;
   sigma: Float64Array;
-  /** Candidate → (point, entry) pairs, CSR by candidate. */
+  /** Candidate → the bounded points it covers, CSR by candidate. */
   candStart: Uint32Array;
   candPoint: Uint32Array;
-  candEntry: Uint32Array;
   meetable: Uint8Array;
   altitudeKnown: boolean;
   minReceivers: number;
-}
-
-/** The fix's least receivers. */
-export function minReceiversFor(altitudeKnown: boolean): number {
-  return altitudeKnown ? MLAT_MIN_RECEIVERS.altitudeKnown : MLAT_MIN_RECEIVERS.unaided;
 }
 
 /** Checks the accuracy demand against the instance (one message naming the field) before any work. */
@@ -124,7 +119,7 @@ export function checkAccuracy(inst: PlanInstance): void {
 export function withImpliedMlatFolds(inst: PlanInstance): PlanInstance {
   const a = inst.accuracy;
   if (a === undefined || a.points.length === 0) return inst;
-  const need = minReceiversFor(a.altitudeKnown);
+  const need = mlatMinReceivers(a.altitudeKnown);
   const req = inst.points.reqMlat ? inst.points.reqMlat.slice() : new Uint8Array(inst.points.count);
   for (let i = 0; i < a.points.length; i++) if (req[a.points[i]] < need) req[a.points[i]] = need;
   return { ...inst, points: { ...inst.points, reqMlat: req } };
@@ -163,7 +158,6 @@ export function prepareAccuracy(inst: PlanInstance, m: PlanModel): AccuracyModel
   const fill = start.slice(0, n);
   const candStart = new Uint32Array(m.nCand + 1);
   const candPoint = new Uint32Array(total);
-  const candEntry = new Uint32Array(total);
   // Targets in earth-centred coordinates with their frames' rotation (sin/cos of geodetic latitude, longitude).
   const tx = new Float64Array(4 * n);
   const trig = new Float64Array(4 * n);
@@ -200,7 +194,6 @@ export function prepareAccuracy(inst: PlanInstance, m: PlanModel): AccuracyModel
       sigma[e] = s;
       cand[e] = c;
       candPoint[q] = i;
-      candEntry[q] = e;
       q++;
     }
   }
@@ -218,10 +211,9 @@ export function prepareAccuracy(inst: PlanInstance, m: PlanModel): AccuracyModel
     sigma,
     candStart,
     candPoint,
-    candEntry,
     meetable: new Uint8Array(n),
     altitudeKnown: a.altitudeKnown,
-    minReceivers: minReceiversFor(a.altitudeKnown),
+    minReceivers: mlatMinReceivers(a.altitudeKnown),
   };
   const all = m.allowed;
   for (let i = 0; i < n; i++) {
@@ -272,7 +264,7 @@ function progress(a: AccuracyModel, i: number, inSet: Uint8Array, extra: number)
   return (0.5 * k) / (k + 1);
 }
 
-/** Whether every meetable bounded point is met by `inSet`; the failing ones are listed in `failing`. */
+/** The meetable bounded points that `inSet` does not meet. */
 function failingPoints(a: AccuracyModel, inSet: Uint8Array): number[] {
   const out: number[] = [];
   for (let i = 0; i < a.n; i++) {
