@@ -86,52 +86,24 @@ describe('airshade floor', () => {
     expect(valued).toBe(W * W);
   });
 
+  /** `airshade floor` as a real process (12 m mast, the test's DEM and site) into `out`; the file's bytes. */
+  const floorProcess = (out: string, extra: string[]): Buffer => {
+    const bin = join(import.meta.dirname, '..', 'bin', 'airshade.mjs');
+    const args = ['floor', '--dem', dem, '--site', SITE, '--mast-m', '12', '--out', out, ...extra, '--quiet'];
+    execFileSync(process.execPath, [bin, ...args]);
+    return readFileSync(out);
+  };
+
   it('the worker pool (a real process, two threads) writes exactly what the inline path writes', async () => {
     const inline = join(dir, 'inline.tif');
     const pooled = join(dir, 'pooled.tif');
     await run('floor', '--dem', dem, '--site', SITE, '--mast-m', '12', '--out', inline, '--threads', '0');
-    const bin = join(import.meta.dirname, '..', 'bin', 'airshade.mjs');
-    execFileSync(process.execPath, [
-      bin,
-      'floor',
-      '--dem',
-      dem,
-      '--site',
-      SITE,
-      '--mast-m',
-      '12',
-      '--out',
-      pooled,
-      '--threads',
-      '2',
-      '--quiet',
-    ]);
-    expect(readFileSync(inline).equals(readFileSync(pooled))).toBe(true);
+    expect(readFileSync(inline).equals(floorProcess(pooled, ['--threads', '2']))).toBe(true);
   });
 
   it('the sweep over the cells with this thread as a lane (1 and 2 threads) writes what the inline path writes', () => {
-    const bin = join(import.meta.dirname, '..', 'bin', 'airshade.mjs');
-    const floorFile = (threads: string) => {
-      const out = join(dir, `cells-${threads}.tif`);
-      execFileSync(process.execPath, [
-        bin,
-        'floor',
-        '--dem',
-        dem,
-        '--site',
-        SITE,
-        '--mast-m',
-        '12',
-        '--sweep',
-        'cells',
-        '--out',
-        out,
-        '--threads',
-        threads,
-        '--quiet',
-      ]);
-      return readFileSync(out);
-    };
+    const floorFile = (threads: string) =>
+      floorProcess(join(dir, `cells-${threads}.tif`), ['--sweep', 'cells', '--threads', threads]);
     const inline = floorFile('0');
     expect(inline.equals(floorFile('2'))).toBe(true);
     expect(inline.equals(floorFile('1'))).toBe(true);

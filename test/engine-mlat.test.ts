@@ -39,6 +39,7 @@ import {
   RECEIVER_CATALOG,
   flatSeaDem,
   squareBuoys,
+  squareVolume,
 } from './support/mlat-sea.ts';
 import { deltaE, lab } from './support/colour.ts';
 
@@ -82,18 +83,7 @@ describe('multilateration accuracy in the engine, four receivers on a square ove
       sensorTypes: [MLAT, ADSB],
       sites: squareBuoys((id) => (id === 'ne' ? [MLAT.id, ADSB.id] : [MLAT.id])),
       volumes: [
-        {
-          id: 'square',
-          name: 'The square',
-          polygon: {
-            type: 'Polygon',
-            coordinates: [ring(LON0 - HALF_LON, LAT0 - HALF_LAT, LON0 + HALF_LON, LAT0 + HALF_LAT)],
-          },
-          flMin: 50,
-          flMax: 100,
-          requiredFold: { mlat: 3 },
-          requiredMlatAccuracyM: 10,
-        },
+        squareVolume(50, 100),
         {
           id: 'wide',
           name: 'The wide box',

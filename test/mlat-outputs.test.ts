@@ -15,7 +15,7 @@ import { fromArrayBuffer } from 'geotiff';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { EnuFrame, mlatHorizontalDrms } from '../worker/core/mlat.ts';
 import { runCli } from './support/run-cli.ts';
-import { ring, writeScenarioFixture, type Fixture } from './support/scenario-fixture.ts';
+import { writeScenarioFixture, type Fixture } from './support/scenario-fixture.ts';
 import {
   C,
   HALF_LAT,
@@ -25,6 +25,7 @@ import {
   RECEIVER_CATALOG,
   flatSeaDem,
   squareBuoys,
+  squareVolume,
 } from './support/mlat-sea.ts';
 
 const catalog = RECEIVER_CATALOG;
@@ -40,20 +41,7 @@ describe('multilateration accuracy from the commands, four receivers on a square
       flightLevels: [100],
       sensorTypes: [MLAT],
       sites: squareBuoys(() => [MLAT.id]),
-      volumes: [
-        {
-          id: 'square',
-          name: 'The square',
-          polygon: {
-            type: 'Polygon',
-            coordinates: [ring(LON0 - HALF_LON, LAT0 - HALF_LAT, LON0 + HALF_LON, LAT0 + HALF_LAT)],
-          },
-          flMin: 100,
-          flMax: 100,
-          requiredFold: { mlat: 3 },
-          requiredMlatAccuracyM: 10,
-        },
-      ],
+      volumes: [squareVolume(100, 100)],
       layouts: [],
       extra: { multipath: 'off', mlatAltitudeAided: true },
     });

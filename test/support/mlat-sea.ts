@@ -5,7 +5,7 @@
  */
 import { readFileSync } from 'node:fs';
 import { join } from 'node:path';
-import type { FixtureSensorType } from './scenario-fixture.ts';
+import { ring, type FixtureSensorType } from './scenario-fixture.ts';
 
 /** Speed of light, m/s (SI, exact). */
 export const C = 299_792_458;
@@ -52,4 +52,20 @@ export function squareBuoys(allowedTypes: (corner: 'ne' | 'nw' | 'sw' | 'se') =>
     siteCost: 1,
     allowedTypes: allowedTypes(id),
   }));
+}
+
+/** The volume over the square ('square'): 3 multilateration receivers and a 10 m bound, from flMin to flMax. */
+export function squareVolume(flMin: number, flMax: number) {
+  return {
+    id: 'square',
+    name: 'The square',
+    polygon: {
+      type: 'Polygon' as const,
+      coordinates: [ring(LON0 - HALF_LON, LAT0 - HALF_LAT, LON0 + HALF_LON, LAT0 + HALF_LAT)],
+    },
+    flMin,
+    flMax,
+    requiredFold: { mlat: 3 },
+    requiredMlatAccuracyM: 10,
+  };
 }
