@@ -2,7 +2,8 @@
 import { describe, expect, it } from 'vitest';
 import fc from 'fast-check';
 import { computeFloor, inlineExecutor } from '../worker/core/floor.ts';
-import { computeHorizon } from '../worker/core/horizon.ts';
+import { computeHorizon, traceRadial } from '../worker/core/horizon.ts';
+import { pseudoToAzimuthRad } from '../worker/core/geodesy.ts';
 import { Terrain } from '../worker/core/terrain.ts';
 import { bumpyDem } from './support/bumps.ts';
 import { cellLonLat, metricGeo, metricTerrain } from './support/dem.ts';
@@ -168,5 +169,68 @@ describe('horizon cache', () => {
     await computeFloor(terrain, { ...site, mastM: 22 }, geo, data, counting, { cache: small });
     await computeFloor(terrain, { ...site, mastM: 20 }, geo, data, counting, { cache: small });
     expect(sweeps).toBe(6);
+  });
+
+});
+
+describe('horizon sweep paths', () => {
+  it('along each radial the sweep stores the steepest terrain elevation so far: a plain re-walk of its own positions', () => {
+    // The sweep steps most of a radial on a fast path without edge tests (horizon.ts insideRaster): walked again
+    // here plainly from the positions the sweep's general loop traces, with terrain holes and radials that leave
+    // the raster, so both paths and the stop at unknown terrain are compared sample by sample.
+    const n = 161;
+    const data = bumpyDem(5, n, n);
+    for (let r = 100; r < 112; r++) for (let c = 20; c < 60; c++) data[r * n + c] = NaN;
+    const terrain = metricTerrain(data, n, n, PIXEL_M);
+    const site = cellLonLat(terrain.geo, 50, 70);
+    const { layout, tan } = computeHorizon(terrain, { ...site, mastM: 15, maxRangeM: 140 * PIXEL_M });
+    const re = layout.reM;
+    const rha = re + layout.antennaAltM;
+    const ds = layout.rangeStepM;
+    const jNear = Math.ceil(layout.nearFieldM / ds);
+    const n0 = layout.levels[0].azimuthCount;
+    /** The stored tan before sample j of level-0 radial i (radial i·2^L of level L). */
+    const stored = (i: number, j: number) => {
+      const L = layout.levels.findIndex((lv) => j >= lv.jStart && j <= lv.jEnd);
+      const lv = layout.levels[L];
+      return tan[lv.offset + (j - lv.jStart) * lv.azimuthCount + i * 2 ** L];
+    };
+    const terrainAt = (x: number, y: number) => {
+      if (x < 0 || y < 0 || x > n || y > n) return NaN;
+      const gx = Math.min(Math.max(x - 0.5, 0), n - 1);
+      const gy = Math.min(Math.max(y - 0.5, 0), n - 1);
+      const ix = Math.min(Math.floor(gx), n - 2);
+      const iy = Math.min(Math.floor(gy), n - 2);
+      const fx = gx - ix;
+      const fy = gy - iy;
+      const k = iy * n + ix;
+      const top = data[k] + (data[k + 1] - data[k]) * fx;
+      const bot = data[k + n] + (data[k + n + 1] - data[k + n]) * fx;
+      return top + (bot - top) * fy;
+    };
+    let compared = 0;
+    let unknown = 0;
+    for (let i = 0; i < n0; i += 3) {
+      const trace = traceRadial(terrain, layout, pseudoToAzimuthRad((i / n0) * 2 * Math.PI));
+      // The near field's own finer walk is taken as given; from its end on, every sample is walked again.
+      let T: number = stored(i, jNear);
+      for (let j = jNear; j < layout.rangeCount - 1; j++) {
+        const got = stored(i, j);
+        if (T !== T) {
+          expect(got).toBeNaN();
+          unknown++;
+        } else {
+          expect(Math.abs(got - T)).toBeLessThanOrEqual(1e-6 * Math.max(1, Math.abs(T)));
+          compared++;
+        }
+        const z = terrainAt(trace[2 * j], trace[2 * j + 1]);
+        const s = j * ds;
+        const t = ((re + z) * Math.cos(s / re) - rha) / ((re + z) * Math.sin(s / re));
+        if (z !== z) T = NaN;
+        else if (t > T) T = t;
+      }
+    }
+    expect(compared).toBeGreaterThan(10_000);
+    expect(unknown).toBeGreaterThan(1_000);
   });
 });

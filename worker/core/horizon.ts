@@ -331,6 +331,42 @@ function sweepRadial(
     let vy = ds * qy + dy * step;
     const ax = 2 * dx * ds * ds;
     const ay = 2 * dy * ds * ds;
+    // Fast path: the piece's positions all lie at least FAST_MARGIN pixels inside the raster and the screening is
+    // known, so none of the general loop's edge tests and clamps below can act; the arithmetic is the same, so the
+    // tans are the same to the bit (test/horizon.test.ts). About 1.15–1.25× faster on the demo's far field.
+    if (trace === null && T === T && j >= jFirst && insideRaster(px, vx, ax, jSegEnd - 1 - j, W)) {
+      if (insideRaster(py, vy, ay, jSegEnd - 1 - j, H)) {
+        for (; j < jSegEnd; j++) {
+          dst[base + j * stride] = T;
+          const gx = px - 0.5;
+          const gy = py - 0.5;
+          px += vx;
+          py += vy;
+          vx += ax;
+          vy += ay;
+          const ix = gx | 0;
+          const iy = gy | 0;
+          const fx = gx - ix;
+          const fy = gy - iy;
+          const k = iy * W + ix;
+          const d0 = data[k];
+          const d2 = data[k + W];
+          const top = d0 + (data[k + 1] - d0) * fx;
+          const bot = d2 + (data[k + W + 1] - d2) * fx;
+          const z = top + (bot - top) * fy;
+          if (z !== z) {
+            // Unknown terrain: unknown to the radial's end, as the general loop stores it.
+            for (let q = j + 1; q < jEnd; q++) dst[base + q * stride] = NaN;
+            return NaN;
+          }
+          const rz = re + z;
+          const num = rz * cos[j] - rha;
+          const den = rz * sin[j];
+          if (num > T * den) T = num / den;
+        }
+        continue;
+      }
+    }
     for (; j < jSegEnd; j++) {
       dst[base + j * stride] = T;
       const x = px;
@@ -382,6 +418,25 @@ function sweepRadial(
     }
   }
   return T;
+}
+
+/** Pixels of margin the sweep's fast path keeps from the raster's edges (its clamps then never act). */
+const FAST_MARGIN = 2;
+
+/**
+ * Whether p(t) = p + v·t + a·t(t − 1)/2, the sweep's forward-difference stepping for t = 0 … n, stays within
+ * [FAST_MARGIN, size − 1 − FAST_MARGIN]: a parabola's extremes lie at the ends or at its vertex.
+ */
+function insideRaster(p: number, v: number, a: number, n: number, size: number): boolean {
+  const lo = FAST_MARGIN;
+  const hi = size - 1 - FAST_MARGIN;
+  const end = p + v * n + 0.5 * a * n * (n - 1);
+  if (!(p > lo && p < hi && end > lo && end < hi)) return false;
+  // Vertex of a·t²/2 + (v − a/2)·t: t* = 1/2 − v/a.
+  const tv = a === 0 ? -1 : 0.5 - v / a;
+  if (!(tv > 0 && tv < n)) return true;
+  const mid = p + v * tv + 0.5 * a * tv * (tv - 1);
+  return mid > lo && mid < hi;
 }
 
 /**
