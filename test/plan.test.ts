@@ -452,6 +452,10 @@ describe('determinism', () => {
     expect(a.solverStop).toBe('work limit');
     expect(a.log.some((l) => l.startsWith('MILP: solutionLimit after 20 of at most 20 nodes'))).toBe(true);
     expect(a.log.join('\n')).not.toMatch(/safety time limit/);
+    // A MILP that stops short leaves the bound to the LP, run after it.
+    const milpAt = a.log.findIndex((l) => l.startsWith('MILP: '));
+    const lpAt = a.log.findIndex((l) => /^LP: \w+ after \d+ iterations/.test(l));
+    expect(lpAt).toBeGreaterThan(milpAt);
   });
 
   it('the same plan while other threads keep every core busy', async () => {
@@ -478,6 +482,10 @@ describe('determinism', () => {
     expect(more.solverStop).toBe('nothing');
     expect(more.cost).toBeLessThanOrEqual(short.cost);
     expect(more.lowerBound).toBeGreaterThanOrEqual(short.lowerBound);
+    // Proved optimal: the plan's cost is its bound, and the LP, which could only give a weaker one, is not run.
+    expect(more.lowerBound).toBe(more.cost);
+    expect(more.log).toContain('LP: not run (the MILP proved its plan optimal)');
+    expect(more.log.some((l) => /^LP: \w+ after/.test(l))).toBe(false);
     const none = await solvePlan(branching({ solverNodes: 0 }), withMilp);
     expect(none.log).toContain('MILP: not run (node limit 0)');
     expect(none.solverStop).toBe('work limit');

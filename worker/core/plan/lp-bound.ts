@@ -528,98 +528,114 @@ export async function boundPlan(
       out.method = what;
     }
   };
-  const lpName = full ? 'LP bound' : `LP bound over ${b.rowsUsed} of ${b.rowsTotal} rows`;
-  {
-    const model = highs.createModel(b.data);
+  const runLp = (): void => {
+    const lpName = full ? 'LP bound' : `LP bound over ${b.rowsUsed} of ${b.rowsTotal} rows`;
+    {
+      const model = highs.createModel(b.data);
+      try {
+        // Interior point without crossover: the bound needs duals only (any π gives a valid bound, see
+        // dualBound), and on these models it was 1.5–3× faster than the simplex when tried here.
+        model.options.set({
+          output_flag: false,
+          // What the safety limit leaves after a MILP that stopped short, and never under a tenth of it.
+          time_limit: Math.max(0.1 * o.timeLimitMs, deadline - nowMs()) / 1000,
+          ipm_iteration_limit: o.lpMaxIterations,
+          solver: 'ipm',
+          run_crossover: 'off',
+        });
+        model.run();
+        const status = model.getModelStatus();
+        const sol = model.getSolution();
+        const v = dualBound(b, sol.rowDual, inf) + b.offset;
+        const bound = budgetMode ? -v : v;
+        const iterations = Number(model.info.get('ipm_iteration_count'));
+        log.push(
+          `LP: ${statusName(highs, status)} after ${iterations} iterations, objective ${budgetMode ? -model.getObjectiveValue() - b.offset : model.getObjectiveValue()}, ` +
+            `dual bound ${bound}${stopped(limitOf(highs, status))}`,
+        );
+        if (Number.isFinite(bound)) improve(bound, lpName);
+      } catch (e) {
+        log.push(`LP: HiGHS failed (${(e as Error).message}); keeping the ${out.method}`);
+      } finally {
+        model.dispose();
+      }
+    }
+  };
+  const roundUp = (): void => {
+    if (!budgetMode && m.integerCosts) {
+      const up = Math.ceil(out.costLowerBound - 1e-6);
+      if (up > out.costLowerBound) {
+        out.costLowerBound = up;
+        log.push(`bound: costs are integers → rounded up to ${up}`);
+      }
+    }
+  };
+  const runMilp = (): void => {
+    o.onProgress?.(0.5, 'MILP');
+    const integrality = new Int32Array(b.numCols);
+    for (const c of m.allowedList) integrality[b.xCol[c]] = 1;
+    for (let s = 0; s < m.nSites; s++) if (b.yCol[s] >= 0) integrality[b.yCol[s]] = 1;
+    const model = highs.createModel({ ...b.data, integrality });
     try {
-      // Interior point without crossover: the bound needs duals only (any π gives a valid bound, see
-      // dualBound), and on these models it was 1.5–3× faster than the simplex when tried here.
+      const secs = Math.max(0.1 * o.timeLimitMs, deadline - nowMs()) / 1000;
       model.options.set({
         output_flag: false,
-        time_limit: Math.max(0.05, o.timeLimitMs / 1000),
-        ipm_iteration_limit: o.lpMaxIterations,
-        solver: 'ipm',
-        run_crossover: 'off',
+        time_limit: secs,
+        mip_max_nodes: o.mipMaxNodes,
+        mip_rel_gap: 0,
+        mip_abs_gap: !budgetMode && m.integerCosts ? 1 - 1e-6 : 0,
       });
+      try {
+        model.setSolution({ colValue: startValues(m, b, heuristic) });
+      } catch {
+        // a start the solver rejects is not needed
+      }
       model.run();
       const status = model.getModelStatus();
-      const sol = model.getSolution();
-      const v = dualBound(b, sol.rowDual, inf) + b.offset;
-      const bound = budgetMode ? -v : v;
-      const iterations = Number(model.info.get('ipm_iteration_count'));
+      const feasible = Number(model.info.get('primal_solution_status')) === 2;
+      const dual = Number(model.info.get('mip_dual_bound'));
+      const optimal = status === highs.constants.modelStatus.optimal;
+      const nodes = Number(model.info.get('mip_node_count'));
       log.push(
-        `LP: ${statusName(highs, status)} after ${iterations} iterations, objective ${budgetMode ? -model.getObjectiveValue() - b.offset : model.getObjectiveValue()}, ` +
-          `dual bound ${bound}${stopped(limitOf(highs, status))}`,
+        `MILP: ${statusName(highs, status)} after ${nodes} of at most ${o.mipMaxNodes} nodes` +
+          `${feasible ? `, objective ${budgetMode ? -model.getObjectiveValue() : model.getObjectiveValue()}` : ''}` +
+          `, dual bound ${budgetMode ? -dual : dual}${stopped(limitOf(highs, status))}`,
       );
-      if (Number.isFinite(bound)) improve(bound, lpName);
+      if (Number.isFinite(dual)) {
+        const margin = 1e-9 * Math.max(1, Math.abs(dual));
+        if (!budgetMode) {
+          const lb = m.integerCosts ? Math.ceil(dual - 1e-6) : dual - margin;
+          improve(lb, 'MILP dual bound');
+        } else improve(-dual + margin, 'MILP dual bound');
+      }
+      if (feasible) {
+        const x = model.getSolution().colValue;
+        out.milpChosen = Array.from(m.allowedList).filter((c) => x[b.xCol[c]] > 0.5);
+        out.milpStatus = optimal ? 'optimal' : 'incumbent';
+        out.milpOptimal = optimal;
+        out.milpObjective = budgetMode ? -model.getObjectiveValue() : model.getObjectiveValue();
+      }
     } catch (e) {
-      log.push(`LP: HiGHS failed (${(e as Error).message}); keeping the ${out.method}`);
+      log.push(`MILP: HiGHS failed (${(e as Error).message})`);
     } finally {
       model.dispose();
     }
-  }
-  if (!budgetMode && m.integerCosts) {
-    const up = Math.ceil(out.costLowerBound - 1e-6);
-    if (up > out.costLowerBound) {
-      out.costLowerBound = up;
-      log.push(`bound: costs are integers → rounded up to ${up}`);
+  };
+  const exact = full && (m.allowedList.length <= o.exactMaxCandidates || b.nonzeros <= o.exactMaxNonzeros);
+  if (exact && o.mipMaxNodes > 0) {
+    // The MILP first: when it proves its plan optimal, the plan's cost is its own lower bound and the LP could only
+    // give a weaker one (on the demo 1.3 s of the plan's 20 s), so the LP runs only when the MILP stops short.
+    runMilp();
+    if (out.milpOptimal) {
+      log.push('LP: not run (the MILP proved its plan optimal)');
+      return out;
     }
   }
-  const exact = full && (m.allowedList.length <= o.exactMaxCandidates || b.nonzeros <= o.exactMaxNonzeros);
-  if (!exact) return out;
-  if (o.mipMaxNodes === 0) {
+  runLp();
+  roundUp();
+  if (exact && o.mipMaxNodes === 0) {
     log.push('MILP: not run (node limit 0)');
     out.stoppedBy = 'work limit';
-    return out;
-  }
-  o.onProgress?.(0.5, 'MILP');
-  const integrality = new Int32Array(b.numCols);
-  for (const c of m.allowedList) integrality[b.xCol[c]] = 1;
-  for (let s = 0; s < m.nSites; s++) if (b.yCol[s] >= 0) integrality[b.yCol[s]] = 1;
-  const model = highs.createModel({ ...b.data, integrality });
-  try {
-    const secs = Math.max(0.1 * o.timeLimitMs, deadline - nowMs()) / 1000;
-    model.options.set({
-      output_flag: false,
-      time_limit: secs,
-      mip_max_nodes: o.mipMaxNodes,
-      mip_rel_gap: 0,
-      mip_abs_gap: !budgetMode && m.integerCosts ? 1 - 1e-6 : 0,
-    });
-    try {
-      model.setSolution({ colValue: startValues(m, b, heuristic) });
-    } catch {
-      // a start the solver rejects is not needed
-    }
-    model.run();
-    const status = model.getModelStatus();
-    const feasible = Number(model.info.get('primal_solution_status')) === 2;
-    const dual = Number(model.info.get('mip_dual_bound'));
-    const optimal = status === highs.constants.modelStatus.optimal;
-    const nodes = Number(model.info.get('mip_node_count'));
-    log.push(
-      `MILP: ${statusName(highs, status)} after ${nodes} of at most ${o.mipMaxNodes} nodes` +
-        `${feasible ? `, objective ${budgetMode ? -model.getObjectiveValue() : model.getObjectiveValue()}` : ''}` +
-        `, dual bound ${budgetMode ? -dual : dual}${stopped(limitOf(highs, status))}`,
-    );
-    if (Number.isFinite(dual)) {
-      const margin = 1e-9 * Math.max(1, Math.abs(dual));
-      if (!budgetMode) {
-        const lb = m.integerCosts ? Math.ceil(dual - 1e-6) : dual - margin;
-        improve(lb, 'MILP dual bound');
-      } else improve(-dual + margin, 'MILP dual bound');
-    }
-    if (feasible) {
-      const x = model.getSolution().colValue;
-      out.milpChosen = Array.from(m.allowedList).filter((c) => x[b.xCol[c]] > 0.5);
-      out.milpStatus = optimal ? 'optimal' : 'incumbent';
-      out.milpOptimal = optimal;
-      out.milpObjective = budgetMode ? -model.getObjectiveValue() : model.getObjectiveValue();
-    }
-  } catch (e) {
-    log.push(`MILP: HiGHS failed (${(e as Error).message})`);
-  } finally {
-    model.dispose();
   }
   return out;
 }
