@@ -221,6 +221,25 @@ export function preparePlan(inst: PlanInstance): PlanModel {
   let touched = new Int32Array(cap);
   let stamp = new Int32Array(cap).fill(-1);
   let child = new Int32Array(cap);
+  // Each class's signature so far (the candidates covering its points, newest first) as a persistent list: a split
+  // child shares its parent's list and adds the candidate that split it. No second pass over the covers then.
+  let head = new Int32Array(cap).fill(-1);
+  let nodeCand = new Int32Array(1024);
+  let nodeNext = new Int32Array(1024);
+  let nodes = 0;
+  const push = (c: number, next: number): number => {
+    if (nodes === nodeCand.length) {
+      const a = new Int32Array(nodes * 2);
+      a.set(nodeCand);
+      nodeCand = a;
+      const b = new Int32Array(nodes * 2);
+      b.set(nodeNext);
+      nodeNext = b;
+    }
+    nodeCand[nodes] = c;
+    nodeNext[nodes] = next;
+    return nodes++;
+  };
   for (let p = 0; p < n; p++) if (cls[p] >= 0) size[cls[p]]++;
   for (const c of allowedArr) {
     const cv = inst.candidates[c].covers;
@@ -242,6 +261,7 @@ export function preparePlan(inst: PlanInstance): PlanModel {
         stamp[k] = -2 - c;
         if (touched[k] === size[k]) {
           child[k] = k;
+          head[k] = push(c, head[k]);
         } else {
           if (nCls === cap) {
             cap *= 2;
@@ -255,8 +275,10 @@ export function preparePlan(inst: PlanInstance): PlanModel {
             touched = grow(touched);
             stamp = grow(stamp, -1);
             child = grow(child);
+            head = grow(head, -1);
           }
           child[k] = nCls;
+          head[nCls] = push(c, head[k]);
           size[nCls] = touched[k];
           size[k] -= touched[k];
           stamp[nCls] = -1;
@@ -291,26 +313,19 @@ export function preparePlan(inst: PlanInstance): PlanModel {
       allWeight[g] += pts.weight[p];
     }
   }
-  // Signatures of all groups (from the representative points), CSR ascending by candidate.
+  // Signatures of all groups, CSR ascending by candidate: each class's list read back to front.
+  const classOf = new Int32Array(nAll);
+  for (let k = 0; k < nCls; k++) if (renum[k] >= 0) classOf[renum[k]] = k;
   const allSigStart = new Uint32Array(nAll + 1);
-  for (const c of allowedArr) {
-    const cv = inst.candidates[c].covers;
-    for (let i = 0; i < cv.length; i++) {
-      const g = cls[cv[i]];
-      if (g >= 0 && allRep[g] === cv[i]) allSigStart[g + 1]++;
-    }
+  for (let g = 0; g < nAll; g++) {
+    let len = 0;
+    for (let q = head[classOf[g]]; q >= 0; q = nodeNext[q]) len++;
+    allSigStart[g + 1] = allSigStart[g] + len;
   }
-  for (let g = 0; g < nAll; g++) allSigStart[g + 1] += allSigStart[g];
   const allSig = new Uint32Array(allSigStart[nAll]);
-  {
-    const fill = allSigStart.slice(0, nAll);
-    for (const c of allowedArr) {
-      const cv = inst.candidates[c].covers;
-      for (let i = 0; i < cv.length; i++) {
-        const g = cls[cv[i]];
-        if (g >= 0 && allRep[g] === cv[i]) allSig[fill[g]++] = c;
-      }
-    }
+  for (let g = 0; g < nAll; g++) {
+    let at = allSigStart[g + 1];
+    for (let q = head[classOf[g]]; q >= 0; q = nodeNext[q]) allSig[--at] = nodeCand[q];
   }
   // Achievable fold per kind = distinct sites in the signature; cap, summarise what cannot be met.
   const siteSeen = new Int32Array(nSites * NK).fill(-1);
