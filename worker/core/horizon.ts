@@ -276,6 +276,13 @@ function bilinearAt(data: Float32Array, W: number, H: number, x: number, y: numb
 }
 
 /**
+ * Where `sweepRadial`'s last call stopped writing: samples [sweptTo, jEnd) are unknown (NaN) and left for the caller
+ * to store. A radial that reaches unknown terrain is unknown to its end; the sweep stores those NaN row by row
+ * after a level's radials (sequential memory, where one radial's tail is one store per cache line).
+ */
+let sweptTo = 0;
+
+/**
  * One radial from jStart to jEnd − 1: stores the screening tan before each sample (into dst[base + j·stride]) and takes
  * the sample in. Returns the running screening tan after sample jEnd − 1 (the value for jEnd).
  *
@@ -355,8 +362,8 @@ function sweepRadial(
           const bot = d2 + (data[k + W + 1] - d2) * fx;
           const z = top + (bot - top) * fy;
           if (z !== z) {
-            // Unknown terrain: unknown to the radial's end, as the general loop stores it.
-            for (let q = j + 1; q < jEnd; q++) dst[base + q * stride] = NaN;
+            // Unknown terrain: unknown to the radial's end (the caller stores the rest, see `sweptTo`).
+            sweptTo = j + 1;
             return NaN;
           }
           const rz = re + z;
@@ -380,9 +387,9 @@ function sweepRadial(
         trace[j * 2 + 1] = y;
       }
       if (T !== T && trace === null) {
-        // Unknown stays unknown to the radial's end (most samples of a site near the terrain's edge): store the
-        // rest at once, without stepping positions no sample will read.
-        for (let q = j + 1; q < jEnd; q++) dst[base + q * stride] = NaN;
+        // Unknown stays unknown to the radial's end (most samples of a site near the terrain's edge): the caller
+        // stores the rest as NaN (see `sweptTo`), without stepping positions no sample will read.
+        sweptTo = j + 1;
         return T;
       }
       if (j < jFirst || T !== T) continue; // the antenna's own cell; unknown stays unknown
@@ -417,6 +424,7 @@ function sweepRadial(
       if (num > T * den) T = num / den;
     }
   }
+  sweptTo = jEnd;
   return T;
 }
 
@@ -478,6 +486,9 @@ export function sweepSector(
     const rowLen = level.jEnd - level.jStart + 1;
     const nextCarry = new Float64Array(last - first + 1);
     const scratch = new Float32Array(rowLen);
+    /** Per radial written, the first range sample it left unknown (level.jEnd when none). */
+    const tails = new Int32Array(Math.max(0, last - first));
+    let firstTail = level.jEnd;
     for (let i = first; i <= last; i++) {
       const writes = i < last;
       const ii = i % n;
@@ -508,11 +519,22 @@ export function sweepSector(
         level.jEnd,
         null,
       );
+      if (writes) {
+        tails[i - first] = sweptTo;
+        if (sweptTo < firstTail) firstTail = sweptTo;
+      } else {
+        for (let q = sweptTo; q < level.jEnd; q++) scratch[q - level.jStart] = NaN;
+      }
       // The value at jEnd (screening by everything before it) is where the next level starts; the next level
       // takes in the terrain at jEnd itself.
       dst[base + level.jEnd * stride] = T;
       nextCarry[i - first] = T;
       if (writes) done += rowLen;
+    }
+    // The unknown tails, row by row: each row of the level's block is contiguous over its radials.
+    for (let j = firstTail; j < level.jEnd; j++) {
+      const row = level.offset + (j - level.jStart) * n;
+      for (let i = first; i < last; i++) if (j >= tails[i - first]) tan[row + i] = NaN;
     }
     carry = nextCarry;
     carryFirst = first;
@@ -722,6 +744,7 @@ function sweepOne(
     jEnd,
     trace,
   );
+  for (let q = sweptTo; q < jEnd; q++) screening[q] = NaN;
   if (!trace) screening[jEnd] = T;
 }
 
