@@ -170,7 +170,6 @@ describe('horizon cache', () => {
     await computeFloor(terrain, { ...site, mastM: 20 }, geo, data, counting, { cache: small });
     expect(sweeps).toBe(6);
   });
-
 });
 
 describe('horizon sweep paths', () => {
