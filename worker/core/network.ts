@@ -43,10 +43,12 @@ export class Network {
    * Per footprint, per cell of its bits window (`bitsWindow`: its window joined with its other targets'): bit f
    * set iff the sensor covers the cell at level f. Windowed, so a network costs its sensors' areas, not the study.
    */
-  private readonly bits: Bits[];
+  private readonly bits: (Bits | null)[];
   private readonly bitsWindow: FootprintWindow[];
-  /** Per footprint: bit f set iff it covers any cell at altitudesM[f]. */
+  /** Per footprint whose bits are made: bit f set iff it covers any cell at altitudesM[f]. */
   private readonly anyAt: number[];
+  /** Makes a footprint's level bits (and its `anyAt`). */
+  private readonly levelBitsOf: (i: number) => Bits;
   /** Scratch for one site's ORed bits over the join of its windows (grown as needed). */
   private scratch = new Uint32Array(0);
 
@@ -92,9 +94,11 @@ export class Network {
       return Array.from({ length: levels }, () => (kept ? new Uint16Array(cells) : zeros));
     });
     this.active = footprints.map((_, i) => active?.[i] ?? true);
-    this.anyAt = [];
     this.bitsWindow = footprints.map((fp) => joinWindows([fp, ...(fp.byTarget ?? [])].map((f) => f.window)));
-    this.bits = footprints.map((fp, i) => {
+    this.bits = footprints.map(() => null);
+    this.anyAt = footprints.map(() => 0);
+    this.levelBitsOf = (i: number): Bits => {
+      const fp = footprints[i];
       const win = this.bitsWindow[i];
       const b = make(windowCellCount(win));
       let seen = levelBits(fp, altitudesM, b, win, 0, -1);
@@ -106,15 +110,29 @@ export class Network {
         // A target this sensor does not tell apart shares its footprint: its bits are the base bits, shifted.
         seen |= other === fp ? shiftBits(b, shift, mask) : levelBits(other, altitudesM, b, win, shift, mask);
       });
-      this.anyAt.push(seen);
+      this.anyAt[i] = seen;
       return b;
-    });
+    };
     footprints.forEach((f, i) => {
       const list = this.bySite.get(f.siteId) ?? [];
       list.push(i);
       this.bySite.set(f.siteId, list);
     });
     for (const site of this.bySite.keys()) this.applySite(site, +1);
+  }
+
+  /**
+   * A footprint's level bits, made when the sensor is first on: a network of many candidates of which few are on
+   * (a plan's) makes the bits of those few only.
+   */
+  private bitsFor(i: number): Bits {
+    return (this.bits[i] ??= this.levelBitsOf(i));
+  }
+
+  /** Bit f set iff footprint i covers any cell at altitudesM[f] (its bits made first). */
+  private anyAtOf(i: number): number {
+    this.bitsFor(i);
+    return this.anyAt[i];
   }
 
   get flCount(): number {
@@ -188,7 +206,7 @@ export class Network {
     const jw = join.col1 - join.col0;
     for (const i of list) {
       const w = this.bitsWindow[i];
-      const b = this.bits[i];
+      const b = this.bitsFor(i);
       const ww = w.col1 - w.col0;
       const off = (KINDS.indexOf(this.footprints[i].kind) - 1) * n;
       for (let r = w.row0; r < w.row1; r++) {
@@ -253,7 +271,7 @@ export class Network {
     const jw = join.col1 - join.col0;
     for (const i of members) {
       const w = this.bitsWindow[i];
-      const b = this.bits[i];
+      const b = this.bitsFor(i);
       const ww = w.col1 - w.col0;
       if (ww <= 0) continue;
       for (let r = w.row0; r < w.row1; r++) {
@@ -294,7 +312,7 @@ export class Network {
         (i) =>
           this.active[i] &&
           (kind === 'any' ? isRadarKind(this.footprints[i].kind) : this.footprints[i].kind === kind) &&
-          (this.anyAt[i] >>> flIndex) & 1,
+          (this.anyAtOf(i) >>> flIndex) & 1,
       );
       if (ok) out.push(site);
     }
