@@ -71,11 +71,17 @@ const caseArb: fc.Arbitrary<Case> = fc
   .chain(({ cells, nFl }) =>
     fc.record({
       cells: fc.constant(cells),
-      // Altitudes with a decimal (FL245 = 7467.6 m) and whole ones, unsorted.
-      altitudesM: fc.uniqueArray(
-        fc.integer({ min: 0, max: 12_000 }).map((x) => x / 10),
-        { minLength: nFl, maxLength: nFl },
-      ),
+      // Altitudes with a decimal (FL245 = 7467.6 m) and whole ones, unsorted or ascending (as a study's are: the
+      // network then reads its level bits from tables, network.ts levelTables).
+      altitudesM: fc
+        .tuple(
+          fc.uniqueArray(
+            fc.integer({ min: 0, max: 12_000 }).map((x) => x / 10),
+            { minLength: nFl, maxLength: nFl },
+          ),
+          fc.boolean(),
+        )
+        .map(([a, ascending]) => (ascending ? [...a].sort((x, y) => x - y) : a)),
       footprints: fc.array(footprintArb(cells), { minLength: 0, maxLength: 8 }),
     }),
   )

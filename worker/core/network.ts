@@ -97,18 +97,22 @@ export class Network {
     this.bitsWindow = footprints.map((fp) => joinWindows([fp, ...(fp.byTarget ?? [])].map((f) => f.window)));
     this.bits = footprints.map(() => null);
     this.anyAt = footprints.map(() => 0);
+    const tables = levelTables(altitudesM);
     this.levelBitsOf = (i: number): Bits => {
       const fp = footprints[i];
       const win = this.bitsWindow[i];
       const b = make(windowCellCount(win));
-      let seen = levelBits(fp, altitudesM, b, win, 0, -1);
+      let seen = levelBits(fp, altitudesM, tables, b, win, 0, -1);
       fp.byTarget?.forEach((other, t) => {
         const all = altitudesM.length >= 32 ? -1 : (1 << altitudesM.length) - 1;
         const mask = (targetLevels?.[t] ?? -1) & all;
         const shift = (t + 1) * altitudesM.length;
         if (mask === 0) return;
         // A target this sensor does not tell apart shares its footprint: its bits are the base bits, shifted.
-        seen |= other === fp ? shiftBits(b, shift, mask) : levelBits(other, altitudesM, b, win, shift, mask);
+        seen |=
+          other === fp
+            ? shiftBits(b, shift, mask)
+            : levelBits(other, altitudesM, tables, b, win, shift, mask);
       });
       this.anyAt[i] = seen;
       return b;
@@ -350,6 +354,7 @@ function joinWindows(ws: readonly FootprintWindow[]): FootprintWindow {
 function levelBits(
   fp: Footprint,
   altitudesM: readonly number[],
+  tables: LevelTables | null,
   out: Bits,
   outWin: FootprintWindow,
   shift: number,
@@ -363,7 +368,65 @@ function levelBits(
   for (let r = w.row0; r < w.row1; r++) {
     const src = (r - w.row0) * ww;
     const dst = (r - outWin.row0) * ow + (w.col0 - outWin.col0);
-    seen |= levelBitsRun(fp.lo, fp.hi, altitudesM, out, shift, mask, src, dst, ww);
+    seen |=
+      tables === null
+        ? levelBitsRun(fp.lo, fp.hi, altitudesM, out, shift, mask, src, dst, ww)
+        : levelBitsTabled(fp.lo, fp.hi, tables, out, shift, mask, src, dst, ww);
+  }
+  return seen;
+}
+
+/**
+ * For levels in ascending altitude, per whole metre v (a footprint's lo and hi are whole metres, 0…65 535): the
+ * levels below v (`below[v]`: levels with altitude < v) and up to v (`upTo[v]`: altitude ≤ v). A cell with
+ * lo ≤ hi covers exactly the levels [below[lo], upTo[hi]). Null when the altitudes do not ascend.
+ */
+interface LevelTables {
+  below: Uint8Array;
+  upTo: Uint8Array;
+  /** lowBits[k]: the k lowest bits set (k = 0 … 32). */
+  lowBits: Int32Array;
+}
+
+function levelTables(altitudesM: readonly number[]): LevelTables | null {
+  for (let f = 1; f < altitudesM.length; f++) if (!(altitudesM[f] > altitudesM[f - 1])) return null;
+  const below = new Uint8Array(65_536);
+  const upTo = new Uint8Array(65_536);
+  let b = 0;
+  let u = 0;
+  for (let v = 0; v < 65_536; v++) {
+    while (b < altitudesM.length && altitudesM[b] < v) b++;
+    while (u < altitudesM.length && altitudesM[u] <= v) u++;
+    below[v] = b;
+    upTo[v] = u;
+  }
+  const lowBits = new Int32Array(33);
+  for (let k = 0; k <= 32; k++) lowBits[k] = k >= 32 ? -1 : (1 << k) - 1;
+  return { below, upTo, lowBits };
+}
+
+/** `levelBitsRun` through the tables: two lookups per cell instead of a test per level (the same bits). */
+function levelBitsTabled(
+  lo: Uint16Array,
+  hi: Uint16Array,
+  t: LevelTables,
+  out: Bits,
+  shift: number,
+  mask: number,
+  src: number,
+  dst: number,
+  count: number,
+): number {
+  const { below, upTo, lowBits } = t;
+  let seen = 0;
+  for (let k = 0; k < count; k++) {
+    const l = lo[src + k];
+    const h = hi[src + k];
+    if (l > h) continue;
+    const b = ((lowBits[upTo[h]] & ~lowBits[below[l]] & mask) << shift) | 0;
+    if (b === 0) continue;
+    out[dst + k] |= b;
+    seen |= b;
   }
   return seen;
 }
