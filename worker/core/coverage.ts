@@ -82,6 +82,9 @@ export interface SiteFloor {
   groundM: number;
 }
 
+/** Sites whose floors are computed ahead of the footprints being built (worker/core/memory-estimate.ts counts them). */
+const SITES_IN_FLIGHT = 2;
+
 export async function computeFootprints(
   terrain: TerrainRaster,
   req: CoverageRequest,
@@ -108,8 +111,8 @@ export async function computeFootprints(
   const groups = [...bySite.values()];
   const reachOf = (cands: Candidate[]) =>
     Math.min(req.maxRangeM, Math.max(...cands.map((c) => c.model.instrumentedRangeM)));
-  // One polar buffer serves every site in turn (a site's sweep starts only once the previous site's resampling is
-  // done): fresh memory costs a page fault per 4 KiB here, about a fifth of the time with a buffer per site.
+  // Two polar buffers serve every site in turn (a site's sweep starts once the site two before it is resampled):
+  // fresh memory costs a page fault per 4 KiB here, about a fifth of the time with a buffer per site.
   const spare: { buffer: ArrayBuffer | SharedArrayBuffer | null } = { buffer: null };
   const floorOf = (cands: Candidate[]) => {
     const site = cands[0].site;
@@ -175,14 +178,18 @@ export async function computeFootprints(
     if (c.model.sector) dropOutsideSector(fp, req.grid, c.site, c.model.sector);
     return fp;
   };
-  let next = groups.length > 0 ? floorOf(groups[0]) : null;
+  // Two sites in flight: the second's sweep queues in the workers behind the first's, so they always have a piece
+  // to take while this thread builds footprints (two polar buffers alternate).
+  const inFlight: (Promise<SiteRun> | null)[] = [];
+  for (let k = 0; k < Math.min(SITES_IN_FLIGHT, groups.length); k++) inFlight.push(floorOf(groups[k]));
   for (let g = 0; g < groups.length; g++) {
     const cands = groups[g];
     const site = cands[0].site;
-    const res = await next!;
+    const res = await inFlight[g]!;
+    inFlight[g] = null; // its polar buffer goes on to the next site, not kept here
     // The polar buffer is free again (the resampling is done): the next site's sweep takes it.
     if (!opts.cache) spare.buffer = res.tan.buffer;
-    next = g + 1 < groups.length ? floorOf(groups[g + 1]) : null;
+    if (g + SITES_IN_FLIGHT < groups.length) inFlight.push(floorOf(groups[g + SITES_IN_FLIGHT]));
     const { distance, maxRangeM } = res;
     siteFloors.push({
       site,
@@ -194,6 +201,10 @@ export async function computeFootprints(
     const sea = req.multipath ? seaMask(terrain, req.grid, site, distance, maxRangeM) : null;
     const first = footprints.length;
     for (const c of cands) {
+      // Between footprints, let a pool's replies in: the next site's sweep ends while this thread works, and its
+      // resampling is posted from here; without the pause the workers idled that long (about 1 s of 10 on the
+      // demo's 33 sites). Inline there is nothing to let in.
+      if (exec.shared) await yieldToEvents();
       const fp = footprintFor(c, c.target, res, maxRangeM, sea);
       if (req.extraTargets?.length) {
         // Targets that differ only in what this type does not depend on share its footprint.
@@ -209,6 +220,18 @@ export async function computeFootprints(
     opts.onProgress?.(done / groups.length, `${site.name}: done`);
   }
   return { footprints, siteFloors };
+}
+
+/**
+ * A pause that lets pending events (worker replies) run first: setImmediate where the platform has it (Node), else
+ * a zero timeout.
+ */
+function yieldToEvents(): Promise<void> {
+  const g = globalThis as { setImmediate?: (cb: () => void) => unknown };
+  return new Promise((resolve) => {
+    if (typeof g.setImmediate === 'function') g.setImmediate(resolve);
+    else setTimeout(resolve, 0);
+  });
 }
 
 /**
@@ -292,11 +315,14 @@ async function siteFloor(
     const layout = planHorizon(terrain, spec);
     const bytes = layout.totalSamples * 4;
     const reuse = cache === null && spare.buffer !== null && spare.buffer.byteLength >= bytes;
+    // A fresh buffer gets a quarter more than this site needs, so that the sites after it (other latitudes, other
+    // reaches) fit in it too and the two buffers in flight stay two.
+    const fresh = 4 * Math.ceil(bytes / 3.2);
     const buffer = reuse
       ? spare.buffer!
       : exec.shared
-        ? new SharedArrayBuffer(bytes)
-        : new ArrayBuffer(bytes);
+        ? new SharedArrayBuffer(fresh)
+        : new ArrayBuffer(fresh);
     if (reuse) spare.buffer = null;
     // Every sample is written by the sweep: a reused buffer needs no clearing.
     const tan = new Float32Array(buffer, 0, layout.totalSamples);

@@ -13,8 +13,8 @@
  * - per (site, type) pair, per cell of its window (the box its type's reach spans around the site, clipped to
  *   the grid: worker/core/coverage.ts rangeWindow): per target a footprint of two Uint16
  *   (worker/core/footprint.ts) and the network's level bits (1, 2 or 4 bytes: worker/core/network.ts);
- * - per site in flight (two: the pipeline of worker/core/coverage.ts): the horizon's screening tans, Float32 per
- *   sample; the layout (worker/core/horizon.ts planHorizon) keeps arcs between neighbouring radials within
+ * - per site in flight (two: the pipeline of worker/core/coverage.ts, each buffer a quarter larger than its first
+ *   site needs, so that later sites fit in it): the horizon's screening tans, Float32 per sample; the layout (worker/core/horizon.ts planHorizon) keeps arcs between neighbouring radials within
  *   0.75…1.5 arc steps, so the samples out to range R number at most π·R² / (0.75 · rangeStep · arcStep).
  * These counts are exact bounds of the layouts; what they leave out (the JavaScript heap, the contour rings,
  * the GeoJSON text, the pool's workers) is the `RUNTIME_BYTES` floor and the `OVERHEAD` factor, both measured
@@ -75,7 +75,7 @@ export interface RunShape {
   reachM: number;
   rangeStepM: number;
   arcStepM: number;
-  /** Horizons alive at once (a floor run: 1; coverage's pipeline: 2). */
+  /** Horizons alive at once (a floor run: 1; coverage's pipeline: 2, each with a quarter to spare: 2.5). */
   horizonsInFlight: number;
   /**
    * Bytes per analysis cell when the run keeps fewer arrays than a study's network (a floor run: its floor and the
@@ -246,7 +246,8 @@ export function studyRun(
     reachM,
     rangeStepM: Math.min(px.x, px.y) || cellM,
     arcStepM: 0.75 * cellM,
-    horizonsInFlight: 2,
+    // Two sites in flight, each polar buffer allocated with a quarter to spare (worker/core/coverage.ts siteFloor).
+    horizonsInFlight: 2.5,
   };
   return { shape, pairs, reachM };
 }

@@ -1,6 +1,6 @@
 /**
  * A pool of remote workers exposing the worker API (comlink `Remote<WorkerApi>`), handed to the core as an
- * Executor: each piece of a job runs on the next idle worker. Transport-free, so the CLI (worker_threads) and the
+ * Executor: each piece of a job is posted at once to the least busy worker. Transport-free, so the CLI (worker_threads) and the
  * web app (Web Workers over MessagePorts) share it.
  */
 import type { Remote } from 'comlink';
@@ -9,25 +9,30 @@ import type { Executor } from '../core/floor.ts';
 import { gridSweepTaskCells } from '../core/grid-sweep.ts';
 
 export class RemotePool {
-  private readonly idle: Remote<WorkerApi>[];
-  private readonly waiting: ((w: Remote<WorkerApi>) => void)[] = [];
+  /** Jobs posted to each worker and not yet answered. */
+  private readonly queued: number[];
 
   constructor(readonly remotes: readonly Remote<WorkerApi>[]) {
-    this.idle = [...remotes];
+    this.queued = remotes.map(() => 0);
   }
 
   get size(): number {
     return this.remotes.length;
   }
 
+  /**
+   * Posts the job at once to the worker with the fewest jobs outstanding (the first such), where it queues behind
+   * them. No worker then waits for the calling thread to hand it its next piece: in `airshade coverage` that
+   * thread builds footprints between the pieces of the next site's sweep, and while it did, the workers idled.
+   */
   private async run<T>(job: (w: Remote<WorkerApi>) => Promise<T>): Promise<T> {
-    const w = this.idle.pop() ?? (await new Promise<Remote<WorkerApi>>((res) => this.waiting.push(res)));
+    let k = 0;
+    for (let i = 1; i < this.queued.length; i++) if (this.queued[i] < this.queued[k]) k = i;
+    this.queued[k]++;
     try {
-      return await job(w);
+      return await job(this.remotes[k]);
     } finally {
-      const next = this.waiting.shift();
-      if (next) next(w);
-      else this.idle.push(w);
+      this.queued[k]--;
     }
   }
 

@@ -1,0 +1,57 @@
+/**
+ * The worker pool's dispatch (worker/runtime/pool.ts): every piece is posted at once to the worker with the fewest
+ * pieces outstanding, so no worker waits for the calling thread to hand it the next one (in `airshade coverage`
+ * that thread is busy building footprints between replies).
+ */
+import { describe, expect, it } from 'vitest';
+import type { Remote } from 'comlink';
+import { RemotePool } from '../worker/runtime/pool.ts';
+import type { WorkerApi } from '../worker/runtime/api.ts';
+import type { HorizonLayout } from '../worker/core/horizon.ts';
+
+/** A stand-in worker: records the sweep pieces posted to it and answers each when told to. */
+function fakeWorker(name: string, log: string[]) {
+  const open: (() => void)[] = [];
+  const remote = {
+    sweep: (_l: HorizonLayout, _t: Float32Array, a: number) =>
+      new Promise<void>((resolve) => {
+        log.push(`${name}:${a}`);
+        open.push(resolve);
+      }),
+  };
+  return { remote: remote as unknown as Remote<WorkerApi>, answer: () => open.shift()?.(), open };
+}
+
+const tick = () => new Promise((r) => setTimeout(r, 0));
+
+describe('RemotePool dispatch', () => {
+  it('posts every piece at once, to the worker with the fewest outstanding, before any is answered', async () => {
+    const log: string[] = [];
+    const a = fakeWorker('a', log);
+    const b = fakeWorker('b', log);
+    const exec = new RemotePool([a.remote, b.remote]).executor();
+    const layout = {} as HorizonLayout;
+    const tan = new Float32Array(1);
+    const done = Array.from({ length: 6 }, (_, i) => exec.sweep(layout, tan, i, i + 1));
+    await tick();
+    // All six posted with none answered: alternating, three each.
+    expect(log).toEqual(['a:0', 'b:1', 'a:2', 'b:3', 'a:4', 'b:5']);
+    // Worker a answers two pieces: the next two pieces go to it, the less loaded.
+    a.answer();
+    a.answer();
+    await tick();
+    const more = [
+      exec.sweep(layout, tan, 6, 7),
+      exec.sweep(layout, tan, 7, 8),
+      exec.sweep(layout, tan, 8, 9),
+    ];
+    await tick();
+    expect(log.slice(6)).toEqual(['a:6', 'a:7', 'a:8']);
+    while (a.open.length + b.open.length > 0) {
+      a.answer();
+      b.answer();
+      await tick();
+    }
+    await Promise.all([...done, ...more]);
+  });
+});
