@@ -16,12 +16,16 @@ import {
   cellArcSecThatFits,
   estimateRun,
   GiB,
+  horizonSamples,
   MiB,
   RUNTIME_BYTES,
   tileReadBytes,
   type RunShape,
 } from '../worker/core/memory-estimate.ts';
 import { appMemoryLimitBytes, Engine, FOOTPRINT_CACHE_MARGIN } from '../worker/runtime/engine.ts';
+import { planHorizon } from '../worker/core/horizon.ts';
+import { mulberry32 } from './support/bumps.ts';
+import { cellLonLat, metricTerrain } from './support/dem.ts';
 import { writeE2eData, type E2eData } from './e2e/fixture.ts';
 import { runCli } from './support/run-cli.ts';
 
@@ -50,6 +54,27 @@ describe('the shared estimate', () => {
   it('is the one the CLI uses (re-exported, not copied)', () => {
     expect(cliBudget.estimateRun).toBe(estimateRun);
     expect(cliBudget.RUNTIME_BYTES).toBe(RUNTIME_BYTES);
+  });
+
+  it("bounds a horizon's samples from above: planHorizon's layout never holds more than horizonSamples", () => {
+    // Flat ground of 90 m pixels around a site at the centre; reach, range step and arc step drawn from the
+    // shapes the commands use (range step a terrain pixel or ¾ of one, arc ¾ of a cell of 1″…120″, or 1.5 pixels).
+    const n = 41;
+    const terrain = metricTerrain(new Float32Array(n * n).fill(10), n, n, 90);
+    const site = cellLonLat(terrain.geo, 20, 20);
+    const rnd = mulberry32(7);
+    let worst = 0;
+    for (let k = 0; k < 60; k++) {
+      const arcStepM = k % 3 === 0 ? 135 : 0.75 * (1 + rnd() * 119) * 23;
+      const rangeStepM = k % 2 === 0 ? 90 : 67.5;
+      const maxRangeM = 200 + rnd() ** 2 * 600_000;
+      const layout = planHorizon(terrain, { ...site, mastM: 10, maxRangeM, rangeStepM, arcStepM });
+      const bound = horizonSamples(maxRangeM, rangeStepM, arcStepM);
+      expect(layout.totalSamples).toBeLessThanOrEqual(bound);
+      worst = Math.max(worst, layout.totalSamples / bound);
+    }
+    // Not loose for nothing: some layout comes within 20 % of it.
+    expect(worst).toBeGreaterThan(0.8);
   });
 
   it('offers the finest round cell size whose run fits, coarser than the one asked', () => {

@@ -316,7 +316,7 @@ async function siteFloor(
     const bytes = layout.totalSamples * 4;
     const reuse = cache === null && spare.buffer !== null && spare.buffer.byteLength >= bytes;
     // A fresh buffer gets a quarter more than this site needs, so that the sites after it (other latitudes, other
-    // reaches) fit in it too and the two buffers in flight stay two.
+    // reaches) fit in it too and the two buffers in flight stay two (memory-estimate.ts counts 2 × 1.25 horizons).
     const fresh = 4 * Math.ceil(bytes / 3.2);
     const buffer = reuse
       ? spare.buffer!

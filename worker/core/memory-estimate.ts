@@ -15,7 +15,8 @@
  *   (worker/core/footprint.ts) and the network's level bits (1, 2 or 4 bytes: worker/core/network.ts);
  * - per site in flight (two: the pipeline of worker/core/coverage.ts, each buffer a quarter larger than its first
  *   site needs, so that later sites fit in it): the horizon's screening tans, Float32 per sample; the layout (worker/core/horizon.ts planHorizon) keeps arcs between neighbouring radials within
- *   0.75…1.5 arc steps, so the samples out to range R number at most π·R² / (0.75 · rangeStep · arcStep).
+ *   ½…1 arc step, so the samples out to range R number at most about 1.5·π·R² / (rangeStep · arcStep)
+ *   (`horizonSamples`).
  * These counts are exact bounds of the layouts; what they leave out (the JavaScript heap, the contour rings,
  * the GeoJSON text, the pool's workers) is the `RUNTIME_BYTES` floor and the `OVERHEAD` factor, both measured
  * with the CLI (DEVELOPERS.md: the figures and the command that reproduces them).
@@ -75,7 +76,7 @@ export interface RunShape {
   reachM: number;
   rangeStepM: number;
   arcStepM: number;
-  /** Horizons alive at once (a floor run: 1; coverage's pipeline: 2, each with a quarter to spare: 2.5). */
+  /** Horizons alive at once (a floor run: 1; coverage's pipeline: two with a quarter to spare each, 2.5). */
   horizonsInFlight: number;
   /**
    * Bytes per analysis cell when the run keeps fewer arrays than a study's network (a floor run: its floor and the
@@ -96,9 +97,23 @@ export interface Estimate {
   parts: Record<EstimatePart, number>;
 }
 
-/** Screening-tan samples of one horizon, an upper bound from the layout rules (see the module comment). */
+/**
+ * Screening-tan samples of one horizon, an upper bound from the layout rules (worker/core/horizon.ts planHorizon):
+ * level ℓ holds N = 2π·r/arc radials out to the range r where their arc reaches `arcStepM`, from r/2 (where the
+ * level below doubled them) — π·r²/(arc·range step) samples; the levels below add at most a third of that, and a
+ * last level cut short by the reach R at most πR²/(2·arc·range step) more (its radials are those of a level out to
+ * 2r ≤ 2R: the worst case, r = 3R/4, gives 1.5·πR² in all). Level 0 starts at the antenna, not at r/2 (its radials
+ * at least 512, out to 512·arc/2π: up to π·(82·arc)² more), and every level may store up to three rows more than
+ * its span (its end row, rounding, the two rows past the reach: at most 3 × 2·4πR/arc in all).
+ */
 export function horizonSamples(reachM: number, rangeStepM: number, arcStepM: number): number {
-  return (Math.PI * reachM * reachM) / (0.75 * rangeStepM * arcStepM) + (2 * Math.PI * reachM) / arcStepM;
+  const a = arcStepM;
+  const r0 = 82 * a;
+  return (
+    (1.5 * Math.PI * reachM * reachM + Math.PI * r0 * r0) / (rangeStepM * a) +
+    (24 * Math.PI * reachM) / a +
+    2048
+  );
 }
 
 /**
@@ -205,7 +220,10 @@ export interface StudyRun {
   shape: RunShape;
   /** Every allowed (site, type) pair: the most a network of this scenario can hold. */
   pairs: number;
-  /** The farthest reach of any type, m (maxRangeKm and the instrumented ranges). */
+  /**
+   * The farthest any site's horizon reaches, m: maxRangeKm and the types' instrumented ranges, and no farther than
+   * the grid's farthest cell from the site.
+   */
   reachM: number;
 }
 
@@ -224,13 +242,23 @@ export function studyRun(
 ): StudyRun {
   const typeCount = s.sensorTypes.length;
   const pairs = s.sites.reduce((n, f) => n + (f.properties.allowedTypes?.length ?? typeCount), 0);
-  const reachM = Math.min(
+  const typeReachM = Math.min(
     s.maxRangeKm * 1000,
     Math.max(0, ...s.sensorTypes.map((t) => t.instrumentedRangeNm * NM_M)),
   );
   const lat = grid.originY + (grid.height / 2) * grid.pixelY;
   const lon = grid.originX + (grid.width / 2) * grid.pixelX;
   const px = terrain.metresPerPixel(lon, lat);
+  // A site's horizon stops at the grid's farthest cell (worker/core/coverage.ts siteFloor: the VectorMap's farthest
+  // node plus two lattice blocks of at most 64 terrain pixels).
+  const margin = 2 * 64 * Math.max(px.x, px.y, 1);
+  const reachM = Math.max(
+    0,
+    ...s.sites.map((f) => {
+      const [siteLon, siteLat] = f.geometry.coordinates;
+      return Math.min(typeReachM, farthestCornerM(grid, siteLon, siteLat) + margin);
+    }),
+  );
   const cellM = Math.min(grid.pixelX * Math.cos((lat * Math.PI) / 180), -grid.pixelY) * 111_320;
   const shape: RunShape = {
     pairWindowCells: pairWindowCells(s, grid),
@@ -246,10 +274,34 @@ export function studyRun(
     reachM,
     rangeStepM: Math.min(px.x, px.y) || cellM,
     arcStepM: 0.75 * cellM,
-    // Two sites in flight, each polar buffer allocated with a quarter to spare (worker/core/coverage.ts siteFloor).
+    // Two sites in flight, each polar buffer a quarter larger than its first site needs (worker/core/coverage.ts).
     horizonsInFlight: 2.5,
   };
   return { shape, pairs, reachM };
+}
+
+/**
+ * An upper bound of the ground distance (m) from (lon, lat) to the farthest corner of a geographic grid: the
+ * haversine on a sphere of the equatorial radius, plus 1 % (WGS84 geodesics are at most 0.6 % longer than that).
+ * Over a lon/lat box the distance from a point outside its antipodal half is largest at a corner (along a parallel
+ * it grows with the longitude difference; along a meridian it has one minimum). Infinity for a projected grid (no
+ * lon/lat corners here) and for a box wider than 90°.
+ */
+function farthestCornerM(grid: GridGeo, lon: number, lat: number): number {
+  // A grid this wide might hold the site's antipode, which is farther than any corner.
+  if (grid.crs.kind !== 'geographic' || Math.abs(grid.width * grid.pixelX) > 90) return Infinity;
+  if (Math.abs(grid.height * grid.pixelY) > 90) return Infinity;
+  const rad = Math.PI / 180;
+  let far = 0;
+  for (const cx of [grid.originX, grid.originX + grid.width * grid.pixelX]) {
+    for (const cy of [grid.originY, grid.originY + grid.height * grid.pixelY]) {
+      const dLat = (cy - lat) * rad;
+      const dLon = (cx - lon) * rad;
+      const h = Math.sin(dLat / 2) ** 2 + Math.cos(lat * rad) * Math.cos(cy * rad) * Math.sin(dLon / 2) ** 2;
+      far = Math.max(far, 2 * 6_378_137 * Math.asin(Math.min(1, Math.sqrt(h))));
+    }
+  }
+  return far * 1.01;
 }
 
 /**
