@@ -82,8 +82,11 @@ export interface SiteFloor {
   groundM: number;
 }
 
-/** Sites whose floors are computed ahead of the footprints being built (worker/core/memory-estimate.ts counts them). */
-const SITES_IN_FLIGHT = 2;
+/**
+ * Sites whose floors are computed ahead of the footprints being built. Two (the second site's sweep queued in the
+ * workers behind the first's) ran the demo no faster once the pool posted its pieces at once, for 70 MiB more.
+ */
+const SITES_IN_FLIGHT = 1;
 
 export async function computeFootprints(
   terrain: TerrainRaster,
@@ -111,8 +114,8 @@ export async function computeFootprints(
   const groups = [...bySite.values()];
   const reachOf = (cands: Candidate[]) =>
     Math.min(req.maxRangeM, Math.max(...cands.map((c) => c.model.instrumentedRangeM)));
-  // Two polar buffers serve every site in turn (a site's sweep starts once the site two before it is resampled):
-  // fresh memory costs a page fault per 4 KiB here, about a fifth of the time with a buffer per site.
+  // One polar buffer serves every site in turn (a site's sweep starts once the site before it is resampled): fresh
+  // memory costs a page fault per 4 KiB here, about a fifth of the time with a buffer per site.
   const spare: { buffer: ArrayBuffer | SharedArrayBuffer | null } = { buffer: null };
   const floorOf = (cands: Candidate[]) => {
     const site = cands[0].site;
@@ -178,8 +181,6 @@ export async function computeFootprints(
     if (c.model.sector) dropOutsideSector(fp, req.grid, c.site, c.model.sector);
     return fp;
   };
-  // Two sites in flight: the second's sweep queues in the workers behind the first's, so they always have a piece
-  // to take while this thread builds footprints (two polar buffers alternate).
   const inFlight: (Promise<SiteRun> | null)[] = [];
   for (let k = 0; k < Math.min(SITES_IN_FLIGHT, groups.length); k++) inFlight.push(floorOf(groups[k]));
   for (let g = 0; g < groups.length; g++) {
@@ -316,7 +317,8 @@ async function siteFloor(
     const bytes = layout.totalSamples * 4;
     const reuse = cache === null && spare.buffer !== null && spare.buffer.byteLength >= bytes;
     // A fresh buffer gets a quarter more than this site needs, so that the sites after it (other latitudes, other
-    // reaches) fit in it too and the two buffers in flight stay two (memory-estimate.ts counts 2 × 1.25 horizons).
+    // reaches) fit in it too: one buffer for the whole run, where a buffer fitted to its first site was replaced by a
+    // fresh one whenever a later site needed a little more (the demo's peak went from 860 to 650 MiB).
     const fresh = 4 * Math.ceil(bytes / 3.2);
     const buffer = reuse
       ? spare.buffer!

@@ -13,8 +13,9 @@
  * - per (site, type) pair, per cell of its window (the box its type's reach spans around the site, clipped to
  *   the grid: worker/core/coverage.ts rangeWindow): per target a footprint of two Uint16
  *   (worker/core/footprint.ts) and the network's level bits (1, 2 or 4 bytes: worker/core/network.ts);
- * - per site in flight (two: the pipeline of worker/core/coverage.ts, each buffer a quarter larger than its first
- *   site needs, so that later sites fit in it): the horizon's screening tans, Float32 per sample; the layout (worker/core/horizon.ts planHorizon) keeps arcs between neighbouring radials within
+ * - per site in flight (two: the pipeline of worker/core/coverage.ts, whose buffer is a quarter larger than its
+ *   first site needs, and room for a second when a later site needs more still): the horizon's screening tans,
+ *   Float32 per sample; the layout (worker/core/horizon.ts planHorizon) keeps arcs between neighbouring radials within
  *   ½…1 arc step, so the samples out to range R number at most about 1.5·π·R² / (rangeStep · arcStep)
  *   (`horizonSamples`).
  * These counts are exact bounds of the layouts; what they leave out (the JavaScript heap, the contour rings,
@@ -76,7 +77,7 @@ export interface RunShape {
   reachM: number;
   rangeStepM: number;
   arcStepM: number;
-  /** Horizons alive at once (a floor run: 1; coverage's pipeline: two with a quarter to spare each, 2.5). */
+  /** Horizons alive at once (a floor run: 1; coverage's pipeline: 2). */
   horizonsInFlight: number;
   /**
    * Bytes per analysis cell when the run keeps fewer arrays than a study's network (a floor run: its floor and the
@@ -274,8 +275,7 @@ export function studyRun(
     reachM,
     rangeStepM: Math.min(px.x, px.y) || cellM,
     arcStepM: 0.75 * cellM,
-    // Two sites in flight, each polar buffer a quarter larger than its first site needs (worker/core/coverage.ts).
-    horizonsInFlight: 2.5,
+    horizonsInFlight: 2,
   };
   return { shape, pairs, reachM };
 }
