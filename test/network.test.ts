@@ -293,6 +293,37 @@ describe('Network: what-if toggles', () => {
     );
   });
 
+  it('a network grown site by site (addSite) is the network of the same footprints given at once', () => {
+    fc.assert(
+      fc.property(caseArb, (k) => {
+        // Site by site, in the order of each site's first footprint: the order computeFootprints hands them out.
+        const bySite = sitesOf(k).map((site) => k.footprints.filter((f) => f.siteId === site));
+        const ordered = bySite.flat();
+        const kinds = new Set(k.footprints.map((f) => f.kind));
+        const grown = new Network(k.cells, k.altitudesM, [], undefined, undefined, { kinds, targets: 1 });
+        for (const group of bySite) grown.addSite(group);
+        const whole = new Network(k.cells, k.altitudesM, ordered);
+        expect(grown.footprints).toEqual(whole.footprints);
+        expect(grown.siteIds()).toEqual(whole.siteIds());
+        expect([...grown.kindsPresent].sort()).toEqual([...whole.kindsPresent].sort());
+        expect(snapshot(grown)).toEqual(snapshot(whole));
+        expect(Array.from(grown.networkFloor())).toEqual(Array.from(whole.networkFloor()));
+        k.altitudesM.forEach((_, f) => {
+          for (const kind of KINDS)
+            expect(grown.contributingSites(kind, f)).toEqual(whole.contributingSites(kind, f));
+        });
+        // And it toggles as the whole one does.
+        const site = bySite[0]?.[0]?.siteId;
+        if (site !== undefined) {
+          grown.setSite(site, false);
+          whole.setSite(site, false);
+          expect(snapshot(grown)).toEqual(snapshot(whole));
+          expect(() => grown.addSite(bySite[0])).toThrow(/in the network already/);
+        }
+      }),
+    );
+  });
+
   it('siteIds lists each site of the footprints once', () => {
     fc.assert(
       fc.property(caseArb, (k) => {

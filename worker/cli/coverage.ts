@@ -12,6 +12,7 @@ import {
   layerMeta,
   levelAltitudesM,
   studyNetwork,
+  grownStudyNetwork,
   modelWarnings,
   studyConventions,
 } from '../io/study.ts';
@@ -121,10 +122,22 @@ export async function coverageCommand(
   const sweep = parseKSweep(one(p, 'k-sweep'));
   for (const w of modelWarnings(session)) log(`warning: ${w}`);
   const tSetup = performance.now();
-  const result = { footprints: await footprintsFor(session, candidates, { weather, progress }) };
+  // Without a footprint cache the network grows site by site while the pool sweeps the next sites (the same
+  // network as one built from all the footprints after: test/coverage.test.ts); with one, it is built after.
+  const grown =
+    session.cacheDir === undefined
+      ? grownStudyNetwork(session, fls, new Set(candidates.map((c) => c.model.kind)))
+      : null;
+  const result = {
+    footprints: await footprintsFor(session, candidates, {
+      weather,
+      progress,
+      onSite: grown ? (fps) => grown.addSite(fps) : undefined,
+    }),
+  };
   const tFootprints = performance.now();
   const altitudes = levelAltitudesM(s, fls);
-  const network = studyNetwork(session, fls, result.footprints);
+  const network = grown ?? studyNetwork(session, fls, result.footprints);
   const tNetwork = performance.now();
   // The what-if figure: switching one site off and on again from the cached footprints.
   const someSite = network.siteIds()[0];

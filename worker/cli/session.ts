@@ -294,6 +294,11 @@ export interface FootprintsOptions {
   share?: [number, number];
   /** With a cache: told of each site read from it or written to it (e.g. `airshade footprints`' report). */
   onCache?: (event: { siteId: string; file: string; read: boolean }) => void;
+  /**
+   * Without a cache: handed each site's footprints as soon as they are done, in the order they are returned, while
+   * the pool sweeps the next sites (`airshade coverage` grows its network there). Not called with a cache.
+   */
+  onSite?: (footprints: readonly Footprint[]) => void;
 }
 
 /**
@@ -314,7 +319,10 @@ export async function footprintsFor(
     multipath: s.multipath === 'auto',
   };
   const dir = session.cacheDir;
-  if (dir === undefined) return computeFor(session, candidates, job, opts);
+  if (dir === undefined) {
+    const onSite = opts.onSite;
+    return computeFor(session, candidates, job, opts, onSite && ((_, fps) => onSite(fps)));
+  }
   const grid = session.grid;
   const groups = siteGroups(candidates).map((group) => {
     const inputs = footprintInputs(session, group, job);

@@ -52,16 +52,24 @@ export class Network {
   /** Scratch for one site's ORed bits over the join of its windows (grown as needed). */
   private scratch = new Uint32Array(0);
 
+  /** The sensors' footprints, in the order the network was given them (site by site when grown: `addSite`). */
+  private readonly list: Footprint[];
+
   constructor(
     readonly cells: number,
     readonly altitudesM: readonly number[],
-    readonly footprints: readonly Footprint[],
+    footprints: readonly Footprint[],
     active?: readonly boolean[],
     /**
      * Per target t ≥ 1 (index t − 1), a bit mask of the levels its folds are needed at (the bands of the volumes
      * that study it); default every level. Bits outside stay zero, which saves the work of unused levels.
      */
     targetLevels?: readonly number[],
+    /**
+     * For a network grown site by site (`addSite`, e.g. while the pool sweeps the next sites): the kinds of sensor
+     * and the number of targets its footprints will bring, so that its fold arrays exist from the start.
+     */
+    grown?: { kinds: ReadonlySet<string>; targets: number },
   ) {
     if (new Set(footprints.map((f) => f.siteId)).size > 65_535) {
       throw new InputError(
@@ -70,7 +78,8 @@ export class Network {
         'at most 65 535 sites in one network',
       );
     }
-    const nT = 1 + (footprints[0]?.byTarget?.length ?? 0);
+    this.list = [...footprints];
+    const nT = grown?.targets ?? 1 + (footprints[0]?.byTarget?.length ?? 0);
     if (footprints.some((f) => 1 + (f.byTarget?.length ?? 0) !== nT)) {
       throw new Error('Network: every footprint must carry the same targets');
     }
@@ -85,12 +94,12 @@ export class Network {
     this.targetCount = nT;
     const make = (n: number): Bits =>
       levels <= 8 ? new Uint8Array(n) : levels <= 16 ? new Uint16Array(n) : new Uint32Array(n);
-    this.kindsPresent = new Set(footprints.map((f) => f.kind));
+    this.kindsPresent = new Set([...footprints.map((f) => f.kind), ...(grown?.kinds ?? [])]);
     // Kinds without a sensor share one array of zeros (never written: applySite adds only where a sensor is).
     const zeros = new Uint16Array(cells);
-    const radars = footprints.some((f) => isRadarKind(f.kind));
+    const radars = [...this.kindsPresent].some((k) => isRadarKind(k as Footprint['kind']));
     this.fold = KINDS.flatMap((k) => {
-      const kept = k === 'any' ? radars || footprints.length === 0 : this.kindsPresent.has(k);
+      const kept = k === 'any' ? radars || this.kindsPresent.size === 0 : this.kindsPresent.has(k);
       return Array.from({ length: levels }, () => (kept ? new Uint16Array(cells) : zeros));
     });
     this.active = footprints.map((_, i) => active?.[i] ?? true);
@@ -99,7 +108,7 @@ export class Network {
     this.anyAt = footprints.map(() => 0);
     const tables = levelTables(altitudesM);
     this.levelBitsOf = (i: number): Bits => {
-      const fp = footprints[i];
+      const fp = this.list[i];
       const win = this.bitsWindow[i];
       const b = make(windowCellCount(win));
       let seen = levelBits(fp, altitudesM, tables, b, win, 0, -1);
@@ -123,6 +132,40 @@ export class Network {
       this.bySite.set(f.siteId, list);
     });
     for (const site of this.bySite.keys()) this.applySite(site, +1);
+  }
+
+  /** The sensors' footprints, in the network's order. */
+  get footprints(): readonly Footprint[] {
+    return this.list;
+  }
+
+  /**
+   * Adds one site's sensors, all on (a network built site by site while the pool sweeps the next sites: the same
+   * folds, bits and order as a network given the same footprints at once). The site must be new to the network and
+   * its sensors of kinds and targets the network was made for.
+   */
+  addSite(footprints: readonly Footprint[]): void {
+    if (footprints.length === 0) return;
+    const site = footprints[0].siteId;
+    if (this.bySite.has(site)) throw new Error(`Network.addSite: site '${site}' is in the network already`);
+    if (this.bySite.size >= 65_535) {
+      throw new InputError('sites', `${this.bySite.size + 1} sites`, 'at most 65 535 sites in one network');
+    }
+    const members: number[] = [];
+    for (const fp of footprints) {
+      if (fp.siteId !== site) throw new Error('Network.addSite: footprints of more than one site');
+      if (!this.kindsPresent.has(fp.kind) || 1 + (fp.byTarget?.length ?? 0) !== this.targetCount) {
+        throw new Error('Network.addSite: a sensor of a kind or targets the network was not made for');
+      }
+      members.push(this.list.length);
+      this.list.push(fp);
+      this.active.push(true);
+      this.bitsWindow.push(joinWindows([fp, ...(fp.byTarget ?? [])].map((f) => f.window)));
+      this.bits.push(null);
+      this.anyAt.push(0);
+    }
+    this.bySite.set(site, members);
+    this.applySite(site, +1);
   }
 
   /**

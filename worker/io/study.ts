@@ -677,20 +677,46 @@ export function studyNetwork(
   footprints: readonly Footprint[],
   active?: readonly boolean[],
 ): Network {
-  const s = study.loaded.scenario;
+  return new Network(
+    study.grid.width * study.grid.height,
+    levelAltitudesM(study.loaded.scenario, fls),
+    footprints,
+    active,
+    targetLevelMasks(study, fls),
+  );
+}
+
+/**
+ * The study's network with no sensor yet, for the sensors of `kinds` to be added site by site as their footprints
+ * are done (`Network.addSite`); the same network as `studyNetwork` of the same footprints in the same order.
+ */
+export function grownStudyNetwork(
+  study: Pick<Study, 'loaded' | 'grid' | 'volumeTargets' | 'targets'>,
+  fls: readonly number[],
+  kinds: ReadonlySet<string>,
+): Network {
+  return new Network(
+    study.grid.width * study.grid.height,
+    levelAltitudesM(study.loaded.scenario, fls),
+    [],
+    undefined,
+    targetLevelMasks(study, fls),
+    { kinds, targets: study.targets.length },
+  );
+}
+
+/** Per volume target t ≥ 1, the levels (bits) its volumes' bands need its folds at. */
+function targetLevelMasks(
+  study: Pick<Study, 'loaded' | 'volumeTargets' | 'targets'>,
+  fls: readonly number[],
+): number[] {
   const masks = study.targets.slice(1).map(() => 0);
-  s.volumes.forEach((v, vi) => {
+  study.loaded.scenario.volumes.forEach((v, vi) => {
     const t = study.volumeTargets[vi];
     if (!t) return;
     fls.forEach((fl, f) => {
       if (fl >= v.flMin && fl <= v.flMax) masks[t - 1] |= 1 << f;
     });
   });
-  return new Network(
-    study.grid.width * study.grid.height,
-    levelAltitudesM(s, fls),
-    footprints,
-    active,
-    masks,
-  );
+  return masks;
 }
