@@ -411,10 +411,7 @@ function levelBits(
   for (let r = w.row0; r < w.row1; r++) {
     const src = (r - w.row0) * ww;
     const dst = (r - outWin.row0) * ow + (w.col0 - outWin.col0);
-    seen |=
-      tables === null
-        ? levelBitsRun(fp.lo, fp.hi, altitudesM, out, shift, mask, src, dst, ww)
-        : levelBitsTabled(fp.lo, fp.hi, tables, out, shift, mask, src, dst, ww);
+    seen |= levelBitsRun(fp.lo, fp.hi, altitudesM, tables, out, shift, mask, src, dst, ww);
   }
   return seen;
 }
@@ -448,36 +445,15 @@ function levelTables(altitudesM: readonly number[]): LevelTables | null {
   return { below, upTo, lowBits };
 }
 
-/** `levelBitsRun` through the tables: two lookups per cell instead of a test per level (the same bits). */
-function levelBitsTabled(
-  lo: Uint16Array,
-  hi: Uint16Array,
-  t: LevelTables,
-  out: Bits,
-  shift: number,
-  mask: number,
-  src: number,
-  dst: number,
-  count: number,
-): number {
-  const { below, upTo, lowBits } = t;
-  let seen = 0;
-  for (let k = 0; k < count; k++) {
-    const l = lo[src + k];
-    const h = hi[src + k];
-    if (l > h) continue;
-    const b = ((lowBits[upTo[h]] & ~lowBits[below[l]] & mask) << shift) | 0;
-    if (b === 0) continue;
-    out[dst + k] |= b;
-    seen |= b;
-  }
-  return seen;
-}
-
+/**
+ * One row of a footprint's window into `out`: through the tables when there are (two lookups per cell), else a test
+ * per level (the same bits).
+ */
 function levelBitsRun(
   lo: Uint16Array,
   hi: Uint16Array,
   altitudesM: readonly number[],
+  tables: LevelTables | null,
   out: Bits,
   shift: number,
   mask: number,
@@ -487,6 +463,19 @@ function levelBitsRun(
 ): number {
   const n = altitudesM.length;
   let seen = 0;
+  if (tables !== null) {
+    const { below, upTo, lowBits } = tables;
+    for (let k = 0; k < count; k++) {
+      const l = lo[src + k];
+      const h = hi[src + k];
+      if (l > h) continue;
+      const b = ((lowBits[upTo[h]] & ~lowBits[below[l]] & mask) << shift) | 0;
+      if (b === 0) continue;
+      out[dst + k] |= b;
+      seen |= b;
+    }
+    return seen;
+  }
   for (let k = 0; k < count; k++) {
     const l = lo[src + k];
     const h = hi[src + k];
