@@ -82,12 +82,6 @@ export interface SiteFloor {
   groundM: number;
 }
 
-/**
- * Sites whose floors are computed ahead of the footprints being built. Two (the second site's sweep queued in the
- * workers behind the first's) ran the demo no faster once the pool posted its pieces at once, for 70 MiB more.
- */
-const SITES_IN_FLIGHT = 1;
-
 export async function computeFootprints(
   terrain: TerrainRaster,
   req: CoverageRequest,
@@ -114,8 +108,8 @@ export async function computeFootprints(
   const groups = [...bySite.values()];
   const reachOf = (cands: Candidate[]) =>
     Math.min(req.maxRangeM, Math.max(...cands.map((c) => c.model.instrumentedRangeM)));
-  // One polar buffer serves every site in turn (a site's sweep starts once the site before it is resampled): fresh
-  // memory costs a page fault per 4 KiB here, about a fifth of the time with a buffer per site.
+  // One polar buffer serves every site in turn (a site's sweep starts only once the previous site's resampling is
+  // done): fresh memory costs a page fault per 4 KiB here, about a fifth of the time with a buffer per site.
   const spare: { buffer: ArrayBuffer | SharedArrayBuffer | null } = { buffer: null };
   const floorOf = (cands: Candidate[]) => {
     const site = cands[0].site;
@@ -181,16 +175,15 @@ export async function computeFootprints(
     if (c.model.sector) dropOutsideSector(fp, req.grid, c.site, c.model.sector);
     return fp;
   };
-  const inFlight: (Promise<SiteRun> | null)[] = [];
-  for (let k = 0; k < Math.min(SITES_IN_FLIGHT, groups.length); k++) inFlight.push(floorOf(groups[k]));
+  // One site ahead (two ran the demo no faster once the pool posts its pieces at once, for 70 MiB more).
+  let next = groups.length > 0 ? floorOf(groups[0]) : null;
   for (let g = 0; g < groups.length; g++) {
     const cands = groups[g];
     const site = cands[0].site;
-    const res = await inFlight[g]!;
-    inFlight[g] = null; // its polar buffer goes on to the next site, not kept here
+    const res = await next!;
     // The polar buffer is free again (the resampling is done): the next site's sweep takes it.
     if (!opts.cache) spare.buffer = res.tan.buffer;
-    if (g + SITES_IN_FLIGHT < groups.length) inFlight.push(floorOf(groups[g + SITES_IN_FLIGHT]));
+    next = g + 1 < groups.length ? floorOf(groups[g + 1]) : null;
     const { distance, maxRangeM } = res;
     siteFloors.push({
       site,

@@ -103,7 +103,7 @@ export class Network {
       return Array.from({ length: levels }, () => (kept ? new Uint16Array(cells) : zeros));
     });
     this.active = footprints.map((_, i) => active?.[i] ?? true);
-    this.bitsWindow = footprints.map((fp) => joinWindows([fp, ...(fp.byTarget ?? [])].map((f) => f.window)));
+    this.bitsWindow = footprints.map(bitsWindowOf);
     this.bits = footprints.map(() => null);
     this.anyAt = footprints.map(() => 0);
     const tables = levelTables(altitudesM);
@@ -160,7 +160,7 @@ export class Network {
       members.push(this.list.length);
       this.list.push(fp);
       this.active.push(true);
-      this.bitsWindow.push(joinWindows([fp, ...(fp.byTarget ?? [])].map((f) => f.window)));
+      this.bitsWindow.push(bitsWindowOf(fp));
       this.bits.push(null);
       this.anyAt.push(0);
     }
@@ -374,6 +374,11 @@ function addBits(fold: Uint16Array[], base: number, cell: number, b: number, sig
     fold[base + f][cell] += sign;
     b &= b - 1;
   }
+}
+
+/** A footprint's bits window: its window joined with its other targets'. */
+function bitsWindowOf(fp: Footprint): FootprintWindow {
+  return joinWindows([fp, ...(fp.byTarget ?? [])].map((f) => f.window));
 }
 
 /** The smallest window holding all of `ws` (an empty window when there is none or all are empty). */
