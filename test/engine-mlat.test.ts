@@ -23,7 +23,7 @@ import { MLAT_BAND_COLORS, mlatLegend } from '../worker/io/mlat-image.ts';
 import type { Provenance } from '../worker/io/provenance.ts';
 import { FOLD_COLORS, mercatorRowLatitudes } from '../worker/io/render.ts';
 import { Engine, type SensorRef } from '../worker/runtime/engine.ts';
-import { runCli } from './support/run-cli.ts';
+import { runCli, runQuiet } from './support/run-cli.ts';
 import {
   ring,
   writeScenarioFixture,
@@ -271,17 +271,7 @@ describe('multilateration accuracy in the engine, four receivers on a square ove
     expect(a.unmeetablePct).toBeGreaterThan(0);
     expect(p.demandMet).toBe(true);
     const out = join(fx.dir, 'plan');
-    const r = await runCli(
-      'plan',
-      fx.scenarioPath,
-      '--out',
-      out,
-      '--budget',
-      'none',
-      '--threads',
-      '0',
-      '--quiet',
-    );
+    const r = await runQuiet('plan', fx.scenarioPath, out, '--budget', 'none');
     expect(r.code, r.err).toBe(0);
     const cli = JSON.parse(readFileSync(join(out, 'plan.json'), 'utf8'));
     expect(a.metPct).toBeCloseTo((100 * cli.mlatAccuracy.metWeight) / cli.mlatAccuracy.boundedWeight, 9);

@@ -16,7 +16,7 @@ import { InputError } from '../shared/errors.ts';
 import { preparePlan, solvePlan, type PlanInstance } from '../worker/core/plan.ts';
 import { pointDrms, prepareAccuracy, withImpliedMlatFolds } from '../worker/core/plan/accuracy.ts';
 import { EnuFrame, mlatHorizontalDrms } from '../worker/core/mlat.ts';
-import { runCli } from './support/run-cli.ts';
+import { runCli, runQuiet } from './support/run-cli.ts';
 import { ring, writeScenarioFixture, type Fixture } from './support/scenario-fixture.ts';
 import { C, LAT0, LON0, M_PER_DEG, RECEIVER_CATALOG, flatSeaDem } from './support/mlat-sea.ts';
 
@@ -209,17 +209,7 @@ describe('airshade plan with an accuracy bound, checked by airshade coverage on 
 
   it('meets the bound everywhere in the volume, and the coverage map of the plan agrees', async () => {
     const out = join(fx.dir, 'plan');
-    const r = await runCli(
-      'plan',
-      fx.scenarioPath,
-      '--out',
-      out,
-      '--budget',
-      'none',
-      '--threads',
-      '0',
-      '--quiet',
-    );
+    const r = await runQuiet('plan', fx.scenarioPath, out, '--budget', 'none');
     expect(r.code, r.err).toBe(0);
     expect(r.out).toMatch(/multilateration accuracy: 100\.0 % of the bounded volume-levels meet their bound/);
     const plan = JSON.parse(readFileSync(join(out, 'plan.json'), 'utf8'));

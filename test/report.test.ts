@@ -18,7 +18,7 @@ import { CAUTION } from '../shared/caution.ts';
 import { FOLD_COLORS } from '../worker/io/render.ts';
 import { escapeXml } from '../worker/io/diagram-svg.ts';
 import { base64, mapFrame, niceBelow, scaleBar, unitsPerKm } from '../worker/io/report-html.ts';
-import { runCli } from './support/run-cli.ts';
+import { runCli, runQuiet } from './support/run-cli.ts';
 import {
   DEFAULT_SITES,
   DEFAULT_VOLUMES,
@@ -274,15 +274,7 @@ describe('airshade report', () => {
         rowValues(planTable, `data-volume="${s.volumeId}" data-level="${s.flightLevel}"`).slice(0, 4),
       ).toEqual([s.areaKm2, s.coveredPct, s.meetsRequirementPct, s.meetsRequirementKm2]);
 
-    const theirs = await runCli(
-      'plan',
-      other.scenarioPath,
-      '--out',
-      join(other.dir, 'plan'),
-      '--threads',
-      '0',
-      '--quiet',
-    );
+    const theirs = await runQuiet('plan', other.scenarioPath, join(other.dir, 'plan'));
     expect(theirs.code).toBe(0);
     const foreign = join(other.dir, 'plan', 'plan.json');
     const refused = await runCli(

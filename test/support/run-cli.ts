@@ -15,3 +15,16 @@ export async function runCli(...argv: string[]): Promise<{ code: number; out: st
     e.mockRestore();
   }
 }
+
+/**
+ * A command on a scenario into an output folder, on the main thread and quiet (`--threads 0 --quiet`), with any
+ * further arguments: the way most tests run one.
+ */
+export function runQuiet(
+  command: string,
+  scenarioPath: string,
+  outDir: string,
+  ...extra: string[]
+): Promise<{ code: number; out: string; err: string }> {
+  return runCli(command, scenarioPath, '--out', outDir, '--threads', '0', '--quiet', ...extra);
+}
