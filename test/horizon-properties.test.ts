@@ -2,8 +2,18 @@
 import { describe, expect, it } from 'vitest';
 import fc from 'fast-check';
 import { computeFloor, inlineExecutor } from '../worker/core/floor.ts';
-import { computeHorizon, traceRadial } from '../worker/core/horizon.ts';
-import { pseudoToAzimuthRad } from '../worker/core/geodesy.ts';
+import {
+  allocateTan,
+  computeHorizon,
+  planHorizon,
+  resampleFloor,
+  sampleAt,
+  sweepSector,
+  tailsOf,
+  traceRadial,
+} from '../worker/core/horizon.ts';
+import { pseudoToAzimuthRad, VectorMap } from '../worker/core/geodesy.ts';
+import { gridMapper } from '../worker/core/grid.ts';
 import { Terrain } from '../worker/core/terrain.ts';
 import { bumpyDem } from './support/bumps.ts';
 import { cellLonLat, metricGeo, metricTerrain } from './support/dem.ts';
@@ -28,12 +38,12 @@ describe('horizon engine invariants', () => {
         const terrain = metricTerrain(data, N, N, PIXEL_M);
         const site = cellLonLat(terrain.geo, C, C);
         const h = computeHorizon(terrain, { ...site, mastM, maxRangeM: (N / 2) * PIXEL_M * 1.5 });
-        for (const lv of h.layout.levels) {
-          const row = lv.jEnd - lv.jStart + 1;
+        for (let li = 0; li < h.layout.levels.length; li++) {
+          const lv = h.layout.levels[li];
           for (let i = 0; i < lv.azimuthCount; i++) {
-            for (let j = 1; j < row; j++) {
-              const a = h.tan[lv.offset + (j - 1) * lv.azimuthCount + i];
-              const b = h.tan[lv.offset + j * lv.azimuthCount + i];
+            for (let j = lv.jStart + 1; j <= lv.jEnd; j++) {
+              const a = sampleAt(h, li, i, j - 1);
+              const b = sampleAt(h, li, i, j);
               if (a === a && b === b && b < a) return false;
             }
           }
@@ -182,17 +192,17 @@ describe('horizon sweep paths', () => {
     for (let r = 100; r < 112; r++) for (let c = 20; c < 60; c++) data[r * n + c] = NaN;
     const terrain = metricTerrain(data, n, n, PIXEL_M);
     const site = cellLonLat(terrain.geo, 50, 70);
-    const { layout, tan } = computeHorizon(terrain, { ...site, mastM: 15, maxRangeM: 140 * PIXEL_M });
+    const horizon = computeHorizon(terrain, { ...site, mastM: 15, maxRangeM: 140 * PIXEL_M });
+    const { layout } = horizon;
     const re = layout.reM;
     const rha = re + layout.antennaAltM;
     const ds = layout.rangeStepM;
     const jNear = Math.ceil(layout.nearFieldM / ds);
     const n0 = layout.levels[0].azimuthCount;
-    /** The stored tan before sample j of level-0 radial i (radial i·2^L of level L). */
+    /** The stored tan before sample j of level-0 radial i (radial i·2^L of level L; NaN past its tail). */
     const stored = (i: number, j: number) => {
       const L = layout.levels.findIndex((lv) => j >= lv.jStart && j <= lv.jEnd);
-      const lv = layout.levels[L];
-      return tan[lv.offset + (j - lv.jStart) * lv.azimuthCount + i * 2 ** L];
+      return sampleAt(horizon, L, i * 2 ** L, j);
     };
     const terrainAt = (x: number, y: number) => {
       if (x < 0 || y < 0 || x > n || y > n) return NaN;
@@ -231,5 +241,44 @@ describe('horizon sweep paths', () => {
     }
     expect(compared).toBeGreaterThan(10_000);
     expect(unknown).toBeGreaterThan(1_000);
+  });
+
+  it('a reused buffer gives the same floor: samples past a radial\'s tail are never read, whatever they hold', () => {
+    // The sweep records where each radial met unknown terrain (its tail) instead of storing the rest as NaN; a
+    // buffer that held another horizon before must give the same floor as a fresh one.
+    const n = 121;
+    const data = bumpyDem(9, n, n);
+    for (let r = 0; r < n; r++) for (let c = 90; c < n; c++) data[r * n + c] = NaN; // the east is unknown
+    const terrain = metricTerrain(data, n, n, PIXEL_M);
+    const geo = metricGeo(n, n, PIXEL_M);
+    const site = cellLonLat(geo, 60, 60);
+    const layout = planHorizon(terrain, { ...site, mastM: 10, maxRangeM: 100 * PIXEL_M });
+    const fresh = allocateTan(layout);
+    const reused = allocateTan(layout).fill(0.25); // a steep screening everywhere: would raise every floor read
+    sweepSector(terrain, layout, fresh);
+    sweepSector(terrain, layout, reused);
+    const tails = tailsOf(layout, reused);
+    let short = 0;
+    for (const lv of layout.levels) {
+      for (let i = 0; i < lv.azimuthCount; i++) if (tails[lv.radialBase + i] <= lv.jEnd) short++;
+    }
+    expect(short).toBeGreaterThan(100); // radials that stopped at the unknown east
+    const vmap = VectorMap.build(site.lon, site.lat, n, n, gridMapper(geo));
+    const a = new Float32Array(n * n);
+    const b = new Float32Array(n * n);
+    resampleFloor({ layout, tan: fresh }, vmap, a, data);
+    resampleFloor({ layout, tan: reused }, vmap, b, data);
+    let valued = 0;
+    for (let k = 0; k < a.length; k++) {
+      expect(Object.is(a[k], b[k]) || (a[k] !== a[k] && b[k] !== b[k])).toBe(true);
+      if (a[k] === a[k]) valued++;
+    }
+    expect(valued).toBeGreaterThan(5_000);
+    // sampleAt says NaN past a tail, whatever the buffer holds there.
+    const lv = layout.levels[layout.levels.length - 1];
+    for (let i = 0; i < lv.azimuthCount; i++) {
+      const t = tails[lv.radialBase + i];
+      if (t <= lv.jEnd) expect(sampleAt({ layout, tan: reused }, layout.levels.length - 1, i, t)).toBeNaN();
+    }
   });
 });

@@ -13,7 +13,7 @@
 import type { Executor, FloorRequest, Progress } from './floor.ts';
 import { VectorMap } from './geodesy.ts';
 import { gridMapper } from './grid.ts';
-import { planHorizon, type HorizonSpec } from './horizon.ts';
+import { horizonBufferLength, planHorizon, type HorizonSpec } from './horizon.ts';
 import {
   buildFootprint,
   NO_COVER_LO,
@@ -307,7 +307,7 @@ async function siteFloor(
     done = pieces;
   } else {
     const layout = planHorizon(terrain, spec);
-    const bytes = layout.totalSamples * 4;
+    const bytes = horizonBufferLength(layout) * 4;
     const reuse = cache === null && spare.buffer !== null && spare.buffer.byteLength >= bytes;
     // A fresh buffer gets a quarter more than this site needs, so that the sites after it (other latitudes, other
     // reaches) fit in it too: one buffer for the whole run, where a buffer fitted to its first site was replaced by a
@@ -319,8 +319,9 @@ async function siteFloor(
         ? new SharedArrayBuffer(fresh)
         : new ArrayBuffer(fresh);
     if (reuse) spare.buffer = null;
-    // Every sample is written by the sweep: a reused buffer needs no clearing.
-    const tan = new Float32Array(buffer, 0, layout.totalSamples);
+    // Every sample a reader takes is written by the sweep (the rest lies past its radial's tail): a reused buffer needs no
+    // clearing.
+    const tan = new Float32Array(buffer, 0, horizonBufferLength(layout));
     const swept = tick('terrain sweep');
     await Promise.all(
       Array.from({ length: pieces }, (_, i) =>

@@ -61,6 +61,8 @@ export interface HorizonLevel {
    * radials at nearly the same range, read neighbouring memory.
    */
   readonly offset: number;
+  /** Index of this level's first radial among the layout's radials (its tail is at `tails[radialBase + i]`). */
+  readonly radialBase: number;
 }
 
 /** Plain numbers that fix the sampling; everything a worker needs besides the terrain and the `tan` buffer. */
@@ -91,15 +93,48 @@ export interface HorizonLayout {
   readonly rangeCount: number;
   readonly levels: readonly HorizonLevel[];
   readonly totalSamples: number;
+  /**
+   * Radials over all levels. The `tan` buffer holds, after its totalSamples samples, one Int32 per radial: how far
+   * the sweep stored it (`tailsOf`).
+   */
+  readonly radialCount: number;
   /** The geodesic table of the radials, built once here and shipped to every worker with the layout. */
   readonly fan: RadialFanParts;
 }
 
-/** A computed horizon: layout + tan of the screening angle for a target at each (radial, range sample). */
+/**
+ * A computed horizon: layout + tan of the screening angle for a target at each (radial, range sample).
+ *
+ * A radial that reaches unknown terrain is unknown from there to its end. The sweep does not store that rest (on
+ * the demo 59 % of a site's samples lie beyond the terrain, and storing them as NaN was a fifth of the sweep's
+ * time): it stores, per radial, its tail — the first range sample it did not store (jEnd + 1 when it stored its
+ * whole row) — in the Int32 slots after the samples (`tailsOf`). Sample (i, j) of a level is known only for
+ * j < tail; readers take a sample at or past the tail as NaN (`sampleAt`), whatever the buffer holds there.
+ */
 export interface Horizon {
   readonly layout: HorizonLayout;
-  /** NaN where the sight line crosses unknown terrain; −1e9 where nothing screens (next to the antenna). */
+  /**
+   * layout.totalSamples samples, then layout.radialCount tails (`horizonBufferLength`). NaN where the sight line
+   * crosses unknown terrain; −1e9 where nothing screens (next to the antenna).
+   */
   readonly tan: Float32Array;
+}
+
+/** Float32 slots a horizon's `tan` needs: its samples and one tail per radial. */
+export function horizonBufferLength(layout: HorizonLayout): number {
+  return layout.totalSamples + layout.radialCount;
+}
+
+/** The tails of a horizon's radials (see `Horizon`), a view on its buffer. */
+export function tailsOf(layout: HorizonLayout, tan: Float32Array): Int32Array {
+  return new Int32Array(tan.buffer, tan.byteOffset + layout.totalSamples * 4, layout.radialCount);
+}
+
+/** Sample (radial i, range j) of level `li`, NaN at or past the radial's tail. */
+export function sampleAt(horizon: Horizon, li: number, i: number, j: number): number {
+  const lv = horizon.layout.levels[li];
+  const tails = tailsOf(horizon.layout, horizon.tan);
+  return j < tails[lv.radialBase + i] ? horizon.tan[lv.offset + (j - lv.jStart) * lv.azimuthCount + i] : NaN;
 }
 
 const NOTHING = -1e9;
@@ -146,11 +181,13 @@ export function planHorizon(terrain: TerrainRaster, spec: HorizonSpec): HorizonL
   );
   let jStart = 0;
   let offset = 0;
+  let radialBase = 0;
   for (;;) {
     const levelEndM = (azimuthCount * arcStepM) / (2 * Math.PI);
     const jEnd = Math.min(rangeCount - 1, Math.max(jStart + 1, Math.ceil(levelEndM / rangeStepM)));
-    levels.push({ azimuthCount, jStart, jEnd, offset });
+    levels.push({ azimuthCount, jStart, jEnd, offset, radialBase });
     offset += azimuthCount * (jEnd - jStart + 1);
+    radialBase += azimuthCount;
     if (jEnd >= rangeCount - 1) break;
     jStart = jEnd;
     azimuthCount *= 2;
@@ -172,13 +209,14 @@ export function planHorizon(terrain: TerrainRaster, spec: HorizonSpec): HorizonL
     rangeCount,
     levels,
     totalSamples: offset,
+    radialCount: radialBase,
     fan: RadialFan.build(spec.lon, spec.lat, spec.maxRangeM, terrain),
   };
 }
 
-/** Allocates the `tan` buffer (shared when asked, so a worker pool can fill it in place). */
+/** Allocates the `tan` buffer, tails included (shared when asked, so a worker pool can fill it in place). */
 export function allocateTan(layout: HorizonLayout, shared = false): Float32Array {
-  const bytes = layout.totalSamples * 4;
+  const bytes = horizonBufferLength(layout) * 4;
   return new Float32Array(shared ? new SharedArrayBuffer(bytes) : new ArrayBuffer(bytes));
 }
 
@@ -276,9 +314,9 @@ function bilinearAt(data: Float32Array, W: number, H: number, x: number, y: numb
 }
 
 /**
- * Where `sweepRadial`'s last call stopped writing: samples [sweptTo, jEnd) are unknown (NaN) and left for the caller
- * to store. A radial that reaches unknown terrain is unknown to its end; the sweep stores those NaN row by row
- * after a level's radials (sequential memory, where one radial's tail is one store per cache line).
+ * Where `sweepRadial`'s last call stopped writing: samples [sweptTo, jEnd) are unknown (NaN) and not stored. A
+ * radial that reaches unknown terrain is unknown to its end; the sweep records where (the radial's tail, see
+ * `Horizon`) instead of storing the rest.
  */
 let sweptTo = 0;
 
@@ -316,6 +354,7 @@ function sweepRadial(
   const knotM = fan.rangeKnotM;
   const lastKnot = fan.rangeKnotCount - 2;
   let j = jStart;
+  sweptTo = jEnd;
   if (j < rt.jNear && trace === null) {
     const jn = Math.min(rt.jNear, jEnd);
     T = nearField(data, W, H, fan, knots, rt, ds, re, rha, T, dst, base, stride, j, jn);
@@ -468,6 +507,7 @@ export function sweepSector(
   const ds = layout.rangeStepM;
   const re = layout.reM;
   const rha = re + layout.antennaAltM;
+  const tails = tailsOf(layout, tan);
   // Carry: screening tan at the level boundary for the sector's radials (plus the one past its end, which the
   // next sector owns but whose value the odd radial before it needs).
   let carry = new Float64Array(0);
@@ -486,9 +526,6 @@ export function sweepSector(
     const rowLen = level.jEnd - level.jStart + 1;
     const nextCarry = new Float64Array(last - first + 1);
     const scratch = new Float32Array(rowLen);
-    /** Per radial written, the first range sample it left unknown (level.jEnd when none). */
-    const tails = new Int32Array(Math.max(0, last - first));
-    let firstTail = level.jEnd;
     for (let i = first; i <= last; i++) {
       const writes = i < last;
       const ii = i % n;
@@ -519,22 +556,12 @@ export function sweepSector(
         level.jEnd,
         null,
       );
-      if (writes) {
-        tails[i - first] = sweptTo;
-        if (sweptTo < firstTail) firstTail = sweptTo;
-      } else {
-        for (let q = sweptTo; q < level.jEnd; q++) scratch[q - level.jStart] = NaN;
-      }
       // The value at jEnd (screening by everything before it) is where the next level starts; the next level
-      // takes in the terrain at jEnd itself.
+      // takes in the terrain at jEnd itself. A radial that stopped short is unknown there too: its tail says so.
+      if (writes) tails[level.radialBase + i] = sweptTo === level.jEnd ? level.jEnd + 1 : sweptTo;
       dst[base + level.jEnd * stride] = T;
       nextCarry[i - first] = T;
       if (writes) done += rowLen;
-    }
-    // The unknown tails, row by row: each row of the level's block is contiguous over its radials.
-    for (let j = firstTail; j < level.jEnd; j++) {
-      const row = level.offset + (j - level.jStart) * n;
-      for (let i = first; i < last; i++) if (j >= tails[i - first]) tan[row + i] = NaN;
     }
     carry = nextCarry;
     carryFirst = first;
@@ -567,19 +594,20 @@ export function resampleFloor(
   const L = horizon.layout;
   const nLevels = L.levels.length;
   const levelOfJ = new Uint8Array(L.rangeCount);
-  const lv = new Int32Array(nLevels * 4); // per level: azimuthCount, jStart, row length, offset
+  const lv = new Int32Array(nLevels * 4); // per level: azimuthCount, jStart, radialBase, offset
   for (let li = 0; li < nLevels; li++) {
     const level = L.levels[li];
     lv[li * 4] = level.azimuthCount;
     lv[li * 4 + 1] = level.jStart;
-    lv[li * 4 + 2] = level.jEnd - level.jStart + 1;
+    lv[li * 4 + 2] = level.radialBase;
     lv[li * 4 + 3] = level.offset;
     for (let j = level.jStart; j < level.jEnd; j++) levelOfJ[j] = li;
   }
   levelOfJ[L.rangeCount - 1] = nLevels - 1;
+  const tails = tailsOf(L, horizon.tan);
   let beyond = 0;
   for (let r = rowStart; r < rowEnd; r++)
-    beyond += resampleRow(L, horizon.tan, vmap, levelOfJ, lv, out, ground, distance, r);
+    beyond += resampleRow(L, horizon.tan, tails, vmap, levelOfJ, lv, out, ground, distance, r);
   let nan = 0;
   for (let k = rowStart * vmap.width; k < rowEnd * vmap.width; k++) if (out[k] !== out[k]) nan++;
   return { beyondRange: beyond, unknown: nan - beyond };
@@ -600,11 +628,11 @@ const GB = 0.273;
  * it) can have a neighbouring radial that has already left the known terrain while its own sight line has
  * not; the radials that stayed on known terrain give its value. NaN only when no corner is known.
  */
-function knownPart(tan: Float32Array, k0: number, k1: number, n: number, wj: number, wa: number): number {
+function knownPart(v00: number, v01: number, v10: number, v11: number, wj: number, wa: number): number {
   let sum = 0;
   let wsum = 0;
   const w = [(1 - wj) * (1 - wa), wj * (1 - wa), (1 - wj) * wa, wj * wa];
-  const v = [tan[k0], tan[k0 + n], tan[k1], tan[k1 + n]];
+  const v = [v00, v01, v10, v11];
   for (let i = 0; i < 4; i++) {
     if (v[i] === v[i] && w[i] > 0) {
       sum += v[i] * w[i];
@@ -614,10 +642,36 @@ function knownPart(tan: Float32Array, k0: number, k1: number, n: number, wj: num
   return wsum > 0 ? sum / wsum : NaN;
 }
 
+/**
+ * The screening tan between radials i0, i1 (weight wa on i1) and range samples j0, j0 + 1 (weight wj on j0 + 1) of a
+ * level: bilinear over the four samples, a sample at or past its radial's tail counting as NaN, and the known
+ * corners alone when some are unknown (`knownPart`). k0, k1: the samples (i0, j0), (i1, j0); n: the level's radials.
+ */
+function screeningAt(
+  tan: Float32Array,
+  k0: number,
+  k1: number,
+  n: number,
+  j0: number,
+  tail0: number,
+  tail1: number,
+  wj: number,
+  wa: number,
+): number {
+  const j1 = j0 + 1;
+  const v00 = j0 < tail0 ? tan[k0] : NaN;
+  const v01 = j1 < tail0 ? tan[k0 + n] : NaN;
+  const v10 = j0 < tail1 ? tan[k1] : NaN;
+  const v11 = j1 < tail1 ? tan[k1 + n] : NaN;
+  const T = (v00 + (v01 - v00) * wj) * (1 - wa) + (v10 + (v11 - v10) * wj) * wa;
+  return T === T ? T : knownPart(v00, v01, v10, v11, wj, wa);
+}
+
 /** One output row (kept small so V8 optimises it whole); returns how many cells were beyond range. */
 function resampleRow(
   L: HorizonLayout,
   tan: Float32Array,
+  tails: Int32Array,
   vmap: VectorMap,
   levelOfJ: Uint8Array,
   lv: Int32Array,
@@ -689,9 +743,15 @@ function resampleRow(
     const rowBase = lv[l4 + 3] + (j0 - lv[l4 + 1]) * n;
     const k0 = rowBase + i0;
     const k1 = rowBase + i1;
-    let T =
-      (tan[k0] + (tan[k0 + n] - tan[k0]) * wj) * (1 - wa) + (tan[k1] + (tan[k1 + n] - tan[k1]) * wj) * wa;
-    if (T !== T) T = knownPart(tan, k0, k1, n, wj, wa);
+    const tail0 = tails[lv[l4 + 2] + i0];
+    const tail1 = tails[lv[l4 + 2] + i1];
+    let T: number;
+    if (j0 + 1 < tail0 && j0 + 1 < tail1) {
+      T = (tan[k0] + (tan[k0 + n] - tan[k0]) * wj) * (1 - wa) + (tan[k1] + (tan[k1 + n] - tan[k1]) * wj) * wa;
+      if (T !== T) T = knownPart(tan[k0], tan[k0 + n], tan[k1], tan[k1 + n], wj, wa);
+    } else {
+      T = screeningAt(tan, k0, k1, n, j0, tail0, tail1, wj, wa);
+    }
     // cos and sin of s/Re by series (s/Re < 0.25: error < 1e-8 relative).
     const x = s / re;
     const x2 = x * x;
@@ -797,9 +857,8 @@ export function floorAt(horizon: Horizon, azimuthPseudoRad: number, rangeM: numb
   const wa = fa - Math.floor(fa);
   const k0 = lv.offset + (j0 - lv.jStart) * n + i0;
   const k1 = lv.offset + (j0 - lv.jStart) * n + i1;
-  const tan = horizon.tan;
-  let T = (tan[k0] + (tan[k0 + n] - tan[k0]) * wj) * (1 - wa) + (tan[k1] + (tan[k1 + n] - tan[k1]) * wj) * wa;
-  if (T !== T) T = knownPart(tan, k0, k1, n, wj, wa);
+  const tails = tailsOf(L, horizon.tan);
+  const T = screeningAt(horizon.tan, k0, k1, n, j0, tails[lv.radialBase + i0], tails[lv.radialBase + i1], wj, wa);
   const x = rangeM / L.reM;
   const den = Math.cos(x) - T * Math.sin(x);
   if (den !== den) return NaN;

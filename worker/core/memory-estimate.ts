@@ -99,21 +99,23 @@ export interface Estimate {
 }
 
 /**
- * Screening-tan samples of one horizon, an upper bound from the layout rules (worker/core/horizon.ts planHorizon):
+ * Float32 slots of one horizon's buffer (screening tans and tails), an upper bound from the layout rules (worker/core/horizon.ts planHorizon):
  * level ℓ holds N = 2π·r/arc radials out to the range r where their arc reaches `arcStepM`, from r/2 (where the
  * level below doubled them) — π·r²/(arc·range step) samples; the levels below add at most a third of that, and a
  * last level cut short by the reach R at most πR²/(2·arc·range step) more (its radials are those of a level out to
  * 2r ≤ 2R: the worst case, r = 3R/4, gives 1.5·πR² in all). Level 0 starts at the antenna, not at r/2 (its radials
  * at least 512, out to 512·arc/2π: up to π·(82·arc)² more), and every level may store up to three rows more than
- * its span (its end row, rounding, the two rows past the reach: at most 3 × 2·4πR/arc in all).
+ * its span (its end row, rounding, the two rows past the reach: at most 3 × 2·4πR/arc in all). The buffer also
+ * holds one tail per radial (horizon.ts `Horizon`): the last level has at most 2π·2R/arc + 8 radials and the levels
+ * below it as many again, or 512 when there is one level (8πR/arc + 1024 at most).
  */
 export function horizonSamples(reachM: number, rangeStepM: number, arcStepM: number): number {
   const a = arcStepM;
   const r0 = 82 * a;
   return (
     (1.5 * Math.PI * reachM * reachM + Math.PI * r0 * r0) / (rangeStepM * a) +
-    (24 * Math.PI * reachM) / a +
-    2048
+    (32 * Math.PI * reachM) / a +
+    3072
   );
 }
 
