@@ -6,7 +6,7 @@
 import { describe, expect, it } from 'vitest';
 import type { Remote } from 'comlink';
 import { RemotePool } from '../worker/runtime/pool.ts';
-import type { WorkerApi } from '../worker/runtime/api.ts';
+import { AS_BEFORE, type WorkerApi } from '../worker/runtime/api.ts';
 import type { HorizonLayout } from '../worker/core/horizon.ts';
 
 /** A stand-in worker: records the sweep pieces posted to it and answers each when told to. */
@@ -53,5 +53,48 @@ describe('RemotePool dispatch', () => {
       await tick();
     }
     await Promise.all([...done, ...more]);
+  });
+
+  it("sends a site's layout and vector map to each worker once, then 'as before' (a worker takes its messages in order)", async () => {
+    const got: string[] = [];
+    const worker = (name: string) =>
+      ({
+        sweep: async (l: unknown, _t: Float32Array, a: number) => {
+          got.push(`${name} sweep ${a} ${l === AS_BEFORE ? 'as-before' : (l as { id: string }).id}`);
+        },
+        resample: async (l: unknown, _t: Float32Array, v: unknown, _o: Float32Array, _g: null, r0: number) => {
+          const lv = l === AS_BEFORE ? 'as-before' : (l as { id: string }).id;
+          const vv = v === AS_BEFORE ? 'as-before' : (v as { id: string }).id;
+          got.push(`${name} resample ${r0} ${lv} ${vv}`);
+          return { beyondRange: 0, unknown: 0 };
+        },
+      }) as unknown as Remote<WorkerApi>;
+    const exec = new RemotePool([worker('a'), worker('b')]).executor();
+    const tan = new Float32Array(1);
+    const out = new Float32Array(1);
+    for (const site of ['L1', 'L2']) {
+      const layout = { id: site } as unknown as HorizonLayout;
+      const vmap = { id: `V${site[1]}` } as never;
+      await Promise.all([0, 1, 2, 3].map((i) => exec.sweep(layout, tan, i, i + 1)));
+      await Promise.all([0, 1, 2, 3].map((i) => exec.resample(layout, tan, vmap, out, null, i, i + 1, null)));
+    }
+    expect(got).toEqual([
+      'a sweep 0 L1',
+      'b sweep 1 L1',
+      'a sweep 2 as-before',
+      'b sweep 3 as-before',
+      'a resample 0 as-before V1',
+      'b resample 1 as-before V1',
+      'a resample 2 as-before as-before',
+      'b resample 3 as-before as-before',
+      'a sweep 0 L2',
+      'b sweep 1 L2',
+      'a sweep 2 as-before',
+      'b sweep 3 as-before',
+      'a resample 0 as-before V2',
+      'b resample 1 as-before V2',
+      'a resample 2 as-before as-before',
+      'b resample 3 as-before as-before',
+    ]);
   });
 });

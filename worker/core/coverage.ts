@@ -10,7 +10,7 @@
  *
  * Sensor types on one site share its floor (the horizon cache makes a second run with the same sites free).
  */
-import type { Executor, FloorRequest, Progress } from './floor.ts';
+import { readableBy, type Executor, type FloorRequest, type Progress } from './floor.ts';
 import { VectorMap } from './geodesy.ts';
 import { gridMapper } from './grid.ts';
 import { horizonBufferLength, planHorizon, type HorizonSpec } from './horizon.ts';
@@ -111,6 +111,7 @@ export async function computeFootprints(
   // One polar buffer serves every site in turn (a site's sweep starts only once the previous site's resampling is
   // done): fresh memory costs a page fault per 4 KiB here, about a fifth of the time with a buffer per site.
   const spare: { buffer: ArrayBuffer | SharedArrayBuffer | null } = { buffer: null };
+  const ground = readableBy(exec, req.ground);
   const floorOf = (cands: Candidate[]) => {
     const site = cands[0].site;
     return siteFloor(
@@ -128,7 +129,7 @@ export async function computeFootprints(
         rangeStepM: req.rangeStepM ?? terrainPixelM(terrain, site),
       },
       req.grid,
-      req.ground,
+      ground,
       exec,
       opts.cache ?? null,
       spare,

@@ -47,29 +47,48 @@ export function slantGeometry(
   out.elevationRad = r > 0 ? Math.asin(Math.max(-1, Math.min(1, (b * c - a) / r))) : Math.PI / 2;
 }
 
-const geom = { rangeM: 0, elevationRad: 0 };
-
 /**
- * Over-sea lobing for `sensorDetects`: a factor F (0…1) on the detection range at a target altitude, from the
- * two-ray model (multipath.ts). Applied where the caller knows the reflection point lies over sea.
+ * Over-sea lobing for the band's detection test: a factor F (0…1) on the detection range at a target altitude, from
+ * the two-ray model (multipath.ts). Applied where the caller knows the reflection point lies over sea.
  */
 export type LobingFactor = (groundRangeM: number, altitudeM: number) => number;
 
-/** Whether the sensor's own limits (not terrain) let it detect a target at (s, h). */
-export function sensorDetects(
-  profile: DetectionProfile,
-  s: number,
-  h: number,
-  ha: number,
-  re: number,
-  lobing?: LobingFactor,
-): boolean {
-  slantGeometry(s, h, ha, re, geom);
-  const r = geom.rangeM;
-  if (r < profile.minRangeM) return false;
-  const limit = profile.rangeM(geom.elevationRad);
-  if (r > limit) return false;
-  return lobing === undefined || r <= limit * lobing(s, h);
+/**
+ * Whether the sensor's own limits (not terrain) let it detect a target at (s, h): slant range at least the minimum
+ * range and at most the profile's range at the elevation (`slantGeometry`'s), times the lobing factor over sea.
+ * One distance is asked many altitudes in a row (sensorBand asks 30–80), so the distance's cosine is kept while it
+ * stays; the arithmetic is slantGeometry's, in its order.
+ */
+class Prober {
+  private s = NaN;
+  private c = NaN;
+  private readonly a: number;
+  constructor(
+    private readonly profile: DetectionProfile,
+    ha: number,
+    private readonly re: number,
+    private readonly lobing: LobingFactor | undefined,
+  ) {
+    this.a = re + ha;
+  }
+
+  det(s: number, h: number): boolean {
+    if (s !== this.s) {
+      this.s = s;
+      this.c = Math.cos(s / this.re);
+    }
+    const a = this.a;
+    const b = this.re + h;
+    const c = this.c;
+    const r2 = a * a + b * b - 2 * a * b * c;
+    const r = Math.sqrt(Math.max(r2, 0));
+    const p = this.profile;
+    if (r < p.minRangeM) return false;
+    const e = r > 0 ? Math.asin(Math.max(-1, Math.min(1, (b * c - a) / r))) : Math.PI / 2;
+    const limit = p.rangeM(e);
+    if (r > limit) return false;
+    return this.lobing === undefined || r <= limit * this.lobing(s, h);
+  }
 }
 
 export interface BandRequest {
@@ -89,7 +108,8 @@ export function sensorBand(profile: DetectionProfile, req: BandRequest): SensorB
   const lo = new Float64Array(n).fill(NaN);
   const hi = new Float64Array(n).fill(NaN);
   const bottom = req.bottomM ?? 0;
-  const det = (s: number, h: number) => sensorDetects(profile, s, h, req.antennaAltM, req.reM, req.lobing);
+  const prober = new Prober(profile, req.antennaAltM, req.reM, req.lobing);
+  const det = (s: number, h: number) => prober.det(s, h);
   /** Bisection of an edge known to lie in (a, b]: `a` on the `aDetected` side. */
   const edge = (s: number, a: number, b: number, aDetected: boolean): number => {
     for (let k = 0; k < 12; k++) {
@@ -155,22 +175,21 @@ export function seaBand(
 ): SensorBand {
   const n = land.lo.length;
   const lo = new Float64Array(n).fill(NaN);
-  const ha = req.antennaAltM;
-  const re = req.reM;
+  const prober = new Prober(profile, req.antennaAltM, req.reM, lobing);
   for (let i = 0; i < n; i++) {
     const l = land.lo[i];
     const top = land.hi[i];
     if (!(l === l) || !(top === top)) continue;
     const s = i * land.stepM;
-    if (sensorDetects(profile, s, l, ha, re, lobing)) {
+    if (prober.det(s, l)) {
       lo[i] = l;
       continue;
     }
-    if (!sensorDetects(profile, s, top, ha, re, lobing)) continue;
+    if (!prober.det(s, top)) continue;
     let a = l;
     let b = top;
     for (let step = 25; a + step < b; step *= 2) {
-      if (sensorDetects(profile, s, a + step, ha, re, lobing)) {
+      if (prober.det(s, a + step)) {
         b = a + step;
         break;
       }
@@ -178,7 +197,7 @@ export function seaBand(
     }
     while (b - a > 2) {
       const m = 0.5 * (a + b);
-      if (sensorDetects(profile, s, m, ha, re, lobing)) b = m;
+      if (prober.det(s, m)) b = m;
       else a = m;
     }
     lo[i] = b;

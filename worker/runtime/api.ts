@@ -16,6 +16,29 @@ import type { PlanInstance, PlanOptions, PlanResult } from '../core/plan.ts';
 
 let terrain: Terrain | null = null;
 
+/**
+ * What a piece's caller sends of a large argument it sent this worker for the piece before: `AS_BEFORE` instead of
+ * the same object again. A site's layout (its geodesic table: about 240 KiB on the demo) and vector map (about
+ * 360 KiB) go to each worker once, not with each of its sweep and resampling pieces (RemotePool tracks what each
+ * worker holds; a worker takes its messages in order).
+ */
+export const AS_BEFORE = 'as-before';
+export type Sent<T> = T | typeof AS_BEFORE;
+let lastLayout: HorizonLayout | null = null;
+let lastVmap: VectorMap | null = null;
+
+function layoutOf(sent: Sent<HorizonLayout>): HorizonLayout {
+  if (sent !== AS_BEFORE) lastLayout = sent;
+  if (lastLayout === null) throw new Error('worker: a layout "as before" with none sent');
+  return lastLayout;
+}
+
+function vmapOf(sent: Sent<VectorMapParts>): VectorMap {
+  if (sent !== AS_BEFORE) lastVmap = new VectorMap(sent);
+  if (lastVmap === null) throw new Error('worker: a vector map "as before" with none sent');
+  return lastVmap;
+}
+
 function need(): Terrain {
   if (terrain === null) throw new Error('worker: call setTerrain() before running a job');
   return terrain;
@@ -26,20 +49,20 @@ export const api = {
   setTerrain(parts: TerrainParts): void {
     terrain = Terrain.fromParts(parts);
   },
-  sweep(layout: HorizonLayout, tan: Float32Array, sectorStart: number, sectorEnd: number): void {
-    sweepSector(need(), layout, tan, sectorStart, sectorEnd);
+  sweep(layout: Sent<HorizonLayout>, tan: Float32Array, sectorStart: number, sectorEnd: number): void {
+    sweepSector(need(), layoutOf(layout), tan, sectorStart, sectorEnd);
   },
   resample(
-    layout: HorizonLayout,
+    layout: Sent<HorizonLayout>,
     tan: Float32Array,
-    vmap: VectorMapParts,
+    vmap: Sent<VectorMapParts>,
     out: Float32Array,
     ground: Float32Array | null,
     rowStart: number,
     rowEnd: number,
     distance: Float32Array | null,
   ): ResampleCounts {
-    return resampleFloor({ layout, tan }, new VectorMap(vmap), out, ground, rowStart, rowEnd, distance);
+    return resampleFloor({ layout: layoutOf(layout), tan }, vmapOf(vmap), out, ground, rowStart, rowEnd, distance);
   },
   /** One octant of the grid-native floor sweep; `out` may be the terrain's own (shared) buffer. */
   gridSweep(task: GridSweepTask, pristine: GridPristine, out: Float32Array): GridSweepCounts {

@@ -4,16 +4,26 @@
  * web app (Web Workers over MessagePorts) share it.
  */
 import type { Remote } from 'comlink';
-import type { WorkerApi } from './api.ts';
+import { AS_BEFORE, type Sent, type WorkerApi } from './api.ts';
 import type { Executor } from '../core/floor.ts';
 import { gridSweepTaskCells } from '../core/grid-sweep.ts';
 
 export class RemotePool {
   /** Jobs posted to each worker and not yet answered. */
   private readonly queued: number[];
+  /** Per worker, the last layout and vector map posted to it (api.ts `AS_BEFORE`). */
+  private readonly sent: { layout: object | null; vmap: object | null }[];
 
   constructor(readonly remotes: readonly Remote<WorkerApi>[]) {
     this.queued = remotes.map(() => 0);
+    this.sent = remotes.map(() => ({ layout: null, vmap: null }));
+  }
+
+  /** `value`, or AS_BEFORE when it is the object last posted to worker k under that name. */
+  private once<T extends object>(k: number, name: 'layout' | 'vmap', value: T): Sent<T> {
+    if (this.sent[k][name] === value) return AS_BEFORE;
+    this.sent[k][name] = value;
+    return value;
   }
 
   get size(): number {
@@ -25,12 +35,13 @@ export class RemotePool {
    * them. No worker then waits for the calling thread to hand it its next piece: in `airshade coverage` that
    * thread builds footprints between the pieces of the next site's sweep, and while it did, the workers idled.
    */
-  private async run<T>(job: (w: Remote<WorkerApi>) => Promise<T>): Promise<T> {
+  private async run<T>(job: (w: Remote<WorkerApi>, k: number) => Promise<T>): Promise<T> {
     let k = 0;
     for (let i = 1; i < this.queued.length; i++) if (this.queued[i] < this.queued[k]) k = i;
     this.queued[k]++;
     try {
-      return await job(this.remotes[k]);
+      // The job posts its message now (comlink posts as it is called), so `once` sees the worker's order.
+      return await job(this.remotes[k], k);
     } finally {
       this.queued[k]--;
     }
@@ -41,9 +52,20 @@ export class RemotePool {
     return {
       size: this.remotes.length,
       shared: true,
-      sweep: (layout, tan, a, b) => this.run((w) => w.sweep(layout, tan, a, b)),
+      sweep: (layout, tan, a, b) => this.run((w, k) => w.sweep(this.once(k, 'layout', layout), tan, a, b)),
       resample: (layout, tan, vmap, out, ground, r0, r1, distance) =>
-        this.run((w) => w.resample(layout, tan, vmap, out, ground, r0, r1, distance)),
+        this.run((w, k) =>
+          w.resample(
+            this.once(k, 'layout', layout),
+            tan,
+            this.once(k, 'vmap', vmap),
+            out,
+            ground,
+            r0,
+            r1,
+            distance,
+          ),
+        ),
       gridSweep: (task, pristine, out) => this.run((w) => w.gridSweep(task, pristine, out)),
     };
   }
