@@ -388,4 +388,65 @@ describe('sensorBand directly (footprint.ts)', () => {
     }
     expect(Number.isNaN(band.lo[Math.ceil(R / 1000) + 1])).toBe(true);
   });
+
+  it("settling a climb's stretches from the profile's range bounds changes no band value: the same bands asked altitude by altitude", () => {
+    // sensorBand skips a stretch of its 100 m ladder when bounds prove every altitude in it detected (or none);
+    // the same profile without `rangeBounds` asks each altitude. Every type of the default catalog, antennas from
+    // sea level to 1.6 km, tilts 0 and 2°, two effective earths: the bands must agree to the bit.
+    const catalog: RadarTypeSpec[] = JSON.parse(
+      readFileSync(new URL('../data/catalog/sensor-types.json', import.meta.url), 'utf8'),
+    );
+    let rows = 0;
+    for (const spec of catalog) {
+      const model = buildSensorModel(spec, spec.id);
+      for (const antennaAltM of [0, 35, 420, 1600]) {
+        for (const tiltDeg of [0, 2]) {
+          for (const k of [4 / 3, 1]) {
+            const profile = model.profile({ target: T(), antennaAltM, tiltDeg });
+            expect(profile.rangeBounds).toBeDefined();
+            const plain = {
+              minRangeM: profile.minRangeM,
+              instrumentedRangeM: profile.instrumentedRangeM,
+              coneOfSilenceRad: profile.coneOfSilenceRad,
+              peakRangeM: profile.peakRangeM,
+              rangeM: (e: number) => profile.rangeM(e),
+            };
+            const req = { antennaAltM, reM: k * 6_371_000, maxRangeM: model.instrumentedRangeM };
+            const a = sensorBand(profile, req);
+            const b = sensorBand(plain, req);
+            expect(Array.from(a.lo)).toEqual(Array.from(b.lo));
+            expect(Array.from(a.hi)).toEqual(Array.from(b.hi));
+            rows += a.lo.length;
+          }
+        }
+      }
+    }
+    expect(rows).toBeGreaterThan(20_000);
+  });
+
+  it('rangeBounds holds every rangeM between its elevations (the table is linear between nodes)', () => {
+    const catalog: RadarTypeSpec[] = JSON.parse(
+      readFileSync(new URL('../data/catalog/sensor-types.json', import.meta.url), 'utf8'),
+    );
+    const out = [0, 0];
+    for (const spec of catalog) {
+      const profile = buildSensorModel(spec, spec.id).profile({ target: T(), antennaAltM: 100 });
+      for (let k = 0; k < 200; k++) {
+        const e1 = -0.2 + (k * 0.7) / 200;
+        const e2 = e1 + 0.001 + (k % 7) * 0.01;
+        profile.rangeBounds!(e1, e2, out);
+        let lo = Infinity;
+        let hi = -Infinity;
+        for (let q = 0; q <= 400; q++) {
+          const r = profile.rangeM(e1 + ((e2 - e1) * q) / 400);
+          lo = Math.min(lo, r);
+          hi = Math.max(hi, r);
+        }
+        expect(out[0]).toBeLessThanOrEqual(lo);
+        expect(out[1]).toBeGreaterThanOrEqual(hi);
+        // Tight: the extremes are attained (at an end, at a node, or at the cone of silence).
+        expect(out[1] - hi).toBeLessThanOrEqual(0.02 * Math.max(1, hi));
+      }
+    }
+  });
 });

@@ -72,11 +72,10 @@ class Prober {
     this.a = re + ha;
   }
 
+  private readonly bounds = [0, 0];
+
   det(s: number, h: number): boolean {
-    if (s !== this.s) {
-      this.s = s;
-      this.c = Math.cos(s / this.re);
-    }
+    this.at(s);
     const a = this.a;
     const b = this.re + h;
     const c = this.c;
@@ -88,6 +87,43 @@ class Prober {
     const limit = p.rangeM(e);
     if (r > limit) return false;
     return this.lobing === undefined || r <= limit * this.lobing(s, h);
+  }
+
+  /**
+   * Whether `det(s, h)` holds for every h in [h1, h2] (`all`) or for none (`!all`), settled from bounds when they
+   * leave no doubt: along one distance the elevation rises with h, the slant range is convex in h (least at
+   * re + h = (re + ha)·cos(s/re)), and `rangeBounds` gives the profile's least and greatest range over the
+   * elevations. False when unsure (no `rangeBounds`, lobing, or within a relative 1e−9 of an edge): the caller
+   * then asks each altitude, so the band is the same to the bit.
+   */
+  settles(s: number, h1: number, h2: number, all: boolean): boolean {
+    const p = this.profile;
+    if (p.rangeBounds === undefined || this.lobing !== undefined || !(h1 <= h2)) return false;
+    this.at(s);
+    const a = this.a;
+    const c = this.c;
+    const b1 = this.re + h1;
+    const b2 = this.re + h2;
+    const r1 = Math.sqrt(Math.max(a * a + b1 * b1 - 2 * a * b1 * c, 0));
+    const r2 = Math.sqrt(Math.max(a * a + b2 * b2 - 2 * a * b2 * c, 0));
+    const bStar = a * c;
+    const rMin = bStar > b1 && bStar < b2 ? a * Math.sqrt(Math.max(0, 1 - c * c)) : Math.min(r1, r2);
+    const rMax = Math.max(r1, r2);
+    if (!(rMin > 0)) return false;
+    const e1 = Math.asin(Math.max(-1, Math.min(1, (b1 * c - a) / r1)));
+    const e2 = Math.asin(Math.max(-1, Math.min(1, (b2 * c - a) / r2)));
+    const slack = 1e-9;
+    p.rangeBounds(e1 - slack, e2 + slack, this.bounds);
+    const [least, most] = this.bounds;
+    if (all) return rMin >= p.minRangeM * (1 + slack) + slack && rMax <= least * (1 - slack) - slack;
+    return rMin >= most * (1 + slack) + slack;
+  }
+
+  private at(s: number): void {
+    if (s !== this.s) {
+      this.s = s;
+      this.c = Math.cos(s / this.re);
+    }
   }
 }
 
@@ -135,8 +171,7 @@ export function sensorBand(profile: DetectionProfile, req: BandRequest): SensorB
       ) {
         l = edge(s, prev - COARSE_DH_M, prev + COARSE_DH_M, false);
       } else {
-        let h = bottom + COARSE_DH_M;
-        while (h <= TOP_M && !det(s, h)) h += COARSE_DH_M;
+        const h = climb(prober, s, bottom + COARSE_DH_M, false);
         if (h > TOP_M) continue;
         l = edge(s, h - COARSE_DH_M, h, false);
       }
@@ -154,8 +189,7 @@ export function sensorBand(profile: DetectionProfile, req: BandRequest): SensorB
       hi[i] = edge(s, prevHi - COARSE_DH_M, prevHi + COARSE_DH_M, true);
       continue;
     }
-    let h = l;
-    while (h <= TOP_M && det(s, h)) h += COARSE_DH_M;
+    const h = climb(prober, s, l, true);
     hi[i] = h > TOP_M ? TOP_M : edge(s, h - COARSE_DH_M, h, true);
   }
   return { stepM, lo, hi };
@@ -219,6 +253,40 @@ export interface SeaChoice {
   seaMask: Uint8Array;
   steps: number;
   stepM: number;
+}
+
+/** Ladder altitudes a climb settles at once when it can (`Prober.settles`): 2.5 km. */
+const CLIMB_CHUNK = 25;
+
+/**
+ * Climbs the coarse ladder h, h + COARSE_DH_M, … (as far as TOP_M) while `det(s, h) === detected`; returns the first
+ * altitude where it is not, or the first past TOP_M. The ladder is stepped by the same additions as a plain climb,
+ * and a stretch is skipped only when `settles` proves every altitude in it, so the answer is the plain climb's.
+ * Far from the antenna this saves most of the asks: beyond the sensor's reach nothing is detected up to TOP_M, and
+ * inside it, on long range, everything is from the lower edge up to TOP_M (about 250 asks a row each).
+ */
+function climb(prober: Prober, s: number, h: number, detected: boolean): number {
+  if (h <= TOP_M && prober.settles(s, h, TOP_M, detected)) {
+    while (h <= TOP_M) h += COARSE_DH_M;
+    return h;
+  }
+  while (h <= TOP_M) {
+    let end = h;
+    let k = 1;
+    while (k < CLIMB_CHUNK && end + COARSE_DH_M <= TOP_M) {
+      end += COARSE_DH_M;
+      k++;
+    }
+    if (prober.settles(s, h, end, detected)) {
+      h = end + COARSE_DH_M;
+      continue;
+    }
+    for (let j = 0; j < k; j++) {
+      if (prober.det(s, h) !== detected) return h;
+      h += COARSE_DH_M;
+    }
+  }
+  return h;
 }
 
 /** Whether detection holds all the way from a to b (checked on the coarse ladder). */

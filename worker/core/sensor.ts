@@ -284,6 +284,11 @@ export interface DetectionProfile {
   readonly limitingLink?: 'uplink' | 'downlink';
   /** min(instrumented range, range with atmosphere) at ε (rad); 0 above the cone of silence; NaN gives NaN. */
   rangeM(elevationRad: number): number;
+  /**
+   * Least and greatest of `rangeM` over the elevations [e1, e2] (rad, e1 ≤ e2) into out[0], out[1]; lets a caller
+   * settle a whole altitude interval at once (footprint.ts sensorBand). Optional: without it every altitude is asked.
+   */
+  rangeBounds?(e1: number, e2: number, out: number[]): void;
 }
 
 export interface SensorModel {
@@ -880,6 +885,29 @@ class Profile implements DetectionProfile {
     const t = this.table;
     const a = t[i];
     return a + (x - i) * (t[i + 1] - a);
+  }
+
+  /** The table is linear between its nodes: the extremes over [e1, e2] lie at its ends or at the nodes between. */
+  rangeBounds(e1: number, e2: number, out: number[]): void {
+    const r1 = this.rangeM(e1);
+    const r2 = this.rangeM(e2);
+    let lo = Math.min(r1, r2);
+    let hi = Math.max(r1, r2);
+    const top = Math.min(e2, this.coneOfSilenceRad);
+    if (e1 <= top) {
+      const rTop = this.rangeM(top);
+      lo = Math.min(lo, rTop);
+      hi = Math.max(hi, rTop);
+      const t = this.table;
+      const i1 = Math.floor(Math.max(0, (e1 - this.loRad) * this.invStepRad)) + 1;
+      const i2 = Math.min(t.length - 1, Math.floor(Math.max(0, (top - this.loRad) * this.invStepRad)));
+      for (let i = i1; i <= i2; i++) {
+        if (t[i] < lo) lo = t[i];
+        if (t[i] > hi) hi = t[i];
+      }
+    }
+    out[0] = lo;
+    out[1] = hi;
   }
 }
 
