@@ -58,11 +58,6 @@ import {
 export type Session = Study<LoadedScenario> & {
   cacheDir?: string;
   workCheck?: { loaded: LoadedScenario; limitMin: number };
-  /**
-   * Workers started while the terrain was read, with the terrain installed once it was (taken by the first
-   * footprint run; later runs start their own).
-   */
-  pool?: { workers: NodePool; ready: Promise<void> };
 };
 
 export { allCandidates, candidate, layoutCandidates, siteOf } from '../io/study.ts';
@@ -195,11 +190,7 @@ export async function openSession(
   const limit =
     opts.maxMemoryBytes ?? memoryLimitArg({ positional: [], values: new Map(), flags: new Set() });
   progress.update(0, 'reading terrain');
-  // The workers load their code while the terrain is read (about 0.15 s they would otherwise add after it); they do
-  // not keep the process alive until they have work, so a refusal below still ends it.
-  const early = threads > 0 ? NodePool.spawn(threads) : null;
-  early?.holdProcess(false);
-  const read = readTerrainWithin(loaded.terrainPaths, limit, {
+  const { terrain, largest } = await readTerrainWithin(loaded.terrainPaths, limit, {
     shared: threads > 0,
     names: loaded.scenario.terrain.files.map((_, i) => loaded.locate(['terrain', 'files', i])),
     // With the grid's bounds in the scenario the study's memory is known from the tiles' headers: a run too
@@ -221,25 +212,12 @@ export async function openSession(
       );
     },
   });
-  let terrain: Terrain;
-  let largest: TileShape | undefined;
-  try {
-    ({ terrain, largest } = await read);
-    checkStudyMemory(checked, terrain, largest, limit);
-    const limitMin = opts.maxWorkMin ?? workLimitArg({ positional: [], values: new Map(), flags: new Set() });
-    if (!opts.deferWorkCheck) checkStudyWork(checked, terrain, threads, limitMin);
-    const study: Session = openStudy(loaded, terrain, threads, opts.runLevels);
-    if (opts.deferWorkCheck) study.workCheck = { loaded: checked, limitMin };
-    if (early) {
-      const ready = early.setTerrain(terrain.toParts());
-      ready.catch(() => undefined); // seen by the run that takes the pool
-      study.pool = { workers: early, ready };
-    }
-    return study;
-  } catch (e) {
-    await early?.close();
-    throw e;
-  }
+  checkStudyMemory(checked, terrain, largest, limit);
+  const limitMin = opts.maxWorkMin ?? workLimitArg({ positional: [], values: new Map(), flags: new Set() });
+  if (!opts.deferWorkCheck) checkStudyWork(checked, terrain, threads, limitMin);
+  const study: Session = openStudy(loaded, terrain, threads, opts.runLevels);
+  if (opts.deferWorkCheck) study.workCheck = { loaded: checked, limitMin };
+  return study;
 }
 
 /**
@@ -367,18 +345,11 @@ export async function footprintsFor(
     if (g.footprints) opts.onCache?.({ siteId: g.group[0].site.id, file: g.key, read: true });
   }
   const missing = groups.filter((g) => g.footprints === null);
-  // Nothing to sweep: the workers started early are not needed.
-  if (missing.length === 0) await releasePool(session);
   if (session.workCheck) {
     // The time estimate for the sites still to sweep, before any is computed.
     const { loaded, limitMin } = session.workCheck;
     const swept = new Set(missing.map((g) => g.group[0].site.id));
-    try {
-      checkStudyWork(loaded, session.terrain, session.threads, limitMin, swept);
-    } catch (e) {
-      await releasePool(session);
-      throw e;
-    }
+    checkStudyWork(loaded, session.terrain, session.threads, limitMin, swept);
   }
   if (missing.length > 0) {
     const bySite = new Map(missing.map((g) => [g.group[0].site.id, g]));
@@ -398,13 +369,6 @@ export async function footprintsFor(
   return groups.flatMap((g) => g.footprints!);
 }
 
-/** Ends the workers a session started early, when no footprint run took them. */
-async function releasePool(session: Session): Promise<void> {
-  const warm = session.pool;
-  session.pool = undefined;
-  await warm?.workers.close();
-}
-
 async function computeFor(
   session: Session,
   candidates: readonly Candidate[],
@@ -414,22 +378,7 @@ async function computeFor(
 ): Promise<Footprint[]> {
   const { terrain, grid, ground, threads } = session;
   const [from, span] = opts.share ?? [0, 0.85];
-  const warm = threads > 0 ? session.pool : undefined;
-  session.pool = undefined;
-  let pool: NodePool | null = null;
-  if (warm) {
-    // Held before the first wait on them: workers that do not hold the process let it end while it waits.
-    warm.workers.holdProcess(true);
-    pool = warm.workers;
-    try {
-      await warm.ready;
-    } catch (e) {
-      await pool.close();
-      throw e;
-    }
-  } else if (threads > 0) {
-    pool = await NodePool.start(threads, terrain.toParts());
-  }
+  const pool = threads > 0 ? await NodePool.start(threads, terrain.toParts()) : null;
   try {
     const r = await computeFootprints(
       terrain,

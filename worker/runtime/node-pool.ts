@@ -36,36 +36,12 @@ export class NodePool {
 
   /** Starts `size` workers and installs the terrain in each (shared memory: one copy for all). */
   static async start(size: number, terrain: TerrainParts): Promise<NodePool> {
-    const pool = NodePool.spawn(size);
-    await pool.setTerrain(terrain);
-    return pool;
-  }
-
-  /**
-   * Starts `size` workers without a terrain yet: a worker takes about 0.15 s to load its code, which a command can
-   * spend reading its inputs meanwhile (`setTerrain` once the terrain is read; the jobs after it wait in order).
-   */
-  static spawn(size: number): NodePool {
     const entry = workerEntry();
     const workers = Array.from({ length: size }, () => new Worker(entry));
     const remotes = workers.map((w) => wrap<WorkerApi>(nodeEndpoint(w)));
-    return new NodePool(workers, remotes);
-  }
-
-  /** Installs the terrain in every worker (shared memory: one copy for all). */
-  async setTerrain(terrain: TerrainParts): Promise<void> {
-    await Promise.all(this.pool.remotes.map((r) => r.setTerrain(terrain)));
-  }
-
-  /**
-   * Whether the workers alone keep the process alive: not while a pool waits unused (a command refused before it
-   * computes anything still ends), yes again once it has work.
-   */
-  holdProcess(hold: boolean): void {
-    for (const w of this.workers) {
-      if (hold) w.ref();
-      else w.unref();
-    }
+    const pool = new NodePool(workers, remotes);
+    await Promise.all(remotes.map((r) => r.setTerrain(terrain)));
+    return pool;
   }
 
   executor(): Executor {
