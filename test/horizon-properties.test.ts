@@ -243,7 +243,7 @@ describe('horizon sweep paths', () => {
     expect(unknown).toBeGreaterThan(1_000);
   });
 
-  it('a reused buffer gives the same floor: samples past a radial\'s tail are never read, whatever they hold', () => {
+  it("a reused buffer gives the same floor: samples past a radial's tail are never read, whatever they hold", () => {
     // The sweep records where each radial met unknown terrain (its tail) instead of storing the rest as NaN; a
     // buffer that held another horizon before must give the same floor as a fresh one.
     const n = 121;

@@ -62,7 +62,14 @@ describe('RemotePool dispatch', () => {
         sweep: async (l: unknown, _t: Float32Array, a: number) => {
           got.push(`${name} sweep ${a} ${l === AS_BEFORE ? 'as-before' : (l as { id: string }).id}`);
         },
-        resample: async (l: unknown, _t: Float32Array, v: unknown, _o: Float32Array, _g: null, r0: number) => {
+        resample: async (
+          l: unknown,
+          _t: Float32Array,
+          v: unknown,
+          _o: Float32Array,
+          _g: null,
+          r0: number,
+        ) => {
           const lv = l === AS_BEFORE ? 'as-before' : (l as { id: string }).id;
           const vv = v === AS_BEFORE ? 'as-before' : (v as { id: string }).id;
           got.push(`${name} resample ${r0} ${lv} ${vv}`);

@@ -858,7 +858,17 @@ export function floorAt(horizon: Horizon, azimuthPseudoRad: number, rangeM: numb
   const k0 = lv.offset + (j0 - lv.jStart) * n + i0;
   const k1 = lv.offset + (j0 - lv.jStart) * n + i1;
   const tails = tailsOf(L, horizon.tan);
-  const T = screeningAt(horizon.tan, k0, k1, n, j0, tails[lv.radialBase + i0], tails[lv.radialBase + i1], wj, wa);
+  const T = screeningAt(
+    horizon.tan,
+    k0,
+    k1,
+    n,
+    j0,
+    tails[lv.radialBase + i0],
+    tails[lv.radialBase + i1],
+    wj,
+    wa,
+  );
   const x = rangeM / L.reM;
   const den = Math.cos(x) - T * Math.sin(x);
   if (den !== den) return NaN;

@@ -62,7 +62,15 @@ export const api = {
     rowEnd: number,
     distance: Float32Array | null,
   ): ResampleCounts {
-    return resampleFloor({ layout: layoutOf(layout), tan }, vmapOf(vmap), out, ground, rowStart, rowEnd, distance);
+    return resampleFloor(
+      { layout: layoutOf(layout), tan },
+      vmapOf(vmap),
+      out,
+      ground,
+      rowStart,
+      rowEnd,
+      distance,
+    );
   },
   /** One octant of the grid-native floor sweep; `out` may be the terrain's own (shared) buffer. */
   gridSweep(task: GridSweepTask, pristine: GridPristine, out: Float32Array): GridSweepCounts {
