@@ -93,8 +93,8 @@ class Prober {
    * Whether `det(s, h)` holds for every h in [h1, h2] (`all`) or for none (`!all`), settled from bounds when they
    * leave no doubt: along one distance the elevation rises with h, the slant range is convex in h (least at
    * re + h = (re + ha)·cos(s/re)), and `rangeBounds` gives the profile's least and greatest range over the
-   * elevations. False when unsure (no `rangeBounds`, lobing, or within a relative 1e−9 of an edge): the caller
-   * then asks each altitude, so the band is the same to the bit.
+   * elevations. False when unsure (no `rangeBounds`, lobing, or within 1 mm and a relative 1e−9 of an edge): the
+   * caller then asks each altitude, so the band is the same to the bit.
    */
   settles(s: number, h1: number, h2: number, all: boolean): boolean {
     const p = this.profile;
@@ -112,11 +112,14 @@ class Prober {
     if (!(rMin > 0)) return false;
     const e1 = Math.asin(Math.max(-1, Math.min(1, (b1 * c - a) / r1)));
     const e2 = Math.asin(Math.max(-1, Math.min(1, (b2 * c - a) / r2)));
-    const slack = 1e-9;
-    p.rangeBounds(e1 - slack, e2 + slack, this.bounds);
+    // Margins far above the rounding of det's own arithmetic: the slant range's law of cosines loses up to about
+    // 0.1 m² of r² to cancellation (under 1 mm of r beyond 100 m), the elevation under 1e−10 rad beyond 100 m.
+    const rel = 1e-9;
+    const absM = 1e-3;
+    p.rangeBounds(e1 - rel, e2 + rel, this.bounds);
     const [least, most] = this.bounds;
-    if (all) return rMin >= p.minRangeM * (1 + slack) + slack && rMax <= least * (1 - slack) - slack;
-    return rMin >= most * (1 + slack) + slack;
+    if (all) return rMin >= p.minRangeM * (1 + rel) + absM && rMax <= least * (1 - rel) - absM;
+    return rMin >= most * (1 + rel) + absM;
   }
 
   private at(s: number): void {
