@@ -104,4 +104,25 @@ describe('RemotePool dispatch', () => {
       'b resample 3 as-before as-before',
     ]);
   });
+
+  it('after a failed job a worker is sent the whole layout again, not "as before"', async () => {
+    const got: string[] = [];
+    let fail = true;
+    const remote = {
+      sweep: async (l: unknown) => {
+        got.push(l === AS_BEFORE ? 'as-before' : (l as { id: string }).id);
+        if (fail) {
+          fail = false;
+          throw new Error('worker failed');
+        }
+      },
+    } as unknown as Remote<WorkerApi>;
+    const exec = new RemotePool([remote]).executor();
+    const layout = { id: 'L1' } as unknown as HorizonLayout;
+    const tan = new Float32Array(1);
+    await expect(exec.sweep(layout, tan, 0, 1)).rejects.toThrow('worker failed');
+    await exec.sweep(layout, tan, 1, 2);
+    await exec.sweep(layout, tan, 2, 3);
+    expect(got).toEqual(['L1', 'L1', 'as-before']);
+  });
 });

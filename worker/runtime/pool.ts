@@ -42,6 +42,10 @@ export class RemotePool {
     try {
       // The job posts its message now (comlink posts as it is called), so `once` sees the worker's order.
       return await job(this.remotes[k], k);
+    } catch (e) {
+      // Whatever failed (the post itself, or the worker), the next job sends its objects whole again.
+      this.sent[k] = { layout: null, vmap: null };
+      throw e;
     } finally {
       this.queued[k]--;
     }
