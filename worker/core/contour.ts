@@ -268,39 +268,71 @@ function traceCells(mask: Uint8Array, w: number, h: number): number[][][] {
 }
 
 /**
- * 4-connected components of covered cells (two-pass labelling with union-find): `labels` gets a provisional
- * label per covered cell; the returned table maps it to the component number, 1..count in raster-scan order
- * of each component's first cell (table[0] = count).
+ * 4-connected components of covered cells (labelling run by run with union-find): `labels` gets a provisional
+ * label per covered cell (uncovered cells are left as they are: 0); the returned table maps it to the component
+ * number, 1..count in raster-scan order of each component's first cell (table[0] = count).
+ *
+ * A row's runs of covered cells are found with the typed array's own search (indexOf), and each run joins the runs
+ * of the row above that share a column with it; a run's label is the smallest root among them, or a new label, so
+ * labels are given in raster order and every root is the least label of its component.
  */
 function labelComponents(mask: Uint8Array, w: number, h: number, labels: Int32Array): Int32Array {
   // A row of w cells opens at most ceil(w / 2) runs, each at most one new label.
-  const parent = new Int32Array(Math.ceil(w / 2) * h + 1);
+  const maxRuns = Math.ceil(w / 2);
+  const parent = new Int32Array(maxRuns * h + 1);
+  let prevStart = new Int32Array(maxRuns);
+  let prevEnd = new Int32Array(maxRuns);
+  let prevLabel = new Int32Array(maxRuns);
+  let curStart = new Int32Array(maxRuns);
+  let curEnd = new Int32Array(maxRuns);
+  let curLabel = new Int32Array(maxRuns);
+  let prevN = 0;
   let next = 0;
+  const root = (a: number): number => {
+    while (parent[a] !== a) a = parent[a] = parent[parent[a]];
+    return a;
+  };
   for (let y = 0; y < h; y++) {
     const row = y * w;
-    for (let x = 0; x < w; x++) {
-      const i = row + x;
-      if (mask[i] === 0) continue;
-      const west = x > 0 ? labels[i - 1] : 0;
-      const north = y > 0 ? labels[i - w] : 0;
-      if (west === 0 && north === 0) {
-        labels[i] = ++next;
-        parent[next] = next;
-      } else if (north === 0 || west === north) {
-        labels[i] = west !== 0 ? west : north;
-      } else if (west === 0) {
-        labels[i] = north;
-      } else {
-        // Union: the root with the smaller label (the earlier first cell) stays the root.
-        let a = west;
-        while (parent[a] !== a) a = parent[a] = parent[parent[a]];
-        let b = north;
-        while (parent[b] !== b) b = parent[b] = parent[parent[b]];
-        if (a < b) parent[b] = a;
-        else parent[a] = b;
-        labels[i] = a < b ? a : b;
+    const cells = mask.subarray(row, row + w);
+    let curN = 0;
+    let j = 0; // first run of the row above that may still overlap
+    let x = 0;
+    while (x < w) {
+      const s = cells.indexOf(1, x);
+      if (s < 0) break;
+      let e = cells.indexOf(0, s);
+      if (e < 0) e = w;
+      x = e;
+      while (j < prevN && prevEnd[j] <= s) j++;
+      let label = 0;
+      for (let k = j; k < prevN && prevStart[k] < e; k++) {
+        const r = root(prevLabel[k]);
+        if (label === 0) label = r;
+        else if (r !== label) {
+          // Union: the root with the smaller label (the earlier first cell) stays the root.
+          if (r < label) {
+            parent[label] = r;
+            label = r;
+          } else {
+            parent[r] = label;
+          }
+        }
       }
+      if (label === 0) {
+        label = ++next;
+        parent[label] = label;
+      }
+      labels.fill(label, row + s, row + e);
+      curStart[curN] = s;
+      curEnd[curN] = e;
+      curLabel[curN] = label;
+      curN++;
     }
+    [prevStart, curStart] = [curStart, prevStart];
+    [prevEnd, curEnd] = [curEnd, prevEnd];
+    [prevLabel, curLabel] = [curLabel, prevLabel];
+    prevN = curN;
   }
   // parent[p] <= p, so one forward pass numbers the roots in order and resolves everyone else.
   const table = new Int32Array(next + 1);
