@@ -320,8 +320,8 @@ async function siteFloor(
         ? new SharedArrayBuffer(fresh)
         : new ArrayBuffer(fresh);
     if (reuse) spare.buffer = null;
-    // Every sample a reader takes is written by the sweep (the rest lies past its radial's tail): a reused buffer needs no
-    // clearing.
+    // Every sample a reader takes is written by the sweep (the rest lies past its radial's tail): a reused buffer
+    // needs no clearing.
     const tan = new Float32Array(buffer, 0, horizonBufferLength(layout));
     const swept = tick('terrain sweep');
     await Promise.all(
