@@ -12,6 +12,10 @@
  *   cover on an odd cycle [pub, Nemhauser & Trotter, "Vertex packings: structural properties and algorithms",
  *   Math. Programming 8, 1975]; the values below are worked out by hand in the comments [calc].
  * - Brute force: every subset of the candidates, with the definitions of test/support/plan-check.ts [calc].
+ * - A cover row whose candidate set includes another row's, with no larger need, is implied by it (the row-dominance
+ *   reduction of set covering [pub, e.g. Garfinkel & Nemhauser, "Integer Programming", Wiley 1972; from memory];
+ *   the proof for this model, z columns included, is beside lp-bound.ts `impliedRows`): the LP and MILP optima
+ *   without such rows equal those with them [calc: HiGHS on both].
  */
 import { describe, expect, it } from 'vitest';
 import { isInputError } from '../shared/errors.ts';
