@@ -191,6 +191,7 @@ async function strip(list: { model: SensorModel; target: Target }[], multipath: 
       multipath,
     },
     inlineExecutor(terrain),
+    { keepSiteFloors: true },
   );
   return { footprints: r.footprints, distance: r.siteFloors[0].distance, width };
 }

@@ -138,6 +138,37 @@ describe.each(SITES)('radial samples on a $name', ({ geo, lon, lat }) => {
       { numRuns: 300, seed: 42 },
     );
   });
+
+  it('a table of a window of cells reads the same as the whole table in the window; the corners bound its reach', () => {
+    const out: GridGeo = { ...geo, width: 300, height: 200 };
+    const mapper = gridMapper(out);
+    const whole = VectorMap.build(lon, lat, out.width, out.height, mapper, 7);
+    // Windows with edges on and off the lattice's nodes, one touching the grid's last column and row.
+    for (const w of [
+      { row0: 13, row1: 97, col0: 50, col1: 181 },
+      { row0: 14, row1: 15, col0: 49, col1: 50 },
+      { row0: 140, row1: 200, col0: 210, col1: 300 },
+    ]) {
+      const part = VectorMap.build(lon, lat, out.width, out.height, mapper, 7, w);
+      expect([part.nodesX, part.nodesY, part.block]).toEqual([whole.nodesX, whole.nodesY, 7]);
+      const a = [0, 0];
+      const b = [0, 0];
+      for (let r = w.row0; r < w.row1; r++) {
+        for (let c = w.col0; c < w.col1; c++) {
+          whole.at(c + 0.5, r + 0.5, a);
+          part.at(c + 0.5, r + 0.5, b);
+          expect(b).toEqual(a);
+        }
+      }
+      // Nodes no cell of the window reads are not computed.
+      expect(Number.isNaN(part.v[0]) || w.row0 < 7 || w.col0 < 7).toBe(true);
+    }
+    const corners = VectorMap.cornerReachM(lon, lat, out.width, out.height, mapper);
+    const reach = VectorMap.build(lon, lat, out.width, out.height, mapper).maxDistanceM();
+    expect(corners).toBeGreaterThan(0);
+    expect(corners).toBeLessThanOrEqual(reach);
+    expect(corners).toBeGreaterThan(0.9 * reach);
+  });
 });
 
 describe('pseudo-angle', () => {

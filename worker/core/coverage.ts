@@ -91,6 +91,11 @@ export async function computeFootprints(
     cache?: HorizonCache;
     /** Called as each site is done, with its candidates' footprints in order (e.g. to store them at once). */
     onSiteDone?: (site: CoverageSite, footprints: Footprint[]) => void | Promise<void>;
+    /**
+     * Return every site's floor and distances (`siteFloors`; empty otherwise). Two grid-sized arrays a site, kept to
+     * the end: on the national benchmark at 60″, 3.2 GB; so only for tools that read them.
+     */
+    keepSiteFloors?: boolean;
   } = {},
 ): Promise<{ footprints: Footprint[]; siteFloors: SiteFloor[] }> {
   const bySite = new Map<string, Candidate[]>();
@@ -110,7 +115,7 @@ export async function computeFootprints(
     Math.min(req.maxRangeM, Math.max(...cands.map((c) => c.model.instrumentedRangeM)));
   // One polar buffer serves every site in turn (a site's sweep starts only once the previous site's resampling is
   // done): fresh memory costs a page fault per 4 KiB here, about a fifth of the time with a buffer per site.
-  const spare: { buffer: ArrayBuffer | SharedArrayBuffer | null } = { buffer: null };
+  const spare: Spare = { buffer: null, grids: [] };
   const ground = readableBy(exec, req.ground);
   const floorOf = (cands: Candidate[]) => {
     const site = cands[0].site;
@@ -186,14 +191,16 @@ export async function computeFootprints(
     if (!opts.cache) spare.buffer = res.tan.buffer;
     next = g + 1 < groups.length ? floorOf(groups[g + 1]) : null;
     const { distance, maxRangeM } = res;
-    siteFloors.push({
-      site,
-      floor: res.floor,
-      distance,
-      antennaAltM: res.antennaAltM,
-      groundM: res.groundM,
-    });
-    const sea = req.multipath ? seaMask(terrain, req.grid, site, distance, maxRangeM) : null;
+    if (opts.keepSiteFloors) {
+      siteFloors.push({
+        site,
+        floor: res.floor,
+        distance,
+        antennaAltM: res.antennaAltM,
+        groundM: res.groundM,
+      });
+    }
+    const sea = req.multipath ? seaMask(terrain, req.grid, site, distance, maxRangeM, res.window) : null;
     const first = footprints.length;
     for (const c of cands) {
       // Between footprints, let a pool's replies in: the next site's sweep ends while this thread works, and its
@@ -211,6 +218,8 @@ export async function computeFootprints(
       footprints.push(fp);
     }
     await opts.onSiteDone?.(site, footprints.slice(first));
+    // The footprints are built: the site's floor and distances serve a later site (unless handed out).
+    if (!opts.keepSiteFloors) spare.grids.push(res.floor, res.distance);
     done++;
     opts.onProgress?.(done / groups.length, `${site.name}: done`);
   }
@@ -264,6 +273,16 @@ export function dropOutsideSector(
 }
 
 /** One site's floor as `siteFloor` computes it. */
+/**
+ * Buffers lent from one site to the next: the polar buffer of screening tans, and floor and distance grids (fresh
+ * memory costs a page fault per 4 KiB at first touch: on the national benchmark at 60″, two fresh grids a site took
+ * about 10 s of a 160 s run).
+ */
+interface Spare {
+  buffer: ArrayBuffer | SharedArrayBuffer | null;
+  grids: Float32Array[];
+}
+
 interface SiteRun {
   /** NaN outside `window` (the cells within the horizon's range). */
   floor: Float32Array;
@@ -279,9 +298,10 @@ interface SiteRun {
 
 /**
  * A site's line-of-sight floor and distance on the analysis grid: `computeFloor`'s job (floor.ts: the same
- * layout, sweep pieces and resampling, so the same values to the bit), with two savings — the polar buffer is
- * reused from the previous site (`spare`, when no horizon cache keeps it), and only the rows of the site's range
- * box are resampled (the rest stay NaN: beyond range).
+ * layout, sweep pieces and resampling, so the same values to the bit), with savings — the polar buffer is reused
+ * from the previous site (`spare`, when no horizon cache keeps it), and so are the floor and distance grids of a
+ * site whose footprints are built; only the rows of the site's range box are resampled (the rest stay NaN: beyond
+ * range), and only the geodesics the box reads are tabulated when the grid's reach cannot bind.
  */
 async function siteFloor(
   terrain: TerrainRaster,
@@ -290,15 +310,25 @@ async function siteFloor(
   ground: Float32Array,
   exec: Executor,
   cache: HorizonCache | null,
-  spare: { buffer: ArrayBuffer | SharedArrayBuffer | null },
+  spare: Spare,
   onProgress: Progress,
 ): Promise<SiteRun> {
   onProgress(0, 'geodesics');
-  const vmap = VectorMap.build(req.lon, req.lat, grid.width, grid.height, gridMapper(grid));
-  // As computeFloor: never farther than the grid's farthest cell.
+  const mapper = gridMapper(grid);
+  // As computeFloor: never farther than the grid's farthest cell (its farthest lattice node, plus a margin). When
+  // the lattice's corners alone lie beyond the site's range, that bound cannot bind, and only the nodes within the
+  // site's reach are needed (below); else the whole lattice is tabulated first, as the floor command does.
   const p = terrain.metresPerPixel(req.lon, req.lat);
-  const gridReach = vmap.maxDistanceM() + 2 * vmap.block * Math.max(1, Math.max(p.x, p.y));
-  const spec: HorizonSpec = { ...req, maxRangeM: Math.min(req.maxRangeM, gridReach) };
+  const margin = 2 * VectorMap.blockFor(grid.width, grid.height, mapper) * Math.max(1, Math.max(p.x, p.y));
+  let vmap: VectorMap | null = null;
+  let maxRangeM = req.maxRangeM;
+  if (
+    !(req.maxRangeM <= VectorMap.cornerReachM(req.lon, req.lat, grid.width, grid.height, mapper) + margin)
+  ) {
+    vmap = VectorMap.build(req.lon, req.lat, grid.width, grid.height, mapper);
+    maxRangeM = Math.min(req.maxRangeM, vmap.maxDistanceM() + margin);
+  }
+  const spec: HorizonSpec = { ...req, maxRangeM };
   const n = Math.max(1, exec.size);
   const pieces = n === 1 ? 1 : n * 4;
   let done = 0;
@@ -334,8 +364,11 @@ async function siteFloor(
   }
   const { layout, tan } = horizon;
   const window = rangeWindow(grid, req, layout.maxRangeM);
+  // Cells outside the window lie beyond the range: the resampler finds them so from their NaN vector.
+  vmap ??= VectorMap.build(req.lon, req.lat, grid.width, grid.height, mapper, undefined, window);
   const cells = grid.width * grid.height;
   const alloc = () =>
+    spare.grids.pop() ??
     new Float32Array(exec.shared ? new SharedArrayBuffer(cells * 4) : new ArrayBuffer(cells * 4));
   const floor = alloc();
   const distance = alloc();
@@ -501,6 +534,7 @@ function seaMask(
   site: CoverageSite,
   distance: Float32Array,
   maxRangeM: number,
+  window: FootprintWindow,
 ): SeaMask | null {
   if (grid.crs.kind !== 'geographic') return null;
   const steps = Math.max(2, Math.ceil(Math.min(SEA_MASK_REACH_M, maxRangeM) / SEA_STEP_M) + 1);
@@ -528,14 +562,16 @@ function seaMask(
   const cellRadial = new Uint16Array(distance.length).fill(65_535);
   const W = grid.width;
   const scale = SEA_RADIALS / 4;
-  for (let i = 0; i < distance.length; i++) {
-    if (!(distance[i] === distance[i])) continue;
-    const r = (i / W) | 0;
-    const x = (grid.originX + (i - r * W + 0.5) * grid.pixelX - site.lon) * cosLat;
+  // Only the site's window: every footprint of the site lies in it (and outside it the distance is unknown).
+  for (let r = window.row0; r < window.row1; r++) {
     const y = grid.originY + (r + 0.5) * grid.pixelY - site.lat;
-    let b = Math.floor(diamond(x, y) * scale);
-    if (b >= SEA_RADIALS) b = SEA_RADIALS - 1;
-    cellRadial[i] = b;
+    for (let i = r * W + window.col0; i < r * W + window.col1; i++) {
+      if (!(distance[i] === distance[i])) continue;
+      const x = (grid.originX + (i - r * W + 0.5) * grid.pixelX - site.lon) * cosLat;
+      let b = Math.floor(diamond(x, y) * scale);
+      if (b >= SEA_RADIALS) b = SEA_RADIALS - 1;
+      cellRadial[i] = b;
+    }
   }
   return { cellRadial, seaMask: mask, steps, stepM: SEA_STEP_M };
 }

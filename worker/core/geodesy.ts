@@ -229,6 +229,33 @@ export class RadialFan implements RadialFanParts {
 // Inverse: output raster cell → ground vector from the antenna.
 // ---------------------------------------------------------------------------------------------------------
 
+/** The geodesic vector from the site to pixel (x, y) of a grid, into out (NaN where it maps to no lon/lat). */
+function nodeVector(
+  siteLon: number,
+  siteLat: number,
+  mapper: PixelMapper,
+  x: number,
+  y: number,
+  ll: number[],
+  out: number[],
+): void {
+  try {
+    mapper.pixelToLonLat(x, y, ll);
+  } catch {
+    ll[0] = NaN;
+  }
+  if (!Number.isFinite(ll[0]) || !Number.isFinite(ll[1])) {
+    out[0] = NaN;
+    out[1] = NaN;
+    return;
+  }
+  const r = WGS84.Inverse(siteLat, siteLon, ll[1], ll[0]);
+  const s = r.s12 as number;
+  const az = (r.azi1 as number) * DEG;
+  out[0] = s * Math.sin(az);
+  out[1] = s * Math.cos(az);
+}
+
 /** Ground size (m) of one cell near the middle of a grid: the larger of its two sides. */
 function cellSizeM(width: number, height: number, mapper: PixelMapper): number {
   const a = [0, 0];
@@ -282,7 +309,9 @@ export class VectorMap implements VectorMapParts {
    * Tabulates the exact inverse geodesic from the site to the centre of every `block`-th cell of a width × height
    * grid. The default block keeps the interpolation error (node spacing d: about d²/(8R)) under 0.3 m or a
    * thousandth of a cell, whichever is larger, with nodes at most 64 cells apart; a block of 1 makes every cell
-   * exact.
+   * exact. With `cells`, only the nodes that cells in that window read (`at` at their centres, and the resampler)
+   * are computed, the rest left NaN: the same values there, for the inverse geodesics of the window alone (a site's
+   * reach is often a small part of a large grid).
    */
   static build(
     siteLon: number,
@@ -291,36 +320,65 @@ export class VectorMap implements VectorMapParts {
     height: number,
     mapper: PixelMapper,
     block?: number,
+    cells?: { row0: number; row1: number; col0: number; col1: number },
   ): VectorMap {
-    // Bilinear error between nodes d apart is about d²/(8R): allow 0.3 m, or a thousandth of a cell on coarse grids.
-    const cellM = cellSizeM(width, height, mapper);
-    const spanM = Math.sqrt(8 * 6_371_000 * Math.max(0.3, cellM * 1e-3));
-    const b = block ?? Math.max(1, Math.min(64, Math.floor(spanM / cellM)));
+    const b = VectorMap.blockFor(width, height, mapper, block);
     const nodesX = Math.ceil((width - 1) / b) + 1;
     const nodesY = Math.ceil((height - 1) / b) + 1;
     const v = new Float64Array(nodesX * nodesY * 2);
+    // A cell at column c reads nodes ⌊c/b⌋ and the next (kept within the lattice).
+    const x0 = cells ? Math.max(0, Math.floor(cells.col0 / b)) : 0;
+    const x1 = cells ? Math.min(nodesX - 1, Math.floor((cells.col1 - 1) / b) + 1) : nodesX - 1;
+    const y0 = cells ? Math.max(0, Math.floor(cells.row0 / b)) : 0;
+    const y1 = cells ? Math.min(nodesY - 1, Math.floor((cells.row1 - 1) / b) + 1) : nodesY - 1;
+    if (cells) v.fill(NaN);
     const ll = [0, 0];
-    for (let ny = 0; ny < nodesY; ny++) {
-      for (let nx = 0; nx < nodesX; nx++) {
+    const out = [0, 0];
+    for (let ny = y0; ny <= y1; ny++) {
+      for (let nx = x0; nx <= x1; nx++) {
         const k = (ny * nodesX + nx) * 2;
-        try {
-          mapper.pixelToLonLat(nx * b + 0.5, ny * b + 0.5, ll);
-        } catch {
-          ll[0] = NaN;
-        }
-        if (!Number.isFinite(ll[0]) || !Number.isFinite(ll[1])) {
-          v[k] = NaN;
-          v[k + 1] = NaN;
-          continue;
-        }
-        const r = WGS84.Inverse(siteLat, siteLon, ll[1], ll[0]);
-        const s = r.s12 as number;
-        const az = (r.azi1 as number) * DEG;
-        v[k] = s * Math.sin(az);
-        v[k + 1] = s * Math.cos(az);
+        nodeVector(siteLon, siteLat, mapper, nx * b + 0.5, ny * b + 0.5, ll, out);
+        v[k] = out[0];
+        v[k + 1] = out[1];
       }
     }
     return new VectorMap({ width, height, block: b, nodesX, nodesY, v });
+  }
+
+  /** The lattice spacing `build` uses (cells between nodes). */
+  static blockFor(width: number, height: number, mapper: PixelMapper, block?: number): number {
+    if (block !== undefined) return block;
+    // Bilinear error between nodes d apart is about d²/(8R): allow 0.3 m, or a thousandth of a cell on coarse grids.
+    const cellM = cellSizeM(width, height, mapper);
+    const spanM = Math.sqrt(8 * 6_371_000 * Math.max(0.3, cellM * 1e-3));
+    return Math.max(1, Math.min(64, Math.floor(spanM / cellM)));
+  }
+
+  /**
+   * The largest distance from the site to the lattice's four corner nodes: a lower bound of `maxDistanceM` of the
+   * whole lattice (the same values), for the price of four inverse geodesics.
+   */
+  static cornerReachM(
+    siteLon: number,
+    siteLat: number,
+    width: number,
+    height: number,
+    mapper: PixelMapper,
+  ): number {
+    const b = VectorMap.blockFor(width, height, mapper);
+    const nodesX = Math.ceil((width - 1) / b) + 1;
+    const nodesY = Math.ceil((height - 1) / b) + 1;
+    const ll = [0, 0];
+    const out = [0, 0];
+    let m = 0;
+    for (const ny of [0, nodesY - 1]) {
+      for (const nx of [0, nodesX - 1]) {
+        nodeVector(siteLon, siteLat, mapper, nx * b + 0.5, ny * b + 0.5, ll, out);
+        const d = Math.hypot(out[0], out[1]);
+        if (d > m) m = d;
+      }
+    }
+    return m;
   }
 
   /** Largest distance from the site to any node (the farthest corner of the grid, within a block). */
