@@ -126,9 +126,17 @@ export function singleRowBound(m: PlanModel): number {
       }
       const need = r - have;
       if (need > 0) {
-        prices.sort((a, b) => a - b);
+        // The `need` cheapest, added cheapest first (as a sort would give them): a selection, as need is small.
+        const take = Math.min(need, prices.length);
         let sum = 0;
-        for (let i = 0; i < need && i < prices.length; i++) sum += prices[i];
+        for (let i = 0; i < take; i++) {
+          let m = i;
+          for (let j = i + 1; j < prices.length; j++) if (prices[j] < prices[m]) m = j;
+          const t = prices[i];
+          prices[i] = prices[m];
+          prices[m] = t;
+          sum += prices[i];
+        }
         if (sum > best) best = sum;
       }
       for (const s of touched) {

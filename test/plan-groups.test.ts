@@ -1,0 +1,88 @@
+/**
+ * The plan's groups of demand points (worker/core/plan/demand.ts `preparePlan`: partition refinement, then each
+ * group's covering candidates read from the covers) against their definition, worked out here with plain string
+ * keys [calc]: points with the same requirements and the same covering allowed candidates form one group, groups
+ * are numbered by their first point, each lists its candidates ascending (`sigCand`), and each candidate lists the
+ * groups it covers ascending (`covGroup`, the transpose).
+ */
+import { describe, expect, it } from 'vitest';
+import { preparePlan, type PlanInstance } from '../worker/core/plan.ts';
+import { mulberry32 } from './support/bumps.ts';
+import { mixedKindInstance, siteCostInstance } from './support/plan-check.ts';
+
+/** The groups by definition: per point with demand its key (requirements, covering allowed candidates). */
+function groupsByDefinition(inst: PlanInstance): { rep: number[]; sig: number[][]; points: number[] } {
+  const ex = new Set(inst.excludedSites ?? []);
+  const P = inst.points;
+  const covering: number[][] = Array.from({ length: P.count }, () => []);
+  inst.candidates.forEach((c, j) => {
+    if (!ex.has(c.siteIndex)) for (const p of c.covers) covering[p].push(j);
+  });
+  const byKey = new Map<string, number>();
+  const rep: number[] = [];
+  const sig: number[][] = [];
+  const points: number[] = [];
+  for (let p = 0; p < P.count; p++) {
+    const req = [P.reqAny[p], P.reqPrimary[p], P.reqSecondary[p], P.reqAdsb?.[p] ?? 0, P.reqMlat?.[p] ?? 0];
+    if (!(P.weight[p] > 0) || req.every((r) => r === 0)) continue;
+    const key = `${req.join(',')}|${covering[p].join(',')}`;
+    let g = byKey.get(key);
+    if (g === undefined) {
+      g = rep.length;
+      byKey.set(key, g);
+      rep.push(p);
+      sig.push(covering[p]);
+      points.push(0);
+    }
+    points[g]++;
+  }
+  return { rep, sig, points };
+}
+
+/** A mixed instance with zero weights, points without demand and sometimes an excluded site. */
+function withGaps(seed: number): PlanInstance {
+  const inst = mixedKindInstance(seed);
+  const r = mulberry32(seed + 1);
+  const P = inst.points;
+  P.weight = P.weight.map((w) => (r() < 0.1 ? 0 : w));
+  for (let p = 0; p < P.count; p++) {
+    if (r() < 0.1) {
+      P.reqAny[p] = 0;
+      P.reqPrimary[p] = 0;
+      P.reqSecondary[p] = 0;
+      if (P.reqAdsb) P.reqAdsb[p] = 0;
+      if (P.reqMlat) P.reqMlat[p] = 0;
+    }
+  }
+  if (!inst.forced?.length && r() < 0.5) inst.excludedSites = [0];
+  return inst;
+}
+
+describe('the demand groups', () => {
+  it('are those of the definition, with their candidates and the transpose, on 60 seeded instances', () => {
+    let groups = 0;
+    for (const inst of [
+      ...Array.from({ length: 30 }, (_, i) => siteCostInstance(51_000 + i)),
+      ...Array.from({ length: 30 }, (_, i) => withGaps(52_000 + i)),
+    ]) {
+      const m = preparePlan(inst);
+      const def = groupsByDefinition(inst);
+      // preparePlan keeps the groups with demand left after capping: compare those, in order.
+      const kept = new Set(Array.from(m.gRep));
+      const live = def.rep
+        .map((rep, g) => ({ rep, sig: def.sig[g], points: def.points[g] }))
+        .filter((g) => kept.has(g.rep));
+      expect(Array.from(m.gRep)).toEqual(live.map((g) => g.rep));
+      expect(Array.from(m.gPoints)).toEqual(live.map((g) => g.points));
+      live.forEach((g, i) =>
+        expect(Array.from(m.sigCand.subarray(m.sigStart[i], m.sigStart[i + 1]))).toEqual(g.sig),
+      );
+      for (let c = 0; c < m.nCand; c++) {
+        const byDef = live.flatMap((g, i) => (g.sig.includes(c) ? [i] : []));
+        expect(Array.from(m.covGroup.subarray(m.covStart[c], m.covStart[c + 1]))).toEqual(byDef);
+      }
+      groups += m.nGroups;
+    }
+    expect(groups).toBeGreaterThan(500);
+  });
+});
