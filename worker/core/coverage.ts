@@ -272,17 +272,17 @@ export function dropOutsideSector(
   }
 }
 
-/** One site's floor as `siteFloor` computes it. */
 /**
  * Buffers lent from one site to the next: the polar buffer of screening tans, and floor and distance grids (fresh
- * memory costs a page fault per 4 KiB at first touch: on the national benchmark at 60″, two fresh grids a site took
- * about 10 s of a 160 s run).
+ * memory costs a page fault per 4 KiB at first touch: on the national benchmark at 60″, `siteFloor`'s own time,
+ * mostly its two fresh grids a site, was about 9 s of the main thread's busy 100 s).
  */
 interface Spare {
   buffer: ArrayBuffer | SharedArrayBuffer | null;
   grids: Float32Array[];
 }
 
+/** One site's floor as `siteFloor` computes it. */
 interface SiteRun {
   /** NaN outside `window` (the cells within the horizon's range). */
   floor: Float32Array;
