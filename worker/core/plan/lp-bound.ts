@@ -182,8 +182,9 @@ export interface Built {
 /**
  * Work budget of `impliedRows`, in rows looked at: a count, not a clock, so the same instance drops the same rows on
  * any machine and under any load. The demo needs about 1 % of it (all its implied rows found, 55 ms); the national
- * benchmark at 60″ (1 956 048 rows) reaches it after 858 623 were found, in about 11 s, most of it building the
- * rows' lists (a budget of 3e7 took as long and found 693 482).
+ * benchmark at 60″ (1 956 048 rows) reaches it after 858 623 were found: 11–12 s measured with a row's length and
+ * need read from three arrays (a budget of 3e7 took as long and found 693 482), about 5 s less since they are
+ * packed in one word (the solver stage's difference, one run each).
  */
 export const DOMINANCE_WORK = 100_000_000;
 
@@ -211,6 +212,8 @@ export function impliedRows(
 ): { dropped: Uint8Array; complete: boolean } {
   const nRows = rowG.length;
   const dropped = new Uint8Array(nRows);
+  // A row's length is packed with its need below (length · 256 in an Int32): beyond 2^23 candidates, no search.
+  if (m.nCand >= 1 << 23) return { dropped, complete: false };
   const start = new Int32Array(nRows + 1);
   for (let id = 0; id < nRows; id++) {
     const g = rowG[id];
@@ -242,8 +245,12 @@ export function impliedRows(
   const fill = postCount.slice(0, m.nCand);
   for (let id = 0; id < nRows; id++)
     for (let i = start[id]; i < start[id + 1]; i++) post[fill[list[i]]++] = id;
-  const need = (id: number): number => m.gReq[NK * rowG[id] + rowK[id]];
-  const len = (id: number): number => start[id + 1] - start[id];
+  // Per row its length and need in one word (length · 256 + need), so that a row looked at costs one read.
+  const info = new Int32Array(nRows);
+  for (let id = 0; id < nRows; id++)
+    info[id] = (start[id + 1] - start[id]) * 256 + m.gReq[NK * rowG[id] + rowK[id]];
+  const need = (id: number): number => info[id] & 255;
+  const len = (id: number): number => info[id] >>> 8;
   // By length, then need (largest first), then row: one exact key per row (length < 2^12 candidates, need < 2^8,
   // row < 2^32: 52 bits), sorted as numbers.
   const key = new Float64Array(nRows);
@@ -268,11 +275,13 @@ export function impliedRows(
     looked += p1 - p0;
     for (let q = p0; q < p1; q++) {
       const b = post[q];
-      if (b === a || dropped[b] || need(b) > ra) continue;
-      const lb = len(b);
-      if (lb < la || (maskLo[a] & ~maskLo[b]) !== 0 || (maskHi[a] & ~maskHi[b]) !== 0) continue;
-      // The same set and need: the row first in `order` stays (it is looked at before the other).
-      if (lb === la && need(b) === ra && b < a) continue;
+      if (b === a || dropped[b]) continue;
+      const ib = info[b];
+      const nb = ib & 255;
+      const lb = ib >>> 8;
+      if (nb > ra || lb < la || (maskLo[a] & ~maskLo[b]) !== 0 || (maskHi[a] & ~maskHi[b]) !== 0) continue;
+      // The same set and need: the row first in the order stays (it is looked at before the other).
+      if (lb === la && nb === ra && b < a) continue;
       let j = start[b];
       const jEnd = start[b + 1];
       let subset = true;
