@@ -319,13 +319,17 @@ async function siteFloor(
   // the lattice's corners alone lie beyond the site's range, that bound cannot bind, and only the nodes within the
   // site's reach are needed (below); else the whole lattice is tabulated first, as the floor command does.
   const p = terrain.metresPerPixel(req.lon, req.lat);
-  const margin = 2 * VectorMap.blockFor(grid.width, grid.height, mapper) * Math.max(1, Math.max(p.x, p.y));
+  const block = VectorMap.blockFor(grid.width, grid.height, mapper);
+  const margin = 2 * block * Math.max(1, Math.max(p.x, p.y));
   let vmap: VectorMap | null = null;
   let maxRangeM = req.maxRangeM;
   if (
-    !(req.maxRangeM <= VectorMap.cornerReachM(req.lon, req.lat, grid.width, grid.height, mapper) + margin)
+    !(
+      req.maxRangeM <=
+      VectorMap.cornerReachM(req.lon, req.lat, grid.width, grid.height, mapper, block) + margin
+    )
   ) {
-    vmap = VectorMap.build(req.lon, req.lat, grid.width, grid.height, mapper);
+    vmap = VectorMap.build(req.lon, req.lat, grid.width, grid.height, mapper, block);
     maxRangeM = Math.min(req.maxRangeM, vmap.maxDistanceM() + margin);
   }
   const spec: HorizonSpec = { ...req, maxRangeM };
@@ -365,7 +369,7 @@ async function siteFloor(
   const { layout, tan } = horizon;
   const window = rangeWindow(grid, req, layout.maxRangeM);
   // Cells outside the window lie beyond the range: the resampler finds them so from their NaN vector.
-  vmap ??= VectorMap.build(req.lon, req.lat, grid.width, grid.height, mapper, undefined, window);
+  vmap ??= VectorMap.build(req.lon, req.lat, grid.width, grid.height, mapper, block, window);
   const cells = grid.width * grid.height;
   const alloc = () =>
     spare.grids.pop() ??

@@ -364,8 +364,9 @@ export class VectorMap implements VectorMapParts {
     width: number,
     height: number,
     mapper: PixelMapper,
+    block?: number,
   ): number {
-    const b = VectorMap.blockFor(width, height, mapper);
+    const b = VectorMap.blockFor(width, height, mapper, block);
     const nodesX = Math.ceil((width - 1) / b) + 1;
     const nodesY = Math.ceil((height - 1) / b) + 1;
     const ll = [0, 0];
