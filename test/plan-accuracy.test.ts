@@ -136,6 +136,12 @@ describe('planning against the accuracy bound', () => {
     expect(r.lowerBound).toBeLessThanOrEqual(r.cost);
     expect(r.cost).toBeLessThanOrEqual(6);
     expect(r.log.some((l) => l.startsWith('accuracy: added'))).toBe(true);
+    // With the covers let go while the model is built, the receivers' covers stay for the accuracy model: the same.
+    const { stageMs: _a, ...same } = r;
+    const { stageMs: _b, ...released } = await solvePlan(instance(places, costs, targets, bound), {
+      releaseCovers: true,
+    });
+    expect(released).toEqual(same);
   });
 
   it('a bound no allowed receivers can meet is capped and reported, not chased', async () => {

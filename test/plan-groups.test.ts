@@ -3,10 +3,12 @@
  * group's covering candidates read from the covers) against their definition, worked out here with plain string
  * keys [calc]: points with the same requirements and the same covering allowed candidates form one group, groups
  * are numbered by their first point, each lists its candidates ascending (`sigCand`), and each candidate lists the
- * groups it covers ascending (`covGroup`, the transpose).
+ * groups it covers ascending (`covGroup`, the transpose); with the covers let go while the model is built, the same
+ * model.
  */
 import { describe, expect, it } from 'vitest';
 import { preparePlan, type PlanInstance } from '../worker/core/plan.ts';
+import { CoverState } from '../worker/core/plan/cover-state.ts';
 import { mulberry32 } from './support/bumps.ts';
 import { mixedKindInstance, siteCostInstance } from './support/plan-check.ts';
 
@@ -82,7 +84,43 @@ describe('the demand groups', () => {
         expect(Array.from(m.covGroup.subarray(m.covStart[c], m.covStart[c + 1]))).toEqual(byDef);
       }
       groups += m.nGroups;
+      // With the covers let go as the model is built: the same model, and no cover list left.
+      const copy = { ...inst, candidates: inst.candidates.map((c) => ({ ...c, covers: c.covers.slice() })) };
+      const r = preparePlan(copy, true);
+      for (const key of ['gRep', 'gPoints', 'gWeight', 'gReq', 'sigStart', 'sigCand', 'covStart', 'covGroup'] as const) {
+        expect(Array.from(r[key])).toEqual(Array.from(m[key]));
+      }
+      expect(copy.candidates.every((c) => c.covers.length === 0)).toBe(true);
     }
     expect(groups).toBeGreaterThan(500);
+  });
+});
+
+describe('the cover state', () => {
+  it('after any run of adds and removes (sites closed and opened again) equals a state built afresh', () => {
+    let reopened = 0;
+    for (let i = 0; i < 30; i++) {
+      const inst = withGaps(53_000 + i);
+      const m = preparePlan(inst);
+      const st = new CoverState(m);
+      const r = mulberry32(54_000 + i);
+      for (let step = 0; step < 120; step++) {
+        const c = m.allowedList[Math.floor(r() * m.allowedList.length)];
+        const s = m.candSite[c];
+        if (st.chosen[c]) st.remove(c);
+        else {
+          if (st.siteCnt[s] === null && step > 0) reopened++;
+          st.add(c);
+        }
+        // A closed site holds no counts; an open one holds the counts of its chosen candidates.
+        expect(st.siteCnt[s] === null).toBe(st.siteChosen[s] === 0);
+        const fresh = new CoverState(m);
+        for (const x of st.chosenList()) fresh.add(x);
+        expect(st.deficit).toBe(fresh.deficit);
+        expect(Array.from(st.cnt)).toEqual(Array.from(fresh.cnt));
+        for (const x of m.allowedList) expect(st.gain(x)).toBe(fresh.gain(x));
+      }
+    }
+    expect(reopened).toBeGreaterThan(100);
   });
 });

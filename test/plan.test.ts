@@ -324,6 +324,19 @@ describe('budget mode (maximal covering, Church & ReVelle 1974)', () => {
       expect(r.cost).toBeGreaterThanOrEqual(least - 1e-9);
       expect(r.lowerBound).toBeLessThanOrEqual(least + 1e-9);
       if (r.gapPct === 0) expect(r.cost).toBeCloseTo(least, 9);
+      // The least-cost re-solve reuses the budget solve's model: the same plan, bound and log as a solve of the
+      // instance without a budget; and with the covers let go after the model is built, the same result again.
+      const fresh = await solvePlan({ ...inst, budget: undefined });
+      expect([r.chosen, r.cost, r.lowerBound, r.log.slice(-fresh.log.length)]).toEqual([
+        fresh.chosen,
+        fresh.cost,
+        fresh.lowerBound,
+        fresh.log.map((l) => `least cost: ${l}`),
+      ]);
+      const copy = { ...inst, candidates: inst.candidates.map((c) => ({ ...c, covers: c.covers.slice() })) };
+      const released = await solvePlan(copy, { releaseCovers: true });
+      expect(withoutTimings(released)).toBe(withoutTimings(r));
+      expect(copy.candidates.every((c) => c.covers.length === 0)).toBe(true);
       checked++;
     }
     expect(checked).toBeGreaterThanOrEqual(20);

@@ -157,6 +157,8 @@ export async function planCommand(argv: readonly string[], log: (s: string) => v
     // leaves a gap of a few per cent, the MILP closes it at its root node, well within the node limit.
     lpMaxNonzeros: 2_000_000,
     exactMaxCandidates: 1_000,
+    // Nothing here reads the cover lists after the model is built from them.
+    releaseCovers: true,
   });
   const tSolved = performance.now();
   progress.update(0.96, 'layers');

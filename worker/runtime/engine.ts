@@ -989,6 +989,8 @@ export class Engine {
         lpMaxNonzeros: 2_000_000,
         exactMaxCandidates: 1_000,
         highs: this.options.highs,
+        // The instance was built for this solve alone.
+        releaseCovers: true,
       }),
       check,
     );

@@ -11,25 +11,44 @@ import { canonicalCost, isRadarSlot, NK, NS, otherRadarSlot, type PlanModel } fr
  * group (so removing a sensor is exact). `deficit` is the number
  * of unmet capped requirement units (unweighted, an exact integer).
  */
+/**
+ * One opened site's counts: a byte each when no site has more than 255 candidates of one kind (a count never
+ * exceeds its site's candidates of the slot's kind), else two. On the national benchmark at 60″ an opened site's
+ * counts take 7.8 MB instead of 15.6.
+ */
+type SiteCounts = Uint8Array | Uint16Array;
+
 export class CoverState {
   readonly cnt: Uint16Array;
-  readonly siteCnt: (Uint16Array | null)[];
+  /** Per site its counts while it has a chosen candidate, else null (the counts are then all 0). */
+  readonly siteCnt: (SiteCounts | null)[];
   readonly chosen: Uint8Array;
   readonly siteChosen: Int32Array;
   deficit: number;
   work = 0;
-  private readonly zeros: Uint16Array;
+  private readonly zeros: SiteCounts;
+  /** Counts of sites closed again, all 0, for the next site opened (no fresh pages). */
+  private readonly spare: SiteCounts[] = [];
+  private readonly wide: boolean;
   private cachedCost: number | null = null;
 
   constructor(readonly m: PlanModel) {
     this.cnt = new Uint16Array(m.nGroups * NK);
-    this.siteCnt = new Array<Uint16Array | null>(m.nSites).fill(null);
+    this.siteCnt = new Array<SiteCounts | null>(m.nSites).fill(null);
     this.chosen = new Uint8Array(m.nCand);
     this.siteChosen = new Int32Array(m.nSites);
-    this.zeros = new Uint16Array(m.nGroups * NS);
+    const perSlot = new Int32Array(m.nSites * NK);
+    let most = 0;
+    for (let c = 0; c < m.nCand; c++) most = Math.max(most, ++perSlot[m.candSite[c] * NK + m.candKind[c]]);
+    this.wide = most > 255;
+    this.zeros = this.newCounts();
     let d = 0;
     for (let i = 0; i < m.nGroups * NK; i++) d += m.gReq[i];
     this.deficit = d;
+  }
+
+  private newCounts(): SiteCounts {
+    return this.wide ? new Uint16Array(this.m.nGroups * NS) : new Uint8Array(this.m.nGroups * NS);
   }
 
   chosenList(): number[] {
@@ -123,7 +142,7 @@ export class CoverState {
     const s = m.candSite[c];
     const k = m.candKind[c];
     let sc = this.siteCnt[s];
-    if (!sc) sc = this.siteCnt[s] = new Uint16Array(m.nGroups * NS);
+    if (!sc) sc = this.siteCnt[s] = this.spare.pop() ?? this.newCounts();
     const cnt = this.cnt;
     const req = m.gReq;
     const cov = m.covGroup;
@@ -169,7 +188,11 @@ export class CoverState {
     this.deficit = d;
     this.cachedCost = null;
     this.chosen[c] = 0;
-    this.siteChosen[s]--;
+    if (--this.siteChosen[s] === 0) {
+      // Every count of the site is back to 0: its array serves the next site opened.
+      this.siteCnt[s] = null;
+      this.spare.push(sc);
+    }
     this.work += end - m.covStart[c];
   }
 

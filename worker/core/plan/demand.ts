@@ -45,8 +45,13 @@ function checkIndexList(where: string, list: unknown, n: number, what: string): 
   return [...new Set(list as number[])].sort((a, b) => a - b);
 }
 
-/** Validates the instance and builds the aggregated model. Throws InputError with a clear message. */
-export function preparePlan(inst: PlanInstance): PlanModel {
+/**
+ * Validates the instance and builds the aggregated model. Throws InputError with a clear message. `releaseCovers`:
+ * the caller gives up the cover lists, and each candidate's `covers` becomes an empty array as soon as the model no
+ * longer reads it (before the model's largest arrays are made) — but a multilateration receiver's when the
+ * instance bounds accuracy (accuracy.ts reads them next).
+ */
+export function preparePlan(inst: PlanInstance, releaseCovers = false): PlanModel {
   const nSites = inst.sites?.length ?? 0;
   const nCand = inst.candidates?.length ?? 0;
   if (!Array.isArray(inst.sites)) throw new InputError('plan: sites', typeof inst.sites, 'an array of sites');
@@ -319,6 +324,10 @@ export function preparePlan(inst: PlanInstance): PlanModel {
       }
     }
   }
+  if (releaseCovers) {
+    const keepMlat = (inst.accuracy?.points.length ?? 0) > 0;
+    for (const c of inst.candidates) if (!(keepMlat && c.kind === 'mlat')) c.covers = new Uint32Array(0);
+  }
   // Achievable fold per kind = distinct sites in the signature; cap, summarise what cannot be met.
   const siteSeen = new Int32Array(nSites * NK).fill(-1);
   const unmet = new Map<string, Unmeetable>();
@@ -395,23 +404,25 @@ export function preparePlan(inst: PlanInstance): PlanModel {
     gReq.set(allReq.subarray(g * NK, g * NK + NK), l * NK);
     sigStart[l + 1] = sigStart[l] + (allSigStart[g + 1] - allSigStart[g]);
   }
-  const sigCand = new Uint32Array(sigStart[live]);
-  for (let g = 0, o = 0; g < nAll; g++) {
-    if (liveOf[g] < 0) continue;
-    for (let i = allSigStart[g]; i < allSigStart[g + 1]; i++) sigCand[o++] = allSig[i];
+  // The live groups' signatures moved down in place (a live group's new start is never after its old one), so the
+  // signatures are held once, not twice (on the national benchmark at 60″ they are the model's largest array).
+  for (let g = 0; g < nAll; g++) {
+    const l = liveOf[g];
+    if (l >= 0 && sigStart[l] !== allSigStart[g]) allSig.copyWithin(sigStart[l], allSigStart[g], allSigStart[g + 1]);
   }
+  // A view when little is left behind; a copy of its own otherwise.
+  const sigCand =
+    sigStart[live] >= allSig.length - (allSig.length >>> 3)
+      ? allSig.subarray(0, sigStart[live])
+      : allSig.slice(0, sigStart[live]);
   const covStart = new Uint32Array(nCand + 1);
   for (let i = 0; i < sigCand.length; i++) covStart[sigCand[i] + 1]++;
   for (let c = 0; c < nCand; c++) covStart[c + 1] += covStart[c];
-  // Each candidate's live groups, ascending: its covers read in order meet the groups' first points in group order.
+  // Each candidate's live groups, ascending: the signatures' transpose, read in group order.
   const covGroup = new Uint32Array(sigCand.length);
-  for (const c of allowedArr) {
-    const cv = inst.candidates[c].covers;
-    let o = covStart[c];
-    for (let i = 0; i < cv.length; i++) {
-      const g = repGroup[cv[i]];
-      if (g >= 0 && liveOf[g] >= 0) covGroup[o++] = liveOf[g];
-    }
+  {
+    const at = covStart.slice(0, nCand);
+    for (let g = 0; g < live; g++) for (let i = sigStart[g]; i < sigStart[g + 1]; i++) covGroup[at[sigCand[i]]++] = g;
   }
   const order: DemandKind[] = KIND_NAMES;
   const unmeetable = [...unmet.values()].sort(
