@@ -87,7 +87,16 @@ describe('the demand groups', () => {
       // With the covers let go as the model is built: the same model, and no cover list left.
       const copy = { ...inst, candidates: inst.candidates.map((c) => ({ ...c, covers: c.covers.slice() })) };
       const r = preparePlan(copy, true);
-      for (const key of ['gRep', 'gPoints', 'gWeight', 'gReq', 'sigStart', 'sigCand', 'covStart', 'covGroup'] as const) {
+      for (const key of [
+        'gRep',
+        'gPoints',
+        'gWeight',
+        'gReq',
+        'sigStart',
+        'sigCand',
+        'covStart',
+        'covGroup',
+      ] as const) {
         expect(Array.from(r[key])).toEqual(Array.from(m[key]));
       }
       expect(copy.candidates.every((c) => c.covers.length === 0)).toBe(true);

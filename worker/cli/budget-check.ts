@@ -83,6 +83,25 @@ export function checkEstimate(est: Estimate, limit: number, blame: Record<Estima
 }
 
 /**
+ * The refusal of a plan whose arrays, counted as they are made (core/memory-estimate.ts MemoryLedger), would pass
+ * `limit`: `where` names the input that drives the plan's size.
+ */
+export function planRefusal(
+  where: string,
+  limit: number,
+  need: number,
+  what: string,
+  bytes: number,
+): InputError {
+  return new InputError(
+    where,
+    `a plan that needs about ${formatBytes(need)} (${what}: ${formatBytes(bytes)})`,
+    `at most ${formatBytes(limit)} (--max-memory; raise it up to this machine's ${formatBytes(totalmem())}, ` +
+      'or make the plan smaller: coarser grid.cellArcSec, fewer flight levels or volumes, fewer sites or sensor types)',
+  );
+}
+
+/**
  * A DEM tile's header against the limit, before its pixels are decoded: absurd dimensions, and a file whose
  * pixels would not fit. `found` names the file.
  */

@@ -31,7 +31,8 @@ import {
   weatherHelp,
 } from './args.ts';
 import { levelLayers } from '../io/layers.ts';
-import { buildDemand, planInstance, type Demand } from '../io/study.ts';
+import { buildDemand, DEMAND_POINT_BYTES, planInstance, type Demand } from '../io/study.ts';
+import { memoryLimitArg } from './budget-check.ts';
 import { finishRun, RunFolder, runFolderHelp } from './files.ts';
 import { scenarioProvenance } from './provenance.ts';
 import {
@@ -39,6 +40,7 @@ import {
   footprintsFor,
   layoutCandidates,
   openCommandSession,
+  planLedger,
   siteOf,
   type Session,
   SESSION_OPTIONS,
@@ -143,12 +145,16 @@ export async function planCommand(argv: readonly string[], log: (s: string) => v
   const fls = s.flightLevels;
   const altitudes = levelAltitudesM(s, fls);
   const demand = buildDemand(session, fls);
+  // The plan's arrays against --max-memory as their sizes become known (none is before the coverage).
+  const memory = planLedger(session, memoryLimitArg(p));
+  memory.take(DEMAND_POINT_BYTES * demand.cell.length, 'the demand points');
   const inst = planInstance(session, candidates, footprints, demand, altitudes, {
     forced,
     excludedSiteIds: excluded,
     budget,
     timeLimitMs,
     solverNodes,
+    memory,
   });
   const tBuilt = performance.now();
   const result = await solvePlan(inst, {
@@ -159,6 +165,7 @@ export async function planCommand(argv: readonly string[], log: (s: string) => v
     exactMaxCandidates: 1_000,
     // Nothing here reads the cover lists after the model is built from them.
     releaseCovers: true,
+    memory,
   });
   const tSolved = performance.now();
   progress.update(0.96, 'layers');

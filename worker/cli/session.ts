@@ -5,7 +5,13 @@
 import { computeFootprints, type Candidate } from '../core/coverage.ts';
 import { inlineExecutor } from '../core/floor.ts';
 import type { Footprint } from '../core/footprint.ts';
-import { pairWindowCells, studyBlame, studyRun } from '../core/memory-estimate.ts';
+import {
+  heldAfterCoverage,
+  MemoryLedger,
+  pairWindowCells,
+  studyBlame,
+  studyRun,
+} from '../core/memory-estimate.ts';
 import { Terrain } from '../core/terrain.ts';
 import { NodePool } from '../runtime/node-pool.ts';
 import {
@@ -22,6 +28,7 @@ import { NM_M } from '../../shared/units.ts';
 import { applyColdDay, helpOption, one, type Parsed } from './args.ts';
 import {
   checkEstimate,
+  planRefusal,
   estimateRun,
   MEMORY_OPTION,
   memoryHelp,
@@ -234,6 +241,20 @@ export function checkStudyMemory(
   const grid: GridGeo = analysisGrid(loaded, terrain instanceof Terrain ? terrain : null);
   const run = studyRun(s, grid, terrain, studyTargets(s).targets.length, largest);
   checkEstimate(estimateRun(run.shape), limit, studyBlame(loaded.locate, s, grid, run));
+}
+
+/**
+ * A plan's memory account against `limit` (--max-memory): it starts at what the study holds once its coverage is
+ * done (the estimate `checkStudyMemory` checked, its horizons let go), and the plan's stages count their arrays in it
+ * as their sizes become known; the refusal names the analysis grid and the (site, type) pairs, which drive them.
+ */
+export function planLedger(session: Session, limit: number): MemoryLedger {
+  const s = session.loaded.scenario;
+  const run = studyRun(s, session.grid, session.terrain, studyTargets(s).targets.length);
+  const where = studyBlame(session.loaded.locate, s, session.grid, run).footprints;
+  return new MemoryLedger(heldAfterCoverage(estimateRun(run.shape)), limit, (need, what, bytes) =>
+    planRefusal(where, limit, need, what, bytes),
+  );
 }
 
 /**

@@ -377,3 +377,65 @@ export function cellArcSecThatFits(
   }
   return null;
 }
+
+// ---------------------------------------------------------------------------------------------------
+// A plan's arrays, counted as they are made
+
+/**
+ * What a plan's stages count against the run's memory limit (worker/core/plan): `take` before a large array is
+ * made, `give` when one is let go, `fits` to ask first. A plan's size is not known before its coverage is: how many
+ * demand points each candidate covers, then how many groups those points fall into and how many candidates each
+ * group lists. On the national benchmark at 60″ the plan held about twice what its coverage did, and a geometric
+ * bound of the covers (every demand cell within each type's range) came out 3.7 times the covers found there. So
+ * the plan counts its arrays as their sizes become known, and stops with the refusal before making one that would
+ * pass the limit, instead of running out of memory later.
+ */
+export interface MemoryAccount {
+  take(bytes: number, what: string): void;
+  give(bytes: number): void;
+  fits(bytes: number): boolean;
+}
+
+/**
+ * The account of one run: it starts at what the run holds already (`held`, bytes, the estimate of what stays alive
+ * from the stages before), counts each array's bytes times `OVERHEAD` (as `estimateRun` does), and refuses with
+ * `refusal(need, what, bytes)` — the run's need, what would have passed the limit, and the bytes taken for `what`
+ * in all, this take's included (a candidate's cover list is one of many).
+ */
+export class MemoryLedger implements MemoryAccount {
+  private readonly taken = new Map<string, number>();
+
+  constructor(
+    private held: number,
+    readonly limit: number,
+    private readonly refusal: (need: number, what: string, bytes: number) => InputError,
+  ) {}
+
+  /** Bytes counted so far. */
+  get bytes(): number {
+    return this.held;
+  }
+
+  fits(bytes: number): boolean {
+    return this.held + OVERHEAD * bytes <= this.limit;
+  }
+
+  take(bytes: number, what: string): void {
+    const all = (this.taken.get(what) ?? 0) + bytes;
+    if (!this.fits(bytes)) throw this.refusal(this.held + OVERHEAD * bytes, what, all);
+    this.taken.set(what, all);
+    this.held += OVERHEAD * bytes;
+  }
+
+  give(bytes: number): void {
+    this.held -= OVERHEAD * bytes;
+  }
+}
+
+/**
+ * What a study's run holds once its coverage is done (its horizons let go): the runtime, and the estimate's
+ * terrain, grid and footprints with their overhead.
+ */
+export function heldAfterCoverage(est: Estimate): number {
+  return RUNTIME_BYTES + OVERHEAD * (est.parts.terrain + est.parts.grid + est.parts.footprints);
+}

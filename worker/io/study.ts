@@ -11,6 +11,7 @@ import type { Footprint } from '../core/footprint.ts';
 import { MAX_NETWORK_LEVELS, Network } from '../core/network.ts';
 import { WGS84_GEOGRAPHIC, type GridGeo } from '../core/grid.ts';
 import type { AccuracyDemand, PlanInstance } from '../core/plan.ts';
+import type { MemoryAccount } from '../core/memory-estimate.ts';
 import { describeTarget, type SensorModel, type Target } from '../core/sensor.ts';
 import { buildSensorModel } from '../core/sensor-model.ts';
 import { trueAltitudeM, STANDARD_DAY, type Day } from '../core/altimetry.ts';
@@ -284,6 +285,12 @@ export interface Demand {
   blockTarget: Uint8Array;
 }
 
+/**
+ * Bytes per demand point of `Demand`: its volume (2), cell (4), level (1), target (1), weight (8) and five
+ * requirements (1 each).
+ */
+export const DEMAND_POINT_BYTES = 21;
+
 /** Demand points of every volume at the scenario's levels in its band. */
 export function buildDemand(session: Study, fls: readonly number[]): Demand {
   const s = session.loaded.scenario;
@@ -377,6 +384,8 @@ export function planInstance(
     budget?: number;
     timeLimitMs: number;
     solverNodes: number;
+    /** The run's memory account: each candidate's cover list is counted in it as it is made. */
+    memory?: MemoryAccount;
   },
 ): PlanInstance {
   const s = study.loaded.scenario;
@@ -392,7 +401,7 @@ export function planInstance(
       typeId: c.model.spec.id,
       kind: c.model.kind,
       cost: c.model.spec.cost,
-      covers: coveredPoints(footprints[i], demand, altitudesM),
+      covers: counted(coveredPoints(footprints[i], demand, altitudesM), opts.memory),
     })),
     points: demand.instancePoints,
     accuracy: accuracyDemand(study, demand, candidates, altitudesM),
@@ -451,6 +460,12 @@ export function accuracyDemand(
     timingErrorNs,
     altitudeKnown: s.mlatAltitudeAided,
   };
+}
+
+/** A candidate's cover list, counted in the run's memory account when it has one. */
+function counted(covers: Uint32Array, memory: MemoryAccount | undefined): Uint32Array {
+  memory?.take(covers.byteLength, 'the demand points each candidate covers');
+  return covers;
 }
 
 /** Grown as needed and reused: the cover list of one footprint before it is copied out. */

@@ -30,9 +30,13 @@ export class CoverState {
   /** Counts of sites closed again, all 0, for the next site opened (no fresh pages). */
   private readonly spare: SiteCounts[] = [];
   private readonly wide: boolean;
+  /** Bytes of counts made, counted in the run's memory account (`m.memory`) until `dispose`. */
+  private counted: number;
   private cachedCost: number | null = null;
 
   constructor(readonly m: PlanModel) {
+    m.memory?.take(2 * NK * m.nGroups, "the plan's counts per group");
+    this.counted = 2 * NK * m.nGroups;
     this.cnt = new Uint16Array(m.nGroups * NK);
     this.siteCnt = new Array<SiteCounts | null>(m.nSites).fill(null);
     this.chosen = new Uint8Array(m.nCand);
@@ -48,7 +52,16 @@ export class CoverState {
   }
 
   private newCounts(): SiteCounts {
-    return this.wide ? new Uint16Array(this.m.nGroups * NS) : new Uint8Array(this.m.nGroups * NS);
+    const n = this.m.nGroups * NS;
+    this.m.memory?.take(this.wide ? 2 * n : n, "the plan's counts per opened site");
+    this.counted += this.wide ? 2 * n : n;
+    return this.wide ? new Uint16Array(n) : new Uint8Array(n);
+  }
+
+  /** The state is no longer used: its counts are given back to the memory account. */
+  dispose(): void {
+    this.m.memory?.give(this.counted);
+    this.counted = 0;
   }
 
   chosenList(): number[] {

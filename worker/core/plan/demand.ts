@@ -6,6 +6,7 @@
  * what the allowed candidates together reach are capped there and summarised as `unmeetable`.
  */
 import { InputError } from '../../../shared/errors.ts';
+import type { MemoryAccount } from '../memory-estimate.ts';
 import {
   canonicalCost,
   isRadarSlot,
@@ -49,9 +50,10 @@ function checkIndexList(where: string, list: unknown, n: number, what: string): 
  * Validates the instance and builds the aggregated model. Throws InputError with a clear message. `releaseCovers`:
  * the caller gives up the cover lists, and each candidate's `covers` becomes an empty array as soon as the model no
  * longer reads it (before the model's largest arrays are made) — but a multilateration receiver's when the
- * instance bounds accuracy (accuracy.ts reads them next).
+ * instance bounds accuracy (accuracy.ts reads them next). `memory`: the run's account, where the grouping counts its
+ * arrays (and gives back the covers it lets go); the model keeps it for the later stages.
  */
-export function preparePlan(inst: PlanInstance, releaseCovers = false): PlanModel {
+export function preparePlan(inst: PlanInstance, releaseCovers = false, memory?: MemoryAccount): PlanModel {
   const nSites = inst.sites?.length ?? 0;
   const nCand = inst.candidates?.length ?? 0;
   if (!Array.isArray(inst.sites)) throw new InputError('plan: sites', typeof inst.sites, 'an array of sites');
@@ -201,6 +203,8 @@ export function preparePlan(inst: PlanInstance, releaseCovers = false): PlanMode
   }
 
   // Partition refinement: start from classes of equal requirements, split by each allowed candidate's cover.
+  // Per point its class and (below) its group when it is a group's first: two Int32, given back on return.
+  memory?.take(8 * n, 'grouping the demand points');
   const cls = new Int32Array(n).fill(-1);
   const reqKey = new Map<number, number>();
   let nCls = 0;
@@ -313,6 +317,8 @@ export function preparePlan(inst: PlanInstance, releaseCovers = false): PlanMode
     }
   }
   for (let g = 0; g < nAll; g++) allSigStart[g + 1] += allSigStart[g];
+  // The signatures, and per group about 60 bytes of counts, requirements and offsets: known now, before they are made.
+  memory?.take(4 * allSigStart[nAll] + 60 * nAll, "the demand groups' lists of candidates");
   const allSig = new Uint32Array(allSigStart[nAll]);
   {
     const at = allSigStart.slice(0, nAll);
@@ -326,7 +332,11 @@ export function preparePlan(inst: PlanInstance, releaseCovers = false): PlanMode
   }
   if (releaseCovers) {
     const keepMlat = (inst.accuracy?.points.length ?? 0) > 0;
-    for (const c of inst.candidates) if (!(keepMlat && c.kind === 'mlat')) c.covers = new Uint32Array(0);
+    for (const c of inst.candidates) {
+      if (keepMlat && c.kind === 'mlat') continue;
+      memory?.give(c.covers.byteLength);
+      c.covers = new Uint32Array(0);
+    }
   }
   // Achievable fold per kind = distinct sites in the signature; cap, summarise what cannot be met.
   const siteSeen = new Int32Array(nSites * NK).fill(-1);
@@ -408,28 +418,33 @@ export function preparePlan(inst: PlanInstance, releaseCovers = false): PlanMode
   // signatures are held once, not twice (on the national benchmark at 60″ they are the model's largest array).
   for (let g = 0; g < nAll; g++) {
     const l = liveOf[g];
-    if (l >= 0 && sigStart[l] !== allSigStart[g]) allSig.copyWithin(sigStart[l], allSigStart[g], allSigStart[g + 1]);
+    if (l >= 0 && sigStart[l] !== allSigStart[g])
+      allSig.copyWithin(sigStart[l], allSigStart[g], allSigStart[g + 1]);
   }
   // A view when little is left behind; a copy of its own otherwise.
-  const sigCand =
-    sigStart[live] >= allSig.length - (allSig.length >>> 3)
-      ? allSig.subarray(0, sigStart[live])
-      : allSig.slice(0, sigStart[live]);
+  const view = sigStart[live] >= allSig.length - (allSig.length >>> 3);
+  if (!view) memory?.take(4 * sigStart[live], "the demand groups' lists of candidates");
+  const sigCand = view ? allSig.subarray(0, sigStart[live]) : allSig.slice(0, sigStart[live]);
   const covStart = new Uint32Array(nCand + 1);
   for (let i = 0; i < sigCand.length; i++) covStart[sigCand[i] + 1]++;
   for (let c = 0; c < nCand; c++) covStart[c + 1] += covStart[c];
   // Each candidate's live groups, ascending: the signatures' transpose, read in group order.
+  memory?.take(4 * sigCand.length, "each candidate's list of demand groups");
   const covGroup = new Uint32Array(sigCand.length);
   {
     const at = covStart.slice(0, nCand);
-    for (let g = 0; g < live; g++) for (let i = sigStart[g]; i < sigStart[g + 1]; i++) covGroup[at[sigCand[i]]++] = g;
+    for (let g = 0; g < live; g++)
+      for (let i = sigStart[g]; i < sigStart[g + 1]; i++) covGroup[at[sigCand[i]]++] = g;
   }
   const order: DemandKind[] = KIND_NAMES;
   const unmeetable = [...unmet.values()].sort(
     (a, b) =>
       order.indexOf(a.kind) - order.indexOf(b.kind) || a.required - b.required || a.achievable - b.achievable,
   );
+  // The points' classes and groups, and the signatures' first array when they were copied out of it.
+  memory?.give(8 * n + (view ? 0 : allSig.byteLength));
   return {
+    memory,
     nSites,
     siteCost,
     nCand,

@@ -166,6 +166,8 @@ export interface Built {
   rowsImplied: number;
   /** Whether the search for implied rows ran to its end (false: its work budget stopped it; fewer rows dropped). */
   impliedComplete: boolean;
+  /** The search did not run: its arrays would have passed the run's memory limit. */
+  impliedOverMemory: boolean;
   nonzeros: number;
   /** Budget mode: objective constant of the rows left out (counted as fully covered, negative: minimisation). */
   offset: number;
@@ -209,7 +211,7 @@ export function impliedRows(
   rowG: readonly number[],
   rowK: readonly number[],
   work: number,
-): { dropped: Uint8Array; complete: boolean } {
+): { dropped: Uint8Array; complete: boolean; overMemory?: boolean } {
   const nRows = rowG.length;
   const dropped = new Uint8Array(nRows);
   // A row's length is packed with its need below (length · 256 in an Int32): beyond 2^23 candidates, no search.
@@ -223,6 +225,28 @@ export function impliedRows(
       if (countsToward(m.candKind[m.sigCand[i]], k)) n++;
     start[id + 1] = start[id] + n;
   }
+  // Its arrays below (two Int32 per list entry, 25 bytes per row, 8 per candidate): when the run's memory account
+  // cannot hold them, no search (the model is only larger), and the log says why.
+  const bytes = 8 * start[nRows] + 25 * nRows + 8 * m.nCand;
+  if (m.memory && !m.memory.fits(bytes)) return { dropped, complete: false, overMemory: true };
+  m.memory?.take(bytes, 'the search for implied rows');
+  try {
+    return searchImplied(m, rowG, rowK, work, start, dropped);
+  } finally {
+    m.memory?.give(bytes);
+  }
+}
+
+/** impliedRows' search, over each row's candidate count (`start`, CSR offsets); marks the rows it drops. */
+function searchImplied(
+  m: PlanModel,
+  rowG: readonly number[],
+  rowK: readonly number[],
+  work: number,
+  start: Int32Array,
+  dropped: Uint8Array,
+): { dropped: Uint8Array; complete: boolean } {
+  const nRows = rowG.length;
   const list = new Int32Array(start[nRows]);
   const maskLo = new Int32Array(nRows);
   const maskHi = new Int32Array(nRows);
@@ -517,6 +541,7 @@ export function buildModel(
     rowsTotal,
     rowsImplied,
     impliedComplete: implied === null || implied.complete,
+    impliedOverMemory: implied?.overMemory === true,
     nonzeros: indices.length,
     offset,
     rowLower: Float64Array.from(rowLower),
@@ -665,8 +690,9 @@ export async function boundPlan(
   o.onProgress?.(0, 'LP bound');
   const b = buildModel(m, inf, o.lpMaxNonzeros);
   const full = b.rowsUsed + b.rowsImplied === b.rowsTotal;
-  const impliedNote =
-    b.rowsImplied > 0 || !b.impliedComplete
+  const impliedNote = b.impliedOverMemory
+    ? '; no search for rows implied by others (its lists would pass the memory limit)'
+    : b.rowsImplied > 0 || !b.impliedComplete
       ? `; ${b.rowsImplied} implied by others and left out${b.impliedComplete ? '' : ' (search stopped at its work budget)'}`
       : '';
   log.push(

@@ -14,6 +14,7 @@
  * a sensor already standing, see `PlanInstance.standing`): what the plan spends anew, the objective.
  */
 import { FOLD_KINDS, type FoldKind, type SensorKind } from '../../../shared/sensor-kinds.ts';
+import type { MemoryAccount } from '../memory-estimate.ts';
 
 export type Kind = SensorKind;
 export type DemandKind = FoldKind;
@@ -126,6 +127,8 @@ export function otherRadarSlot(k: number): number {
 }
 
 export interface PlanModel {
+  /** The run's memory account, when it has one: the later stages count their large arrays in it. */
+  memory?: MemoryAccount;
   nSites: number;
   /** Effective site cost: 0 for an existing site. */
   siteCost: Float64Array;

@@ -18,6 +18,7 @@ import { preparePlan } from './demand.ts';
 import { greedyLazyOn, stateWithForced } from './greedy.ts';
 import { localSearchBudget, localSearchCover, type SearchCtx } from './improve.ts';
 import { boundPlan, SAFETY_LIMIT_NOTE, type HighsInit } from './lp-bound.ts';
+import type { MemoryAccount } from '../memory-estimate.ts';
 import { relLess, type PlanInstance, type PlanModel, type Unmeetable } from './model.ts';
 
 /** Interior-point iterations allowed to the LP bound (it converges in 13–42 on the demo, cover or budget). */
@@ -42,6 +43,11 @@ export interface PlanOptions {
    * budget plan's least-cost re-solve reuses the model).
    */
   releaseCovers?: boolean;
+  /**
+   * The run's memory account (worker/core/memory-estimate.ts): the stages count their large arrays in it and stop
+   * with its refusal before one would pass the limit. The caller has counted the cover lists in it.
+   */
+  memory?: MemoryAccount;
 }
 
 export interface PlanResult {
@@ -103,9 +109,14 @@ export async function solvePlan(inst: PlanInstance, opts: PlanOptions = {}): Pro
   const t = nowMs();
   (opts.onProgress ?? (() => {}))(0, 'prepare');
   checkAccuracy(inst);
-  const m = preparePlan(withImpliedMlatFolds(inst), opts.releaseCovers);
+  const m = preparePlan(withImpliedMlatFolds(inst), opts.releaseCovers, opts.memory);
   const acc = prepareAccuracy(inst, m);
-  if (opts.releaseCovers) for (const c of inst.candidates) c.covers = new Uint32Array(0);
+  if (opts.releaseCovers) {
+    for (const c of inst.candidates) {
+      opts.memory?.give(c.covers.byteLength);
+      c.covers = new Uint32Array(0);
+    }
+  }
   return solvePrepared(inst, m, acc, opts, t);
 }
 
@@ -182,6 +193,7 @@ async function solvePrepared(
       }
     }
     if (!method.startsWith('MILP')) method += `, MILP ${bound.milpStatus}`;
+    check.dispose();
   }
   method += bound.method ? `, ${bound.method}` : '';
   const final = new CoverState(m);
@@ -242,7 +254,13 @@ async function solvePrepared(
     log.push(`budget: every requirement met at cost ${cost} ≤ budget ${m.budget}; planning for least cost`);
     // The same model without the budget (preparePlan builds it alike, the budget apart): no second pass over the
     // covers, which the caller may have let go (`releaseCovers`).
-    const least = await solvePrepared({ ...inst, budget: undefined }, { ...m, budget: undefined }, acc, opts, nowMs());
+    const least = await solvePrepared(
+      { ...inst, budget: undefined },
+      { ...m, budget: undefined },
+      acc,
+      opts,
+      nowMs(),
+    );
     if (least.demandMet && !relLess(cost, least.cost)) {
       return {
         ...least,
@@ -316,6 +334,7 @@ function heuristicPlan(
         log.push(`greedy: the best single candidate ${best} beat the greedy set`);
       }
     }
+    base.dispose();
   }
   log.push(`greedy: ${picks.length} picks, cost ${st.cost()}, deficit ${st.deficit} units`);
   lap('greedy');
@@ -335,7 +354,9 @@ function heuristicPlan(
       `cost ${st.cost()}`,
   );
   lap('localSearch');
-  return { chosen: st.chosenList(), cost: st.cost(), weight: st.coveredWeight(), method };
+  const result = { chosen: st.chosenList(), cost: st.cost(), weight: st.coveredWeight(), method };
+  st.dispose();
+  return result;
 }
 
 /**

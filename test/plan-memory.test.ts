@@ -1,0 +1,108 @@
+/**
+ * A plan's arrays counted against the run's memory limit as their sizes become known (worker/core/memory-estimate.ts
+ * `MemoryLedger`, worker/core/plan): with room to spare the plan is the same as without an account; with a limit
+ * just short of what one of its takes raised the count to, it stops with the refusal naming what would have passed
+ * the limit — or, when that was the optional search for implied rows, plans without the search: the same plan, and
+ * a valid bound.
+ */
+import { describe, expect, it } from 'vitest';
+import { InputError, isInputError } from '../shared/errors.ts';
+import { MemoryLedger, OVERHEAD } from '../worker/core/memory-estimate.ts';
+import { solvePlan, type PlanInstance, type PlanResult } from '../worker/core/plan.ts';
+import { mixedKindInstance, shortfalls, siteCostInstance } from './support/plan-check.ts';
+
+/** A copy whose cover lists the solve may let go. */
+function copyOf(inst: PlanInstance): PlanInstance {
+  return { ...inst, candidates: inst.candidates.map((c) => ({ ...c, covers: c.covers.slice() })) };
+}
+
+/** A ledger that starts where the caller has counted the covers, and keeps what it was asked. */
+function ledger(inst: PlanInstance, limit: number) {
+  const refused: string[] = [];
+  const steps: { what: string; held: number }[] = [];
+  const l = new MemoryLedger(0, limit, (need, what) => {
+    refused.push(what);
+    return new InputError('plan test', `${Math.round(need)} bytes (${what})`, `at most ${limit}`);
+  });
+  const take = l.take.bind(l);
+  l.take = (bytes: number, what: string) => {
+    take(bytes, what);
+    steps.push({ what, held: l.bytes });
+  };
+  for (const c of inst.candidates) l.take(c.covers.byteLength, 'covers');
+  return { l, refused, steps };
+}
+
+const opts = { releaseCovers: true, exactMaxCandidates: 0, exactMaxNonzeros: 0, lpMaxNonzeros: 1e9 };
+
+function same(r: PlanResult): unknown {
+  const { stageMs: _t, log, ...rest } = r;
+  return { ...rest, log: log.filter((l) => !l.startsWith('LP:')) };
+}
+
+describe('the plan counted in the memory account', () => {
+  const cases = [
+    ...Array.from({ length: 10 }, (_, i) => siteCostInstance(61_000 + i)),
+    ...Array.from({ length: 10 }, (_, i) => mixedKindInstance(62_000 + i)),
+  ];
+
+  it('with room to spare: the same plan; the covers given back; just short of each high: the refusal or no search', async () => {
+    let refusals = 0;
+    let skipped = 0;
+    for (const inst of cases) {
+      const plain = await solvePlan(copyOf(inst), opts);
+      const roomy = ledger(inst, Infinity);
+      const covers = roomy.l.bytes;
+      const r = await solvePlan(copyOf(inst), { ...opts, memory: roomy.l });
+      expect(same(r)).toEqual(same(plain));
+      expect(r.log).toEqual(plain.log);
+      // The covers were given back, so the plan's stages hold less than the covers and their own arrays together.
+      const peak = Math.max(...roomy.steps.map((s) => s.held));
+      expect(roomy.l.bytes).toBeLessThan(peak);
+      expect(roomy.steps.some((s) => s.what === "the demand groups' lists of candidates")).toBe(true);
+      expect(peak).toBeGreaterThan(covers);
+      // Each take that raised the most held so far, with a limit just short of it: that take is the first to
+      // pass the limit (every one before held less).
+      let high = covers;
+      for (const at of roomy.steps) {
+        if (at.held <= high) continue;
+        high = at.held;
+        const short = ledger(inst, at.held - 0.01);
+        const run = solvePlan(copyOf(inst), { ...opts, memory: short.l });
+        if (at.what === 'the search for implied rows') {
+          const s = await run;
+          expect(s.log.some((l) => l.includes('no search for rows implied by others'))).toBe(true);
+          // The same heuristic plan, and a valid bound (read from the duals of HiGHS's solve over more rows, it
+          // may come out another value).
+          expect([s.cost, s.chosen]).toEqual([r.cost, r.chosen]);
+          expect(s.lowerBound).toBeLessThanOrEqual(s.cost);
+          expect(shortfalls(inst, s.chosen)).toEqual([]);
+          skipped++;
+        } else {
+          const e = await run.then(
+            () => null,
+            (x: unknown) => x,
+          );
+          expect(isInputError(e)).toBe(true);
+          expect((e as InputError).found).toContain(at.what);
+          expect(short.refused).toEqual([at.what]);
+          refusals++;
+        }
+      }
+    }
+    // Both ways are seen.
+    expect(refusals).toBeGreaterThan(0);
+    expect(skipped).toBeGreaterThan(0);
+  });
+
+  it('counts each array times the overhead, and refuses before it passes the limit', () => {
+    const l = new MemoryLedger(1000, 1000 + OVERHEAD * 100, () => new InputError('x', 'too much', 'less'));
+    expect(l.fits(100)).toBe(true);
+    expect(l.fits(101)).toBe(false);
+    l.take(60, 'a');
+    expect(l.bytes).toBe(1000 + OVERHEAD * 60);
+    expect(() => l.take(41, 'b')).toThrow(/too much/);
+    l.give(60);
+    expect(l.bytes).toBe(1000);
+  });
+});
