@@ -5,32 +5,32 @@
  * the limit — or, when that was the optional search for implied rows, plans without the search: the same plan, and
  * a valid bound.
  */
-import { describe, expect, it } from 'vitest';
+import { existsSync, mkdtempSync, readdirSync, rmSync } from 'node:fs';
+import { tmpdir } from 'node:os';
+import { join } from 'node:path';
+import { afterAll, describe, expect, it } from 'vitest';
 import { InputError, isInputError } from '../shared/errors.ts';
 import { MemoryLedger, OVERHEAD } from '../worker/core/memory-estimate.ts';
 import { solvePlan, type PlanInstance, type PlanResult } from '../worker/core/plan.ts';
 import { mixedKindInstance, shortfalls, siteCostInstance } from './support/plan-check.ts';
+import { runCli } from './support/run-cli.ts';
 
 /** A copy whose cover lists the solve may let go. */
 function copyOf(inst: PlanInstance): PlanInstance {
   return { ...inst, candidates: inst.candidates.map((c) => ({ ...c, covers: c.covers.slice() })) };
 }
 
-/** A ledger that starts where the caller has counted the covers, and keeps what it was asked. */
+/** A ledger that starts where the caller has counted the covers, and keeps each take's count. */
 function ledger(inst: PlanInstance, limit: number) {
-  const refused: string[] = [];
   const steps: { what: string; held: number }[] = [];
-  const l = new MemoryLedger(0, limit, (need, what) => {
-    refused.push(what);
-    return new InputError('plan test', `${Math.round(need)} bytes (${what})`, `at most ${limit}`);
-  });
+  const l = new MemoryLedger({ held: 0, limit, where: 'plan test', knob: 'the test' });
   const take = l.take.bind(l);
   l.take = (bytes: number, what: string) => {
     take(bytes, what);
     steps.push({ what, held: l.bytes });
   };
   for (const c of inst.candidates) l.take(c.covers.byteLength, 'covers');
-  return { l, refused, steps };
+  return { l, steps };
 }
 
 const opts = { releaseCovers: true, exactMaxCandidates: 0, exactMaxNonzeros: 0, lpMaxNonzeros: 1e9 };
@@ -84,8 +84,11 @@ describe('the plan counted in the memory account', () => {
             (x: unknown) => x,
           );
           expect(isInputError(e)).toBe(true);
-          expect((e as InputError).found).toContain(at.what);
-          expect(short.refused).toEqual([at.what]);
+          expect((e as InputError).where).toBe('plan test');
+          expect((e as InputError).found).toContain(`(${at.what}: `);
+          expect((e as InputError).expected).toContain('(the test)');
+          // Nothing was counted past the take before it.
+          expect(short.steps.every((x) => x.held < at.held)).toBe(true);
           refusals++;
         }
       }
@@ -96,13 +99,46 @@ describe('the plan counted in the memory account', () => {
   });
 
   it('counts each array times the overhead, and refuses before it passes the limit', () => {
-    const l = new MemoryLedger(1000, 1000 + OVERHEAD * 100, () => new InputError('x', 'too much', 'less'));
+    const l = new MemoryLedger({ held: 1000, limit: 1000 + OVERHEAD * 100, where: 'x', knob: 'y' });
     expect(l.fits(100)).toBe(true);
     expect(l.fits(101)).toBe(false);
-    l.take(60, 'a');
+    l.take(30, 'a');
+    l.take(30, 'a');
     expect(l.bytes).toBe(1000 + OVERHEAD * 60);
-    expect(() => l.take(41, 'b')).toThrow(/too much/);
+    // The refusal names what, with what it took in all.
+    expect(() => l.take(41, 'a')).toThrow(
+      /^x: found a plan that needs about 1 MiB \(a: 1 MiB\); expected at most 1 MiB \(y\)$/,
+    );
     l.give(60);
     expect(l.bytes).toBe(1000);
+    expect(l.spec()).toEqual({ held: 1000, limit: 1000 + OVERHEAD * 100, where: 'x', knob: 'y' });
   });
+});
+
+describe('airshade plan past --max-memory', () => {
+  const dir = mkdtempSync(join(tmpdir(), 'airshade-plan-memory-'));
+  afterAll(() => rmSync(dir, { recursive: true, force: true }));
+
+  it('the demo under 950M: its coverage fits, its plan does not — one message, before anything is written', async () => {
+    const out = join(dir, 'out');
+    const r = await runCli(
+      'plan',
+      'data/demo-scenario.json',
+      '--budget',
+      'none',
+      '--out',
+      out,
+      '--max-memory',
+      '950M',
+      '--quiet',
+    );
+    expect(r.code).toBe(2);
+    const lines = r.err.trim().split('\n');
+    expect(lines).toHaveLength(1);
+    expect(lines[0]).toMatch(
+      /^airshade plan: data\/demo-scenario\.json: grid\.cellArcSec \(30″: 600 × 600 cells\) with 165 \(site, type\) pairs: found a plan that needs about \d+ MiB \((the|each) .+: \d+ MiB\); expected at most 950 MiB \(--max-memory; raise it up to this machine's .*fewer sites or sensor types\)$/,
+    );
+    // Nothing of the plan was written.
+    expect(existsSync(out) ? readdirSync(out).filter((f) => !f.startsWith('airshade-run')) : []).toEqual([]);
+  }, 120_000);
 });

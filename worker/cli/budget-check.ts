@@ -82,22 +82,11 @@ export function checkEstimate(est: Estimate, limit: number, blame: Record<Estima
   if (refusal) throw refusal;
 }
 
-/**
- * The refusal of a plan whose arrays, counted as they are made (core/memory-estimate.ts MemoryLedger), would pass
- * `limit`: `where` names the input that drives the plan's size.
- */
-export function planRefusal(
-  where: string,
-  limit: number,
-  need: number,
-  what: string,
-  bytes: number,
-): InputError {
-  return new InputError(
-    where,
-    `a plan that needs about ${formatBytes(need)} (${what}: ${formatBytes(bytes)})`,
-    `at most ${formatBytes(limit)} (--max-memory; raise it up to this machine's ${formatBytes(totalmem())}, ` +
-      'or make the plan smaller: coarser grid.cellArcSec, fewer flight levels or volumes, fewer sites or sensor types)',
+/** How a plan's limit is set, and what makes a plan smaller: the refusal's words (core/memory-estimate.ts MemoryLedger). */
+export function planKnob(): string {
+  return (
+    `--max-memory; raise it up to this machine's ${formatBytes(totalmem())}, ` +
+    'or make the plan smaller: coarser grid.cellArcSec, fewer flight levels or volumes, fewer sites or sensor types'
   );
 }
 

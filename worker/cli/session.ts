@@ -28,7 +28,7 @@ import { NM_M } from '../../shared/units.ts';
 import { applyColdDay, helpOption, one, type Parsed } from './args.ts';
 import {
   checkEstimate,
-  planRefusal,
+  planKnob,
   estimateRun,
   MEMORY_OPTION,
   memoryHelp,
@@ -252,9 +252,12 @@ export function planLedger(session: Session, limit: number): MemoryLedger {
   const s = session.loaded.scenario;
   const run = studyRun(s, session.grid, session.terrain, studyTargets(s).targets.length);
   const where = studyBlame(session.loaded.locate, s, session.grid, run).footprints;
-  return new MemoryLedger(heldAfterCoverage(estimateRun(run.shape)), limit, (need, what, bytes) =>
-    planRefusal(where, limit, need, what, bytes),
-  );
+  return new MemoryLedger({
+    held: heldAfterCoverage(estimateRun(run.shape)),
+    limit,
+    where,
+    knob: planKnob(),
+  });
 }
 
 /**

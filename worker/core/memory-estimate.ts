@@ -397,32 +397,53 @@ export interface MemoryAccount {
 }
 
 /**
+ * A memory account as plain data, to rebuild it on the other side of a worker's message (the app's planner runs in
+ * a worker): what it holds, its limit, the input its refusal names (`where`) and how the limit is set (`knob`).
+ */
+export interface LedgerSpec {
+  held: number;
+  limit: number;
+  where: string;
+  knob: string;
+}
+
+/**
  * The account of one run: it starts at what the run holds already (`held`, bytes, the estimate of what stays alive
- * from the stages before), counts each array's bytes times `OVERHEAD` (as `estimateRun` does), and refuses with
- * `refusal(need, what, bytes)` — the run's need, what would have passed the limit, and the bytes taken for `what`
- * in all, this take's included (a candidate's cover list is one of many).
+ * from the stages before), counts each array's bytes times `OVERHEAD` (as `estimateRun` does), and refuses with one
+ * message: `where` (the input that drives the size), the run's need, what would have passed the limit with the bytes
+ * taken for it in all (this take's included: a candidate's cover list is one of many), and the limit with `knob`.
  */
 export class MemoryLedger implements MemoryAccount {
   private readonly taken = new Map<string, number>();
+  private held: number;
 
-  constructor(
-    private held: number,
-    readonly limit: number,
-    private readonly refusal: (need: number, what: string, bytes: number) => InputError,
-  ) {}
+  constructor(private readonly at: LedgerSpec) {
+    this.held = at.held;
+  }
 
   /** Bytes counted so far. */
   get bytes(): number {
     return this.held;
   }
 
+  /** The account as it stands, as data. */
+  spec(): LedgerSpec {
+    return { ...this.at, held: this.held };
+  }
+
   fits(bytes: number): boolean {
-    return this.held + OVERHEAD * bytes <= this.limit;
+    return this.held + OVERHEAD * bytes <= this.at.limit;
   }
 
   take(bytes: number, what: string): void {
     const all = (this.taken.get(what) ?? 0) + bytes;
-    if (!this.fits(bytes)) throw this.refusal(this.held + OVERHEAD * bytes, what, all);
+    if (!this.fits(bytes)) {
+      throw new InputError(
+        this.at.where,
+        `a plan that needs about ${formatBytes(this.held + OVERHEAD * bytes)} (${what}: ${formatBytes(all)})`,
+        `at most ${formatBytes(this.at.limit)} (${this.at.knob})`,
+      );
+    }
     this.taken.set(what, all);
     this.held += OVERHEAD * bytes;
   }

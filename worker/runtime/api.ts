@@ -13,6 +13,7 @@ import {
   type GridSweepTask,
 } from '../core/grid-sweep.ts';
 import type { PlanInstance, PlanOptions, PlanResult } from '../core/plan.ts';
+import { MemoryLedger, type LedgerSpec } from '../core/memory-estimate.ts';
 
 let terrain: Terrain | null = null;
 
@@ -85,11 +86,14 @@ export const api = {
     opts: Omit<PlanOptions, 'highs' | 'onProgress'>,
     wasmUrl: string | null,
     onProgress?: (fraction: number, stage: string) => void,
+    /** The caller's memory account as it stands (the covers counted), rebuilt here for the solve. */
+    memory?: LedgerSpec,
   ): Promise<PlanResult> {
     // Loaded on first use: a worker that only sweeps terrain starts without the planner and its solver.
     const { solvePlan } = await import('../core/plan.ts');
     return solvePlan(inst, {
       ...opts,
+      ...(memory ? { memory: new MemoryLedger(memory) } : {}),
       onProgress,
       ...(wasmUrl ? { highs: { locateFile: () => wasmUrl } } : {}),
     });

@@ -9,6 +9,7 @@ import { InputError } from '../../shared/errors.ts';
 import highsWasmUrl from 'highs/runtime?url';
 import type { WorkerApi } from './api.ts';
 import { inlineExecutor } from '../core/floor.ts';
+import { MemoryLedger } from '../core/memory-estimate.ts';
 import { solvePlan } from '../core/plan.ts';
 import { Engine, type ImageLayer, type ProgressFn, type SensorRef, type PlanRequest } from './engine.ts';
 import type { FoldKind } from '../core/network.ts';
@@ -34,7 +35,8 @@ const engine = new Engine(
     solve: (inst, opts) => {
       const remote = pool && shared ? pool.remotes[pool.remotes.length - 1] : null;
       if (!remote) return solvePlan(inst, opts);
-      const { onProgress, highs: _highs, ...rest } = opts;
+      // The memory account crosses as data and is rebuilt there (a class does not survive the message).
+      const { onProgress, highs: _highs, memory, ...rest } = opts;
       const buffers = [
         ...inst.candidates.map((c) => c.covers.buffer as ArrayBuffer),
         inst.points.weight.buffer as ArrayBuffer,
@@ -48,6 +50,7 @@ const engine = new Engine(
         rest,
         wasmUrl,
         onProgress ? proxy(onProgress) : undefined,
+        memory instanceof MemoryLedger ? memory.spec() : undefined,
       );
     },
   },

@@ -42,6 +42,8 @@ import {
   estimateRun,
   footprintBytes,
   GiB,
+  heldAfterCoverage,
+  MemoryLedger,
   studyBlame,
   studyRun,
   tileFileRefusal,
@@ -82,6 +84,7 @@ import {
 import {
   analysisGrid,
   buildDemand,
+  DEMAND_POINT_BYTES,
   candidate,
   checkNetworkLevels,
   layerMeta,
@@ -966,6 +969,15 @@ export class Engine {
     const fls = s.flightLevels;
     const altitudes = levelAltitudesM(study.loaded.scenario, fls);
     const demand = buildDemand(study, fls);
+    // The plan's arrays against the app's limit as their sizes become known (as the CLI's plan counts them).
+    const run = studyRun(s, study.grid, study.terrain, studyTargets(s).targets.length);
+    const memory = new MemoryLedger({
+      held: heldAfterCoverage(estimateRun(run.shape)),
+      limit: this.memoryLimitBytes(),
+      where: studyBlame(study.loaded.locate, s, study.grid, run).footprints,
+      knob: `${APP_MEMORY_KNOB}; or a smaller plan: a coarser grid.cellArcSec, fewer flight levels, sites or types`,
+    });
+    memory.take(DEMAND_POINT_BYTES * demand.cell.length, 'the demand points');
     const budget = req.budget === undefined ? s.budget : (req.budget ?? undefined);
     const forced = req.keep.map((k) => all.findIndex((r) => r.siteId === k.siteId && r.typeId === k.typeId));
     const inst = planInstance(
@@ -979,6 +991,7 @@ export class Engine {
         budget,
         timeLimitMs: req.timeLimitMs ?? DEFAULT_SAFETY_TIME_LIMIT_MS,
         solverNodes: req.solverNodes ?? DEFAULT_SOLVER_NODES,
+        memory,
       },
     );
     check();
@@ -991,6 +1004,7 @@ export class Engine {
         highs: this.options.highs,
         // The instance was built for this solve alone.
         releaseCovers: true,
+        memory,
       }),
       check,
     );
