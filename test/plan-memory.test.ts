@@ -5,7 +5,7 @@
  * the limit — or, when that was the optional search for implied rows, plans without the search: the same plan, and
  * a valid bound.
  */
-import { existsSync, mkdtempSync, readdirSync, rmSync } from 'node:fs';
+import { existsSync, mkdtempSync, readdirSync, rmSync, statSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { afterAll, describe, expect, it } from 'vitest';
@@ -115,6 +115,18 @@ describe('the plan counted in the memory account', () => {
   });
 });
 
+/** Every file under a cache folder with its modification time. */
+function cacheFiles(root: string): Map<string, number> {
+  const out = new Map<string, number>();
+  for (const e of readdirSync(root, { recursive: true, withFileTypes: true })) {
+    if (e.isFile()) {
+      const p = join(e.parentPath ?? (e as { path?: string }).path ?? root, e.name);
+      out.set(p, statSync(p).mtimeMs);
+    }
+  }
+  return out;
+}
+
 describe('airshade plan past --max-memory', () => {
   const dir = mkdtempSync(join(tmpdir(), 'airshade-plan-memory-'));
   afterAll(() => rmSync(dir, { recursive: true, force: true }));
@@ -136,9 +148,24 @@ describe('airshade plan past --max-memory', () => {
     const lines = r.err.trim().split('\n');
     expect(lines).toHaveLength(1);
     expect(lines[0]).toMatch(
-      /^airshade plan: data\/demo-scenario\.json: grid\.cellArcSec \(30″: 600 × 600 cells\) with 165 \(site, type\) pairs: found a plan that needs about \d+ MiB \((the|each) .+: \d+ MiB\); expected at most 950 MiB \(--max-memory; raise it up to this machine's .*fewer sites or sensor types\)$/,
+      /^airshade plan: data\/demo-scenario\.json: grid\.cellArcSec \(30″: 600 × 600 cells\) with 165 \(site, type\) pairs: found a plan that needs about \d+ MiB \((the|each) .+: \d+ MiB\); expected at most 950 MiB \(--max-memory; raise it up to this machine's .*fewer sites or sensor types; with --cache DIR the next run keeps the footprints it computes\)$/,
     );
     // Nothing of the plan was written.
     expect(existsSync(out) ? readdirSync(out).filter((f) => !f.startsWith('airshade-run')) : []).toEqual([]);
   }, 120_000);
+
+  it('with --cache the refusal keeps the footprints computed, and the next run with room plans from them', async () => {
+    const cache = join(dir, 'cache');
+    const args = ['plan', 'data/demo-scenario.json', '--budget', 'none', '--cache', cache, '--quiet'];
+    const refused = await runCli(...args, '--out', join(dir, 'c1'), '--max-memory', '950M');
+    expect(refused.code).toBe(2);
+    expect(refused.err).toContain('the footprints computed are in the --cache folder for the next run');
+    const kept = cacheFiles(cache);
+    expect(kept.size).toBeGreaterThan(0);
+    const next = await runCli(...args, '--out', join(dir, 'c2'), '--max-memory', '2G');
+    expect(next.code).toBe(0);
+    expect(existsSync(join(dir, 'c2', 'plan.json'))).toBe(true);
+    // Read from the cache, not computed again: the same files, none rewritten.
+    expect(cacheFiles(cache)).toEqual(kept);
+  }, 180_000);
 });

@@ -256,7 +256,7 @@ export function planLedger(session: Session, limit: number): MemoryLedger {
     held: heldAfterCoverage(estimateRun(run.shape)),
     limit,
     where,
-    knob: planKnob(),
+    knob: planKnob(session.cacheDir !== undefined),
   });
 }
 
