@@ -132,4 +132,35 @@ describe('the cover state', () => {
     }
     expect(reopened).toBeGreaterThan(100);
   });
+
+  it('counts past 255 candidates of one kind on one site (two bytes a count there)', () => {
+    // One site, 300 secondary sensors covering the one point, which needs one: each removal but the last keeps it met.
+    const inst: PlanInstance = {
+      sites: [{ id: 's', cost: 1, existing: false }],
+      candidates: Array.from({ length: 300 }, (_, j) => ({
+        siteIndex: 0,
+        typeId: `t${j}`,
+        kind: 'secondary' as const,
+        cost: 1,
+        covers: Uint32Array.of(0),
+      })),
+      points: {
+        count: 1,
+        weight: Float64Array.of(1),
+        reqAny: Uint8Array.of(0),
+        reqPrimary: Uint8Array.of(0),
+        reqSecondary: Uint8Array.of(1),
+      },
+    };
+    const st = new CoverState(preparePlan(inst));
+    for (let c = 0; c < 300; c++) st.add(c);
+    // One site: a fold of one, for 'any' and for secondary (slots 0 and 2), however many of its sensors cover it.
+    expect(Array.from(st.cnt.subarray(0, 3))).toEqual([1, 0, 1]);
+    for (let c = 0; c < 299; c++) {
+      st.remove(c);
+      expect(st.deficit).toBe(0);
+    }
+    st.remove(299);
+    expect(st.deficit).toBe(1);
+  });
 });

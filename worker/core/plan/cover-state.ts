@@ -6,18 +6,18 @@
 import { canonicalCost, isRadarSlot, NK, NS, otherRadarSlot, type PlanModel } from './model.ts';
 
 /**
- * Counts for a chosen set: per group and kind the distinct sites covering it (NK kind slots, 'any' counting sites
- * with a radar), and per opened site and sensor kind (NS slots) the number of its chosen candidates covering each
- * group (so removing a sensor is exact). `deficit` is the number
- * of unmet capped requirement units (unweighted, an exact integer).
- */
-/**
  * One opened site's counts: a byte each when no site has more than 255 candidates of one kind (a count never
  * exceeds its site's candidates of the slot's kind), else two. On the national benchmark at 60″ an opened site's
  * counts take 7.8 MB instead of 15.6.
  */
 type SiteCounts = Uint8Array | Uint16Array;
 
+/**
+ * Counts for a chosen set: per group and kind the distinct sites covering it (NK kind slots, 'any' counting sites
+ * with a radar), and per opened site and sensor kind (NS slots) the number of its chosen candidates covering each
+ * group (so removing a sensor is exact). `deficit` is the number
+ * of unmet capped requirement units (unweighted, an exact integer).
+ */
 export class CoverState {
   readonly cnt: Uint16Array;
   /** Per site its counts while it has a chosen candidate, else null (the counts are then all 0). */
