@@ -62,6 +62,8 @@ picks greedily by covered demand per cost (lazy evaluation), prunes and swaps, a
 LP relaxation (HiGHS; the exact MILP on small instances), so the plan reports its own gap.
 With a budget (--budget, or the scenario's budget) it covers the most demand within the budget instead.
 Writes DIR/plan.json and DIR/plan-coverage-FL050.geojson … (the plan's coverage layers).
+Memory: the coverage is estimated before it starts; the plan's own arrays (which depend on what each sensor
+covers) are counted as they are made, and the run stops before one would pass --max-memory.
 
 Options:
   --keep LAYOUT     the sensors of this layout are kept by force (e.g. the existing network); those on sites
