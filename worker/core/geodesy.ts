@@ -322,9 +322,7 @@ export class VectorMap implements VectorMapParts {
     block?: number,
     cells?: { row0: number; row1: number; col0: number; col1: number },
   ): VectorMap {
-    const b = VectorMap.blockFor(width, height, mapper, block);
-    const nodesX = Math.ceil((width - 1) / b) + 1;
-    const nodesY = Math.ceil((height - 1) / b) + 1;
+    const { b, nodesX, nodesY } = VectorMap.lattice(width, height, mapper, block);
     const v = new Float64Array(nodesX * nodesY * 2);
     // A cell at column c reads nodes ⌊c/b⌋ and the next (kept within the lattice).
     const x0 = cells ? Math.max(0, Math.floor(cells.col0 / b)) : 0;
@@ -343,6 +341,17 @@ export class VectorMap implements VectorMapParts {
       }
     }
     return new VectorMap({ width, height, block: b, nodesX, nodesY, v });
+  }
+
+  /** The lattice `build` tabulates: its spacing `b` (cells between nodes) and its nodes across and down. */
+  private static lattice(
+    width: number,
+    height: number,
+    mapper: PixelMapper,
+    block?: number,
+  ): { b: number; nodesX: number; nodesY: number } {
+    const b = VectorMap.blockFor(width, height, mapper, block);
+    return { b, nodesX: Math.ceil((width - 1) / b) + 1, nodesY: Math.ceil((height - 1) / b) + 1 };
   }
 
   /** The lattice spacing `build` uses (cells between nodes). */
@@ -366,9 +375,7 @@ export class VectorMap implements VectorMapParts {
     mapper: PixelMapper,
     block?: number,
   ): number {
-    const b = VectorMap.blockFor(width, height, mapper, block);
-    const nodesX = Math.ceil((width - 1) / b) + 1;
-    const nodesY = Math.ceil((height - 1) / b) + 1;
+    const { b, nodesX, nodesY } = VectorMap.lattice(width, height, mapper, block);
     const ll = [0, 0];
     const out = [0, 0];
     let m = 0;
