@@ -324,6 +324,57 @@ describe('Network: what-if toggles', () => {
     );
   });
 
+  it('a network that lets each site go once counted (addSite with release) has the same folds, floor and contributing sites; only its kept sites switch', () => {
+    fc.assert(
+      fc.property(caseArb, fc.array(fc.boolean(), { minLength: 4, maxLength: 4 }), (k0, letGo) => {
+        // Receivers too: the released radars' floor must leave them out, as networkFloor does.
+        const k = {
+          ...k0,
+          footprints: k0.footprints.map((f, i) => (i % 3 === 2 ? { ...f, kind: 'adsb' as const } : f)),
+        };
+        const bySite = sitesOf(k).map((site) => k.footprints.filter((f) => f.siteId === site));
+        const ordered = bySite.flat();
+        const kinds = new Set(k.footprints.map((f) => f.kind));
+        const lean = new Network(k.cells, k.altitudesM, [], undefined, undefined, { kinds, targets: 1 });
+        const released = new Set<string>();
+        bySite.forEach((group, g) => {
+          lean.addSite(group, { release: letGo[g] });
+          if (letGo[g]) released.add(group[0].siteId);
+        });
+        const whole = new Network(k.cells, k.altitudesM, ordered);
+        const same = () => {
+          expect(snapshot(lean)).toEqual(snapshot(whole));
+          expect(Array.from(lean.networkFloor())).toEqual(Array.from(whole.networkFloor()));
+          k.altitudesM.forEach((_, f) => {
+            for (const kind of KINDS)
+              expect(lean.contributingSites(kind, f)).toEqual(whole.contributingSites(kind, f));
+          });
+        };
+        same();
+        expect(lean.siteIds()).toEqual(whole.siteIds());
+        // The released sensors hold no cells; their ids and kinds stay.
+        lean.footprints.forEach((fp, i) => {
+          expect([fp.siteId, fp.typeId, fp.kind]).toEqual([
+            ordered[i].siteId,
+            ordered[i].typeId,
+            ordered[i].kind,
+          ]);
+          if (released.has(fp.siteId)) expect(fp.lo.length + fp.hi.length).toBe(0);
+        });
+        for (const site of sitesOf(k)) {
+          if (released.has(site)) {
+            expect(() => lean.setSite(site, false)).toThrow(/let go/);
+            expect(() => lean.siteCells(site)).toThrow(/let go/);
+          } else {
+            lean.setSite(site, false);
+            whole.setSite(site, false);
+          }
+          same();
+        }
+      }),
+    );
+  });
+
   it('siteIds lists each site of the footprints once', () => {
     fc.assert(
       fc.property(caseArb, (k) => {

@@ -11,12 +11,12 @@ import {
   conventionsText,
   layerMeta,
   levelAltitudesM,
-  studyNetwork,
   grownStudyNetwork,
   modelWarnings,
   studyConventions,
 } from '../io/study.ts';
 import { volumeStats, type VolumeLevelStats } from '../core/volumes.ts';
+import type { Footprint } from '../core/footprint.ts';
 import { stringifyGeoJson } from '../io/geojson.ts';
 import { encodeGeoTiff } from '../io/geotiff-write.ts';
 import { undated } from '../io/provenance.ts';
@@ -111,6 +111,9 @@ export async function coverageCommand(
     threads,
     { path: outDir, kind: 'folder' },
     flArg && { list: flArg, where: '--fl' },
+    undefined,
+    // Its network counts each site's footprints and lets them go (below): one site's held at a time.
+    'one site',
   );
   const s = session.loaded.scenario;
   const grid = session.grid;
@@ -122,22 +125,24 @@ export async function coverageCommand(
   const sweep = parseKSweep(one(p, 'k-sweep'));
   for (const w of modelWarnings(session)) log(`warning: ${w}`);
   const tSetup = performance.now();
-  // Without a footprint cache the network grows site by site while the pool sweeps the next sites (the same
-  // network as one built from all the footprints after: test/coverage.test.ts); with one, it is built after.
-  const grown =
-    session.cacheDir === undefined
-      ? grownStudyNetwork(session, fls, new Set(candidates.map((c) => c.model.kind)))
-      : null;
-  const result = {
-    footprints: await footprintsFor(session, candidates, {
-      weather,
-      progress,
-      onSite: grown ? (fps) => grown.addSite(fps) : undefined,
-    }),
-  };
+  // The network grows site by site while the pool sweeps the next sites (the same network as one built from all
+  // the footprints after: test/coverage.test.ts), and lets each site's footprints go once counted: the run holds
+  // one site's at a time, not every sensor's (the national box at 15″: 31.7 GiB of footprints otherwise). The first
+  // site keeps its own, for the what-if figure below; the multilateration receivers' are kept for their accuracy.
+  const kinds = new Set(candidates.map((c) => c.model.kind));
+  const network = grownStudyNetwork(session, fls, kinds);
+  const sensors: { siteId: string; typeId: string; kind: Footprint['kind'] }[] = [];
+  const kept = await footprintsFor(session, candidates, {
+    weather,
+    progress,
+    onSite: (fps) => {
+      network.addSite(fps, { release: sensors.length > 0 });
+      for (const fp of fps) sensors.push({ siteId: fp.siteId, typeId: fp.typeId, kind: fp.kind });
+    },
+    retain: (fp) => fp.kind === 'mlat',
+  });
   const tFootprints = performance.now();
   const altitudes = levelAltitudesM(s, fls);
-  const network = grown ?? studyNetwork(session, fls, result.footprints);
   const tNetwork = performance.now();
   // The what-if figure: switching one site off and on again from the cached footprints.
   const someSite = network.siteIds()[0];
@@ -182,10 +187,11 @@ export async function coverageCommand(
     }),
   );
   // Multilateration accuracy per level, when the network has mlat receivers (issue 14).
+  const byPair = new Map(candidates.map((c) => [pairKey(c.site.id, c.model.spec.id), c]));
   const mlat = writeMlatOutputs(
     session,
-    candidates,
-    result.footprints,
+    kept.map((fp) => byPair.get(pairKey(fp.siteId, fp.typeId))!),
+    kept,
     fls,
     altitudes,
     (n, d) => run.write(n, d),
@@ -213,7 +219,7 @@ export async function coverageCommand(
     weatherMode: weather,
     network: {
       label: choice.label,
-      sensors: result.footprints.map((fp) => ({ siteId: fp.siteId, typeId: fp.typeId, kind: fp.kind })),
+      sensors,
     },
     volumes: stats,
     ...(mlat
@@ -244,8 +250,12 @@ export async function coverageCommand(
     for (const k of sweep) {
       progress.update(0.95, `refraction k = ${k}`);
       const atK = { ...session, loaded: { ...session.loaded, scenario: { ...s, earth: { kFactor: k } } } };
-      const fps = await footprintsFor(atK, candidates, { weather });
-      const net = studyNetwork(atK, fls, fps);
+      const net = grownStudyNetwork(atK, fls, kinds);
+      await footprintsFor(atK, candidates, {
+        weather,
+        onSite: (fps) => net.addSite(fps, { release: true }),
+        retain: () => false,
+      });
       cases.push({
         kFactor: k,
         volumes: volumeStats(net, s.volumes, masks, fls, grid, session.volumeTargets, session.ground),
@@ -404,3 +414,8 @@ function kSweepTable(
 }
 
 const round1 = (x: number) => Math.round(x * 10) / 10;
+
+/** A (site, type) pair's key. */
+function pairKey(siteId: string, typeId: string): string {
+  return `${siteId}\u0000${typeId}`;
+}

@@ -8,6 +8,7 @@ import type { Footprint } from '../core/footprint.ts';
 import {
   heldAfterCoverage,
   MemoryLedger,
+  type FootprintHold,
   pairWindowCells,
   studyBlame,
   studyRun,
@@ -127,6 +128,8 @@ export interface SessionOptions {
    * still taken before any footprint is computed.
    */
   deferWorkCheck?: boolean;
+  /** Which footprints the command holds at once (memory-estimate.ts `FootprintHold`; default every pair's). */
+  hold?: FootprintHold;
 }
 
 /** The session options as the command line gives them (`out` from the command itself). */
@@ -151,6 +154,7 @@ export async function openCommandSession(
   out: NonNullable<SessionOptions['out']>,
   runLevels?: SessionOptions['runLevels'],
   siteRange?: SessionOptions['siteRange'],
+  hold?: FootprintHold,
 ): Promise<{ session: Session; progress: ProgressLine }> {
   const progress = new ProgressLine(command, p.flags.has('quiet'));
   const cacheText = one(p, 'cache');
@@ -159,6 +163,7 @@ export async function openCommandSession(
     ...sessionOptions(p, out),
     runLevels,
     siteRange,
+    hold,
     deferWorkCheck: cacheDir !== undefined,
   });
   applyColdDay(p, session.loaded.scenario);
@@ -216,10 +221,11 @@ export async function openSession(
         { geo: { width: pixels, height: 1 }, metresPerPixel: (lon, lat) => first.metresPerPixel(lon, lat) },
         largest,
         limit,
+        opts.hold,
       );
     },
   });
-  checkStudyMemory(checked, terrain, largest, limit);
+  checkStudyMemory(checked, terrain, largest, limit, opts.hold);
   const limitMin = opts.maxWorkMin ?? workLimitArg({ positional: [], values: new Map(), flags: new Set() });
   if (!opts.deferWorkCheck) checkStudyWork(checked, terrain, threads, limitMin);
   const study: Session = openStudy(loaded, terrain, threads, opts.runLevels);
@@ -236,10 +242,11 @@ export function checkStudyMemory(
   terrain: Terrain | Parameters<typeof studyRun>[2],
   largest: TileShape | undefined,
   limit: number,
+  hold?: FootprintHold,
 ): void {
   const s = loaded.scenario;
   const grid: GridGeo = analysisGrid(loaded, terrain instanceof Terrain ? terrain : null);
-  const run = studyRun(s, grid, terrain, studyTargets(s).targets.length, largest);
+  const run = studyRun(s, grid, terrain, studyTargets(s).targets.length, largest, hold);
   checkEstimate(estimateRun(run.shape), limit, studyBlame(loaded.locate, s, grid, run));
 }
 
@@ -319,10 +326,15 @@ export interface FootprintsOptions {
   /** With a cache: told of each site read from it or written to it (e.g. `airshade footprints`' report). */
   onCache?: (event: { siteId: string; file: string; read: boolean }) => void;
   /**
-   * Without a cache: handed each site's footprints as soon as they are done, in the order they are returned, while
-   * the pool sweeps the next sites (`airshade coverage` grows its network there). Not called with a cache.
+   * Handed each site's footprints in the order they are returned: as soon as they are done, while the pool sweeps
+   * the next sites (`airshade coverage` grows its network there), and a cached site's as its file is read in turn.
    */
   onSite?: (footprints: readonly Footprint[]) => void;
+  /**
+   * Which footprints the result keeps (default all). With it, a cached site's file is read when its turn comes and
+   * its footprints handed to `onSite`, so that a caller that counts and lets them go holds one site's at a time.
+   */
+  retain?: (fp: Footprint) => boolean;
 }
 
 /**
@@ -347,6 +359,7 @@ export async function footprintsFor(
     const onSite = opts.onSite;
     return computeFor(session, candidates, job, opts, onSite && ((_, fps) => onSite(fps)));
   }
+  const retain = opts.retain;
   const grid = session.grid;
   const groups = siteGroups(candidates).map((group) => {
     const inputs = footprintInputs(session, group, job);
@@ -363,33 +376,55 @@ export async function footprintsFor(
         `footprint cache: ${join(dir, cacheFileName(key))}: found footprints of ${found.map((f) => `${f.siteId}/${f.typeId}`).join(', ')}; expected ${group.map((c) => `${c.site.id}/${c.model.spec.id}`).join(', ')}; computing this site again`,
       );
     }
-    return { group, inputs, key, footprints: fits ? found : null };
+    // Read again in turn when the caller lets each site's go (`retain`): one site's footprints held at a time.
+    return { group, inputs, key, cached: fits, footprints: fits && retain === undefined ? found : null };
   });
   for (const g of groups) {
-    if (g.footprints) opts.onCache?.({ siteId: g.group[0].site.id, file: g.key, read: true });
+    if (g.cached) opts.onCache?.({ siteId: g.group[0].site.id, file: g.key, read: true });
   }
-  const missing = groups.filter((g) => g.footprints === null);
+  const missing = groups.filter((g) => !g.cached);
   if (session.workCheck) {
     // The time estimate for the sites still to sweep, before any is computed.
     const { loaded, limitMin } = session.workCheck;
     const swept = new Set(missing.map((g) => g.group[0].site.id));
     checkStudyWork(loaded, session.terrain, session.threads, limitMin, swept);
   }
+  // Each site's footprints go to `onSite` in the groups' order: a cached site's as soon as the sites before it
+  // have gone, a computed one's when it is done.
+  let handed = 0;
+  const handTo = (end: number) => {
+    for (; handed < end; handed++) {
+      const g = groups[handed];
+      if (g.cached && g.footprints === null) {
+        const again = readCachedSite(dir, g.key, grid, () => {});
+        if (again === null) {
+          throw new Error(
+            `footprint cache: ${join(dir, cacheFileName(g.key))} changed while this run read it`,
+          );
+        }
+        g.footprints = again;
+      }
+      opts.onSite?.(g.footprints!);
+      if (retain !== undefined) g.footprints = g.footprints!.filter(retain);
+    }
+  };
   if (missing.length > 0) {
     const bySite = new Map(missing.map((g) => [g.group[0].site.id, g]));
     await computeFor(
       session,
       missing.flatMap((g) => g.group),
       job,
-      opts,
+      { ...opts, retain: undefined },
       (site, fps) => {
         const g = bySite.get(site.id)!;
         g.footprints = fps;
         const file = writeCachedSite(dir, g.key, g.inputs, fps, grid);
         opts.onCache?.({ siteId: site.id, file, read: false });
+        handTo(groups.indexOf(g) + 1);
       },
     );
   }
+  handTo(groups.length);
   return groups.flatMap((g) => g.footprints!);
 }
 
@@ -417,7 +452,11 @@ async function computeFor(
         multipath: job.multipath,
       },
       pool ? pool.executor() : inlineExecutor(terrain),
-      { onProgress: (f, stage) => opts.progress?.update(from + span * f, stage), onSiteDone },
+      {
+        onProgress: (f, stage) => opts.progress?.update(from + span * f, stage),
+        onSiteDone,
+        retain: opts.retain,
+      },
     );
     return r.footprints;
   } finally {

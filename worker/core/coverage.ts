@@ -96,6 +96,11 @@ export async function computeFootprints(
      * the end: on the national benchmark at 60″, 3.2 GB; so only for tools that read them.
      */
     keepSiteFloors?: boolean;
+    /**
+     * Which footprints the result keeps (default all): a caller that hands each site's footprints on in
+     * `onSiteDone` (e.g. to a network that counts and lets them go) keeps only those it reads after.
+     */
+    retain?: (fp: Footprint) => boolean;
   } = {},
 ): Promise<{ footprints: Footprint[]; siteFloors: SiteFloor[] }> {
   const bySite = new Map<string, Candidate[]>();
@@ -183,45 +188,58 @@ export async function computeFootprints(
   };
   // One site ahead (two ran the demo no faster once the pool posts its pieces at once, for 70 MiB more).
   let next = groups.length > 0 ? floorOf(groups[0]) : null;
-  for (let g = 0; g < groups.length; g++) {
-    const cands = groups[g];
-    const site = cands[0].site;
-    const res = await next!;
-    // The polar buffer is free again (the resampling is done): the next site's sweep takes it.
-    if (!opts.cache) spare.buffer = res.tan.buffer;
-    next = g + 1 < groups.length ? floorOf(groups[g + 1]) : null;
-    const { distance, maxRangeM } = res;
-    if (opts.keepSiteFloors) {
-      siteFloors.push({
-        site,
-        floor: res.floor,
-        distance,
-        antennaAltM: res.antennaAltM,
-        groundM: res.groundM,
-      });
-    }
-    const sea = req.multipath ? seaMask(terrain, req.grid, site, distance, maxRangeM, res.window) : null;
-    const first = footprints.length;
-    for (const c of cands) {
-      // Between footprints, let a pool's replies in: the next site's sweep ends while this thread works, and its
-      // resampling is posted from here; without the pause the workers idled that long (about 1 s of 10 on the
-      // demo's 33 sites). Inline there is nothing to let in.
-      if (exec.shared) await yieldToEvents();
-      const fp = footprintFor(c, c.target, res, maxRangeM, sea);
-      if (req.extraTargets?.length) {
-        // Targets that differ only in what this type does not depend on share its footprint.
-        const key0 = c.model.targetKey(c.target);
-        fp.byTarget = req.extraTargets.map((t) =>
-          c.model.targetKey(t) === key0 ? fp : footprintFor(c, t, res, maxRangeM, sea),
-        );
+  try {
+    for (let g = 0; g < groups.length; g++) {
+      const cands = groups[g];
+      const site = cands[0].site;
+      const res = await next!;
+      // The polar buffer is free again (the resampling is done): the next site's sweep takes it.
+      if (!opts.cache) spare.buffer = res.tan.buffer;
+      next = g + 1 < groups.length ? floorOf(groups[g + 1]) : null;
+      const { distance, maxRangeM } = res;
+      if (opts.keepSiteFloors) {
+        siteFloors.push({
+          site,
+          floor: res.floor,
+          distance,
+          antennaAltM: res.antennaAltM,
+          groundM: res.groundM,
+        });
       }
-      footprints.push(fp);
+      const sea = req.multipath ? seaMask(terrain, req.grid, site, distance, maxRangeM, res.window) : null;
+      const first = footprints.length;
+      for (const c of cands) {
+        // Between footprints, let a pool's replies in: the next site's sweep ends while this thread works, and its
+        // resampling is posted from here; without the pause the workers idled that long (about 1 s of 10 on the
+        // demo's 33 sites). Inline there is nothing to let in.
+        if (exec.shared) await yieldToEvents();
+        const fp = footprintFor(c, c.target, res, maxRangeM, sea);
+        if (req.extraTargets?.length) {
+          // Targets that differ only in what this type does not depend on share its footprint.
+          const key0 = c.model.targetKey(c.target);
+          fp.byTarget = req.extraTargets.map((t) =>
+            c.model.targetKey(t) === key0 ? fp : footprintFor(c, t, res, maxRangeM, sea),
+          );
+        }
+        footprints.push(fp);
+      }
+      await opts.onSiteDone?.(site, footprints.slice(first));
+      const retain = opts.retain;
+      if (retain !== undefined) {
+        let kept = first;
+        for (let i = first; i < footprints.length; i++)
+          if (retain(footprints[i])) footprints[kept++] = footprints[i];
+        footprints.length = kept;
+      }
+      // The footprints are built: the site's floor and distances serve a later site (unless handed out).
+      if (!opts.keepSiteFloors) spare.grids.push(res.floor, res.distance);
+      done++;
+      opts.onProgress?.(done / groups.length, `${site.name}: done`);
     }
-    await opts.onSiteDone?.(site, footprints.slice(first));
-    // The footprints are built: the site's floor and distances serve a later site (unless handed out).
-    if (!opts.keepSiteFloors) spare.grids.push(res.floor, res.distance);
-    done++;
-    opts.onProgress?.(done / groups.length, `${site.name}: done`);
+  } catch (e) {
+    // The site ahead is left: its failure, if any, is not this run's to report (this one is).
+    next?.catch(() => {});
+    throw e;
   }
   return { footprints, siteFloors };
 }

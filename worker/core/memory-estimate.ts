@@ -242,6 +242,8 @@ export function studyRun(
   terrain: Pick<Terrain, 'metresPerPixel'> & { geo: { width: number; height: number } },
   targets: number,
   largestTile?: TileShape,
+  /** Which footprints the run holds at once (`FootprintHold`; default every pair's). */
+  hold: FootprintHold = 'every pair',
 ): StudyRun {
   const typeCount = s.sensorTypes.length;
   const pairs = s.sites.reduce((n, f) => n + (f.properties.allowedTypes?.length ?? typeCount), 0);
@@ -264,7 +266,7 @@ export function studyRun(
   );
   const cellM = Math.min(grid.pixelX * Math.cos((lat * Math.PI) / 180), -grid.pixelY) * 111_320;
   const shape: RunShape = {
-    pairWindowCells: pairWindowCells(s, grid),
+    pairWindowCells: pairWindowCells(s, grid, hold),
     terrainPixels: terrain.geo.width * terrain.geo.height,
     largestTile,
     cells: grid.width * grid.height,
@@ -307,12 +309,20 @@ function farthestCornerM(grid: GridGeo, lon: number, lat: number): number {
 }
 
 /**
- * Cells of every allowed (site, type) pair's window added up: per pair, the box of its type's reach (maxRangeKm
- * and its instrumented range) around the site, in cells no larger than the grid's smallest (its row farthest
- * from the equator, a degree of meridian at its shortest), clipped to the grid's size — an upper bound of what
- * worker/core/coverage.ts `rangeWindow` gives.
+ * Which footprints a run holds at once: every allowed pair's (a plan, an outage, the app), or `one site` at a time
+ * (`airshade coverage`: its network counts each site's and lets them go, worker/core/network.ts `addSite` with
+ * `release`) besides those it keeps — the first site's (for its what-if figure) and the multilateration
+ * receivers' (for their accuracy maps).
  */
-export function pairWindowCells(s: Scenario, grid: GridGeo): number {
+export type FootprintHold = 'every pair' | 'one site';
+
+/**
+ * Cells of the pairs' windows a run holds at once (`hold`), added up: per pair, the box of its type's reach
+ * (maxRangeKm and its instrumented range) around the site, in cells no larger than the grid's smallest (its row
+ * farthest from the equator, a degree of meridian at its shortest), clipped to the grid's size — an upper bound of
+ * what worker/core/coverage.ts `rangeWindow` gives.
+ */
+export function pairWindowCells(s: Scenario, grid: GridGeo, hold: FootprintHold = 'every pair'): number {
   const lat0 = grid.originY;
   const lat1 = grid.originY + grid.height * grid.pixelY;
   const far = Math.min(89.9, Math.max(Math.abs(lat0), Math.abs(lat1)));
@@ -330,9 +340,22 @@ export function pairWindowCells(s: Scenario, grid: GridGeo): number {
     }),
   );
   const all = s.sensorTypes.map((t) => t.id);
+  const mlat = new Set(s.sensorTypes.filter((t) => t.kind === 'mlat').map((t) => t.id));
   let n = 0;
-  for (const f of s.sites) for (const id of f.properties.allowedTypes ?? all) n += byType.get(id) ?? 0;
-  return n;
+  let kept = 0;
+  let mostOfOneSite = 0;
+  s.sites.forEach((f, i) => {
+    let site = 0;
+    for (const id of f.properties.allowedTypes ?? all) {
+      const cells = byType.get(id) ?? 0;
+      site += cells;
+      if (i > 0 && mlat.has(id)) kept += cells;
+    }
+    n += site;
+    if (i === 0) kept += site;
+    mostOfOneSite = Math.max(mostOfOneSite, site);
+  });
+  return hold === 'every pair' ? n : Math.min(n, kept + mostOfOneSite);
 }
 
 /**

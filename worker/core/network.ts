@@ -54,6 +54,13 @@ export class Network {
 
   /** The sensors' footprints, in the order the network was given them (site by site when grown: `addSite`). */
   private readonly list: Footprint[];
+  /**
+   * Sites added with `release` (`addSite`): counted in the folds, their sensors' footprints and level bits let go
+   * (`list` keeps each as `released`, a footprint with no cells). Their sensors cannot be switched.
+   */
+  private readonly releasedSites = new Set<string>();
+  /** The released radars' floor (lowest covered altitude per cell), made at the first release; NaN where none. */
+  private releasedFloor: Float32Array | null = null;
 
   constructor(
     readonly cells: number,
@@ -142,9 +149,11 @@ export class Network {
   /**
    * Adds one site's sensors, all on (a network built site by site while the pool sweeps the next sites: the same
    * folds, bits and order as a network given the same footprints at once). The site must be new to the network and
-   * its sensors of kinds and targets the network was made for.
+   * its sensors of kinds and targets the network was made for. With `release`, the site's footprints and level
+   * bits are let go once counted (`release`): the folds, floor and contributing sites are the same, but the site
+   * can no longer be switched (that throws).
    */
-  addSite(footprints: readonly Footprint[]): void {
+  addSite(footprints: readonly Footprint[], opts: { release?: boolean } = {}): void {
     if (footprints.length === 0) return;
     const site = footprints[0].siteId;
     if (this.bySite.has(site)) throw new Error(`Network.addSite: site '${site}' is in the network already`);
@@ -166,6 +175,31 @@ export class Network {
     }
     this.bySite.set(site, members);
     this.applySite(site, +1);
+    if (opts.release) this.release(site, members);
+  }
+
+  /**
+   * Lets go of a site's footprints and level bits once its folds are counted (`addSite` with `release`): a run that
+   * only reads the folds, the floor and which sites contribute (`airshade coverage`) then holds one site's arrays at
+   * a time, not every sensor's. Each sensor keeps its kind, ids and `anyAt`; the radars' floor is lowered first.
+   */
+  private release(site: string, members: readonly number[]): void {
+    for (const i of members) {
+      const fp = this.list[i];
+      if (isRadarKind(fp.kind))
+        lowerFloor((this.releasedFloor ??= new Float32Array(this.cells).fill(NaN)), fp);
+      // Its anyAt stays: applySite has just made its bits (every member is on), and with them the levels it reaches.
+      this.bits[i] = null;
+      this.list[i] = released(fp);
+    }
+    this.releasedSites.add(site);
+  }
+
+  /** Throws when `siteId`'s arrays were let go (`addSite` with `release`): what needs them cannot be answered. */
+  private heldSite(siteId: string, what: string): void {
+    if (this.releasedSites.has(siteId)) {
+      throw new Error(`Network: ${what} of site '${siteId}', whose footprints were let go once counted`);
+    }
   }
 
   /**
@@ -176,9 +210,9 @@ export class Network {
     return (this.bits[i] ??= this.levelBitsOf(i));
   }
 
-  /** Bit f set iff footprint i covers any cell at altitudesM[f] (its bits made first). */
+  /** Bit f set iff footprint i covers any cell at altitudesM[f] (its bits made first; a released sensor's kept). */
   private anyAtOf(i: number): number {
-    this.bitsFor(i);
+    if (!this.releasedSites.has(this.list[i].siteId)) this.bitsFor(i);
     return this.anyAt[i];
   }
 
@@ -200,6 +234,7 @@ export class Network {
   setSensor(index: number, on: boolean): boolean {
     if (this.active[index] === on) return false;
     const site = this.footprints[index].siteId;
+    this.heldSite(site, 'switching a sensor');
     this.applySite(site, -1);
     this.active[index] = on;
     this.applySite(site, +1);
@@ -208,6 +243,7 @@ export class Network {
 
   /** Cells where any active sensor of the site covers some flight level (the only cells its outage can change). */
   siteCells(siteId: string): Int32Array {
+    this.heldSite(siteId, 'the cells');
     const list = (this.bySite.get(siteId) ?? []).filter((i) => this.active[i]);
     const out: number[] = [];
     this.orSite(list, (cell) => {
@@ -225,6 +261,7 @@ export class Network {
   setSite(siteId: string, on: boolean): void {
     const list = this.bySite.get(siteId);
     if (!list) return;
+    this.heldSite(siteId, 'switching');
     this.applySite(siteId, -1);
     for (const i of list) this.active[i] = on;
     this.applySite(siteId, +1);
@@ -343,9 +380,9 @@ export class Network {
    * floor of studies without receivers does not move, and a receiver's reception is not radar cover.
    */
   networkFloor(): Float32Array {
-    const out = new Float32Array(this.cells).fill(NaN);
+    const out = this.releasedFloor?.slice() ?? new Float32Array(this.cells).fill(NaN);
     this.footprints.forEach((fp, i) => {
-      if (!this.active[i] || !isRadarKind(fp.kind)) return;
+      if (!this.active[i] || !isRadarKind(fp.kind) || this.releasedSites.has(fp.siteId)) return;
       lowerFloor(out, fp);
     });
     return out;
@@ -374,6 +411,13 @@ function addBits(fold: Uint16Array[], base: number, cell: number, b: number, sig
     fold[base + f][cell] += sign;
     b &= b - 1;
   }
+}
+
+/** A footprint's ids and kind with no cells (an empty window): what a released network keeps of a sensor. */
+function released(fp: Footprint): Footprint {
+  const none = new Uint16Array(0);
+  const w = { row0: 0, row1: 0, col0: 0, col1: 0, width: fp.window.width };
+  return { siteId: fp.siteId, typeId: fp.typeId, kind: fp.kind, lo: none, hi: none, window: w };
 }
 
 /** A footprint's bits window: its window joined with its other targets'. */
