@@ -6,7 +6,7 @@
  * largest site's (in flight), and the multilateration receivers' (kept for their accuracy maps). The commands that
  * keep every footprint (plan, outage, compare, the app) are still counted for every pair.
  */
-import { mkdtempSync, readFileSync, rmSync } from 'node:fs';
+import { mkdtempSync, readdirSync, readFileSync, rmSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { afterAll, describe, expect, it } from 'vitest';
@@ -75,5 +75,39 @@ describe('airshade coverage under a limit that every footprint at once would pas
     // Every sensor is listed, though their footprints were let go; the what-if figure is still measured.
     expect(summary.network.sensors).toHaveLength(165);
     expect(summary.timingsMs.siteToggle).toBeGreaterThanOrEqual(0);
+  }, 120_000);
+
+  it('airshade footprints fills a cache under the same limit; coverage reads it site by site into the same layers', async () => {
+    const cache = join(dir, 'cache');
+    const shard = await runCli(
+      'footprints',
+      'data/demo-scenario.json',
+      '--cache',
+      cache,
+      '--max-memory',
+      '750M',
+      '--quiet',
+    );
+    expect(shard.err).not.toMatch(/expected at most/);
+    expect(shard.code).toBe(0);
+    expect(readdirSync(cache).filter((f) => f.endsWith('.footprints'))).toHaveLength(33);
+    const cov = await runCli(
+      'coverage',
+      'data/demo-scenario.json',
+      '--out',
+      join(dir, 'cc'),
+      '--cache',
+      cache,
+      '--max-memory',
+      '750M',
+      '--quiet',
+    );
+    expect(cov.code).toBe(0);
+    // The same features as the run without the cache (the test before), level by level.
+    const features = (d: string, name: string) =>
+      JSON.parse(readFileSync(join(dir, d, name), 'utf8')).features;
+    const levels = readdirSync(join(dir, 'c')).filter((f) => /^coverage-FL\d+\.geojson$/.test(f));
+    expect(levels.length).toBeGreaterThan(0);
+    for (const name of levels) expect(features('cc', name), name).toEqual(features('c', name));
   }, 120_000);
 });

@@ -30,6 +30,7 @@ import {
   cacheHelp,
   CACHE_OPTION,
   footprintsFor,
+  KEEP_NONE,
   networkChoice,
   openCommandSession,
   SESSION_OPTIONS,
@@ -254,7 +255,7 @@ export async function coverageCommand(
       await footprintsFor(atK, candidates, {
         weather,
         onSite: (fps) => net.addSite(fps, { release: true }),
-        retain: () => false,
+        retain: KEEP_NONE,
       });
       cases.push({
         kFactor: k,

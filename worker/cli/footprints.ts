@@ -9,6 +9,7 @@ import { coldDayHelp, one, parseArgs, required, scenarioArg, threadsArg, weather
 import {
   CACHE_OPTION,
   footprintsFor,
+  KEEP_NONE,
   networkChoice,
   openCommandSession,
   SESSION_OPTIONS,
@@ -87,6 +88,8 @@ export async function footprintsCommand(argv: readonly string[], log: (s: string
     { path: cacheDir, kind: 'folder' },
     undefined,
     (n) => (sitesText === undefined ? [1, n] : parseSiteRange(sitesText, n)),
+    // Each site's footprints are written to the cache as they are done and not kept (below).
+    'one site',
   );
   const sites = session.loaded.scenario.sites;
   const [first, last] = sitesText === undefined ? [1, sites.length] : parseSiteRange(sitesText, sites.length);
@@ -101,6 +104,7 @@ export async function footprintsCommand(argv: readonly string[], log: (s: string
     progress,
     share: [0, 1],
     onCache: (e) => (e.read ? skipped : written).push(e.siteId),
+    retain: KEEP_NONE,
   });
   progress.done();
   const range = first === last ? `site ${first}` : `sites ${first}..${last}`;

@@ -319,6 +319,9 @@ export function checkStudyWork(
   return est;
 }
 
+/** `FootprintsOptions.retain` that keeps none (a cached site's file is then read again only for `onSite`). */
+export const KEEP_NONE = (): boolean => false;
+
 export interface FootprintsOptions {
   weather?: boolean;
   progress?: ProgressLine;
@@ -395,6 +398,11 @@ export async function footprintsFor(
   const handTo = (end: number) => {
     for (; handed < end; handed++) {
       const g = groups[handed];
+      if (g.cached && g.footprints === null && opts.onSite === undefined && retain === KEEP_NONE) {
+        // Nothing to hand them to and nothing kept: the file is not read again.
+        g.footprints = [];
+        continue;
+      }
       if (g.cached && g.footprints === null) {
         const again = readCachedSite(dir, g.key, grid, () => {});
         if (again === null) {

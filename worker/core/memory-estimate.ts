@@ -311,8 +311,9 @@ function farthestCornerM(grid: GridGeo, lon: number, lat: number): number {
 /**
  * Which footprints a run holds at once: every allowed pair's (a plan, an outage, the app), or `one site` at a time
  * (`airshade coverage`: its network counts each site's and lets them go, worker/core/network.ts `addSite` with
- * `release`) besides those it keeps — the first site's (for its what-if figure) and the multilateration
- * receivers' (for their accuracy maps).
+ * `release`; `airshade footprints`: each site's written to the cache and let go) besides those coverage keeps —
+ * the first site's (for its what-if figure) and the multilateration receivers' (for their accuracy maps); counted
+ * for both commands, an upper bound for the second.
  */
 export type FootprintHold = 'every pair' | 'one site';
 
