@@ -24,7 +24,14 @@ import {
   sha256Parts,
   siteGroups,
 } from '../worker/cli/footprint-cache.ts';
-import { allCandidates, checkStudyWork, footprintsFor, openSession } from '../worker/cli/session.ts';
+import { InputError, isInputError } from '../shared/errors.ts';
+import {
+  allCandidates,
+  checkStudyWork,
+  footprintsFor,
+  KEEP_NONE,
+  openSession,
+} from '../worker/cli/session.ts';
 import { ProgressLine } from '../worker/cli/progress.ts';
 import { runCli } from './support/run-cli.ts';
 import { gridFootprint } from './support/footprints.ts';
@@ -290,6 +297,42 @@ describe('airshade footprints in shards, then coverage --cache', () => {
       expect(fp, f).not.toBeNull();
     }
     expect(readdirSync(cache()).sort()).toEqual(names); // no temporary file left behind
+  }, 120_000);
+
+  it('a file that changes while coverage reads the folder site by site: one message naming it, before its footprints are used', async () => {
+    // Every site is in the cache now (the tests before). After the first site is handed on, the others' files are
+    // rewritten with a flipped byte: the read of the next one, when its turn comes, finds it.
+    const session = await openSession(fx.scenarioPath, 0, new ProgressLine('test', true));
+    session.cacheDir = cache();
+    const files = readdirSync(cache())
+      .filter((f) => f.endsWith('.footprints'))
+      .map((f) => join(cache(), f));
+    const kept = new Map(files.map((f) => [f, readFileSync(f)]));
+    let handed = 0;
+    const err = await footprintsFor(session, allCandidates(session), {
+      retain: KEEP_NONE,
+      onSite: () => {
+        if (handed++ > 0) return;
+        for (const [f, bytes] of kept) {
+          const b = Buffer.from(bytes);
+          b[b.length - 1] ^= 0xff;
+          writeFileSync(f, b);
+        }
+      },
+    }).then(
+      () => null,
+      (e: unknown) => e,
+    );
+    for (const [f, bytes] of kept) writeFileSync(f, bytes);
+    expect(handed).toBe(1);
+    expect(isInputError(err)).toBe(true);
+    const e = err as InputError;
+    expect(e.where).toMatch(/^--cache .*\.footprints$/);
+    expect(files.map((f) => `--cache ${f}`)).toContain(e.where);
+    expect(e.found).toMatch(
+      /^a footprint file that changed while this run read it \(.*the file is corrupt\)\)$/,
+    );
+    expect(e.expected).toBe('a cache folder that nothing else rewrites while a run reads it');
   }, 120_000);
 
   it('plan --cache gives the same plan and layers as plan without it', async () => {

@@ -2,6 +2,7 @@
  * What the scenario commands (coverage, plan, outage, compare) share: the scenario and terrain read from disk
  * into a study (`worker/io/study.ts`, shared with the web app), and footprints computed in a worker pool.
  */
+import { InputError } from '../../shared/errors.ts';
 import { computeFootprints, type Candidate } from '../core/coverage.ts';
 import { inlineExecutor } from '../core/floor.ts';
 import type { Footprint } from '../core/footprint.ts';
@@ -404,10 +405,15 @@ export async function footprintsFor(
         continue;
       }
       if (g.cached && g.footprints === null) {
-        const again = readCachedSite(dir, g.key, grid, () => {});
+        // Read once already (above) and found whole: only something else rewriting the folder meanwhile fails
+        // here, and the layers would then mix two studies' footprints.
+        let why = '';
+        const again = readCachedSite(dir, g.key, grid, (line) => (why = line));
         if (again === null) {
-          throw new Error(
-            `footprint cache: ${join(dir, cacheFileName(g.key))} changed while this run read it`,
+          throw new InputError(
+            `--cache ${join(dir, cacheFileName(g.key))}`,
+            `a footprint file that changed while this run read it${why ? ` (${why.replace(/^footprint cache: [^:]*: /, '').replace(/; computing this site again$/, '')})` : ' (it is gone)'}`,
+            'a cache folder that nothing else rewrites while a run reads it',
           );
         }
         g.footprints = again;
