@@ -127,7 +127,7 @@ export async function coverageCommand(
   for (const w of modelWarnings(session)) log(`warning: ${w}`);
   const tSetup = performance.now();
   // The network grows site by site while the pool sweeps the next sites (the same network as one built from all
-  // the footprints after: test/coverage.test.ts), and lets each site's footprints go once counted: the run holds
+  // the footprints after: test/network.test.ts), and lets each site's footprints go once counted: the run holds
   // one site's at a time, not every sensor's (the national box at 15″: 31.7 GiB of footprints otherwise). The first
   // site keeps its own, for the what-if figure below; the multilateration receivers' are kept for their accuracy.
   const kinds = new Set(candidates.map((c) => c.model.kind));
