@@ -267,6 +267,9 @@ describe('engine under start / cancel / restart storms', () => {
     let cancelled = 0;
     let finished = 0;
     let pending: Promise<unknown> = Promise.resolve();
+    // A cancel by delay may outlive its own job (a job quicker than its delay): cleared at the end of the storm so
+    // that it cannot fall on the run after it.
+    const timers: ReturnType<typeof setTimeout>[] = [];
     for (let cycle = 0; cycle < 100; cycle++) {
       const k = 1.2 + cycle * 0.001;
       e.setScenario({ ...structuredClone(doc), earth: { kFactor: k } }, `storm-${cycle}.json`);
@@ -280,7 +283,7 @@ describe('engine under start / cancel / restart storms', () => {
           else e.setScenario({ ...structuredClone(doc), earth: { kFactor: k + 0.5 } }, 'moved.json');
         }
       });
-      if (byDelay && !letFinish) setTimeout(() => e.cancel(), Math.floor(r() * 20));
+      if (byDelay && !letFinish) timers.push(setTimeout(() => e.cancel(), Math.floor(r() * 20)));
       const outcome = job.then(
         () => 'finished' as const,
         (err: unknown) => {
@@ -293,6 +296,7 @@ describe('engine under start / cancel / restart storms', () => {
       if (letFinish || cycle % 7 === 0) await pending;
     }
     await pending;
+    for (const t of timers) clearTimeout(t);
     return { cancelled, finished };
   }
 
