@@ -150,9 +150,10 @@ describe("the app's engine refuses before allocating", () => {
       path,
       JSON.stringify({ ...data.scenario, grid: { ...(data.scenario.grid as object), cellArcSec: 0.5 } }),
     );
-    // The app keeps every footprint (its what-ifs), as `airshade plan` does; `coverage` holds one site's at a time
-    // and is counted so (test/coverage-memory.test.ts).
-    const cli = await runCli('plan', path, '--out', join(dir, 'tiny-out'), '--max-memory', '2G', '--quiet');
+    // The app keeps every footprint (its what-ifs), as `airshade outage` does (every allowed site and type, here);
+    // `coverage` holds one site's at a time, and `plan` too when every pair's do not fit, and are counted so
+    // (test/coverage-memory.test.ts).
+    const cli = await runCli('outage', path, '--out', join(dir, 'tiny-out'), '--max-memory', '2G', '--quiet');
     expect(cli.code).toBe(2);
     const e = new Engine(undefined, { maxMemoryBytes: 2 * GiB });
     await e.loadTiles(copies(), true, { input: doc, display: 'fixture' });

@@ -28,6 +28,7 @@ import { gridFootprint } from './support/footprints.ts';
 import { WGS84_GEOGRAPHIC, type GridGeo } from '../worker/core/grid.ts';
 import { Network } from '../worker/core/network.ts';
 import { coveredPoints, type Demand } from '../worker/io/study.ts';
+import { SENSOR_KINDS } from '../shared/sensor-kinds.ts';
 
 const WGS84 = geodesic.Geodesic.WGS84;
 
@@ -180,18 +181,24 @@ describe('reading footprints through their windows', () => {
     );
   });
 
-  it('cover lists are those of the definition (lo ≤ h ≤ hi per point), in increasing order', () => {
+  it('cover lists are those of the definition (lo ≤ h ≤ hi per point), in increasing order; with a kind, only the blocks that count it', () => {
     fc.assert(
       fc.property(
         footprintArb(W, H, ['a']),
         fc.array(
-          fc.tuple(fc.integer({ min: 0, max: 2 }), fc.uniqueArray(fc.integer({ min: 0, max: W * H - 1 }))),
+          fc.tuple(
+            fc.integer({ min: 0, max: 2 }),
+            fc.uniqueArray(fc.integer({ min: 0, max: W * H - 1 })),
+            // the block's counting kinds: bits 1 … 4 (FOLD_KINDS slots of primary … mlat)
+            fc.integer({ min: 0, max: 15 }).map((b) => b << 1),
+          ),
           {
             minLength: 1,
             maxLength: 4,
           },
         ),
-        (fp, blocks) => {
+        fc.constantFrom(...SENSOR_KINDS),
+        (fp, blocks, kind) => {
           const cell: number[] = [];
           const level: number[] = [];
           const blockStart = [0];
@@ -218,13 +225,20 @@ describe('reading footprints through their windows', () => {
             blockStart: Uint32Array.from(blockStart),
             blockLevel: Uint8Array.from(blocks.map((b) => b[0])),
             blockTarget: new Uint8Array(blocks.length),
+            blockKinds: Uint8Array.from(blocks.map((b) => b[2])),
           };
           const expected: number[] = [];
-          for (let p = 0; p < n; p++) {
-            const h = altitudes[level[p]];
-            if (coversAt(fp, cell[p], h)) expected.push(p);
-          }
+          const ofKind: number[] = [];
+          const slot = 1 + SENSOR_KINDS.indexOf(kind);
+          blocks.forEach((b, i) => {
+            for (let p = blockStart[i]; p < blockStart[i + 1]; p++) {
+              if (!coversAt(fp, cell[p], altitudes[level[p]])) continue;
+              expected.push(p);
+              if (b[2] & (1 << slot)) ofKind.push(p);
+            }
+          });
           expect([...coveredPoints(fp, d, altitudes)]).toEqual(expected);
+          expect([...coveredPoints(fp, d, altitudes, kind)]).toEqual(ofKind);
         },
       ),
       { numRuns: 200 },

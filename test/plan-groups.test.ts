@@ -7,25 +7,39 @@
  * model.
  */
 import { describe, expect, it } from 'vitest';
-import { preparePlan, type PlanInstance } from '../worker/core/plan.ts';
+import { beginPlan, preparePlan, type PlanInstance } from '../worker/core/plan.ts';
 import { CoverState } from '../worker/core/plan/cover-state.ts';
 import { mulberry32 } from './support/bumps.ts';
 import { mixedKindInstance, siteCostInstance } from './support/plan-check.ts';
 
-/** The groups by definition: per point with demand its key (requirements, covering allowed candidates). */
+/**
+ * The groups by definition: per point with demand its key (requirements, covering allowed candidates whose kind
+ * counts toward one of them: a radar toward 'any' or its own kind, a receiver toward its own kind).
+ */
 function groupsByDefinition(inst: PlanInstance): { rep: number[]; sig: number[][]; points: number[] } {
   const ex = new Set(inst.excludedSites ?? []);
   const P = inst.points;
+  const reqOf = (p: number) => ({
+    any: P.reqAny[p],
+    primary: P.reqPrimary[p],
+    secondary: P.reqSecondary[p],
+    adsb: P.reqAdsb?.[p] ?? 0,
+    mlat: P.reqMlat?.[p] ?? 0,
+  });
+  const counts = (kind: string, p: number) => {
+    const r = reqOf(p);
+    return r[kind as keyof typeof r] > 0 || ((kind === 'primary' || kind === 'secondary') && r.any > 0);
+  };
   const covering: number[][] = Array.from({ length: P.count }, () => []);
   inst.candidates.forEach((c, j) => {
-    if (!ex.has(c.siteIndex)) for (const p of c.covers) covering[p].push(j);
+    if (!ex.has(c.siteIndex)) for (const p of c.covers) if (counts(c.kind, p)) covering[p].push(j);
   });
   const byKey = new Map<string, number>();
   const rep: number[] = [];
   const sig: number[][] = [];
   const points: number[] = [];
   for (let p = 0; p < P.count; p++) {
-    const req = [P.reqAny[p], P.reqPrimary[p], P.reqSecondary[p], P.reqAdsb?.[p] ?? 0, P.reqMlat?.[p] ?? 0];
+    const req = Object.values(reqOf(p));
     if (!(P.weight[p] > 0) || req.every((r) => r === 0)) continue;
     const key = `${req.join(',')}|${covering[p].join(',')}`;
     let g = byKey.get(key);
@@ -102,6 +116,44 @@ describe('the demand groups', () => {
       expect(copy.candidates.every((c) => c.covers.length === 0)).toBe(true);
     }
     expect(groups).toBeGreaterThan(500);
+  });
+});
+
+describe('the grouping fed one candidate at a time (beginPlan)', () => {
+  it('gives the model of preparePlan, the candidates in any order, and refuses misuse', () => {
+    const keys = [
+      'gRep',
+      'gPoints',
+      'gWeight',
+      'gReq',
+      'sigStart',
+      'sigCand',
+      'covStart',
+      'covGroup',
+    ] as const;
+    for (let i = 0; i < 30; i++) {
+      const inst = withGaps(55_000 + i);
+      const m = preparePlan(inst);
+      const r = mulberry32(56_000 + i);
+      const stream = beginPlan({
+        ...inst,
+        candidates: inst.candidates.map((c) => ({ ...c, covers: new Uint32Array(0) })),
+      });
+      const order = Array.from(stream.allowedList);
+      // A shuffle in every other instance: the lists are then sorted at the end.
+      if (i % 2 === 1) order.sort(() => r() - 0.5);
+      for (const c of order) stream.add(c, inst.candidates[c].covers);
+      expect(() => stream.add(order[0], inst.candidates[order[0]].covers)).toThrow(/added twice/);
+      const s = stream.finish();
+      for (const key of keys) expect(Array.from(s[key])).toEqual(Array.from(m[key]));
+      expect(s.unmeetable).toEqual(m.unmeetable);
+      expect(() => stream.finish()).toThrow(/built already/);
+    }
+    // A candidate left out is an error, not a smaller model.
+    const inst = withGaps(57_000);
+    const stream = beginPlan(inst);
+    stream.add(stream.allowedList[0], inst.candidates[stream.allowedList[0]].covers);
+    expect(() => stream.finish()).toThrow(/never added/);
   });
 });
 

@@ -5,9 +5,9 @@
  * the limit — or, when that was the optional search for implied rows, plans without the search: the same plan, and
  * a valid bound.
  */
-import { existsSync, mkdtempSync, readdirSync, rmSync, statSync } from 'node:fs';
+import { existsSync, mkdtempSync, readdirSync, readFileSync, rmSync, statSync, writeFileSync } from 'node:fs';
 import { tmpdir } from 'node:os';
-import { join } from 'node:path';
+import { join, resolve } from 'node:path';
 import { afterAll, describe, expect, it } from 'vitest';
 import { InputError, isInputError } from '../shared/errors.ts';
 import { MemoryLedger, OVERHEAD } from '../worker/core/memory-estimate.ts';
@@ -127,45 +127,84 @@ function cacheFiles(root: string): Map<string, number> {
   return out;
 }
 
+/**
+ * The demo with its ranges cut to 80 km, written beside a temporary folder with absolute paths: its horizons are
+ * small, so its plan's own arrays (1.1 M demand points) pass a limit its coverage fits.
+ */
+function shortRangeDemo(dir: string): string {
+  const data = resolve('data');
+  const s = JSON.parse(readFileSync(join(data, 'demo-scenario.json'), 'utf8'));
+  s.terrain.files = s.terrain.files.map((f: string) => join(data, f));
+  s.sensorTypes = join(data, s.sensorTypes);
+  s.sites = join(data, s.sites);
+  s.maxRangeKm = 80;
+  const file = join(dir, 'short-range.json');
+  writeFileSync(file, JSON.stringify(s));
+  return file;
+}
+
+/** The MiB a refusal says the run or plan needs, and what it names. */
+function refusal(err: string): { mib: number; what: string } {
+  const m = /needs about (\d+) MiB \(([^:]+):/.exec(err);
+  expect(m, err).not.toBeNull();
+  return { mib: Number(m![1]), what: m![2] };
+}
+
 describe('airshade plan past --max-memory', () => {
   const dir = mkdtempSync(join(tmpdir(), 'airshade-plan-memory-'));
   afterAll(() => rmSync(dir, { recursive: true, force: true }));
+  const scenario = shortRangeDemo(dir);
+  const args = ['plan', scenario, '--allow-outside-paths', '--budget', 'none', '--quiet'];
 
-  it('the demo under 950M: its coverage fits, its plan does not — one message, before anything is written', async () => {
-    const out = join(dir, 'out');
-    const r = await runCli(
-      'plan',
-      'data/demo-scenario.json',
-      '--budget',
-      'none',
-      '--out',
-      out,
-      '--max-memory',
-      '950M',
-      '--quiet',
-    );
+  it('a plan whose demand points pass a limit its coverage fits: one message, before any sweep, nothing written', async () => {
+    // The least the run needs, from the refusal under the smallest limit.
+    const first = await runCli(...args, '--out', join(dir, 'o0'), '--max-memory', '256M');
+    expect(first.code).toBe(2);
+    const least = refusal(first.err).mib;
+    const out = join(dir, 'o1');
+    const cache = join(dir, 'cache1');
+    const r = await runCli(...args, '--out', out, '--cache', cache, '--max-memory', `${least + 1}M`);
     expect(r.code).toBe(2);
     const lines = r.err.trim().split('\n');
     expect(lines).toHaveLength(1);
     expect(lines[0]).toMatch(
-      /^airshade plan: data\/demo-scenario\.json: grid\.cellArcSec \(30″: 600 × 600 cells\) with 165 \(site, type\) pairs: found a plan that needs about \d+ MiB \((the|each) .+: \d+ MiB\); expected at most 950 MiB \(--max-memory; raise it up to this machine's .*fewer sites or sensor types; with --cache DIR the next run keeps the footprints it computes\)$/,
+      /^airshade plan: .*short-range\.json: grid\.cellArcSec \(30″: 600 × 600 cells\) with 165 \(site, type\) pairs: found a plan that needs about \d+ MiB \(the demand points: \d+ MiB\); expected at most \d+ MiB \(--max-memory; raise it up to this machine's .*fewer sites or sensor types; the footprints computed are in the --cache folder for the next run\)$/,
     );
-    // Nothing of the plan was written.
+    // Nothing of the plan was written, and no footprint computed.
     expect(existsSync(out) ? readdirSync(out).filter((f) => !f.startsWith('airshade-run')) : []).toEqual([]);
+    expect(existsSync(cache) ? [...cacheFiles(cache).keys()] : []).toEqual([]);
   }, 120_000);
 
-  it('with --cache the refusal keeps the footprints computed, and the next run with room plans from them', async () => {
-    const cache = join(dir, 'cache');
-    const args = ['plan', 'data/demo-scenario.json', '--budget', 'none', '--cache', cache, '--quiet'];
-    const refused = await runCli(...args, '--out', join(dir, 'c1'), '--max-memory', '950M');
-    expect(refused.code).toBe(2);
-    expect(refused.err).toContain('the footprints computed are in the --cache folder for the next run');
+  it('with --cache a refusal after the footprints keeps them, and the next run with room plans from them', async () => {
+    const cache = join(dir, 'cache2');
+    const first = await runCli(...args, '--out', join(dir, 'c0'), '--max-memory', '256M');
+    let limit = refusal(first.err).mib + 1;
+    // Each refusal's figure + 1 MiB as the next limit, until one comes after the footprints: the layers' own.
+    const named: string[] = [];
+    for (let i = 0; i < 8; i++) {
+      const r = await runCli(
+        ...args,
+        '--out',
+        join(dir, `c${i + 1}`),
+        '--cache',
+        cache,
+        '--max-memory',
+        `${limit}M`,
+      );
+      expect(r.code, r.err).toBe(2);
+      const { mib, what } = refusal(r.err);
+      named.push(what);
+      if (what === "the chosen sites' footprints, computed again for the layers") break;
+      limit = mib + 1;
+    }
+    expect(named[0]).toBe('the demand points');
+    expect(named.at(-1)).toBe("the chosen sites' footprints, computed again for the layers");
     const kept = cacheFiles(cache);
-    expect(kept.size).toBeGreaterThan(0);
-    const next = await runCli(...args, '--out', join(dir, 'c2'), '--max-memory', '2G');
+    expect([...kept.keys()].filter((f) => f.endsWith('.footprints'))).toHaveLength(33);
+    const next = await runCli(...args, '--out', join(dir, 'room'), '--cache', cache, '--max-memory', '2G');
     expect(next.code).toBe(0);
-    expect(existsSync(join(dir, 'c2', 'plan.json'))).toBe(true);
+    expect(existsSync(join(dir, 'room', 'plan.json'))).toBe(true);
     // Read from the cache, not computed again: the same files, none rewritten.
     expect(cacheFiles(cache)).toEqual(kept);
-  }, 180_000);
+  }, 240_000);
 });

@@ -12,7 +12,7 @@ import {
   DEFAULT_SAFETY_TIME_LIMIT_MS,
   DEFAULT_SOLVER_NODES,
   SAFETY_LIMIT_NOTE,
-  solvePlan,
+  beginSolve,
   type AccuracyResult,
   type PlanResult,
 } from '../core/plan.ts';
@@ -31,13 +31,16 @@ import {
   weatherHelp,
 } from './args.ts';
 import { levelLayers } from '../io/layers.ts';
-import { buildDemand, DEMAND_POINT_BYTES, planInstance, type Demand } from '../io/study.ts';
+import { buildDemand, coveredPoints, DEMAND_POINT_BYTES, planInstance, type Demand } from '../io/study.ts';
+import type { Footprint } from '../core/footprint.ts';
+import { sitesFootprintBytes, type MemoryLedger } from '../core/memory-estimate.ts';
 import { memoryLimitArg } from './budget-check.ts';
 import { finishRun, RunFolder, runFolderHelp } from './files.ts';
 import { scenarioProvenance } from './provenance.ts';
 import {
   allCandidates,
   footprintsFor,
+  KEEP_NONE,
   layoutCandidates,
   openCommandSession,
   planLedger,
@@ -117,10 +120,17 @@ export async function planCommand(argv: readonly string[], log: (s: string) => v
       : numberArg('time-limit-s', limitText, 0.1, 3600, 'a time limit in seconds from 0.1 to 3600') * 1000;
   const solverNodes = solverNodesArg(one(p, 'solver-nodes'));
   const started = performance.now();
-  const { session, progress } = await openCommandSession(p, 'plan', scenarioPath, threads, {
-    path: outDir,
-    kind: 'folder',
-  });
+  const { session, progress } = await openCommandSession(
+    p,
+    'plan',
+    scenarioPath,
+    threads,
+    { path: outDir, kind: 'folder' },
+    undefined,
+    undefined,
+    // Every footprint kept when they fit, else one site's at a time (below).
+    'every pair where it fits',
+  );
   const s = session.loaded.scenario;
   const budgetText = one(p, 'budget');
   const budget =
@@ -138,19 +148,16 @@ export async function planCommand(argv: readonly string[], log: (s: string) => v
     keepName === undefined
       ? []
       : layoutCandidates(session, keepName, '--keep').map((c) => index.get(keyOf(c))!);
-  const footprints = await footprintsFor(session, candidates, {
-    weather: p.flags.has('weather'),
-    progress,
-    share: [0, 0.6],
-  });
-  progress.update(0.6, 'demand points');
+  progress.update(0, 'demand points');
   const fls = s.flightLevels;
   const altitudes = levelAltitudesM(s, fls);
   const demand = buildDemand(session, fls);
-  // The plan's arrays against --max-memory as their sizes become known (none is before the coverage).
-  const memory = planLedger(session, memoryLimitArg(p));
+  // The plan's arrays against --max-memory as their sizes become known, with the horizons in flight until the
+  // footprints are done.
+  const horizons = { bytes: 0 };
+  const memory = planLedger(session, memoryLimitArg(p), horizons);
   memory.take(DEMAND_POINT_BYTES * demand.cell.length, 'the demand points');
-  const inst = planInstance(session, candidates, footprints, demand, altitudes, {
+  const inst = planInstance(session, candidates, null, demand, altitudes, {
     forced,
     excludedSiteIds: excluded,
     budget,
@@ -158,8 +165,9 @@ export async function planCommand(argv: readonly string[], log: (s: string) => v
     solverNodes,
     memory,
   });
-  const tBuilt = performance.now();
-  const result = await solvePlan(inst, {
+  // What the solve's arrays take is let go with it (below): the model is not kept.
+  const beforeSolve = memory.bytes;
+  const plan = beginSolve(inst, {
     onProgress: (f, stage) => progress.update(0.65 + 0.3 * f, stage),
     // The whole LP (no row truncation) and the MILP whenever it fits: on the demo the LP relaxation alone
     // leaves a gap of a few per cent, the MILP closes it at its root node, well within the node limit.
@@ -169,10 +177,46 @@ export async function planCommand(argv: readonly string[], log: (s: string) => v
     releaseCovers: true,
     memory,
   });
+  // Each candidate's covers are made as its site's footprints come and handed to the plan's grouping, then let go
+  // (but a multilateration receiver's when the volumes bound accuracy: the plan reads them again). The footprints
+  // are kept when every pair's fit under --max-memory (the session's check), else let go site by site: the chosen
+  // sites' are then computed again for the layers.
+  const allowed = new Uint8Array(candidates.length);
+  for (const c of plan.allowedList) allowed[c] = 1;
+  const keepMlatCovers = inst.accuracy !== undefined;
+  const keepAll = session.footprintHold !== 'one site';
+  const footprints = await footprintsFor(session, candidates, {
+    weather: p.flags.has('weather'),
+    progress,
+    share: [0, 0.6],
+    onSite: (fps) => {
+      for (const fp of fps) {
+        const c = index.get(`${fp.siteId}\u0000${fp.typeId}`)!;
+        if (!allowed[c]) continue;
+        const cv = coveredPoints(fp, demand, altitudes, candidates[c].model.kind);
+        memory.take(cv.byteLength, 'the demand points a candidate covers');
+        plan.add(c, cv);
+        if (keepMlatCovers && candidates[c].model.kind === 'mlat') inst.candidates[c].covers = cv;
+        else memory.give(cv.byteLength);
+      }
+    },
+    retain: keepAll ? undefined : KEEP_NONE,
+  });
+  memory.give(horizons.bytes);
+  const tBuilt = performance.now();
+  progress.update(0.65, 'prepare');
+  const result = await plan.solve();
+  memory.rewind(beforeSolve);
   const tSolved = performance.now();
   progress.update(0.96, 'layers');
-  const active = candidates.map((_, i) => result.chosen.includes(i));
-  const network = studyNetwork(session, fls, footprints, active);
+  const chosen = new Set(result.chosen);
+  const network = studyNetwork(
+    session,
+    fls,
+    keepAll
+      ? footprints.filter((_, i) => chosen.has(i))
+      : await chosenFootprints(session, candidates, result.chosen, memory, p.flags.has('weather')),
+  );
   // No date in plan.json and its layers: the same inputs give the same bytes.
   const provenance = undated(
     scenarioProvenance('plan', p, SPEC, session.loaded, studyConventions(session, fls, altitudes)),
@@ -201,6 +245,7 @@ export async function planCommand(argv: readonly string[], log: (s: string) => v
       build: tBuilt - started,
       solve: tSolved - tBuilt,
       total: performance.now() - started,
+      ...(keepAll ? {} : { recomputedSites: new Set(result.chosen.map((i) => candidates[i].site.id)).size }),
     }),
   );
   log(conventionsText(doc.conventions));
@@ -215,6 +260,36 @@ function solverNodesArg(text: string | undefined): number {
   const v = numberArg('solver-nodes', text, 0, 1e9, what);
   if (!Number.isInteger(v)) throw new InputError('--solver-nodes', `"${text}"`, what);
   return v;
+}
+
+/**
+ * The footprints of the plan's chosen candidates, computed again (the run held one site's at a time), in the
+ * candidates' order: each chosen site with every allowed type is swept (one sweep serves a site's types, and with
+ * --cache a site's file holds them all), the chosen kept. Counted in the plan's memory account first.
+ */
+async function chosenFootprints(
+  session: Session,
+  candidates: readonly Candidate[],
+  chosen: readonly number[],
+  memory: MemoryLedger,
+  weather: boolean,
+): Promise<Footprint[]> {
+  const sites = new Set(chosen.map((i) => candidates[i].site.id));
+  const s = session.loaded.scenario;
+  memory.take(
+    sitesFootprintBytes(
+      { ...s, sites: s.sites.filter((f) => sites.has(f.properties.id)) },
+      session.grid,
+      session.targets.length,
+    ),
+    "the chosen sites' footprints, computed again for the layers",
+  );
+  const keep = new Set(chosen.map((i) => `${candidates[i].site.id}\u0000${candidates[i].model.spec.id}`));
+  return footprintsFor(
+    session,
+    candidates.filter((c) => sites.has(c.site.id)),
+    { weather, retain: (fp) => keep.has(`${fp.siteId}\u0000${fp.typeId}`) },
+  );
 }
 
 function planDocument(
@@ -342,6 +417,11 @@ function planSummary(
   for (const u of doc.unmeetable) {
     lines.push(
       `  note: ${u.volumeName} needs ${u.kind} fold ${u.required} where at most ${u.achievable} is possible (${u.points} points): planned to ${u.achievable}`,
+    );
+  }
+  if (t.recomputedSites !== undefined) {
+    lines.push(
+      `  memory: one site's footprints held at a time (every site's at once would pass --max-memory); the ${t.recomputedSites} chosen site(s) computed again for the layers`,
     );
   }
   if (r.solverStop === 'safety time limit') {

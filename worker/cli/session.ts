@@ -9,6 +9,7 @@ import type { Footprint } from '../core/footprint.ts';
 import {
   heldAfterCoverage,
   MemoryLedger,
+  OVERHEAD,
   type FootprintHold,
   pairWindowCells,
   studyBlame,
@@ -67,7 +68,16 @@ import {
 export type Session = Study<LoadedScenario> & {
   cacheDir?: string;
   workCheck?: { loaded: LoadedScenario; limitMin: number };
+  /** Which footprints the command holds at once, as its memory was checked (`CommandHold` resolved). */
+  footprintHold?: FootprintHold;
 };
+
+/**
+ * Which footprints a command holds at once: a `FootprintHold`, or 'every pair where it fits' — every pair's when
+ * the estimate with all of them is within --max-memory, else one site's (`airshade plan`: it then computes its
+ * chosen sites' footprints again for its layers).
+ */
+export type CommandHold = FootprintHold | 'every pair where it fits';
 
 export { allCandidates, candidate, layoutCandidates, siteOf } from '../io/study.ts';
 
@@ -129,8 +139,8 @@ export interface SessionOptions {
    * still taken before any footprint is computed.
    */
   deferWorkCheck?: boolean;
-  /** Which footprints the command holds at once (memory-estimate.ts `FootprintHold`; default every pair's). */
-  hold?: FootprintHold;
+  /** Which footprints the command holds at once (`CommandHold`; default every pair's). */
+  hold?: CommandHold;
 }
 
 /** The session options as the command line gives them (`out` from the command itself). */
@@ -155,7 +165,7 @@ export async function openCommandSession(
   out: NonNullable<SessionOptions['out']>,
   runLevels?: SessionOptions['runLevels'],
   siteRange?: SessionOptions['siteRange'],
-  hold?: FootprintHold,
+  hold?: CommandHold,
 ): Promise<{ session: Session; progress: ProgressLine }> {
   const progress = new ProgressLine(command, p.flags.has('quiet'));
   const cacheText = one(p, 'cache');
@@ -226,11 +236,12 @@ export async function openSession(
       );
     },
   });
-  checkStudyMemory(checked, terrain, largest, limit, opts.hold);
+  const footprintHold = checkStudyMemory(checked, terrain, largest, limit, opts.hold);
   const limitMin = opts.maxWorkMin ?? workLimitArg({ positional: [], values: new Map(), flags: new Set() });
   if (!opts.deferWorkCheck) checkStudyWork(checked, terrain, threads, limitMin);
   const study: Session = openStudy(loaded, terrain, threads, opts.runLevels);
   if (opts.deferWorkCheck) study.workCheck = { loaded: checked, limitMin };
+  study.footprintHold = footprintHold;
   return study;
 }
 
@@ -243,25 +254,43 @@ export function checkStudyMemory(
   terrain: Terrain | Parameters<typeof studyRun>[2],
   largest: TileShape | undefined,
   limit: number,
-  hold?: FootprintHold,
-): void {
+  hold: CommandHold = 'every pair',
+): FootprintHold {
   const s = loaded.scenario;
   const grid: GridGeo = analysisGrid(loaded, terrain instanceof Terrain ? terrain : null);
-  const run = studyRun(s, grid, terrain, studyTargets(s).targets.length, largest, hold);
+  const targets = studyTargets(s).targets.length;
+  let held: FootprintHold = hold === 'every pair where it fits' ? 'every pair' : hold;
+  let run = studyRun(s, grid, terrain, targets, largest, held);
+  if (hold === 'every pair where it fits' && estimateRun(run.shape).bytes > limit) {
+    held = 'one site';
+    run = studyRun(s, grid, terrain, targets, largest, held);
+  }
   checkEstimate(estimateRun(run.shape), limit, studyBlame(loaded.locate, s, grid, run));
+  return held;
 }
 
 /**
  * A plan's memory account against `limit` (--max-memory): it starts at what the study holds once its coverage is
- * done (the estimate `checkStudyMemory` checked, its horizons let go), and the plan's stages count their arrays in it
- * as their sizes become known; the refusal names the analysis grid and the (site, type) pairs, which drive them.
+ * done (the estimate `checkStudyMemory` checked, its horizons let go) — plus, with `horizons`, the horizons in
+ * flight, counted as `horizons.bytes` for the caller to give back once its footprints are done — and the plan's
+ * stages count their arrays in it as their sizes become known; the refusal names the analysis grid and the (site,
+ * type) pairs, which drive them.
  */
-export function planLedger(session: Session, limit: number): MemoryLedger {
+export function planLedger(session: Session, limit: number, horizons?: { bytes: number }): MemoryLedger {
   const s = session.loaded.scenario;
-  const run = studyRun(s, session.grid, session.terrain, studyTargets(s).targets.length);
+  const run = studyRun(
+    s,
+    session.grid,
+    session.terrain,
+    studyTargets(s).targets.length,
+    undefined,
+    session.footprintHold,
+  );
   const where = studyBlame(session.loaded.locate, s, session.grid, run).footprints;
+  const est = estimateRun(run.shape);
+  if (horizons) horizons.bytes = est.parts.horizons;
   return new MemoryLedger({
-    held: heldAfterCoverage(estimateRun(run.shape)),
+    held: heldAfterCoverage(est) + (horizons ? OVERHEAD * est.parts.horizons : 0),
     limit,
     where,
     knob: planKnob(session.cacheDir !== undefined),

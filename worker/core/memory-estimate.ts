@@ -128,6 +128,20 @@ export function footprintBytes(cells: number, targets: number): number {
   return cells * targets * 4;
 }
 
+/** Bytes per cell of a network's level bits (network.ts: one bit per level and target, in 8, 16 or 32). */
+function levelBitBytes(levelBits: number): number {
+  return levelBits <= 8 ? 1 : levelBits <= 16 ? 2 : 4;
+}
+
+/**
+ * The footprints of every allowed pair of `s`'s sites with their level bits, in bytes: estimateRun's footprints
+ * part with every pair held (e.g. a plan's chosen sites, computed again for its layers).
+ */
+export function sitesFootprintBytes(s: Scenario, grid: GridGeo, targets: number): number {
+  const cells = pairWindowCells(s, grid, 'every pair');
+  return footprintBytes(cells, targets) + cells * levelBitBytes(s.flightLevels.length * targets);
+}
+
 export function estimateRun(s: RunShape): Estimate {
   const tile = s.largestTile;
   const uncompressed = tile !== undefined && tile.fileBytes >= tile.width * tile.height * tile.bytesPerSample;
@@ -138,7 +152,7 @@ export function estimateRun(s: RunShape): Estimate {
       : tile.fileBytes + tile.width * tile.height * (tile.bytesPerSample + 4);
   const terrain = s.terrainPixels * 4 + tileBytes;
   const levelBits = s.levels * s.targets;
-  const bitBytes = levelBits <= 8 ? 1 : levelBits <= 16 ? 2 : 4;
+  const bitBytes = levelBitBytes(levelBits);
   const perCell = 4 + s.volumes + (s.foldKinds ?? 3) * levelBits * 2 + 4 /* network floor */ + 2 * 8;
   const grid = s.cells * (s.gridBytesPerCell ?? perCell);
   const pairCells = s.pairWindowCells ?? s.pairs * s.cells;
@@ -474,6 +488,11 @@ export class MemoryLedger implements MemoryAccount {
 
   give(bytes: number): void {
     this.held -= OVERHEAD * bytes;
+  }
+
+  /** Back to `bytes`, a count read before (`bytes`): what was taken since is let go (a stage's arrays, once done). */
+  rewind(bytes: number): void {
+    this.held = Math.min(this.held, bytes);
   }
 }
 

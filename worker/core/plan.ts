@@ -47,7 +47,7 @@
 export { DEFAULT_SAFETY_TIME_LIMIT_MS, DEFAULT_SOLVER_NODES } from '../../shared/plan-limits.ts';
 export type { AccuracyDemand, Kind, DemandKind, PlanInstance, Unmeetable } from './plan/model.ts';
 export type { AccuracyResult } from './plan/accuracy.ts';
-export { preparePlan } from './plan/demand.ts';
+export { beginPlan, countingKinds, preparePlan, type PlanStream } from './plan/demand.ts';
 export { greedyLazy, greedyPlain } from './plan/greedy.ts';
 export { SAFETY_LIMIT_NOTE, type HighsInit } from './plan/lp-bound.ts';
-export { LP_MAX_ITERATIONS, solvePlan, type PlanOptions, type PlanResult } from './plan/solve.ts';
+export { beginSolve, LP_MAX_ITERATIONS, solvePlan, type PlanOptions, type PlanResult } from './plan/solve.ts';

@@ -10,7 +10,8 @@ import type { Candidate, CoverageSite } from '../core/coverage.ts';
 import type { Footprint } from '../core/footprint.ts';
 import { MAX_NETWORK_LEVELS, Network } from '../core/network.ts';
 import { WGS84_GEOGRAPHIC, type GridGeo } from '../core/grid.ts';
-import type { AccuracyDemand, PlanInstance } from '../core/plan.ts';
+import { countingKinds, type AccuracyDemand, type PlanInstance } from '../core/plan.ts';
+import { FOLD_KINDS, type SensorKind } from '../../shared/sensor-kinds.ts';
 import type { MemoryAccount } from '../core/memory-estimate.ts';
 import { describeTarget, type SensorModel, type Target } from '../core/sensor.ts';
 import { buildSensorModel } from '../core/sensor-model.ts';
@@ -283,6 +284,11 @@ export interface Demand {
   blockStart: Uint32Array;
   blockLevel: Uint8Array;
   blockTarget: Uint8Array;
+  /**
+   * Per block: the sensor kinds whose candidates count toward its volume's requirement (bit 1 << the kind's slot
+   * in FOLD_KINDS, plan/demand.ts `countingKinds`; a volume with an accuracy bound needs receivers of kind mlat).
+   */
+  blockKinds: Uint8Array;
 }
 
 /**
@@ -322,6 +328,7 @@ export function buildDemand(session: Study, fls: readonly number[]): Demand {
   const blockStart = new Uint32Array(blocks.length + 1);
   const blockLevel = new Uint8Array(blocks.length);
   const blockTarget = new Uint8Array(blocks.length);
+  const blockKinds = new Uint8Array(blocks.length);
   let p = 0;
   blocks.forEach(({ vi, f, mask }, b) => {
     const v = s.volumes[vi];
@@ -337,6 +344,14 @@ export function buildDemand(session: Study, fls: readonly number[]): Demand {
     blockStart[b] = p;
     blockLevel[b] = f;
     blockTarget[b] = t;
+    // The accuracy bound implies an mlat fold (plan/accuracy.ts withImpliedMlatFolds).
+    blockKinds[b] = countingKinds([
+      any,
+      primary,
+      secondary,
+      adsb,
+      v.requiredMlatAccuracyM !== undefined ? 1 : mlat,
+    ]);
     for (let c = 0; c < mask.length; c++) {
       if (!mask[c]) continue;
       volume[p] = vi;
@@ -362,6 +377,7 @@ export function buildDemand(session: Study, fls: readonly number[]): Demand {
     blockStart,
     blockLevel,
     blockTarget,
+    blockKinds,
   };
 }
 
@@ -375,7 +391,8 @@ export function buildDemand(session: Study, fls: readonly number[]): Demand {
 export function planInstance(
   study: Study,
   candidates: readonly { site: CoverageSite; model: SensorModel }[],
-  footprints: readonly Footprint[],
+  /** Null: each candidate's `covers` left empty, for the caller to hand them to the plan as they come (`beginSolve`). */
+  footprints: readonly Footprint[] | null,
   demand: Demand,
   altitudesM: readonly number[],
   opts: {
@@ -401,7 +418,10 @@ export function planInstance(
       typeId: c.model.spec.id,
       kind: c.model.kind,
       cost: c.model.spec.cost,
-      covers: counted(coveredPoints(footprints[i], demand, altitudesM), opts.memory),
+      covers:
+        footprints === null
+          ? new Uint32Array(0)
+          : counted(coveredPoints(footprints[i], demand, altitudesM, c.model.kind), opts.memory),
     })),
     points: demand.instancePoints,
     accuracy: accuracyDemand(study, demand, candidates, altitudesM),
@@ -473,15 +493,24 @@ let coverScratch = new Uint32Array(0);
 
 /**
  * The demand points a footprint covers (each with its volume's target), in increasing order. Per block of points
- * (one volume at one level) only the points in the rows of the footprint's window are looked at.
+ * (one volume at one level) only the points in the rows of the footprint's window are looked at. With `kind` (the
+ * sensor's), only the blocks whose volume's requirement that kind counts toward: the plan ignores the others
+ * (PlanInstance `covers`), and on the national benchmark they are most of the primaries' points.
  */
-export function coveredPoints(fp: Footprint, d: Demand, altitudesM: readonly number[]): Uint32Array {
-  const { cell, blockStart, blockLevel, blockTarget } = d;
+export function coveredPoints(
+  fp: Footprint,
+  d: Demand,
+  altitudesM: readonly number[],
+  kind?: SensorKind,
+): Uint32Array {
+  const { cell, blockStart, blockLevel, blockTarget, blockKinds } = d;
   const byTarget = [fp, ...(fp.byTarget ?? [])];
   if (coverScratch.length < cell.length) coverScratch = new Uint32Array(cell.length);
   const out = coverScratch;
+  const bit = kind === undefined ? 0 : 1 << FOLD_KINDS.indexOf(kind);
   let n = 0;
   for (let b = 0; b < blockLevel.length; b++) {
+    if (bit !== 0 && (blockKinds[b] & bit) === 0) continue;
     const f = byTarget[blockTarget[b]];
     let p0 = blockStart[b];
     let p1 = blockStart[b + 1];

@@ -28,7 +28,10 @@ export interface PlanInstance {
     kind: Kind;
     /** Cost of the sensor type (the site's cost is paid once, when its first sensor is chosen). */
     cost: number;
-    /** Sorted (strictly increasing) indices of the demand points this candidate covers. */
+    /**
+     * Sorted (strictly increasing) indices of the demand points this candidate covers. Points none of whose
+     * requirements its kind counts toward (`countsToward`) may be left out: they are ignored.
+     */
     covers: Uint32Array;
   }[];
   points: {
@@ -152,10 +155,13 @@ export interface PlanModel {
   gRep: Uint32Array;
   /** NK per group (any, primary, secondary, adsb, mlat), capped at what the allowed candidates reach. */
   gReq: Uint8Array;
-  /** Group → covering allowed candidates (CSR, ascending). */
+  /**
+   * Group → covering allowed candidates whose kind counts toward one of the group's requirements (`countsToward`;
+   * before capping), CSR, ascending. A candidate of another kind is left out: it changes no count the value reads.
+   */
   sigStart: Uint32Array;
   sigCand: Uint32Array;
-  /** Candidate → covered groups (CSR, ascending); empty for candidates that are not allowed. */
+  /** Candidate → covered groups it counts toward (the signatures' transpose, CSR, ascending); empty for candidates that are not allowed. */
   covStart: Uint32Array;
   covGroup: Uint32Array;
   budget: number | undefined;

@@ -14,7 +14,7 @@ import {
   type AccuracyResult,
 } from './accuracy.ts';
 import { CoverState } from './cover-state.ts';
-import { preparePlan } from './demand.ts';
+import { beginPlan, preparePlan } from './demand.ts';
 import { greedyLazyOn, stateWithForced } from './greedy.ts';
 import { localSearchBudget, localSearchCover, type SearchCtx } from './improve.ts';
 import { boundPlan, SAFETY_LIMIT_NOTE, type HighsInit } from './lp-bound.ts';
@@ -118,6 +118,37 @@ export async function solvePlan(inst: PlanInstance, opts: PlanOptions = {}): Pro
     }
   }
   return solvePrepared(inst, m, acc, opts, t);
+}
+
+/**
+ * `solvePlan` with the demand grouped as each candidate's covers come (demand.ts `beginPlan`): the instance is
+ * checked now, before any cover exists (its candidates' `covers` are not read, but a multilateration receiver's when
+ * the instance bounds accuracy: the caller sets those before `solve`). `add` each allowed candidate's covers (in any
+ * order; they are not kept), then `solve`. The same result as `solvePlan` on the instance with those covers.
+ */
+export function beginSolve(
+  inst: PlanInstance,
+  opts: PlanOptions = {},
+): { allowedList: Int32Array; add(c: number, covers: Uint32Array): void; solve(): Promise<PlanResult> } {
+  checkAccuracy(inst);
+  const stream = beginPlan(withImpliedMlatFolds(inst), opts.memory);
+  return {
+    allowedList: stream.allowedList,
+    add: (c, covers) => stream.add(c, covers),
+    solve: async () => {
+      const t = nowMs();
+      (opts.onProgress ?? (() => {}))(0, 'prepare');
+      const m = stream.finish();
+      const acc = prepareAccuracy(inst, m);
+      if (opts.releaseCovers) {
+        for (const c of inst.candidates) {
+          opts.memory?.give(c.covers.byteLength);
+          c.covers = new Uint32Array(0);
+        }
+      }
+      return solvePrepared(inst, m, acc, opts, t);
+    },
+  };
 }
 
 /**
