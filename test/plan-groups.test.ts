@@ -55,6 +55,18 @@ function groupsByDefinition(inst: PlanInstance): { rep: number[]; sig: number[][
   return { rep, sig, points };
 }
 
+/** The model's arrays that two ways of building it must give alike. */
+const MODEL_ARRAYS = [
+  'gRep',
+  'gPoints',
+  'gWeight',
+  'gReq',
+  'sigStart',
+  'sigCand',
+  'covStart',
+  'covGroup',
+] as const;
+
 /** A mixed instance with zero weights, points without demand and sometimes an excluded site. */
 function withGaps(seed: number): PlanInstance {
   const inst = mixedKindInstance(seed);
@@ -101,18 +113,7 @@ describe('the demand groups', () => {
       // With the covers let go as the model is built: the same model, and no cover list left.
       const copy = { ...inst, candidates: inst.candidates.map((c) => ({ ...c, covers: c.covers.slice() })) };
       const r = preparePlan(copy, true);
-      for (const key of [
-        'gRep',
-        'gPoints',
-        'gWeight',
-        'gReq',
-        'sigStart',
-        'sigCand',
-        'covStart',
-        'covGroup',
-      ] as const) {
-        expect(Array.from(r[key])).toEqual(Array.from(m[key]));
-      }
+      for (const key of MODEL_ARRAYS) expect(Array.from(r[key])).toEqual(Array.from(m[key]));
       expect(copy.candidates.every((c) => c.covers.length === 0)).toBe(true);
     }
     expect(groups).toBeGreaterThan(500);
@@ -121,16 +122,6 @@ describe('the demand groups', () => {
 
 describe('the grouping fed one candidate at a time (beginPlan)', () => {
   it('gives the model of preparePlan, the candidates in any order, and refuses misuse', () => {
-    const keys = [
-      'gRep',
-      'gPoints',
-      'gWeight',
-      'gReq',
-      'sigStart',
-      'sigCand',
-      'covStart',
-      'covGroup',
-    ] as const;
     for (let i = 0; i < 30; i++) {
       const inst = withGaps(55_000 + i);
       const m = preparePlan(inst);
@@ -145,7 +136,7 @@ describe('the grouping fed one candidate at a time (beginPlan)', () => {
       for (const c of order) stream.add(c, inst.candidates[c].covers);
       expect(() => stream.add(order[0], inst.candidates[order[0]].covers)).toThrow(/added twice/);
       const s = stream.finish();
-      for (const key of keys) expect(Array.from(s[key])).toEqual(Array.from(m[key]));
+      for (const key of MODEL_ARRAYS) expect(Array.from(s[key])).toEqual(Array.from(m[key]));
       expect(s.unmeetable).toEqual(m.unmeetable);
       expect(() => stream.finish()).toThrow(/built already/);
     }

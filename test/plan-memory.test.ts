@@ -194,17 +194,33 @@ describe('airshade plan past --max-memory', () => {
       expect(r.code, r.err).toBe(2);
       const { mib, what } = refusal(r.err);
       named.push(what);
-      if (what === "the chosen sites' footprints, computed again for the layers") break;
       limit = mib + 1;
+      if (what === "the chosen sites' footprints, computed again for the layers") break;
     }
     expect(named[0]).toBe('the demand points');
     expect(named.at(-1)).toBe("the chosen sites' footprints, computed again for the layers");
     const kept = cacheFiles(cache);
     expect([...kept.keys()].filter((f) => f.endsWith('.footprints'))).toHaveLength(33);
+    // With room for the chosen sites' footprints, one site's at a time still: they are read from the cache again.
+    const tight = await runCli(
+      ...args,
+      '--out',
+      join(dir, 'tight'),
+      '--cache',
+      cache,
+      '--max-memory',
+      `${limit}M`,
+    );
+    expect(tight.code, tight.err).toBe(0);
     const next = await runCli(...args, '--out', join(dir, 'room'), '--cache', cache, '--max-memory', '2G');
     expect(next.code).toBe(0);
     expect(existsSync(join(dir, 'room', 'plan.json'))).toBe(true);
-    // Read from the cache, not computed again: the same files, none rewritten.
+    // Read from the cache, not computed again: the same files, none rewritten; the same plan either way.
     expect(cacheFiles(cache)).toEqual(kept);
+    const plan = (d: string) => {
+      const { provenance: _p, ...rest } = JSON.parse(readFileSync(join(dir, d, 'plan.json'), 'utf8'));
+      return rest;
+    };
+    expect(plan('tight')).toEqual(plan('room'));
   }, 240_000);
 });

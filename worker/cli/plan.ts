@@ -31,7 +31,13 @@ import {
   weatherHelp,
 } from './args.ts';
 import { levelLayers } from '../io/layers.ts';
-import { buildDemand, coveredPoints, DEMAND_POINT_BYTES, planInstance, type Demand } from '../io/study.ts';
+import {
+  buildDemand,
+  coveredPointsView,
+  DEMAND_POINT_BYTES,
+  planInstance,
+  type Demand,
+} from '../io/study.ts';
 import type { Footprint } from '../core/footprint.ts';
 import { sitesFootprintBytes, type MemoryLedger } from '../core/memory-estimate.ts';
 import { memoryLimitArg } from './budget-check.ts';
@@ -41,6 +47,7 @@ import {
   allCandidates,
   footprintsFor,
   KEEP_NONE,
+  type FootprintsOptions,
   layoutCandidates,
   openCommandSession,
   planLedger,
@@ -181,6 +188,7 @@ export async function planCommand(argv: readonly string[], log: (s: string) => v
   // (but a multilateration receiver's when the volumes bound accuracy: the plan reads them again). The footprints
   // are kept when every pair's fit under --max-memory (the session's check), else let go site by site: the chosen
   // sites' are then computed again for the layers.
+  memory.take(4 * demand.cell.length, "the scratch list of a candidate's covered points");
   const allowed = new Uint8Array(candidates.length);
   for (const c of plan.allowedList) allowed[c] = 1;
   const keepMlatCovers = inst.accuracy !== undefined;
@@ -193,11 +201,13 @@ export async function planCommand(argv: readonly string[], log: (s: string) => v
       for (const fp of fps) {
         const c = index.get(`${fp.siteId}\u0000${fp.typeId}`)!;
         if (!allowed[c]) continue;
-        const cv = coveredPoints(fp, demand, altitudes, candidates[c].model.kind);
-        memory.take(cv.byteLength, 'the demand points a candidate covers');
+        // A view of one scratch list, read by the grouping at once.
+        const cv = coveredPointsView(fp, demand, altitudes, candidates[c].model.kind);
         plan.add(c, cv);
-        if (keepMlatCovers && candidates[c].model.kind === 'mlat') inst.candidates[c].covers = cv;
-        else memory.give(cv.byteLength);
+        if (keepMlatCovers && candidates[c].model.kind === 'mlat') {
+          memory.take(cv.byteLength, "the multilateration receivers' covered points");
+          inst.candidates[c].covers = cv.slice();
+        }
       }
     },
     retain: keepAll ? undefined : KEEP_NONE,
@@ -208,15 +218,16 @@ export async function planCommand(argv: readonly string[], log: (s: string) => v
   const result = await plan.solve();
   memory.rewind(beforeSolve);
   const tSolved = performance.now();
-  progress.update(0.96, 'layers');
   const chosen = new Set(result.chosen);
-  const network = studyNetwork(
-    session,
-    fls,
-    keepAll
-      ? footprints.filter((_, i) => chosen.has(i))
-      : await chosenFootprints(session, candidates, result.chosen, memory, p.flags.has('weather')),
-  );
+  const chosenFps = keepAll
+    ? footprints.filter((_, i) => chosen.has(i))
+    : await chosenFootprints(session, candidates, result.chosen, memory, {
+        weather: p.flags.has('weather'),
+        progress,
+        share: [0.95, 0.04],
+      });
+  progress.update(0.99, 'layers');
+  const network = studyNetwork(session, fls, chosenFps);
   // No date in plan.json and its layers: the same inputs give the same bytes.
   const provenance = undated(
     scenarioProvenance('plan', p, SPEC, session.loaded, studyConventions(session, fls, altitudes)),
@@ -272,7 +283,7 @@ async function chosenFootprints(
   candidates: readonly Candidate[],
   chosen: readonly number[],
   memory: MemoryLedger,
-  weather: boolean,
+  opts: Pick<FootprintsOptions, 'weather' | 'progress' | 'share'>,
 ): Promise<Footprint[]> {
   const sites = new Set(chosen.map((i) => candidates[i].site.id));
   const s = session.loaded.scenario;
@@ -288,7 +299,7 @@ async function chosenFootprints(
   return footprintsFor(
     session,
     candidates.filter((c) => sites.has(c.site.id)),
-    { weather, retain: (fp) => keep.has(`${fp.siteId}\u0000${fp.typeId}`) },
+    { ...opts, retain: (fp) => keep.has(`${fp.siteId}\u0000${fp.typeId}`) },
   );
 }
 

@@ -503,6 +503,20 @@ export function coveredPoints(
   altitudesM: readonly number[],
   kind?: SensorKind,
 ): Uint32Array {
+  return coveredPointsView(fp, d, altitudesM, kind).slice();
+}
+
+/**
+ * `coveredPoints` as a view of one scratch array (as long as the demand's points, grown once): valid until the next
+ * call, for a caller that reads the list at once (the plan's grouping) — no fresh array per candidate, which cost
+ * more than finding the points (page faults on fresh memory; on the 6° × 6° box 5.6 of 8.9 s).
+ */
+export function coveredPointsView(
+  fp: Footprint,
+  d: Demand,
+  altitudesM: readonly number[],
+  kind?: SensorKind,
+): Uint32Array {
   const { cell, blockStart, blockLevel, blockTarget, blockKinds } = d;
   const byTarget = [fp, ...(fp.byTarget ?? [])];
   if (coverScratch.length < cell.length) coverScratch = new Uint32Array(cell.length);
@@ -520,7 +534,7 @@ export function coveredPoints(
     p1 = lowerBound(cell, p0, p1, (w.row1 - 1) * w.width + w.col1);
     n = coverRun(f, cell, altitudesM[blockLevel[b]], p0, p1, out, n);
   }
-  return out.slice(0, n);
+  return out.subarray(0, n);
 }
 
 /** The first index in [from, to) whose cell is ≥ c (cells ascending there); `to` if none. */
@@ -537,7 +551,9 @@ function lowerBound(cell: Uint32Array, from: number, to: number, c: number): num
 
 /**
  * Appends to `out` from `n` the points of [p0, p1) whose cell's interval holds h; returns the new count. The points'
- * cells ascend, so the footprint's window row is tracked without a division per point.
+ * cells ascend, so each window row's points are one run: found by a binary search for the row's first window
+ * column, read up to its last, and the next row's searched from there (the points outside the window's columns
+ * are never read: on the national benchmark most of a short-range type's rows).
  */
 function coverRun(
   fp: Footprint,
@@ -551,20 +567,21 @@ function coverRun(
   const { lo, hi, window: w } = fp;
   const W = w.width;
   const ww = w.col1 - w.col0;
-  let r = -1;
-  let rowStart = 0;
-  let rowEnd = -1;
-  for (let p = p0; p < p1; p++) {
-    const c = cell[p];
-    if (c >= rowEnd) {
-      r = Math.floor(c / W);
-      rowStart = r * W;
-      rowEnd = rowStart + W;
+  let p = p0;
+  for (let r = p < p1 ? Math.max(w.row0, Math.floor(cell[p] / W)) : w.row1; r < w.row1 && p < p1; r++) {
+    const first = r * W + w.col0;
+    const end = r * W + w.col1;
+    p = lowerBound(cell, p, p1, first);
+    // Window index of cell c on this row: c + off.
+    const off = (r - w.row0) * ww - first;
+    for (; p < p1; p++) {
+      const c = cell[p];
+      if (c >= end) break;
+      const i = c + off;
+      if (lo[i] <= h && h <= hi[i]) out[n++] = p;
     }
-    const col = c - rowStart;
-    if (r < w.row0 || r >= w.row1 || col < w.col0 || col >= w.col1) continue;
-    const i = (r - w.row0) * ww + (col - w.col0);
-    if (lo[i] <= h && h <= hi[i]) out[n++] = p;
+    // The next row with a point at or after this one's end.
+    if (p < p1) r = Math.max(r, Math.floor(cell[p] / W) - 1);
   }
   return n;
 }

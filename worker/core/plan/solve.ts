@@ -109,7 +109,11 @@ export async function solvePlan(inst: PlanInstance, opts: PlanOptions = {}): Pro
   const t = nowMs();
   (opts.onProgress ?? (() => {}))(0, 'prepare');
   checkAccuracy(inst);
-  const m = preparePlan(withImpliedMlatFolds(inst), opts.releaseCovers, opts.memory);
+  return solveModel(inst, preparePlan(withImpliedMlatFolds(inst), opts.releaseCovers, opts.memory), opts, t);
+}
+
+/** The accuracy model (it reads the receivers' covers, which are let go after it with `releaseCovers`), then the stages. */
+function solveModel(inst: PlanInstance, m: PlanModel, opts: PlanOptions, t: number): Promise<PlanResult> {
   const acc = prepareAccuracy(inst, m);
   if (opts.releaseCovers) {
     for (const c of inst.candidates) {
@@ -135,18 +139,10 @@ export function beginSolve(
   return {
     allowedList: stream.allowedList,
     add: (c, covers) => stream.add(c, covers),
-    solve: async () => {
+    solve: () => {
       const t = nowMs();
       (opts.onProgress ?? (() => {}))(0, 'prepare');
-      const m = stream.finish();
-      const acc = prepareAccuracy(inst, m);
-      if (opts.releaseCovers) {
-        for (const c of inst.candidates) {
-          opts.memory?.give(c.covers.byteLength);
-          c.covers = new Uint32Array(0);
-        }
-      }
-      return solvePrepared(inst, m, acc, opts, t);
+      return solveModel(inst, stream.finish(), opts, t);
     },
   };
 }
