@@ -151,7 +151,7 @@ describe("the app's engine refuses before allocating", () => {
       JSON.stringify({ ...data.scenario, grid: { ...(data.scenario.grid as object), cellArcSec: 0.5 } }),
     );
     // The app keeps every footprint (its what-ifs), as `airshade outage` does (every allowed site and type, here);
-    // `coverage` holds one site's at a time, and `plan` too when every pair's do not fit, and are counted so
+    // `coverage` and `plan` hold one site's at a time (plan keeps more while they fit), and are counted so
     // (test/coverage-memory.test.ts).
     const cli = await runCli('outage', path, '--out', join(dir, 'tiny-out'), '--max-memory', '2G', '--quiet');
     expect(cli.code).toBe(2);

@@ -98,6 +98,23 @@ describe('the plan counted in the memory account', () => {
     expect(skipped).toBeGreaterThan(0);
   });
 
+  it('lets its spill go once, before a refusal, and tries the take again', () => {
+    const l = new MemoryLedger({ held: 0, limit: OVERHEAD * 100, where: 'x', knob: 'y' });
+    let spills = 0;
+    l.take(60, 'kept');
+    l.spill = () => {
+      spills++;
+      return 60;
+    };
+    l.take(30, 'a'); // fits: no spill
+    expect(spills).toBe(0);
+    l.take(50, 'b'); // 60 + 30 + 50 > 100: the kept 60 go, then 80 fits
+    expect(spills).toBe(1);
+    expect(l.bytes).toBe(OVERHEAD * 80);
+    expect(l.spill).toBeUndefined();
+    expect(() => l.take(21, 'c')).toThrow(/\(c: /);
+  });
+
   it('counts each array times the overhead, and refuses before it passes the limit', () => {
     const l = new MemoryLedger({ held: 1000, limit: 1000 + OVERHEAD * 100, where: 'x', knob: 'y' });
     expect(l.fits(100)).toBe(true);

@@ -39,7 +39,7 @@ import {
   type Demand,
 } from '../io/study.ts';
 import type { Footprint } from '../core/footprint.ts';
-import { sitesFootprintBytes, type MemoryLedger } from '../core/memory-estimate.ts';
+import { OVERHEAD, sitesFootprintBytes, type MemoryLedger } from '../core/memory-estimate.ts';
 import { memoryLimitArg } from './budget-check.ts';
 import { finishRun, RunFolder, runFolderHelp } from './files.ts';
 import { scenarioProvenance } from './provenance.ts';
@@ -135,8 +135,8 @@ export async function planCommand(argv: readonly string[], log: (s: string) => v
     { path: outDir, kind: 'folder' },
     undefined,
     undefined,
-    // Every footprint kept when they fit, else one site's at a time (below).
-    'every pair where it fits',
+    // One site's footprints at a time, and more kept while they fit (below).
+    'one site',
   );
   const s = session.loaded.scenario;
   const budgetText = one(p, 'budget');
@@ -172,6 +172,7 @@ export async function planCommand(argv: readonly string[], log: (s: string) => v
     solverNodes,
     memory,
   });
+  memory.take(4 * demand.cell.length, "the scratch list of a candidate's covered points");
   // What the solve's arrays take is let go with it (below): the model is not kept.
   const beforeSolve = memory.bytes;
   const plan = beginSolve(inst, {
@@ -184,16 +185,25 @@ export async function planCommand(argv: readonly string[], log: (s: string) => v
     releaseCovers: true,
     memory,
   });
-  // Each candidate's covers are made as its site's footprints come and handed to the plan's grouping, then let go
-  // (but a multilateration receiver's when the volumes bound accuracy: the plan reads them again). The footprints
-  // are kept when every pair's fit under --max-memory (the session's check), else let go site by site: the chosen
-  // sites' are then computed again for the layers.
-  memory.take(4 * demand.cell.length, "the scratch list of a candidate's covered points");
+  // Each candidate's covers are made as its site's footprints come and handed to the plan's grouping (but a
+  // multilateration receiver's are kept when the volumes bound accuracy: the plan reads them again). The
+  // footprints are kept while they fit under --max-memory, to spare computing the chosen sites' again for the
+  // layers; they are let go (the account's spill) as soon as one of the plan's own arrays would not fit, so that
+  // keeping them never refuses a plan that fits one site at a time.
+  const kept = new Map<number, Footprint>();
+  let keptBytes = 0;
+  let keeping = true;
+  memory.spill = () => {
+    const bytes = keptBytes;
+    kept.clear();
+    keptBytes = 0;
+    keeping = false;
+    return bytes;
+  };
   const allowed = new Uint8Array(candidates.length);
   for (const c of plan.allowedList) allowed[c] = 1;
   const keepMlatCovers = inst.accuracy !== undefined;
-  const keepAll = session.footprintHold !== 'one site';
-  const footprints = await footprintsFor(session, candidates, {
+  await footprintsFor(session, candidates, {
     weather: p.flags.has('weather'),
     progress,
     share: [0, 0.6],
@@ -209,23 +219,39 @@ export async function planCommand(argv: readonly string[], log: (s: string) => v
           inst.candidates[c].covers = cv.slice();
         }
       }
+      if (!keeping) return;
+      const bytes = fps.reduce((n, fp) => n + footprintBytesHeld(fp), 0);
+      if (!memory.fits(bytes)) {
+        keeping = false;
+        return;
+      }
+      memory.take(bytes, 'footprints kept for the layers');
+      keptBytes += bytes;
+      for (const fp of fps) kept.set(index.get(`${fp.siteId}\u0000${fp.typeId}`)!, fp);
     },
-    retain: keepAll ? undefined : KEEP_NONE,
+    retain: KEEP_NONE,
   });
   memory.give(horizons.bytes);
   const tBuilt = performance.now();
   progress.update(0.65, 'prepare');
   const result = await plan.solve();
-  memory.rewind(beforeSolve);
+  memory.spill = undefined;
+  memory.rewind(beforeSolve + OVERHEAD * keptBytes);
   const tSolved = performance.now();
-  const chosen = new Set(result.chosen);
-  const chosenFps = keepAll
-    ? footprints.filter((_, i) => chosen.has(i))
-    : await chosenFootprints(session, candidates, result.chosen, memory, {
-        weather: p.flags.has('weather'),
-        progress,
-        share: [0.95, 0.04],
-      });
+  // The chosen sensors' footprints: those kept, and the others' sites computed again.
+  const missing = result.chosen.filter((i) => !kept.has(i));
+  const again =
+    missing.length === 0
+      ? []
+      : await chosenFootprints(session, candidates, missing, memory, {
+          weather: p.flags.has('weather'),
+          progress,
+          share: [0.95, 0.04],
+        });
+  const byIndex = new Map(again.map((fp) => [index.get(`${fp.siteId}\u0000${fp.typeId}`)!, fp]));
+  const chosenFps = result.chosen.map((i) => kept.get(i) ?? byIndex.get(i)!);
+  kept.clear();
+  const recomputedSites = new Set(missing.map((i) => candidates[i].site.id)).size;
   progress.update(0.99, 'layers');
   const network = studyNetwork(session, fls, chosenFps);
   // No date in plan.json and its layers: the same inputs give the same bytes.
@@ -256,7 +282,9 @@ export async function planCommand(argv: readonly string[], log: (s: string) => v
       build: tBuilt - started,
       solve: tSolved - tBuilt,
       total: performance.now() - started,
-      ...(keepAll ? {} : { recomputedSites: new Set(result.chosen.map((i) => candidates[i].site.id)).size }),
+      ...(recomputedSites > 0
+        ? { recomputedSites, chosenSites: new Set(result.chosen.map((i) => candidates[i].site.id)).size }
+        : {}),
     }),
   );
   log(conventionsText(doc.conventions));
@@ -273,8 +301,15 @@ function solverNodesArg(text: string | undefined): number {
   return v;
 }
 
+/** The bytes a footprint holds: its window's two arrays, and its other targets' (counted even where shared). */
+function footprintBytesHeld(fp: Footprint): number {
+  let n = fp.lo.byteLength + fp.hi.byteLength;
+  for (const t of fp.byTarget ?? []) n += t.lo.byteLength + t.hi.byteLength;
+  return n;
+}
+
 /**
- * The footprints of the plan's chosen candidates, computed again (the run held one site's at a time), in the
+ * The footprints of the plan's chosen candidates `chosen` (those not kept while the run held one site's at a time), in the
  * candidates' order: each chosen site with every allowed type is swept (one sweep serves a site's types, and with
  * --cache a site's file holds them all), the chosen kept. Counted in the plan's memory account first.
  */
@@ -432,7 +467,7 @@ function planSummary(
   }
   if (t.recomputedSites !== undefined) {
     lines.push(
-      `  memory: one site's footprints held at a time (every site's at once would pass --max-memory); the ${t.recomputedSites} chosen site(s) computed again for the layers`,
+      `  memory: the footprints of ${t.recomputedSites} of the ${t.chosenSites} chosen sites were not kept (they would have passed --max-memory) and were computed again for the layers`,
     );
   }
   if (r.solverStop === 'safety time limit') {

@@ -68,16 +68,9 @@ import {
 export type Session = Study<LoadedScenario> & {
   cacheDir?: string;
   workCheck?: { loaded: LoadedScenario; limitMin: number };
-  /** Which footprints the command holds at once, as its memory was checked (`CommandHold` resolved). */
+  /** Which footprints the command holds at once, as its memory was checked. */
   footprintHold?: FootprintHold;
 };
-
-/**
- * Which footprints a command holds at once: a `FootprintHold`, or 'every pair where it fits' — every pair's when
- * the estimate with all of them is within --max-memory, else one site's (`airshade plan`: it then computes its
- * chosen sites' footprints again for its layers).
- */
-export type CommandHold = FootprintHold | 'every pair where it fits';
 
 export { allCandidates, candidate, layoutCandidates, siteOf } from '../io/study.ts';
 
@@ -139,8 +132,8 @@ export interface SessionOptions {
    * still taken before any footprint is computed.
    */
   deferWorkCheck?: boolean;
-  /** Which footprints the command holds at once (`CommandHold`; default every pair's). */
-  hold?: CommandHold;
+  /** Which footprints the command holds at once (memory-estimate.ts `FootprintHold`; default every pair's). */
+  hold?: FootprintHold;
 }
 
 /** The session options as the command line gives them (`out` from the command itself). */
@@ -165,7 +158,7 @@ export async function openCommandSession(
   out: NonNullable<SessionOptions['out']>,
   runLevels?: SessionOptions['runLevels'],
   siteRange?: SessionOptions['siteRange'],
-  hold?: CommandHold,
+  hold?: FootprintHold,
 ): Promise<{ session: Session; progress: ProgressLine }> {
   const progress = new ProgressLine(command, p.flags.has('quiet'));
   const cacheText = one(p, 'cache');
@@ -254,19 +247,13 @@ export function checkStudyMemory(
   terrain: Terrain | Parameters<typeof studyRun>[2],
   largest: TileShape | undefined,
   limit: number,
-  hold: CommandHold = 'every pair',
+  hold: FootprintHold = 'every pair',
 ): FootprintHold {
   const s = loaded.scenario;
   const grid: GridGeo = analysisGrid(loaded, terrain instanceof Terrain ? terrain : null);
-  const targets = studyTargets(s).targets.length;
-  let held: FootprintHold = hold === 'every pair where it fits' ? 'every pair' : hold;
-  let run = studyRun(s, grid, terrain, targets, largest, held);
-  if (hold === 'every pair where it fits' && estimateRun(run.shape).bytes > limit) {
-    held = 'one site';
-    run = studyRun(s, grid, terrain, targets, largest, held);
-  }
+  const run = studyRun(s, grid, terrain, studyTargets(s).targets.length, largest, hold);
   checkEstimate(estimateRun(run.shape), limit, studyBlame(loaded.locate, s, grid, run));
-  return held;
+  return hold;
 }
 
 /**

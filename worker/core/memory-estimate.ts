@@ -473,8 +473,19 @@ export class MemoryLedger implements MemoryAccount {
     return this.held + OVERHEAD * bytes <= this.at.limit;
   }
 
+  /**
+   * What can be let go when a take would pass the limit (e.g. footprints kept only to spare computing them again):
+   * called once, before the refusal; it lets its arrays go and returns their bytes, and the take is tried again.
+   */
+  spill: (() => number) | undefined;
+
   take(bytes: number, what: string): void {
     const all = (this.taken.get(what) ?? 0) + bytes;
+    if (!this.fits(bytes) && this.spill) {
+      const spill = this.spill;
+      this.spill = undefined;
+      this.give(spill());
+    }
     if (!this.fits(bytes)) {
       throw new InputError(
         this.at.where,
