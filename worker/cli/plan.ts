@@ -210,9 +210,10 @@ export async function planCommand(argv: readonly string[], log: (s: string) => v
     progress,
     share: [0, 0.6],
     onSite: (fps) => {
-      for (const fp of fps) {
-        const c = index.get(`${fp.siteId}\u0000${fp.typeId}`)!;
-        if (!allowed[c]) continue;
+      const at = fps.map((fp) => index.get(`${fp.siteId}\u0000${fp.typeId}`)!);
+      fps.forEach((fp, j) => {
+        const c = at[j];
+        if (!allowed[c]) return;
         // A view of one scratch list, read by the grouping at once.
         const cv = coveredPointsView(fp, demand, altitudes, candidates[c].model.kind);
         plan.add(c, cv);
@@ -220,7 +221,7 @@ export async function planCommand(argv: readonly string[], log: (s: string) => v
           memory.take(cv.byteLength, "the multilateration receivers' covered points");
           inst.candidates[c].covers = cv.slice();
         }
-      }
+      });
       if (!keeping) return;
       const bytes = fps.reduce((n, fp) => n + footprintBytesHeld(fp), 0);
       if (!memory.fits(bytes)) {
@@ -229,7 +230,7 @@ export async function planCommand(argv: readonly string[], log: (s: string) => v
       }
       memory.take(bytes, 'footprints kept for the layers');
       keptBytes += bytes;
-      for (const fp of fps) kept.set(index.get(`${fp.siteId}\u0000${fp.typeId}`)!, fp);
+      fps.forEach((fp, j) => kept.set(at[j], fp));
     },
     retain: KEEP_NONE,
   });

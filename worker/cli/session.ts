@@ -229,12 +229,12 @@ export async function openSession(
       );
     },
   });
-  const footprintHold = checkStudyMemory(checked, terrain, largest, limit, opts.hold);
+  checkStudyMemory(checked, terrain, largest, limit, opts.hold);
   const limitMin = opts.maxWorkMin ?? workLimitArg({ positional: [], values: new Map(), flags: new Set() });
   if (!opts.deferWorkCheck) checkStudyWork(checked, terrain, threads, limitMin);
   const study: Session = openStudy(loaded, terrain, threads, opts.runLevels);
   if (opts.deferWorkCheck) study.workCheck = { loaded: checked, limitMin };
-  study.footprintHold = footprintHold;
+  study.footprintHold = opts.hold;
   return study;
 }
 
@@ -247,13 +247,12 @@ export function checkStudyMemory(
   terrain: Terrain | Parameters<typeof studyRun>[2],
   largest: TileShape | undefined,
   limit: number,
-  hold: FootprintHold = 'every pair',
-): FootprintHold {
+  hold?: FootprintHold,
+): void {
   const s = loaded.scenario;
   const grid: GridGeo = analysisGrid(loaded, terrain instanceof Terrain ? terrain : null);
   const run = studyRun(s, grid, terrain, studyTargets(s).targets.length, largest, hold);
   checkEstimate(estimateRun(run.shape), limit, studyBlame(loaded.locate, s, grid, run));
-  return hold;
 }
 
 /**

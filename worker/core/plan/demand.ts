@@ -72,7 +72,11 @@ function checkIndexList(where: string, list: unknown, n: number, what: string): 
  */
 export function preparePlan(inst: PlanInstance, releaseCovers = false, memory?: MemoryAccount): PlanModel {
   const stream = beginPlan(inst, memory);
-  inst.candidates.forEach((c, j) => checkCovers(j, c.covers, inst.points.count));
+  // The allowed candidates' covers are checked as they are added; the others' here.
+  const allowed = new Set(stream.allowedList);
+  inst.candidates.forEach((c, j) => {
+    if (!allowed.has(j)) checkCovers(j, c.covers, inst.points.count);
+  });
   const keepMlat = (inst.accuracy?.points.length ?? 0) > 0;
   for (const c of stream.allowedList) {
     const cand = inst.candidates[c];
