@@ -15,5 +15,22 @@ export default defineConfig({
       output: { format: 'es', entryFileNames: '[name].js', chunkFileNames: '[name]-[hash].js' },
     },
   },
-  ssr: { noExternal: [] },
+  // The pure-JS libraries are bundled into the chunks (one file per chunk to read and link, not one per module:
+  // `airshade floor` started in 0.29 s against 0.42 s with them external). HiGHS stays external: it finds its
+  // WebAssembly beside its own module.
+  ssr: {
+    noExternal: [
+      'zod',
+      'proj4',
+      'geotiff',
+      'geotiff-geokeys-to-proj4',
+      'geographiclib-geodesic',
+      /^@turf\//,
+      /^d3-/,
+      'csv-parse',
+      'jsonc-parser',
+      'fflate',
+      'fast-png',
+    ],
+  },
 });

@@ -11,6 +11,7 @@ import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { spawn, spawnSync } from 'node:child_process';
 import {
   existsSync,
+  mkdirSync,
   mkdtempSync,
   readdirSync,
   readFileSync,
@@ -138,9 +139,24 @@ describe('kill -9 never leaves a partial final file', () => {
   it('coverage (and the run manifest stays readable)', async () => {
     const outDir = join(dir, 'coverage');
     const args = ['coverage', fixture.scenarioPath, '--out', outDir, '--threads', '1', '--quiet'];
+    // A whole run first, into a folder of its own, to time the kills: the built CLI runs the fixture in about 2 s
+    // and the sources through tsx take longer, and a kill after the end kills nothing.
+    const started = Date.now();
+    const whole = [
+      'coverage',
+      fixture.scenarioPath,
+      '--out',
+      join(dir, 'coverage-timed'),
+      '--threads',
+      '1',
+      '--quiet',
+    ];
+    expect(spawnSync(process.execPath, [BIN, ...whole]).status).toBe(0);
+    const wholeMs = Date.now() - started;
     let killed = 0;
     for (let i = 0; i < 5; i++) {
-      const r = await runAndKill(args, i % 2 === 0 ? { afterMs: 1000 + rnd() * 3000 } : { onTempIn: dir });
+      const at = wholeMs * (0.25 + 0.6 * rnd());
+      const r = await runAndKill(args, i % 2 === 0 ? { afterMs: at } : { onTempIn: dir });
       if (r.killed) killed++;
       await expectWholeFiles(outDir);
     }
@@ -161,9 +177,22 @@ describe('kill -9 never leaves a partial final file', () => {
   it('demo-data (in a scratch folder), and a later run repairs a damaged tile', async () => {
     const demoDir = join(dir, 'demo-terrain');
     const env = { AIRSHADE_DEMO_TERRAIN_DIR: demoDir };
+    // A whole run first, into a folder of its own, to time the kills. A run after a killed one writes only the
+    // tiles still missing, so half the kills come as soon as a tile's temporary file appears (never after the end)
+    // and the others early in a whole run's time.
+    const started = Date.now();
+    const timed = spawnSync(process.execPath, [BIN, 'demo-data', '--quiet'], {
+      env: { ...process.env, AIRSHADE_DEMO_TERRAIN_DIR: join(dir, 'demo-terrain-timed') },
+    });
+    expect(timed.status).toBe(0);
+    const wholeMs = Date.now() - started;
+    mkdirSync(demoDir, { recursive: true });
     let killed = 0;
     for (let i = 0; i < 4; i++) {
-      const r = await runAndKill(['demo-data', '--quiet'], { afterMs: 1500 + rnd() * 4000, env });
+      const r = await runAndKill(
+        ['demo-data', '--quiet'],
+        i % 2 === 0 ? { onTempIn: demoDir, env } : { afterMs: wholeMs * (0.1 + 0.3 * rnd()), env },
+      );
       if (r.killed) killed++;
       await expectWholeFiles(demoDir);
     }

@@ -149,6 +149,64 @@ describe('Terrain.fromPendingTiles: the same mosaic as Terrain.fromTiles', () =>
   });
 });
 
+describe('voids of Float32 metres found in place, by their bits', () => {
+  // The in-place test (uncompressed little-endian Float32 strips) against the conversion every other layout takes
+  // (deflate: geotiff.js decodes, then each value is compared as a number): the same voids, the same filled tile.
+  const w = 64;
+  const h = 48;
+  const f = (x: number) => Math.fround(x);
+  const below = (x: number) => {
+    const b = new Float32Array([x]);
+    new Int32Array(b.buffer)[0]--;
+    return b[0];
+  };
+  const specials = [
+    NaN,
+    Infinity,
+    -Infinity,
+    f(1e30),
+    -f(1e30),
+    below(f(1e30)),
+    -below(f(1e30)),
+    -3.4028234663852886e38,
+    0,
+    -0,
+    -9999,
+    -9999.5,
+    -32768,
+    f(0.1),
+    1e-45,
+  ];
+  it.each([
+    ['none', undefined],
+    ['-9999', -9999],
+    ['0', 0],
+    ['-32768', -32768],
+    ['0.1', f(0.1)],
+    ['nan', NaN],
+  ])('nodata %s', async (label, nodata) => {
+    const values = Array.from(bumpyDem(5, w, h), (v) => v);
+    for (let i = 0; i < values.length; i += 7) values[i] = specials[(i / 7) % specials.length];
+    const spec = {
+      width: w,
+      height: h,
+      values,
+      sampleType: 'float32' as const,
+      layout: { kind: 'strips' as const, rowsPerStrip: 4 },
+      georef: { x0: -27, y0: -41, dx: 0.01, dy: 0.01 },
+      ...(nodata === undefined ? {} : { nodata: String(nodata) }),
+    };
+    const inPlace = await readDemTile(encodeTiff(spec), `a-${label}.tif`);
+    const converted = await readDemTile(
+      encodeTiff({ ...spec, compression: 'deflate', predictor: 3 }),
+      `a-${label}.tif`,
+    );
+    expect(inPlace.voidsFilled).toBeGreaterThan(0);
+    expect(inPlace.voidsFilled).toBe(converted.voidsFilled);
+    expect(sameBits(inPlace.data, converted.data)).toBe(true);
+  });
+});
+
 describe('outputs as header + buffer; inputs hashed from the bytes read', () => {
   const geo = geographic(300, 200, -25, -41, 1 / 240);
   const data = bumpyDem(9, geo.width, geo.height);

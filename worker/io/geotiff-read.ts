@@ -837,11 +837,30 @@ function verticalScale(keys: Keys | null, warnings: string[]): number {
  * `nodata` NaN means "no nodata value" (NaN samples are voids anyway).
  */
 /** `toMetres` for Float32 metres already in place: the voids (nodata, NaN, float sentinels) become NaN. */
+/**
+ * The bits of the smallest Float32 at or above FLOAT_SENTINEL: a Float32's magnitude orders as its bits with the
+ * sign cleared, so |v| ≥ FLOAT_SENTINEL, ±Infinity and NaN are exactly the bit patterns from here up.
+ */
+const SENTINEL_BITS = (() => {
+  const f = new Float32Array([FLOAT_SENTINEL]);
+  const bits = new Int32Array(f.buffer);
+  if (f[0] < FLOAT_SENTINEL) bits[0]++;
+  return bits[0];
+})();
+
+/**
+ * `toMetres` for Float32 metres already in place (the voids become NaN; returns how many), by their bits: one
+ * integer test a sample, the nodata value compared only where its magnitude's bits match.
+ */
 function voidsInPlace(a: Float32Array, from: number, n: number, nodata: number): number {
+  const bits = new Int32Array(a.buffer, a.byteOffset, a.length);
+  // The bits of |nodata| when a Float32 can equal it (else -1, which no magnitude has); ±0 both match 0.
+  const f = Math.fround(nodata);
+  const nodataBits = f === nodata ? new Int32Array(new Float32Array([Math.abs(f)]).buffer)[0] : -1;
   let voids = 0;
-  for (let i = from; i < from + n; i++) {
-    const v = a[i];
-    if (v === nodata || v !== v || v >= FLOAT_SENTINEL || v <= -FLOAT_SENTINEL) {
+  for (let i = from, end = from + n; i < end; i++) {
+    const b = bits[i] & 0x7fffffff;
+    if (b >= SENTINEL_BITS || (b === nodataBits && a[i] === nodata)) {
       a[i] = NaN;
       voids++;
     }
