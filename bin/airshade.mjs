@@ -7,6 +7,7 @@ import { Socket } from 'node:net';
 import { constants as osConstants } from 'node:os';
 import { fileURLToPath } from 'node:url';
 import { join } from 'node:path';
+import { CHILD_MARK, HUGE_TUNABLE, wantsHugePages } from './huge-pages.mjs';
 
 const root = fileURLToPath(new URL('..', import.meta.url));
 const built = join(root, 'dist/cli/cli.js');
@@ -21,48 +22,16 @@ function newestSource(dir) {
   return t;
 }
 
-// Huge pages (issue 12). The big rasters are fresh memory, and on Linux every 4 KiB page of it costs a fault at first
-// touch (about 11 µs a page on the project's VMs: 0.7 s for a 256 MiB DEM) and a page-table walk at every TLB miss;
-// glibc >= 2.35 backs large allocations with transparent huge pages when GLIBC_TUNABLES holds
-// glibc.malloc.hugetlb=1, read once at process start. So this launcher starts Node again with the tunable, once:
-// same argv and Node options, stdin/stdout/stderr inherited, the child's exit status (or signal) passed on.
-// When: by default for `airshade floor` on DEM files of HUGE_FLOOR_BYTES or more together (reading the 8192² DEM
-// took 0.62–0.72 s against 1.55 s, README Performance; a second start of Node costs about 0.1 s, more than it saves
-// on small DEMs); AIRSHADE_HUGE_PAGES=1 asks for it for any command, AIRSHADE_HUGE_PAGES=0 never (the demo coverage
-// ran no faster with it: 7.8 s either way). Not re-run where the tunable is set already, on other platforms or C
-// libraries, on glibc older than 2.35 (which does not know it), or for --help.
-const HUGE_TUNABLE = 'glibc.malloc.hugetlb';
-/** Marks the child, so that it never starts another (a C library may drop the tunable from its environment). */
-const CHILD_MARK = 'AIRSHADE_HUGE_PAGES_CHILD';
-/** DEM bytes from which `floor` runs with huge pages by default. */
-const HUGE_FLOOR_BYTES = 64 * 1024 * 1024;
-
-/** The sizes of the `--dem` files named in argv, added up (a file that cannot be read counts nothing). */
-function demBytes(args) {
-  let total = 0;
-  for (let i = 0; i < args.length; i++) {
-    const a = args[i];
-    const path = a === '--dem' ? args[i + 1] : a.startsWith('--dem=') ? a.slice(6) : undefined;
-    if (path === undefined) continue;
-    try {
-      total += statSync(path).size;
-    } catch {
-      // the command names the file in its own message
-    }
-  }
-  return total;
-}
+// Huge pages (issue 12): whether to start Node again with glibc's huge-pages tunable is decided in huge-pages.mjs.
 
 function wantsHugePagesRerun() {
-  const env = process.env;
-  const asked = env.AIRSHADE_HUGE_PAGES;
-  if (process.platform !== 'linux' || env[CHILD_MARK] === '1' || asked === '0') return false;
-  if ((env.GLIBC_TUNABLES ?? '').includes(HUGE_TUNABLE)) return false;
-  const args = process.argv.slice(2);
-  if (args.length === 0 || args.some((a) => a === '--help' || a === '-h' || a === '--version')) return false;
-  if (asked !== '1' && !(args[0] === 'floor' && demBytes(args) >= HUGE_FLOOR_BYTES)) return false;
-  const glibc = /^(\d+)\.(\d+)/.exec(process.report?.getReport?.().header?.glibcVersionRuntime ?? '');
-  return glibc !== null && (Number(glibc[1]) > 2 || (Number(glibc[1]) === 2 && Number(glibc[2]) >= 35));
+  return wantsHugePages({
+    args: process.argv.slice(2),
+    env: process.env,
+    platform: process.platform,
+    glibc: () => process.report?.getReport?.().header?.glibcVersionRuntime,
+    fileSize: (path) => statSync(path).size,
+  });
 }
 
 if (wantsHugePagesRerun()) {

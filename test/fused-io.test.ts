@@ -17,6 +17,13 @@ import { encodeGeoTiff, encodeGeoTiffParts } from '../worker/io/geotiff-write.ts
 import { readTerrainWithin } from '../worker/cli/dem-open.ts';
 import { digestOfRead, writeFileAtomic } from '../worker/cli/files.ts';
 import { bumpyDem } from './support/bumps.ts';
+import {
+  CHILD_MARK,
+  HUGE_COMMANDS,
+  HUGE_FLOOR_BYTES,
+  HUGE_TUNABLE,
+  wantsHugePages,
+} from '../bin/huge-pages.mjs';
 import { encodeTiff, type TiffSpec } from './support/tiff-encoder.ts';
 
 const dir = mkdtempSync(join(tmpdir(), 'airshade-fused-'));
@@ -252,6 +259,47 @@ describe('outputs as header + buffer; inputs hashed from the bytes read', () => 
     const { terrain } = await readTerrainWithin([path], 2 ** 30);
     expect(digestOfRead(path)).toBe(createHash('sha256').update(new Uint8Array(bytes)).digest('hex'));
     expect(Array.from(terrain.data)).toEqual(values);
+  });
+});
+
+describe('when the launcher asks for huge pages (bin/huge-pages.mjs)', () => {
+  const sizes: Record<string, number> = { 'big.tif': HUGE_FLOOR_BYTES, 'half.tif': HUGE_FLOOR_BYTES / 2 };
+  const want = (
+    args: string[],
+    env: Record<string, string> = {},
+    more: { platform?: string; glibc?: string } = {},
+  ) =>
+    wantsHugePages({
+      args,
+      env,
+      platform: more.platform ?? 'linux',
+      glibc: () => more.glibc ?? '2.36',
+      fileSize: (p: string) => {
+        if (!(p in sizes)) throw new Error(`no ${p}`);
+        return sizes[p];
+      },
+    });
+  it('by default for the study commands and for floor on 64 MiB of DEM or more', () => {
+    for (const c of HUGE_COMMANDS) expect(want([c, 'study.json', '--out', 'o'])).toBe(true);
+    expect(want(['floor', '--dem', 'big.tif', '--site=-27,-40'])).toBe(true);
+    expect(want(['floor', '--dem=half.tif', '--dem', 'half.tif'])).toBe(true);
+    expect(want(['floor', '--dem', 'half.tif'])).toBe(false);
+    expect(want(['floor', '--dem', 'missing.tif', '--dem', 'half.tif'])).toBe(false);
+    for (const c of ['diagram', 'init', 'demo-data', 'demo']) expect(want([c, 'x'])).toBe(false);
+  });
+  it('AIRSHADE_HUGE_PAGES=1 for any command, =0 never; never in the child, with the tunable set, for --help', () => {
+    expect(want(['diagram', 'x'], { AIRSHADE_HUGE_PAGES: '1' })).toBe(true);
+    expect(want(['plan', 'x'], { AIRSHADE_HUGE_PAGES: '0' })).toBe(false);
+    expect(want(['plan', 'x'], { [CHILD_MARK]: '1' })).toBe(false);
+    expect(want(['plan', 'x'], { GLIBC_TUNABLES: `glibc.malloc.arena_max=2:${HUGE_TUNABLE}=0` })).toBe(false);
+    expect(want(['plan', '--help'])).toBe(false);
+    expect(want([])).toBe(false);
+  });
+  it('only on Linux with glibc 2.35 or later', () => {
+    expect(want(['plan', 'x'], {}, { platform: 'darwin' })).toBe(false);
+    expect(want(['plan', 'x'], {}, { glibc: '2.34' })).toBe(false);
+    expect(want(['plan', 'x'], {}, { glibc: '' })).toBe(false);
+    expect(want(['plan', 'x'], {}, { glibc: '3.0' })).toBe(true);
   });
 });
 
