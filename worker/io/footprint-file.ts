@@ -88,10 +88,14 @@ function windowCells(w: FootprintWindow | null, cells: number): number {
   return w === null ? cells : (w.row1 - w.row0) * (w.col1 - w.col0);
 }
 
-/** A footprint's array (its window's cells, row by row) as little-endian bytes. */
+/**
+ * A footprint's array (its window's cells, row by row) as little-endian bytes: on a little-endian machine the array's
+ * own bytes (the file is written before anything changes them), else a swapped copy.
+ */
 function packCells(a: Uint16Array): Uint8Array {
+  if (LITTLE_ENDIAN) return new Uint8Array(a.buffer, a.byteOffset, a.byteLength);
   const out = a.slice();
-  if (!LITTLE_ENDIAN) swapBytes(out);
+  swapBytes(out);
   return new Uint8Array(out.buffer, 0, out.byteLength);
 }
 
@@ -261,8 +265,14 @@ function validWindow(w: FootprintWindow, width: number, height: number): boolean
   );
 }
 
-/** `n` cells (a footprint's window, row by row) from `payload[at…]`. */
+/**
+ * `n` cells (a footprint's window, row by row) from `payload[at…]`: on a little-endian machine a view of the file's
+ * bytes where they lie on a 2-byte boundary (the footprints of a file then share its buffer, as they are let go
+ * together), else a copy.
+ */
 function unpackCells(payload: Uint8Array, at: number, n: number): Uint16Array {
+  const offset = payload.byteOffset + at;
+  if (LITTLE_ENDIAN && offset % 2 === 0) return new Uint16Array(payload.buffer, offset, n);
   const out = new Uint16Array(n);
   new Uint8Array(out.buffer).set(payload.subarray(at, at + 2 * n));
   if (!LITTLE_ENDIAN) swapBytes(out);
