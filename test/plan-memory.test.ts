@@ -185,7 +185,7 @@ describe('airshade plan past --max-memory', () => {
     const lines = r.err.trim().split('\n');
     expect(lines).toHaveLength(1);
     expect(lines[0]).toMatch(
-      /^airshade plan: .*short-range\.json: grid\.cellArcSec \(30″: 600 × 600 cells\) with 165 \(site, type\) pairs: found a plan that needs about \d+ MiB \(the demand points: \d+ MiB\); expected at most \d+ MiB \(--max-memory; raise it up to this machine's .*fewer sites or sensor types; the footprints computed are in the --cache folder for the next run\)$/,
+      /^airshade plan: .*short-range\.json: grid\.cellArcSec \(30″: 600 × 600 cells\) with 165 \(site, type\) pairs: found a plan that needs about \d+ MiB \(the demand points: \d+ MiB\); expected at most \d+ MiB \(--max-memory; raise it up to this machine's .*fewer sites or sensor types\)$/,
     );
     // Nothing of the plan was written, and no footprint computed.
     expect(existsSync(out) ? readdirSync(out).filter((f) => !f.startsWith('airshade-run')) : []).toEqual([]);
@@ -198,6 +198,7 @@ describe('airshade plan past --max-memory', () => {
     let limit = refusal(first.err).mib + 1;
     // Each refusal's figure + 1 MiB as the next limit, until one comes after the footprints: the layers' own.
     const named: string[] = [];
+    const said: string[] = [];
     for (let i = 0; i < 8; i++) {
       const r = await runCli(
         ...args,
@@ -211,11 +212,15 @@ describe('airshade plan past --max-memory', () => {
       expect(r.code, r.err).toBe(2);
       const { mib, what } = refusal(r.err);
       named.push(what);
+      said.push(r.err.trim());
       limit = mib + 1;
       if (what === "the chosen sites' footprints, computed again for the layers") break;
     }
     expect(named[0]).toBe('the demand points');
     expect(named.at(-1)).toBe("the chosen sites' footprints, computed again for the layers");
+    // Only a refusal after footprints were computed offers them for the next run.
+    expect(said[0]).not.toMatch(/footprints computed/);
+    expect(said.at(-1)).toMatch(/; the footprints computed are in the --cache folder for the next run\)$/);
     const kept = cacheFiles(cache);
     expect([...kept.keys()].filter((f) => f.endsWith('.footprints'))).toHaveLength(33);
     // With room for the chosen sites' footprints, one site's at a time still: they are read from the cache again.

@@ -84,16 +84,19 @@ export function checkEstimate(est: Estimate, limit: number, blame: Record<Estima
 
 /**
  * How a plan's limit is set, and what makes a plan smaller: the refusal's words (core/memory-estimate.ts
- * MemoryLedger). A plan is refused once its coverage is done: with a footprint cache (`cached`) the next run reads
- * the footprints from it, and without one the words say how to keep them.
+ * MemoryLedger). With a footprint cache (`cached`) a refusal once footprints are computed (`computed`) says the next
+ * run reads them from it; one before any sweep (the demand points alone) has none to offer; without a cache the words
+ * say how to keep them.
  */
-export function planKnob(cached: boolean): string {
+export function planKnob(cached: boolean, computed: boolean): string {
   return (
     `--max-memory; raise it up to this machine's ${formatBytes(totalmem())}, ` +
-    'or make the plan smaller: coarser grid.cellArcSec, fewer flight levels or volumes, fewer sites or sensor types; ' +
-    (cached
-      ? 'the footprints computed are in the --cache folder for the next run'
-      : 'with --cache DIR the next run keeps the footprints it computes')
+    'or make the plan smaller: coarser grid.cellArcSec, fewer flight levels or volumes, fewer sites or sensor types' +
+    (!cached
+      ? '; with --cache DIR the next run keeps the footprints it computes'
+      : computed
+        ? '; the footprints computed are in the --cache folder for the next run'
+        : '')
   );
 }
 

@@ -40,7 +40,7 @@ import {
 } from '../io/study.ts';
 import type { Footprint } from '../core/footprint.ts';
 import { OVERHEAD, sitesFootprintBytes, type MemoryLedger } from '../core/memory-estimate.ts';
-import { memoryLimitArg } from './budget-check.ts';
+import { memoryLimitArg, planKnob } from './budget-check.ts';
 import { finishRun, RunFolder, runFolderHelp } from './files.ts';
 import { scenarioProvenance } from './provenance.ts';
 import {
@@ -163,6 +163,7 @@ export async function planCommand(argv: readonly string[], log: (s: string) => v
   // footprints are done.
   const horizons = { bytes: 0 };
   const memory = planLedger(session, memoryLimitArg(p), horizons);
+  const cached = session.cacheDir !== undefined;
   memory.take(DEMAND_POINT_BYTES * demand.cell.length, 'the demand points');
   const inst = planInstance(session, candidates, null, demand, altitudes, {
     forced,
@@ -210,6 +211,7 @@ export async function planCommand(argv: readonly string[], log: (s: string) => v
     progress,
     share: [0, 0.6],
     onSite: (fps) => {
+      if (cached) memory.setKnob(planKnob(true, true));
       const at = fps.map((fp) => index.get(`${fp.siteId}\u0000${fp.typeId}`)!);
       fps.forEach((fp, j) => {
         const c = at[j];

@@ -279,7 +279,8 @@ export function planLedger(session: Session, limit: number, horizons?: { bytes: 
     held: heldAfterCoverage(est) + (horizons ? OVERHEAD * est.parts.horizons : 0),
     limit,
     where,
-    knob: planKnob(session.cacheDir !== undefined),
+    // Before any sweep: the caller says when the footprints have come (`MemoryLedger.setKnob`).
+    knob: planKnob(session.cacheDir !== undefined, false),
   });
 }
 

@@ -459,6 +459,11 @@ export class MemoryLedger implements MemoryAccount {
     this.held = at.held;
   }
 
+  /** How the limit is set, as a later refusal says it (what the run can offer changes as it goes). */
+  setKnob(knob: string): void {
+    this.at.knob = knob;
+  }
+
   /** Bytes counted so far. */
   get bytes(): number {
     return this.held;
