@@ -833,11 +833,6 @@ function verticalScale(keys: Keys | null, warnings: string[]): number {
 }
 
 /**
- * Copies `n` samples from `src[from…]` into `out[at…]` in metres; voids become NaN. Returns the number of voids.
- * `nodata` NaN means "no nodata value" (NaN samples are voids anyway).
- */
-/** `toMetres` for Float32 metres already in place: the voids (nodata, NaN, float sentinels) become NaN. */
-/**
  * The bits of the smallest Float32 at or above FLOAT_SENTINEL: a Float32's magnitude orders as its bits with the
  * sign cleared, so |v| ≥ FLOAT_SENTINEL, ±Infinity and NaN are exactly the bit patterns from here up.
  */
@@ -868,6 +863,10 @@ function voidsInPlace(a: Float32Array, from: number, n: number, nodata: number):
   return voids;
 }
 
+/**
+ * Copies `n` samples from `src[from…]` into `out[at…]` in metres; voids become NaN. Returns the number of voids.
+ * `nodata` NaN means "no nodata value" (NaN samples are voids anyway).
+ */
 function toMetres(
   src: ArrayLike<number>,
   from: number,
