@@ -44,6 +44,7 @@ import { booleanPointInPolygon } from '@turf/boolean-point-in-polygon';
 import { kinks } from '@turf/kinks';
 import { z } from 'zod';
 import { InputError } from './errors.ts';
+import { COLD_DAY, K_LIMITS, K_TEXT, kFactorProblem } from './units.ts';
 import { RADAR_KINDS } from './sensor-kinds.ts';
 import { DETECTION_LIMITS, ECHO_SPEC_FIELDS, FLUCTUATION_IDS, TRANSPONDER_IDS } from './target-terms.ts';
 
@@ -66,13 +67,7 @@ export const SCENARIO_DEFAULTS = {
   mlatAltitudeAided: true,
 } as const;
 
-/**
- * The planner's cold, low-pressure worst case (one switch in the app, `--cold-day` on the command line): QNH
- * 980 hPa with the air 20 °C colder than the ISA. Both are our own round choices inside what a winter low brings
- * (common practice: planners check a cold low-pressure day, where flight levels sit lowest); FL100 then sits at
- * about 2,590 m true instead of 3,048 m (worker/core/altimetry.ts).
- */
-export const COLD_DAY = Object.freeze({ qnhHpa: 980, isaDeviationC: -20 });
+export { COLD_DAY, K_LIMITS };
 
 /** Flight levels accepted anywhere in a scenario (hundreds of feet). */
 export const FL_MIN = 0;
@@ -990,31 +985,10 @@ function checkReferences(s: Record<string, unknown>, ctx: Ctx): void {
   });
 }
 
-/**
- * Effective earth radius factor k = 157/(157 − ΔN) (ITU-R P.452 eq. (5), ΔN the refractivity decrease per km).
- * k ≤ 0 or k → ∞ is a gradient of −157 N/km or steeper: the ray bends at least as fast as the earth (ducting),
- * which an effective-earth model cannot represent. Accepted: 0.2 ≤ k ≤ 20, i.e. from strong sub-refraction
- * (ΔN = −628 N/km) to within 5 % of the ducting gradient (ΔN = 149 N/km).
- */
-export const K_LIMITS = { min: 0.2, max: 20 } as const;
-const K_TEXT = `an effective earth radius factor k from ${K_LIMITS.min} to ${K_LIMITS.max} (4/3 is standard)`;
+/** The effective-earth factor's accepted range and its problems: shared/units.ts (K_LIMITS, kFactorProblem). */
 export const KFactorSchema = z.number({ error: K_TEXT }).superRefine((k, ctx) => {
-  if (!Number.isFinite(k)) return;
-  if (k <= 0 || k > K_LIMITS.max) {
-    problem(
-      ctx,
-      [],
-      String(k),
-      `${K_TEXT}: k ${k <= 0 ? '≤ 0' : `> ${K_LIMITS.max}`} means a refractivity gradient at or near −157 N/km, where the ray bends as fast as the earth (ducting) — the effective-earth model does not hold; study a duct with a propagation model that represents it`,
-    );
-  } else if (k < K_LIMITS.min) {
-    problem(
-      ctx,
-      [],
-      String(k),
-      `${K_TEXT}: k < ${K_LIMITS.min} is sub-refraction beyond anything the standard atmosphere models describe`,
-    );
-  }
+  const why = kFactorProblem(k);
+  if (why !== undefined) problem(ctx, [], String(k), why);
 });
 const CELL_TEXT = 'a cell size in arc-seconds, > 0 and ≤ 3600';
 const SENSOR_TYPES_TEXT =

@@ -26,6 +26,36 @@ export const EARTH_RADIUS_M = 6_371_000;
 /** Standard-atmosphere refraction: effective earth radius factor k = 4/3. */
 export const DEFAULT_K_FACTOR = 4 / 3;
 
+/**
+ * Effective earth radius factor k = 157/(157 − ΔN) (ITU-R P.452 eq. (5), ΔN the refractivity decrease per km).
+ * k ≤ 0 or k → ∞ is a gradient of −157 N/km or steeper: the ray bends at least as fast as the earth (ducting),
+ * which an effective-earth model cannot represent. Accepted: 0.2 ≤ k ≤ 20, i.e. from strong sub-refraction
+ * (ΔN = −628 N/km) to within 5 % of the ducting gradient (ΔN = 149 N/km). Here rather than beside the scenario's
+ * schema so that a command which takes only `--k` (airshade floor) need not load the schema library.
+ */
+export const K_LIMITS = { min: 0.2, max: 20 } as const;
+export const K_TEXT = `an effective earth radius factor k from ${K_LIMITS.min} to ${K_LIMITS.max} (4/3 is standard)`;
+
+/** Why k is refused (the whole "expected" text), or undefined when it is accepted; a non-number is the caller's. */
+export function kFactorProblem(k: number): string | undefined {
+  if (!Number.isFinite(k)) return undefined;
+  if (k <= 0 || k > K_LIMITS.max) {
+    return `${K_TEXT}: k ${k <= 0 ? '≤ 0' : `> ${K_LIMITS.max}`} means a refractivity gradient at or near −157 N/km, where the ray bends as fast as the earth (ducting) — the effective-earth model does not hold; study a duct with a propagation model that represents it`;
+  }
+  if (k < K_LIMITS.min) {
+    return `${K_TEXT}: k < ${K_LIMITS.min} is sub-refraction beyond anything the standard atmosphere models describe`;
+  }
+  return undefined;
+}
+
+/**
+ * The planner's cold, low-pressure worst case (one switch in the app, `--cold-day` on the command line): QNH
+ * 980 hPa with the air 20 °C colder than the ISA. Both are our own round choices inside what a winter low brings
+ * (common practice: planners check a cold low-pressure day, where flight levels sit lowest); FL100 then sits at
+ * about 2,590 m true instead of 3,048 m (worker/core/altimetry.ts).
+ */
+export const COLD_DAY = Object.freeze({ qnhHpa: 980, isaDeviationC: -20 });
+
 // ICAO standard atmosphere (Doc 7488) constants.
 /** Sea-level standard pressure, hPa. */
 export const ISA_SEA_LEVEL_PRESSURE_HPA = 1013.25;

@@ -4,7 +4,7 @@
  */
 import { availableParallelism } from 'node:os';
 import { InputError } from '../../shared/errors.ts';
-import { COLD_DAY } from '../../shared/scenario.ts';
+import { COLD_DAY } from '../../shared/units.ts';
 
 export interface OptionSpec {
   /** Takes a value (otherwise a flag). */

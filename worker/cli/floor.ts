@@ -1,8 +1,7 @@
 /** `airshade floor`: the terrain-masking floor of one antenna as a Float32 GeoTIFF on the first DEM's grid. */
-import { KFactorSchema, parseWith } from '../../shared/scenario.ts';
 import { CAUTION } from '../../shared/caution.ts';
 import { InputError } from '../../shared/errors.ts';
-import { DEFAULT_K_FACTOR, EARTH_RADIUS_M } from '../../shared/units.ts';
+import { DEFAULT_K_FACTOR, EARTH_RADIUS_M, K_TEXT, kFactorProblem } from '../../shared/units.ts';
 import {
   computeFloor,
   computeGridFloor,
@@ -98,14 +97,7 @@ export async function floorCommand(argv: readonly string[], log: (s: string) => 
     'an antenna height above ground from 0 to 1000 m',
   );
   const kText = one(p, 'k');
-  const kFactor =
-    kText === undefined
-      ? DEFAULT_K_FACTOR
-      : parseWith(
-          KFactorSchema,
-          numberArg('k', kText, -1e9, 1e9, 'a number: the effective-earth factor k'),
-          () => '--k',
-        );
+  const kFactor = kText === undefined ? DEFAULT_K_FACTOR : kFactorArg(kText);
   const rangeText = one(p, 'max-range-km');
   const maxRangeKm =
     rangeText === undefined
@@ -436,4 +428,12 @@ export function windowOf(terrain: Terrain, geo: GridGeo): Float32Array {
     out.set(terrain.data.subarray(src, src + geo.width), r * geo.width);
   }
   return out;
+}
+
+/** `--k`: a number the effective-earth model holds for (the scenario's rule, shared/units.ts `kFactorProblem`). */
+function kFactorArg(text: string): number {
+  const k = numberArg('k', text, -1e9, 1e9, `a number: ${K_TEXT}`);
+  const why = kFactorProblem(k);
+  if (why !== undefined) throw new InputError('--k', String(k), why);
+  return k;
 }
