@@ -11,8 +11,10 @@
  *   sensor types of the default catalog (data/catalog/sensor-types.json, inlined), 10 flight levels FL030–FL460,
  *   a 15″ analysis grid over the box, five volumes with requirements and a layout of the existing sensors.
  * `--scale F` shrinks the box to 15·F degrees a side about the same centre with 500·F² sites (the same density;
- * 15·F must be whole: 0.2 → 3° × 3°, 20 sites); `--sites N` sets the count. `--scenario FILE` times an existing
- * scenario file instead (nothing is generated).
+ * 15·F must be whole: 0.2 → 3° × 3°, 20 sites); `--sites N` sets the count. `--seed N` makes another study of the same
+ * shape: the same ranges, rivers and summits, the generator's noise (hills, warp, coast) and the sites drawn from
+ * seed N, its tiles in a folder of their own (terrain-seed-N/). `--scenario FILE` times an existing scenario file
+ * instead (nothing is generated).
  *
  * Each command runs as a child process under `/usr/bin/time -f "%e %M"` (wall seconds, peak resident KiB of the
  * whole process) when present, else with this script's clock and the command's own "peak memory" line. The
@@ -23,7 +25,8 @@
  *   npm run bench:national                             (full size: 225 tiles, 500 sites)
  *   npx tsx bench/national.ts --scale 0.2              (3° × 3°, 20 sites: a quick end-to-end check)
  *   npx tsx bench/national.ts --scenario study.json    (time an existing scenario)
- *   options: --sites N, --cell ARCSEC (analysis cell, default 15), --steps coverage,plan, --threads N, --max-memory SIZE, --max-work-min M,
+ *   npx tsx bench/national.ts --seed 2                 (a second study of the same shape: other terrain, other sites)
+ *   options: --sites N, --seed N, --cell ARCSEC (analysis cell, default 15), --steps coverage,plan, --threads N, --max-memory SIZE, --max-work-min M,
  *            --timeout-min M (stop a command after M minutes and record it), --allow-outside-paths
  */
 import { spawn } from 'node:child_process';
@@ -156,6 +159,8 @@ const NATIONAL_LAYOUT: SynthLayout = {
 
 interface Options {
   scale: number;
+  /** The generator's seed; undefined = the study's own (NATIONAL_LAYOUT.seed, and its sites' draw). */
+  seed?: number;
   sideDeg: number;
   sites: number;
   cellArcSec: number;
@@ -176,6 +181,7 @@ function readOptions(argv: string[]): Options {
       options: {
         scale: { type: 'string' },
         sites: { type: 'string' },
+        seed: { type: 'string' },
         cell: { type: 'string' },
         scenario: { type: 'string' },
         steps: { type: 'string' },
@@ -192,7 +198,7 @@ function readOptions(argv: string[]): Options {
     throw new InputError(
       'bench/national.ts arguments',
       (e as Error).message,
-      '--scale F, --sites N, --scenario FILE, --steps coverage,plan, --threads N, --max-memory SIZE, ' +
+      '--scale F, --sites N, --seed N, --scenario FILE, --steps coverage,plan, --threads N, --max-memory SIZE, ' +
         '--max-work-min M, --timeout-min M, --allow-outside-paths',
     );
   }
@@ -215,6 +221,14 @@ function readOptions(argv: string[]): Options {
       '--sites',
       JSON.stringify(v.sites),
       'a whole number of candidate sites from 2 to 999',
+    );
+  }
+  const seed = v.seed === undefined ? undefined : Number(v.seed);
+  if (seed !== undefined && !(/^\d+$/.test(v.seed ?? '') && Number.isSafeInteger(seed))) {
+    throw new InputError(
+      '--seed',
+      JSON.stringify(v.seed),
+      'a whole number (the seed of the invented terrain and sites)',
     );
   }
   const cellArcSec = v.cell === undefined ? CELL_ARCSEC : Number(v.cell);
@@ -267,16 +281,17 @@ function readOptions(argv: string[]): Options {
     } catch (e) {
       throw new InputError('--scenario', `${v.scenario}: ${(e as Error).message}`, 'a scenario file in JSON');
     }
-    if (v.scale !== undefined || v.sites !== undefined || v.cell !== undefined) {
+    if (v.scale !== undefined || v.sites !== undefined || v.cell !== undefined || v.seed !== undefined) {
       throw new InputError(
         '--scenario',
-        'also --scale, --sites or --cell',
+        'also --scale, --sites, --seed or --cell',
         '--scenario alone (its study is given)',
       );
     }
   }
   return {
     scale,
+    seed,
     sideDeg,
     sites,
     cellArcSec,
@@ -319,30 +334,45 @@ interface TileManifest {
   tiles: RunFile[];
 }
 
-function generatorFingerprint(world: SynthWorld): string {
+/** The layout of the study drawn from `seed` (undefined: the study's own). */
+function layoutOf(seed: number | undefined): SynthLayout {
+  return seed === undefined ? NATIONAL_LAYOUT : { ...NATIONAL_LAYOUT, seed };
+}
+
+/** Where a seed's tiles live: the study's own in terrain/, another seed's in terrain-seed-N/. */
+function terrainDirOf(seed: number | undefined): string {
+  return seed === undefined ? TERRAIN_DIR : join(NAT_DIR, `terrain-seed-${seed}`);
+}
+
+function generatorFingerprint(world: SynthWorld, layout: SynthLayout): string {
   const patch = new Float32Array(16 * 16);
   fillGeographic(patch, FULL.west + 3.37, FULL.south + 5.61, 0.01, 16, 16, world);
   return sha256(
-    `${TILE_ARCSEC}/${TILE_SAMPLES}/int16/${JSON.stringify(NATIONAL_LAYOUT)}/` +
-      sha256(new Uint8Array(patch.buffer)),
+    `${TILE_ARCSEC}/${TILE_SAMPLES}/int16/${JSON.stringify(layout)}/` + sha256(new Uint8Array(patch.buffer)),
   );
 }
 
 /** Makes the box's tiles whole (missing or changed ones generated again); returns their paths, north first. */
-function ensureTiles(box: Box, world: SynthWorld): { paths: string[]; generated: number; seconds: number } {
+function ensureTiles(
+  box: Box,
+  world: SynthWorld,
+  layout: SynthLayout,
+  dir: string,
+): { paths: string[]; generated: number; seconds: number } {
   const t0 = performance.now();
-  mkdirSync(TERRAIN_DIR, { recursive: true });
-  const fingerprint = generatorFingerprint(world);
+  mkdirSync(dir, { recursive: true });
+  const manifest = join(dir, basename(MANIFEST));
+  const fingerprint = generatorFingerprint(world, layout);
   const known = new Map<string, RunFile>();
   try {
-    const m = JSON.parse(readFileSync(MANIFEST, 'utf8')) as TileManifest;
+    const m = JSON.parse(readFileSync(manifest, 'utf8')) as TileManifest;
     if (m.generator === fingerprint) for (const t of m.tiles) known.set(t.name, t);
   } catch {
     // absent or unreadable: every tile is made
   }
   const save = () =>
     writeFileAtomic(
-      MANIFEST,
+      manifest,
       JSON.stringify(
         {
           about:
@@ -361,7 +391,7 @@ function ensureTiles(box: Box, world: SynthWorld): { paths: string[]; generated:
   for (let lat = box.north - 1; lat >= box.south; lat--) {
     for (let lon = box.west; lon < box.east; lon++) {
       const name = tileName(lon, lat);
-      const path = join(TERRAIN_DIR, name);
+      const path = join(dir, name);
       paths.push(path);
       const want = known.get(name);
       if (want !== undefined && existsSync(path)) {
@@ -413,8 +443,8 @@ interface Site {
  * kept when the ground there is above 5 m (the sea is exactly 0 m), then the highest of four nearby draws within
  * about 3 km (sites sit on high ground). Every 50th site, and at least two, are existing.
  */
-function makeSites(box: Box, count: number, world: SynthWorld): Site[] {
-  const rand = rng32(0x6e617431 ^ count);
+function makeSites(box: Box, count: number, world: SynthWorld, seed: number | undefined): Site[] {
+  const rand = rng32(0x6e617431 ^ count ^ (seed === undefined ? 0 : Math.imul(seed, 0x9e3779b1)));
   const side = box.east - box.west;
   const inset = 0.02 * side;
   const existingEvery = Math.max(1, Math.min(50, Math.floor(count / 2)));
@@ -783,22 +813,26 @@ async function main(): Promise<void> {
     runDir = join(NAT_DIR, 'given-' + basename(scenario).replace(/\.json$/i, ''));
   } else {
     const box = boxOf(o.sideDeg);
-    const tag = `${o.sideDeg}deg-${o.sites}sites` + (o.cellArcSec === CELL_ARCSEC ? '' : `-${o.cellArcSec}s`);
+    const tag =
+      `${o.sideDeg}deg-${o.sites}sites` +
+      (o.cellArcSec === CELL_ARCSEC ? '' : `-${o.cellArcSec}s`) +
+      (o.seed === undefined ? '' : `-seed${o.seed}`);
     process.stderr.write(
       `national bench: ${o.sideDeg}° × ${o.sideDeg}° (${box.west}…${box.east}° E, ${box.south}…${box.north}° N), ` +
-        `${o.sites} sites, load average ${loadavg()[0].toFixed(2)}\n`,
+        `${o.sites} sites${o.seed === undefined ? '' : `, seed ${o.seed}`}, load average ${loadavg()[0].toFixed(2)}\n`,
     );
-    const world = createSynthWorld(NATIONAL_LAYOUT);
-    const t = ensureTiles(box, world);
+    const layout = layoutOf(o.seed);
+    const world = createSynthWorld(layout);
+    const t = ensureTiles(box, world, layout, terrainDirOf(o.seed));
     terrain = { tiles: t.paths.length, generated: t.generated, seconds: Math.round(t.seconds * 10) / 10 };
     process.stderr.write(
       `  terrain: ${t.paths.length} tiles ready (${t.generated} generated, ${terrain.seconds} s)\n`,
     );
-    const sites = makeSites(box, o.sites, world);
+    const sites = makeSites(box, o.sites, world, o.seed);
     scenario = writeScenario(box, sites, t.paths, tag, o.cellArcSec);
     const cells = Math.round((o.sideDeg * 3600) / o.cellArcSec) ** 2;
     description =
-      `Invented terrain ${o.sideDeg}° × ${o.sideDeg}° at 3″ (${t.paths.length} tiles of 1201²), ` +
+      `Invented terrain ${o.sideDeg}° × ${o.sideDeg}° at 3″${o.seed === undefined ? '' : ` (generator and sites seeded ${o.seed})`} (${t.paths.length} tiles of 1201²), ` +
       `${o.sites} candidate sites × 5 types of the default catalog, ${FLIGHT_LEVELS.length} flight levels, ` +
       `${o.cellArcSec}″ analysis grid (${cells.toLocaleString('en')} cells), 5 volumes.`;
     runDir = join(NAT_DIR, tag);

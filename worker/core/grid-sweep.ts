@@ -36,7 +36,7 @@
  *
  * Unknown terrain (NaN) makes every sight line through it unknown (NaN), never sea level.
  */
-import { FLOOR_CAP_M } from './horizon.ts';
+import { FLOOR_CAP_M } from './floor-cap.ts';
 import type { VectorMapParts } from './geodesy.ts';
 
 const NOTHING = -1e9;

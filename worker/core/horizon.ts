@@ -17,6 +17,7 @@
  * Terrain that is unknown (no tile) makes every range beyond it unknown on that radial (NaN): never sea level.
  */
 import { EARTH_RADIUS_M } from '../../shared/units.ts';
+import { FLOOR_CAP_M } from './floor-cap.ts';
 import { InputError } from '../../shared/errors.ts';
 import {
   pseudoToAzimuthRad,
@@ -141,8 +142,7 @@ const NOTHING = -1e9;
 /** Near field: this many terrain pixels from the antenna, sampled NEAR_SUBSTEPS times per range step. */
 const NEAR_FIELD_PIXELS = 16;
 const NEAR_SUBSTEPS = 8;
-/** Floors above this are written as this value: no aircraft flies there, and Float32 stays finite. */
-export const FLOOR_CAP_M = 100_000;
+export { FLOOR_CAP_M };
 
 export function planHorizon(terrain: TerrainRaster, spec: HorizonSpec): HorizonLayout {
   const kFactor = spec.kFactor ?? 4 / 3;
