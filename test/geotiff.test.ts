@@ -3,7 +3,8 @@ import proj4 from 'proj4';
 import { describe, expect, it } from 'vitest';
 import { InputError, isInputError } from '../shared/errors.ts';
 import { WGS84_GEOGRAPHIC, type Crs, type GridGeo } from '../worker/core/grid.ts';
-import { fillVoids, readDemTile } from '../worker/io/geotiff-read.ts';
+import geokeysToProj4 from 'geotiff-geokeys-to-proj4';
+import { commonCrsProj4, fillVoids, readDemTile } from '../worker/io/geotiff-read.ts';
 import { encodeGeoTiff } from '../worker/io/geotiff-write.ts';
 import {
   corruptIfdOffset,
@@ -604,5 +605,71 @@ describe('readDemTile: bad input gives one clear InputError', () => {
     expect((err as Error).message).toMatch(
       /^dir\/zero\.tif: found a file that is not a TIFF .*; expected a GeoTIFF file/,
     );
+  });
+});
+
+describe('commonCrsProj4: the common CRSs read without the geokeys library', () => {
+  type Keys = Record<string, unknown>;
+  const ask = (keys: Keys) =>
+    geokeysToProj4.toProj4(keys as unknown as Parameters<typeof geokeysToProj4.toProj4>[0]);
+  // Optional keys a writer may add beside the code (GDAL writes citations and the units).
+  const extras: Keys[] = [
+    {},
+    { GTRasterTypeGeoKey: 1 },
+    { GTRasterTypeGeoKey: 2, GTCitationGeoKey: 'WGS 84 / UTM zone', GeogCitationGeoKey: 'WGS 84' },
+    { GeogAngularUnitsGeoKey: 9102 },
+  ];
+
+  it("gives the library's own answer, field by field, for EPSG:4326 and all 120 WGS 84 / UTM zones", () => {
+    const codes = [...Array(60).keys()].flatMap((i) => [32601 + i, 32701 + i]);
+    let compared = 0;
+    for (const extra of extras) {
+      const geo = { GTModelTypeGeoKey: 2, GeographicTypeGeoKey: 4326, ...extra };
+      expect(commonCrsProj4(geo)).toEqual(ask(geo));
+      compared++;
+      for (const code of codes) {
+        for (const units of [
+          {},
+          { ProjLinearUnitsGeoKey: 9001 },
+          { PCSCitationGeoKey: 'WGS 84 / UTM zone' },
+        ]) {
+          const keys = { GTModelTypeGeoKey: 1, ProjectedCSTypeGeoKey: code, ...units, ...extra };
+          const mine = commonCrsProj4(keys);
+          expect(mine, JSON.stringify(keys)).toBeDefined();
+          expect(mine, JSON.stringify(keys)).toEqual(ask(keys));
+          compared++;
+        }
+      }
+    }
+    expect(compared).toBe(extras.length * (1 + 120 * 3));
+  });
+
+  it('the UTM definition: zone 24 south puts lon −39°, lat −20° where the written-out UTM string does', () => {
+    const mine = commonCrsProj4({ GTModelTypeGeoKey: 1, ProjectedCSTypeGeoKey: 32724 })!;
+    const [x, y] = proj4(mine.proj4, [-39.5, -20.25]);
+    const [ux, uy] = proj4(UTM24S_PROJ4, [-39.5, -20.25]);
+    expect(Math.abs(x - ux)).toBeLessThan(1e-6);
+    expect(Math.abs(y - uy)).toBeLessThan(1e-6);
+  });
+
+  it('leaves everything else to the library', () => {
+    const others: Keys[] = [
+      { GTModelTypeGeoKey: 2, GeographicTypeGeoKey: 4269 },
+      { GTModelTypeGeoKey: 2, GeographicTypeGeoKey: 4326, GeogAngularUnitsGeoKey: 9105 },
+      { GTModelTypeGeoKey: 2, GeographicTypeGeoKey: 4326, VerticalUnitsGeoKey: 9002 },
+      { GeographicTypeGeoKey: 4326 },
+      { GTModelTypeGeoKey: 1, ProjectedCSTypeGeoKey: 32600 },
+      { GTModelTypeGeoKey: 1, ProjectedCSTypeGeoKey: 32661 },
+      { GTModelTypeGeoKey: 1, ProjectedCSTypeGeoKey: 32761 },
+      { GTModelTypeGeoKey: 1, ProjectedCSTypeGeoKey: 3857 },
+      { GTModelTypeGeoKey: 1, ProjectedCSTypeGeoKey: 32724, ProjLinearUnitsGeoKey: 9002 },
+      { GTModelTypeGeoKey: 1, ProjectedCSTypeGeoKey: 32724, GeographicTypeGeoKey: 4269 },
+      // both codes set: the library answers with the geographic one and flags it
+      { GTModelTypeGeoKey: 1, ProjectedCSTypeGeoKey: 32724, GeographicTypeGeoKey: 4326 },
+      { GTModelTypeGeoKey: 1, ProjectedCSTypeGeoKey: 32767, ProjCoordTransGeoKey: 1 },
+      { GTModelTypeGeoKey: 1, ProjectedCSTypeGeoKey: 32724, VerticalCSTypeGeoKey: 5773 },
+      { GTModelTypeGeoKey: 3 },
+    ];
+    for (const keys of others) expect(commonCrsProj4(keys), JSON.stringify(keys)).toBeUndefined();
   });
 });

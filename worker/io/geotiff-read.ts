@@ -9,7 +9,7 @@
  * that some producers write without a nodata tag) are filled by `fillVoids` below and counted.
  */
 import { fromArrayBuffer, GeoTIFF, type GeoTIFFImage } from 'geotiff';
-import geokeysToProj4 from 'geotiff-geokeys-to-proj4';
+import type geokeysToProj4Lib from 'geotiff-geokeys-to-proj4';
 import proj4 from 'proj4';
 import { InputError } from '../../shared/errors.ts';
 import { WGS84_GEOGRAPHIC, type Crs, type GeoKeyEntry, type GridGeo } from '../core/grid.ts';
@@ -195,7 +195,8 @@ export async function openDemTile(
   // ---- georeferencing ------------------------------------------------------------------------------
   const transform = readTransform(fd, bad);
   const keys = safeGeoKeys(image, bad);
-  const crsInfo = resolveCrs(keys, bad, warnings);
+  const common = keys ? commonCrsProj4(keys) : undefined;
+  const crsInfo = resolveCrs(keys, bad, warnings, common ?? (await geokeysLibrary()));
   let { originX, originY, pixelX, pixelY } = transform;
   originX *= crsInfo.scaleX;
   pixelX *= crsInfo.scaleX;
@@ -660,10 +661,89 @@ function isWgs84Equivalent(def: string): boolean {
   return ellipsoidOk && pmOk && towgsOk;
 }
 
+type GeokeysLibrary = typeof geokeysToProj4Lib;
+/** What geotiff-geokeys-to-proj4 makes of a file's geokeys. */
+export type Proj4FromKeys = ReturnType<GeokeysLibrary['toProj4']>;
+
+let geokeysLoaded: Promise<GeokeysLibrary> | null = null;
+
+/** geotiff-geokeys-to-proj4, loaded on first need: its EPSG tables are 1.5 MB of code (about 0.1 s and 12 MiB). */
+function geokeysLibrary(): Promise<GeokeysLibrary> {
+  geokeysLoaded ??= import('geotiff-geokeys-to-proj4').then((m) => m.default);
+  return geokeysLoaded;
+}
+
+/** Keys that may stand beside the CRS code in `commonCrsProj4`'s cases without changing the library's answer. */
+const COMMON_CRS_KEYS = new Set([
+  'GTModelTypeGeoKey',
+  'GTRasterTypeGeoKey',
+  'GTCitationGeoKey',
+  'GeogCitationGeoKey',
+  'PCSCitationGeoKey',
+  'GeographicTypeGeoKey',
+  'GeogAngularUnitsGeoKey',
+  'ProjectedCSTypeGeoKey',
+  'ProjLinearUnitsGeoKey',
+]);
+
+/**
+ * The library's own answer (the same object, field by field) for the CRSs most elevation files carry — EPSG:4326 and
+ * the 120 WGS 84 / UTM zones (EPSG:32601–32660 north, 32701–32760 south) given by their code, in metres and degrees —
+ * so that reading them needs none of the library's tables; undefined for anything else, which the library answers.
+ * UTM zone z is a transverse Mercator with central meridian 6z − 183°, scale 0.9996, false easting 500 000 m and
+ * false northing 0 (north) or 10 000 000 m (south) (EPSG's definition of the zones). test/geotiff.test.ts compares
+ * this with the library for every code covered and with every optional key.
+ */
+export function commonCrsProj4(keys: Keys): Proj4FromKeys | undefined {
+  for (const k of Object.keys(keys)) if (!COMMON_CRS_KEYS.has(k)) return undefined;
+  const angular = keys.GeogAngularUnitsGeoKey;
+  if (angular !== undefined && angular !== 9102) return undefined;
+  const ellipsoid = '+ellps=WGS84 +a=6378137 +b=6356752.314245179 +pm=0';
+  const same = {
+    coordinatesConversionParameters: { x: 1, y: 1, z: 1 },
+    shouldConvertCoordinates: false,
+    errors: {},
+  };
+  if (keys.GTModelTypeGeoKey === 2) {
+    if (
+      keys.GeographicTypeGeoKey !== 4326 ||
+      'ProjectedCSTypeGeoKey' in keys ||
+      'ProjLinearUnitsGeoKey' in keys
+    )
+      return undefined;
+    return {
+      proj4: `+proj=longlat ${ellipsoid} +axis=ne +no_defs `,
+      ...same,
+      coordinatesUnits: 'degree',
+      isGCS: true,
+    } as unknown as Proj4FromKeys;
+  }
+  if (keys.GTModelTypeGeoKey !== 1) return undefined;
+  const code = keys.ProjectedCSTypeGeoKey;
+  if (typeof code !== 'number' || !Number.isInteger(code)) return undefined;
+  const south = code >= 32701 && code <= 32760;
+  if (!(south || (code >= 32601 && code <= 32660))) return undefined;
+  const linear = keys.ProjLinearUnitsGeoKey;
+  if (linear !== undefined && linear !== 9001) return undefined;
+  // A geographic code beside the projected one: the library answers with the geographic CRS and an error.
+  if ('GeographicTypeGeoKey' in keys) return undefined;
+  const zone = code % 100;
+  return {
+    proj4:
+      `+proj=tmerc +lat_0=0 +lon_0=${6 * zone - 183} +k_0=0.9996 +x_0=500000 +y_0=${south ? 10000000 : 0} ` +
+      `${ellipsoid} +axis=en +no_defs `,
+    ...same,
+    coordinatesUnits: 'metre',
+    isGCS: false,
+  } as unknown as Proj4FromKeys;
+}
+
 function resolveCrs(
   keys: Keys | null,
   bad: (f: string, e: string) => InputError,
   warnings: string[],
+  /** `commonCrsProj4`'s answer, or the library to ask. */
+  known: Proj4FromKeys | GeokeysLibrary,
 ): CrsInfo {
   if (!keys || Object.keys(keys).length === 0) {
     throw bad('no coordinate reference system (the GeoKeyDirectory is missing or empty)', EXPECT_CRS);
@@ -677,9 +757,10 @@ function resolveCrs(
     throw bad(`GTModelTypeGeoKey = ${String(keys.GTModelTypeGeoKey)} and no CRS code`, EXPECT_CRS);
   }
 
-  let result: ReturnType<typeof geokeysToProj4.toProj4>;
+  let result: Proj4FromKeys;
   try {
-    result = geokeysToProj4.toProj4(keys as unknown as Parameters<typeof geokeysToProj4.toProj4>[0]);
+    result =
+      'toProj4' in known ? known.toProj4(keys as unknown as Parameters<GeokeysLibrary['toProj4']>[0]) : known;
   } catch (e) {
     throw bad(`geokeys that cannot be turned into a CRS (${describe(e)})`, EXPECT_CRS);
   }
