@@ -21,14 +21,15 @@ import type { LedgerSpec } from '../core/memory-estimate.ts';
  * (worker/runtime/node.ts) measured bare takes 10.7 MiB, against 22.4 MiB with the engine loaded up front and 9.5 MiB
  * for an empty worker thread.
  */
-let radial: Promise<{
+interface RadialEngine {
   Terrain: typeof import('../core/terrain.ts').Terrain;
   VectorMap: typeof import('../core/geodesy.ts').VectorMap;
   sweepSector: typeof import('../core/horizon.ts').sweepSector;
   resampleFloor: typeof import('../core/horizon.ts').resampleFloor;
-}> | null = null;
+}
+let radial: Promise<RadialEngine> | null = null;
 
-function radialEngine(): NonNullable<typeof radial> {
+function radialEngine(): Promise<RadialEngine> {
   radial ??= Promise.all([
     import('../core/terrain.ts'),
     import('../core/geodesy.ts'),
@@ -63,7 +64,7 @@ function layoutOf(sent: Sent<HorizonLayout>): HorizonLayout {
   return lastLayout;
 }
 
-function vmapOf(sent: Sent<VectorMapParts>, E: Awaited<ReturnType<typeof radialEngine>>): VectorMap {
+function vmapOf(sent: Sent<VectorMapParts>, E: RadialEngine): VectorMap {
   if (sent !== AS_BEFORE) lastVmap = new E.VectorMap(sent);
   if (lastVmap === null) throw new Error('worker: a vector map "as before" with none sent');
   return lastVmap;
@@ -74,7 +75,7 @@ function needParts(): TerrainParts {
   return parts;
 }
 
-function need(E: Awaited<ReturnType<typeof radialEngine>>): Terrain {
+function need(E: RadialEngine): Terrain {
   terrain ??= E.Terrain.fromParts(needParts());
   return terrain;
 }
