@@ -253,7 +253,10 @@ export async function computeGridFloor(
   req: FloorRequest,
   window: GridFloorWindow,
   exec: Executor,
-  options: { onProgress?: Progress } = {},
+  options: {
+    onProgress?: Progress;
+    /** false: the sweep's line operations in JavaScript (grid-sweep.ts). */ kernel?: boolean;
+  } = {},
 ): Promise<GridFloorResult> {
   const g = terrain.geo;
   const W = g.width;
@@ -304,6 +307,7 @@ export async function computeGridFloor(
     outWidth: window.width,
     outHeight: window.height,
     vmap,
+    ...(options.kernel === false ? { kernel: false } : {}),
   });
   // Largest octants first, so the last ones to finish are short.
   tasks.sort((a, b) => gridSweepTaskCells(b) - gridSweepTaskCells(a));

@@ -35,9 +35,17 @@
  * before any octant starts (`GridPristine`).
  *
  * Unknown terrain (NaN) makes every sight line through it unknown (NaN), never sea level.
+ *
+ * Speed: a line's work (widening its terrain to doubles, its distances, the far-field propagation and floors, its
+ * floors written out in the output's order) runs in a WebAssembly kernel (worker/kernel/line-kernel.ts, two cells
+ * at a time by 128-bit SIMD), on buffers in the kernel's own memory; rows of terrain and floors go in and out by
+ * block copies. The JavaScript twins below (`jsLineOps`) compute the same bits and run where the kernel cannot.
+ * Angles are distances times 1/Re, and the series' constants are multiplied, not divided by: the kernel divides
+ * only where it must (the rising screening's tan and the floor's altitude).
  */
 import { FLOOR_CAP_M } from './floor-cap.ts';
 import type { VectorMapParts } from './geodesy.ts';
+import { lineKernel } from './line-kernel.ts';
 
 const NOTHING = -1e9;
 /** The exact walk's reach around the antenna, in cells (Chebyshev distance). */
@@ -68,6 +76,8 @@ export interface GridSweepTask {
   readonly outHeight: number;
   /** Cell-centre distances from the antenna over the terrain lattice. */
   readonly vmap: VectorMapParts;
+  /** false: the line operations in JavaScript even where the WebAssembly kernel could run (tests, benchmarks). */
+  readonly kernel?: boolean;
 }
 
 /** An octant's work, in cells (lines × cells along them): how the octants are ordered and shared out. */
@@ -158,6 +168,8 @@ export function gridSweepFits(
 interface Sweep {
   readonly t: GridSweepTask;
   readonly re: number;
+  /** 1 / re: angles are distances times it (the kernel divides only where it must). */
+  readonly invRe: number;
   readonly rha: number;
   readonly cs: Float64Array;
   /** The previous line's screening tan and terrain, and how many of its cells were computed. */
@@ -166,6 +178,120 @@ interface Sweep {
   prevLen: number;
   tCur: Float64Array;
   zCur: Float64Array;
+}
+
+/**
+ * An octant's line buffers and the four line operations over them: either the WebAssembly kernel's
+ * (worker/kernel/line-kernel.ts, whose memory holds the buffers) or their JavaScript twins below, which compute
+ * the same bits (test/line-kernel.test.ts). The kernel runs where WebAssembly is available and every distance of
+ * the reach is under 0.25·Re (its cos and sin are the series `floorOf` uses there).
+ */
+interface LineOps {
+  readonly tPrev: Float64Array;
+  readonly zPrev: Float64Array;
+  readonly tCur: Float64Array;
+  readonly zCur: Float64Array;
+  /** Distances of the current line's cells, its floors, and a copy of one row of terrain or floors. */
+  readonly s: Float64Array;
+  readonly h: Float32Array;
+  readonly stage: Float32Array;
+  /** Column octants: BLOCK columns of terrain, and of floors, gathered along rows (null for row octants). */
+  readonly block: Float32Array | null;
+  readonly hBlock: Float32Array | null;
+  /** z[m] = src[first + step·m], m = 1 … mEnd. */
+  widen(src: Float32Array, first: number, step: number, mEnd: number, z: Float64Array): void;
+  /** dst[first + step·m] = h[m], m = wLo … wHi; returns how many of those below `len` are NaN. */
+  emit(
+    h: Float32Array,
+    dst: Float32Array,
+    first: number,
+    step: number,
+    wLo: number,
+    wHi: number,
+    len: number,
+  ): number;
+  /** `lineDistances` over the task's VectorMap. */
+  distances(c: number, r: number, dc: number, dr: number, mEnd: number, s: Float64Array): number;
+  /** `farLine`. */
+  far(sw: Sweep, d: number, len: number, s: Float64Array, h: Float32Array): void;
+}
+
+function jsLineOps(task: GridSweepTask, n: number, blockCells: number): LineOps {
+  const vm = task.vmap;
+  return {
+    tPrev: new Float64Array(n),
+    zPrev: new Float64Array(n),
+    tCur: new Float64Array(n),
+    zCur: new Float64Array(n),
+    s: new Float64Array(n),
+    h: new Float32Array(n),
+    stage: new Float32Array(n),
+    block: blockCells > 0 ? new Float32Array(blockCells) : null,
+    hBlock: blockCells > 0 ? new Float32Array(blockCells) : null,
+    widen(src, first, step, mEnd, z) {
+      for (let m = 1, i = first + step; m <= mEnd; m++, i += step) z[m] = src[i];
+    },
+    emit(h, dst, first, step, wLo, wHi, len) {
+      let nan = 0;
+      for (let m = wLo, o = first + step * wLo; m <= wHi; m++, o += step) {
+        const v = h[m];
+        dst[o] = v;
+        if (v !== v && m < len) nan++;
+      }
+      return nan;
+    },
+    distances: (c, r, dc, dr, mEnd, s) => lineDistances(vm, c, r, dc, dr, mEnd, task.maxRangeM, s),
+    far: farLine,
+  };
+}
+
+function kernelLineOps(task: GridSweepTask, n: number, blockCells: number): LineOps | null {
+  // Layout (bytes): a 64-byte guard (the kernel reads one cell before a line), five f64 lines, two f32 lines,
+  // the column blocks, the VectorMap; every array 16-byte aligned.
+  const n8 = Math.ceil(n / 2) * 16;
+  const n4 = Math.ceil(n / 4) * 16;
+  const b4 = Math.ceil(blockCells / 4) * 16;
+  const at = { f64: 64, f32: 64 + 5 * n8, block: 64 + 5 * n8 + 2 * n4, v: 64 + 5 * n8 + 2 * n4 + 2 * b4 };
+  const vm = task.vmap;
+  const k = lineKernel(at.v + vm.v.length * 8 + 64);
+  if (k === null) return null;
+  const buf = k.buffer;
+  const f64 = (i: number): Float64Array => new Float64Array(buf, at.f64 + i * n8, n);
+  new Float64Array(buf, at.v, vm.v.length).set(vm.v);
+  const { nodesX, nodesY, block: bk } = vm;
+  const maxRange = task.maxRangeM;
+  return {
+    tPrev: f64(0),
+    zPrev: f64(1),
+    tCur: f64(2),
+    zCur: f64(3),
+    s: f64(4),
+    h: new Float32Array(buf, at.f32, n),
+    stage: new Float32Array(buf, at.f32 + n4, n),
+    block: blockCells > 0 ? new Float32Array(buf, at.block, blockCells) : null,
+    hBlock: blockCells > 0 ? new Float32Array(buf, at.block + b4, blockCells) : null,
+    widen: (src, first, step, mEnd, z) => k.widen(src.byteOffset, first, step, mEnd, z.byteOffset),
+    emit: (h, dst, first, step, wLo, wHi, len) =>
+      k.emit(h.byteOffset, dst.byteOffset, first, step, wLo, wHi, len),
+    distances: (c, r, dc, dr, mEnd, s) =>
+      k.distances(at.v, nodesX, nodesY, bk, c, r, dc, dr, mEnd, maxRange, s.byteOffset),
+    far: (sw, d, len, s, h) =>
+      k.farLine(
+        sw.tPrev.byteOffset,
+        sw.zPrev.byteOffset,
+        sw.prevLen - 1,
+        sw.tCur.byteOffset,
+        sw.zCur.byteOffset,
+        s.byteOffset,
+        h.byteOffset,
+        d,
+        len,
+        sw.re,
+        sw.invRe,
+        sw.rha,
+        FLOOR_CAP_M,
+      ),
+  };
 }
 
 /**
@@ -186,16 +312,21 @@ export function sweepGridOctant(
   const lastAlong = rows ? (sx > 0 ? W - 1 - c0 : c0) : sy > 0 ? H - 1 - r0 : r0;
   const diagonal = pristine.diagonals[(sx > 0 ? 0 : 1) + (sy > 0 ? 0 : 2)];
   const n = lastAlong + 2;
+  const blockCells = rows ? 0 : (lastAlong + 1) * BLOCK;
+  const ops =
+    (task.kernel !== false && task.maxRangeM / task.reM < 0.25 ? kernelLineOps(task, n, blockCells) : null) ??
+    jsLineOps(task, n, blockCells);
   const sw: Sweep = {
     t: task,
     re: task.reM,
+    invRe: 1 / task.reM,
     rha: task.reM + task.antennaAltM,
     cs: new Float64Array(2),
-    tPrev: new Float64Array(n),
-    zPrev: new Float64Array(n),
+    tPrev: ops.tPrev,
+    zPrev: ops.zPrev,
     prevLen: 0,
-    tCur: new Float64Array(n),
-    zCur: new Float64Array(n),
+    tCur: ops.tCur,
+    zCur: ops.zCur,
   };
   const counts: GridSweepCounts = { beyondRange: 0, unknown: 0 };
   // Which shared cells this octant counts: the row octants own the diagonals, the axis of each kind goes to
@@ -207,33 +338,33 @@ export function sweepGridOctant(
   const or0 = task.outRow0;
   const ow = task.outWidth;
   const oh = task.outHeight;
-  const block = rows ? null : new Float32Array((lastAlong + 1) * BLOCK);
-  const hBlock = rows ? null : new Float32Array((lastAlong + 1) * BLOCK);
-  const hLine = new Float32Array(n);
-  const sLine = new Float64Array(n);
+  const { block, hBlock, h: hLine, s: sLine, stage } = ops;
   let ended = false;
   for (let d1 = 0; d1 <= lastLine; d1 += rows ? 1 : BLOCK) {
     const d2 = rows ? d1 + 1 : Math.min(lastLine + 1, d1 + BLOCK);
     const nb = d2 - d1;
-    // Column octants: gather the block's columns along rows (one short contiguous read per row).
+    // Column octants: gather the block's columns along rows (one short contiguous copy per row). Going west
+    // (sx < 0) a row's cells land in reverse: column d1 + k at nb − 1 − k.
     if (block !== null) {
       const mTop = Math.min(d2 - 1, lastAlong);
       for (let m = 0; m <= mTop; m++) {
         const rowBase = (r0 + sy * m) * W + c0 + sx * d1;
-        const b = m * BLOCK;
-        if (sx > 0) for (let k = 0; k < nb; k++) block[b + k] = data[rowBase + k];
-        else for (let k = 0; k < nb; k++) block[b + k] = data[rowBase - k];
+        const lo = sx > 0 ? rowBase : rowBase - nb + 1;
+        block.set(data.subarray(lo, lo + nb), m * BLOCK);
       }
     }
     for (let d = d1; d < d2; d++) {
       const mEnd = Math.min(d, lastAlong);
+      const kk = sx > 0 ? d - d1 : nb - 1 - (d - d1);
       // Terrain along the line: the inside from the raster (or the block), the shared ends from their copies.
       const z = sw.zCur;
       if (block !== null) {
-        for (let m = 1, i = BLOCK + (d - d1); m <= mEnd; m++, i += BLOCK) z[m] = block[i];
-      } else {
+        ops.widen(block, kk, BLOCK, mEnd, z);
+      } else if (mEnd > 0) {
         const base = (r0 + sy * d) * W + c0;
-        for (let m = 1, i = base + sx; m <= mEnd; m++, i += sx) z[m] = data[i];
+        const lo = sx > 0 ? base : base - mEnd;
+        stage.set(data.subarray(lo, lo + mEnd + 1));
+        ops.widen(stage, sx > 0 ? 0 : mEnd, sx, mEnd, z);
       }
       z[0] =
         d === 0 ? pristine.colAxis[r0] : rows ? pristine.colAxis[r0 + sy * d] : pristine.rowAxis[c0 + sx * d];
@@ -242,43 +373,33 @@ export function sweepGridOctant(
       if (!ended) {
         const c = rows ? c0 : c0 + sx * d;
         const r = rows ? r0 + sy * d : r0;
-        len = lineDistances(task.vmap, c, r, rows ? sx : 0, rows ? 0 : sy, mEnd, task.maxRangeM, sLine);
+        len = ops.distances(c, r, rows ? sx : 0, rows ? 0 : sy, mEnd, sLine);
         if (len === 0) ended = true;
-        else if (d > NEAR_CELLS) farLine(sw, d, len, sLine, hLine);
+        else if (d > NEAR_CELLS) ops.far(sw, d, len, sLine, hLine);
         else nearLine(sw, pristine, d, len, sLine, hLine);
       }
-      for (let m = len; m <= mEnd; m++) hLine[m] = NaN;
-      // The cells of this line inside the output window: m in [wLo, wHi].
+      if (len <= mEnd) hLine.fill(NaN, len, mEnd + 1);
+      // The cells of this line inside the output window, m in [wLo, wHi], go out in the output's order: a row
+      // through the staging copy (reversed going west), a column into the block of floors.
       let wLo: number;
       let wHi: number;
-      let o0: number;
-      let oStep: number;
+      let nan: number;
       if (rows) {
         const y = r0 + sy * d - or0;
         const inside = y >= 0 && y < oh;
         wLo = inside ? alongLo(c0 - oc0, sx, ow) : 1;
         wHi = inside ? alongHi(c0 - oc0, sx, ow, mEnd) : 0;
-        o0 = y * ow + (c0 - oc0);
-        oStep = sx;
+        nan = ops.emit(hLine, stage, sx > 0 ? -wLo : wHi, sx, wLo, wHi, len);
+        if (wLo <= wHi)
+          out.set(stage.subarray(0, wHi - wLo + 1), y * ow + (c0 - oc0) + (sx > 0 ? wLo : -wHi));
       } else {
         const x = c0 + sx * d - oc0;
         const inside = x >= 0 && x < ow;
         wLo = inside ? alongLo(r0 - or0, sy, oh) : 1;
         wHi = inside ? alongHi(r0 - or0, sy, oh, mEnd) : 0;
-        o0 = d - d1;
-        oStep = BLOCK;
+        nan = ops.emit(hLine, hBlock!, kk, BLOCK, wLo, wHi, len);
       }
-      const dst = rows ? out : hBlock!;
-      let nan = 0;
-      let beyond = 0;
-      for (let m = wLo, o = o0 + wLo * oStep; m <= wHi; m++, o += oStep) {
-        const v = hLine[m];
-        dst[o] = v;
-        if (v !== v) {
-          if (m >= len) beyond++;
-          else nan++;
-        }
-      }
+      let beyond = Math.max(0, wHi - Math.max(wLo, len) + 1);
       // Shared cells are counted by one octant only.
       const shared = d === 0 ? (countAntenna ? -1 : 0) : countAxis ? -1 : 0;
       const sharedEnd = d > 0 && d <= mEnd && !countDiagonal ? d : -1;
@@ -298,7 +419,7 @@ export function sweepGridOctant(
       sw.tCur = tt;
       sw.prevLen = len;
     }
-    // Column octants: scatter the block's floors back along rows (cells of this octant only: m ≤ d).
+    // Column octants: copy the block's floors back along rows (cells of this octant only: m ≤ d, k ≥ m − d1).
     if (hBlock !== null) {
       const x0 = c0 + sx * d1 - oc0;
       const mTop = Math.min(d2 - 1, lastAlong);
@@ -306,11 +427,13 @@ export function sweepGridOctant(
         const y = r0 + sy * m - or0;
         if (y < 0 || y >= oh) continue;
         const b = m * BLOCK;
-        const rowOut = y * ow;
-        for (let k = Math.max(0, m - d1); k < nb; k++) {
-          const x = x0 + sx * k;
-          if (x >= 0 && x < ow) out[rowOut + x] = hBlock[b + k];
-        }
+        const kLo = Math.max(0, m - d1);
+        // Columns k in [kA, kB] fall inside the window (x = x0 + sx·k).
+        const kA = Math.max(kLo, sx > 0 ? -x0 : x0 - (ow - 1));
+        const kB = Math.min(nb - 1, sx > 0 ? ow - 1 - x0 : x0);
+        if (kA > kB) continue;
+        if (sx > 0) out.set(hBlock.subarray(b + kA, b + kB + 1), y * ow + x0 + kA);
+        else out.set(hBlock.subarray(b + nb - 1 - kB, b + nb - kA), y * ow + x0 - kB);
       }
     }
     if (onLines !== undefined && (rows ? (d1 & 63) === 63 : true)) onLines(d2, lastLine + 1);
@@ -399,14 +522,14 @@ function lineDistances(
 }
 
 /** The floor above a cell at distance s whose screening tan is `tan` and ground `g` (NaN = unknown). */
-function floorOf(tan: number, s: number, g: number, re: number, rha: number): number {
-  const x = s / re;
+function floorOf(tan: number, s: number, g: number, re: number, rha: number, invRe: number): number {
+  const x = s * invRe;
   let cs: number;
   let sn: number;
   if (x < 0.25) {
     const x2 = x * x;
-    cs = 1 - x2 * (0.5 - x2 * (1 / 24 - x2 / 720));
-    sn = x * (1 - x2 * (1 / 6 - x2 * (1 / 120 - x2 / 5040)));
+    cs = 1 - x2 * (0.5 - x2 * (1 / 24 - x2 * (1 / 720)));
+    sn = x * (1 - x2 * (1 / 6 - x2 * (1 / 120 - x2 * (1 / 5040))));
   } else {
     cs = Math.cos(x);
     sn = Math.sin(x);
@@ -442,7 +565,7 @@ function nearLine(
     }
     const tan = walkNear(pristine.near, rows ? t.sx * m : t.sx * d, rows ? t.sy * d : t.sy * m, s[m], sw);
     sw.tCur[m] = tan;
-    h[m] = floorOf(tan, s[m], sw.zCur[m], sw.re, sw.rha);
+    h[m] = floorOf(tan, s[m], sw.zCur[m], sw.re, sw.rha, sw.invRe);
   }
 }
 
@@ -458,6 +581,7 @@ function farLine(sw: Sweep, d: number, len: number, s: Float64Array, h: Float32A
   const T = sw.tCur;
   const last = sw.prevLen - 1;
   const re = sw.re;
+  const invRe = sw.invRe;
   const rha = sw.rha;
   const shrink = (d - 1) / d;
   for (let m = 0; m < len; m++) {
@@ -483,13 +607,13 @@ function farLine(sw: Sweep, d: number, len: number, s: Float64Array, h: Float32A
       tan = NaN;
     } else {
       // The terrain at the crossing, at distance s·(d − 1)/d: tz > tc ⟺ num > tc·den (den > 0).
-      const xc = (s[m] * shrink) / re;
+      const xc = s[m] * invRe * shrink;
       let cs: number;
       let sn: number;
       if (xc < 0.25) {
         const x2 = xc * xc;
-        cs = 1 - x2 * (0.5 - x2 * (1 / 24 - x2 / 720));
-        sn = xc * (1 - x2 * (1 / 6 - x2 * (1 / 120 - x2 / 5040)));
+        cs = 1 - x2 * (0.5 - x2 * (1 / 24 - x2 * (1 / 720)));
+        sn = xc * (1 - x2 * (1 / 6 - x2 * (1 / 120 - x2 * (1 / 5040))));
       } else {
         cs = Math.cos(xc);
         sn = Math.sin(xc);
@@ -500,7 +624,7 @@ function farLine(sw: Sweep, d: number, len: number, s: Float64Array, h: Float32A
       tan = num > tc * den ? num / den : tc;
     }
     T[m] = tan;
-    h[m] = floorOf(tan, s[m], z[m], re, rha);
+    h[m] = floorOf(tan, s[m], z[m], re, rha, invRe);
   }
 }
 
@@ -569,7 +693,7 @@ function walkNear(near: Float32Array, dc: number, dr: number, s: number, sw: Swe
 function screen(tc: number, zc: number, sc: number, sw: Sweep): number {
   if (tc !== tc || zc !== zc) return NaN;
   const cs = sw.cs;
-  cosSin(sc / sw.re, cs);
+  cosSin(sc * sw.invRe, cs);
   const rz = sw.re + zc;
   const num = rz * cs[0] - sw.rha;
   const den = rz * cs[1];
@@ -581,8 +705,8 @@ function screen(tc: number, zc: number, sc: number, sw: Sweep): number {
 function cosSin(x: number, out: Float64Array): void {
   if (x < 0.25) {
     const x2 = x * x;
-    out[0] = 1 - x2 * (0.5 - x2 * (1 / 24 - x2 / 720));
-    out[1] = x * (1 - x2 * (1 / 6 - x2 * (1 / 120 - x2 / 5040)));
+    out[0] = 1 - x2 * (0.5 - x2 * (1 / 24 - x2 * (1 / 720)));
+    out[1] = x * (1 - x2 * (1 / 6 - x2 * (1 / 120 - x2 * (1 / 5040))));
   } else {
     out[0] = Math.cos(x);
     out[1] = Math.sin(x);

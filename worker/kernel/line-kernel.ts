@@ -1,0 +1,315 @@
+/**
+ * The grid sweep's line kernel in AssemblyScript, compiled to WebAssembly with 128-bit SIMD (two cells at a time):
+ * worker/core/grid-sweep.ts runs these functions on one octant's line buffers, which live in this module's memory.
+ * Each function computes what its JavaScript twin in grid-sweep.ts (`jsLineOps`, `lineDistances`, `farLine`, `floorOf`) computes, with the same IEEE
+ * operations in the same order, so the two give the same bits (test/line-kernel.test.ts); grid-sweep.ts holds the
+ * method and its sources. Build: `npm run build:kernel` (writes worker/core/line-kernel-wasm.ts).
+ *
+ * All pointers are byte offsets into the imported memory; f64 arrays are 8-byte, f32 arrays 4-byte aligned.
+ */
+
+/** z[m] = the f32 at src[first + step·m], m = 1 … mEnd (a line's terrain, from a row copy or a column block). */
+export function widen(src: usize, first: i32, step: i32, mEnd: i32, z: usize): void {
+  for (let m = 1; m <= mEnd; m++) {
+    store<f64>(z + ((<usize>m) << 3), <f64>load<f32>(src + ((<usize>(first + step * m)) << 2)));
+  }
+}
+
+/**
+ * dst[first + step·m] = h[m] for m = wLo … wHi (a line's floors, in the output's order); returns how many of
+ * those below `len` are NaN (the cells in range left unknown).
+ */
+export function emit(h: usize, dst: usize, first: i32, step: i32, wLo: i32, wHi: i32, len: i32): i32 {
+  let nan = 0;
+  for (let m = wLo; m <= wHi; m++) {
+    const v = load<f32>(h + ((<usize>m) << 2));
+    store<f32>(dst + ((<usize>(first + step * m)) << 2), v);
+    if (v != v && m < len) nan++;
+  }
+  return nan;
+}
+
+/**
+ * Geodesic distances from the antenna to the cells (c + dc·m, r + dr·m), m = 0 … mEnd, into s (f64); stops at the
+ * first cell beyond maxRange and returns how many were in range. v: the VectorMap lattice (east, north per node).
+ */
+export function distances(
+  v: usize,
+  nx: i32,
+  ny: i32,
+  bk: f64,
+  c: i32,
+  r: i32,
+  dc: i32,
+  dr: i32,
+  mEnd: i32,
+  maxRange: f64,
+  s: usize,
+): i32 {
+  const alongX = dc != 0;
+  const dxNode = nx > 1 ? 2 : 0;
+  const dyNode = ny > 1 ? nx * 2 : 0;
+  let piece = -1;
+  let ea: f64 = 0;
+  let eb: f64 = 0;
+  let na: f64 = 0;
+  let nb: f64 = 0;
+  for (let m = 0; m <= mEnd; m++) {
+    const gx = <f64>(c + dc * m) / bk;
+    const gy = <f64>(r + dr * m) / bk;
+    const u = alongX ? gx : gy;
+    const iu = max<i32>(0, min<i32>(<i32>u, (alongX ? nx : ny) - 2));
+    if (iu != piece) {
+      piece = iu;
+      const ix = max<i32>(0, min<i32>(<i32>gx, nx - 2));
+      const iy = max<i32>(0, min<i32>(<i32>gy, ny - 2));
+      const k00 = (iy * nx + ix) * 2;
+      const k10 = k00 + dyNode;
+      const p00 = v + ((<usize>k00) << 3);
+      const p10 = v + ((<usize>k10) << 3);
+      const p01 = v + ((<usize>(k00 + dxNode)) << 3);
+      const p11 = v + ((<usize>(k10 + dxNode)) << 3);
+      if (alongX) {
+        const fy: f64 = ny > 1 ? gy - <f64>iy : 0;
+        const e0 = load<f64>(p00) * (1 - fy) + load<f64>(p10) * fy;
+        const e1 = load<f64>(p01) * (1 - fy) + load<f64>(p11) * fy;
+        const n0 = load<f64>(p00, 8) * (1 - fy) + load<f64>(p10, 8) * fy;
+        const n1 = load<f64>(p01, 8) * (1 - fy) + load<f64>(p11, 8) * fy;
+        eb = nx > 1 ? e1 - e0 : 0;
+        nb = nx > 1 ? n1 - n0 : 0;
+        ea = e0 - eb * <f64>ix;
+        na = n0 - nb * <f64>ix;
+      } else {
+        const fx: f64 = nx > 1 ? gx - <f64>ix : 0;
+        const e0 = load<f64>(p00) + (load<f64>(p01) - load<f64>(p00)) * fx;
+        const e1 = load<f64>(p10) + (load<f64>(p11) - load<f64>(p10)) * fx;
+        const n0 = load<f64>(p00, 8) + (load<f64>(p01, 8) - load<f64>(p00, 8)) * fx;
+        const n1 = load<f64>(p10, 8) + (load<f64>(p11, 8) - load<f64>(p10, 8)) * fx;
+        eb = ny > 1 ? e1 - e0 : 0;
+        nb = ny > 1 ? n1 - n0 : 0;
+        ea = e0 - eb * <f64>iy;
+        na = n0 - nb * <f64>iy;
+      }
+    }
+    const e = ea + eb * u;
+    const nn = na + nb * u;
+    const dist = Math.sqrt(e * e + nn * nn);
+    if (!(dist <= maxRange)) return m;
+    store<f64>(s + ((<usize>m) << 3), dist);
+  }
+  return mEnd + 1;
+}
+
+/** One cell of `farLine`, for the odd cell at a line's end. */
+function farCell(
+  tp: usize,
+  zp: usize,
+  last: i32,
+  T: usize,
+  z: usize,
+  s: usize,
+  h: usize,
+  shrink: f64,
+  m: i32,
+  re: f64,
+  invRe: f64,
+  rha: f64,
+  cap: f64,
+): void {
+  const x = <f64>m * shrink;
+  const f0 = <i32>x;
+  const w = x - <f64>f0;
+  let tc: f64;
+  let zc: f64;
+  if (w == 0) {
+    tc = f0 <= last ? load<f64>(tp + ((<usize>f0) << 3)) : NaN;
+    zc = f0 <= last ? load<f64>(zp + ((<usize>f0) << 3)) : NaN;
+  } else if (f0 + 1 > last) {
+    tc = NaN;
+    zc = NaN;
+  } else {
+    const p = tp + ((<usize>f0) << 3);
+    const q = zp + ((<usize>f0) << 3);
+    const y0 = load<f64>(p);
+    const y1 = load<f64>(p, 8);
+    const za = load<f64>(q);
+    zc = za + (load<f64>(q, 8) - za) * w;
+    const ym = f0 > 0 ? load<f64>(p - 8) : y0;
+    const y2 = f0 + 2 <= last ? load<f64>(p, 16) : y1;
+    const d0 = y1 - y0;
+    if (d0 != d0) tc = NaN;
+    else {
+      const lo = min<f64>(0, 3 * d0);
+      const hi = max<f64>(0, 3 * d0);
+      const m0 = min<f64>(max<f64>(ym == ym ? 0.5 * (y1 - ym) : d0, lo), hi);
+      const m1 = min<f64>(max<f64>(y2 == y2 ? 0.5 * (y2 - y0) : d0, lo), hi);
+      const w2 = w * w;
+      const w3 = w2 * w;
+      tc = (2 * w3 - 3 * w2 + 1) * y0 + (w3 - 2 * w2 + w) * m0 + (3 * w2 - 2 * w3) * y1 + (w3 - w2) * m1;
+    }
+  }
+  const sm = load<f64>(s + ((<usize>m) << 3));
+  let tan: f64;
+  if (tc != tc || zc != zc) tan = NaN;
+  else {
+    const xc = sm * invRe * shrink;
+    const x2 = xc * xc;
+    const cs = 1 - x2 * (0.5 - x2 * (1.0 / 24 - x2 * (1.0 / 720)));
+    const sn = xc * (1 - x2 * (1.0 / 6 - x2 * (1.0 / 120 - x2 * (1.0 / 5040))));
+    const rz = re + zc;
+    const num = rz * cs - rha;
+    const den = rz * sn;
+    tan = num > tc * den ? num / den : tc;
+  }
+  store<f64>(T + ((<usize>m) << 3), tan);
+  // floorOf
+  const g = load<f64>(z + ((<usize>m) << 3));
+  let v: f64;
+  const xg = sm * invRe;
+  const xg2 = xg * xg;
+  const cg = 1 - xg2 * (0.5 - xg2 * (1.0 / 24 - xg2 / 720));
+  const sg = xg * (1 - xg2 * (1.0 / 6 - xg2 * (1.0 / 120 - xg2 / 5040)));
+  if (g != g) v = NaN;
+  else {
+    const den = cg - tan * sg;
+    if (den > 1e-9) {
+      if (rha <= (re + g) * den) v = g;
+      else {
+        const u = rha / den - re;
+        v = u > cap ? cap : u;
+      }
+    } else v = den == den ? (g > cap ? g : cap) : NaN;
+  }
+  store<f32>(h + ((<usize>m) << 2), <f32>v);
+}
+
+const NAN2 = f64x2.splat(NaN);
+
+export function farLine(
+  tp: usize,
+  zp: usize,
+  last: i32,
+  T: usize,
+  z: usize,
+  s: usize,
+  h: usize,
+  d: i32,
+  len: i32,
+  re: f64,
+  invRe: f64,
+  rha: f64,
+  cap: f64,
+): void {
+  const shrink: f64 = <f64>(d - 1) / <f64>d;
+  const vShrink = f64x2.splat(shrink);
+  const vLast = f64x2.splat(<f64>last);
+  const vRe = f64x2.splat(re);
+  const vInvRe = f64x2.splat(invRe);
+  const vRha = f64x2.splat(rha);
+  const vCap = f64x2.splat(cap);
+  const zero = f64x2.splat(0);
+  const one = f64x2.splat(1);
+  const two = f64x2.splat(2);
+  const three = f64x2.splat(3);
+  const half = f64x2.splat(0.5);
+  const c24 = f64x2.splat(1.0 / 24);
+  const c720 = f64x2.splat(1.0 / 720);
+  const c6 = f64x2.splat(1.0 / 6);
+  const c120 = f64x2.splat(1.0 / 120);
+  const c5040 = f64x2.splat(1.0 / 5040);
+  const eps = f64x2.splat(1e-9);
+  let m = 0;
+  for (; m + 1 < len; m += 2) {
+    const mv = f64x2.add(f64x2.splat(<f64>m), f64x2(0, 1));
+    const x = f64x2.mul(mv, vShrink);
+    const fi = i32x4.trunc_sat_f64x2_s_zero(x);
+    const fa = i32x4.extract_lane(fi, 0);
+    const fb = i32x4.extract_lane(fi, 1);
+    const fl = f64x2.convert_low_i32x4_s(fi);
+    const w = f64x2.sub(x, fl);
+    const pa = tp + ((<usize>fa) << 3);
+    const pb = tp + ((<usize>fb) << 3);
+    const qa = zp + ((<usize>fa) << 3);
+    const qb = zp + ((<usize>fb) << 3);
+    const A01 = v128.load(pa);
+    const B01 = v128.load(pb);
+    const y0 = f64x2.shuffle(A01, B01, 0, 2);
+    const y1 = f64x2.shuffle(A01, B01, 1, 3);
+    const ym0 = f64x2.shuffle(v128.load(pa - 8), v128.load(pb - 8), 0, 2);
+    const y20 = f64x2.shuffle(v128.load(pa, 16), v128.load(pb, 16), 0, 2);
+    const QA = v128.load(qa);
+    const QB = v128.load(qb);
+    const za = f64x2.shuffle(QA, QB, 0, 2);
+    const zb = f64x2.shuffle(QA, QB, 1, 3);
+    const w0 = f64x2.eq(w, zero);
+    const in0 = f64x2.le(fl, vLast);
+    const in1 = f64x2.le(f64x2.add(fl, one), vLast);
+    const ym = v128.bitselect(ym0, y0, f64x2.gt(fl, zero));
+    const y2 = v128.bitselect(y20, y1, f64x2.le(f64x2.add(fl, two), vLast));
+    // The cubic, as monotoneCubic computes it.
+    const d0 = f64x2.sub(y1, y0);
+    const d3 = f64x2.mul(three, d0);
+    const lo = f64x2.min(zero, d3);
+    const hi = f64x2.max(zero, d3);
+    const t0 = v128.bitselect(f64x2.mul(half, f64x2.sub(y1, ym)), d0, f64x2.eq(ym, ym));
+    const t1 = v128.bitselect(f64x2.mul(half, f64x2.sub(y2, y0)), d0, f64x2.eq(y2, y2));
+    const m0 = f64x2.min(f64x2.max(t0, lo), hi);
+    const m1 = f64x2.min(f64x2.max(t1, lo), hi);
+    const w2 = f64x2.mul(w, w);
+    const w3 = f64x2.mul(w2, w);
+    const cubic = f64x2.add(
+      f64x2.add(
+        f64x2.add(
+          f64x2.mul(f64x2.add(f64x2.sub(f64x2.mul(two, w3), f64x2.mul(three, w2)), one), y0),
+          f64x2.mul(f64x2.add(f64x2.sub(w3, f64x2.mul(two, w2)), w), m0),
+        ),
+        f64x2.mul(f64x2.sub(f64x2.mul(three, w2), f64x2.mul(two, w3)), y1),
+      ),
+      f64x2.mul(f64x2.sub(w3, w2), m1),
+    );
+    const cubicN = v128.bitselect(NAN2, cubic, f64x2.ne(d0, d0));
+    const interp = f64x2.add(za, f64x2.mul(f64x2.sub(zb, za), w));
+    const tc = v128.bitselect(v128.bitselect(y0, NAN2, in0), v128.bitselect(cubicN, NAN2, in1), w0);
+    const zc = v128.bitselect(v128.bitselect(za, NAN2, in0), v128.bitselect(interp, NAN2, in1), w0);
+    const sm = v128.load(s + ((<usize>m) << 3));
+    const xg = f64x2.mul(sm, vInvRe);
+    const xc = f64x2.mul(xg, vShrink);
+    const x2 = f64x2.mul(xc, xc);
+    const cs = f64x2.sub(
+      one,
+      f64x2.mul(x2, f64x2.sub(half, f64x2.mul(x2, f64x2.sub(c24, f64x2.mul(x2, c720))))),
+    );
+    const sn = f64x2.mul(
+      xc,
+      f64x2.sub(one, f64x2.mul(x2, f64x2.sub(c6, f64x2.mul(x2, f64x2.sub(c120, f64x2.mul(x2, c5040)))))),
+    );
+    const rz = f64x2.add(vRe, zc);
+    const num = f64x2.sub(f64x2.mul(rz, cs), vRha);
+    const den = f64x2.mul(rz, sn);
+    const rising = f64x2.gt(num, f64x2.mul(tc, den));
+    const known = v128.and(f64x2.eq(tc, tc), f64x2.eq(zc, zc));
+    const tan = v128.bitselect(v128.bitselect(f64x2.div(num, den), tc, rising), NAN2, known);
+    v128.store(T + ((<usize>m) << 3), tan);
+    // The floor (floorOf).
+    const g = v128.load(z + ((<usize>m) << 3));
+    const xg2 = f64x2.mul(xg, xg);
+    const cg = f64x2.sub(
+      one,
+      f64x2.mul(xg2, f64x2.sub(half, f64x2.mul(xg2, f64x2.sub(c24, f64x2.mul(xg2, c720))))),
+    );
+    const sg = f64x2.mul(
+      xg,
+      f64x2.sub(one, f64x2.mul(xg2, f64x2.sub(c6, f64x2.mul(xg2, f64x2.sub(c120, f64x2.mul(xg2, c5040)))))),
+    );
+    const fden = f64x2.sub(cg, f64x2.mul(tan, sg));
+    const u = f64x2.sub(f64x2.div(vRha, fden), vRe);
+    const capped = v128.bitselect(vCap, u, f64x2.gt(u, vCap));
+    const seen = f64x2.le(vRha, f64x2.mul(f64x2.add(vRe, g), fden));
+    const above = v128.bitselect(g, capped, seen);
+    const never = v128.bitselect(v128.bitselect(g, vCap, f64x2.gt(g, vCap)), NAN2, f64x2.eq(fden, fden));
+    const v0 = v128.bitselect(above, never, f64x2.gt(fden, eps));
+    const v = v128.bitselect(v0, NAN2, f64x2.eq(g, g));
+    v128.store64_lane(h + ((<usize>m) << 2), f32x4.demote_f64x2_zero(v), 0);
+  }
+  if (m < len) farCell(tp, zp, last, T, z, s, h, shrink, m, re, invRe, rha, cap);
+}
