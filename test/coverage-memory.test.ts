@@ -9,7 +9,7 @@
  * sites' again for its layers. The commands that keep every footprint (outage, compare, the app) are still counted
  * for every pair.
  */
-import { mkdtempSync, readdirSync, readFileSync, rmSync } from 'node:fs';
+import { mkdirSync, mkdtempSync, readdirSync, readFileSync, rmSync, writeFileSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { afterAll, describe, expect, it } from 'vitest';
@@ -69,22 +69,45 @@ describe('airshade coverage under a limit that every footprint at once would pas
     // to the grouping as they come), keeps what fits, and computes the other chosen sites' again for the layers;
     // with room it keeps them all.
     const args = ['plan', 'data/demo-scenario.json', '--budget', 'none'];
+    // By default every site's footprints go to a spill folder in the output folder as they come, and the chosen
+    // sites' are read back from it; with AIRSHADE_DISK_SPILL=0 they are swept again. Both leave nothing behind.
+    // A spill folder left by a run killed before its end (its process gone) is removed by the next.
+    const stale = join(dir, 'p1', '.airshade-spill-99999999');
+    mkdirSync(stale, { recursive: true });
+    writeFileSync(join(stale, 'x.footprints'), 'left behind');
     const held = await runCli(...args, '--out', join(dir, 'p1'), '--max-memory', '750M');
     expect(held.err).not.toMatch(/expected at most/);
     expect(held.code).toBe(0);
     expect(held.out).toMatch(
+      /memory: the footprints of \d+ of the \d+ chosen sites were not kept in memory \(they would have passed --max-memory\); every site's were written to a spill folder in the output folder as they came \([1-9][\d.]* GiB|0\.\d*[1-9]\d* GiB\), the chosen read back for the layers, and the folder removed/,
+    );
+    process.env.AIRSHADE_DISK_SPILL = '0';
+    let swept: Awaited<ReturnType<typeof runCli>>;
+    try {
+      swept = await runCli(...args, '--out', join(dir, 'p3'), '--max-memory', '750M');
+    } finally {
+      delete process.env.AIRSHADE_DISK_SPILL;
+    }
+    expect(swept.code).toBe(0);
+    expect(swept.out).toMatch(
       /memory: the footprints of \d+ of the \d+ chosen sites were not kept \(they would have passed --max-memory\) and were computed again for the layers/,
     );
     const roomy = await runCli(...args, '--out', join(dir, 'p2'), '--quiet');
     expect(roomy.code).toBe(0);
+    expect(roomy.out).not.toMatch(/spill/);
     const files = readdirSync(join(dir, 'p2')).filter((f) => f.endsWith('.json') || f.endsWith('.geojson'));
     expect(files).toContain('plan.json');
+    for (const run of ['p1', 'p3']) {
+      expect(readdirSync(join(dir, run)).filter((f) => f.startsWith('.'))).toEqual([]);
+      expect(readdirSync(join(dir, run)).sort()).toEqual(readdirSync(join(dir, 'p2')).sort());
+    }
     for (const f of files.filter((x) => !x.startsWith('airshade-run'))) {
       const read = (d: string) => {
         const { provenance: _p, ...rest } = JSON.parse(readFileSync(join(dir, d, f), 'utf8'));
         return rest;
       };
       expect(read('p1'), f).toEqual(read('p2'));
+      expect(read('p3'), f).toEqual(read('p2'));
     }
   }, 180_000);
 

@@ -156,6 +156,8 @@ export function writeFileAtomic(
   path: string,
   data: ArrayBuffer | string | readonly Uint8Array[],
   what = path,
+  /** false: no fsync of the file and its folder (a run's own scratch, read back and removed by the same run). */
+  durable = true,
 ): void {
   const dir = dirname(resolve(path));
   const tmp = join(dir, `.${basename(path)}.${randomBytes(6).toString('hex')}.tmp`);
@@ -176,7 +178,7 @@ export function writeFileAtomic(
           at += writeSync(fd, bytes, at, Math.min(bytes.byteLength - at, WRITE_CHUNK_BYTES));
         }
       }
-      fsyncSync(fd);
+      if (durable) fsyncSync(fd);
     } finally {
       closeSync(fd);
     }
@@ -189,7 +191,7 @@ export function writeFileAtomic(
       'a writable output path',
     );
   }
-  syncFolder(dir);
+  if (durable) syncFolder(dir);
 }
 
 /** Flushes a folder's entries (a rename) to the disk; not every platform allows it, and then it is skipped. */

@@ -13,7 +13,7 @@
  * on stderr, naming it and what was wrong, and the site is computed again.
  */
 import { createHash } from 'node:crypto';
-import { readFileSync } from 'node:fs';
+import { mkdirSync, readdirSync, readFileSync, rmSync, statfsSync, statSync } from 'node:fs';
 import { join } from 'node:path';
 import type { Candidate } from '../core/coverage.ts';
 import type { Footprint } from '../core/footprint.ts';
@@ -166,8 +166,84 @@ export function writeCachedSite(
   inputs: unknown,
   footprints: readonly Footprint[],
   grid: { width: number; height: number },
+  /** false for a plan's spill (`openDiskSpill`): no fsync. */
+  durable = true,
 ): string {
   const path = join(dir, cacheFileName(key));
-  writeFileAtomic(path, encodeFootprintFile(key, inputs, footprints, grid, sha256Parts), `--cache: ${path}`);
+  writeFileAtomic(
+    path,
+    encodeFootprintFile(key, inputs, footprints, grid, sha256Parts),
+    `--cache: ${path}`,
+    durable,
+  );
   return path;
+}
+
+/** The name of a plan's spill folder in its output folder is this and the process id. */
+const SPILL_PREFIX = '.airshade-spill-';
+
+/** A plan's spill folder (see `openDiskSpill`). */
+export interface DiskSpill {
+  readonly dir: string;
+  /** The bytes of the files in it now. */
+  bytes(): number;
+  /** Removes the folder and what is in it. */
+  remove(): void;
+}
+
+/**
+ * A folder in the output folder where a plan that cannot hold every footprint in memory writes each site's as they
+ * are computed (the cache's file format, not fsynced), to read the chosen sites' back for the layers instead of
+ * sweeping those sites again; removed by the same run. Null (the chosen sites are then swept again) where the disk
+ * there lacks room for `bytes` (the footprints' estimate) with a quarter and 1 GiB to spare, or the folder cannot be
+ * made. Spill folders of runs killed before their end (their process gone) are removed first.
+ */
+export function openDiskSpill(outDir: string, bytes: number): DiskSpill | null {
+  for (const entry of safeList(outDir)) {
+    if (!entry.startsWith(SPILL_PREFIX)) continue;
+    const pid = Number(entry.slice(SPILL_PREFIX.length));
+    if (!Number.isInteger(pid) || pid === process.pid || processAlive(pid)) continue;
+    rmSync(join(outDir, entry), { recursive: true, force: true });
+  }
+  const dir = join(outDir, `${SPILL_PREFIX}${process.pid}`);
+  try {
+    mkdirSync(dir, { recursive: true });
+    const st = statfsSync(dir);
+    if (st.bavail * st.bsize < bytes * 1.25 + 2 ** 30) {
+      rmSync(dir, { recursive: true, force: true });
+      return null;
+    }
+  } catch {
+    rmSync(dir, { recursive: true, force: true });
+    return null;
+  }
+  return {
+    dir,
+    bytes: () =>
+      safeList(dir).reduce((n, f) => {
+        try {
+          return n + statSync(join(dir, f)).size;
+        } catch {
+          return n;
+        }
+      }, 0),
+    remove: () => rmSync(dir, { recursive: true, force: true }),
+  };
+}
+
+function safeList(dir: string): string[] {
+  try {
+    return readdirSync(dir);
+  } catch {
+    return [];
+  }
+}
+
+function processAlive(pid: number): boolean {
+  try {
+    process.kill(pid, 0);
+    return true;
+  } catch (e) {
+    return (e as NodeJS.ErrnoException).code === 'EPERM';
+  }
 }

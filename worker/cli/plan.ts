@@ -58,6 +58,7 @@ import {
   cacheHelp,
   CACHE_OPTION,
 } from './session.ts';
+import { openDiskSpill } from './footprint-cache.ts';
 
 export const PLAN_HELP = `airshade plan — the cheapest sites and sensor types that meet the airspace's requirements
 
@@ -206,57 +207,90 @@ export async function planCommand(argv: readonly string[], log: (s: string) => v
   const allowed = new Uint8Array(candidates.length);
   for (const c of plan.allowedList) allowed[c] = 1;
   const keepMlatCovers = inst.accuracy !== undefined;
-  await footprintsFor(session, candidates, {
-    weather: p.flags.has('weather'),
-    progress,
-    share: [0, 0.6],
-    onSite: (fps) => {
-      if (cached) memory.setKnob(planKnob(true, true));
-      const at = fps.map((fp) => index.get(`${fp.siteId}\u0000${fp.typeId}`)!);
-      fps.forEach((fp, j) => {
-        const c = at[j];
-        if (!allowed[c]) return;
-        // A view of one scratch list, read by the grouping at once.
-        const cv = coveredPointsView(fp, demand, altitudes, candidates[c].model.kind);
-        plan.add(c, cv);
-        if (keepMlatCovers && candidates[c].model.kind === 'mlat') {
-          memory.take(cv.byteLength, "the multilateration receivers' covered points");
-          inst.candidates[c].covers = cv.slice();
-        }
-      });
-      if (!keeping) return;
-      const bytes = fps.reduce((n, fp) => n + footprintBytesHeld(fp), 0);
-      if (!memory.fits(bytes)) {
-        keeping = false;
-        return;
-      }
-      memory.take(bytes, 'footprints kept for the layers');
-      keptBytes += bytes;
-      fps.forEach((fp, j) => kept.set(at[j], fp));
-    },
-    retain: KEEP_NONE,
-  });
-  memory.give(horizons.bytes);
-  const tBuilt = performance.now();
-  progress.update(0.65, 'prepare');
-  const result = await plan.solve();
-  memory.spill = undefined;
-  memory.rewind(beforeSolve + OVERHEAD * keptBytes);
-  const tSolved = performance.now();
-  // The chosen sensors' footprints: those kept, and the others' sites computed again.
-  const missing = result.chosen.filter((i) => !kept.has(i));
-  const again =
-    missing.length === 0
-      ? []
-      : await chosenFootprints(session, candidates, missing, memory, {
-          weather: p.flags.has('weather'),
-          progress,
-          share: [0.95, 0.04],
+  // Footprints that will not be kept are spilled to the output folder's disk as they come, so that the chosen
+  // sites' are read back for the layers instead of swept again (on the national box at 15″: 84 s of sweeps for the
+  // 100-odd chosen sites). AIRSHADE_DISK_SPILL=0 turns it off.
+  const diskSpill =
+    !cached && !keeping && process.env.AIRSHADE_DISK_SPILL !== '0'
+      ? openDiskSpill(outDir, sitesFootprintBytes(s, session.grid, session.targets.length))
+      : null;
+  if (diskSpill !== null) {
+    session.cacheDir = diskSpill.dir;
+    session.cacheIsSpill = true;
+  }
+  // The footprints pass, the solve and the chosen sites' footprints, with the spill folder removed however they end.
+  const passes = async () => {
+    await footprintsFor(session, candidates, {
+      weather: p.flags.has('weather'),
+      progress,
+      share: [0, 0.6],
+      onSite: (fps) => {
+        if (cached) memory.setKnob(planKnob(true, true));
+        const at = fps.map((fp) => index.get(`${fp.siteId}\u0000${fp.typeId}`)!);
+        fps.forEach((fp, j) => {
+          const c = at[j];
+          if (!allowed[c]) return;
+          // A view of one scratch list, read by the grouping at once.
+          const cv = coveredPointsView(fp, demand, altitudes, candidates[c].model.kind);
+          plan.add(c, cv);
+          if (keepMlatCovers && candidates[c].model.kind === 'mlat') {
+            memory.take(cv.byteLength, "the multilateration receivers' covered points");
+            inst.candidates[c].covers = cv.slice();
+          }
         });
-  const byIndex = new Map(again.map((fp) => [index.get(`${fp.siteId}\u0000${fp.typeId}`)!, fp]));
-  const chosenFps = result.chosen.map((i) => kept.get(i) ?? byIndex.get(i)!);
-  kept.clear();
-  const recomputedSites = new Set(missing.map((i) => candidates[i].site.id)).size;
+        if (!keeping) return;
+        const bytes = fps.reduce((n, fp) => n + footprintBytesHeld(fp), 0);
+        if (!memory.fits(bytes)) {
+          keeping = false;
+          return;
+        }
+        memory.take(bytes, 'footprints kept for the layers');
+        keptBytes += bytes;
+        fps.forEach((fp, j) => kept.set(at[j], fp));
+      },
+      retain: KEEP_NONE,
+    });
+    memory.give(horizons.bytes);
+    const tBuilt = performance.now();
+    progress.update(0.65, 'prepare');
+    const result = await plan.solve();
+    memory.spill = undefined;
+    memory.rewind(beforeSolve + OVERHEAD * keptBytes);
+    const tSolved = performance.now();
+    // The chosen sensors' footprints: those kept, and the others' sites read back from the spill folder or computed again.
+    const missing = result.chosen.filter((i) => !kept.has(i));
+    const again =
+      missing.length === 0
+        ? []
+        : await chosenFootprints(session, candidates, missing, memory, {
+            weather: p.flags.has('weather'),
+            progress,
+            share: [0.95, 0.04],
+          });
+    const byIndex = new Map(again.map((fp) => [index.get(`${fp.siteId}\u0000${fp.typeId}`)!, fp]));
+    const chosenFps = result.chosen.map((i) => kept.get(i) ?? byIndex.get(i)!);
+    kept.clear();
+    const recomputedSites = new Set(missing.map((i) => candidates[i].site.id)).size;
+    return {
+      result,
+      chosenFps,
+      recomputedSites,
+      tBuilt,
+      tSolved,
+      spilledToDisk: diskSpill === null ? undefined : { sites: recomputedSites, bytes: diskSpill.bytes() },
+    };
+  };
+  let done: Awaited<ReturnType<typeof passes>>;
+  try {
+    done = await passes();
+  } finally {
+    if (diskSpill !== null) {
+      session.cacheDir = undefined;
+      session.cacheIsSpill = undefined;
+      diskSpill.remove();
+    }
+  }
+  const { result, chosenFps, recomputedSites, tBuilt, tSolved, spilledToDisk } = done;
   progress.update(0.99, 'layers');
   const network = studyNetwork(session, fls, chosenFps);
   // No date in plan.json and its layers: the same inputs give the same bytes.
@@ -290,6 +324,7 @@ export async function planCommand(argv: readonly string[], log: (s: string) => v
       ...(recomputedSites > 0
         ? { recomputedSites, chosenSites: new Set(result.chosen.map((i) => candidates[i].site.id)).size }
         : {}),
+      ...(spilledToDisk !== undefined ? { spilledBytes: spilledToDisk.bytes } : {}),
     }),
   );
   log(conventionsText(doc.conventions));
@@ -333,7 +368,7 @@ async function chosenFootprints(
       session.grid,
       session.targets.length,
     ),
-    "the chosen sites' footprints, computed again for the layers",
+    "the chosen sites' footprints, read back or computed again for the layers",
   );
   const keep = new Set(chosen.map((i) => `${candidates[i].site.id}\u0000${candidates[i].model.spec.id}`));
   return footprintsFor(
@@ -472,7 +507,9 @@ function planSummary(
   }
   if (t.recomputedSites !== undefined) {
     lines.push(
-      `  memory: the footprints of ${t.recomputedSites} of the ${t.chosenSites} chosen sites were not kept (they would have passed --max-memory) and were computed again for the layers`,
+      t.spilledBytes !== undefined
+        ? `  memory: the footprints of ${t.recomputedSites} of the ${t.chosenSites} chosen sites were not kept in memory (they would have passed --max-memory); every site's were written to a spill folder in the output folder as they came (${(t.spilledBytes / 2 ** 30).toFixed(2)} GiB), the chosen read back for the layers, and the folder removed`
+        : `  memory: the footprints of ${t.recomputedSites} of the ${t.chosenSites} chosen sites were not kept (they would have passed --max-memory) and were computed again for the layers`,
     );
   }
   if (r.solverStop === 'safety time limit') {

@@ -62,11 +62,13 @@ import {
 } from './footprint-cache.ts';
 
 /**
- * A study opened by the CLI. `cacheDir`: the footprint cache folder (--cache), when one is used; `workCheck`: the
- * time estimate, left until the cache says which sites need a sweep (then taken by `footprintsFor`).
+ * A study opened by the CLI. `cacheDir`: the footprint cache folder (--cache), when one is used, or a plan's spill
+ * folder (`cacheIsSpill`, footprint-cache.ts `openDiskSpill`) while the plan uses one; `workCheck`: the time estimate,
+ * left until the cache says which sites need a sweep (then taken by `footprintsFor`).
  */
 export type Session = Study<LoadedScenario> & {
   cacheDir?: string;
+  cacheIsSpill?: boolean;
   workCheck?: { loaded: LoadedScenario; limitMin: number };
   /** Which footprints the command holds at once, as its memory was checked. */
   footprintHold?: FootprintHold;
@@ -450,7 +452,7 @@ export async function footprintsFor(
       (site, fps) => {
         const g = bySite.get(site.id)!;
         g.footprints = fps;
-        const file = writeCachedSite(dir, g.key, g.inputs, fps, grid);
+        const file = writeCachedSite(dir, g.key, g.inputs, fps, grid, !session.cacheIsSpill);
         opts.onCache?.({ siteId: site.id, file, read: false });
         handTo(groups.indexOf(g) + 1);
       },
