@@ -214,10 +214,10 @@ describe('airshade plan past --max-memory', () => {
       named.push(what);
       said.push(r.err.trim());
       limit = mib + 1;
-      if (what === "the chosen sites' footprints, computed again for the layers") break;
+      if (what === "the chosen sites' footprints, read back or computed again for the layers") break;
     }
     expect(named[0]).toBe('the demand points');
-    expect(named.at(-1)).toBe("the chosen sites' footprints, computed again for the layers");
+    expect(named.at(-1)).toBe("the chosen sites' footprints, read back or computed again for the layers");
     // Only a refusal after footprints were computed offers them for the next run.
     expect(said[0]).not.toMatch(/footprints computed/);
     expect(said.at(-1)).toMatch(/; the footprints computed are in the --cache folder for the next run\)$/);

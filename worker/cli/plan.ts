@@ -277,7 +277,10 @@ export async function planCommand(argv: readonly string[], log: (s: string) => v
       recomputedSites,
       tBuilt,
       tSolved,
-      spilledToDisk: diskSpill === null ? undefined : { sites: recomputedSites, bytes: diskSpill.bytes() },
+      spilledToDisk:
+        diskSpill === null || session.spillStopped
+          ? undefined
+          : { sites: recomputedSites, bytes: diskSpill.bytes() },
     };
   };
   let done: Awaited<ReturnType<typeof passes>>;
@@ -287,6 +290,7 @@ export async function planCommand(argv: readonly string[], log: (s: string) => v
     if (diskSpill !== null) {
       session.cacheDir = undefined;
       session.cacheIsSpill = undefined;
+      session.spillStopped = undefined;
       diskSpill.remove();
     }
   }

@@ -69,6 +69,8 @@ import {
 export type Session = Study<LoadedScenario> & {
   cacheDir?: string;
   cacheIsSpill?: boolean;
+  /** Set when a write to the spill folder failed: no more are tried. */
+  spillStopped?: boolean;
   workCheck?: { loaded: LoadedScenario; limitMin: number };
   /** Which footprints the command holds at once, as its memory was checked. */
   footprintHold?: FootprintHold;
@@ -452,8 +454,22 @@ export async function footprintsFor(
       (site, fps) => {
         const g = bySite.get(site.id)!;
         g.footprints = fps;
-        const file = writeCachedSite(dir, g.key, g.inputs, fps, grid, !session.cacheIsSpill);
-        opts.onCache?.({ siteId: site.id, file, read: false });
+        if (session.cacheIsSpill) {
+          // A plan's spill folder: a site that cannot be written (a full disk) is swept again if it is chosen.
+          if (!session.spillStopped) {
+            try {
+              writeCachedSite(dir, g.key, g.inputs, fps, grid, false);
+            } catch (e) {
+              session.spillStopped = true;
+              process.stderr.write(
+                `plan: the spill folder ${dir} cannot take more (${e instanceof InputError ? e.found : String(e)}); the chosen sites not written there will be swept again\n`,
+              );
+            }
+          }
+        } else {
+          const file = writeCachedSite(dir, g.key, g.inputs, fps, grid);
+          opts.onCache?.({ siteId: site.id, file, read: false });
+        }
         handTo(groups.indexOf(g) + 1);
       },
     );
