@@ -100,90 +100,37 @@ export function distances(
   return mEnd + 1;
 }
 
-/** One cell of `farLine`, for the odd cell at a line's end. */
-function farCell(
-  tp: usize,
-  zp: usize,
-  last: i32,
-  T: usize,
-  z: usize,
-  s: usize,
-  h: usize,
-  shrink: f64,
-  m: i32,
-  re: f64,
-  invRe: f64,
-  rha: f64,
-  cap: f64,
-): void {
-  const x = <f64>m * shrink;
-  const f0 = <i32>x;
-  const w = x - <f64>f0;
-  let tc: f64;
-  let zc: f64;
-  if (w == 0) {
-    tc = f0 <= last ? load<f64>(tp + ((<usize>f0) << 3)) : NaN;
-    zc = f0 <= last ? load<f64>(zp + ((<usize>f0) << 3)) : NaN;
-  } else if (f0 + 1 > last) {
-    tc = NaN;
-    zc = NaN;
-  } else {
-    const p = tp + ((<usize>f0) << 3);
-    const q = zp + ((<usize>f0) << 3);
-    const y0 = load<f64>(p);
-    const y1 = load<f64>(p, 8);
-    const za = load<f64>(q);
-    zc = za + (load<f64>(q, 8) - za) * w;
-    const ym = f0 > 0 ? load<f64>(p - 8) : y0;
-    const y2 = f0 + 2 <= last ? load<f64>(p, 16) : y1;
-    const d0 = y1 - y0;
-    if (d0 != d0) tc = NaN;
-    else {
-      const lo = min<f64>(0, 3 * d0);
-      const hi = max<f64>(0, 3 * d0);
-      const m0 = min<f64>(max<f64>(ym == ym ? 0.5 * (y1 - ym) : d0, lo), hi);
-      const m1 = min<f64>(max<f64>(y2 == y2 ? 0.5 * (y2 - y0) : d0, lo), hi);
-      const w2 = w * w;
-      const w3 = w2 * w;
-      tc = (2 * w3 - 3 * w2 + 1) * y0 + (w3 - 2 * w2 + w) * m0 + (3 * w2 - 2 * w3) * y1 + (w3 - w2) * m1;
-    }
-  }
-  const sm = load<f64>(s + ((<usize>m) << 3));
-  let tan: f64;
-  if (tc != tc || zc != zc) tan = NaN;
-  else {
-    const xc = sm * invRe * shrink;
-    const x2 = xc * xc;
-    const cs = 1 - x2 * (0.5 - x2 * (1.0 / 24 - x2 * (1.0 / 720)));
-    const sn = xc * (1 - x2 * (1.0 / 6 - x2 * (1.0 / 120 - x2 * (1.0 / 5040))));
-    const rz = re + zc;
-    const num = rz * cs - rha;
-    const den = rz * sn;
-    tan = num > tc * den ? num / den : tc;
-  }
-  store<f64>(T + ((<usize>m) << 3), tan);
-  // floorOf
-  const g = load<f64>(z + ((<usize>m) << 3));
-  let v: f64;
-  const xg = sm * invRe;
-  const xg2 = xg * xg;
-  const cg = 1 - xg2 * (0.5 - xg2 * (1.0 / 24 - xg2 / 720));
-  const sg = xg * (1 - xg2 * (1.0 / 6 - xg2 * (1.0 / 120 - xg2 / 5040)));
-  if (g != g) v = NaN;
-  else {
-    const den = cg - tan * sg;
-    if (den > 1e-9) {
-      if (rha <= (re + g) * den) v = g;
-      else {
-        const u = rha / den - re;
-        v = u > cap ? cap : u;
-      }
-    } else v = den == den ? (g > cap ? g : cap) : NaN;
-  }
-  store<f32>(h + ((<usize>m) << 2), <f32>v);
+/** cos x by its series to x⁶, from x² (x < 0.25: relative error below 1e-8), as grid-sweep.ts computes it. */
+function cosSeries(x2: f64): f64 {
+  return 1 - x2 * (0.5 - x2 * (1.0 / 24 - x2 * (1.0 / 720)));
+}
+
+/** sin x by its series to x⁷, from x and x². */
+function sinSeries(x: f64, x2: f64): f64 {
+  return x * (1 - x2 * (1.0 / 6 - x2 * (1.0 / 120 - x2 * (1.0 / 5040))));
 }
 
 const NAN2 = f64x2.splat(NaN);
+const ONE2 = f64x2.splat(1);
+const HALF2 = f64x2.splat(0.5);
+const C24 = f64x2.splat(1.0 / 24);
+const C720 = f64x2.splat(1.0 / 720);
+const C6 = f64x2.splat(1.0 / 6);
+const C120 = f64x2.splat(1.0 / 120);
+const C5040 = f64x2.splat(1.0 / 5040);
+
+/** `cosSeries` on two lanes. */
+function cosSeries2(x2: v128): v128 {
+  return f64x2.sub(ONE2, f64x2.mul(x2, f64x2.sub(HALF2, f64x2.mul(x2, f64x2.sub(C24, f64x2.mul(x2, C720))))));
+}
+
+/** `sinSeries` on two lanes. */
+function sinSeries2(x: v128, x2: v128): v128 {
+  return f64x2.mul(
+    x,
+    f64x2.sub(ONE2, f64x2.mul(x2, f64x2.sub(C6, f64x2.mul(x2, f64x2.sub(C120, f64x2.mul(x2, C5040)))))),
+  );
+}
 
 export function farLine(
   tp: usize,
@@ -211,15 +158,11 @@ export function farLine(
   const one = f64x2.splat(1);
   const two = f64x2.splat(2);
   const three = f64x2.splat(3);
-  const half = f64x2.splat(0.5);
-  const c24 = f64x2.splat(1.0 / 24);
-  const c720 = f64x2.splat(1.0 / 720);
-  const c6 = f64x2.splat(1.0 / 6);
-  const c120 = f64x2.splat(1.0 / 120);
-  const c5040 = f64x2.splat(1.0 / 5040);
   const eps = f64x2.splat(1e-9);
   let m = 0;
-  for (; m + 1 < len; m += 2) {
+  // Two cells at a time; an odd line's last pair reads and writes one cell past its end (inside the buffers, and
+  // never read: the next line reads T up to len − 1, and h past len is overwritten or not written out).
+  for (; m < len; m += 2) {
     const mv = f64x2.add(f64x2.splat(<f64>m), f64x2(0, 1));
     const x = f64x2.mul(mv, vShrink);
     const fi = i32x4.trunc_sat_f64x2_s_zero(x);
@@ -251,8 +194,8 @@ export function farLine(
     const d3 = f64x2.mul(three, d0);
     const lo = f64x2.min(zero, d3);
     const hi = f64x2.max(zero, d3);
-    const t0 = v128.bitselect(f64x2.mul(half, f64x2.sub(y1, ym)), d0, f64x2.eq(ym, ym));
-    const t1 = v128.bitselect(f64x2.mul(half, f64x2.sub(y2, y0)), d0, f64x2.eq(y2, y2));
+    const t0 = v128.bitselect(f64x2.mul(HALF2, f64x2.sub(y1, ym)), d0, f64x2.eq(ym, ym));
+    const t1 = v128.bitselect(f64x2.mul(HALF2, f64x2.sub(y2, y0)), d0, f64x2.eq(y2, y2));
     const m0 = f64x2.min(f64x2.max(t0, lo), hi);
     const m1 = f64x2.min(f64x2.max(t1, lo), hi);
     const w2 = f64x2.mul(w, w);
@@ -275,14 +218,8 @@ export function farLine(
     const xg = f64x2.mul(sm, vInvRe);
     const xc = f64x2.mul(xg, vShrink);
     const x2 = f64x2.mul(xc, xc);
-    const cs = f64x2.sub(
-      one,
-      f64x2.mul(x2, f64x2.sub(half, f64x2.mul(x2, f64x2.sub(c24, f64x2.mul(x2, c720))))),
-    );
-    const sn = f64x2.mul(
-      xc,
-      f64x2.sub(one, f64x2.mul(x2, f64x2.sub(c6, f64x2.mul(x2, f64x2.sub(c120, f64x2.mul(x2, c5040)))))),
-    );
+    const cs = cosSeries2(x2);
+    const sn = sinSeries2(xc, x2);
     const rz = f64x2.add(vRe, zc);
     const num = f64x2.sub(f64x2.mul(rz, cs), vRha);
     const den = f64x2.mul(rz, sn);
@@ -293,14 +230,8 @@ export function farLine(
     // The floor (floorOf).
     const g = v128.load(z + ((<usize>m) << 3));
     const xg2 = f64x2.mul(xg, xg);
-    const cg = f64x2.sub(
-      one,
-      f64x2.mul(xg2, f64x2.sub(half, f64x2.mul(xg2, f64x2.sub(c24, f64x2.mul(xg2, c720))))),
-    );
-    const sg = f64x2.mul(
-      xg,
-      f64x2.sub(one, f64x2.mul(xg2, f64x2.sub(c6, f64x2.mul(xg2, f64x2.sub(c120, f64x2.mul(xg2, c5040)))))),
-    );
+    const cg = cosSeries2(xg2);
+    const sg = sinSeries2(xg, xg2);
     const fden = f64x2.sub(cg, f64x2.mul(tan, sg));
     const u = f64x2.sub(f64x2.div(vRha, fden), vRe);
     const capped = v128.bitselect(vCap, u, f64x2.gt(u, vCap));
@@ -311,5 +242,4 @@ export function farLine(
     const v = v128.bitselect(v0, NAN2, f64x2.eq(g, g));
     v128.store64_lane(h + ((<usize>m) << 2), f32x4.demote_f64x2_zero(v), 0);
   }
-  if (m < len) farCell(tp, zp, last, T, z, s, h, shrink, m, re, invRe, rha, cap);
 }
