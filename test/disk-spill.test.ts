@@ -16,8 +16,8 @@ vi.mock('../worker/cli/footprint-cache.ts', async (importOriginal) => {
   return {
     ...orig,
     writeCachedSite: (...args: Parameters<typeof orig.writeCachedSite>) => {
-      // The spill's writes (not durable): the third and later fail as a full disk would.
-      if (args[5] === false && ++writes.spill >= 3)
+      // The spill's writes (spill = true): the third and later fail as a full disk would.
+      if (args[5] === true && ++writes.spill >= 3)
         throw new Error('ENOSPC: no space left on device (made up)');
       return orig.writeCachedSite(...args);
     },

@@ -138,6 +138,8 @@ export function readCachedSite(
   key: string,
   grid: { width: number; height: number },
   warn: (line: string) => void,
+  /** A plan's spill file (`openDiskSpill`): written without a digest, so none is checked. */
+  spill = false,
 ): Footprint[] | null {
   const path = join(dir, cacheFileName(key));
   let bytes: Buffer;
@@ -150,8 +152,11 @@ export function readCachedSite(
     return null;
   }
   try {
-    return decodeFootprintFile(bytes, { key, width: grid.width, height: grid.height }, sha256Parts)
-      .footprints;
+    return decodeFootprintFile(
+      bytes,
+      { key, width: grid.width, height: grid.height },
+      spill ? NO_DIGEST : sha256Parts,
+    ).footprints;
   } catch (e) {
     if (!(e instanceof FootprintFileError)) throw e;
     warn(`footprint cache: ${path}: ${e.message}; computing this site again`);
@@ -166,18 +171,25 @@ export function writeCachedSite(
   inputs: unknown,
   footprints: readonly Footprint[],
   grid: { width: number; height: number },
-  /** false for a plan's spill (`openDiskSpill`): no fsync. */
-  durable = true,
+  /** A plan's spill (`openDiskSpill`): no fsync and no digest (the run that writes it reads it back). */
+  spill = false,
 ): string {
   const path = join(dir, cacheFileName(key));
   writeFileAtomic(
     path,
-    encodeFootprintFile(key, inputs, footprints, grid, sha256Parts),
+    encodeFootprintFile(key, inputs, footprints, grid, spill ? NO_DIGEST : sha256Parts),
     `--cache: ${path}`,
-    durable,
+    !spill,
   );
   return path;
 }
+
+/**
+ * A spill file's digest: none taken. Its SHA-256 cost the plan's main thread about 20 ms a site (28 MB) on the
+ * national box, twice over with the read back; a cache folder given to --cache never holds these files, and one that
+ * did would not match them (this text is no SHA-256), so they would be computed again.
+ */
+const NO_DIGEST: Digest = () => 'none (a plan spill, read back by the run that wrote it)';
 
 /** The name of a plan's spill folder in its output folder is this and the process id. */
 const SPILL_PREFIX = '.airshade-spill-';
@@ -207,6 +219,8 @@ export function openDiskSpill(outDir: string, bytes: number): DiskSpill | null {
   }
   const dir = join(outDir, `${SPILL_PREFIX}${process.pid}`);
   try {
+    // A folder of this name can only be an earlier process's that had the same id: nothing of it is read.
+    rmSync(dir, { recursive: true, force: true });
     mkdirSync(dir, { recursive: true });
     const st = statfsSync(dir);
     if (st.bavail * st.bsize < bytes * 1.25 + 2 ** 30) {

@@ -389,7 +389,7 @@ export async function footprintsFor(
     const inputs = footprintInputs(session, group, job);
     const key = footprintKey(inputs);
     const warn = (line: string) => process.stderr.write(`${line}\n`);
-    const found = readCachedSite(dir, key, grid, warn);
+    const found = readCachedSite(dir, key, grid, warn, session.cacheIsSpill);
     // A file whose footprints do not match the group (a hand-edited header with the right key) is not used.
     const fits =
       found !== null &&
@@ -428,7 +428,7 @@ export async function footprintsFor(
         // Read once already (above) and found whole: only something else rewriting the folder meanwhile fails
         // here, and the layers would then mix two studies' footprints.
         let why = '';
-        const again = readCachedSite(dir, g.key, grid, (line) => (why = line));
+        const again = readCachedSite(dir, g.key, grid, (line) => (why = line), session.cacheIsSpill);
         if (again === null) {
           throw new InputError(
             `--cache ${join(dir, cacheFileName(g.key))}`,
@@ -458,7 +458,7 @@ export async function footprintsFor(
           // A plan's spill folder: a site that cannot be written (a full disk) is swept again if it is chosen.
           if (!session.spillStopped) {
             try {
-              writeCachedSite(dir, g.key, g.inputs, fps, grid, false);
+              writeCachedSite(dir, g.key, g.inputs, fps, grid, true);
             } catch (e) {
               session.spillStopped = true;
               process.stderr.write(
