@@ -15,8 +15,13 @@ vi.mock('../worker/cli/footprint-cache.ts', async (importOriginal) => {
   const orig = await importOriginal<typeof import('../worker/cli/footprint-cache.ts')>();
   return {
     ...orig,
+    // The spill's writes (off the thread, or on it when four are in flight): the third and later fail as a full
+    // disk would.
+    writeSpilledSite: async (...args: Parameters<typeof orig.writeSpilledSite>) => {
+      if (++writes.spill >= 3) throw new Error('ENOSPC: no space left on device (made up)');
+      return orig.writeSpilledSite(...args);
+    },
     writeCachedSite: (...args: Parameters<typeof orig.writeCachedSite>) => {
-      // The spill's writes (spill = true): the third and later fail as a full disk would.
       if (args[5] === true && ++writes.spill >= 3)
         throw new Error('ENOSPC: no space left on device (made up)');
       return orig.writeCachedSite(...args);

@@ -14,6 +14,7 @@
  */
 import { createHash } from 'node:crypto';
 import { mkdirSync, readdirSync, readFileSync, rmSync, statfsSync, statSync } from 'node:fs';
+import { open, rename } from 'node:fs/promises';
 import { join } from 'node:path';
 import type { Candidate } from '../core/coverage.ts';
 import type { Footprint } from '../core/footprint.ts';
@@ -190,6 +191,31 @@ export function writeCachedSite(
  * did would not match them (this text is no SHA-256), so they would be computed again.
  */
 const NO_DIGEST: Digest = () => 'none (a plan spill, read back by the run that wrote it)';
+
+/**
+ * `writeCachedSite` for a plan's spill (`openDiskSpill`), written by Node's I/O threads while the main thread goes on
+ * (no fsync, no digest): under a temporary name, then renamed. Resolves when the file is in place.
+ */
+export async function writeSpilledSite(
+  dir: string,
+  key: string,
+  inputs: unknown,
+  footprints: readonly Footprint[],
+  grid: { width: number; height: number },
+): Promise<void> {
+  const path = join(dir, cacheFileName(key));
+  const tmp = `${path}.tmp`;
+  const parts = encodeFootprintFile(key, inputs, footprints, grid, NO_DIGEST);
+  const total = parts.reduce((n, p) => n + p.byteLength, 0);
+  const fh = await open(tmp, 'w');
+  try {
+    const { bytesWritten } = await fh.writev(parts as Uint8Array[]);
+    if (bytesWritten !== total) throw new Error(`${bytesWritten} of ${total} bytes written`);
+  } finally {
+    await fh.close();
+  }
+  await rename(tmp, path);
+}
 
 /** The name of a plan's spill folder in its output folder is this and the process id. */
 const SPILL_PREFIX = '.airshade-spill-';

@@ -59,6 +59,7 @@ import {
   readCachedSite,
   siteGroups,
   writeCachedSite,
+  writeSpilledSite,
 } from './footprint-cache.ts';
 
 /**
@@ -407,6 +408,7 @@ export async function footprintsFor(
     if (g.cached) opts.onCache?.({ siteId: g.group[0].site.id, file: g.key, read: true });
   }
   const missing = groups.filter((g) => !g.cached);
+  const spillWrites = new Set<Promise<void>>();
   if (session.workCheck) {
     // The time estimate for the sites still to sweep, before any is computed.
     const { loaded, limitMin } = session.workCheck;
@@ -455,15 +457,26 @@ export async function footprintsFor(
         const g = bySite.get(site.id)!;
         g.footprints = fps;
         if (session.cacheIsSpill) {
-          // A plan's spill folder: a site that cannot be written (a full disk) is swept again if it is chosen.
-          if (!session.spillStopped) {
+          // A plan's spill folder: written by Node's I/O threads, at most SPILL_WRITES_IN_FLIGHT sites at a time
+          // (beyond that on this thread: the footprints of sites waiting to be written are not in the memory
+          // account). A site that cannot be written (a full disk) is swept again if it is chosen.
+          const stop = (e: unknown) => {
+            if (session.spillStopped) return;
+            session.spillStopped = true;
+            process.stderr.write(
+              `plan: the spill folder ${dir} cannot take more (${e instanceof InputError ? e.found : String(e)}); the chosen sites not written there will be swept again\n`,
+            );
+          };
+          if (!session.spillStopped && spillWrites.size < SPILL_WRITES_IN_FLIGHT) {
+            const w: Promise<void> = writeSpilledSite(dir, g.key, g.inputs, fps, grid)
+              .catch(stop)
+              .finally(() => spillWrites.delete(w));
+            spillWrites.add(w);
+          } else if (!session.spillStopped) {
             try {
               writeCachedSite(dir, g.key, g.inputs, fps, grid, true);
             } catch (e) {
-              session.spillStopped = true;
-              process.stderr.write(
-                `plan: the spill folder ${dir} cannot take more (${e instanceof InputError ? e.found : String(e)}); the chosen sites not written there will be swept again\n`,
-              );
+              stop(e);
             }
           }
         } else {
@@ -475,8 +488,13 @@ export async function footprintsFor(
     );
   }
   handTo(groups.length);
+  // A spill's files are all in place before anything reads them back.
+  await Promise.all(spillWrites);
   return groups.flatMap((g) => g.footprints!);
 }
+
+/** A plan's spill files being written at once, at most (each holds its site's footprints until written). */
+const SPILL_WRITES_IN_FLIGHT = 4;
 
 async function computeFor(
   session: Session,
