@@ -208,8 +208,8 @@ export async function planCommand(argv: readonly string[], log: (s: string) => v
   for (const c of plan.allowedList) allowed[c] = 1;
   const keepMlatCovers = inst.accuracy !== undefined;
   // Footprints that will not be kept are spilled to the output folder's disk as they come, so that the chosen
-  // sites' are read back for the layers instead of swept again (on the national box at 15″: 84 s of sweeps for the
-  // 100-odd chosen sites). AIRSHADE_DISK_SPILL=0 turns it off.
+  // sites' are read back for the layers instead of swept again (on the national box at 15″: about 84 s of sweeps for
+  // its 96 chosen sites). AIRSHADE_DISK_SPILL=0 turns it off.
   const diskSpill =
     !cached && !keeping && process.env.AIRSHADE_DISK_SPILL !== '0'
       ? openDiskSpill(outDir, sitesFootprintBytes(s, session.grid, session.targets.length))
