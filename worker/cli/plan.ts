@@ -277,10 +277,7 @@ export async function planCommand(argv: readonly string[], log: (s: string) => v
       recomputedSites,
       tBuilt,
       tSolved,
-      spilledToDisk:
-        diskSpill === null || session.spillStopped
-          ? undefined
-          : { sites: recomputedSites, bytes: diskSpill.bytes() },
+      spilledBytes: diskSpill === null || session.spillStopped ? undefined : diskSpill.bytes(),
     };
   };
   let done: Awaited<ReturnType<typeof passes>>;
@@ -294,7 +291,7 @@ export async function planCommand(argv: readonly string[], log: (s: string) => v
       diskSpill.remove();
     }
   }
-  const { result, chosenFps, recomputedSites, tBuilt, tSolved, spilledToDisk } = done;
+  const { result, chosenFps, recomputedSites, tBuilt, tSolved, spilledBytes } = done;
   progress.update(0.99, 'layers');
   const network = studyNetwork(session, fls, chosenFps);
   // No date in plan.json and its layers: the same inputs give the same bytes.
@@ -328,7 +325,7 @@ export async function planCommand(argv: readonly string[], log: (s: string) => v
       ...(recomputedSites > 0
         ? { recomputedSites, chosenSites: new Set(result.chosen.map((i) => candidates[i].site.id)).size }
         : {}),
-      ...(spilledToDisk !== undefined ? { spilledBytes: spilledToDisk.bytes } : {}),
+      ...(spilledBytes !== undefined ? { spilledBytes } : {}),
     }),
   );
   log(conventionsText(doc.conventions));
