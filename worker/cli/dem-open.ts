@@ -59,7 +59,8 @@ export async function withTilesWithin<T>(
 
 /**
  * The terrain mosaic of DEM files, decoded straight into its one buffer (see `withTilesWithin`); `names` are the
- * files as messages name them (default the paths), `shared` puts the mosaic on a SharedArrayBuffer, and
+ * files as messages name them (default the paths), `shared` puts the mosaic on a SharedArrayBuffer, `kernel` in
+ * the radial kernel's WebAssembly memory where it can (Terrain MosaicOptions), and
  * `beforeDecode` sees the headers before any pixel is decoded (to refuse a run early).
  */
 export async function readTerrainWithin(
@@ -67,6 +68,7 @@ export async function readTerrainWithin(
   limit: number,
   opts: {
     shared?: boolean;
+    kernel?: boolean;
     names?: readonly string[];
     beforeDecode?: (opened: OpenedTiles) => void;
   } = {},
@@ -78,7 +80,7 @@ export async function readTerrainWithin(
     async (opened) => {
       opts.beforeDecode?.(opened);
       return {
-        terrain: await Terrain.fromPendingTiles(opened.tiles, { shared: opts.shared }),
+        terrain: await Terrain.fromPendingTiles(opened.tiles, { shared: opts.shared, kernel: opts.kernel }),
         largest: opened.largest,
         firstGeo: opened.tiles[0].geo,
       };

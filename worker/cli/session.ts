@@ -213,6 +213,8 @@ export async function openSession(
   progress.update(0, 'reading terrain');
   const { terrain, largest } = await readTerrainWithin(loaded.terrainPaths, limit, {
     shared: threads > 0,
+    // The study's sites are swept along radials: the terrain goes where the radial kernel reads it.
+    kernel: true,
     names: loaded.scenario.terrain.files.map((_, i) => loaded.locate(['terrain', 'files', i])),
     // With the grid's bounds in the scenario the study's memory is known from the tiles' headers: a run too
     // large is refused before any pixel is decoded.

@@ -14,6 +14,7 @@ import { readableBy, type Executor, type FloorRequest, type Progress } from './f
 import { VectorMap } from './geodesy.ts';
 import { gridMapper } from './grid.ts';
 import { horizonBufferLength, planHorizon, type HorizonSpec } from './horizon.ts';
+import { growRegion } from './radial-kernel.ts';
 import {
   buildFootprint,
   NO_COVER_LO,
@@ -120,7 +121,7 @@ export async function computeFootprints(
     Math.min(req.maxRangeM, Math.max(...cands.map((c) => c.model.instrumentedRangeM)));
   // One polar buffer serves every site in turn (a site's sweep starts only once the previous site's resampling is
   // done): fresh memory costs a page fault per 4 KiB here, about a fifth of the time with a buffer per site.
-  const spare: Spare = { buffer: null, grids: [] };
+  const spare: Spare = { polar: null, grids: [] };
   const ground = readableBy(exec, req.ground);
   const floorOf = (cands: Candidate[]) => {
     const site = cands[0].site;
@@ -194,7 +195,7 @@ export async function computeFootprints(
       const site = cands[0].site;
       const res = await next!;
       // The polar buffer is free again (the resampling is done): the next site's sweep takes it.
-      if (!opts.cache) spare.buffer = res.tan.buffer;
+      if (!opts.cache) spare.polar = res.polar;
       next = g + 1 < groups.length ? floorOf(groups[g + 1]) : null;
       const { distance, maxRangeM } = res;
       if (opts.keepSiteFloors) {
@@ -296,8 +297,28 @@ export function dropOutsideSector(
  * mostly its two fresh grids a site, was about 9 s of the main thread's busy 100 s).
  */
 interface Spare {
-  buffer: ArrayBuffer | SharedArrayBuffer | null;
+  polar: Polar | null;
   grids: Float32Array[];
+}
+
+/** A polar buffer: a view over its whole room, and whether it lies in the terrain's WebAssembly memory. */
+interface Polar {
+  view: Float32Array;
+  inMemory: boolean;
+}
+
+/**
+ * A polar buffer of `bytes`: grown in the terrain's WebAssembly memory when it has one (there the radial kernel
+ * writes it, radial-kernel.ts), else in shared memory for a pool, else plain.
+ */
+function newPolar(terrain: TerrainRaster, bytes: number, shared: boolean, inMemory: boolean): Polar {
+  const memory = inMemory ? terrain.memory : null;
+  if (memory) {
+    const at = growRegion(memory, bytes);
+    if (at >= 0) return { view: new Float32Array(memory.buffer, at, bytes / 4), inMemory: true };
+  }
+  const buffer = shared ? new SharedArrayBuffer(bytes) : new ArrayBuffer(bytes);
+  return { view: new Float32Array(buffer), inMemory: false };
 }
 
 /** One site's floor as `siteFloor` computes it. */
@@ -307,6 +328,8 @@ interface SiteRun {
   distance: Float32Array;
   /** The polar buffer of screening tans (lent: free again once the footprints no longer need it). */
   tan: Float32Array;
+  /** The whole of the polar buffer `tan` lies in. */
+  polar: Polar;
   antennaAltM: number;
   groundM: number;
   /** The horizon's range (m). */
@@ -356,29 +379,27 @@ async function siteFloor(
   let done = 0;
   const tick = (stage: string) => () => onProgress(++done / (pieces * 2), stage);
   let horizon = cache?.get(terrain, spec);
+  let polar: Polar | null = null;
   if (horizon) {
     done = pieces;
   } else {
     const layout = planHorizon(terrain, spec);
     const bytes = horizonBufferLength(layout) * 4;
-    const reuse = cache === null && spare.buffer !== null && spare.buffer.byteLength >= bytes;
+    const reuse = cache === null && spare.polar !== null && spare.polar.view.byteLength >= bytes;
     // A fresh buffer gets a quarter more than this site needs, so that the sites after it (other latitudes, other
     // reaches) fit in it too: one buffer for the whole run, where a buffer fitted to its first site was replaced by a
-    // fresh one whenever a later site needed a little more (the demo's peak went from 860 to 650 MiB).
-    const fresh = 4 * Math.ceil(bytes / 3.2);
-    const buffer = reuse
-      ? spare.buffer!
-      : exec.shared
-        ? new SharedArrayBuffer(fresh)
-        : new ArrayBuffer(fresh);
-    if (reuse) spare.buffer = null;
+    // fresh one whenever a later site needed a little more (the demo's peak went from 860 to 650 MiB). Without a
+    // horizon cache (which keeps buffers) it goes in the terrain's WebAssembly memory where there is one.
+    polar = reuse ? spare.polar! : newPolar(terrain, 4 * Math.ceil(bytes / 3.2), exec.shared, cache === null);
+    if (reuse) spare.polar = null;
     // Every sample a reader takes is written by the sweep (the rest lies past its radial's tail): a reused buffer
     // needs no clearing.
-    const tan = new Float32Array(buffer, 0, horizonBufferLength(layout));
+    const tan = new Float32Array(polar.view.buffer, polar.view.byteOffset, horizonBufferLength(layout));
+    const inMemory = polar.inMemory;
     const swept = tick('terrain sweep');
     await Promise.all(
       Array.from({ length: pieces }, (_, i) =>
-        exec.sweep(layout, tan, i / pieces, (i + 1) / pieces).then(swept),
+        exec.sweep(layout, tan, i / pieces, (i + 1) / pieces, inMemory).then(swept),
       ),
     );
     horizon = { layout, tan };
@@ -412,6 +433,7 @@ async function siteFloor(
     floor,
     distance,
     tan,
+    polar: polar ?? { view: tan, inMemory: false },
     antennaAltM: layout.antennaAltM,
     groundM: layout.groundM,
     maxRangeM: layout.maxRangeM,

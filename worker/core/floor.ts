@@ -41,7 +41,17 @@ export interface Executor {
   readonly size: number;
   /** Shared memory is needed when pieces run elsewhere (a pool); inline executors can use plain buffers. */
   readonly shared: boolean;
-  sweep(layout: HorizonLayout, tan: Float32Array, sectorStart: number, sectorEnd: number): Promise<void>;
+  /**
+   * Radials of one sector into `tan`; `tanInMemory`: `tan` lies in the terrain's WebAssembly memory, so the radial
+   * kernel can write it (horizon.ts `sweepSector`).
+   */
+  sweep(
+    layout: HorizonLayout,
+    tan: Float32Array,
+    sectorStart: number,
+    sectorEnd: number,
+    tanInMemory?: boolean,
+  ): Promise<void>;
   resample(
     layout: HorizonLayout,
     tan: Float32Array,
@@ -72,8 +82,8 @@ export function inlineExecutor(terrain: TerrainRaster): Executor {
   return {
     size: 1,
     shared: false,
-    async sweep(layout, tan, a, b) {
-      sweepSector(terrain, layout, tan, a, b);
+    async sweep(layout, tan, a, b, inMemory) {
+      sweepSector(terrain, layout, tan, a, b, undefined, inMemory);
     },
     async resample(layout, tan, vmap, out, ground, r0, r1, distance) {
       return resampleFloor({ layout, tan }, new VectorMap(vmap), out, ground, r0, r1, distance);

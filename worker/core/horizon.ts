@@ -19,6 +19,7 @@
 import { EARTH_RADIUS_M } from '../../shared/units.ts';
 import { FLOOR_CAP_M } from './floor-cap.ts';
 import { InputError } from '../../shared/errors.ts';
+import { radialKernel, type RadialKernel, type WasmMemory } from './radial-kernel.ts';
 import {
   pseudoToAzimuthRad,
   RadialFan,
@@ -31,6 +32,8 @@ import {
 export interface TerrainRaster extends PixelMapper {
   readonly geo: { readonly width: number; readonly height: number };
   readonly data: Float32Array;
+  /** The WebAssembly memory `data` lies at the start of, when it does (radial-kernel.ts). */
+  readonly memory?: WasmMemory | null;
   samplePixel(x: number, y: number): number;
   metresPerPixel(lon: number, lat: number): { x: number; y: number };
 }
@@ -486,6 +489,134 @@ function insideRaster(p: number, v: number, a: number, n: number, size: number):
   return mid > lo && mid < hi;
 }
 
+/** Where `sweepPair` stopped on each radial (as `sweptTo`) and each radial's screening tan at jEnd. */
+const pairOut = { sweptA: 0, sweptB: 0, tanA: 0, tanB: 0 };
+
+/**
+ * Radials A and B (B the next of the level, stored 4 bytes after A: `base` is A's) from jStart to jEnd − 1, as two
+ * `sweepRadial` calls would, with the pieces of range knots where both lie well inside the terrain run together by
+ * the WebAssembly kernel (worker/kernel/radial-kernel.ts: the fast path's operations, two lanes at once; the same
+ * bits). The near field, and everything from the first piece that cannot be run together, go one radial at a time.
+ * `data`, `tan` and the tables (cosP, sinP) lie in the kernel's memory; results in `pairOut`.
+ */
+function sweepPair(
+  k: RadialKernel,
+  data: Float32Array,
+  W: number,
+  H: number,
+  fan: RadialFan,
+  kA: Float64Array,
+  kB: Float64Array,
+  rt: RangeTables,
+  cosP: number,
+  sinP: number,
+  ds: number,
+  re: number,
+  rha: number,
+  TA: number,
+  TB: number,
+  tan: Float32Array,
+  base: number,
+  stride: number,
+  jStart: number,
+  jEnd: number,
+): void {
+  const x0 = fan.x0;
+  const y0 = fan.y0;
+  const knotM = fan.rangeKnotM;
+  const lastKnot = fan.rangeKnotCount - 2;
+  let j = jStart;
+  if (j < rt.jNear) {
+    const jn = Math.min(rt.jNear, jEnd);
+    TA = nearField(data, W, H, fan, kA, rt, ds, re, rha, TA, tan, base, stride, j, jn);
+    TB = nearField(data, W, H, fan, kB, rt, ds, re, rha, TB, tan, base + 1, stride, j, jn);
+    j = jn;
+  }
+  while (j < jEnd && TA === TA && TB === TB && j >= rt.jFirst) {
+    // The piece of range knots [m, m + 1] holding sample j, stepped as in sweepRadial for each radial.
+    const sj = j * ds;
+    const m = Math.min(Math.floor(sj / knotM), lastKnot);
+    const jSegEnd = m === lastKnot ? jEnd : Math.min(jEnd, Math.ceil(((m + 1) * knotM) / ds));
+    const sm = m * knotM;
+    const step = ds * (2 * sj + ds - sm);
+    const qxA = kA[m * 2];
+    const qyA = kA[m * 2 + 1];
+    const dxA = (kA[m * 2 + 2] - qxA) / knotM;
+    const dyA = (kA[m * 2 + 3] - qyA) / knotM;
+    const qxB = kB[m * 2];
+    const qyB = kB[m * 2 + 1];
+    const dxB = (kB[m * 2 + 2] - qxB) / knotM;
+    const dyB = (kB[m * 2 + 3] - qyB) / knotM;
+    const pxA = x0 + sj * (qxA + (sj - sm) * dxA);
+    const pyA = y0 + sj * (qyA + (sj - sm) * dyA);
+    const pxB = x0 + sj * (qxB + (sj - sm) * dxB);
+    const pyB = y0 + sj * (qyB + (sj - sm) * dyB);
+    const vxA = ds * qxA + dxA * step;
+    const vyA = ds * qyA + dyA * step;
+    const vxB = ds * qxB + dxB * step;
+    const vyB = ds * qyB + dyB * step;
+    const axA = 2 * dxA * ds * ds;
+    const ayA = 2 * dyA * ds * ds;
+    const axB = 2 * dxB * ds * ds;
+    const ayB = 2 * dyB * ds * ds;
+    const n = jSegEnd - 1 - j;
+    if (
+      !insideRaster(pxA, vxA, axA, n, W) ||
+      !insideRaster(pyA, vyA, ayA, n, H) ||
+      !insideRaster(pxB, vxB, axB, n, W) ||
+      !insideRaster(pyB, vyB, ayB, n, H)
+    ) {
+      break;
+    }
+    k.pairRun(
+      data.byteOffset,
+      W,
+      j,
+      jSegEnd,
+      pxA,
+      pxB,
+      pyA,
+      pyB,
+      vxA,
+      vxB,
+      vyA,
+      vyB,
+      axA,
+      axB,
+      ayA,
+      ayB,
+      TA,
+      TB,
+      re,
+      rha,
+      cosP,
+      sinP,
+      tan.byteOffset + base * 4,
+      stride,
+    );
+    TA = k.tanA.value;
+    TB = k.tanB.value;
+    const stopped = k.stoppedAt.value;
+    if (stopped < jSegEnd) {
+      // Unknown terrain under one of them at `stopped` (its tans stored): each goes on alone from there.
+      j = stopped;
+      break;
+    }
+    j = jSegEnd;
+  }
+  if (j >= jEnd) {
+    pairOut.sweptA = jEnd;
+    pairOut.sweptB = jEnd;
+    pairOut.tanA = TA;
+    pairOut.tanB = TB;
+    return;
+  }
+  pairOut.tanA = sweepRadial(data, W, H, fan, kA, rt, ds, re, rha, TA, tan, base, stride, j, jEnd, null);
+  pairOut.sweptA = sweptTo;
+  pairOut.tanB = sweepRadial(data, W, H, fan, kB, rt, ds, re, rha, TB, tan, base + 1, stride, j, jEnd, null);
+  pairOut.sweptB = sweptTo;
+}
+
 /**
  * Fills the radials of pseudo-angle sector [sectorStart, sectorEnd) (fractions of the full circle) at every
  * level. Sectors are independent: a pool splits the circle between workers writing into one shared `tan`.
@@ -497,9 +628,17 @@ export function sweepSector(
   sectorStart = 0,
   sectorEnd = 1,
   onProgress?: (fraction: number) => void,
+  /** `tan` lies in the terrain's WebAssembly memory (radial-kernel.ts): neighbouring radials go in pairs. */
+  tanInMemory = false,
 ): void {
   const fan = new RadialFan(layout.fan);
   const rt = rangeTables(layout);
+  const kernel = tanInMemory && terrain.memory ? radialKernel(terrain.memory) : null;
+  const tablesAt = kernel === null ? -1 : kernel.tables(rt.cos, rt.sin);
+  const pairs = kernel !== null && tablesAt >= 0;
+  const cosP = tablesAt;
+  const sinP = tablesAt + 8 * rt.cos.length;
+  const knotsB = new Float64Array(fan.rangeKnotCount * 2);
   const knots = new Float64Array(fan.rangeKnotCount * 2);
   const W = terrain.geo.width;
   const H = terrain.geo.height;
@@ -528,6 +667,56 @@ export function sweepSector(
     const scratch = new Float32Array(rowLen);
     for (let i = first; i <= last; i++) {
       const writes = i < last;
+      if (pairs && i + 1 < last) {
+        // Radials i and i + 1, both written (i + 1 < last ≤ n): started as below, swept together.
+        let TA: number;
+        let TB: number;
+        if (li === 0) {
+          TA = NOTHING;
+          TB = NOTHING;
+        } else if ((i & 1) === 0) {
+          TA = carry[i / 2 - carryFirst];
+          TB = 0.5 * (carry[i / 2 - carryFirst] + carry[i / 2 + 1 - carryFirst]);
+        } else {
+          TA = 0.5 * (carry[(i - 1) / 2 - carryFirst] + carry[(i + 1) / 2 - carryFirst]);
+          TB = carry[(i + 1) / 2 - carryFirst];
+        }
+        fan.knotsForAzimuth(pseudoToAzimuthRad((i / n) * 2 * Math.PI), knots);
+        fan.knotsForAzimuth(pseudoToAzimuthRad(((i + 1) / n) * 2 * Math.PI), knotsB);
+        const base = level.offset + i - level.jStart * n;
+        sweepPair(
+          kernel,
+          data,
+          W,
+          H,
+          fan,
+          knots,
+          knotsB,
+          rt,
+          cosP,
+          sinP,
+          ds,
+          re,
+          rha,
+          TA,
+          TB,
+          tan,
+          base,
+          n,
+          level.jStart,
+          level.jEnd,
+        );
+        const o = pairOut;
+        tails[level.radialBase + i] = o.sweptA === level.jEnd ? level.jEnd + 1 : o.sweptA;
+        tails[level.radialBase + i + 1] = o.sweptB === level.jEnd ? level.jEnd + 1 : o.sweptB;
+        tan[base + level.jEnd * n] = o.tanA;
+        tan[base + 1 + level.jEnd * n] = o.tanB;
+        nextCarry[i - first] = o.tanA;
+        nextCarry[i + 1 - first] = o.tanB;
+        done += 2 * rowLen;
+        i++;
+        continue;
+      }
       const ii = i % n;
       // Initial screening at jStart.
       let T: number;

@@ -49,7 +49,8 @@ interface Wasm {
 
 let compiled: object | null | undefined;
 
-function decodeBase64(text: string): Uint8Array {
+/** The bytes of a base64 text (the kernels' embedded WebAssembly; no platform decoder needed). */
+export function decodeBase64(text: string): Uint8Array {
   const abc = 'ABCDEFGHIJKLMNOPQRSTUVWXYZabcdefghijklmnopqrstuvwxyz0123456789+/';
   const clean = text.replace(/=+$/, '');
   const out = new Uint8Array(Math.floor((clean.length * 3) / 4));

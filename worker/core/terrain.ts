@@ -15,6 +15,7 @@ import proj4 from 'proj4';
 import type { Converter } from 'proj4';
 import { InputError } from '../../shared/errors.ts';
 import { WGS84_GEOGRAPHIC, type Crs, type GridGeo } from './grid.ts';
+import { terrainMemory, type WasmMemory } from './radial-kernel.ts';
 
 /** One decoded DEM tile (see worker/io/geotiff-read.ts). */
 export interface DemTile {
@@ -32,6 +33,11 @@ export interface TerrainParts {
   data: Float32Array;
   warnings: string[];
   sources: string[];
+  /**
+   * The WebAssembly memory `data` lies at the start of, when the terrain was read for the radial kernel
+   * (radial-kernel.ts): the polar buffers are grown in it too. Shared, so it goes to workers with the parts.
+   */
+  memory?: WasmMemory | null;
 }
 
 /** Largest working raster we build: 2^30 cells = 4 GiB of Float32. */
@@ -52,6 +58,8 @@ export class Terrain {
   readonly warnings: string[];
   /** Names of the tiles the mosaic was built from, in order. */
   readonly sources: string[];
+  /** The WebAssembly memory that holds `data` at its start, or null (see TerrainParts.memory). */
+  readonly memory: WasmMemory | null;
   /** WGS84 lon/lat <-> this CRS; null for a geographic raster (no conversion needed). */
   private readonly proj: Converter | null;
   /** Geographic terrain: the longitude of its centre; a lon is taken within ±180° of it (the antimeridian). */
@@ -67,6 +75,7 @@ export class Terrain {
     this.data = data;
     this.warnings = p.warnings;
     this.sources = p.sources;
+    this.memory = p.memory ?? null;
     this.proj = geo.crs.kind === 'geographic' ? null : proj4(WGS84_GEOGRAPHIC.proj4, geo.crs.proj4);
     this.lonCentre = geo.originX + (geo.width * geo.pixelX) / 2;
   }
@@ -77,20 +86,27 @@ export class Terrain {
   }
 
   toParts(): TerrainParts {
-    return { geo: this.geo, data: this.data, warnings: this.warnings, sources: this.sources };
+    return {
+      geo: this.geo,
+      data: this.data,
+      warnings: this.warnings,
+      sources: this.sources,
+      memory: this.memory,
+    };
   }
 
   /**
    * Mosaics tiles onto the first tile's lattice. `shared: true` puts the data in a SharedArrayBuffer so a
-   * pool of workers can read one copy.
+   * pool of workers can read one copy; `kernel: true` puts it in a WebAssembly memory for the radial kernel where
+   * that can be had (shared too; see `newRaster`).
    */
-  static fromTiles(tilesIn: DemTile[], opts: { shared?: boolean } = {}): Terrain {
+  static fromTiles(tilesIn: DemTile[], opts: MosaicOptions = {}): Terrain {
     const { geo, tiles } = planMosaic(tilesIn);
-    const data = newRaster(geo.width * geo.height, opts.shared);
+    const { data, memory } = newRaster(geo.width * geo.height, opts);
     data.fill(NaN);
     const warnings: string[] = [];
     for (const t of tiles) placeTile(t, t === tiles[0], t.warnings, geo, data, warnings, tiles[0].name);
-    return new Terrain({ geo, data, warnings, sources: tiles.map((t) => t.name) });
+    return new Terrain({ geo, data, warnings, sources: tiles.map((t) => t.name), memory });
   }
 
   /**
@@ -98,9 +114,9 @@ export class Terrain {
    * before any pixel is decoded, then the first tile decodes straight into the mosaic's one buffer (no copy of its
    * own) and every other tile into one reused scratch buffer, from which it is copied or resampled as in `fromTiles`.
    */
-  static async fromPendingTiles(tilesIn: PendingTile[], opts: { shared?: boolean } = {}): Promise<Terrain> {
+  static async fromPendingTiles(tilesIn: PendingTile[], opts: MosaicOptions = {}): Promise<Terrain> {
     const { geo, tiles } = planMosaic(tilesIn);
-    const data = newRaster(geo.width * geo.height, opts.shared);
+    const { data, memory } = newRaster(geo.width * geo.height, opts);
     const first = tiles[0];
     const g0 = first.geo;
     const dc = Math.round((g0.originX - geo.originX) / geo.pixelX);
@@ -122,7 +138,7 @@ export class Terrain {
       const tile: DemTile = { name: t.name, geo: t.geo, data: tileData, ...decoded };
       placeTile(tile, false, decoded.warnings, geo, data, warnings, first.name);
     }
-    return new Terrain({ geo, data, warnings, sources: tiles.map((t) => t.name) });
+    return new Terrain({ geo, data, warnings, sources: tiles.map((t) => t.name), memory });
   }
 
   /** Continuous pixel coordinates of a lon/lat (degrees, WGS84) into out[0], out[1]. */
@@ -290,9 +306,24 @@ function planMosaic<T extends { name: string; geo: GridGeo }>(tilesIn: T[]): { g
   return { geo, tiles };
 }
 
-/** The mosaic's raster, in a SharedArrayBuffer when a pool of workers will read it. */
-function newRaster(n: number, shared = false): Float32Array {
-  return shared ? new Float32Array(new SharedArrayBuffer(n * 4)) : new Float32Array(n);
+/** Where a mosaic's raster goes. */
+export interface MosaicOptions {
+  /** In shared memory: a pool of workers reads one copy. */
+  shared?: boolean;
+  /**
+   * At the start of a (shared) WebAssembly memory, where the radial kernel can have it (radial-kernel.ts): for
+   * the jobs that sweep radials (coverage and what builds on it). Elsewhere, and for a raster over 3 GiB, as
+   * `shared` says.
+   */
+  kernel?: boolean;
+}
+
+/** The mosaic's raster (zeroed), and the WebAssembly memory it lies in when it does. */
+function newRaster(n: number, opts: MosaicOptions): { data: Float32Array; memory: WasmMemory | null } {
+  const memory = opts.kernel ? terrainMemory(n) : null;
+  if (memory !== null) return { data: new Float32Array(memory.buffer, 0, n), memory };
+  const data = opts.shared ? new Float32Array(new SharedArrayBuffer(n * 4)) : new Float32Array(n);
+  return { data, memory: null };
 }
 
 /** One decoded tile into the mosaic: copied cell for cell when on its lattice, else resampled; its warnings. */

@@ -91,9 +91,10 @@ export const api = {
     tan: Float32Array,
     sectorStart: number,
     sectorEnd: number,
+    tanInMemory?: boolean,
   ): Promise<void> {
     const E = await radialEngine();
-    E.sweepSector(need(E), layoutOf(layout), tan, sectorStart, sectorEnd);
+    E.sweepSector(need(E), layoutOf(layout), tan, sectorStart, sectorEnd, undefined, tanInMemory);
   },
   async resample(
     layout: Sent<HorizonLayout>,

@@ -56,7 +56,8 @@ export class RemotePool {
     return {
       size: this.remotes.length,
       shared: true,
-      sweep: (layout, tan, a, b) => this.run((w, k) => w.sweep(this.once(k, 'layout', layout), tan, a, b)),
+      sweep: (layout, tan, a, b, inMemory) =>
+        this.run((w, k) => w.sweep(this.once(k, 'layout', layout), tan, a, b, inMemory)),
       resample: (layout, tan, vmap, out, ground, r0, r1, distance) =>
         this.run((w, k) =>
           w.resample(
