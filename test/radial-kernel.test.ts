@@ -164,7 +164,14 @@ describe('the radial sweep kernel', () => {
     const grownBefore = inMemory.memory!.buffer.byteLength;
     const k = await computeFootprints(inMemory, req, inlineExecutor(inMemory));
     // The polar buffer was grown in the terrain's memory, so the kernel swept it.
-    expect(inMemory.memory!.buffer.byteLength).toBeGreaterThan(grownBefore);
+    const grown = inMemory.memory!.buffer.byteLength;
+    expect(grown).toBeGreaterThan(grownBefore);
+    // A second call on the same terrain takes that buffer again instead of growing the memory.
+    const again = await computeFootprints(inMemory, req, inlineExecutor(inMemory));
+    expect(inMemory.memory!.buffer.byteLength).toBe(grown);
+    expect(again.footprints.map((fp) => Array.from(fp.lo))).toEqual(
+      k.footprints.map((fp) => Array.from(fp.lo)),
+    );
     const j = await computeFootprints(plain, req, inlineExecutor(plain));
     expect(k.footprints.length).toBe(2);
     k.footprints.forEach((fp, i) => {

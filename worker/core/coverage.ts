@@ -14,7 +14,7 @@ import { readableBy, type Executor, type FloorRequest, type Progress } from './f
 import { VectorMap } from './geodesy.ts';
 import { gridMapper } from './grid.ts';
 import { horizonBufferLength, planHorizon, type HorizonSpec } from './horizon.ts';
-import { growRegion } from './radial-kernel.ts';
+import { growRegion, type WasmMemory } from './radial-kernel.ts';
 import {
   buildFootprint,
   NO_COVER_LO,
@@ -121,7 +121,7 @@ export async function computeFootprints(
     Math.min(req.maxRangeM, Math.max(...cands.map((c) => c.model.instrumentedRangeM)));
   // One polar buffer serves every site in turn (a site's sweep starts only once the previous site's resampling is
   // done): fresh memory costs a page fault per 4 KiB here, about a fifth of the time with a buffer per site.
-  const spare: Spare = { polar: null, grids: [] };
+  const spare: Spare = { polar: takeFreePolar(terrain), grids: [] };
   const ground = readableBy(exec, req.ground);
   const floorOf = (cands: Candidate[]) => {
     const site = cands[0].site;
@@ -242,6 +242,9 @@ export async function computeFootprints(
     next?.catch(() => {});
     throw e;
   }
+  // The polar buffer outlives the call when it lies in the terrain's memory (which cannot give it back): the next
+  // call on this terrain takes it.
+  if (spare.polar?.inMemory && terrain.memory) freePolars.set(terrain.memory, spare.polar);
   return { footprints, siteFloors };
 }
 
@@ -305,6 +308,21 @@ interface Spare {
 interface Polar {
   view: Float32Array;
   inMemory: boolean;
+}
+
+/**
+ * Polar buffers grown in a terrain's WebAssembly memory by a finished `computeFootprints`: a memory cannot shrink,
+ * so the next call on the same terrain (the plan's second pass, a refraction sweep's next k) takes the buffer
+ * instead of growing another. A call takes it out while it runs: two at once never share one.
+ */
+const freePolars = new WeakMap<WasmMemory, Polar>();
+
+function takeFreePolar(terrain: TerrainRaster): Polar | null {
+  const memory = terrain.memory;
+  const polar = memory ? freePolars.get(memory) : undefined;
+  if (memory === null || memory === undefined || polar === undefined) return null;
+  freePolars.delete(memory);
+  return polar;
 }
 
 /**
