@@ -9,12 +9,12 @@
 import { readFileSync } from 'node:fs';
 import { describe, expect, it } from 'vitest';
 import { computeFootprints, type Candidate } from '../worker/core/coverage.ts';
-import { WGS84_GEOGRAPHIC, type GridGeo } from '../worker/core/grid.ts';
 import { inlineExecutor } from '../worker/core/floor.ts';
 import { buildSensorModel } from '../worker/core/sensor-model.ts';
 import { DEFAULT_TARGET } from '../worker/core/sensor.ts';
 import { Terrain } from '../worker/core/terrain.ts';
 import { bumpyDem } from './support/bumps.ts';
+import { oceanBoxGeo } from './support/dem.ts';
 
 const CATALOG = JSON.parse(
   readFileSync(new URL('../data/catalog/sensor-types.json', import.meta.url), 'utf8'),
@@ -23,15 +23,7 @@ const CATALOG = JSON.parse(
 describe('footprints with reused grids and windowed geodesics', () => {
   it('are the same as with every grid kept, site by site and cell by cell', async () => {
     // 1.5° × 1° at 36″ (150 × 100 cells, about 1 km); three sites, each reaching well inside the box.
-    const geo: GridGeo = {
-      width: 150,
-      height: 100,
-      originX: -31,
-      originY: -40,
-      pixelX: 0.01,
-      pixelY: -0.01,
-      crs: WGS84_GEOGRAPHIC,
-    };
+    const geo = oceanBoxGeo();
     const data = bumpyDem(7, geo.width, geo.height);
     const terrain = Terrain.fromParts({ geo, data, warnings: [], sources: ['generated'] });
     const spec = CATALOG.find((t: { kind: string }) => t.kind === 'secondary');

@@ -22,12 +22,12 @@ import {
 } from '../worker/core/horizon.ts';
 import { computeFootprints, type Candidate } from '../worker/core/coverage.ts';
 import { inlineExecutor } from '../worker/core/floor.ts';
-import { WGS84_GEOGRAPHIC, type GridGeo } from '../worker/core/grid.ts';
+import type { GridGeo } from '../worker/core/grid.ts';
 import { buildSensorModel } from '../worker/core/sensor-model.ts';
 import { DEFAULT_TARGET } from '../worker/core/sensor.ts';
 import { Terrain } from '../worker/core/terrain.ts';
 import { bumpyDem } from './support/bumps.ts';
-import { cellLonLat, metricGeo } from './support/dem.ts';
+import { cellLonLat, metricGeo, oceanBoxGeo } from './support/dem.ts';
 
 const PIXEL_M = 90;
 
@@ -139,15 +139,7 @@ describe('the radial sweep kernel', () => {
   });
 
   it('gives the same footprints when the terrain lies in WebAssembly memory', async () => {
-    const geo: GridGeo = {
-      width: 150,
-      height: 100,
-      originX: -31,
-      originY: -40,
-      pixelX: 0.01,
-      pixelY: -0.01,
-      crs: WGS84_GEOGRAPHIC,
-    };
+    const geo = oceanBoxGeo();
     const data = bumpyDem(7, geo.width, geo.height);
     const { inMemory, plain } = terrains(geo, data);
     const catalog = JSON.parse(

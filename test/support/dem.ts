@@ -1,7 +1,7 @@
 /** Generated DEMs for engine tests: metric grids on a transverse Mercator centred on the demo ocean. */
 import proj4 from 'proj4';
 import { Terrain } from '../../worker/core/terrain.ts';
-import type { GridGeo } from '../../worker/core/grid.ts';
+import { WGS84_GEOGRAPHIC, type GridGeo } from '../../worker/core/grid.ts';
 
 /** Centre of the test grids: open ocean, nothing real implied. */
 export const TEST_LON0 = -30;
@@ -37,4 +37,17 @@ export function cellLonLat(geo: GridGeo, c: number, r: number): { lon: number; l
     geo.originY + (r + 0.5) * geo.pixelY,
   ]);
   return { lon, lat };
+}
+
+/** A geographic test box over open ocean: 1.5° × 1° at 36″ (150 × 100 cells, about 1 km), 31–29.5° W, 40–41° S. */
+export function oceanBoxGeo(): GridGeo {
+  return {
+    width: 150,
+    height: 100,
+    originX: -31,
+    originY: -40,
+    pixelX: 0.01,
+    pixelY: -0.01,
+    crs: WGS84_GEOGRAPHIC,
+  };
 }
