@@ -177,4 +177,45 @@ describe('the radial sweep kernel', () => {
       expect(fp.lo.some((l, q) => l <= fp.hi[q])).toBe(true);
     });
   });
+
+  it('grows one polar buffer in the terrain’s memory for sites of different reach, sized for the largest', async () => {
+    const geo = oceanBoxGeo();
+    const data = bumpyDem(4, geo.width, geo.height);
+    const catalog = JSON.parse(
+      readFileSync(new URL('../data/catalog/sensor-types.json', import.meta.url), 'utf8'),
+    );
+    const model = (id: string) =>
+      buildSensorModel(
+        catalog.find((t: { id: string }) => t.id === id),
+        id,
+      );
+    // The shortest reach first (60 NM), then the longest (the 200 km cap), then one between (80 NM).
+    const sites: [string, number, number, string][] = [
+      ['a', -30.7, -40.3, 'psr-s-gapfiller'],
+      ['b', -30.1, -40.6, 'ssr-mono-lva'],
+      ['c', -29.8, -40.25, 'psr-s-terminal'],
+    ];
+    const candidates: Candidate[] = sites.map(([id, lon, lat, type]) => ({
+      site: { id, name: `Test buoy ${id}`, lon, lat, mastHeightM: 20 },
+      model: model(type),
+      target: DEFAULT_TARGET,
+    }));
+    const grownBy = async (cands: Candidate[]) => {
+      const { inMemory } = terrains(geo, data);
+      const before = inMemory.memory!.buffer.byteLength;
+      await computeFootprints(
+        inMemory,
+        { grid: geo, ground: data, candidates: cands, kFactor: 4 / 3, maxRangeM: 200_000 },
+        inlineExecutor(inMemory),
+      );
+      return inMemory.memory!.buffer.byteLength - before;
+    };
+    const longest = await grownBy([candidates[1]]);
+    const all = await grownBy(candidates);
+    const shortest = await grownBy([candidates[0]]);
+    // Sized for the first site alone, the buffer would have been grown again for the second: at least the first
+    // site's buffer more. Up to two pages more are the range tables grown again for a longer sweep.
+    expect(shortest).toBeGreaterThan(3 * 65_536);
+    expect(all).toBeLessThanOrEqual(longest + 2 * 65_536);
+  });
 });

@@ -13,7 +13,7 @@
 import { readableBy, type Executor, type FloorRequest, type Progress } from './floor.ts';
 import { VectorMap } from './geodesy.ts';
 import { gridMapper } from './grid.ts';
-import { horizonBufferLength, planHorizon, type HorizonSpec } from './horizon.ts';
+import { horizonBufferLength, horizonLevels, planHorizon, type HorizonSpec } from './horizon.ts';
 import { growRegion, type WasmMemory } from './radial-kernel.ts';
 import {
   buildFootprint,
@@ -119,9 +119,21 @@ export async function computeFootprints(
   const groups = [...bySite.values()];
   const reachOf = (cands: Candidate[]) =>
     Math.min(req.maxRangeM, Math.max(...cands.map((c) => c.model.instrumentedRangeM)));
+  const rangeStepOf = (site: CoverageSite) => req.rangeStepM ?? terrainPixelM(terrain, site);
   // One polar buffer serves every site in turn (a site's sweep starts only once the previous site's resampling is
-  // done): fresh memory costs a page fault per 4 KiB here, about a fifth of the time with a buffer per site.
-  const spare: Spare = { polar: takeFreePolar(terrain), grids: [] };
+  // done): fresh memory costs a page fault per 4 KiB here, about a fifth of the time with a buffer per site. In the
+  // terrain's WebAssembly memory, which cannot give a buffer back, it is sized at once for the largest site of the
+  // call (its reach and range step bound the layout's samples: `horizonLevels`), and one left by an earlier call
+  // that is large enough serves again.
+  let polarBytes = 0;
+  if (terrain.memory && !opts.cache) {
+    for (const c of req.candidates) {
+      const l = horizonLevels(reachOf([c]), rangeStepOf(c.site), arcStepM);
+      polarBytes = Math.max(polarBytes, 4 * (l.totalSamples + l.radialCount));
+    }
+  }
+  const spare: Spare = { polar: takeFreePolar(terrain, polarBytes), grids: [], polarBytes, owned: new Set() };
+  if (spare.polar) spare.owned.add(spare.polar);
   const ground = readableBy(exec, req.ground);
   const floorOf = (cands: Candidate[]) => {
     const site = cands[0].site;
@@ -137,7 +149,7 @@ export async function computeFootprints(
         arcStepM,
         // One terrain pixel between range samples: analysis cells are many terrain pixels wide, and the finer
         // step of the engine's default buys nothing at that scale (test/coverage.test.ts checks the radar horizon).
-        rangeStepM: req.rangeStepM ?? terrainPixelM(terrain, site),
+        rangeStepM: rangeStepOf(site),
       },
       req.grid,
       ground,
@@ -241,11 +253,27 @@ export async function computeFootprints(
     // The site ahead is left: its failure, if any, is not this run's to report (this one is).
     next?.catch(() => {});
     throw e;
+  } finally {
+    // Polar buffers in the terrain's memory outlive the call (the memory cannot give them back): once no sweep of
+    // this call can still write into them (the site ahead settled), the next call on this terrain takes them.
+    if (terrain.memory && spare.owned.size > 0) {
+      await next?.then(
+        () => {},
+        () => {},
+      );
+      for (const p of spare.owned) giveFreePolar(terrain.memory, p);
+    }
   }
-  // The polar buffer outlives the call when it lies in the terrain's memory (which cannot give it back): the next
-  // call on this terrain takes it.
-  if (spare.polar?.inMemory && terrain.memory) freePolars.set(terrain.memory, spare.polar);
   return { footprints, siteFloors };
+}
+
+/**
+ * Waits for every piece, then throws the first failure (a cancelled job's, a worker's): once this settles no piece
+ * still writes into the site's buffers, which the call may hand to another (`Spare`).
+ */
+async function settled(jobs: Promise<unknown>[]): Promise<void> {
+  const results = await Promise.allSettled(jobs);
+  for (const r of results) if (r.status === 'rejected') throw r.reason;
 }
 
 /**
@@ -302,6 +330,10 @@ export function dropOutsideSector(
 interface Spare {
   polar: Polar | null;
   grids: Float32Array[];
+  /** The size a polar buffer grown in the terrain's WebAssembly memory gets at least (0: as the site needs). */
+  polarBytes: number;
+  /** The polar buffers in the terrain's memory this call has taken or grown: free again once it ends. */
+  owned: Set<Polar>;
 }
 
 /** A polar buffer: a view over its whole room, and whether it lies in the terrain's WebAssembly memory. */
@@ -315,14 +347,23 @@ interface Polar {
  * so the next call on the same terrain (the plan's second pass, a refraction sweep's next k) takes the buffer
  * instead of growing another. A call takes it out while it runs: two at once never share one.
  */
-const freePolars = new WeakMap<WasmMemory, Polar>();
+const freePolars = new WeakMap<WasmMemory, Polar[]>();
 
-function takeFreePolar(terrain: TerrainRaster): Polar | null {
-  const memory = terrain.memory;
-  const polar = memory ? freePolars.get(memory) : undefined;
-  if (memory === null || memory === undefined || polar === undefined) return null;
-  freePolars.delete(memory);
-  return polar;
+/** The smallest free polar buffer of the terrain's memory with at least `bytes`, taken out; null if none. */
+function takeFreePolar(terrain: TerrainRaster, bytes: number): Polar | null {
+  const free = terrain.memory ? freePolars.get(terrain.memory) : undefined;
+  if (free === undefined) return null;
+  let best = -1;
+  free.forEach((p, i) => {
+    if (p.view.byteLength >= bytes && (best < 0 || p.view.byteLength < free[best].view.byteLength)) best = i;
+  });
+  return best < 0 ? null : free.splice(best, 1)[0];
+}
+
+function giveFreePolar(memory: WasmMemory, polar: Polar): void {
+  const free = freePolars.get(memory) ?? [];
+  free.push(polar);
+  freePolars.set(memory, free);
 }
 
 /**
@@ -407,15 +448,18 @@ async function siteFloor(
     // A fresh buffer gets a quarter more than this site needs, so that the sites after it (other latitudes, other
     // reaches) fit in it too: one buffer for the whole run, where a buffer fitted to its first site was replaced by a
     // fresh one whenever a later site needed a little more (the demo's peak went from 860 to 650 MiB). Without a
-    // horizon cache (which keeps buffers) it goes in the terrain's WebAssembly memory where there is one.
-    polar = reuse ? spare.polar! : newPolar(terrain, 4 * Math.ceil(bytes / 3.2), exec.shared, cache === null);
+    // horizon cache (which keeps buffers) it goes in the terrain's WebAssembly memory where there is one, sized for
+    // the call's largest site (`polarBytes`).
+    const room = spare.polarBytes > 0 ? Math.max(spare.polarBytes, bytes) : 4 * Math.ceil(bytes / 3.2);
+    polar = reuse ? spare.polar! : newPolar(terrain, room, exec.shared, cache === null);
     if (reuse) spare.polar = null;
+    if (polar.inMemory) spare.owned.add(polar);
     // Every sample a reader takes is written by the sweep (the rest lies past its radial's tail): a reused buffer
     // needs no clearing.
     const tan = new Float32Array(polar.view.buffer, polar.view.byteOffset, horizonBufferLength(layout));
     const inMemory = polar.inMemory;
     const swept = tick('terrain sweep');
-    await Promise.all(
+    await settled(
       Array.from({ length: pieces }, (_, i) =>
         exec.sweep(layout, tan, i / pieces, (i + 1) / pieces, inMemory).then(swept),
       ),
@@ -446,7 +490,7 @@ async function siteFloor(
     const r1 = Math.min(window.row1, r0 + rowsPer);
     jobs.push(exec.resample(layout, tan, vmap, floor, ground, r0, r1, distance).then(resampled));
   }
-  await Promise.all(jobs);
+  await settled(jobs);
   return {
     floor,
     distance,

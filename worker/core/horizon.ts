@@ -176,25 +176,11 @@ export function planHorizon(terrain: TerrainRaster, spec: HorizonSpec): HorizonL
   const pixelM = Math.min(px.x, px.y);
   const rangeStepM = spec.rangeStepM ?? pixelM * 0.75;
   const arcStepM = spec.arcStepM ?? pixelM * 1.5;
-  const rangeCount = Math.ceil(spec.maxRangeM / rangeStepM) + 2;
-  const levels: HorizonLevel[] = [];
-  let azimuthCount = Math.max(
-    512,
-    8 * Math.ceil((2 * Math.PI * Math.min(spec.maxRangeM, 64 * arcStepM)) / arcStepM / 8),
+  const { rangeCount, levels, totalSamples, radialCount } = horizonLevels(
+    spec.maxRangeM,
+    rangeStepM,
+    arcStepM,
   );
-  let jStart = 0;
-  let offset = 0;
-  let radialBase = 0;
-  for (;;) {
-    const levelEndM = (azimuthCount * arcStepM) / (2 * Math.PI);
-    const jEnd = Math.min(rangeCount - 1, Math.max(jStart + 1, Math.ceil(levelEndM / rangeStepM)));
-    levels.push({ azimuthCount, jStart, jEnd, offset, radialBase });
-    offset += azimuthCount * (jEnd - jStart + 1);
-    radialBase += azimuthCount;
-    if (jEnd >= rangeCount - 1) break;
-    jStart = jEnd;
-    azimuthCount *= 2;
-  }
   const reM = kFactor * earthRadiusM;
   return {
     lon: spec.lon,
@@ -211,10 +197,41 @@ export function planHorizon(terrain: TerrainRaster, spec: HorizonSpec): HorizonL
     nearFieldM: NEAR_FIELD_PIXELS * pixelM,
     rangeCount,
     levels,
-    totalSamples: offset,
-    radialCount: radialBase,
+    totalSamples,
+    radialCount,
     fan: RadialFan.build(spec.lon, spec.lat, spec.maxRangeM, terrain),
   };
+}
+
+/**
+ * The sampling's levels for a reach, range step and largest arc between radials (`planHorizon`'s, without the
+ * geodesics): cheap, so a caller can size a polar buffer (`horizonBufferLength`) before planning.
+ */
+export function horizonLevels(
+  maxRangeM: number,
+  rangeStepM: number,
+  arcStepM: number,
+): { rangeCount: number; levels: HorizonLevel[]; totalSamples: number; radialCount: number } {
+  const rangeCount = Math.ceil(maxRangeM / rangeStepM) + 2;
+  const levels: HorizonLevel[] = [];
+  let azimuthCount = Math.max(
+    512,
+    8 * Math.ceil((2 * Math.PI * Math.min(maxRangeM, 64 * arcStepM)) / arcStepM / 8),
+  );
+  let jStart = 0;
+  let offset = 0;
+  let radialBase = 0;
+  for (;;) {
+    const levelEndM = (azimuthCount * arcStepM) / (2 * Math.PI);
+    const jEnd = Math.min(rangeCount - 1, Math.max(jStart + 1, Math.ceil(levelEndM / rangeStepM)));
+    levels.push({ azimuthCount, jStart, jEnd, offset, radialBase });
+    offset += azimuthCount * (jEnd - jStart + 1);
+    radialBase += azimuthCount;
+    if (jEnd >= rangeCount - 1) break;
+    jStart = jEnd;
+    azimuthCount *= 2;
+  }
+  return { rangeCount, levels, totalSamples: offset, radialCount: radialBase };
 }
 
 /** Allocates the `tan` buffer, tails included (shared when asked, so a worker pool can fill it in place). */
