@@ -2,7 +2,7 @@ import geodesic from 'geographiclib-geodesic';
 import proj4 from 'proj4';
 import { describe, expect, it } from 'vitest';
 import { isInputError } from '../shared/errors.ts';
-import { WGS84_GEOGRAPHIC, type GridGeo } from '../worker/core/grid.ts';
+import { pixelsBetween, WGS84_GEOGRAPHIC, type GridGeo } from '../worker/core/grid.ts';
 import { Terrain, bilinear, type DemTile } from '../worker/core/terrain.ts';
 import { readDemTile } from '../worker/io/geotiff-read.ts';
 import { encodeTiff } from './support/tiff-encoder.ts';
@@ -48,6 +48,19 @@ function geoTile(name: string, geo: GridGeo, f: (x: number, y: number) => number
   }
   return { name, geo, data, voidsFilled: 0, warnings: [] };
 }
+
+describe('pixelsBetween: a lattice offset as a small integer', () => {
+  // Math.round((y - y) / -30) is -0; an index built on it stays a double in V8's hot loops (grid.ts).
+  it('a grid over itself with a negative pixel height is +0, not -0', () => {
+    expect(Object.is(Math.round((-41 - -41) / -30), -0)).toBe(true);
+    expect(Object.is(pixelsBetween(-41, -41, -30), 0)).toBe(true);
+  });
+  it('rounds to the nearest whole pixel either way', () => {
+    expect(pixelsBetween(100, 100 + 3 * 30 + 4, 30)).toBe(3);
+    expect(pixelsBetween(100, 100 - 2 * 30 - 16, -30)).toBe(3);
+    expect(pixelsBetween(0, -5 * 30, 30)).toBe(-5);
+  });
+});
 
 describe('bilinear sampling convention', () => {
   // 3 x 2 raster; centre of cell (c, r) at (c + 0.5, r + 0.5).

@@ -11,7 +11,7 @@ import {
 } from '../core/floor.ts';
 import { gridSweepFits, NEAR_CELLS } from '../core/grid-sweep.ts';
 import { Terrain } from '../core/terrain.ts';
-import type { GridGeo } from '../core/grid.ts';
+import { pixelsBetween, type GridGeo } from '../core/grid.ts';
 import { encodeGeoTiffParts, geoTiffCrsProblem } from '../io/geotiff-write.ts';
 import { undated } from '../io/provenance.ts';
 import { NodePool } from '../runtime/node-pool.ts';
@@ -424,8 +424,8 @@ function latticeWindow(
 ): { col0: number; row0: number; width: number; height: number } {
   const t = terrain.geo;
   return {
-    col0: Math.round((geo.originX - t.originX) / t.pixelX),
-    row0: Math.round((geo.originY - t.originY) / t.pixelY),
+    col0: pixelsBetween(t.originX, geo.originX, t.pixelX),
+    row0: pixelsBetween(t.originY, geo.originY, t.pixelY),
     width: geo.width,
     height: geo.height,
   };
@@ -434,8 +434,8 @@ function latticeWindow(
 /** The terrain heights under `geo`'s cells when `geo` lies on the terrain lattice (it does for the first tile). */
 export function windowOf(terrain: Terrain, geo: GridGeo): Float32Array {
   const t = terrain.geo;
-  const dc = Math.round((geo.originX - t.originX) / t.pixelX);
-  const dr = Math.round((geo.originY - t.originY) / t.pixelY);
+  const dc = pixelsBetween(t.originX, geo.originX, t.pixelX);
+  const dr = pixelsBetween(t.originY, geo.originY, t.pixelY);
   // The whole terrain: no copy.
   if (dc === 0 && dr === 0 && geo.width === t.width && geo.height === t.height) return terrain.data;
   const out = new Float32Array(geo.width * geo.height);

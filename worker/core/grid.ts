@@ -43,6 +43,17 @@ export interface GridGeo {
   readonly crs: Crs;
 }
 
+/**
+ * How many pixels of size `pixel` lie from `from` to `to`, rounded to the nearest whole number and returned as a small
+ * integer (`| 0`): Math.round gives -0 for a grid over itself with a negative pixel height, and an integral value
+ * held as a double (-0, or anything computed from it) turns every index built on it into one. V8 then keeps a hot
+ * loop's index in boxed floating point: the voids pass over a freshly read 8192² DEM took 0.37 s instead of 0.10 s.
+ * For offsets within a raster (|result| < 2^31).
+ */
+export function pixelsBetween(from: number, to: number, pixel: number): number {
+  return Math.round((to - from) / pixel) | 0;
+}
+
 export const WGS84_GEOGRAPHIC: Crs = {
   kind: 'geographic',
   proj4: '+proj=longlat +datum=WGS84 +no_defs',

@@ -14,7 +14,7 @@
 import proj4 from 'proj4';
 import type { Converter } from 'proj4';
 import { InputError } from '../../shared/errors.ts';
-import { WGS84_GEOGRAPHIC, type Crs, type GridGeo } from './grid.ts';
+import { pixelsBetween, WGS84_GEOGRAPHIC, type Crs, type GridGeo } from './grid.ts';
 import { terrainMemory, type WasmMemory } from './radial-kernel.ts';
 
 /** One decoded DEM tile (see worker/io/geotiff-read.ts). */
@@ -119,8 +119,8 @@ export class Terrain {
     const { data, memory } = newRaster(geo.width * geo.height, opts);
     const first = tiles[0];
     const g0 = first.geo;
-    const dc = Math.round((g0.originX - geo.originX) / geo.pixelX);
-    const dr = Math.round((g0.originY - geo.originY) / geo.pixelY);
+    const dc = pixelsBetween(geo.originX, g0.originX, geo.pixelX);
+    const dr = pixelsBetween(geo.originY, g0.originY, geo.pixelY);
     // Cells outside the first tile start unknown; the first tile's own cells are all written by its decoder.
     if (g0.width !== geo.width || g0.height !== geo.height) data.fill(NaN);
     const warnings: string[] = [];
@@ -433,8 +433,8 @@ function copyAligned(t: DemTile, geo: GridGeo, dst: Float32Array, first = false)
   if (Math.abs(g.pixelY - geo.pixelY) > 1e-9 * Math.abs(geo.pixelY)) return false;
   const oc = (g.originX - geo.originX) / geo.pixelX;
   const or = (g.originY - geo.originY) / geo.pixelY;
-  const dc = Math.round(oc);
-  const dr = Math.round(or);
+  const dc = Math.round(oc) | 0; // | 0: no -0 (grid.ts pixelsBetween)
+  const dr = Math.round(or) | 0;
   if (Math.abs(oc - dc) > 1e-4 || Math.abs(or - dr) > 1e-4) return false;
   const W = geo.width;
   const src = t.data;
