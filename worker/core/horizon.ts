@@ -973,13 +973,13 @@ function resampleRow(
     const cs = 1 - x2 * (0.5 - x2 * (1 / 24 - x2 / 720));
     const sn = x * (1 - x2 * (1 / 6 - x2 * (1 / 120 - x2 / 5040)));
     const den = cs - T * sn;
-    // den ≤ 0: the screening ray never comes down to range s at any height; NaN: unknown terrain.
-    let h = den > 1e-9 ? rha / den - re : den === den ? FLOOR_CAP_M : NaN;
-    if (h > FLOOR_CAP_M) h = FLOOR_CAP_M;
+    // den ≤ 0: the screening ray never comes down to range s at any height; NaN: unknown terrain. Written so
+    // that h stays a plain double in V8's optimized code: a phi with the imported cap (a module cell) or with the
+    // global NaN (no type feedback on a branch rarely taken) would box it, a heap number per cell.
+    let h = Math.min(den > 1e-9 ? rha / den - re : den === den ? FLOOR_CAP_M : den, FLOOR_CAP_M);
     if (ground !== null) {
       const g = ground[rowOut + c];
-      if (g !== g) h = NaN;
-      else if (h < g) h = g;
+      if (g !== g || h < g) h = g; // unknown ground (NaN) or the floor below it
     }
     out[rowOut + c] = h;
   }
