@@ -5,7 +5,7 @@
  * was expected, and a non-zero exit status, without a stack trace.
  */
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
-import { mkdtempSync, readFileSync, rmSync, writeFileSync } from 'node:fs';
+import { existsSync, mkdtempSync, readFileSync, rmSync, writeFileSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { execFileSync, spawnSync } from 'node:child_process';
@@ -140,6 +140,35 @@ describe('airshade floor', () => {
     const bad = await floorWith('fast', []);
     expect(bad.code).toBe(2);
     expect(bad.err).toMatch(/--sweep: found "fast"; expected "auto", "cells" or "radials"/);
+  });
+
+  it('a run refused after its workers started (one DEM: they start while it is read) ends at once', () => {
+    const bin = join(import.meta.dirname, '..', 'bin', 'airshade.mjs');
+    // Two threads on one DEM: the workers start from its header; the work limit refuses the run after the read.
+    const r = spawnSync(
+      process.execPath,
+      [
+        bin,
+        'floor',
+        '--dem',
+        dem,
+        '--site',
+        SITE,
+        '--mast-m',
+        '20',
+        '--out',
+        join(dir, 'refused.tif'),
+        '--threads',
+        '2',
+        '--max-work-min',
+        '0.000001',
+      ],
+      { encoding: 'utf8', timeout: 30_000 },
+    );
+    expect(r.signal).toBeNull(); // not stopped by the timeout: the started workers did not hold the process open
+    expect(r.status).toBe(2);
+    expect(r.stderr).toMatch(/--max-work-min/);
+    expect(existsSync(join(dir, 'refused.tif'))).toBe(false);
   });
 
   it('a bad input in a real process prints one line and no stack trace', () => {

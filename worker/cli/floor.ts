@@ -121,6 +121,23 @@ export async function floorCommand(argv: readonly string[], log: (s: string) => 
   const started = performance.now();
   const progress = new ProgressLine('floor', p.flags.has('quiet'));
   progress.update(0, 'reading terrain');
+  // Worker threads for a sweep, and whether this thread works as one more lane.
+  const lanes = (m: SweepChoice, cells: number) => {
+    // A small DEM swept over its cells runs on this thread alone unless --threads says otherwise: a worker takes
+    // about 0.07 s to start and one thread sweeps 2^22 cells in about 0.16 s (35–43 ns a cell at 8192²), so below
+    // that the second lane saves less than it costs (1024²: 0.49–0.51 s inline against 0.57–0.64 s with one
+    // worker, whole process, three runs each; 4096²: 1.40–1.49 s with it against 1.56–1.76 s inline).
+    const n = !threadsGiven && m.sweep === 'cells' && cells < SMALL_SWEEP_CELLS ? 0 : threads;
+    // The sweep over the cells takes this thread as one of its lanes: one worker thread less in memory for the
+    // same parallelism (RemotePool.sharingExecutor). The radial sweep keeps a worker per thread.
+    const sharing = m.sweep === 'cells' && n > 1;
+    return { threads: n, sharing, workers: sharing ? n - 1 : n };
+  };
+  // One DEM: its header says how many workers the sweep takes, and they start loading on their own threads while
+  // this one reads the pixels (about 0.07 s saved at 8192²). Kept if the choice after the read is the same; until
+  // then they do not hold the process open, so a refusal on the way ends the run as before.
+  let booted = null as NodePool | null;
+  let pool: NodePool | null = null;
   // Fused read: headers first, then each tile decoded straight into the mosaic's one (shared) buffer.
   const {
     terrain,
@@ -149,6 +166,8 @@ export async function floorCommand(argv: readonly string[], log: (s: string) => 
           largest,
           memoryLimit,
         });
+        const { workers } = lanes(method, g.width * g.height);
+        if (workers > 0) booted = NodePool.boot(workers);
       }
     },
   });
@@ -168,17 +187,8 @@ export async function floorCommand(argv: readonly string[], log: (s: string) => 
     maxRangeM,
     wholeTerrain,
   );
-  // A small DEM swept over its cells runs on this thread alone unless --threads says otherwise: a worker takes about
-  // 0.07 s to start and one thread sweeps 2^22 cells in about 0.16 s (35–43 ns a cell at 8192²), so below that the
-  // second lane saves less than it costs (1024²: 0.49–0.51 s inline against 0.57–0.64 s with one worker, whole
-  // process, three runs each; 4096²: 1.40–1.49 s with it against 1.56–1.76 s inline).
-  if (
-    !threadsGiven &&
-    method.sweep === 'cells' &&
-    terrain.geo.width * terrain.geo.height < SMALL_SWEEP_CELLS
-  ) {
-    threads = 0;
-  }
+  const chosen = lanes(method, terrain.geo.width * terrain.geo.height);
+  threads = chosen.threads;
   checkFloorRun(terrain, outGeo, site, maxRangeM, largest, memoryLimit, method, {
     threads,
     limitMin: workLimitMin,
@@ -188,10 +198,16 @@ export async function floorCommand(argv: readonly string[], log: (s: string) => 
   if (crsProblem !== undefined) {
     throw new InputError(dems[0], crsProblem, 'a DEM whose CRS can be written back as GeoTIFF keys');
   }
-  // The sweep over the cells takes this thread as one of its lanes: one worker thread less in memory for the same
-  // parallelism (RemotePool.sharingExecutor). The radial sweep keeps a worker per thread.
-  const sharing = method.sweep === 'cells' && threads > 1;
-  const pool = threads > 0 ? await NodePool.start(sharing ? threads - 1 : threads, terrain.toParts()) : null;
+  const { sharing, workers } = chosen;
+  if (booted !== null && booted.size === workers) {
+    pool = booted;
+    booted = null;
+    await pool.install(terrain.toParts());
+  } else if (workers > 0) {
+    pool = await NodePool.start(workers, terrain.toParts());
+  }
+  await booted?.close();
+  booted = null;
   const tReady = performance.now();
   let result: { kind: 'radials'; r: FloorResult } | { kind: 'cells'; r: GridFloorResult };
   try {

@@ -25,7 +25,7 @@ export class NodePool {
 
   private constructor(
     private readonly workers: Worker[],
-    remotes: Remote<WorkerApi>[],
+    private readonly remotes: Remote<WorkerApi>[],
   ) {
     this.pool = new RemotePool(remotes);
   }
@@ -36,12 +36,34 @@ export class NodePool {
 
   /** Starts `size` workers and installs the terrain in each (shared memory: one copy for all). */
   static async start(size: number, terrain: TerrainParts): Promise<NodePool> {
+    const pool = NodePool.boot(size);
+    await pool.install(terrain);
+    return pool;
+  }
+
+  /**
+   * Starts `size` workers without a terrain: they load their modules on their own threads while this one goes on
+   * (e.g. reads the terrain); `install` gives it to them.
+   */
+  static boot(size: number): NodePool {
     const entry = workerEntry();
     const workers = Array.from({ length: size }, () => new Worker(entry));
-    const remotes = workers.map((w) => wrap<WorkerApi>(nodeEndpoint(w)));
-    const pool = new NodePool(workers, remotes);
-    await Promise.all(remotes.map((r) => r.setTerrain(terrain)));
-    return pool;
+    // Not holding the process open until `install`: a run that stops before it ends as if they never started.
+    for (const w of workers) w.unref();
+    return new NodePool(
+      workers,
+      workers.map((w) => wrap<WorkerApi>(nodeEndpoint(w))),
+    );
+  }
+
+  get size(): number {
+    return this.workers.length;
+  }
+
+  /** Installs the terrain in every worker (shared memory: one copy for all). */
+  async install(terrain: TerrainParts): Promise<void> {
+    for (const w of this.workers) w.ref();
+    await Promise.all(this.remotes.map((r) => r.setTerrain(terrain)));
   }
 
   executor(): Executor {
