@@ -11,6 +11,7 @@ import { join } from 'node:path';
 import { execFileSync, spawnSync } from 'node:child_process';
 import { fromArrayBuffer } from 'geotiff';
 import { runCli } from './support/run-cli.ts';
+import { NodePool } from '../worker/runtime/node-pool.ts';
 import { encodeGeoTiff } from '../worker/io/geotiff-write.ts';
 import { WGS84_GEOGRAPHIC, type GridGeo } from '../worker/core/grid.ts';
 import { corruptIfdOffset, encodeTiff, truncate } from './support/tiff-encoder.ts';
@@ -142,33 +143,27 @@ describe('airshade floor', () => {
     expect(bad.err).toMatch(/--sweep: found "fast"; expected "auto", "cells" or "radials"/);
   });
 
-  it('a run refused after its workers started (one DEM: they start while it is read) ends at once', () => {
-    const bin = join(import.meta.dirname, '..', 'bin', 'airshade.mjs');
+  it('a run refused after its workers started (one DEM: they start while it is read) closes them', async () => {
     // Two threads on one DEM: the workers start from its header; the work limit refuses the run after the read.
-    const r = spawnSync(
-      process.execPath,
-      [
-        bin,
-        'floor',
-        '--dem',
-        dem,
-        '--site',
-        SITE,
-        '--mast-m',
-        '20',
-        '--out',
-        join(dir, 'refused.tif'),
-        '--threads',
-        '2',
-        '--max-work-min',
-        '0.000001',
-      ],
-      { encoding: 'utf8', timeout: 30_000 },
+    const r = await run(
+      'floor',
+      '--dem',
+      dem,
+      '--site',
+      SITE,
+      '--mast-m',
+      '20',
+      '--out',
+      join(dir, 'refused.tif'),
+      '--threads',
+      '2',
+      '--max-work-min',
+      '0.000001',
     );
-    expect(r.signal).toBeNull(); // not stopped by the timeout: the started workers did not hold the process open
-    expect(r.status).toBe(2);
-    expect(r.stderr).toMatch(/--max-work-min/);
+    expect(r.code).toBe(2);
+    expect(r.err).toMatch(/--max-work-min/);
     expect(existsSync(join(dir, 'refused.tif'))).toBe(false);
+    expect(NodePool.running).toBe(0); // left running, they would hold the process open
   });
 
   it('a bad input in a real process prints one line and no stack trace', () => {

@@ -109,9 +109,10 @@ export async function floorCommand(argv: readonly string[], log: (s: string) => 
       : numberArg('max-range-km', rangeText, 0, 2000, 'a range in km, more than 0 and at most 2000', true);
   const maxRangeM = maxRangeKm === undefined ? undefined : maxRangeKm * 1000;
   const outPath = required(p, 'out', 'the output GeoTIFF path');
-  const sweepText = one(p, 'sweep') ?? 'auto';
-  if (sweepText !== 'auto' && sweepText !== 'cells' && sweepText !== 'radials')
-    throw new InputError('--sweep', JSON.stringify(sweepText), '"auto", "cells" or "radials"');
+  const sweepGiven = one(p, 'sweep') ?? 'auto';
+  if (sweepGiven !== 'auto' && sweepGiven !== 'cells' && sweepGiven !== 'radials')
+    throw new InputError('--sweep', JSON.stringify(sweepGiven), '"auto", "cells" or "radials"');
+  const sweepText: 'auto' | 'cells' | 'radials' = sweepGiven;
   const threadsGiven = one(p, 'threads') !== undefined;
   let threads = threadsArg(p, NodePool.defaultSize());
   const memoryLimit = memoryLimitArg(p);
@@ -134,83 +135,100 @@ export async function floorCommand(argv: readonly string[], log: (s: string) => 
     return { threads: n, sharing, workers: sharing ? n - 1 : n };
   };
   // One DEM: its header says how many workers the sweep takes, and they start loading on their own threads while
-  // this one reads the pixels (about 0.07 s saved at 8192²). Kept if the choice after the read is the same; until
-  // then they do not hold the process open, so a refusal on the way ends the run as before.
+  // this one reads the pixels (about 0.07 s saved at 8192²). Kept if the choice after the read is the same. Until
+  // then any failure closes them (`orClose`): running workers would hold the process open.
   let booted = null as NodePool | null;
   let pool: NodePool | null = null;
+  const orClose = async <T>(step: () => T | Promise<T>): Promise<T> => {
+    try {
+      return await step();
+    } catch (e) {
+      await booted?.close();
+      booted = null;
+      throw e;
+    }
+  };
   // Fused read: headers first, then each tile decoded straight into the mosaic's one (shared) buffer.
   const {
     terrain,
     largest,
     firstGeo: outGeo,
-  } = await readTerrainWithin(dems, memoryLimit, {
-    shared: threads > 0,
-    // One tile is the whole mosaic: its header alone gives the memory estimate, so a run too large is refused
-    // before its pixels are decoded (with more tiles the mosaic's extent is known once it is planned: after).
-    beforeDecode: ({ tiles, largest }) => {
-      if (tiles.length !== 1) return;
-      const g = tiles[0].geo;
-      const { px, sitePixel } = siteOnGrid(g, site);
-      // An antenna off the tile is refused after the read, by the site check, naming --site.
-      const onTile =
-        sitePixel.col >= 0 && sitePixel.col <= g.width && sitePixel.row >= 0 && sitePixel.row <= g.height;
-      if (onTile && [px.x, px.y].every(Number.isFinite)) {
-        const method = chooseSweep(sweepText, g, site, px, sitePixel, maxRangeM, true);
-        checkFloorMemory({
-          method,
-          terrainPixels: g.width * g.height,
-          outGeo: g,
-          px,
-          sitePixel,
-          maxRangeM,
-          largest,
-          memoryLimit,
-        });
-        const { workers } = lanes(method, g.width * g.height);
-        if (workers > 0) booted = NodePool.boot(workers);
-      }
-    },
-  });
-  const tRead = performance.now();
-  const window = latticeWindow(terrain, outGeo);
-  const wholeTerrain =
-    window.col0 === 0 &&
-    window.row0 === 0 &&
-    window.width === terrain.geo.width &&
-    window.height === terrain.geo.height;
-  const method = chooseSweep(
-    sweepText,
-    terrain.geo,
-    site,
-    terrain.metresPerPixel(site.lon, site.lat),
-    siteOnGrid(terrain.geo, site).sitePixel,
-    maxRangeM,
-    wholeTerrain,
+  } = await orClose(() =>
+    readTerrainWithin(dems, memoryLimit, {
+      shared: threads > 0,
+      // One tile is the whole mosaic: its header alone gives the memory estimate, so a run too large is refused
+      // before its pixels are decoded (with more tiles the mosaic's extent is known once it is planned: after).
+      beforeDecode: ({ tiles, largest }) => {
+        if (tiles.length !== 1) return;
+        const g = tiles[0].geo;
+        const { px, sitePixel } = siteOnGrid(g, site);
+        // An antenna off the tile is refused after the read, by the site check, naming --site.
+        const onTile =
+          sitePixel.col >= 0 && sitePixel.col <= g.width && sitePixel.row >= 0 && sitePixel.row <= g.height;
+        if (onTile && [px.x, px.y].every(Number.isFinite)) {
+          const method = chooseSweep(sweepText, g, site, px, sitePixel, maxRangeM, true);
+          checkFloorMemory({
+            method,
+            terrainPixels: g.width * g.height,
+            outGeo: g,
+            px,
+            sitePixel,
+            maxRangeM,
+            largest,
+            memoryLimit,
+          });
+          const { workers } = lanes(method, g.width * g.height);
+          if (workers > 0) booted = NodePool.boot(workers);
+        }
+      },
+    }),
   );
-  const chosen = lanes(method, terrain.geo.width * terrain.geo.height);
-  threads = chosen.threads;
-  checkFloorRun(terrain, outGeo, site, maxRangeM, largest, memoryLimit, method, {
-    threads,
-    limitMin: workLimitMin,
-  });
-  // The output is written on the first DEM's CRS: make sure it can be, before the long work.
-  const crsProblem = geoTiffCrsProblem(outGeo.crs);
-  if (crsProblem !== undefined) {
-    throw new InputError(dems[0], crsProblem, 'a DEM whose CRS can be written back as GeoTIFF keys');
-  }
+  const tRead = performance.now();
+  // How the terrain is swept and on how many threads, and the checks before the long work.
+  const settle = () => {
+    const window = latticeWindow(terrain, outGeo);
+    const wholeTerrain =
+      window.col0 === 0 &&
+      window.row0 === 0 &&
+      window.width === terrain.geo.width &&
+      window.height === terrain.geo.height;
+    const method = chooseSweep(
+      sweepText,
+      terrain.geo,
+      site,
+      terrain.metresPerPixel(site.lon, site.lat),
+      siteOnGrid(terrain.geo, site).sitePixel,
+      maxRangeM,
+      wholeTerrain,
+    );
+    const chosen = lanes(method, terrain.geo.width * terrain.geo.height);
+    threads = chosen.threads;
+    checkFloorRun(terrain, outGeo, site, maxRangeM, largest, memoryLimit, method, {
+      threads,
+      limitMin: workLimitMin,
+    });
+    // The output is written on the first DEM's CRS: make sure it can be, before the long work.
+    const crsProblem = geoTiffCrsProblem(outGeo.crs);
+    if (crsProblem !== undefined) {
+      throw new InputError(dems[0], crsProblem, 'a DEM whose CRS can be written back as GeoTIFF keys');
+    }
+    return { window, method, chosen };
+  };
+  const { window, method, chosen } = await orClose(settle);
   const { sharing, workers } = chosen;
-  if (booted !== null && booted.size === workers) {
-    pool = booted;
-    booted = null;
-    await pool.install(terrain.toParts());
-  } else if (workers > 0) {
-    pool = await NodePool.start(workers, terrain.toParts());
-  }
-  await booted?.close();
-  booted = null;
-  const tReady = performance.now();
+  let tReady = 0;
   let result: { kind: 'radials'; r: FloorResult } | { kind: 'cells'; r: GridFloorResult };
   try {
+    if (booted !== null && booted.size === workers) {
+      pool = booted;
+      booted = null;
+      await pool.install(terrain.toParts());
+    } else {
+      await booted?.close();
+      booted = null;
+      if (workers > 0) pool = await NodePool.start(workers, terrain.toParts());
+    }
+    tReady = performance.now();
     const exec = pool
       ? sharing
         ? pool.sharingExecutor(inlineExecutor(terrain))

@@ -20,8 +20,11 @@ function workerEntry(): URL {
   return new URL('./node-boot.mjs', import.meta.url);
 }
 
+let running = 0;
+
 export class NodePool {
   private readonly pool: RemotePool;
+  private closed = false;
 
   private constructor(
     private readonly workers: Worker[],
@@ -45,11 +48,15 @@ export class NodePool {
    * Starts `size` workers without a terrain: they load their modules on their own threads while this one goes on
    * (e.g. reads the terrain); `install` gives it to them.
    */
+  /** Worker threads started and not yet closed, over every pool of this process (what tests check). */
+  static get running(): number {
+    return running;
+  }
+
   static boot(size: number): NodePool {
     const entry = workerEntry();
     const workers = Array.from({ length: size }, () => new Worker(entry));
-    // Not holding the process open until `install`: a run that stops before it ends as if they never started.
-    for (const w of workers) w.unref();
+    running += size;
     return new NodePool(
       workers,
       workers.map((w) => wrap<WorkerApi>(nodeEndpoint(w))),
@@ -62,7 +69,6 @@ export class NodePool {
 
   /** Installs the terrain in every worker (shared memory: one copy for all). */
   async install(terrain: TerrainParts): Promise<void> {
-    for (const w of this.workers) w.ref();
     await Promise.all(this.remotes.map((r) => r.setTerrain(terrain)));
   }
 
@@ -76,6 +82,9 @@ export class NodePool {
   }
 
   async close(): Promise<void> {
+    if (this.closed) return;
+    this.closed = true;
+    running -= this.workers.length;
     await Promise.all(this.workers.map((w) => w.terminate()));
   }
 }
