@@ -44,15 +44,15 @@ export class NodePool {
     return pool;
   }
 
-  /**
-   * Starts `size` workers without a terrain: they load their modules on their own threads while this one goes on
-   * (e.g. reads the terrain); `install` gives it to them.
-   */
   /** Worker threads started and not yet closed, over every pool of this process (what tests check). */
   static get running(): number {
     return running;
   }
 
+  /**
+   * Starts `size` workers without a terrain: they load their modules on their own threads while this one goes on
+   * (e.g. reads the terrain); `install` gives it to them.
+   */
   static boot(size: number): NodePool {
     const entry = workerEntry();
     const workers = Array.from({ length: size }, () => new Worker(entry));
