@@ -39,7 +39,10 @@ import {
 import { buildSensorModel } from '../worker/core/sensor-model.ts';
 import { outageTable } from '../worker/core/outage.ts';
 import { rasterizeVolume, volumeStats } from '../worker/core/volumes.ts';
-import { levelLayers } from '../worker/io/layers.ts';
+import { levelLayers, levelLayerText, levelSnapshot } from '../worker/io/layers.ts';
+import { stringifyGeoJson } from '../worker/io/geojson.ts';
+import type { Provenance } from '../worker/io/provenance.ts';
+import { NodePool } from '../worker/runtime/node-pool.ts';
 import { buildDemand, coveredPoints, levelAltitudesM, studyNetwork } from '../worker/io/study.ts';
 import { cellLonLat, metricGeo, metricTerrain } from './support/dem.ts';
 import { bruteForceOptimum, mixedKindInstance, newSpend, shortfalls } from './support/plan-check.ts';
@@ -430,6 +433,46 @@ describe('receivers on a flat sea, FL100', () => {
     expect(Object.keys(m4.properties).sort()).toEqual(
       ['altitudeM', 'areaKm2', 'flightLevel', 'fold', 'kind', 'layer', 'siteIds'].sort(),
     );
+  });
+
+  it('a level made from its snapshot, here and on a worker thread, is the text made from the network', async () => {
+    const net = studyNetwork(session, [100], footprints);
+    const s = session.loaded.scenario;
+    const provenance = { tool: 'airshade', command: 'test' } as unknown as Provenance;
+    const meta = { target: 'test' };
+    const direct = levelLayers(
+      net,
+      0,
+      100,
+      session.grid,
+      s.volumes,
+      session.volumeMasks,
+      meta,
+      session.volumeTargets,
+      session.ground,
+    );
+    direct.provenance = provenance;
+    const job = {
+      snapshot: levelSnapshot(net, 0, session.volumeTargets),
+      fl: 100,
+      grid: session.grid,
+      volumes: s.volumes,
+      masks: session.volumeMasks,
+      meta,
+      volumeTargets: session.volumeTargets,
+      ground: session.ground,
+      provenance,
+    };
+    const here = levelLayerText(job);
+    expect(here).toBe(stringifyGeoJson(direct));
+    expect(here).toMatch(/"kind":"mlat"/);
+    const pool = NodePool.boot(1);
+    try {
+      const [there] = await pool.each([(w) => w.levelLayerText(job)]);
+      expect(there).toBe(here);
+    } finally {
+      await pool.close();
+    }
   });
 
   it('a volume requiring ADS-B fold 1 is met where a receiver sees it, not by the radar alone', () => {

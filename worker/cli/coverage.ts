@@ -17,7 +17,6 @@ import {
 } from '../io/study.ts';
 import { volumeStats, type VolumeLevelStats } from '../core/volumes.ts';
 import type { Footprint } from '../core/footprint.ts';
-import { stringifyGeoJson } from '../io/geojson.ts';
 import { encodeGeoTiff } from '../io/geotiff-write.ts';
 import { undated } from '../io/provenance.ts';
 import { NodePool } from '../runtime/node-pool.ts';
@@ -35,8 +34,9 @@ import {
   openCommandSession,
   SESSION_OPTIONS,
   sessionHelp,
+  levelLayerTexts,
 } from './session.ts';
-import { levelLayers } from '../io/layers.ts';
+import { levelSnapshot } from '../io/layers.ts';
 
 export { analysisGrid, groundOnGrid, terrainBounds } from '../io/study.ts';
 export { levelLayers, maskLayer } from '../io/layers.ts';
@@ -164,21 +164,18 @@ export async function coverageCommand(
   const masks = session.volumeMasks;
   const stats = volumeStats(network, s.volumes, masks, fls, grid, session.volumeTargets, session.ground);
   progress.update(0.92, 'layers');
-  for (let f = 0; f < fls.length; f++) {
-    const fc = levelLayers(
-      network,
-      f,
-      fls[f],
-      grid,
-      s.volumes,
-      masks,
-      layerMeta(conventions),
-      session.volumeTargets,
-      session.ground,
-    );
-    fc.provenance = undated(provenance);
-    run.write(`coverage-${formatFl(fls[f])}.geojson`, stringifyGeoJson(fc));
-  }
+  const texts = await levelLayerTexts(session, fls.length, (f) => ({
+    snapshot: levelSnapshot(network, f, session.volumeTargets),
+    fl: fls[f],
+    grid,
+    volumes: s.volumes,
+    masks,
+    meta: layerMeta(conventions),
+    volumeTargets: session.volumeTargets,
+    ground: session.ground,
+    provenance: undated(provenance),
+  }));
+  texts.forEach((text, f) => run.write(`coverage-${formatFl(fls[f])}.geojson`, text));
   const floor = network.networkFloor();
   run.write(
     'network-floor.tif',

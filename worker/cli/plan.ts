@@ -17,7 +17,6 @@ import {
   type PlanResult,
 } from '../core/plan.ts';
 import { volumeStats } from '../core/volumes.ts';
-import { stringifyGeoJson } from '../io/geojson.ts';
 import { undated } from '../io/provenance.ts';
 import { NodePool } from '../runtime/node-pool.ts';
 import {
@@ -30,7 +29,7 @@ import {
   threadsArg,
   weatherHelp,
 } from './args.ts';
-import { levelLayers } from '../io/layers.ts';
+import { levelSnapshot } from '../io/layers.ts';
 import {
   buildDemand,
   coveredPointsView,
@@ -57,6 +56,7 @@ import {
   sessionHelp,
   cacheHelp,
   CACHE_OPTION,
+  levelLayerTexts,
 } from './session.ts';
 import { openDiskSpill } from './footprint-cache.ts';
 
@@ -298,21 +298,24 @@ export async function planCommand(argv: readonly string[], log: (s: string) => v
   const provenance = undated(
     scenarioProvenance('plan', p, SPEC, session.loaded, studyConventions(session, fls, altitudes)),
   );
-  for (let f = 0; f < fls.length; f++) {
-    const fc = levelLayers(
-      network,
-      f,
-      fls[f],
-      session.grid,
-      s.volumes,
-      session.volumeMasks,
-      layerMeta(studyConventions(session, fls, altitudes)),
-      session.volumeTargets,
-      session.ground,
-    );
-    fc.provenance = provenance;
-    run.write(`plan-coverage-${formatFl(fls[f])}.geojson`, stringifyGeoJson(fc));
-  }
+  const meta = layerMeta(studyConventions(session, fls, altitudes));
+  const texts = await levelLayerTexts(
+    session,
+    fls.length,
+    (f) => ({
+      snapshot: levelSnapshot(network, f, session.volumeTargets),
+      fl: fls[f],
+      grid: session.grid,
+      volumes: s.volumes,
+      masks: session.volumeMasks,
+      meta,
+      volumeTargets: session.volumeTargets,
+      ground: session.ground,
+      provenance,
+    }),
+    memory,
+  );
+  texts.forEach((text, f) => run.write(`plan-coverage-${formatFl(fls[f])}.geojson`, text));
   const doc = planDocument(session, candidates, result, network, fls, demand);
   run.write('plan.json', JSON.stringify({ ...doc, provenance }, null, 2) + '\n');
   for (const line of finishRun(run, 'plan', outDir)) log(line);

@@ -8,6 +8,8 @@ import { inlineExecutor } from '../core/floor.ts';
 import type { Footprint } from '../core/footprint.ts';
 import {
   heldAfterCoverage,
+  layerWorkerBytes,
+  layerWorkerCount,
   MemoryLedger,
   OVERHEAD,
   type FootprintHold,
@@ -17,6 +19,7 @@ import {
 } from '../core/memory-estimate.ts';
 import { Terrain } from '../core/terrain.ts';
 import { NodePool } from '../runtime/node-pool.ts';
+import { levelLayerText, type LevelLayerJob } from '../io/layers.ts';
 import {
   allCandidates,
   analysisGrid,
@@ -233,10 +236,11 @@ export async function openSession(
         largest,
         limit,
         opts.hold,
+        threads,
       );
     },
   });
-  checkStudyMemory(checked, terrain, largest, limit, opts.hold);
+  checkStudyMemory(checked, terrain, largest, limit, opts.hold, threads);
   const limitMin = opts.maxWorkMin ?? workLimitArg({ positional: [], values: new Map(), flags: new Set() });
   if (!opts.deferWorkCheck) checkStudyWork(checked, terrain, threads, limitMin);
   const study: Session = openStudy(loaded, terrain, threads, opts.runLevels);
@@ -255,10 +259,11 @@ export function checkStudyMemory(
   largest: TileShape | undefined,
   limit: number,
   hold?: FootprintHold,
+  threads = 0,
 ): void {
   const s = loaded.scenario;
   const grid: GridGeo = analysisGrid(loaded, terrain instanceof Terrain ? terrain : null);
-  const run = studyRun(s, grid, terrain, studyTargets(s).targets.length, largest, hold);
+  const run = studyRun(s, grid, terrain, studyTargets(s).targets.length, largest, hold, threads);
   checkEstimate(estimateRun(run.shape), limit, studyBlame(loaded.locate, s, grid, run));
 }
 
@@ -493,6 +498,36 @@ export async function footprintsFor(
   // A spill's files are all in place before anything reads them back.
   await Promise.all(spillWrites);
   return groups.flatMap((g) => g.footprints!);
+}
+
+/**
+ * Every flight level's layers file as text (io/layers.ts `levelLayerText`): on a large grid (`layerWorkerCount`) the
+ * levels are made at once on worker threads of their own, else on this thread one after the other; the same bytes
+ * either way. `job(f)` is asked for as level f is handed out, so only the levels in the making are posted at any time.
+ */
+export async function levelLayerTexts(
+  session: Session,
+  levels: number,
+  job: (f: number) => LevelLayerJob,
+  /** A plan's memory account: the workers' bytes are taken from it, or the layers made here when they do not fit. */
+  memory?: MemoryLedger,
+): Promise<string[]> {
+  const { grid, threads } = session;
+  let workers = layerWorkerCount(threads, grid.width * grid.height, levels);
+  if (workers > 0 && memory !== undefined) {
+    const s = session.loaded.scenario;
+    const shape = studyRun(s, grid, session.terrain, session.targets.length).shape;
+    const bytes = OVERHEAD * workers * layerWorkerBytes(shape);
+    if (memory.fits(bytes)) memory.take(bytes, "the layers' worker threads");
+    else workers = 0;
+  }
+  if (workers === 0) return Array.from({ length: levels }, (_, f) => levelLayerText(job(f)));
+  const pool = NodePool.boot(workers);
+  try {
+    return await pool.each(Array.from({ length: levels }, (_, f) => (w) => w.levelLayerText(job(f))));
+  } finally {
+    await pool.close();
+  }
 }
 
 /** A plan's spill files being written at once, at most (each holds its site's footprints until written). */

@@ -89,6 +89,32 @@ export interface RunShape {
    * straight into the mosaic through one buffer of at most 4 MiB, so it adds no copy of itself.
    */
   streamedTiles?: boolean;
+  /**
+   * Worker threads making the layers at once (`layerWorkerCount`; default none): each is sent one level's folds,
+   * the volumes' masks and the ground, and the message holds them twice while it is copied across.
+   */
+  layerWorkers?: number;
+}
+
+/**
+ * From this many analysis cells the CLI makes a study's layers on worker threads of their own (worker/cli/session.ts
+ * `levelLayerTexts`). Below, starting them and their cold code costs more than it saves: on the demo's 600 × 600
+ * grid the layers stage took 1.42 s on two workers against 0.99 s on the main thread; on the national box's 3600 ×
+ * 3600, 27.3 s against 38.7 s, the same files.
+ */
+export const LAYERS_POOL_CELLS = 2 ** 22;
+
+/**
+ * Bytes one worker making layers holds for its level at the most: what it is sent (the level's folds of every kind
+ * for every target, the volumes' masks, the ground), twice while the message is copied across.
+ */
+export function layerWorkerBytes(s: Pick<RunShape, 'cells' | 'volumes' | 'foldKinds' | 'targets'>): number {
+  return 2 * s.cells * (4 + s.volumes + (s.foldKinds ?? 3) * s.targets * 2);
+}
+
+/** How many worker threads make a study's layers (0: the main thread does), for `threads` and a grid of `cells`. */
+export function layerWorkerCount(threads: number, cells: number, levels: number): number {
+  return threads > 0 && levels > 1 && cells >= LAYERS_POOL_CELLS ? Math.min(threads, levels) : 0;
 }
 
 export type EstimatePart = 'terrain' | 'grid' | 'footprints' | 'horizons';
@@ -154,7 +180,7 @@ export function estimateRun(s: RunShape): Estimate {
   const levelBits = s.levels * s.targets;
   const bitBytes = levelBitBytes(levelBits);
   const perCell = 4 + s.volumes + (s.foldKinds ?? 3) * levelBits * 2 + 4 /* network floor */ + 2 * 8;
-  const grid = s.cells * (s.gridBytesPerCell ?? perCell);
+  const grid = s.cells * (s.gridBytesPerCell ?? perCell) + layerWorkerBytes(s) * (s.layerWorkers ?? 0);
   const pairCells = s.pairWindowCells ?? s.pairs * s.cells;
   const footprints =
     footprintBytes(pairCells, s.targets) + (s.gridBytesPerCell === undefined ? pairCells * bitBytes : 0);
@@ -258,6 +284,8 @@ export function studyRun(
   largestTile?: TileShape,
   /** Which footprints the run holds at once (`FootprintHold`; default every pair's). */
   hold: FootprintHold = 'every pair',
+  /** Worker threads the run may use (for the layers: `layerWorkerCount`); default none. */
+  threads = 0,
 ): StudyRun {
   const typeCount = s.sensorTypes.length;
   const pairs = s.sites.reduce((n, f) => n + (f.properties.allowedTypes?.length ?? typeCount), 0);
@@ -294,6 +322,7 @@ export function studyRun(
     rangeStepM: Math.min(px.x, px.y) || cellM,
     arcStepM: 0.75 * cellM,
     horizonsInFlight: 2,
+    layerWorkers: layerWorkerCount(threads, grid.width * grid.height, s.flightLevels.length),
   };
   return { shape, pairs, reachM };
 }

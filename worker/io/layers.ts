@@ -5,9 +5,10 @@
 import type { Scenario } from '../../shared/scenario.ts';
 import { maskAreaKm2, maskToPolygons } from '../core/contour.ts';
 import type { GridGeo } from '../core/grid.ts';
-import { KINDS, type Network } from '../core/network.ts';
+import { KINDS, type FoldKind, type Network } from '../core/network.ts';
 import { cellsAtLevel, meets } from '../core/volumes.ts';
-import { featureCollection, layerFeature, type LayerFeatureProps } from './geojson.ts';
+import { featureCollection, layerFeature, stringifyGeoJson, type LayerFeatureProps } from './geojson.ts';
+import type { Provenance } from './provenance.ts';
 
 type Vol = Scenario['volumes'][number];
 
@@ -37,8 +38,84 @@ export function maxFoldLayers(volumes: readonly Vol[]): number {
 }
 
 /** One flight level's FeatureCollection: folds per kind, then the gaps inside each volume. */
+/** What `levelLayers` reads of a network. */
+export type LevelFolds = Pick<Network, 'altitudesM' | 'foldOf' | 'contributingSites'>;
+
+/**
+ * One level of a network as plain data, to post to a worker: the folds of every kind at that level for the targets
+ * named (the network's own arrays, not copied here), and the sites contributing to each kind.
+ */
+export interface LevelSnapshot {
+  readonly altitudesM: readonly number[];
+  readonly level: number;
+  /** By `${kind}:${target}`. */
+  readonly folds: Readonly<Record<string, Uint16Array>>;
+  /** By kind. */
+  readonly sites: Readonly<Record<string, string[]>>;
+}
+
+export function levelSnapshot(network: LevelFolds, level: number, targets: readonly number[]): LevelSnapshot {
+  const folds: Record<string, Uint16Array> = {};
+  const sites: Record<string, string[]> = {};
+  for (const kind of KINDS) {
+    for (const t of new Set([0, ...targets])) folds[`${kind}:${t}`] = network.foldOf(kind, level, t);
+    sites[kind] = network.contributingSites(kind, level);
+  }
+  return { altitudesM: network.altitudesM, level, folds, sites };
+}
+
+/** A snapshot read as the network it was taken from (at its own level only). */
+function snapshotFolds(s: LevelSnapshot): LevelFolds {
+  const at = (f: number): void => {
+    if (f !== s.level) throw new Error(`levelSnapshot: level ${f} asked of a snapshot of level ${s.level}`);
+  };
+  return {
+    altitudesM: s.altitudesM,
+    foldOf: (kind: FoldKind, f: number, t = 0) => {
+      at(f);
+      const a = s.folds[`${kind}:${t}`];
+      if (a === undefined) throw new Error(`levelSnapshot: no ${kind} folds for target ${t}`);
+      return a;
+    },
+    contributingSites: (kind: FoldKind, f: number) => {
+      at(f);
+      return s.sites[kind];
+    },
+  };
+}
+
+/** Everything one level's layers file is made from (plain data: a worker can make it). */
+export interface LevelLayerJob {
+  snapshot: LevelSnapshot;
+  fl: number;
+  grid: GridGeo;
+  volumes: readonly Vol[];
+  masks: readonly Uint8Array[];
+  meta: Record<string, unknown>;
+  volumeTargets?: readonly number[];
+  ground?: Float32Array;
+  provenance: Provenance;
+}
+
+/** One level's layers as the text of its GeoJSON file, with the provenance given (the same bytes wherever made). */
+export function levelLayerText(j: LevelLayerJob): string {
+  const fc = levelLayers(
+    snapshotFolds(j.snapshot),
+    j.snapshot.level,
+    j.fl,
+    j.grid,
+    j.volumes,
+    j.masks,
+    j.meta,
+    j.volumeTargets,
+    j.ground,
+  );
+  fc.provenance = j.provenance;
+  return stringifyGeoJson(fc);
+}
+
 export function levelLayers(
-  network: Network,
+  network: LevelFolds,
   f: number,
   fl: number,
   grid: GridGeo,

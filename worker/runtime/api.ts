@@ -14,6 +14,7 @@ import {
 } from '../core/grid-sweep.ts';
 import type { PlanInstance, PlanOptions, PlanResult } from '../core/plan.ts';
 import type { LedgerSpec } from '../core/memory-estimate.ts';
+import type { LevelLayerJob } from '../io/layers.ts';
 
 /**
  * The radial engine (horizon, geodesics, the terrain's projection) is loaded on a worker's first radial job: a worker
@@ -116,6 +117,13 @@ export const api = {
       rowEnd,
       distance,
     );
+  },
+  /**
+   * One flight level's layers as GeoJSON text (io/layers.ts `levelLayerText`): the levels of a study are made on the
+   * pool's threads at once. Needs no terrain; the layers' code is loaded on the first such job.
+   */
+  async levelLayerText(job: LevelLayerJob): Promise<string> {
+    return (await import('../io/layers.ts')).levelLayerText(job);
   },
   /** One octant of the grid-native floor sweep; `out` may be the terrain's own (shared) buffer. */
   gridSweep(task: GridSweepTask, pristine: GridPristine, out: Float32Array): GridSweepCounts {

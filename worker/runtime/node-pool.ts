@@ -72,6 +72,21 @@ export class NodePool {
     await Promise.all(this.remotes.map((r) => r.setTerrain(terrain)));
   }
 
+  /** Runs `jobs` on the workers, one at a time on each, in order of the list; the results in the same order. */
+  async each<T>(jobs: readonly ((worker: Remote<WorkerApi>) => Promise<T>)[]): Promise<T[]> {
+    const results = new Array<T>(jobs.length);
+    let next = 0;
+    await Promise.all(
+      this.remotes.map(async (w) => {
+        while (next < jobs.length) {
+          const i = next++;
+          results[i] = await jobs[i](w);
+        }
+      }),
+    );
+    return results;
+  }
+
   executor(): Executor {
     return this.pool.executor();
   }
