@@ -17,7 +17,9 @@
  *   first site needs, and room for a second when a later site needs more still): the horizon's screening tans,
  *   Float32 per sample; the layout (worker/core/horizon.ts planHorizon) keeps arcs between neighbouring radials within
  *   ½…1 arc step, so the samples out to range R number at most about 1.5·π·R² / (rangeStep · arcStep)
- *   (`horizonSamples`).
+ *   (`horizonSamples`);
+ * - on a grid of `LAYERS_POOL_CELLS` cells or more, per worker thread making the layers: its level's folds, the masks
+ *   and the ground, twice while they are copied across (`layerWorkerBytes`).
  * These counts are exact bounds of the layouts; what they leave out (the JavaScript heap, the contour rings,
  * the GeoJSON text, the pool's workers) is the `RUNTIME_BYTES` floor and the `OVERHEAD` factor, both measured
  * with the CLI (DEVELOPERS.md: the figures and the command that reproduces them).
