@@ -20,7 +20,13 @@ import { parseScenario } from '../shared/scenario.ts';
 import { mlatMinReceivers } from '../shared/sensor-kinds.ts';
 import { flToMetres } from '../shared/units.ts';
 import { ProgressLine } from '../worker/cli/progress.ts';
-import { allCandidates, footprintsFor, openSession, type Session } from '../worker/cli/session.ts';
+import {
+  allCandidates,
+  footprintsFor,
+  openSession,
+  sessionLayerJob,
+  type Session,
+} from '../worker/cli/session.ts';
 import { computeFootprints, type Candidate } from '../worker/core/coverage.ts';
 import { inlineExecutor } from '../worker/core/floor.ts';
 import { coversAt, type Footprint } from '../worker/core/footprint.ts';
@@ -39,7 +45,7 @@ import {
 import { buildSensorModel } from '../worker/core/sensor-model.ts';
 import { outageTable } from '../worker/core/outage.ts';
 import { rasterizeVolume, volumeStats } from '../worker/core/volumes.ts';
-import { levelLayers, levelLayerText, levelSnapshot } from '../worker/io/layers.ts';
+import { levelLayers, levelLayerText } from '../worker/io/layers.ts';
 import { stringifyGeoJson } from '../worker/io/geojson.ts';
 import type { Provenance } from '../worker/io/provenance.ts';
 import { NodePool } from '../worker/runtime/node-pool.ts';
@@ -452,17 +458,7 @@ describe('receivers on a flat sea, FL100', () => {
       session.ground,
     );
     direct.provenance = provenance;
-    const job = {
-      snapshot: levelSnapshot(net, 0, session.volumeTargets),
-      fl: 100,
-      grid: session.grid,
-      volumes: s.volumes,
-      masks: session.volumeMasks,
-      meta,
-      volumeTargets: session.volumeTargets,
-      ground: session.ground,
-      provenance,
-    };
+    const job = sessionLayerJob(session, net, 0, 100, meta, provenance);
     const here = levelLayerText(job);
     expect(here).toBe(stringifyGeoJson(direct));
     expect(here).toMatch(/"kind":"mlat"/);

@@ -36,7 +36,6 @@ import {
   sessionHelp,
   levelLayerTexts,
 } from './session.ts';
-import { levelSnapshot } from '../io/layers.ts';
 
 export { analysisGrid, groundOnGrid, terrainBounds } from '../io/study.ts';
 export { levelLayers, maskLayer } from '../io/layers.ts';
@@ -164,17 +163,7 @@ export async function coverageCommand(
   const masks = session.volumeMasks;
   const stats = volumeStats(network, s.volumes, masks, fls, grid, session.volumeTargets, session.ground);
   progress.update(0.92, 'layers');
-  const texts = await levelLayerTexts(session, fls.length, (f) => ({
-    snapshot: levelSnapshot(network, f, session.volumeTargets),
-    fl: fls[f],
-    grid,
-    volumes: s.volumes,
-    masks,
-    meta: layerMeta(conventions),
-    volumeTargets: session.volumeTargets,
-    ground: session.ground,
-    provenance: undated(provenance),
-  }));
+  const texts = await levelLayerTexts(session, network, fls, layerMeta(conventions), undated(provenance));
   texts.forEach((text, f) => run.write(`coverage-${formatFl(fls[f])}.geojson`, text));
   const floor = network.networkFloor();
   run.write(

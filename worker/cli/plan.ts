@@ -29,7 +29,6 @@ import {
   threadsArg,
   weatherHelp,
 } from './args.ts';
-import { levelSnapshot } from '../io/layers.ts';
 import {
   buildDemand,
   coveredPointsView,
@@ -299,22 +298,7 @@ export async function planCommand(argv: readonly string[], log: (s: string) => v
     scenarioProvenance('plan', p, SPEC, session.loaded, studyConventions(session, fls, altitudes)),
   );
   const meta = layerMeta(studyConventions(session, fls, altitudes));
-  const texts = await levelLayerTexts(
-    session,
-    fls.length,
-    (f) => ({
-      snapshot: levelSnapshot(network, f, session.volumeTargets),
-      fl: fls[f],
-      grid: session.grid,
-      volumes: s.volumes,
-      masks: session.volumeMasks,
-      meta,
-      volumeTargets: session.volumeTargets,
-      ground: session.ground,
-      provenance,
-    }),
-    memory,
-  );
+  const texts = await levelLayerTexts(session, network, fls, meta, provenance, memory);
   texts.forEach((text, f) => run.write(`plan-coverage-${formatFl(fls[f])}.geojson`, text));
   const doc = planDocument(session, candidates, result, network, fls, demand);
   run.write('plan.json', JSON.stringify({ ...doc, provenance }, null, 2) + '\n');

@@ -19,7 +19,8 @@ import {
 } from '../core/memory-estimate.ts';
 import { Terrain } from '../core/terrain.ts';
 import { NodePool } from '../runtime/node-pool.ts';
-import { levelLayerText, type LevelLayerJob } from '../io/layers.ts';
+import { levelLayerText, levelSnapshot, type LevelFolds, type LevelLayerJob } from '../io/layers.ts';
+import type { Provenance } from '../io/provenance.ts';
 import {
   allCandidates,
   analysisGrid,
@@ -500,31 +501,55 @@ export async function footprintsFor(
   return groups.flatMap((g) => g.footprints!);
 }
 
+/** Level f's layers job of a session's network (io/layers.ts `LevelLayerJob`): the study's grid, volumes and ground. */
+export function sessionLayerJob(
+  session: Session,
+  network: LevelFolds,
+  f: number,
+  fl: number,
+  meta: Record<string, unknown>,
+  provenance: Provenance,
+): LevelLayerJob {
+  return {
+    snapshot: levelSnapshot(network, f, session.volumeTargets),
+    fl,
+    grid: session.grid,
+    volumes: session.loaded.scenario.volumes,
+    masks: session.volumeMasks,
+    meta,
+    volumeTargets: session.volumeTargets,
+    ground: session.ground,
+    provenance,
+  };
+}
+
 /**
  * Every flight level's layers file as text (io/layers.ts `levelLayerText`): on a large grid (`layerWorkerCount`) the
  * levels are made at once on worker threads of their own, else on this thread one after the other; the same bytes
- * either way. `job(f)` is asked for as level f is handed out, so only the levels in the making are posted at any time.
+ * either way. A level's job is made as it is handed out, so only the levels in the making are posted at any time.
  */
 export async function levelLayerTexts(
   session: Session,
-  levels: number,
-  job: (f: number) => LevelLayerJob,
+  network: LevelFolds,
+  fls: readonly number[],
+  meta: Record<string, unknown>,
+  provenance: Provenance,
   /** A plan's memory account: the workers' bytes are taken from it, or the layers made here when they do not fit. */
   memory?: MemoryLedger,
 ): Promise<string[]> {
   const { grid, threads } = session;
-  let workers = layerWorkerCount(threads, grid.width * grid.height, levels);
+  const job = (f: number) => sessionLayerJob(session, network, f, fls[f], meta, provenance);
+  let workers = layerWorkerCount(threads, grid.width * grid.height, fls.length);
   if (workers > 0 && memory !== undefined) {
-    const s = session.loaded.scenario;
-    const shape = studyRun(s, grid, session.terrain, session.targets.length).shape;
+    const shape = studyRun(session.loaded.scenario, grid, session.terrain, session.targets.length).shape;
     const bytes = OVERHEAD * workers * layerWorkerBytes(shape);
     if (memory.fits(bytes)) memory.take(bytes, "the layers' worker threads");
     else workers = 0;
   }
-  if (workers === 0) return Array.from({ length: levels }, (_, f) => levelLayerText(job(f)));
+  if (workers === 0) return fls.map((_, f) => levelLayerText(job(f)));
   const pool = NodePool.boot(workers);
   try {
-    return await pool.each(Array.from({ length: levels }, (_, f) => (w) => w.levelLayerText(job(f))));
+    return await pool.each(fls.map((_, f) => (w) => w.levelLayerText(job(f))));
   } finally {
     await pool.close();
   }
