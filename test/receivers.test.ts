@@ -23,6 +23,7 @@ import { ProgressLine } from '../worker/cli/progress.ts';
 import {
   allCandidates,
   footprintsFor,
+  levelLayerTexts,
   openSession,
   sessionLayerJob,
   type Session,
@@ -48,7 +49,6 @@ import { rasterizeVolume, volumeStats } from '../worker/core/volumes.ts';
 import { levelLayers, levelLayerText } from '../worker/io/layers.ts';
 import { stringifyGeoJson } from '../worker/io/geojson.ts';
 import type { Provenance } from '../worker/io/provenance.ts';
-import { NodePool } from '../worker/runtime/node-pool.ts';
 import { buildDemand, coveredPoints, levelAltitudesM, studyNetwork } from '../worker/io/study.ts';
 import { cellLonLat, metricGeo, metricTerrain } from './support/dem.ts';
 import { bruteForceOptimum, mixedKindInstance, newSpend, shortfalls } from './support/plan-check.ts';
@@ -462,13 +462,9 @@ describe('receivers on a flat sea, FL100', () => {
     const here = levelLayerText(job);
     expect(here).toBe(stringifyGeoJson(direct));
     expect(here).toMatch(/"kind":"mlat"/);
-    const pool = NodePool.boot(1);
-    try {
-      const [there] = await pool.each([(w) => w.levelLayerText(job)]);
-      expect(there).toBe(here);
-    } finally {
-      await pool.close();
-    }
+    // On a worker thread, its arrays posted in shared memory (levelLayerTexts; forced for this small grid).
+    const [there] = await levelLayerTexts(session, net, [100], meta, provenance, { workers: 1 });
+    expect(there).toBe(here);
   });
 
   it('a volume requiring ADS-B fold 1 is met where a receiver sees it, not by the radar alone', () => {

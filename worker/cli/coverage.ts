@@ -21,6 +21,7 @@ import { encodeGeoTiff } from '../io/geotiff-write.ts';
 import { undated } from '../io/provenance.ts';
 import { NodePool } from '../runtime/node-pool.ts';
 import { coldDayHelp, one, parseArgs, required, scenarioArg, threadsArg, weatherHelp } from './args.ts';
+import { memoryLimitArg } from './budget-check.ts';
 import { finishRun, RunFolder, runFolderHelp } from './files.ts';
 import { scenarioProvenance } from './provenance.ts';
 import { writeMlatOutputs, type MlatOutputs } from './mlat-outputs.ts';
@@ -163,7 +164,9 @@ export async function coverageCommand(
   const masks = session.volumeMasks;
   const stats = volumeStats(network, s.volumes, masks, fls, grid, session.volumeTargets, session.ground);
   progress.update(0.92, 'layers');
-  const texts = await levelLayerTexts(session, network, fls, layerMeta(conventions), undated(provenance));
+  const texts = await levelLayerTexts(session, network, fls, layerMeta(conventions), undated(provenance), {
+    memory: { limit: memoryLimitArg(p) },
+  });
   texts.forEach((text, f) => run.write(`coverage-${formatFl(fls[f])}.geojson`, text));
   const floor = network.networkFloor();
   run.write(

@@ -298,7 +298,7 @@ export async function planCommand(argv: readonly string[], log: (s: string) => v
     scenarioProvenance('plan', p, SPEC, session.loaded, studyConventions(session, fls, altitudes)),
   );
   const meta = layerMeta(studyConventions(session, fls, altitudes));
-  const texts = await levelLayerTexts(session, network, fls, meta, provenance, memory);
+  const texts = await levelLayerTexts(session, network, fls, meta, provenance, { memory });
   texts.forEach((text, f) => run.write(`plan-coverage-${formatFl(fls[f])}.geojson`, text));
   const doc = planDocument(session, candidates, result, network, fls, demand);
   run.write('plan.json', JSON.stringify({ ...doc, provenance }, null, 2) + '\n');

@@ -237,11 +237,10 @@ export async function openSession(
         largest,
         limit,
         opts.hold,
-        threads,
       );
     },
   });
-  checkStudyMemory(checked, terrain, largest, limit, opts.hold, threads);
+  checkStudyMemory(checked, terrain, largest, limit, opts.hold);
   const limitMin = opts.maxWorkMin ?? workLimitArg({ positional: [], values: new Map(), flags: new Set() });
   if (!opts.deferWorkCheck) checkStudyWork(checked, terrain, threads, limitMin);
   const study: Session = openStudy(loaded, terrain, threads, opts.runLevels);
@@ -260,11 +259,10 @@ export function checkStudyMemory(
   largest: TileShape | undefined,
   limit: number,
   hold?: FootprintHold,
-  threads = 0,
 ): void {
   const s = loaded.scenario;
   const grid: GridGeo = analysisGrid(loaded, terrain instanceof Terrain ? terrain : null);
-  const run = studyRun(s, grid, terrain, studyTargets(s).targets.length, largest, hold, threads);
+  const run = studyRun(s, grid, terrain, studyTargets(s).targets.length, largest, hold);
   checkEstimate(estimateRun(run.shape), limit, studyBlame(loaded.locate, s, grid, run));
 }
 
@@ -534,25 +532,63 @@ export async function levelLayerTexts(
   fls: readonly number[],
   meta: Record<string, unknown>,
   provenance: Provenance,
-  /** A plan's memory account: the workers' bytes are taken from it, or the layers made here when they do not fit. */
-  memory?: MemoryLedger,
+  opts: {
+    /**
+     * The workers' bytes (`layerWorkerBytes`) must fit: a plan's memory account, from which they are taken, or a
+     * coverage's limit (--max-memory), beside the study's estimate; else the layers are made on this thread.
+     */
+    memory?: MemoryLedger | { limit: number };
+    /** The worker threads, whatever the grid (tests); default `layerWorkerCount`'s. */
+    workers?: number;
+  } = {},
 ): Promise<string[]> {
   const { grid, threads } = session;
+  const { memory } = opts;
   const job = (f: number) => sessionLayerJob(session, network, f, fls[f], meta, provenance);
-  let workers = layerWorkerCount(threads, grid.width * grid.height, fls.length);
+  let workers = opts.workers ?? layerWorkerCount(threads, grid.width * grid.height, fls.length);
   if (workers > 0 && memory !== undefined) {
-    const shape = studyRun(session.loaded.scenario, grid, session.terrain, session.targets.length).shape;
-    const bytes = OVERHEAD * workers * layerWorkerBytes(shape);
-    if (memory.fits(bytes)) memory.take(bytes, "the layers' worker threads");
-    else workers = 0;
+    const run = studyRun(
+      session.loaded.scenario,
+      grid,
+      session.terrain,
+      session.targets.length,
+      undefined,
+      session.footprintHold,
+    );
+    const bytes = OVERHEAD * layerWorkerBytes(run.shape, workers);
+    if (memory instanceof MemoryLedger) {
+      if (memory.fits(bytes)) memory.take(bytes, "the layers' worker threads");
+      else workers = 0;
+    } else if (estimateRun(run.shape).bytes + bytes > memory.limit) {
+      workers = 0;
+    }
   }
   if (workers === 0) return fls.map((_, f) => levelLayerText(job(f)));
+  // Posted in shared memory: the masks and the ground once for every level, a level's folds once (a plain array is
+  // copied twice with each message, out of this thread and into the worker).
+  const masks = session.volumeMasks.map(inSharedMemory);
+  const ground = inSharedMemory(session.ground);
+  const posted = (f: number): LevelLayerJob => {
+    const j = job(f);
+    const folds = Object.fromEntries(
+      Object.entries(j.snapshot.folds).map(([k, a]) => [k, inSharedMemory(a)]),
+    );
+    return { ...j, masks, ground, snapshot: { ...j.snapshot, folds } };
+  };
   const pool = NodePool.boot(workers);
   try {
-    return await pool.each(fls.map((_, f) => (w) => w.levelLayerText(job(f))));
+    return await pool.each(fls.map((_, f) => (w) => w.levelLayerText(posted(f))));
   } finally {
     await pool.close();
   }
+}
+
+/** `a` itself when it is in shared memory already, else a copy in shared memory. */
+function inSharedMemory<T extends Uint8Array | Uint16Array | Float32Array>(a: T): T {
+  if (a.buffer instanceof SharedArrayBuffer) return a;
+  const copy = new (a.constructor as new (b: SharedArrayBuffer) => T)(new SharedArrayBuffer(a.byteLength));
+  copy.set(a);
+  return copy;
 }
 
 /** A plan's spill files being written at once, at most (each holds its site's footprints until written). */

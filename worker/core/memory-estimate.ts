@@ -17,9 +17,9 @@
  *   first site needs, and room for a second when a later site needs more still): the horizon's screening tans,
  *   Float32 per sample; the layout (worker/core/horizon.ts planHorizon) keeps arcs between neighbouring radials within
  *   ½…1 arc step, so the samples out to range R number at most about 1.5·π·R² / (rangeStep · arcStep)
- *   (`horizonSamples`);
- * - on a grid of `LAYERS_POOL_CELLS` cells or more, per worker thread making the layers: its level's folds, the masks
- *   and the ground, twice while they are copied across (`layerWorkerBytes`).
+ *   (`horizonSamples`).
+ * The layers' worker threads on a large grid (`layerWorkerBytes`) are not in it: a run takes them only when the
+ * estimate and their bytes together fit its limit (worker/cli/session.ts `levelLayerTexts`).
  * These counts are exact bounds of the layouts; what they leave out (the JavaScript heap, the contour rings,
  * the GeoJSON text, the pool's workers) is the `RUNTIME_BYTES` floor and the `OVERHEAD` factor, both measured
  * with the CLI (DEVELOPERS.md: the figures and the command that reproduces them).
@@ -91,11 +91,6 @@ export interface RunShape {
    * straight into the mosaic through one buffer of at most 4 MiB, so it adds no copy of itself.
    */
   streamedTiles?: boolean;
-  /**
-   * Worker threads making the layers at once (`layerWorkerCount`; default none): each is sent one level's folds,
-   * the volumes' masks and the ground, and the message holds them twice while it is copied across.
-   */
-  layerWorkers?: number;
 }
 
 /**
@@ -107,11 +102,16 @@ export interface RunShape {
 export const LAYERS_POOL_CELLS = 2 ** 22;
 
 /**
- * Bytes one worker making layers holds for its level at the most: what it is sent (the level's folds of every kind
- * for every target, the volumes' masks, the ground), twice while the message is copied across.
+ * Bytes the layers' `workers` threads add at the most: the volumes' masks and the ground in shared memory once, and
+ * per worker its level's folds of every kind for every target in shared memory, counted twice (the rings and text
+ * the worker makes from them are of that order).
  */
-export function layerWorkerBytes(s: Pick<RunShape, 'cells' | 'volumes' | 'foldKinds' | 'targets'>): number {
-  return 2 * s.cells * (4 + s.volumes + (s.foldKinds ?? 3) * s.targets * 2);
+export function layerWorkerBytes(
+  s: Pick<RunShape, 'cells' | 'volumes' | 'foldKinds' | 'targets'>,
+  workers: number,
+): number {
+  if (workers === 0) return 0;
+  return s.cells * (4 + s.volumes + workers * 2 * (s.foldKinds ?? 3) * s.targets * 2);
 }
 
 /** How many worker threads make a study's layers (0: the main thread does), for `threads` and a grid of `cells`. */
@@ -182,7 +182,7 @@ export function estimateRun(s: RunShape): Estimate {
   const levelBits = s.levels * s.targets;
   const bitBytes = levelBitBytes(levelBits);
   const perCell = 4 + s.volumes + (s.foldKinds ?? 3) * levelBits * 2 + 4 /* network floor */ + 2 * 8;
-  const grid = s.cells * (s.gridBytesPerCell ?? perCell) + layerWorkerBytes(s) * (s.layerWorkers ?? 0);
+  const grid = s.cells * (s.gridBytesPerCell ?? perCell);
   const pairCells = s.pairWindowCells ?? s.pairs * s.cells;
   const footprints =
     footprintBytes(pairCells, s.targets) + (s.gridBytesPerCell === undefined ? pairCells * bitBytes : 0);
@@ -286,8 +286,6 @@ export function studyRun(
   largestTile?: TileShape,
   /** Which footprints the run holds at once (`FootprintHold`; default every pair's). */
   hold: FootprintHold = 'every pair',
-  /** Worker threads the run may use (for the layers: `layerWorkerCount`); default none. */
-  threads = 0,
 ): StudyRun {
   const typeCount = s.sensorTypes.length;
   const pairs = s.sites.reduce((n, f) => n + (f.properties.allowedTypes?.length ?? typeCount), 0);
@@ -324,7 +322,6 @@ export function studyRun(
     rangeStepM: Math.min(px.x, px.y) || cellM,
     arcStepM: 0.75 * cellM,
     horizonsInFlight: 2,
-    layerWorkers: layerWorkerCount(threads, grid.width * grid.height, s.flightLevels.length),
   };
   return { shape, pairs, reachM };
 }
