@@ -97,7 +97,7 @@ export interface RunShape {
  * From this many analysis cells the CLI makes a study's layers on worker threads of their own (worker/cli/session.ts
  * `levelLayerTexts`). Below, starting them and their cold code costs more than it saves: on the demo's 600 × 600
  * grid the layers stage took 1.42 s on two workers against 0.99 s on the main thread; on the national box's 3600 ×
- * 3600, 27.3 s against 38.7 s, the same files.
+ * 3600, 22.8 s against 38.7 s, the same files.
  */
 export const LAYERS_POOL_CELLS = 2 ** 22;
 
