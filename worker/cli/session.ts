@@ -4,7 +4,7 @@
  */
 import { InputError } from '../../shared/errors.ts';
 import { computeFootprints, type Candidate } from '../core/coverage.ts';
-import { inlineExecutor } from '../core/floor.ts';
+import { inlineExecutor, inSharedMemory } from '../core/floor.ts';
 import type { Footprint } from '../core/footprint.ts';
 import {
   heldAfterCoverage,
@@ -581,14 +581,6 @@ export async function levelLayerTexts(
   } finally {
     await pool.close();
   }
-}
-
-/** `a` itself when it is in shared memory already, else a copy in shared memory. */
-function inSharedMemory<T extends Uint8Array | Uint16Array | Float32Array>(a: T): T {
-  if (a.buffer instanceof SharedArrayBuffer) return a;
-  const copy = new (a.constructor as new (b: SharedArrayBuffer) => T)(new SharedArrayBuffer(a.byteLength));
-  copy.set(a);
-  return copy;
 }
 
 /** A plan's spill files being written at once, at most (each holds its site's footprints until written). */

@@ -71,10 +71,15 @@ export interface Executor {
  * array is copied with every piece (the study's ground, 1.4 MiB on the demo, was copied 8 times per site).
  */
 export function readableBy<T extends Float32Array | null>(exec: Executor, a: T): T {
-  if (a === null || !exec.shared || a.buffer instanceof SharedArrayBuffer) return a;
-  const copy = new Float32Array(new SharedArrayBuffer(a.length * 4));
+  return a === null || !exec.shared ? a : (inSharedMemory(a) as T);
+}
+
+/** `a` itself when it is in shared memory already, else a copy in shared memory (posted without copying). */
+export function inSharedMemory<T extends Uint8Array | Uint16Array | Float32Array>(a: T): T {
+  if (a.buffer instanceof SharedArrayBuffer) return a;
+  const copy = new (a.constructor as new (b: SharedArrayBuffer) => T)(new SharedArrayBuffer(a.byteLength));
   copy.set(a);
-  return copy as T;
+  return copy;
 }
 
 /** Runs every piece on this thread against the given terrain. */
