@@ -6,7 +6,7 @@
  */
 import { spawnSync } from 'node:child_process';
 import { createHash } from 'node:crypto';
-import { mkdtempSync, readFileSync, rmSync, writeFileSync } from 'node:fs';
+import { mkdtempSync, readdirSync, readFileSync, rmSync, writeFileSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join, resolve } from 'node:path';
 import { afterAll, describe, expect, it } from 'vitest';
@@ -15,7 +15,7 @@ import { Terrain, type PendingTile } from '../worker/core/terrain.ts';
 import { decodeDemTileInto, fillVoids, openDemTile, readDemTile } from '../worker/io/geotiff-read.ts';
 import { encodeGeoTiff, encodeGeoTiffParts } from '../worker/io/geotiff-write.ts';
 import { readTerrainWithin } from '../worker/cli/dem-open.ts';
-import { digestOfRead, writeFileAtomic } from '../worker/cli/files.ts';
+import { digestOfRead, writeFileAtomic, writeFileAtomicStreamed } from '../worker/cli/files.ts';
 import { bumpyDem } from './support/bumps.ts';
 import {
   CHILD_MARK,
@@ -228,6 +228,27 @@ describe('outputs as header + buffer; inputs hashed from the bytes read', () => 
     const path = join(dir, 'parts.tif');
     writeFileAtomic(path, [header, pixels]);
     expect(Buffer.compare(readFileSync(path), whole)).toBe(0);
+  });
+
+  it('streamed (flushed as it goes): the same bytes, across parts and flush boundaries, no temporary file left', async () => {
+    const shared = new Float32Array(new SharedArrayBuffer(data.byteLength));
+    shared.set(data);
+    const parts = encodeGeoTiffParts({ geo, data: shared, nodata: NaN });
+    const whole = new Uint8Array(encodeGeoTiff({ geo, data, nodata: NaN }));
+    const sub = join(dir, 'streamed');
+    const path = join(sub, 'floor.tif');
+    // A flush every 1000 bytes: many flushes, one across the header's end, and a short tail.
+    await writeFileAtomicStreamed(path, parts, 'floor.tif', 1000);
+    expect(Buffer.compare(readFileSync(path), whole)).toBe(0);
+    // Written again over itself: replaced whole; only the output is in its folder.
+    await writeFileAtomicStreamed(path, parts, 'floor.tif', 7777);
+    expect(Buffer.compare(readFileSync(path), whole)).toBe(0);
+    expect(readdirSync(sub)).toEqual(['floor.tif']);
+    // Into a folder that is a file: refused naming the output, and nothing left behind.
+    const blocked = join(sub, 'floor.tif', 'x.tif');
+    await expect(writeFileAtomicStreamed(blocked, parts, '--out x.tif', 1000)).rejects.toThrow(/--out x.tif/);
+    expect(() => writeFileAtomic(blocked, parts, '--out x.tif')).toThrow(/--out x.tif/);
+    expect(readdirSync(sub)).toEqual(['floor.tif']);
   });
 
   it('a raster on a SharedArrayBuffer is written from that buffer', () => {

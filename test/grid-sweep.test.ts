@@ -16,6 +16,8 @@ import { describe, expect, it } from 'vitest';
 import { fillProjected, testWorld } from '../worker/demo/synth-terrain.ts';
 import { computeGridFloor, inlineExecutor } from '../worker/core/floor.ts';
 import { monotoneCubic, NEAR_CELLS } from '../worker/core/grid-sweep.ts';
+import { gridAntenna, type GridAntenna } from '../worker/core/geodesy.ts';
+import { gridMapper } from '../worker/core/grid.ts';
 import { rayWalkFloor, rayWalkFloorGrid, type RayWalkInput } from './reference/raywalk.ts';
 import { cellLonLat, metricGeo, metricTerrain } from './support/dem.ts';
 import { scoreFloor } from './support/floor-accuracy.ts';
@@ -153,6 +155,31 @@ describe('buffers, windows, unknown terrain and range', () => {
       for (let c = 0; c < win.width; c++)
         expect(part.floor[r * win.width + c]).toBe(sep.floor[(r + win.row0) * N + c + win.col0]);
     expect(part.stats.cells).toBe(win.width * win.height);
+  });
+
+  it('takes the antenna built ahead from the grid alone (as a worker builds it) only for its own cell', async () => {
+    const data = base.slice();
+    const geo = metricGeo(N, N, PIXEL_M);
+    const terrain = metricTerrain(data, N, N, PIXEL_M);
+    const site = cellLonLat(geo, c0, r0);
+    const req = { ...site, mastM: 12, kFactor: K };
+    const floorWith = async (antenna?: GridAntenna | null) =>
+      Buffer.from(
+        (
+          await computeGridFloor(terrain, req, whole(N), inlineExecutor(terrain), {
+            ...(antenna === undefined ? {} : { antenna: Promise.resolve(antenna) }),
+          })
+        ).floor.buffer,
+      );
+    const here = await floorWith();
+    const ahead = gridAntenna(gridMapper(geo), N, N, site.lon, site.lat);
+    expect([ahead.col, ahead.row]).toEqual([c0, r0]);
+    expect((await floorWith(ahead)).equals(here)).toBe(true);
+    // Distances doubled: taken for its cell (the floor changes), set aside for another cell or when none came.
+    const doubled = { ...ahead, vmap: { ...ahead.vmap, v: ahead.vmap.v.map((x) => 2 * x) } };
+    expect((await floorWith(doubled)).equals(here)).toBe(false);
+    expect((await floorWith({ ...doubled, col: c0 + 1 })).equals(here)).toBe(true);
+    expect((await floorWith(null)).equals(here)).toBe(true);
   });
 
   it('leaves NaN behind unknown terrain, and nowhere else', async () => {

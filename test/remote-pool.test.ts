@@ -8,6 +8,8 @@ import type { Remote } from 'comlink';
 import { RemotePool } from '../worker/runtime/pool.ts';
 import { AS_BEFORE, type WorkerApi } from '../worker/runtime/api.ts';
 import type { HorizonLayout } from '../worker/core/horizon.ts';
+import type { Executor } from '../worker/core/floor.ts';
+import type { GridPristine, GridSweepCounts, GridSweepTask } from '../worker/core/grid-sweep.ts';
 
 /** A stand-in worker: records the sweep pieces posted to it and answers each when told to. */
 function fakeWorker(name: string, log: string[]) {
@@ -124,5 +126,58 @@ describe('RemotePool dispatch', () => {
     await exec.sweep(layout, tan, 1, 2);
     await exec.sweep(layout, tan, 2, 3);
     expect(got).toEqual(['L1', 'L1', 'as-before']);
+  });
+});
+
+describe('RemotePool.sharingExecutor: one queue of octants for the workers and this thread', () => {
+  /** Octants told apart by their column; each lane answers counts that name the octant and the lane. */
+  const octants = Array.from({ length: 8 }, (_, i) => ({ col: i }) as unknown as GridSweepTask);
+  const pristine = {} as GridPristine;
+  const out = new Float32Array(1);
+  const answer = (t: GridSweepTask, lane: number): GridSweepCounts => ({ beyondRange: t.col, unknown: lane });
+  const inline = {
+    gridSweep: async (t: GridSweepTask) => answer(t, 0),
+  } as unknown as Executor;
+
+  /** A stand-in worker: takes octants from the shared counter as a worker thread would, a tick apart. */
+  function queueWorker(lane: number, failAfter = Infinity) {
+    const took: number[] = [];
+    const remote = {
+      gridSweepQueue: async (
+        tasks: readonly GridSweepTask[],
+        _p: GridPristine,
+        _o: Float32Array,
+        next: Int32Array,
+      ) => {
+        const done: [number, GridSweepCounts][] = [];
+        for (let i = Atomics.add(next, 0, 1); i < tasks.length; i = Atomics.add(next, 0, 1)) {
+          took.push(i);
+          if (took.length > failAfter) throw new Error(`lane ${lane} failed`);
+          done.push([i, answer(tasks[i], lane)]);
+          await tick();
+        }
+        return done;
+      },
+    } as unknown as Remote<WorkerApi>;
+    return { remote, took };
+  }
+
+  it('runs every octant once, on whichever lane is free, and answers each with its own counts', async () => {
+    const w = queueWorker(1);
+    const exec = new RemotePool([w.remote]).sharingExecutor(inline);
+    expect(exec.size).toBe(2);
+    const counts = await Promise.all(octants.map((t) => exec.gridSweep(t, pristine, out)));
+    expect(counts.map((c) => c.beyondRange)).toEqual([0, 1, 2, 3, 4, 5, 6, 7]);
+    // The worker took the first octant; this thread, free at once, took the rest before the worker's next tick.
+    expect(w.took).toEqual([0]);
+    expect(counts.map((c) => c.unknown)).toEqual([1, 0, 0, 0, 0, 0, 0, 0]);
+  });
+
+  it('a lane that fails fails the octants it took, and only those', async () => {
+    const w = queueWorker(1, 0);
+    const exec = new RemotePool([w.remote]).sharingExecutor(inline);
+    const settled = await Promise.allSettled(octants.map((t) => exec.gridSweep(t, pristine, out)));
+    expect(settled.map((s) => s.status)).toEqual(['rejected', ...Array(7).fill('fulfilled')]);
+    expect((settled[0] as PromiseRejectedResult).reason).toEqual(new Error('lane 1 failed'));
   });
 });

@@ -7,6 +7,7 @@ import {
   accessSync,
   closeSync,
   constants as fsConstants,
+  fdatasync,
   existsSync,
   fstatSync,
   fsyncSync,
@@ -22,10 +23,13 @@ import {
   writeSync,
 } from 'node:fs';
 import { basename, dirname, join, resolve } from 'node:path';
+import { promisify } from 'node:util';
 import { CAUTION } from '../../shared/caution.ts';
 import { InputError } from '../../shared/errors.ts';
 import { readDemTile, type TileBytes } from '../io/geotiff-read.ts';
 import type { DemTile } from '../core/terrain.ts';
+
+const fdatasyncAsync = promisify(fdatasync);
 
 /** SHA-256 (hex) of the bytes last read through `readFileChecked`, by absolute path. */
 const readDigests = new Map<string, string>();
@@ -159,20 +163,12 @@ export function writeFileAtomic(
   /** false: no fsync of the file and its folder (a run's own scratch, read back and removed by the same run). */
   durable = true,
 ): void {
-  const dir = dirname(resolve(path));
-  const tmp = join(dir, `.${basename(path)}.${randomBytes(6).toString('hex')}.tmp`);
+  const { dir, tmp } = tempBeside(path);
   try {
     mkdirSync(dir, { recursive: true });
-    // Parts (e.g. a GeoTIFF's header and its pixel buffer) are written one after the other, never concatenated.
-    const parts =
-      typeof data === 'string'
-        ? [Buffer.from(data, 'utf8')]
-        : data instanceof ArrayBuffer
-          ? [new Uint8Array(data)]
-          : data;
     const fd = openSync(tmp, 'w');
     try {
-      for (const bytes of parts) {
+      for (const bytes of partsOf(data)) {
         let at = 0;
         while (at < bytes.byteLength) {
           at += writeSync(fd, bytes, at, Math.min(bytes.byteLength - at, WRITE_CHUNK_BYTES));
@@ -184,14 +180,93 @@ export function writeFileAtomic(
     }
     renameSync(tmp, path);
   } catch (e) {
-    rmSync(tmp, { force: true });
-    throw new InputError(
-      what,
-      `a path that cannot be written (${(e as NodeJS.ErrnoException).code ?? 'error'})`,
-      'a writable output path',
-    );
+    throw cannotWrite(tmp, what, e);
   }
   if (durable) syncFolder(dir);
+}
+
+/** Bytes between the flushes `writeFileAtomicStreamed` starts while it writes on. */
+const STREAM_SYNC_BYTES = 32 * 1024 * 1024;
+
+/**
+ * `writeFileAtomic` for large files (a floor raster): the same temporary file, flush and rename, but the disk is
+ * flushed as the bytes go in. After every STREAM_SYNC_BYTES written, an fdatasync of what is written so far starts
+ * on libuv's thread pool (once the one before has ended), while this thread writes on; the last fsync then has
+ * only the tail left. A 256 MiB file: write, flushes and rename took 0.63–0.78 s against 0.83–0.98 s written first
+ * and flushed at the end (scratch script, three runs each, chunks of 8–64 MiB alike).
+ */
+export async function writeFileAtomicStreamed(
+  path: string,
+  data: ArrayBuffer | string | readonly Uint8Array[],
+  what = path,
+  /** Bytes between flushes (tests take a few). */
+  syncEvery = STREAM_SYNC_BYTES,
+): Promise<void> {
+  const { dir, tmp } = tempBeside(path);
+  let pending: Promise<void> | null = null;
+  try {
+    mkdirSync(dir, { recursive: true });
+    const fd = openSync(tmp, 'w');
+    try {
+      let unsynced = 0;
+      for (const bytes of partsOf(data)) {
+        let at = 0;
+        while (at < bytes.byteLength) {
+          const n = writeSync(fd, bytes, at, Math.min(bytes.byteLength - at, syncEvery - unsynced));
+          at += n;
+          unsynced += n;
+          if (unsynced >= syncEvery) {
+            await pending;
+            pending = fdatasyncAsync(fd);
+            unsynced = 0;
+          }
+        }
+      }
+      await pending;
+      pending = null;
+      fsyncSync(fd);
+    } finally {
+      // A flush still running when a write failed ends before the file is closed (its failure is not the one told).
+      await pending?.catch(() => {});
+      closeSync(fd);
+    }
+    renameSync(tmp, path);
+  } catch (e) {
+    throw cannotWrite(tmp, what, e);
+  }
+  syncFolder(dir);
+}
+
+/** The temporary file `writeFileAtomic` writes beside `path`, and their folder. */
+function tempBeside(path: string): { dir: string; tmp: string } {
+  const dir = dirname(resolve(path));
+  return { dir, tmp: join(dir, `.${basename(path)}.${randomBytes(6).toString('hex')}.tmp`) };
+}
+
+/**
+ * The bytes to write, as parts written one after the other (e.g. a GeoTIFF's header and its pixel buffer), never
+ * concatenated.
+ */
+function partsOf(data: ArrayBuffer | string | readonly Uint8Array[]): readonly Uint8Array[] {
+  return typeof data === 'string'
+    ? [Buffer.from(data, 'utf8')]
+    : data instanceof ArrayBuffer
+      ? [new Uint8Array(data)]
+      : data;
+}
+
+/** Removes the temporary file of a write that failed, and names what could not be written. */
+function cannotWrite(tmp: string, what: string, e: unknown): InputError {
+  try {
+    rmSync(tmp, { force: true });
+  } catch {
+    // never made (e.g. its folder is a file: ENOTDIR); the message below is the one to tell
+  }
+  return new InputError(
+    what,
+    `a path that cannot be written (${(e as NodeJS.ErrnoException).code ?? 'error'})`,
+    'a writable output path',
+  );
 }
 
 /** Flushes a folder's entries (a rename) to the disk; not every platform allows it, and then it is skipped. */
@@ -235,6 +310,21 @@ export function writeOutputFile(
   what = path,
 ): string[] {
   writeFileAtomic(path, data, what);
+  return removeStaleTemps(path);
+}
+
+/** `writeOutputFile` for a large output, flushed as it is written (`writeFileAtomicStreamed`). */
+export async function writeLargeOutputFile(
+  path: string,
+  data: ArrayBuffer | string | readonly Uint8Array[],
+  what = path,
+): Promise<string[]> {
+  await writeFileAtomicStreamed(path, data, what);
+  return removeStaleTemps(path);
+}
+
+/** The temporary files of `path` an earlier run left (`writeOutputFile`), removed; their names. */
+function removeStaleTemps(path: string): string[] {
   const dir = dirname(resolve(path));
   const name = basename(path);
   const removed: string[] = [];

@@ -12,7 +12,13 @@ import { InputError } from '../../shared/errors.ts';
 import type { GridGeo } from './grid.ts';
 import type { HorizonCache } from './horizon-cache.ts';
 import { gridMapper } from './grid.ts';
-import { VectorMap, type VectorMapParts } from './geodesy.ts';
+import {
+  antennaCell,
+  antennaVectorMap,
+  VectorMap,
+  type GridAntenna,
+  type VectorMapParts,
+} from './geodesy.ts';
 import {
   allocateTan,
   planHorizon,
@@ -26,7 +32,7 @@ import {
 } from './horizon.ts';
 import {
   copyPristine,
-  gridSweepTaskCells,
+  gridSweepTaskCost,
   gridSweepTasks,
   sweepGridOctant,
   type GridPristine,
@@ -271,6 +277,11 @@ export async function computeGridFloor(
   options: {
     onProgress?: Progress;
     /** false: the sweep's line operations in JavaScript (grid-sweep.ts). */ kernel?: boolean;
+    /**
+     * The antenna's cell and vector map built ahead over this terrain's grid (e.g. on a worker thread while the DEM
+     * was read): used when its cell is the site's, else (or when it gives null) they are built here.
+     */
+    antenna?: Promise<GridAntenna | null>;
   } = {},
 ): Promise<GridFloorResult> {
   const g = terrain.geo;
@@ -278,10 +289,7 @@ export async function computeGridFloor(
   const H = g.height;
   if (window.inPlace && (window.col0 !== 0 || window.row0 !== 0 || window.width !== W || window.height !== H))
     throw new Error('computeGridFloor: in place needs the whole terrain as the window');
-  const p = [0, 0];
-  terrain.lonLatToPixel(req.lon, req.lat, p);
-  const col = Math.floor(p[0]);
-  const row = Math.floor(p[1]);
+  const { col, row } = antennaCell(terrain, req.lon, req.lat);
   const groundM = col >= 0 && row >= 0 && col < W && row < H ? terrain.data[row * W + col] : NaN;
   if (!Number.isFinite(groundM)) {
     throw new InputError(
@@ -294,10 +302,17 @@ export async function computeGridFloor(
   const reM = kFactor * (req.earthRadiusM ?? EARTH_RADIUS_M);
   const t0 = nowMs();
   options.onProgress?.(0, 'geodesics');
-  // Distances from where the sweep puts the antenna: the centre of its cell.
-  const centre = [0, 0];
-  terrain.pixelToLonLat(col + 0.5, row + 0.5, centre);
-  const vmap = VectorMap.build(centre[0], centre[1], W, H, terrain);
+  // Distances from where the sweep puts the antenna: the centre of its cell (built ahead on a worker when given
+  // for this very grid and cell).
+  const early = options.antenna !== undefined ? await options.antenna : null;
+  const vmap =
+    early !== null &&
+    early.col === col &&
+    early.row === row &&
+    early.vmap.width === W &&
+    early.vmap.height === H
+      ? new VectorMap(early.vmap)
+      : antennaVectorMap(terrain, W, H, col, row);
   // Never farther than the farthest cell (nor than 2000 km): what lies beyond is not asked for.
   const maxRangeM = Math.min(req.maxRangeM ?? Infinity, 2_000_000, vmap.maxDistanceM() + 1);
   const antennaAltM = groundM + req.mastM;
@@ -324,8 +339,8 @@ export async function computeGridFloor(
     vmap,
     ...(options.kernel === false ? { kernel: false } : {}),
   });
-  // Largest octants first, so the last ones to finish are short.
-  tasks.sort((a, b) => gridSweepTaskCells(b) - gridSweepTaskCells(a));
+  // Longest octants first (by cells, the column octants weighed heavier), so the last ones to finish are short.
+  tasks.sort((a, b) => gridSweepTaskCost(b) - gridSweepTaskCost(a));
   let done = 0;
   const counts = await Promise.all(
     tasks.map((t) =>

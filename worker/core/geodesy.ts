@@ -288,6 +288,54 @@ export interface VectorMapParts {
   readonly v: Float64Array;
 }
 
+/**
+ * The grid sweep's antenna (core/floor.ts `computeGridFloor`): the cell holding the site, and the vector map from that
+ * cell's centre over the grid. Plain data, so that `airshade floor` has a worker thread build it while this one reads
+ * the DEM's pixels (a grid's geometry is all it needs): the same bits as built here.
+ */
+export interface GridAntenna {
+  readonly col: number;
+  readonly row: number;
+  readonly vmap: VectorMapParts;
+}
+
+/** The cell (column, row) holding a lon/lat, possibly off the grid. */
+export function antennaCell(mapper: PixelMapper, lon: number, lat: number): { col: number; row: number } {
+  const p = [0, 0];
+  mapper.lonLatToPixel(lon, lat, p);
+  return { col: Math.floor(p[0]), row: Math.floor(p[1]) };
+}
+
+/** The vector map over a width × height grid from the centre of cell (col, row), where the sweep puts the antenna. */
+export function antennaVectorMap(
+  mapper: PixelMapper,
+  width: number,
+  height: number,
+  col: number,
+  row: number,
+): VectorMap {
+  const centre = [0, 0];
+  mapper.pixelToLonLat(col + 0.5, row + 0.5, centre);
+  return VectorMap.build(centre[0], centre[1], width, height, mapper);
+}
+
+/** `antennaCell` and `antennaVectorMap` together. */
+export function gridAntenna(
+  mapper: PixelMapper,
+  width: number,
+  height: number,
+  lon: number,
+  lat: number,
+): GridAntenna {
+  const { col, row } = antennaCell(mapper, lon, lat);
+  const m = antennaVectorMap(mapper, width, height, col, row);
+  return {
+    col,
+    row,
+    vmap: { width: m.width, height: m.height, block: m.block, nodesX: m.nodesX, nodesY: m.nodesY, v: m.v },
+  };
+}
+
 export class VectorMap implements VectorMapParts {
   readonly width: number;
   readonly height: number;

@@ -43,6 +43,20 @@ export interface GridGeo {
   readonly crs: Crs;
 }
 
+/** Whether two grids are the same cells on the same CRS (same size, origin, pixel size and projection). */
+export function sameGrid(a: GridGeo, b: GridGeo): boolean {
+  return (
+    a.width === b.width &&
+    a.height === b.height &&
+    a.originX === b.originX &&
+    a.originY === b.originY &&
+    a.pixelX === b.pixelX &&
+    a.pixelY === b.pixelY &&
+    a.crs.kind === b.crs.kind &&
+    a.crs.proj4 === b.crs.proj4
+  );
+}
+
 /**
  * How many pixels of size `pixel` lie from `from` to `to`, rounded to the nearest whole number and returned as a small
  * integer (`| 0`): Math.round gives -0 for a grid over itself with a negative pixel height, and an integral value

@@ -5,7 +5,8 @@
  */
 import type { Terrain, TerrainParts } from '../core/terrain.ts';
 import type { HorizonLayout, ResampleCounts } from '../core/horizon.ts';
-import type { VectorMap, VectorMapParts } from '../core/geodesy.ts';
+import type { GridAntenna, VectorMap, VectorMapParts } from '../core/geodesy.ts';
+import type { GridGeo } from '../core/grid.ts';
 import {
   sweepGridOctant,
   type GridPristine,
@@ -125,9 +126,38 @@ export const api = {
   async levelLayerText(job: LevelLayerJob): Promise<string> {
     return (await import('../io/layers.ts')).levelLayerText(job);
   },
+  /**
+   * The grid sweep's antenna cell and vector map on a grid (core/geodesy.ts `gridAntenna`): needs no terrain, so a
+   * worker started for `airshade floor` builds it while the caller reads the DEM. Geodesy and projections are loaded
+   * on the first such job.
+   */
+  async gridAntenna(geo: GridGeo, lon: number, lat: number): Promise<GridAntenna> {
+    const [{ gridMapper }, { gridAntenna }] = await Promise.all([
+      import('../core/grid.ts'),
+      import('../core/geodesy.ts'),
+    ]);
+    return gridAntenna(gridMapper(geo), geo.width, geo.height, lon, lat);
+  },
   /** One octant of the grid-native floor sweep; `out` may be the terrain's own (shared) buffer. */
   gridSweep(task: GridSweepTask, pristine: GridPristine, out: Float32Array): GridSweepCounts {
     return sweepGridOctant(task, needParts().data, pristine, out);
+  },
+  /**
+   * Octants of one grid sweep from a queue shared with other lanes (pool.ts `sharingExecutor`): takes the next
+   * untaken index (`Atomics.add` on `next`, in shared memory) until none is left; answers the indices it ran and
+   * their counts.
+   */
+  gridSweepQueue(
+    tasks: readonly GridSweepTask[],
+    pristine: GridPristine,
+    out: Float32Array,
+    next: Int32Array,
+  ): [number, GridSweepCounts][] {
+    const done: [number, GridSweepCounts][] = [];
+    for (let i = Atomics.add(next, 0, 1); i < tasks.length; i = Atomics.add(next, 0, 1)) {
+      done.push([i, sweepGridOctant(tasks[i], needParts().data, pristine, out)]);
+    }
+    return done;
   },
   /**
    * The planner, off the caller's thread (the app's engine stays free for quick calls while HiGHS works).

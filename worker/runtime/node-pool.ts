@@ -11,6 +11,8 @@ import nodeEndpoint from 'comlink/dist/esm/node-adapter.mjs';
 import type { WorkerApi } from './api.ts';
 import type { Executor } from '../core/floor.ts';
 import type { TerrainParts } from '../core/terrain.ts';
+import type { GridAntenna } from '../core/geodesy.ts';
+import type { GridGeo } from '../core/grid.ts';
 import { RemotePool } from './pool.ts';
 
 function workerEntry(): URL {
@@ -65,6 +67,11 @@ export class NodePool {
 
   get size(): number {
     return this.workers.length;
+  }
+
+  /** The grid sweep's antenna on a grid, built on the first worker (WorkerApi.gridAntenna). */
+  gridAntenna(geo: GridGeo, lon: number, lat: number): Promise<GridAntenna> {
+    return this.remotes[0].gridAntenna(geo, lon, lat);
   }
 
   /** Installs the terrain in every worker (shared memory: one copy for all). */

@@ -6,7 +6,7 @@
 import type { Remote } from 'comlink';
 import { AS_BEFORE, type Sent, type WorkerApi } from './api.ts';
 import type { Executor } from '../core/floor.ts';
-import { gridSweepTaskCells } from '../core/grid-sweep.ts';
+import type { GridPristine, GridSweepCounts, GridSweepTask } from '../core/grid-sweep.ts';
 
 export class RemotePool {
   /** Jobs posted to each worker and not yet answered. */
@@ -77,32 +77,72 @@ export class RemotePool {
 
   /**
    * For one grid sweep (`computeGridFloor`): the calling thread works as one more lane beside the workers, so a
-   * pool of n − 1 workers keeps n lanes busy with one worker thread less in memory (`airshade floor`). Each octant
-   * goes, as it is handed in (largest first), to the lane with the least work so far (longest-processing-time
-   * order). A worker's octants are posted at once and queue in that worker; the calling thread's run back to back
-   * in `inline` once every octant has been handed out, so no worker waits for this thread to hand it the next.
+   * pool of n − 1 workers keeps n lanes busy with one worker thread less in memory (`airshade floor`). The octants
+   * handed in together (`computeGridFloor` hands in all eight at once, largest first) form one queue: every lane
+   * takes the next octant as soon as it is free, by an atomic counter in shared memory (`Atomics.add`), so no lane
+   * waits for a message from another — this thread runs its octants back to back. A fixed share per lane, by cells,
+   * had left one lane 0.05–0.35 s behind the other at 8192²: the column octants take longer than the row octants of
+   * the same size, and the shares gave one lane three of them.
    * Sweeps over radials and resampling go to the workers as `executor()` sends them.
    */
   sharingExecutor(inline: Executor): Executor {
     const base = this.executor();
-    const load = new Array<number>(this.remotes.length + 1).fill(0);
-    const mine: (() => void)[] = [];
+    let batch: QueuedOctant[] = [];
     return {
       ...base,
       size: this.remotes.length + 1,
-      gridSweep: (task, pristine, out) => {
-        let lane = 0;
-        for (let i = 1; i < load.length; i++) if (load[i] < load[lane]) lane = i;
-        load[lane] += gridSweepTaskCells(task);
-        if (lane < this.remotes.length) return this.remotes[lane].gridSweep(task, pristine, out);
-        return new Promise((resolve, reject) => {
-          if (mine.push(() => void inline.gridSweep(task, pristine, out).then(resolve, reject)) === 1) {
+      gridSweep: (task, pristine, out) =>
+        new Promise((resolve, reject) => {
+          if (batch.push({ task, pristine, out, resolve, reject }) === 1) {
             setTimeout(() => {
-              for (const run of mine.splice(0)) run();
+              const items = batch;
+              batch = [];
+              this.sweepQueue(items, inline);
             }, 0);
           }
-        });
-      },
+        }),
     };
   }
+
+  /** Runs queued octants on every worker and on this thread, each lane taking the next free one (sharingExecutor). */
+  private sweepQueue(items: readonly QueuedOctant[], inline: Executor): void {
+    // One queue per pristine copy and output (one grid sweep); in practice all the items share them.
+    const first = items[0];
+    const rest = items.filter((q) => q.pristine !== first.pristine || q.out !== first.out);
+    const mine = rest.length === 0 ? items : items.filter((q) => !rest.includes(q));
+    if (rest.length > 0) this.sweepQueue(rest, inline);
+    const next = new Int32Array(new SharedArrayBuffer(4));
+    const tasks = mine.map((q) => q.task);
+    const answered = mine.map(() => false);
+    const answer = (i: number, counts: GridSweepCounts): void => {
+      answered[i] = true;
+      mine[i].resolve(counts);
+    };
+    const lanes: Promise<void>[] = this.remotes.map((w) =>
+      w.gridSweepQueue(tasks, first.pristine, first.out, next).then((done) => {
+        for (const [i, counts] of done) answer(i, counts);
+      }),
+    );
+    lanes.push(
+      (async () => {
+        for (let i = Atomics.add(next, 0, 1); i < tasks.length; i = Atomics.add(next, 0, 1)) {
+          answer(i, await inline.gridSweep(tasks[i], first.pristine, first.out));
+        }
+      })(),
+    );
+    // A lane that failed took octants it never answered: once every lane has ended, those fail with its error.
+    void Promise.allSettled(lanes).then((ends) => {
+      const failed = ends.find((e): e is PromiseRejectedResult => e.status === 'rejected');
+      if (failed === undefined) return;
+      for (let i = 0; i < mine.length; i++) if (!answered[i]) mine[i].reject(failed.reason);
+    });
+  }
+}
+
+interface QueuedOctant {
+  task: GridSweepTask;
+  pristine: GridPristine;
+  out: Float32Array;
+  resolve: (c: GridSweepCounts) => void;
+  reject: (e: unknown) => void;
 }
