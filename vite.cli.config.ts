@@ -31,6 +31,11 @@ export default defineConfig({
       'jsonc-parser',
       'fflate',
       'fast-png',
+      // geotiff's own dependencies, and comlink: 21 more files that each run and the worker had opened one by one.
+      '@petamoriken/float16',
+      'xml-utils',
+      'mgrs',
+      'comlink',
     ],
   },
 });
