@@ -32,6 +32,9 @@ export function emit(h: usize, dst: usize, first: i32, step: i32, wLo: i32, wHi:
 /**
  * Geodesic distances from the antenna to the cells (c + dc·m, r + dr·m), m = 0 … mEnd, into s (f64); stops at the
  * first cell beyond maxRange and returns how many were in range. v: the VectorMap lattice (east, north per node).
+ * Lines run along a row (dr = 0) or a column (dc = 0). Each lattice cell is a straight piece along the line; its
+ * first cell is done alone (and the piece set up), the rest two at a time while both stay on the piece and in range
+ * (the same operations on each lane as on one cell: the same bits as `lineDistances`).
  */
 export function distances(
   v: usize,
@@ -49,16 +52,25 @@ export function distances(
   const alongX = dc != 0;
   const dxNode = nx > 1 ? 2 : 0;
   const dyNode = ny > 1 ? nx * 2 : 0;
+  const uTop = (alongX ? nx : ny) - 2;
+  // The moving coordinate, the cell's column (along a row) or row (along a column): p0 + step·m.
+  const p0 = alongX ? c : r;
+  const step = alongX ? dc : dr;
+  const vBk = f64x2.splat(bk);
+  const vMax = f64x2.splat(maxRange);
+  const vStep = f64x2.replace_lane(f64x2.splat(0), 1, <f64>step);
+  const wholeBk = bk == Math.floor(bk) && bk >= 1;
   let piece = -1;
   let ea: f64 = 0;
   let eb: f64 = 0;
   let na: f64 = 0;
   let nb: f64 = 0;
-  for (let m = 0; m <= mEnd; m++) {
+  let m = 0;
+  while (m <= mEnd) {
     const gx = <f64>(c + dc * m) / bk;
     const gy = <f64>(r + dr * m) / bk;
     const u = alongX ? gx : gy;
-    const iu = max<i32>(0, min<i32>(<i32>u, (alongX ? nx : ny) - 2));
+    const iu = max<i32>(0, min<i32>(<i32>u, uTop));
     if (iu != piece) {
       piece = iu;
       const ix = max<i32>(0, min<i32>(<i32>gx, nx - 2));
@@ -96,6 +108,33 @@ export function distances(
     const dist = Math.sqrt(e * e + nn * nn);
     if (!(dist <= maxRange)) return m;
     store<f64>(s + ((<usize>m) << 3), dist);
+    m++;
+    // The rest of this piece two at a time: the cells whose moving coordinate p lies in [piece·bk, (piece + 1)·bk)
+    // (p and bk whole numbers: p / bk truncates to the piece exactly there); the first and last pieces also take
+    // every cell beyond them, as the clamp does. A lattice spacing that is not a whole number goes cell by cell.
+    const last = step > 0 ? piece == uTop : piece == 0;
+    const mLast = !wholeBk
+      ? -1
+      : last
+        ? mEnd
+        : min<i32>(mEnd, step > 0 ? <i32>(<f64>(piece + 1) * bk) - 1 - p0 : p0 - <i32>(<f64>piece * bk));
+    const vEa = f64x2.splat(ea);
+    const vEb = f64x2.splat(eb);
+    const vNa = f64x2.splat(na);
+    const vNb = f64x2.splat(nb);
+    let vp = f64x2.add(f64x2.splat(<f64>(p0 + step * m)), vStep);
+    const vStep2 = f64x2.splat(<f64>(2 * step));
+    while (m < mLast) {
+      const vu = f64x2.div(vp, vBk);
+      const ve = f64x2.add(vEa, f64x2.mul(vEb, vu));
+      const vn = f64x2.add(vNa, f64x2.mul(vNb, vu));
+      const vd = f64x2.sqrt(f64x2.add(f64x2.mul(ve, ve), f64x2.mul(vn, vn)));
+      // Beyond the range (or unknown): the cell-by-cell path finds where it stops.
+      if (!i64x2.all_true(f64x2.le(vd, vMax))) break;
+      v128.store(s + ((<usize>m) << 3), vd);
+      m += 2;
+      vp = f64x2.add(vp, vStep2);
+    }
   }
   return mEnd + 1;
 }
