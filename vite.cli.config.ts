@@ -31,10 +31,12 @@ export default defineConfig({
       'jsonc-parser',
       'fflate',
       'fast-png',
-      // geotiff's own dependencies, and comlink: 21 more files that each run and the worker had opened one by one.
+      // geotiff's and proj4's own dependencies, and comlink: 23 more files that each run and the worker had opened one
+      // by one (wkt-parser through Node's CommonJS loader).
       '@petamoriken/float16',
       'xml-utils',
       'mgrs',
+      'wkt-parser',
       'comlink',
     ],
   },

@@ -926,17 +926,43 @@ const SENTINEL_BITS = (() => {
 
 /**
  * `toMetres` for Float32 metres already in place (the voids become NaN; returns how many), by their bits: one
- * integer test a sample, the nodata value compared only where its magnitude's bits match.
+ * integer test a sample, the nodata value compared only where its magnitude's bits match. Four samples at a time
+ * are passed over when none can be a void (all four magnitudes below the sentinel's and none equal to |nodata|'s),
+ * else tested one by one: 44–62 ms against 99–147 ms over an 8192² raster without voids (scratch script).
  */
 function voidsInPlace(a: Float32Array, from: number, n: number, nodata: number): number {
   const bits = new Int32Array(a.buffer, a.byteOffset, a.length);
   // The bits of |nodata| when a Float32 can equal it (else -1, which no magnitude has); ±0 both match 0.
   const f = Math.fround(nodata);
-  const nodataBits = f === nodata ? new Int32Array(new Float32Array([Math.abs(f)]).buffer)[0] : -1;
+  const nd = f === nodata ? new Int32Array(new Float32Array([Math.abs(f)]).buffer)[0] : -1;
+  const S = SENTINEL_BITS;
+  const end = from + n;
   let voids = 0;
-  for (let i = from, end = from + n; i < end; i++) {
+  let i = from;
+  for (; i + 4 <= end; i += 4) {
+    const b0 = bits[i] & 0x7fffffff;
+    const b1 = bits[i + 1] & 0x7fffffff;
+    const b2 = bits[i + 2] & 0x7fffffff;
+    const b3 = bits[i + 3] & 0x7fffffff;
+    if (b0 < S && b1 < S && b2 < S && b3 < S && b0 !== nd && b1 !== nd && b2 !== nd && b3 !== nd) continue;
+    voids += voidsOneByOne(a, bits, i, i + 4, nodata, nd);
+  }
+  return voids + voidsOneByOne(a, bits, i, end, nodata, nd);
+}
+
+/** `voidsInPlace`'s test, sample by sample over [from, end). */
+function voidsOneByOne(
+  a: Float32Array,
+  bits: Int32Array,
+  from: number,
+  end: number,
+  nodata: number,
+  nd: number,
+): number {
+  let voids = 0;
+  for (let i = from; i < end; i++) {
     const b = bits[i] & 0x7fffffff;
-    if (b >= SENTINEL_BITS || (b === nodataBits && a[i] === nodata)) {
+    if (b >= SENTINEL_BITS || (b === nd && a[i] === nodata)) {
       a[i] = NaN;
       voids++;
     }
