@@ -224,13 +224,16 @@ interface ToolRun {
   groundM?: number;
 }
 
-async function runAirshade(
-  n: number,
-  demPath: string,
-  site: string,
-  runs: number,
-  haveTime: boolean,
-): Promise<ToolRun> {
+/**
+ * One tool's runs, one at a time (`once`), so that the two tools' runs alternate in one loop (`runBoth`); `result`
+ * sums them up. A failed run ends that tool's runs.
+ */
+interface ToolRunner {
+  once(i: number, runs: number): Promise<boolean>;
+  result(): ToolRun;
+}
+
+function airshadeRunner(n: number, demPath: string, site: string, haveTime: boolean): ToolRunner {
   const outPath = join(OUT_DIR, `airshade-floor-${n}.tif`);
   const args = [
     CLI,
@@ -252,60 +255,70 @@ async function runAirshade(
   ];
   const walls: number[] = [];
   let best: { wallS: number; peak: number | null; ground?: number; viaTsx: boolean } | null = null;
-  for (let i = 0; i < runs; i++) {
-    progress(`${n}²: airshade floor, run ${i + 1}/${runs}…`);
-    // Others may edit the sources while the bench runs: rebuild so bin/airshade.mjs runs the built CLI.
-    ensureBuilt(`${n}²`);
-    const viaTsx = !builtCliFresh();
-    // Under /usr/bin/time like gdal_viewshed: Linux keeps the peak resident set across fork and exec, so a child
-    // spawned straight from this script would report at least this script's own (references and all: 500–800 MiB
-    // here), whatever it used itself. /usr/bin/time is a small parent.
-    const r = haveTime
-      ? await runTimed('/usr/bin/time', ['-v', process.execPath, ...args])
-      : await runTimed(process.execPath, args);
-    if (r.code !== 0) {
-      progress(`${n}²: airshade floor failed (exit ${r.code}):\n${r.stderr}${r.stdout}`);
+  let failed = false;
+  return {
+    async once(i, runs) {
+      progress(`${n}²: airshade floor, run ${i + 1}/${runs}…`);
+      // Others may edit the sources while the bench runs: rebuild so bin/airshade.mjs runs the built CLI.
+      ensureBuilt(`${n}²`);
+      const viaTsx = !builtCliFresh();
+      // Under /usr/bin/time like gdal_viewshed: Linux keeps the peak resident set across fork and exec, so a child
+      // spawned straight from this script would report at least this script's own (references and all: 500–800 MiB
+      // here), whatever it used itself. /usr/bin/time is a small parent.
+      const r = haveTime
+        ? await runTimed('/usr/bin/time', ['-v', process.execPath, ...args])
+        : await runTimed(process.execPath, args);
+      if (r.code !== 0) {
+        progress(`${n}²: airshade floor failed (exit ${r.code}):\n${r.stderr}${r.stdout}`);
+        failed = true;
+        return false;
+      }
+      const kb = /Maximum resident set size \(kbytes\): (\d+)/.exec(r.stderr);
+      const printed = /peak memory (\d+) MiB/.exec(r.stdout);
+      const peak = kb ? [kb[0], String(Math.round(Number(kb[1]) / 1024))] : printed;
+      const ground = /ground (-?[\d.]+) m \+ mast/.exec(r.stdout);
+      walls.push(r.wallS);
+      progress(
+        `${n}²: airshade floor, run ${i + 1}: ${r.wallS.toFixed(2)} s, ${peak ? peak[1] : '?'} MiB` +
+          (viaTsx ? ' (through tsx)' : ''),
+      );
+      if (!best || r.wallS < best.wallS) {
+        best = {
+          wallS: r.wallS,
+          peak: peak ? Number(peak[1]) : null,
+          ground: ground ? Number(ground[1]) : undefined,
+          viaTsx,
+        };
+      }
+      return true;
+    },
+    result() {
+      if (failed || best === null) {
+        return {
+          tool: 'Airshade',
+          ok: false,
+          wallS: NaN,
+          allWallS: walls,
+          peakMiB: null,
+          outPath,
+          note: 'failed',
+        };
+      }
       return {
         tool: 'Airshade',
-        ok: false,
-        wallS: NaN,
+        ok: true,
+        wallS: best.wallS,
         allWallS: walls,
-        peakMiB: null,
+        peakMiB: best.peak,
         outPath,
-        note: 'failed',
+        groundM: best.ground,
+        note: best.viaTsx ? 'ran through tsx: sources newer than dist/cli' : undefined,
       };
-    }
-    const kb = /Maximum resident set size \(kbytes\): (\d+)/.exec(r.stderr);
-    const printed = /peak memory (\d+) MiB/.exec(r.stdout);
-    const peak = kb ? [kb[0], String(Math.round(Number(kb[1]) / 1024))] : printed;
-    const ground = /ground (-?[\d.]+) m \+ mast/.exec(r.stdout);
-    walls.push(r.wallS);
-    progress(
-      `${n}²: airshade floor, run ${i + 1}: ${r.wallS.toFixed(2)} s, ${peak ? peak[1] : '?'} MiB` +
-        (viaTsx ? ' (through tsx)' : ''),
-    );
-    if (!best || r.wallS < best.wallS) {
-      best = {
-        wallS: r.wallS,
-        peak: peak ? Number(peak[1]) : null,
-        ground: ground ? Number(ground[1]) : undefined,
-        viaTsx,
-      };
-    }
-  }
-  return {
-    tool: 'Airshade',
-    ok: true,
-    wallS: best!.wallS,
-    allWallS: walls,
-    peakMiB: best!.peak,
-    outPath,
-    groundM: best!.ground,
-    note: best!.viaTsx ? 'ran through tsx: sources newer than dist/cli' : undefined,
+    },
   };
 }
 
-async function runGdal(n: number, demPath: string, runs: number, haveTime: boolean): Promise<ToolRun> {
+function gdalRunner(n: number, demPath: string, haveTime: boolean): ToolRunner {
   const outPath = join(OUT_DIR, `gdal-viewshed-${n}.tif`);
   // The observer at the centre of the centre cell, in projected coordinates.
   const c0 = n / 2;
@@ -316,37 +329,61 @@ async function runGdal(n: number, demPath: string, runs: number, haveTime: boole
   gdalArgs.push('-ox', String(ox), '-oy', String(oy), '-q', demPath, outPath);
   const walls: number[] = [];
   let best: { wallS: number; peak: number | null } | null = null;
-  for (let i = 0; i < runs; i++) {
-    progress(`${n}²: gdal_viewshed, run ${i + 1}/${runs}…`);
-    const r = haveTime
-      ? await runTimed('/usr/bin/time', ['-v', 'gdal_viewshed', ...gdalArgs])
-      : await runTimed('gdal_viewshed', gdalArgs);
-    if (r.code !== 0) {
-      progress(`${n}²: gdal_viewshed failed (exit ${r.code}):\n${r.stderr}${r.stdout}`);
+  let failed = false;
+  return {
+    async once(i, runs) {
+      progress(`${n}²: gdal_viewshed, run ${i + 1}/${runs}…`);
+      const r = haveTime
+        ? await runTimed('/usr/bin/time', ['-v', 'gdal_viewshed', ...gdalArgs])
+        : await runTimed('gdal_viewshed', gdalArgs);
+      if (r.code !== 0) {
+        progress(`${n}²: gdal_viewshed failed (exit ${r.code}):\n${r.stderr}${r.stdout}`);
+        failed = true;
+        return false;
+      }
+      const kb = /Maximum resident set size \(kbytes\): (\d+)/.exec(r.stderr);
+      const peak = kb ? Number(kb[1]) / 1024 : null;
+      walls.push(r.wallS);
+      progress(`${n}²: gdal_viewshed, run ${i + 1}: ${r.wallS.toFixed(2)} s, ${peak?.toFixed(0) ?? '—'} MiB`);
+      if (!best || r.wallS < best.wallS) best = { wallS: r.wallS, peak };
+      return true;
+    },
+    result() {
+      if (failed || best === null) {
+        return {
+          tool: 'gdal_viewshed',
+          ok: false,
+          wallS: NaN,
+          allWallS: walls,
+          peakMiB: null,
+          outPath,
+          note: 'failed',
+        };
+      }
       return {
         tool: 'gdal_viewshed',
-        ok: false,
-        wallS: NaN,
+        ok: true,
+        wallS: best.wallS,
         allWallS: walls,
-        peakMiB: null,
+        peakMiB: best.peak,
         outPath,
-        note: 'failed',
       };
-    }
-    const kb = /Maximum resident set size \(kbytes\): (\d+)/.exec(r.stderr);
-    const peak = kb ? Number(kb[1]) / 1024 : null;
-    walls.push(r.wallS);
-    progress(`${n}²: gdal_viewshed, run ${i + 1}: ${r.wallS.toFixed(2)} s, ${peak?.toFixed(0) ?? '—'} MiB`);
-    if (!best || r.wallS < best.wallS) best = { wallS: r.wallS, peak };
-  }
-  return {
-    tool: 'gdal_viewshed',
-    ok: true,
-    wallS: best!.wallS,
-    allWallS: walls,
-    peakMiB: best!.peak,
-    outPath,
+    },
   };
+}
+
+/**
+ * The two tools' runs alternating, in the order A B B A A B … (each tool first in half of the pairs), so that a
+ * slow or fast spell of the machine, or what one run leaves behind for the next (freed memory, a replaced output's
+ * pages), falls on both alike.
+ */
+async function runBoth(runners: readonly ToolRunner[], runs: number): Promise<ToolRun[]> {
+  const going = runners.map(() => true);
+  for (let i = 0; i < runs; i++) {
+    const order = i % 2 === 0 ? runners.map((_, k) => k) : runners.map((_, k) => runners.length - 1 - k);
+    for (const k of order) if (going[k]) going[k] = await runners[k].once(i, runs);
+  }
+  return runners.map((r) => r.result());
 }
 
 /** A reference floor on the sampled cells. */
@@ -538,7 +575,13 @@ async function main(): Promise<void> {
         `${pl.seconds.toFixed(1)} + ${sp.seconds.toFixed(1)} s`,
     );
 
-    const air = await runAirshade(n, demPath, site, runs, haveTime);
+    const [air, gd] = await runBoth(
+      [
+        airshadeRunner(n, demPath, site, haveTime),
+        ...(gdalVersion ? [gdalRunner(n, demPath, haveTime)] : []),
+      ],
+      runs,
+    );
     if (air.ok && air.groundM !== undefined && Math.abs(air.groundM - groundC) > 0.05) {
       progress(
         `${n}²: WARNING Airshade reports antenna ground ${air.groundM} m, the centre cell holds ${groundC}`,
@@ -551,8 +594,7 @@ async function main(): Promise<void> {
     }
     rows.push({ n, run: air, acc });
 
-    if (gdalVersion) {
-      const gd = await runGdal(n, demPath, runs, haveTime);
+    if (gd !== undefined) {
       let gacc: Row['acc'] = null;
       if (gd.ok) {
         progress(`${n}²: reading ${relative(ROOT, gd.outPath)}…`);
@@ -666,7 +708,7 @@ async function main(): Promise<void> {
       `effective radius is k × 6371 km, so k = ${WGS84_A_M} / (${GDAL_CC} × ${AIRSHADE_R_M}) = ` +
       `${K_FACTOR.toFixed(6)} gives the same radius; the reference uses it too (reM = a / cc).`,
     `- Wall time: whole process, from spawn to exit (start-up, reading the DEM and writing the output ` +
-      `included); each tool run ${runs}×, the faster run is reported. All runs: ${allTimes.join('; ')}.` +
+      `included); each tool run ${runs}×, the two tools' runs alternating (A B B A …), the faster run is reported. All runs: ${allTimes.join('; ')}.` +
       (ratios.length > 0 ? ` Airshade / gdal_viewshed, ratio of medians: ${ratios.join(', ')}.` : ''),
     '- Peak memory: both tools run under `/usr/bin/time -v` (Debian package `time`) and its "Maximum resident set ' +
       'size" is reported (worker threads included). Not the figure a child spawned straight from this script would ' +
