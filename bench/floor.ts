@@ -293,17 +293,7 @@ function airshadeRunner(n: number, demPath: string, site: string, haveTime: bool
       return true;
     },
     result() {
-      if (failed || best === null) {
-        return {
-          tool: 'Airshade',
-          ok: false,
-          wallS: NaN,
-          allWallS: walls,
-          peakMiB: null,
-          outPath,
-          note: 'failed',
-        };
-      }
+      if (failed || best === null) return failedRun('Airshade', walls, outPath);
       return {
         tool: 'Airshade',
         ok: true,
@@ -349,17 +339,7 @@ function gdalRunner(n: number, demPath: string, haveTime: boolean): ToolRunner {
       return true;
     },
     result() {
-      if (failed || best === null) {
-        return {
-          tool: 'gdal_viewshed',
-          ok: false,
-          wallS: NaN,
-          allWallS: walls,
-          peakMiB: null,
-          outPath,
-          note: 'failed',
-        };
-      }
+      if (failed || best === null) return failedRun('gdal_viewshed', walls, outPath);
       return {
         tool: 'gdal_viewshed',
         ok: true,
@@ -370,6 +350,11 @@ function gdalRunner(n: number, demPath: string, haveTime: boolean): ToolRunner {
       };
     },
   };
+}
+
+/** A tool whose run failed: its runs so far, no best. */
+function failedRun(tool: string, walls: number[], outPath: string): ToolRun {
+  return { tool, ok: false, wallS: NaN, allWallS: walls, peakMiB: null, outPath, note: 'failed' };
 }
 
 /**
