@@ -78,7 +78,7 @@ export class RemotePool {
   /**
    * For one grid sweep (`computeGridFloor`): the calling thread works as one more lane beside the workers, so a
    * pool of n − 1 workers keeps n lanes busy with one worker thread less in memory (`airshade floor`). The octants
-   * handed in together (`computeGridFloor` hands in all eight at once, largest first) form one queue: every lane
+   * handed in together (`computeGridFloor` hands in all eight at once, longest first) form one queue: every lane
    * takes the next octant as soon as it is free, by an atomic counter in shared memory (`Atomics.add`), so no lane
    * waits for a message from another — this thread runs its octants back to back. A fixed share per lane, by cells,
    * had left one lane 0.05–0.35 s behind the other at 8192²: the column octants take longer than the row octants of
