@@ -1,8 +1,8 @@
 /**
  * The grid sweep's line kernel in AssemblyScript, compiled to WebAssembly with 128-bit SIMD (two cells at a time):
  * worker/core/grid-sweep.ts runs these functions on one octant's line buffers, which live in this module's memory.
- * Each function computes what its JavaScript twin in grid-sweep.ts (`jsLineOps`, `lineDistances`, `farLine`, `floorOf`) computes, with the same IEEE
- * operations in the same order, so the two give the same bits (test/line-kernel.test.ts); grid-sweep.ts holds the
+ * Each function computes what its JavaScript twin in grid-sweep.ts (`jsLineOps`, `lineDistances`, `farLine`,
+ * `floorOf`) computes, with the same IEEE operations in the same order, so the two give the same bits (test/line-kernel.test.ts); grid-sweep.ts holds the
  * method and its sources. Build: `npm run build:kernel` (writes worker/core/line-kernel-wasm.ts).
  *
  * All pointers are byte offsets into the imported memory; f64 arrays are 8-byte, f32 arrays 4-byte aligned.
@@ -139,38 +139,199 @@ export function distances(
   return mEnd + 1;
 }
 
-/** cos x by its series to x⁶, from x² (x < 0.25: relative error below 1e-8), as grid-sweep.ts computes it. */
-function cosSeries(x2: f64): f64 {
-  return 1 - x2 * (0.5 - x2 * (1.0 / 24 - x2 * (1.0 / 720)));
+/**
+ * cos x by its series to x⁶, from x² (x < 0.25: relative error below 1e-8), on two lanes, as grid-sweep.ts computes
+ * it; the coefficients come in as arguments (see farLine).
+ */
+// @ts-ignore: decorator
+@inline
+function cosSeries2(x2: v128, one: v128, half: v128, c24: v128, c720: v128): v128 {
+  return f64x2.sub(one, f64x2.mul(x2, f64x2.sub(half, f64x2.mul(x2, f64x2.sub(c24, f64x2.mul(x2, c720))))));
 }
 
-/** sin x by its series to x⁷, from x and x². */
-function sinSeries(x: f64, x2: f64): f64 {
-  return x * (1 - x2 * (1.0 / 6 - x2 * (1.0 / 120 - x2 * (1.0 / 5040))));
-}
-
-const NAN2 = f64x2.splat(NaN);
-const ONE2 = f64x2.splat(1);
-const HALF2 = f64x2.splat(0.5);
-const C24 = f64x2.splat(1.0 / 24);
-const C720 = f64x2.splat(1.0 / 720);
-const C6 = f64x2.splat(1.0 / 6);
-const C120 = f64x2.splat(1.0 / 120);
-const C5040 = f64x2.splat(1.0 / 5040);
-
-/** `cosSeries` on two lanes. */
-function cosSeries2(x2: v128): v128 {
-  return f64x2.sub(ONE2, f64x2.mul(x2, f64x2.sub(HALF2, f64x2.mul(x2, f64x2.sub(C24, f64x2.mul(x2, C720))))));
-}
-
-/** `sinSeries` on two lanes. */
-function sinSeries2(x: v128, x2: v128): v128 {
+/** sin x by its series to x⁷, from x and x², on two lanes. */
+// @ts-ignore: decorator
+@inline
+function sinSeries2(x: v128, x2: v128, one: v128, c6: v128, c120: v128, c5040: v128): v128 {
   return f64x2.mul(
     x,
-    f64x2.sub(ONE2, f64x2.mul(x2, f64x2.sub(C6, f64x2.mul(x2, f64x2.sub(C120, f64x2.mul(x2, C5040)))))),
+    f64x2.sub(one, f64x2.mul(x2, f64x2.sub(c6, f64x2.mul(x2, f64x2.sub(c120, f64x2.mul(x2, c5040)))))),
   );
 }
 
+/**
+ * One cell pair's work once the crossing's screening (tc) and terrain (zc) are known: the steeper of the two into T,
+ * the floor (floorOf) into h. The constants come in as arguments so that each is built once per line (see farLine).
+ */
+// @ts-ignore: decorator
+@inline
+function finishPair(
+  m: i32,
+  tc: v128,
+  zc: v128,
+  z: usize,
+  s: usize,
+  T: usize,
+  h: usize,
+  vShrink: v128,
+  vRe: v128,
+  vInvRe: v128,
+  vRha: v128,
+  vCap: v128,
+  eps: v128,
+  nan2: v128,
+  one: v128,
+  half: v128,
+  c24: v128,
+  c720: v128,
+  c6: v128,
+  c120: v128,
+  c5040: v128,
+): void {
+  const sm = v128.load(s + ((<usize>m) << 3));
+  const xg = f64x2.mul(sm, vInvRe);
+  const xc = f64x2.mul(xg, vShrink);
+  const x2 = f64x2.mul(xc, xc);
+  const cs = cosSeries2(x2, one, half, c24, c720);
+  const sn = sinSeries2(xc, x2, one, c6, c120, c5040);
+  const rz = f64x2.add(vRe, zc);
+  const num = f64x2.sub(f64x2.mul(rz, cs), vRha);
+  const den = f64x2.mul(rz, sn);
+  const rising = f64x2.gt(num, f64x2.mul(tc, den));
+  const known = v128.and(f64x2.eq(tc, tc), f64x2.eq(zc, zc));
+  const tan = v128.bitselect(v128.bitselect(f64x2.div(num, den), tc, rising), nan2, known);
+  v128.store(T + ((<usize>m) << 3), tan);
+  // The floor (floorOf).
+  const g = v128.load(z + ((<usize>m) << 3));
+  const xg2 = f64x2.mul(xg, xg);
+  const cg = cosSeries2(xg2, one, half, c24, c720);
+  const sg = sinSeries2(xg, xg2, one, c6, c120, c5040);
+  const fden = f64x2.sub(cg, f64x2.mul(tan, sg));
+  const u = f64x2.sub(f64x2.div(vRha, fden), vRe);
+  const capped = v128.bitselect(vCap, u, f64x2.gt(u, vCap));
+  const seen = f64x2.le(vRha, f64x2.mul(f64x2.add(vRe, g), fden));
+  const above = v128.bitselect(g, capped, seen);
+  const never = v128.bitselect(v128.bitselect(g, vCap, f64x2.gt(g, vCap)), nan2, f64x2.eq(fden, fden));
+  const v0 = v128.bitselect(above, never, f64x2.gt(fden, eps));
+  const v = v128.bitselect(v0, nan2, f64x2.eq(g, g));
+  v128.store64_lane(h + ((<usize>m) << 2), f32x4.demote_f64x2_zero(v), 0);
+}
+
+/**
+ * The monotone cubic on two lanes, as monotoneCubic computes it (the clamps as `a < b ? b : a` and `b < a ? b : a`,
+ * WebAssembly's pmax and pmin: one instruction each, where min and max also order −0 and +0 and pass NaN on).
+ */
+// @ts-ignore: decorator
+@inline
+function cubic2(
+  ym: v128,
+  y0: v128,
+  y1: v128,
+  y2: v128,
+  w: v128,
+  zero: v128,
+  half: v128,
+  two: v128,
+  three: v128,
+  one: v128,
+  nan2: v128,
+): v128 {
+  const d0 = f64x2.sub(y1, y0);
+  const d3 = f64x2.mul(three, d0);
+  const lo = f64x2.pmin(zero, d3);
+  const hi = f64x2.pmax(zero, d3);
+  const t0 = v128.bitselect(f64x2.mul(half, f64x2.sub(y1, ym)), d0, f64x2.eq(ym, ym));
+  const t1 = v128.bitselect(f64x2.mul(half, f64x2.sub(y2, y0)), d0, f64x2.eq(y2, y2));
+  const m0 = f64x2.pmin(f64x2.pmax(t0, lo), hi);
+  const m1 = f64x2.pmin(f64x2.pmax(t1, lo), hi);
+  const w2 = f64x2.mul(w, w);
+  const w3 = f64x2.mul(w2, w);
+  const cubic = f64x2.add(
+    f64x2.add(
+      f64x2.add(
+        f64x2.mul(f64x2.add(f64x2.sub(f64x2.mul(two, w3), f64x2.mul(three, w2)), one), y0),
+        f64x2.mul(f64x2.add(f64x2.sub(w3, f64x2.mul(two, w2)), w), m0),
+      ),
+      f64x2.mul(f64x2.sub(f64x2.mul(three, w2), f64x2.mul(two, w3)), y1),
+    ),
+    f64x2.mul(f64x2.sub(w3, w2), m1),
+  );
+  return v128.bitselect(nan2, cubic, f64x2.ne(d0, d0));
+}
+
+/**
+ * Cells m and m + 1 by the general path: each lane finds its crossing on line d − 1 (m·shrink) and its neighbours
+ * there, with the ends of that line (a crossing at or beyond its last cell) and exact hits (w = 0) tested per lane.
+ */
+// @ts-ignore: decorator
+@inline
+function generalPair(
+  m: i32,
+  tp: usize,
+  zp: usize,
+  T: usize,
+  z: usize,
+  s: usize,
+  h: usize,
+  vShrink: v128,
+  vLast: v128,
+  vRe: v128,
+  vInvRe: v128,
+  vRha: v128,
+  vCap: v128,
+  lane: v128,
+  zero: v128,
+  one: v128,
+  two: v128,
+  three: v128,
+  half: v128,
+  eps: v128,
+  nan2: v128,
+  c24: v128,
+  c720: v128,
+  c6: v128,
+  c120: v128,
+  c5040: v128,
+): void {
+  const mv = f64x2.add(f64x2.splat(<f64>m), lane);
+  const x = f64x2.mul(mv, vShrink);
+  const fi = i32x4.trunc_sat_f64x2_s_zero(x);
+  const fa = i32x4.extract_lane(fi, 0);
+  const fb = i32x4.extract_lane(fi, 1);
+  const fl = f64x2.convert_low_i32x4_s(fi);
+  const w = f64x2.sub(x, fl);
+  const pa = tp + ((<usize>fa) << 3);
+  const pb = tp + ((<usize>fb) << 3);
+  const qa = zp + ((<usize>fa) << 3);
+  const qb = zp + ((<usize>fb) << 3);
+  const A01 = v128.load(pa);
+  const B01 = v128.load(pb);
+  const y0 = f64x2.shuffle(A01, B01, 0, 2);
+  const y1 = f64x2.shuffle(A01, B01, 1, 3);
+  const ym0 = f64x2.shuffle(v128.load(pa - 8), v128.load(pb - 8), 0, 2);
+  const y20 = f64x2.shuffle(v128.load(pa, 16), v128.load(pb, 16), 0, 2);
+  const QA = v128.load(qa);
+  const QB = v128.load(qb);
+  const za = f64x2.shuffle(QA, QB, 0, 2);
+  const zb = f64x2.shuffle(QA, QB, 1, 3);
+  const w0 = f64x2.eq(w, zero);
+  const in0 = f64x2.le(fl, vLast);
+  const in1 = f64x2.le(f64x2.add(fl, one), vLast);
+  const ym = v128.bitselect(ym0, y0, f64x2.gt(fl, zero));
+  const y2 = v128.bitselect(y20, y1, f64x2.le(f64x2.add(fl, two), vLast));
+  const cubicN = cubic2(ym, y0, y1, y2, w, zero, half, two, three, one, nan2);
+  const interp = f64x2.add(za, f64x2.mul(f64x2.sub(zb, za), w));
+  const tc = v128.bitselect(v128.bitselect(y0, nan2, in0), v128.bitselect(cubicN, nan2, in1), w0);
+  const zc = v128.bitselect(v128.bitselect(za, nan2, in0), v128.bitselect(interp, nan2, in1), w0);
+  finishPair(m, tc, zc, z, s, T, h, vShrink, vRe, vInvRe, vRha, vCap, eps, nan2, one, half, c24, c720, c6, c120, c5040);
+}
+
+/**
+ * Line d's floors and screening (farLine in grid-sweep.ts), two cells at a time. For 1 ≤ m ≤ d − 1 the crossing
+ * m·(d − 1)/d = m − m/d lies strictly between cells m − 1 and m of line d − 1 (m/d is no whole number, and the
+ * rounding of m·shrink is far below 1/d), so the middle of the line reads its neighbours as straight runs; the ends
+ * (m = 0, 1, the cells beyond line d − 1 or at m = d) take the general path, each lane's crossing found on its own.
+ */
 export function farLine(
   tp: usize,
   zp: usize,
@@ -193,92 +354,58 @@ export function farLine(
   const vInvRe = f64x2.splat(invRe);
   const vRha = f64x2.splat(rha);
   const vCap = f64x2.splat(cap);
-  const zero = f64x2.splat(0);
-  const one = f64x2.splat(1);
-  const two = f64x2.splat(2);
-  const three = f64x2.splat(3);
-  const eps = f64x2.splat(1e-9);
+  // The constants, each made from an argument (cap − cap is 0 for the finite cap): the compilers then keep one
+  // copy per line instead of building the value again at every use in the loop (an exact value either way).
+  const o: f64 = cap - cap;
+  const zero = f64x2.splat(o);
+  const one = f64x2.splat(o + 1);
+  const two = f64x2.splat(o + 2);
+  const three = f64x2.splat(o + 3);
+  const half = f64x2.splat(o + 0.5);
+  const eps = f64x2.splat(o + 1e-9);
+  const nan2 = f64x2.splat(o + NaN);
+  const c24 = f64x2.splat(o + 1.0 / 24);
+  const c720 = f64x2.splat(o + 1.0 / 720);
+  const c6 = f64x2.splat(o + 1.0 / 6);
+  const c120 = f64x2.splat(o + 1.0 / 120);
+  const c5040 = f64x2.splat(o + 1.0 / 5040);
+  const lane = f64x2.replace_lane(zero, 1, o + 1);
+  // The straight runs: pairs m, m + 1 with 2 ≤ m and m + 1 ≤ min(len − 1, d − 1, last − 1) (the neighbour
+  // after each crossing, fl + 2, is on line d − 1 too).
+  const fastEnd = min<i32>(min<i32>(len - 1, d - 1), last - 1);
+  // The general path up to the straight runs (m = 0: cells 0 and 1), the runs, then the general path to the end.
   let m = 0;
-  // Two cells at a time; an odd line's last pair reads and writes one cell past its end (inside the buffers, and
-  // never read: the next line reads T up to len − 1, and h past len is overwritten or not written out).
   for (; m < len; m += 2) {
-    const mv = f64x2.add(f64x2.splat(<f64>m), f64x2(0, 1));
-    const x = f64x2.mul(mv, vShrink);
-    const fi = i32x4.trunc_sat_f64x2_s_zero(x);
-    const fa = i32x4.extract_lane(fi, 0);
-    const fb = i32x4.extract_lane(fi, 1);
-    const fl = f64x2.convert_low_i32x4_s(fi);
-    const w = f64x2.sub(x, fl);
-    const pa = tp + ((<usize>fa) << 3);
-    const pb = tp + ((<usize>fb) << 3);
-    const qa = zp + ((<usize>fa) << 3);
-    const qb = zp + ((<usize>fb) << 3);
-    const A01 = v128.load(pa);
-    const B01 = v128.load(pb);
-    const y0 = f64x2.shuffle(A01, B01, 0, 2);
-    const y1 = f64x2.shuffle(A01, B01, 1, 3);
-    const ym0 = f64x2.shuffle(v128.load(pa - 8), v128.load(pb - 8), 0, 2);
-    const y20 = f64x2.shuffle(v128.load(pa, 16), v128.load(pb, 16), 0, 2);
-    const QA = v128.load(qa);
-    const QB = v128.load(qb);
-    const za = f64x2.shuffle(QA, QB, 0, 2);
-    const zb = f64x2.shuffle(QA, QB, 1, 3);
-    const w0 = f64x2.eq(w, zero);
-    const in0 = f64x2.le(fl, vLast);
-    const in1 = f64x2.le(f64x2.add(fl, one), vLast);
-    const ym = v128.bitselect(ym0, y0, f64x2.gt(fl, zero));
-    const y2 = v128.bitselect(y20, y1, f64x2.le(f64x2.add(fl, two), vLast));
-    // The cubic, as monotoneCubic computes it.
-    const d0 = f64x2.sub(y1, y0);
-    const d3 = f64x2.mul(three, d0);
-    const lo = f64x2.min(zero, d3);
-    const hi = f64x2.max(zero, d3);
-    const t0 = v128.bitselect(f64x2.mul(HALF2, f64x2.sub(y1, ym)), d0, f64x2.eq(ym, ym));
-    const t1 = v128.bitselect(f64x2.mul(HALF2, f64x2.sub(y2, y0)), d0, f64x2.eq(y2, y2));
-    const m0 = f64x2.min(f64x2.max(t0, lo), hi);
-    const m1 = f64x2.min(f64x2.max(t1, lo), hi);
-    const w2 = f64x2.mul(w, w);
-    const w3 = f64x2.mul(w2, w);
-    const cubic = f64x2.add(
-      f64x2.add(
-        f64x2.add(
-          f64x2.mul(f64x2.add(f64x2.sub(f64x2.mul(two, w3), f64x2.mul(three, w2)), one), y0),
-          f64x2.mul(f64x2.add(f64x2.sub(w3, f64x2.mul(two, w2)), w), m0),
-        ),
-        f64x2.mul(f64x2.sub(f64x2.mul(three, w2), f64x2.mul(two, w3)), y1),
-      ),
-      f64x2.mul(f64x2.sub(w3, w2), m1),
+    if (m >= 2 && m + 1 <= fastEnd) break;
+    generalPair(
+      m, tp, zp, T, z, s, h, vShrink, vLast, vRe, vInvRe, vRha, vCap, lane, zero, one, two, three, half, eps, nan2, c24,
+      c720, c6, c120, c5040,
     );
-    const cubicN = v128.bitselect(NAN2, cubic, f64x2.ne(d0, d0));
-    const interp = f64x2.add(za, f64x2.mul(f64x2.sub(zb, za), w));
-    const tc = v128.bitselect(v128.bitselect(y0, NAN2, in0), v128.bitselect(cubicN, NAN2, in1), w0);
-    const zc = v128.bitselect(v128.bitselect(za, NAN2, in0), v128.bitselect(interp, NAN2, in1), w0);
-    const sm = v128.load(s + ((<usize>m) << 3));
-    const xg = f64x2.mul(sm, vInvRe);
-    const xc = f64x2.mul(xg, vShrink);
-    const x2 = f64x2.mul(xc, xc);
-    const cs = cosSeries2(x2);
-    const sn = sinSeries2(xc, x2);
-    const rz = f64x2.add(vRe, zc);
-    const num = f64x2.sub(f64x2.mul(rz, cs), vRha);
-    const den = f64x2.mul(rz, sn);
-    const rising = f64x2.gt(num, f64x2.mul(tc, den));
-    const known = v128.and(f64x2.eq(tc, tc), f64x2.eq(zc, zc));
-    const tan = v128.bitselect(v128.bitselect(f64x2.div(num, den), tc, rising), NAN2, known);
-    v128.store(T + ((<usize>m) << 3), tan);
-    // The floor (floorOf).
-    const g = v128.load(z + ((<usize>m) << 3));
-    const xg2 = f64x2.mul(xg, xg);
-    const cg = cosSeries2(xg2);
-    const sg = sinSeries2(xg, xg2);
-    const fden = f64x2.sub(cg, f64x2.mul(tan, sg));
-    const u = f64x2.sub(f64x2.div(vRha, fden), vRe);
-    const capped = v128.bitselect(vCap, u, f64x2.gt(u, vCap));
-    const seen = f64x2.le(vRha, f64x2.mul(f64x2.add(vRe, g), fden));
-    const above = v128.bitselect(g, capped, seen);
-    const never = v128.bitselect(v128.bitselect(g, vCap, f64x2.gt(g, vCap)), NAN2, f64x2.eq(fden, fden));
-    const v0 = v128.bitselect(above, never, f64x2.gt(fden, eps));
-    const v = v128.bitselect(v0, NAN2, f64x2.eq(g, g));
-    v128.store64_lane(h + ((<usize>m) << 2), f32x4.demote_f64x2_zero(v), 0);
+  }
+  for (; m + 1 <= fastEnd; m += 2) {
+    // fl = m − 1 on both lanes; w = x − fl as the general path computes it.
+    const mv = f64x2.add(f64x2.splat(<f64>m), lane);
+    const x = f64x2.mul(mv, vShrink);
+    const fl = f64x2.sub(mv, one);
+    const w = f64x2.sub(x, fl);
+    const pa = tp + ((<usize>(m - 1)) << 3);
+    const y0 = v128.load(pa);
+    const y1 = v128.load(pa, 8);
+    const ym = v128.load(pa - 8);
+    const y2 = v128.load(pa, 16);
+    const qa = zp + ((<usize>(m - 1)) << 3);
+    const za = v128.load(qa);
+    const zb = v128.load(qa, 8);
+    const tc = cubic2(ym, y0, y1, y2, w, zero, half, two, three, one, nan2);
+    const zc = f64x2.add(za, f64x2.mul(f64x2.sub(zb, za), w));
+    finishPair(
+      m, tc, zc, z, s, T, h, vShrink, vRe, vInvRe, vRha, vCap, eps, nan2, one, half, c24, c720, c6, c120, c5040,
+    );
+  }
+  for (; m < len; m += 2) {
+    generalPair(
+      m, tp, zp, T, z, s, h, vShrink, vLast, vRe, vInvRe, vRha, vCap, lane, zero, one, two, three, half, eps, nan2, c24,
+      c720, c6, c120, c5040,
+    );
   }
 }
