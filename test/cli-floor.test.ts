@@ -9,6 +9,7 @@ import { existsSync, mkdtempSync, readFileSync, rmSync, writeFileSync } from 'no
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { execFileSync, spawnSync } from 'node:child_process';
+import { createHash } from 'node:crypto';
 import { fromArrayBuffer } from 'geotiff';
 import { runCli } from './support/run-cli.ts';
 import { NodePool } from '../worker/runtime/node-pool.ts';
@@ -108,6 +109,44 @@ describe('airshade floor', () => {
     const inline = floorFile('0');
     expect(inline.equals(floorFile('2'))).toBe(true);
     expect(inline.equals(floorFile('1'))).toBe(true);
+  });
+
+  it('a DEM unchanged for seconds: its digest is taken on the worker while the floor is written; the same bytes', async () => {
+    // The read hands the digest on only for a file last changed 2.5 s or more before it is opened (files.ts).
+    const old = join(dir, 'settled.tif');
+    writeFileSync(old, readFileSync(dem));
+    await new Promise((r) => setTimeout(r, 2600));
+    const inline = join(dir, 'settled-inline.tif');
+    const r = await run(
+      'floor',
+      '--dem',
+      old,
+      '--site',
+      SITE,
+      '--mast-m',
+      '12',
+      '--out',
+      inline,
+      '--threads',
+      '0',
+      '--sweep',
+      'cells',
+    );
+    expect(r.code).toBe(0);
+    const bin = join(import.meta.dirname, '..', 'bin', 'airshade.mjs');
+    for (const threads of ['2', '1']) {
+      const out = join(dir, `settled-${threads}.tif`);
+      execFileSync(process.execPath, [
+        bin,
+        ...['floor', '--dem', old, '--site', SITE, '--mast-m', '12', '--out', out, '--threads', threads],
+        ...['--sweep', 'cells', '--quiet'],
+      ]);
+      // The provenance in the header names the DEM's SHA-256: the same header, the same floor.
+      expect(readFileSync(out).equals(readFileSync(inline))).toBe(true);
+    }
+    expect(readFileSync(inline).includes(createHash('sha256').update(readFileSync(old)).digest('hex'))).toBe(
+      true,
+    );
   });
 
   it('--help prints the usage and exits 0', async () => {

@@ -15,7 +15,15 @@ import { Terrain, type PendingTile } from '../worker/core/terrain.ts';
 import { decodeDemTileInto, fillVoids, openDemTile, readDemTile } from '../worker/io/geotiff-read.ts';
 import { encodeGeoTiff, encodeGeoTiffParts } from '../worker/io/geotiff-write.ts';
 import { readTerrainWithin } from '../worker/cli/dem-open.ts';
-import { digestOfRead, writeFileAtomic, writeFileAtomicStreamed } from '../worker/cli/files.ts';
+import {
+  digestOfRead,
+  openFileChecked,
+  settleDeferredDigests,
+  writeFileAtomic,
+  writeFileAtomicStreamed,
+} from '../worker/cli/files.ts';
+import { digestFile } from '../worker/cli/file-digest.ts';
+import { InputError } from '../shared/errors.ts';
 import { bumpyDem } from './support/bumps.ts';
 import {
   CHILD_MARK,
@@ -284,6 +292,105 @@ describe('outputs as header + buffer; inputs hashed from the bytes read', () => 
     const { terrain } = await readTerrainWithin([path], 2 ** 30);
     expect(digestOfRead(path)).toBe(createHash('sha256').update(new Uint8Array(bytes)).digest('hex'));
     expect(Array.from(terrain.data)).toEqual(values);
+  });
+});
+
+describe('the digest handed on: taken apart from the read, trusted only for the same, unchanged file', () => {
+  const sha = (b: Uint8Array | Buffer) => createHash('sha256').update(b).digest('hex');
+
+  /** A file of `n` bytes, opened and read through once with its digest handed on (min age 0), then closed. */
+  const readDeferred = (name: string, n: number, seed = 1): { path: string; bytes: Buffer } => {
+    const path = join(dir, name);
+    const bytes = Buffer.from(Array.from({ length: n }, (_, i) => (i * 31 + seed) & 255));
+    writeFileSync(path, bytes);
+    const f = openFileChecked(path, 'a test tile');
+    expect(f.deferDigest(0)).toBe(true);
+    const into = new Uint8Array(1000);
+    for (let at = 0; at < n; at += into.length) f.read(at, into);
+    f.close(true);
+    return { path, bytes };
+  };
+
+  it('a digest from elsewhere (here: digestFile, as the worker runs it) is recorded for the provenance', async () => {
+    const { path, bytes } = readDeferred('deferred.bin', 12_345);
+    expect(digestOfRead(path)).toBeUndefined(); // nothing hashed while reading
+    await settleDeferredDigests([path], async (p) => digestFile(p));
+    expect(digestOfRead(path)).toBe(sha(bytes));
+  });
+
+  it('no digest from elsewhere: this thread reads the file again', async () => {
+    const { path, bytes } = readDeferred('deferred-here.bin', 9_001, 2);
+    await settleDeferredDigests([path], async () => null);
+    expect(digestOfRead(path)).toBe(sha(bytes));
+    // A failed digest elsewhere counts as none.
+    const again = readDeferred('deferred-failed.bin', 700, 3);
+    await settleDeferredDigests([again.path], () => Promise.reject(new Error('worker gone')));
+    expect(digestOfRead(again.path)).toBe(sha(again.bytes));
+  });
+
+  it('a file changed after it was read is refused, naming it, and no digest is recorded', async () => {
+    const { path } = readDeferred('deferred-changed.bin', 5_000, 4);
+    // Rewritten with other bytes of the same length: the change time moves (2 ms: past a coarse clock's tick).
+    await new Promise((r) => setTimeout(r, 20));
+    writeFileSync(path, Buffer.alloc(5_000, 7));
+    const settled = settleDeferredDigests([path], async (p) => digestFile(p));
+    await expect(settled).rejects.toBeInstanceOf(InputError);
+    await expect(settleDeferredDigests([path], async (p) => digestFile(p))).rejects.toThrow(
+      /changed while this run used it/,
+    );
+    expect(digestOfRead(path)).toBeUndefined();
+  });
+
+  it('a file changed just before it was opened keeps its digest here; other paths are left alone', async () => {
+    const path = join(dir, 'fresh.bin');
+    const bytes = Buffer.from('fresh bytes, written a moment ago');
+    writeFileSync(path, bytes);
+    const f = openFileChecked(path, 'a test tile');
+    expect(f.canDeferDigest()).toBe(false); // default: changed less than 2.5 s ago
+    expect(f.deferDigest()).toBe(false);
+    f.read(0, new Uint8Array(bytes.length));
+    f.close(true);
+    expect(digestOfRead(path)).toBe(sha(bytes));
+    const other = readDeferred('deferred-other.bin', 100, 5);
+    await settleDeferredDigests([path], async () => {
+      throw new Error('not asked: nothing of this path was handed on');
+    });
+    expect(digestOfRead(other.path)).toBeUndefined();
+  });
+
+  it('writeFileAtomicStreamed with a head made last: the same file; a head that fails leaves nothing', async () => {
+    const geo = geographic(64, 50, -25, -41, 1 / 240);
+    const data = bumpyDem(12, geo.width, geo.height);
+    const [header, pixels] = encodeGeoTiffParts({ geo, data, nodata: NaN });
+    const sub = join(dir, 'head-last');
+    const path = join(sub, 'floor.tif');
+    let madeAfter = -1;
+    await writeFileAtomicStreamed(path, [pixels], 'floor.tif', 1000, {
+      bytes: header.byteLength,
+      make: async () => {
+        madeAfter = readdirSync(sub).length; // the temporary file is there, the output not yet
+        return header;
+      },
+    });
+    expect(madeAfter).toBe(1);
+    expect(Buffer.compare(readFileSync(path), Buffer.concat([header, pixels]))).toBe(0);
+    // An InputError from the head comes out as it is; a head of the wrong length is an error too; neither leaves
+    // a file behind nor touches the output already there.
+    const refused = new InputError('dem.tif', 'a file that changed', 'an unchanged DEM');
+    await expect(
+      writeFileAtomicStreamed(path, [pixels], 'floor.tif', 1000, {
+        bytes: header.byteLength,
+        make: () => Promise.reject(refused),
+      }),
+    ).rejects.toBe(refused);
+    await expect(
+      writeFileAtomicStreamed(path, [pixels], 'floor.tif', 1000, {
+        bytes: header.byteLength,
+        make: async () => header.subarray(1),
+      }),
+    ).rejects.toThrow(/floor.tif/);
+    expect(readdirSync(sub)).toEqual(['floor.tif']);
+    expect(Buffer.compare(readFileSync(path), Buffer.concat([header, pixels]))).toBe(0);
   });
 });
 

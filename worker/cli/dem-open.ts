@@ -18,6 +18,11 @@ export interface OpenedTiles {
   tiles: PendingTile[];
   /** The largest tile's shape (for `estimateRun`). */
   largest: TileShape | undefined;
+  /**
+   * Hands every file's SHA-256 to another reader (files.ts `deferDigest`, settled by `settleDeferredDigests`):
+   * true if all of them were handed on; false changes nothing (each file is hashed as it is read).
+   */
+  deferDigests(): boolean;
 }
 
 /**
@@ -49,7 +54,10 @@ export async function withTilesWithin<T>(
       if (shape && (!largest || shape.width * shape.height > largest.width * largest.height)) largest = shape;
       tiles.push(pending(opened));
     }
-    const result = await use({ tiles, largest });
+    // All or none: each file is asked first.
+    const deferDigests = (): boolean =>
+      files.every((f) => f.canDeferDigest()) && files.every((f) => f.deferDigest());
+    const result = await use({ tiles, largest, deferDigests });
     ok = true;
     return result;
   } finally {

@@ -28,6 +28,13 @@ import { CAUTION } from '../../shared/caution.ts';
 import { InputError } from '../../shared/errors.ts';
 import { readDemTile, type TileBytes } from '../io/geotiff-read.ts';
 import type { DemTile } from '../core/terrain.ts';
+import {
+  digestFile,
+  identityOfFd,
+  sameIdentity,
+  type ChunkedDigest,
+  type FileIdentity,
+} from './file-digest.ts';
 
 const fdatasyncAsync = promisify(fdatasync);
 
@@ -73,6 +80,65 @@ export function readFileChecked(path: string, what: string): ArrayBuffer {
 export interface CheckedFile extends TileBytes {
   /** Closes the file; with `finishHash` (the default) first reads what the hash still lacks and records it. */
   close(finishHash?: boolean): void;
+  /**
+   * Hands this file's SHA-256 to another reader (`settleDeferredDigests`): the reads from now on are not hashed,
+   * and closing records the file's identity instead of a digest. Refused (false: hashing goes on here) when the
+   * file changed less than `minAgeMs` (default DEFER_MIN_AGE_MS) before it was opened, or is closed already.
+   */
+  deferDigest(minAgeMs?: number): boolean;
+  /** Whether `deferDigest` would hand the digest on (nothing changes). */
+  canDeferDigest(minAgeMs?: number): boolean;
+}
+
+/**
+ * How long before its opening a file must have last changed for its digest to be taken apart from the read
+ * (`deferDigest`): a change after the opening then moves its change time past the one recorded at the opening,
+ * even where file times are coarse (ext4 and most file systems keep the kernel's tick of a few milliseconds;
+ * 2 s covers FAT's two-second modification times).
+ */
+const DEFER_MIN_AGE_MS = 2500;
+
+/** Files whose digest was handed on (`deferDigest`), by absolute path: their identity at opening and closing. */
+const deferredDigests = new Map<string, { opened: FileIdentity; closed: FileIdentity; what: string }>();
+
+/**
+ * Takes the SHA-256 of each of `paths` whose digest was handed on (`deferDigest`; the others are left as they
+ * are) and records it for `digestOfRead`:
+ * `digestOf` gives a digest taken elsewhere (a worker thread reading the file while this one writes), or null, and
+ * then this thread reads the file again itself. Either way the digest stands for the bytes the computation read
+ * only if the file is the same one, unchanged, from this process's opening to the digest's last read (device,
+ * inode, size, modification and change times; see DEFER_MIN_AGE_MS); otherwise the file is refused, naming it.
+ */
+export async function settleDeferredDigests(
+  paths: readonly string[],
+  digestOf: (path: string) => Promise<ChunkedDigest | null>,
+): Promise<void> {
+  for (const path of paths.map((p) => resolve(p))) {
+    const handed = deferredDigests.get(path);
+    if (handed === undefined) continue;
+    const { opened, closed, what } = handed;
+    let d = await digestOf(path).catch(() => null);
+    if (d === null) {
+      try {
+        d = digestFile(path);
+      } catch (e) {
+        throw new InputError(
+          path,
+          `a file that cannot be read again for its digest (${(e as NodeJS.ErrnoException).code ?? 'error'})`,
+          what,
+        );
+      }
+    }
+    if (![closed, d.before, d.after].every((id) => sameIdentity(opened, id))) {
+      throw new InputError(
+        path,
+        'a file that changed while this run used it (its size, times or inode differ from when it was opened)',
+        `${what}, left unchanged until the output is written`,
+      );
+    }
+    readDigests.set(path, d.sha256);
+    deferredDigests.delete(path);
+  }
 }
 
 export function openFileChecked(path: string, what: string): CheckedFile {
@@ -96,9 +162,12 @@ export function openFileChecked(path: string, what: string): CheckedFile {
     throw cannot(e);
   }
   const byteLength = fstatSync(fd).size;
+  const openedAt = Date.now();
+  const opened = identityOfFd(fd);
   const hash = createHash('sha256');
   let hashed = 0;
   let open = true;
+  let deferred = false;
   const read = (offset: number, into: Uint8Array): number => {
     const want = Math.max(0, Math.min(into.length, byteLength - offset));
     let got = 0;
@@ -112,7 +181,7 @@ export function openFileChecked(path: string, what: string): CheckedFile {
       throw cannot(e);
     }
     // The part of this read that extends the hashed prefix [0, hashed).
-    if (offset <= hashed && offset + got > hashed) {
+    if (!deferred && offset <= hashed && offset + got > hashed) {
       hash.update(into.subarray(hashed - offset, got));
       hashed = offset + got;
     }
@@ -122,10 +191,22 @@ export function openFileChecked(path: string, what: string): CheckedFile {
     byteLength,
     sequential: true,
     read,
+    canDeferDigest(minAgeMs = DEFER_MIN_AGE_MS): boolean {
+      return open && Number(BigInt(opened.ctimeNs) / 1_000_000n) <= openedAt - minAgeMs;
+    },
+    deferDigest(minAgeMs = DEFER_MIN_AGE_MS): boolean {
+      if (!this.canDeferDigest(minAgeMs)) return false;
+      deferred = true;
+      return true;
+    },
     close(finishHash = true): void {
       if (!open) return;
       try {
         if (!finishHash) return;
+        if (deferred) {
+          deferredDigests.set(resolve(path), { opened, closed: identityOfFd(fd), what });
+          return;
+        }
         const rest = new Uint8Array(Math.min(WRITE_CHUNK_BYTES, Math.max(1, byteLength - hashed)));
         while (hashed < byteLength) {
           if (read(hashed, rest.subarray(0, Math.min(rest.length, byteLength - hashed))) === 0) break;
@@ -201,6 +282,12 @@ export async function writeFileAtomicStreamed(
   what = path,
   /** Bytes between flushes (tests take a few). */
   syncEvery = STREAM_SYNC_BYTES,
+  /**
+   * A head made last: `data` goes in after its `bytes` bytes, and `make` (awaited once the rest is written) gives
+   * exactly that many, written at the start — a header that waits for a digest taken meanwhile. An InputError from
+   * `make` comes out as it is (the temporary file removed), not as a path that cannot be written.
+   */
+  headLast?: { bytes: number; make: () => Promise<Uint8Array> },
 ): Promise<void> {
   const { dir, tmp } = tempBeside(path);
   let pending: Promise<void> | null = null;
@@ -209,11 +296,13 @@ export async function writeFileAtomicStreamed(
     const fd = openSync(tmp, 'w');
     try {
       let unsynced = 0;
+      let position = headLast?.bytes ?? 0;
       for (const bytes of partsOf(data)) {
         let at = 0;
         while (at < bytes.byteLength) {
-          const n = writeSync(fd, bytes, at, Math.min(bytes.byteLength - at, syncEvery - unsynced));
+          const n = writeSync(fd, bytes, at, Math.min(bytes.byteLength - at, syncEvery - unsynced), position);
           at += n;
+          position += n;
           unsynced += n;
           if (unsynced >= syncEvery) {
             await pending;
@@ -221,6 +310,15 @@ export async function writeFileAtomicStreamed(
             unsynced = 0;
           }
         }
+      }
+      if (headLast !== undefined) {
+        const head = await headLast.make();
+        if (head.byteLength !== headLast.bytes) {
+          throw new Error(
+            `writeFileAtomicStreamed: a head of ${head.byteLength} bytes for ${headLast.bytes}`,
+          );
+        }
+        for (let at = 0; at < head.byteLength;) at += writeSync(fd, head, at, head.byteLength - at, at);
       }
       await pending;
       pending = null;
@@ -232,6 +330,10 @@ export async function writeFileAtomicStreamed(
     }
     renameSync(tmp, path);
   } catch (e) {
+    if (e instanceof InputError) {
+      rmSync(tmp, { force: true });
+      throw e;
+    }
     throw cannotWrite(tmp, what, e);
   }
   syncFolder(dir);
@@ -313,13 +415,16 @@ export function writeOutputFile(
   return removeStaleTemps(path);
 }
 
-/** `writeOutputFile` for a large output, flushed as it is written (`writeFileAtomicStreamed`). */
+/**
+ * `writeOutputFile` for a large output, flushed as it is written (`writeFileAtomicStreamed`, with its `headLast`).
+ */
 export async function writeLargeOutputFile(
   path: string,
   data: ArrayBuffer | string | readonly Uint8Array[],
   what = path,
+  headLast?: { bytes: number; make: () => Promise<Uint8Array> },
 ): Promise<string[]> {
-  await writeFileAtomicStreamed(path, data, what);
+  await writeFileAtomicStreamed(path, data, what, STREAM_SYNC_BYTES, headLast);
   return removeStaleTemps(path);
 }
 

@@ -17,7 +17,7 @@ import { encodeGeoTiffParts, geoTiffCrsProblem } from '../io/geotiff-write.ts';
 import { undated } from '../io/provenance.ts';
 import { NodePool } from '../runtime/node-pool.ts';
 import { lonLatArg, numberArg, one, parseArgs, required, threadsArg } from './args.ts';
-import { writeLargeOutputFile } from './files.ts';
+import { settleDeferredDigests, writeLargeOutputFile } from './files.ts';
 import { checkOutput } from './out-check.ts';
 import { checkEstimate, estimateRun, MEMORY_OPTION, memoryHelp, memoryLimitArg } from './budget-check.ts';
 import { readTerrainWithin } from './dem-open.ts';
@@ -160,7 +160,8 @@ export async function floorCommand(argv: readonly string[], log: (s: string) => 
       shared: threads > 0,
       // One tile is the whole mosaic: its header alone gives the memory estimate, so a run too large is refused
       // before its pixels are decoded (with more tiles the mosaic's extent is known once it is planned: after).
-      beforeDecode: ({ tiles, largest }) => {
+      beforeDecode: (opened) => {
+        const { tiles, largest } = opened;
         if (tiles.length !== 1) return;
         const g = tiles[0].geo;
         const { px, sitePixel } = siteOnGrid(g, site);
@@ -182,6 +183,9 @@ export async function floorCommand(argv: readonly string[], log: (s: string) => 
           const { workers } = lanes(method, g.width * g.height);
           if (workers > 0) {
             booted = NodePool.boot(workers);
+            // The DEM's SHA-256 (for the provenance) is taken on a worker while this thread writes the floor, not
+            // here as the pixels come in (about 0.17 s at 8192²): the read hands it on (files.ts `deferDigest`).
+            opened.deferDigests();
             // The sweep over the cells needs the antenna's vector map (its geodesics: about 0.18 s at 8192², cold
             // code). A worker builds it from the header while this thread reads the pixels; a closed pool or a
             // failure gives null, and the sweep builds it itself.
@@ -267,21 +271,51 @@ export async function floorCommand(argv: readonly string[], log: (s: string) => 
               onProgress: progress.update,
             }),
           };
-  } finally {
+  } catch (e) {
     await pool?.close();
+    throw e;
   }
+  // The DEM's digest, if its read handed it on: the first worker (idle now) reads the file again while this thread
+  // writes the floor; settleDeferredDigests checks that it is the same file, unchanged (or reads it here when no
+  // worker can). The workers close once it is in.
+  const digestPool = pool;
+  const digested = settleDeferredDigests(dems, (path) =>
+    digestPool !== null ? digestPool.fileDigest(path) : Promise.resolve(null),
+  );
+  const closed = digested.catch(() => {}).then(() => digestPool?.close());
   progress.update(1, 'writing');
   const tComputed = performance.now();
   // No date in the raster: the same inputs give the same bytes (the file's time says when).
-  const provenance = undated(
-    floorProvenance(p, SPEC, dems, { antenna: { lon: site.lon, lat: site.lat, mastM }, kFactor, maxRangeKm }),
-  );
-  // Header + the floor's own buffer, written one after the other (no copy of the raster) and flushed to the disk
-  // as they go in.
-  await writeLargeOutputFile(
-    outPath,
-    encodeGeoTiffParts({ geo: outGeo, data: result.r.floor, nodata: NaN, description: CAUTION, provenance }),
-  );
+  const encode = (digest?: (file: string) => string): [Uint8Array, Uint8Array] =>
+    encodeGeoTiffParts({
+      geo: outGeo,
+      data: result.r.floor,
+      nodata: NaN,
+      description: CAUTION,
+      provenance: undated(
+        floorProvenance(
+          p,
+          SPEC,
+          dems,
+          { antenna: { lon: site.lon, lat: site.lat, mastM }, kFactor, maxRangeKm },
+          digest,
+        ),
+      ),
+    });
+  // The floor's own buffer (no copy of the raster), flushed to the disk as it goes in, then the header, which
+  // waits for the digest: its length is the same with any digest (64 hex digits), so a stand-in sizes it.
+  const [standIn, pixels] = encode(() => '0'.repeat(64));
+  try {
+    await writeLargeOutputFile(outPath, [pixels], outPath, {
+      bytes: standIn.byteLength,
+      make: async () => {
+        await digested;
+        return encode()[0];
+      },
+    });
+  } finally {
+    await closed;
+  }
   const tWritten = performance.now();
   progress.done();
   const s = result.r.stats;

@@ -232,7 +232,7 @@ export async function initCommand(argv: readonly string[], log: (s: string) => v
     options: commandOptions(p, SPEC, ['dem', 'force']),
     sensorTypes: readDigest(typesPath ?? DEFAULT_CATALOG),
     sites: readDigest(sitesPath),
-    terrain: dems.map(readDigest),
+    terrain: dems.map((d) => readDigest(d)),
     kFactor: study.scenario.earth.kFactor,
   };
   writeOutputFile(out, JSON.stringify({ ...study.doc, provenance }, null, 2) + '\n', `--out ${out}`);

@@ -38,9 +38,12 @@ export function commandOptions(
 }
 
 /** A file the command read, with the SHA-256 of the bytes it read (an internal error if it read none). */
-export function readDigest(path: string): FileDigest {
+export function readDigest(
+  path: string,
+  digest: (file: string) => string | undefined = digestOfRead,
+): FileDigest {
   const file = resolve(path);
-  const sha256 = digestOfRead(file);
+  const sha256 = digest(file);
   if (sha256 === undefined) throw new Error(`provenance: ${file} was not read through files.ts`);
   return { file, sha256 };
 }
@@ -133,7 +136,7 @@ export function scenarioProvenance(
     scenario: d.scenario,
     ...(d.sensorTypes ? { sensorTypes: d.sensorTypes } : {}),
     ...(d.sites ? { sites: d.sites } : {}),
-    terrain: loaded.terrainPaths.map(readDigest),
+    terrain: loaded.terrainPaths.map((t) => readDigest(t)),
     kFactor: c.kFactor,
     target: c.target,
     day: c.day,
@@ -148,10 +151,12 @@ export function floorProvenance(
   spec: Record<string, OptionSpec>,
   dems: readonly string[],
   run: { antenna: { lon: number; lat: number; mastM: number }; kFactor: number; maxRangeKm?: number },
+  /** The DEMs' digests (default: as read, `digestOfRead`; a stand-in sizes a header before they are known). */
+  digest?: (file: string) => string | undefined,
 ): Provenance {
   return {
     ...head('floor', commandOptions(p, spec, ['dem'])),
-    terrain: dems.map(readDigest),
+    terrain: dems.map((d) => readDigest(d, digest)),
     kFactor: run.kFactor,
     antenna: run.antenna,
     ...(run.maxRangeKm !== undefined ? { maxRangeKm: run.maxRangeKm } : {}),

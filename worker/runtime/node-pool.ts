@@ -8,7 +8,8 @@ import { fileURLToPath } from 'node:url';
 import { Worker } from 'node:worker_threads';
 import { wrap, type Remote } from 'comlink';
 import nodeEndpoint from 'comlink/dist/esm/node-adapter.mjs';
-import type { WorkerApi } from './api.ts';
+import type { NodeWorkerApi } from './node.ts';
+import type { ChunkedDigest } from '../cli/file-digest.ts';
 import type { Executor } from '../core/floor.ts';
 import type { TerrainParts } from '../core/terrain.ts';
 import type { GridAntenna } from '../core/geodesy.ts';
@@ -30,7 +31,7 @@ export class NodePool {
 
   private constructor(
     private readonly workers: Worker[],
-    private readonly remotes: Remote<WorkerApi>[],
+    private readonly remotes: Remote<NodeWorkerApi>[],
   ) {
     this.pool = new RemotePool(remotes);
   }
@@ -61,7 +62,7 @@ export class NodePool {
     running += size;
     return new NodePool(
       workers,
-      workers.map((w) => wrap<WorkerApi>(nodeEndpoint(w))),
+      workers.map((w) => wrap<NodeWorkerApi>(nodeEndpoint(w))),
     );
   }
 
@@ -74,13 +75,18 @@ export class NodePool {
     return this.remotes[0].gridAntenna(geo, lon, lat);
   }
 
+  /** A file's SHA-256 read on the first worker (file-digest.ts `digestFile`), e.g. while this thread writes. */
+  fileDigest(path: string): Promise<ChunkedDigest> {
+    return this.remotes[0].fileDigest(path);
+  }
+
   /** Installs the terrain in every worker (shared memory: one copy for all). */
   async install(terrain: TerrainParts): Promise<void> {
     await Promise.all(this.remotes.map((r) => r.setTerrain(terrain)));
   }
 
   /** Runs `jobs` on the workers, one at a time on each, in order of the list; the results in the same order. */
-  async each<T>(jobs: readonly ((worker: Remote<WorkerApi>) => Promise<T>)[]): Promise<T[]> {
+  async each<T>(jobs: readonly ((worker: Remote<NodeWorkerApi>) => Promise<T>)[]): Promise<T[]> {
     const results = new Array<T>(jobs.length);
     let next = 0;
     await Promise.all(
