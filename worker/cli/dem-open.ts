@@ -2,7 +2,8 @@
  * DEM tiles for the fused read (issue 12): every tile's file is opened and its header read and checked first
  * (file size and dimensions against `--max-memory`, CRS, block table); the pixels are decoded later, straight
  * into the terrain mosaic's one buffer (`Terrain.fromPendingTiles`), reading each file front to back once — its
- * SHA-256 is taken from those very bytes (files.ts `openFileChecked`, `digestOfRead`).
+ * SHA-256 is taken from those very bytes (files.ts `openFileChecked`, `digestOfRead`), unless the caller hands it
+ * on (`deferDigests`: the floor has its worker hash the file while the floor is written).
  */
 import { InputError } from '../../shared/errors.ts';
 import { tileFileRefusal, type TileShape } from '../core/memory-estimate.ts';

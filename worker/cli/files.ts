@@ -1,6 +1,8 @@
 /**
  * File access for the CLI: reading DEM tiles and writing outputs, with messages that name the file. Every file read
- * here is hashed (SHA-256) from the very bytes read, for the outputs' provenance (`digestOfRead`).
+ * here is hashed (SHA-256) for the outputs' provenance (`digestOfRead`): from the very bytes read, or — where a
+ * read hands its digest on (`deferDigest`, the floor's DEM) — by another read of the same, unchanged file
+ * (`settleDeferredDigests`).
  */
 import { createHash, randomBytes } from 'node:crypto';
 import {
