@@ -4,8 +4,8 @@
  * and one test per bad input: each ends with one message naming the file or argument, what was found and what
  * was expected, and a non-zero exit status, without a stack trace.
  */
-import { afterAll, beforeAll, describe, expect, it } from 'vitest';
-import { existsSync, mkdtempSync, readFileSync, rmSync, writeFileSync } from 'node:fs';
+import { afterAll, beforeAll, describe, expect, it, vi } from 'vitest';
+import { existsSync, mkdtempSync, readFileSync, rmSync, truncateSync, writeFileSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { execFileSync, spawnSync } from 'node:child_process';
@@ -13,6 +13,7 @@ import { createHash } from 'node:crypto';
 import { fromArrayBuffer } from 'geotiff';
 import { runCli } from './support/run-cli.ts';
 import { NodePool } from '../worker/runtime/node-pool.ts';
+import { bootFloorWorkersEarly, closeEarlyWorkers, takeEarlyWorkers } from '../worker/cli/floor-early.ts';
 import { encodeGeoTiff } from '../worker/io/geotiff-write.ts';
 import { WGS84_GEOGRAPHIC, type GridGeo } from '../worker/core/grid.ts';
 import { corruptIfdOffset, encodeTiff, truncate } from './support/tiff-encoder.ts';
@@ -203,6 +204,38 @@ describe('airshade floor', () => {
     expect(r.err).toMatch(/--max-work-min/);
     expect(existsSync(join(dir, 'refused.tif'))).toBe(false);
     expect(NodePool.running).toBe(0); // left running, they would hold the process open
+  });
+
+  it('workers start early for a large DEM; taken when the floor wants as many, else closed; none left after', async () => {
+    // A sparse file of 64 MiB: large enough to start them, and no GeoTIFF (the floor refuses it after they start).
+    const big = join(dir, 'large.tif');
+    writeFileSync(big, '');
+    truncateSync(big, 64 * 1024 * 1024);
+    const want = NodePool.defaultSize() - 1;
+    const args = ['--dem', big, '--site', SITE, '--mast-m', '20', '--out', join(dir, 'x.tif')];
+    bootFloorWorkersEarly(args);
+    expect(NodePool.running).toBe(want);
+    const taken = takeEarlyWorkers(want);
+    expect(taken?.size ?? 0).toBe(want);
+    await taken?.close();
+    bootFloorWorkersEarly(args);
+    expect(takeEarlyWorkers(want + 1)).toBeNull(); // not as many: closed
+    await closeEarlyWorkers();
+    await vi.waitFor(() => expect(NodePool.running).toBe(0));
+    // Not the plain case: none start.
+    const small = [...args];
+    small[1] = dem;
+    for (const a of [small, [...args, '--threads', '2'], [...args, '--sweep=radials'], [...args, '--help']]) {
+      bootFloorWorkersEarly(a);
+      expect(NodePool.running).toBe(0);
+    }
+    bootFloorWorkersEarly([...args, '--dem', dem]);
+    expect(NodePool.running).toBe(0);
+    // Through the command: refused (no GeoTIFF), one message, and the early workers closed with it.
+    const r = await run('floor', ...args);
+    expect(r.code).toBe(2);
+    expect(r.err).toMatch(/large\.tif/);
+    expect(NodePool.running).toBe(0);
   });
 
   it('a bad input in a real process prints one line and no stack trace', () => {

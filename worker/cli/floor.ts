@@ -21,6 +21,7 @@ import { settleDeferredDigests, writeLargeOutputFile } from './files.ts';
 import { checkOutput } from './out-check.ts';
 import { checkEstimate, estimateRun, MEMORY_OPTION, memoryHelp, memoryLimitArg } from './budget-check.ts';
 import { readTerrainWithin } from './dem-open.ts';
+import { takeEarlyWorkers } from './floor-early.ts';
 import { ProgressLine } from './progress.ts';
 import { floorProvenance } from './provenance.ts';
 import { checkWork, estimateWork, WORK_OPTION, workHelp, workLimitArg } from './work-check.ts';
@@ -182,7 +183,7 @@ export async function floorCommand(argv: readonly string[], log: (s: string) => 
           });
           const { workers } = lanes(method, g.width * g.height);
           if (workers > 0) {
-            booted = NodePool.boot(workers);
+            booted = takeEarlyWorkers(workers) ?? NodePool.boot(workers);
             // The DEM's SHA-256 (for the provenance) is taken on a worker while this thread writes the floor, not
             // here as the pixels come in (about 0.17 s at 8192²): the read hands it on (files.ts `deferDigest`).
             opened.deferDigests();

@@ -56,6 +56,9 @@ export async function main(argv: readonly string[]): Promise<number> {
     );
     return 2;
   }
+  // The floor's workers start while its modules load (floor-early.ts); closed at the end if it never took them.
+  const early = name === 'floor' ? await import('./floor-early.ts') : null;
+  early?.bootFloorWorkersEarly(rest);
   try {
     return await (
       await load()
@@ -76,5 +79,7 @@ export async function main(argv: readonly string[]): Promise<number> {
       debug ? `${err?.stack}\n` : '(run again with --debug for the stack trace, and please report it)\n',
     );
     return 70;
+  } finally {
+    await early?.closeEarlyWorkers();
   }
 }
