@@ -17,6 +17,7 @@ import { encodeGeoTiff, encodeGeoTiffParts } from '../worker/io/geotiff-write.ts
 import { readTerrainWithin } from '../worker/cli/dem-open.ts';
 import {
   digestOfRead,
+  localFileSystem,
   openFileChecked,
   settleDeferredDigests,
   writeFileAtomic,
@@ -356,6 +357,12 @@ describe('the digest handed on: taken apart from the read, trusted only for the 
       throw new Error('not asked: nothing of this path was handed on');
     });
     expect(digestOfRead(other.path)).toBeUndefined();
+  });
+
+  it('only on a local file system (Linux statfs types): not over a network one', () => {
+    expect([0xef53, 0x58465342, 0x01021994, 0x794c7630].every((t) => localFileSystem(t))).toBe(true);
+    // NFS, SMB/CIFS, FUSE (sshfs and the like), 9p
+    expect([0x6969, 0xfe534d42, 0x65735546, 0x01021997].some((t) => localFileSystem(t))).toBe(false);
   });
 
   it('writeFileAtomicStreamed with a head made last: the same file; a head that fails leaves nothing', async () => {

@@ -21,6 +21,7 @@ import {
   readSync,
   renameSync,
   rmSync,
+  statfsSync,
   statSync,
   writeSync,
 } from 'node:fs';
@@ -85,7 +86,8 @@ export interface CheckedFile extends TileBytes {
   /**
    * Hands this file's SHA-256 to another reader (`settleDeferredDigests`): the reads from now on are not hashed,
    * and closing records the file's identity instead of a digest. Refused (false: hashing goes on here) when the
-   * file changed less than `minAgeMs` (default DEFER_MIN_AGE_MS) before it was opened, or is closed already.
+   * file changed less than `minAgeMs` (default DEFER_MIN_AGE_MS) before it was opened, is not on a local file
+   * system (LOCAL_FILE_SYSTEMS, Linux only), or is closed already.
    */
   deferDigest(minAgeMs?: number): boolean;
   /** Whether `deferDigest` would hand the digest on (nothing changes). */
@@ -99,6 +101,20 @@ export interface CheckedFile extends TileBytes {
  * 2 s covers FAT's two-second modification times).
  */
 const DEFER_MIN_AGE_MS = 2500;
+
+/**
+ * The file systems (Linux statfs magic numbers) on which a digest may be handed on: local ones, whose file times
+ * are the kernel's own. A network file system may show cached, then fresh times of an unchanged file and so refuse
+ * it; there the digest is taken as the file is read, as before. ext2/3/4, XFS, Btrfs, tmpfs, overlayfs, ZFS, F2FS.
+ */
+const LOCAL_FILE_SYSTEMS = new Set([
+  0xef53, 0x58465342, 0x9123683e, 0x01021994, 0x794c7630, 0x2fc12fc1, 0xf2f52010,
+]);
+
+/** Whether a statfs type is one of LOCAL_FILE_SYSTEMS. */
+export function localFileSystem(type: number | bigint): boolean {
+  return LOCAL_FILE_SYSTEMS.has(Number(type));
+}
 
 /** Files whose digest was handed on (`deferDigest`), by absolute path: their identity at opening and closing. */
 const deferredDigests = new Map<string, { opened: FileIdentity; closed: FileIdentity; what: string }>();
@@ -166,6 +182,12 @@ export function openFileChecked(path: string, what: string): CheckedFile {
   const byteLength = fstatSync(fd).size;
   const openedAt = Date.now();
   const opened = identityOfFd(fd);
+  let local = false;
+  try {
+    local = process.platform === 'linux' && localFileSystem(statfsSync(path).type);
+  } catch {
+    // no statfs here: the digest is taken as the file is read
+  }
   const hash = createHash('sha256');
   let hashed = 0;
   let open = true;
@@ -194,7 +216,7 @@ export function openFileChecked(path: string, what: string): CheckedFile {
     sequential: true,
     read,
     canDeferDigest(minAgeMs = DEFER_MIN_AGE_MS): boolean {
-      return open && Number(BigInt(opened.ctimeNs) / 1_000_000n) <= openedAt - minAgeMs;
+      return open && local && Number(BigInt(opened.ctimeNs) / 1_000_000n) <= openedAt - minAgeMs;
     },
     deferDigest(minAgeMs = DEFER_MIN_AGE_MS): boolean {
       if (!this.canDeferDigest(minAgeMs)) return false;
