@@ -6,7 +6,7 @@
 import { describe, expect, it } from 'vitest';
 import type { Remote } from 'comlink';
 import { RemotePool } from '../worker/runtime/pool.ts';
-import { AS_BEFORE, type WorkerApi } from '../worker/runtime/api.ts';
+import { api, AS_BEFORE, type WorkerApi } from '../worker/runtime/api.ts';
 import type { HorizonLayout } from '../worker/core/horizon.ts';
 import type { Executor } from '../worker/core/floor.ts';
 import type { GridPristine, GridSweepCounts, GridSweepTask } from '../worker/core/grid-sweep.ts';
@@ -179,5 +179,27 @@ describe('RemotePool.sharingExecutor: one queue of octants for the workers and t
     const settled = await Promise.allSettled(octants.map((t) => exec.gridSweep(t, pristine, out)));
     expect(settled.map((s) => s.status)).toEqual(['rejected', ...Array(7).fill('fulfilled')]);
     expect((settled[0] as PromiseRejectedResult).reason).toEqual(new Error('lane 1 failed'));
+  });
+});
+
+describe('touchPages: a worker touches the pages of the raster being read, and changes no value', () => {
+  it('every 4 KiB page, from the end; the values there (zeros included) stay as they are; a set stop ends it', async () => {
+    const words = 1024 * 64 + 300; // 64 pages and a part
+    const buffer = new SharedArrayBuffer(words * 4);
+    const data = new Int32Array(buffer);
+    let seed = 3;
+    for (let i = 0; i < words; i++) {
+      seed = (seed * 16807) % 2147483647;
+      data[i] = seed % 5 === 0 ? 0 : seed; // some zeros where the touches land too
+    }
+    for (let i = words - 1024; i >= 0; i -= 4096) data[i] = 0;
+    const before = data.slice();
+    const stop = new SharedArrayBuffer(4);
+    // One touch per whole 4 KiB step back from the end.
+    expect(await api.touchPages(buffer, stop)).toBe(Math.floor(words / 1024));
+    expect(data).toEqual(before);
+    Atomics.store(new Int32Array(stop), 0, 1);
+    expect(await api.touchPages(buffer, stop)).toBe(0);
+    expect(data).toEqual(before);
   });
 });

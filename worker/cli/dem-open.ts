@@ -80,6 +80,8 @@ export async function readTerrainWithin(
     kernel?: boolean;
     names?: readonly string[];
     beforeDecode?: (opened: OpenedTiles) => void;
+    /** Told of the mosaic's raster once it is allocated, before the pixels are decoded into it. */
+    onRaster?: (data: Float32Array) => void;
   } = {},
 ): Promise<{ terrain: Terrain; largest: TileShape | undefined; firstGeo: PendingTile['geo'] }> {
   if (paths.length === 0) throw new InputError('--dem', 'no DEM given', 'at least one --dem FILE.tif');
@@ -89,7 +91,11 @@ export async function readTerrainWithin(
     async (opened) => {
       opts.beforeDecode?.(opened);
       return {
-        terrain: await Terrain.fromPendingTiles(opened.tiles, { shared: opts.shared, kernel: opts.kernel }),
+        terrain: await Terrain.fromPendingTiles(opened.tiles, {
+          shared: opts.shared,
+          kernel: opts.kernel,
+          onRaster: opts.onRaster,
+        }),
         largest: opened.largest,
         firstGeo: opened.tiles[0].geo,
       };

@@ -142,6 +142,7 @@ export async function floorCommand(argv: readonly string[], log: (s: string) => 
   let booted = null as NodePool | null;
   let pool: NodePool | null = null;
   let antenna: { geo: GridGeo; built: Promise<GridAntenna | null> } | undefined;
+  let touchStop: Int32Array | null = null;
   const orClose = async <T>(step: () => T | Promise<T>): Promise<T> => {
     try {
       return await step();
@@ -199,8 +200,17 @@ export async function floorCommand(argv: readonly string[], log: (s: string) => 
           }
         }
       },
+      // While this thread reads the pixels, the first worker (once the vector map is built) touches the raster's
+      // pages from its end: on these VMs first touching memory that was given back to the host costs a fault on
+      // the host, and the two threads then take those faults side by side. It stops when the read is done.
+      onRaster: (data) => {
+        if (booted === null || !(data.buffer instanceof SharedArrayBuffer)) return;
+        touchStop = new Int32Array(new SharedArrayBuffer(4));
+        booted.touchPages(data.buffer, touchStop.buffer as SharedArrayBuffer).catch(() => 0);
+      },
     }),
   );
+  if (touchStop !== null) Atomics.store(touchStop, 0, 1);
   const tRead = performance.now();
   // How the terrain is swept and on how many threads, and the checks before the long work.
   const settle = () => {

@@ -117,6 +117,7 @@ export class Terrain {
   static async fromPendingTiles(tilesIn: PendingTile[], opts: MosaicOptions = {}): Promise<Terrain> {
     const { geo, tiles } = planMosaic(tilesIn);
     const { data, memory } = newRaster(geo.width * geo.height, opts);
+    opts.onRaster?.(data);
     const first = tiles[0];
     const g0 = first.geo;
     const dc = pixelsBetween(geo.originX, g0.originX, geo.pixelX);
@@ -316,6 +317,8 @@ export interface MosaicOptions {
    * `shared` says.
    */
   kernel?: boolean;
+  /** Told of the raster once it is allocated, before any tile is decoded into it (`fromPendingTiles`). */
+  onRaster?: (data: Float32Array) => void;
 }
 
 /** The mosaic's raster (zeroed), and the WebAssembly memory it lies in when it does. */

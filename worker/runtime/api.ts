@@ -82,6 +82,9 @@ function need(E: RadialEngine): Terrain {
   return terrain;
 }
 
+/** The vector map this worker was last asked for (`gridAntenna`), done or failed; `touchPages` waits for it. */
+let antennaBuilt: Promise<unknown> = Promise.resolve();
+
 export const api = {
   /** Installs the terrain every later job reads (data should be on a SharedArrayBuffer). */
   setTerrain(sent: TerrainParts): void {
@@ -132,11 +135,35 @@ export const api = {
    * on the first such job.
    */
   async gridAntenna(geo: GridGeo, lon: number, lat: number): Promise<GridAntenna> {
-    const [{ gridMapper }, { gridAntenna }] = await Promise.all([
-      import('../core/grid.ts'),
-      import('../core/geodesy.ts'),
-    ]);
-    return gridAntenna(gridMapper(geo), geo.width, geo.height, lon, lat);
+    const built = (async () => {
+      const [{ gridMapper }, { gridAntenna }] = await Promise.all([
+        import('../core/grid.ts'),
+        import('../core/geodesy.ts'),
+      ]);
+      return gridAntenna(gridMapper(geo), geo.width, geo.height, lon, lat);
+    })();
+    antennaBuilt = built.catch(() => null);
+    return built;
+  },
+  /**
+   * Touches every 4 KiB page of a shared buffer the caller is reading into (a DEM's terrain raster), from its end
+   * towards its start, until `stop` (an Int32 in shared memory) is set: where first touching memory is costly (a
+   * fault on the host of a virtual machine), this thread takes some of those faults while the caller reads. Each
+   * touch is a compare-and-swap of 0 with 0, which never changes a value, whoever writes it meanwhile. Waits for
+   * the antenna's vector map this worker was asked for first (the sweep needs it before the raster). Returns how
+   * many pages it touched.
+   */
+  async touchPages(buffer: SharedArrayBuffer, stop: SharedArrayBuffer): Promise<number> {
+    await antennaBuilt;
+    const words = new Int32Array(buffer);
+    const flag = new Int32Array(stop);
+    let touched = 0;
+    for (let i = words.length - 1024; i >= 0; i -= 1024) {
+      if ((touched & 511) === 0 && Atomics.load(flag, 0) !== 0) break;
+      Atomics.compareExchange(words, i, 0, 0);
+      touched++;
+    }
+    return touched;
   },
   /** One octant of the grid-native floor sweep; `out` may be the terrain's own (shared) buffer. */
   gridSweep(task: GridSweepTask, pristine: GridPristine, out: Float32Array): GridSweepCounts {

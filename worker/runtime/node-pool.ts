@@ -75,6 +75,11 @@ export class NodePool {
     return this.remotes[0].gridAntenna(geo, lon, lat);
   }
 
+  /** Pages of a shared buffer touched on the first worker while this thread reads into it (WorkerApi.touchPages). */
+  touchPages(buffer: SharedArrayBuffer, stop: SharedArrayBuffer): Promise<number> {
+    return this.remotes[0].touchPages(buffer, stop);
+  }
+
   /** A file's SHA-256 read on the first worker (file-digest.ts `digestFile`), e.g. while this thread writes. */
   fileDigest(path: string): Promise<ChunkedDigest> {
     return this.remotes[0].fileDigest(path);
