@@ -118,30 +118,13 @@ describe('airshade floor', () => {
     writeFileSync(old, readFileSync(dem));
     await new Promise((r) => setTimeout(r, 2600));
     const inline = join(dir, 'settled-inline.tif');
-    const r = await run(
-      'floor',
-      '--dem',
-      old,
-      '--site',
-      SITE,
-      '--mast-m',
-      '12',
-      '--out',
-      inline,
-      '--threads',
-      '0',
-      '--sweep',
-      'cells',
-    );
+    const args = ['floor', '--dem', old, '--site', SITE, '--mast-m', '12', '--sweep', 'cells'];
+    const r = await run(...args, '--out', inline, '--threads', '0');
     expect(r.code).toBe(0);
     const bin = join(import.meta.dirname, '..', 'bin', 'airshade.mjs');
     for (const threads of ['2', '1']) {
       const out = join(dir, `settled-${threads}.tif`);
-      execFileSync(process.execPath, [
-        bin,
-        ...['floor', '--dem', old, '--site', SITE, '--mast-m', '12', '--out', out, '--threads', threads],
-        ...['--sweep', 'cells', '--quiet'],
-      ]);
+      execFileSync(process.execPath, [bin, ...args, '--out', out, '--threads', threads, '--quiet']);
       // The provenance in the header names the DEM's SHA-256: the same header, the same floor.
       expect(readFileSync(out).equals(readFileSync(inline))).toBe(true);
     }

@@ -97,8 +97,8 @@ export interface CheckedFile extends TileBytes {
 /**
  * How long before its opening a file must have last changed for its digest to be taken apart from the read
  * (`deferDigest`): a change after the opening then moves its change time past the one recorded at the opening,
- * even where file times are coarse (ext4 and most file systems keep the kernel's tick of a few milliseconds;
- * 2 s covers FAT's two-second modification times).
+ * even where file times are coarse (the file systems of LOCAL_FILE_SYSTEMS keep the kernel's clock tick, a few
+ * milliseconds; the margin is wide on purpose).
  */
 const DEFER_MIN_AGE_MS = 2500;
 
