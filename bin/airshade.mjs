@@ -8,6 +8,7 @@ import { constants as osConstants } from 'node:os';
 import { fileURLToPath } from 'node:url';
 import { join } from 'node:path';
 import { CHILD_MARK, HUGE_TUNABLE, wantsHugePages } from './huge-pages.mjs';
+import { loadMemoryHelper } from './native-memory.mjs';
 
 const root = fileURLToPath(new URL('..', import.meta.url));
 const built = join(root, 'dist/cli/cli.js');
@@ -31,6 +32,7 @@ function wantsHugePagesRerun() {
     platform: process.platform,
     glibc: () => process.report?.getReport?.().header?.glibcVersionRuntime,
     fileSize: (path) => statSync(path).size,
+    memoryHelper: () => loadMemoryHelper(root, process.env) !== null,
   });
 }
 

@@ -18,4 +18,6 @@ export declare function wantsHugePages(at: {
   glibc: () => string | undefined;
   /** A file's size in bytes (may throw). */
   fileSize: (path: string) => number;
+  /** Whether the native memory helper loads (asked only for the floor; none: it does not). */
+  memoryHelper?: () => boolean;
 }): boolean;

@@ -10,7 +10,9 @@
 // When, by default: the study commands (HUGE_COMMANDS: the 6° × 6° national box's plan ran in 49.2 and 47.6 s against
 // 54.5 and 49.5 s in two alternating pairs, its coverage in 33.5 s against 34.6 s; the demo's coverage the same either
 // way), and `airshade floor` on DEM files of HUGE_FLOOR_BYTES or more together (reading the 8192² DEM took
-// 0.85–1.08 s against 1.55–1.63 s; on small DEMs the second start costs more than it saves). AIRSHADE_HUGE_PAGES=1
+// 0.85–1.08 s against 1.55–1.63 s; on small DEMs the second start costs more than it saves) — unless the native
+// memory helper loads (bin/native-memory.mjs): then the floor asks for huge pages for its raster itself and Node
+// starts once. AIRSHADE_HUGE_PAGES=1
 // asks for it for any command, AIRSHADE_HUGE_PAGES=0 never. Never where the tunable is set already, in the child
 // itself, on other platforms or C libraries, on glibc older than 2.35 (which does not know it), or for --help.
 
@@ -24,18 +26,20 @@ export const HUGE_FLOOR_BYTES = 64 * 1024 * 1024;
 
 /**
  * @param {{ args: string[], env: Record<string, string | undefined>, platform: string,
- *           glibc: () => string | undefined, fileSize: (path: string) => number }} at
+ *           glibc: () => string | undefined, fileSize: (path: string) => number, memoryHelper?: () => boolean }} at
  *   the command line after the script, the environment, the platform, the running glibc's version (asked only when
- *   needed: it takes a diagnostic report) and a file's size (may throw)
+ *   needed: it takes a diagnostic report), a file's size (may throw) and whether the native memory helper loads
+ *   (asked only for the floor; none: it does not)
  * @returns {boolean}
  */
-export function wantsHugePages({ args, env, platform, glibc, fileSize }) {
+export function wantsHugePages({ args, env, platform, glibc, fileSize, memoryHelper = () => false }) {
   const asked = env.AIRSHADE_HUGE_PAGES;
   if (platform !== 'linux' || env[CHILD_MARK] === '1' || asked === '0') return false;
   if ((env.GLIBC_TUNABLES ?? '').includes(HUGE_TUNABLE)) return false;
   if (args.length === 0 || args.some((a) => a === '--help' || a === '-h' || a === '--version')) return false;
   const byDefault =
-    HUGE_COMMANDS.has(args[0]) || (args[0] === 'floor' && demBytes(args, fileSize) >= HUGE_FLOOR_BYTES);
+    HUGE_COMMANDS.has(args[0]) ||
+    (args[0] === 'floor' && demBytes(args, fileSize) >= HUGE_FLOOR_BYTES && !memoryHelper());
   if (asked !== '1' && !byDefault) return false;
   const version = /^(\d+)\.(\d+)/.exec(glibc() ?? '');
   return (

@@ -292,6 +292,11 @@ export function writeFileAtomic(
 
 /** Bytes between the flushes `writeFileAtomicStreamed` starts while it writes on. */
 const STREAM_SYNC_BYTES = 32 * 1024 * 1024;
+/**
+ * Bytes per write when the parts written are handed back as they go (`releasePart`): each write's page cache then
+ * takes the pages the one before handed back, and only the first write's are fresh memory.
+ */
+const RELEASE_CHUNK_BYTES = 4 * 1024 * 1024;
 
 /**
  * `writeFileAtomic` for large files (a floor raster): the same temporary file, flush and rename, but the disk is
@@ -312,8 +317,15 @@ export async function writeFileAtomicStreamed(
    * `make` comes out as it is (the temporary file removed), not as a path that cannot be written.
    */
   headLast?: { bytes: number; make: () => Promise<Uint8Array> },
+  /**
+   * Called after each write of a part with the bytes of it now in the file, [from, to): the caller may hand that
+   * memory back (the native helper's `release`), and nothing in the part before `to` is read again. Writes then go
+   * in RELEASE_CHUNK_BYTES pieces.
+   */
+  releasePart?: (part: Uint8Array, from: number, to: number) => void,
 ): Promise<void> {
   const { dir, tmp } = tempBeside(path);
+  const piece = releasePart === undefined ? syncEvery : Math.min(syncEvery, RELEASE_CHUNK_BYTES);
   let pending: Promise<void> | null = null;
   try {
     mkdirSync(dir, { recursive: true });
@@ -324,7 +336,14 @@ export async function writeFileAtomicStreamed(
       for (const bytes of partsOf(data)) {
         let at = 0;
         while (at < bytes.byteLength) {
-          const n = writeSync(fd, bytes, at, Math.min(bytes.byteLength - at, syncEvery - unsynced), position);
+          const n = writeSync(
+            fd,
+            bytes,
+            at,
+            Math.min(bytes.byteLength - at, syncEvery - unsynced, piece),
+            position,
+          );
+          releasePart?.(bytes, at, at + n);
           at += n;
           position += n;
           unsynced += n;
@@ -440,15 +459,17 @@ export function writeOutputFile(
 }
 
 /**
- * `writeOutputFile` for a large output, flushed as it is written (`writeFileAtomicStreamed`, with its `headLast`).
+ * `writeOutputFile` for a large output, flushed as it is written (`writeFileAtomicStreamed`, with its `headLast` and
+ * `releasePart`).
  */
 export async function writeLargeOutputFile(
   path: string,
   data: ArrayBuffer | string | readonly Uint8Array[],
   what = path,
   headLast?: { bytes: number; make: () => Promise<Uint8Array> },
+  releasePart?: (part: Uint8Array, from: number, to: number) => void,
 ): Promise<string[]> {
-  await writeFileAtomicStreamed(path, data, what, STREAM_SYNC_BYTES, headLast);
+  await writeFileAtomicStreamed(path, data, what, STREAM_SYNC_BYTES, headLast, releasePart);
   return removeStaleTemps(path);
 }
 

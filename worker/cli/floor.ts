@@ -15,6 +15,7 @@ import type { GridAntenna } from '../core/geodesy.ts';
 import { pixelsBetween, sameGrid, type GridGeo } from '../core/grid.ts';
 import { encodeGeoTiffParts, geoTiffCrsProblem } from '../io/geotiff-write.ts';
 import { undated } from '../io/provenance.ts';
+import { memoryHelper } from '../runtime/native-memory.ts';
 import { NodePool } from '../runtime/node-pool.ts';
 import { lonLatArg, numberArg, one, parseArgs, required, threadsArg } from './args.ts';
 import { settleDeferredDigests, writeLargeOutputFile } from './files.ts';
@@ -203,7 +204,10 @@ export async function floorCommand(argv: readonly string[], log: (s: string) => 
       // While this thread reads the pixels, the first worker (once the vector map is built) touches the raster's
       // pages from its end: on these VMs first touching memory that was given back to the host costs a fault on
       // the host, and the two threads then take those faults side by side. It stops when the read is done.
+      // The raster is backed by huge pages before anything touches it, when the native helper loads (without it,
+      // bin/airshade.mjs started this Node with glibc's tunable for a DEM this large, and this does nothing).
       onRaster: (data) => {
+        memoryHelper()?.hugePages(data);
         if (booted === null || !(data.buffer instanceof SharedArrayBuffer)) return;
         touchStop = new Int32Array(new SharedArrayBuffer(4));
         booted.touchPages(data.buffer, touchStop.buffer as SharedArrayBuffer).catch(() => 0);
@@ -314,16 +318,26 @@ export async function floorCommand(argv: readonly string[], log: (s: string) => 
       ),
     });
   // The floor's own buffer (no copy of the raster), flushed to the disk as it goes in, then the header, which
-  // waits for the digest: its length is the same with any digest (64 hex digits), so a stand-in sizes it.
+  // waits for the digest: its length is the same with any digest (64 hex digits), so a stand-in sizes it. With the
+  // native helper, the raster's pages go back to the kernel as they are written (nothing reads the floor after
+  // this: its statistics are taken), and the file's page cache takes them warm: 0.43–0.49 s of writes became
+  // 0.05–0.07 s at 8192².
   const [standIn, pixels] = encode(() => '0'.repeat(64));
+  const helper = memoryHelper();
   try {
-    await writeLargeOutputFile(outPath, [pixels], outPath, {
-      bytes: standIn.byteLength,
-      make: async () => {
-        await digested;
-        return encode()[0];
+    await writeLargeOutputFile(
+      outPath,
+      [pixels],
+      outPath,
+      {
+        bytes: standIn.byteLength,
+        make: async () => {
+          await digested;
+          return encode()[0];
+        },
       },
-    });
+      helper === null ? undefined : (part, from, to) => helper.release(part, from, to),
+    );
   } finally {
     await closed;
   }

@@ -1,0 +1,9 @@
+{
+  "targets": [
+    {
+      "target_name": "airshade_memory",
+      "sources": ["memory.c"],
+      "cflags": ["-O2", "-Wall", "-Wextra"]
+    }
+  ]
+}

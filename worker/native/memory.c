@@ -1,0 +1,139 @@
+// airshade_memory: two memory advices the Node CLI cannot give from JavaScript (issue 12). Node-API (C), built by
+// node-gyp at `npm install` (scripts/build-native.mjs); the CLI runs without it, only slower
+// (worker/runtime/native-memory.ts says how).
+//
+//   hugePages(view)          madvise(MADV_HUGEPAGE) over the whole pages inside the view's bytes: its memory is then
+//                            backed by transparent huge pages as it is first touched (Linux, THP in "madvise" mode).
+//                            What glibc's tunable glibc.malloc.hugetlb=1 does for every large allocation, here for one
+//                            buffer, without starting Node again with the tunable.
+//   release(view, from, to)  madvise(MADV_DONTNEED) over the whole pages between byte `from` (rounded down, never
+//                            below the view's first whole page) and byte `to` (rounded down) of the view: the
+//                            caller has no more use for the view's bytes before `to`, which read as zeros afterwards.
+//                            The pages go back to the kernel at once, so the page cache a write is filling takes them
+//                            while they are still warm, instead of fresh memory.
+//
+// Both return the bytes advised (0 where nothing whole lies in the range, or on another platform) and throw a
+// TypeError or RangeError for bad arguments. Source for the calls: Linux madvise(2).
+#include <node_api.h>
+#include <stdint.h>
+#include <stdbool.h>
+#include <stdio.h>
+#ifdef __linux__
+#include <sys/mman.h>
+#include <unistd.h>
+#include <errno.h>
+#include <string.h>
+#endif
+
+static bool view_bytes(napi_env env, napi_value v, uint8_t **data, size_t *length) {
+  bool is_typed = false;
+  if (napi_is_typedarray(env, v, &is_typed) != napi_ok || !is_typed) {
+    napi_throw_type_error(env, NULL, "airshade_memory: expected a typed array");
+    return false;
+  }
+  napi_typedarray_type type;
+  size_t count, offset;
+  void *p;
+  napi_value buffer;
+  if (napi_get_typedarray_info(env, v, &type, &count, &p, &buffer, &offset) != napi_ok) {
+    napi_throw_type_error(env, NULL, "airshade_memory: cannot read the typed array");
+    return false;
+  }
+  size_t size = 1;
+  switch (type) {
+    case napi_int16_array: case napi_uint16_array: size = 2; break;
+    case napi_int32_array: case napi_uint32_array: case napi_float32_array: size = 4; break;
+    case napi_float64_array: case napi_bigint64_array: case napi_biguint64_array: size = 8; break;
+    default: size = 1;
+  }
+  *data = (uint8_t *)p;
+  *length = count * size;
+  return true;
+}
+
+static bool byte_arg(napi_env env, napi_value v, size_t limit, const char *name, size_t *out) {
+  double d;
+  if (napi_get_value_double(env, v, &d) != napi_ok || !(d >= 0) || d > (double)limit || d != (double)(size_t)d) {
+    char text[96];
+    snprintf(text, sizeof text, "airshade_memory: %s must be a whole byte offset from 0 to %zu", name, limit);
+    napi_throw_range_error(env, NULL, text);
+    return false;
+  }
+  *out = (size_t)d;
+  return true;
+}
+
+static napi_value number(napi_env env, double d) {
+  napi_value r;
+  napi_create_double(env, d, &r);
+  return r;
+}
+
+#ifdef __linux__
+static double advise(napi_env env, uintptr_t from, uintptr_t to, int advice, const char *what) {
+  if (to <= from) return 0;
+  if (madvise((void *)from, to - from, advice) != 0) {
+    char text[128];
+    snprintf(text, sizeof text, "airshade_memory: madvise(%s) failed: %s", what, strerror(errno));
+    napi_throw_error(env, NULL, text);
+    return -1;
+  }
+  return (double)(to - from);
+}
+#endif
+
+static napi_value huge_pages(napi_env env, napi_callback_info info) {
+  size_t argc = 1;
+  napi_value argv[1];
+  napi_get_cb_info(env, info, &argc, argv, NULL, NULL);
+  uint8_t *data;
+  size_t length;
+  if (argc < 1 || !view_bytes(env, argv[0], &data, &length)) return NULL;
+#if defined(__linux__) && defined(MADV_HUGEPAGE)
+  uintptr_t page = (uintptr_t)sysconf(_SC_PAGESIZE);
+  uintptr_t a = ((uintptr_t)data + page - 1) & ~(page - 1);
+  uintptr_t e = ((uintptr_t)data + length) & ~(page - 1);
+  double r = advise(env, a, e, MADV_HUGEPAGE, "MADV_HUGEPAGE");
+  return r < 0 ? NULL : number(env, r);
+#else
+  (void)data;
+  (void)length;
+  return number(env, 0);
+#endif
+}
+
+static napi_value release(napi_env env, napi_callback_info info) {
+  size_t argc = 3;
+  napi_value argv[3];
+  napi_get_cb_info(env, info, &argc, argv, NULL, NULL);
+  uint8_t *data;
+  size_t length, from, to;
+  if (argc < 3 || !view_bytes(env, argv[0], &data, &length)) {
+    if (argc < 3) napi_throw_type_error(env, NULL, "airshade_memory: release(view, from, to)");
+    return NULL;
+  }
+  if (!byte_arg(env, argv[2], length, "to", &to) || !byte_arg(env, argv[1], to, "from", &from)) return NULL;
+#ifdef __linux__
+  uintptr_t page = (uintptr_t)sysconf(_SC_PAGESIZE);
+  uintptr_t first = ((uintptr_t)data + page - 1) & ~(page - 1);
+  uintptr_t a = ((uintptr_t)data + from) & ~(page - 1);
+  if (a < first) a = first;
+  uintptr_t e = ((uintptr_t)data + to) & ~(page - 1);
+  double r = advise(env, a, e, MADV_DONTNEED, "MADV_DONTNEED");
+  return r < 0 ? NULL : number(env, r);
+#else
+  (void)data;
+  (void)from;
+  (void)to;
+  return number(env, 0);
+#endif
+}
+
+NAPI_MODULE_INIT() {
+  napi_value f;
+  napi_create_function(env, "hugePages", NAPI_AUTO_LENGTH, huge_pages, NULL, &f);
+  napi_set_named_property(env, exports, "hugePages", f);
+  napi_create_function(env, "release", NAPI_AUTO_LENGTH, release, NULL, &f);
+  napi_set_named_property(env, exports, "release", f);
+  return exports;
+}
