@@ -61,6 +61,19 @@ describe.runIf(linux)('the native memory helper', () => {
     expect(h.hugePages(new Uint8Array(100))).toBeLessThanOrEqual(0 + PAGE); // nothing whole inside, or one page
   });
 
+  it('hugePages on a shared WebAssembly memory (where the radial kernel keeps a study’s terrain), which still grows', () => {
+    const h = helperOrFail();
+    const memory = new WebAssembly.Memory({ initial: 64, maximum: 256, shared: true });
+    const v = new Float32Array(memory.buffer, 0, (64 * 65536) / 4);
+    v.fill(3.25);
+    expect(h.hugePages(v)).toBe(64 * 65536);
+    expect(v.every((x) => x === 3.25)).toBe(true);
+    memory.grow(16);
+    const grown = new Float32Array(memory.buffer);
+    expect(grown[v.length - 1]).toBe(3.25);
+    expect(grown[grown.length - 1]).toBe(0);
+  });
+
   for (const shared of [true, false]) {
     it(`release zeroes exactly the whole pages in [from, to) and nothing else (${shared ? 'shared' : 'plain'} buffer)`, () => {
       const h = helperOrFail();

@@ -10,6 +10,7 @@ import { tileFileRefusal, type TileShape } from '../core/memory-estimate.ts';
 import { Terrain, type PendingTile } from '../core/terrain.ts';
 import { decodeDemTileInto, openDemTile, type OpenedDemTile } from '../io/geotiff-read.ts';
 import { checkTileShape } from './budget-check.ts';
+import { memoryHelper } from '../runtime/native-memory.ts';
 import { openFileChecked, type CheckedFile } from './files.ts';
 
 const WHAT = 'a GeoTIFF elevation tile (DEM)';
@@ -94,7 +95,12 @@ export async function readTerrainWithin(
         terrain: await Terrain.fromPendingTiles(opened.tiles, {
           shared: opts.shared,
           kernel: opts.kernel,
-          onRaster: opts.onRaster,
+          // Huge pages for the raster before anything touches it, where the native helper loads: for a plain or
+          // shared buffer as for the radial kernel's WebAssembly memory, which glibc's tunable never reaches.
+          onRaster: (data) => {
+            memoryHelper()?.hugePages(data);
+            opts.onRaster?.(data);
+          },
         }),
         largest: opened.largest,
         firstGeo: opened.tiles[0].geo,

@@ -204,10 +204,8 @@ export async function floorCommand(argv: readonly string[], log: (s: string) => 
       // While this thread reads the pixels, the first worker (once the vector map is built) touches the raster's
       // pages from its end: on these VMs first touching memory that was given back to the host costs a fault on
       // the host, and the two threads then take those faults side by side. It stops when the read is done.
-      // The raster is backed by huge pages before anything touches it, when the native helper loads (without it,
-      // bin/airshade.mjs started this Node with glibc's tunable for a DEM this large, and this does nothing).
+      // (readTerrainWithin has asked for huge pages for the raster already, where the native helper loads.)
       onRaster: (data) => {
-        memoryHelper()?.hugePages(data);
         if (booted === null || !(data.buffer instanceof SharedArrayBuffer)) return;
         touchStop = new Int32Array(new SharedArrayBuffer(4));
         booted.touchPages(data.buffer, touchStop.buffer as SharedArrayBuffer).catch(() => 0);
