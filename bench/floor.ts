@@ -21,6 +21,7 @@ import { DEMO_WORLD, fillProjected } from '../worker/demo/synth-terrain.ts';
 import { encodeGeoTiff } from '../worker/io/geotiff-write.ts';
 import { rayWalkFloor, type RayWalkInput } from '../test/reference/raywalk.ts';
 import { sphereRayWalkFloor, type SphereRayWalkInput } from './raywalk-sphere.ts';
+import { loadMemoryHelper } from '../bin/native-memory.mjs';
 
 const ROOT = join(dirname(fileURLToPath(import.meta.url)), '..');
 const OUT_DIR = join(ROOT, 'bench/out');
@@ -672,6 +673,11 @@ async function main(): Promise<void> {
     `- Load average when the bench started (1 / 5 min): ${loadStart[0].toFixed(2)} / ${loadStart[1].toFixed(2)}` +
       ' (other processes on the same cores make the times pessimistic)',
     `- Node ${process.version}; ${gdalVersion ?? 'GDAL not installed (gdal_viewshed rows omitted)'}`,
+    `- The native memory helper (worker/native/, built by \`npm install\`): ${
+      loadMemoryHelper(ROOT, process.env) !== null
+        ? 'loaded (huge pages for the raster, its pages handed back as the floor is written; Node starts once)'
+        : "not loaded (the launcher starts Node again with glibc's huge-pages tunable; the write takes fresh memory)"
+    }`,
     `- Reproduce: \`npm run bench\` (= \`npm run build && tsx bench/floor.ts\`)` +
       (sizes.join(',') === '1024,4096,8192' && runs === 2
         ? ''
