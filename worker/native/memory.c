@@ -69,17 +69,35 @@ static napi_value number(napi_env env, double d) {
   return r;
 }
 
+// madvise over the whole pages of the view's bytes [from, to): `from` rounded down to its page but never before the
+// view's first whole page, `to` rounded down. The bytes advised, or NULL with an exception thrown.
+static napi_value advise_pages(napi_env env, uint8_t *data, size_t from, size_t to, int advice, const char *what) {
 #ifdef __linux__
-static double advise(napi_env env, uintptr_t from, uintptr_t to, int advice, const char *what) {
-  if (to <= from) return 0;
-  if (madvise((void *)from, to - from, advice) != 0) {
+  uintptr_t page = (uintptr_t)sysconf(_SC_PAGESIZE);
+  uintptr_t first = ((uintptr_t)data + page - 1) & ~(page - 1);
+  uintptr_t a = ((uintptr_t)data + from) & ~(page - 1);
+  if (a < first) a = first;
+  uintptr_t e = ((uintptr_t)data + to) & ~(page - 1);
+  if (e <= a) return number(env, 0);
+  if (madvise((void *)a, e - a, advice) != 0) {
     char text[128];
     snprintf(text, sizeof text, "airshade_memory: madvise(%s) failed: %s", what, strerror(errno));
     napi_throw_error(env, NULL, text);
-    return -1;
+    return NULL;
   }
-  return (double)(to - from);
+  return number(env, (double)(e - a));
+#else
+  (void)data;
+  (void)from;
+  (void)to;
+  (void)advice;
+  (void)what;
+  return number(env, 0);
+#endif
 }
+
+#if !defined(__linux__) || !defined(MADV_HUGEPAGE)
+#define NO_HUGE_PAGES 1
 #endif
 
 static napi_value huge_pages(napi_env env, napi_callback_info info) {
@@ -88,19 +106,21 @@ static napi_value huge_pages(napi_env env, napi_callback_info info) {
   napi_get_cb_info(env, info, &argc, argv, NULL, NULL);
   uint8_t *data;
   size_t length;
-  if (argc < 1 || !view_bytes(env, argv[0], &data, &length)) return NULL;
-#if defined(__linux__) && defined(MADV_HUGEPAGE)
-  uintptr_t page = (uintptr_t)sysconf(_SC_PAGESIZE);
-  uintptr_t a = ((uintptr_t)data + page - 1) & ~(page - 1);
-  uintptr_t e = ((uintptr_t)data + length) & ~(page - 1);
-  double r = advise(env, a, e, MADV_HUGEPAGE, "MADV_HUGEPAGE");
-  return r < 0 ? NULL : number(env, r);
-#else
-  (void)data;
-  (void)length;
+  if (argc < 1) {
+    napi_throw_type_error(env, NULL, "airshade_memory: hugePages(view)");
+    return NULL;
+  }
+  if (!view_bytes(env, argv[0], &data, &length)) return NULL;
+#ifdef NO_HUGE_PAGES
   return number(env, 0);
+#else
+  return advise_pages(env, data, 0, length, MADV_HUGEPAGE, "MADV_HUGEPAGE");
 #endif
 }
+
+#ifndef __linux__
+#define MADV_DONTNEED 0 /* advise_pages does nothing here */
+#endif
 
 static napi_value release(napi_env env, napi_callback_info info) {
   size_t argc = 3;
@@ -108,25 +128,13 @@ static napi_value release(napi_env env, napi_callback_info info) {
   napi_get_cb_info(env, info, &argc, argv, NULL, NULL);
   uint8_t *data;
   size_t length, from, to;
-  if (argc < 3 || !view_bytes(env, argv[0], &data, &length)) {
-    if (argc < 3) napi_throw_type_error(env, NULL, "airshade_memory: release(view, from, to)");
+  if (argc < 3) {
+    napi_throw_type_error(env, NULL, "airshade_memory: release(view, from, to)");
     return NULL;
   }
+  if (!view_bytes(env, argv[0], &data, &length)) return NULL;
   if (!byte_arg(env, argv[2], length, "to", &to) || !byte_arg(env, argv[1], to, "from", &from)) return NULL;
-#ifdef __linux__
-  uintptr_t page = (uintptr_t)sysconf(_SC_PAGESIZE);
-  uintptr_t first = ((uintptr_t)data + page - 1) & ~(page - 1);
-  uintptr_t a = ((uintptr_t)data + from) & ~(page - 1);
-  if (a < first) a = first;
-  uintptr_t e = ((uintptr_t)data + to) & ~(page - 1);
-  double r = advise(env, a, e, MADV_DONTNEED, "MADV_DONTNEED");
-  return r < 0 ? NULL : number(env, r);
-#else
-  (void)data;
-  (void)from;
-  (void)to;
-  return number(env, 0);
-#endif
+  return advise_pages(env, data, from, to, MADV_DONTNEED, "MADV_DONTNEED");
 }
 
 NAPI_MODULE_INIT() {
