@@ -127,6 +127,9 @@ describe.runIf(linux)('the native memory helper', () => {
     expect(() => h.release(v, 0.5, 5)).toThrow(RangeError);
     expect(() => h.release(v, -1, 5)).toThrow(RangeError);
     expect(() => h.hugePages({} as Uint8Array)).toThrow(TypeError);
+    const loose = h as unknown as Record<string, (...a: unknown[]) => number>;
+    expect(() => loose.release(v, 0)).toThrow(/release\(view, from, to\)/);
+    expect(() => loose.hugePages()).toThrow(/hugePages\(view\)/);
     expect(h.release(v, 0, 0)).toBe(0);
   });
 

@@ -100,17 +100,24 @@ static napi_value advise_pages(napi_env env, uint8_t *data, size_t from, size_t 
 #define NO_HUGE_PAGES 1
 #endif
 
-static napi_value huge_pages(napi_env env, napi_callback_info info) {
-  size_t argc = 1;
-  napi_value argv[1];
+// The call's first `n` arguments (3 at most) into argv, the first one's bytes into data and length; false (an
+// exception thrown, naming `usage`) when there are fewer or the first is not a typed array.
+static bool view_args(napi_env env, napi_callback_info info, size_t n, napi_value *argv, const char *usage,
+                      uint8_t **data, size_t *length) {
+  size_t argc = n;
   napi_get_cb_info(env, info, &argc, argv, NULL, NULL);
+  if (argc < n) {
+    napi_throw_type_error(env, NULL, usage);
+    return false;
+  }
+  return view_bytes(env, argv[0], data, length);
+}
+
+static napi_value huge_pages(napi_env env, napi_callback_info info) {
+  napi_value argv[1];
   uint8_t *data;
   size_t length;
-  if (argc < 1) {
-    napi_throw_type_error(env, NULL, "airshade_memory: hugePages(view)");
-    return NULL;
-  }
-  if (!view_bytes(env, argv[0], &data, &length)) return NULL;
+  if (!view_args(env, info, 1, argv, "airshade_memory: hugePages(view)", &data, &length)) return NULL;
 #ifdef NO_HUGE_PAGES
   return number(env, 0);
 #else
@@ -123,16 +130,10 @@ static napi_value huge_pages(napi_env env, napi_callback_info info) {
 #endif
 
 static napi_value release(napi_env env, napi_callback_info info) {
-  size_t argc = 3;
   napi_value argv[3];
-  napi_get_cb_info(env, info, &argc, argv, NULL, NULL);
   uint8_t *data;
   size_t length, from, to;
-  if (argc < 3) {
-    napi_throw_type_error(env, NULL, "airshade_memory: release(view, from, to)");
-    return NULL;
-  }
-  if (!view_bytes(env, argv[0], &data, &length)) return NULL;
+  if (!view_args(env, info, 3, argv, "airshade_memory: release(view, from, to)", &data, &length)) return NULL;
   if (!byte_arg(env, argv[2], length, "to", &to) || !byte_arg(env, argv[1], to, "from", &from)) return NULL;
   return advise_pages(env, data, from, to, MADV_DONTNEED, "MADV_DONTNEED");
 }
