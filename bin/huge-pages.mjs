@@ -12,9 +12,9 @@
 // way), and `airshade floor` on DEM files of HUGE_FLOOR_BYTES or more together (reading the 8192² DEM took
 // 0.85–1.08 s against 1.55–1.63 s; on small DEMs the second start costs more than it saves) — unless the native
 // memory helper loads (bin/native-memory.mjs): then the floor asks for huge pages for its raster itself and Node
-// starts once. AIRSHADE_HUGE_PAGES=1
-// asks for it for any command, AIRSHADE_HUGE_PAGES=0 never. Never where the tunable is set already, in the child
-// itself, on other platforms or C libraries, on glibc older than 2.35 (which does not know it), or for --help.
+// starts once. AIRSHADE_HUGE_PAGES=1 asks for it for any command, AIRSHADE_HUGE_PAGES=0 never. Never where the
+// tunable is set already, in the child itself, on other platforms or C libraries, on glibc older than 2.35 (which
+// does not know it), or for --help.
 
 export const HUGE_TUNABLE = 'glibc.malloc.hugetlb';
 /** Marks the child, so that it never starts another (a C library may drop the tunable from its environment). */

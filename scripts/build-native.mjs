@@ -1,6 +1,5 @@
-// Builds the native memory helper (worker/native/memory.c →
-// worker/native/build/Release/airshade_memory.node) with node-gyp, the
-// one npm carries. Run by `npm install` (postinstall) and by `npm run build:native`.
+// Builds the native memory helper (worker/native/memory.c → worker/native/build/Release/airshade_memory.node) with
+// node-gyp, the one npm carries. Run by `npm install` (postinstall) and by `npm run build:native`.
 //
 // The CLI runs without the helper, only slower on large rasters (worker/runtime/native-memory.ts): so a failed build
 // says why in a few lines and ends with status 0, unless `--strict` (then 1). Linux only: elsewhere the helper would
@@ -38,6 +37,7 @@ const gyp =
   process.env.npm_config_node_gyp ??
   resolve(dirname(process.execPath), '../lib/node_modules/npm/node_modules/node-gyp/bin/node-gyp.js');
 if (!existsSync(gyp)) fail(`node-gyp not found (looked for ${gyp})`);
+if (!existsSync(join(dir, 'binding.gyp'))) fail(`no binding.gyp in ${dir}`);
 const args = [gyp, 'rebuild', '--directory', dir];
 // Node's own headers beside this Node (e.g. /usr/include/node), when npm has not named them: node-gyp would
 // otherwise download them.
@@ -53,13 +53,8 @@ if (r.status !== 0) {
 }
 // A helper that is built but does not load is as good as none: say so now, not at the first large floor.
 const built = join(dir, 'build/Release/airshade_memory.node');
-const check = spawnSync(
-  process.execPath,
-  ['-e', `require(${JSON.stringify(built)}).hugePages(new Uint8Array(8))`],
-  {
-    encoding: 'utf8',
-  },
-);
+const probe = `require(${JSON.stringify(built)}).hugePages(new Uint8Array(8))`;
+const check = spawnSync(process.execPath, ['-e', probe], { encoding: 'utf8' });
 if (check.status !== 0) {
   rmSync(join(dir, 'build'), { recursive: true, force: true });
   fail('it was built but does not load', check.stderr);
